@@ -1,0 +1,177 @@
+//! The typed error every fallible kernel call returns.
+//!
+//! Messages name what was wrong and the numbers involved, so that a firmware
+//! log line (or `defmt` frame) is enough to find the bad call.
+//!
+//! ```
+//! use fixsight::{Error, ImageView};
+//! let buf = [0u8; 10];
+//! let err = ImageView::new(&buf, 4, 4, 4).unwrap_err();
+//! assert_eq!(err, Error::BufferTooShort { what: "image", needed: 16, got: 10 });
+//! ```
+
+use core::fmt;
+
+/// Result alias used across the crate.
+///
+/// ```
+/// fn f() -> fixsight::Result<u8> { Ok(1) }
+/// assert_eq!(f(), Ok(1));
+/// ```
+pub type Result<T> = core::result::Result<T, Error>;
+
+/// Everything a kernel can reject. Every variant carries the numbers needed to
+/// see what was wrong.
+///
+/// ```
+/// use fixsight::Error;
+/// let e = Error::ZeroSize { width: 0, height: 3 };
+/// assert_eq!(e.to_string(), "image size 0x3 has a zero dimension");
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum Error {
+    /// Width or height is zero.
+    ZeroSize {
+        /// Width given.
+        width: usize,
+        /// Height given.
+        height: usize,
+    },
+    /// Width or height is above [`crate::image::MAX_DIM`].
+    TooLarge {
+        /// Width given.
+        width: usize,
+        /// Height given.
+        height: usize,
+        /// Largest accepted width or height.
+        limit: usize,
+    },
+    /// Row stride (in elements) is shorter than a row of pixels.
+    StrideTooSmall {
+        /// Stride given, in elements.
+        stride: usize,
+        /// Elements one row needs (width x channels).
+        row_len: usize,
+    },
+    /// The index arithmetic for this layout would not fit in 31 bits, so it
+    /// could overflow on a 32-bit target.
+    LayoutOverflow {
+        /// Stride in elements.
+        stride: usize,
+        /// Height in rows.
+        height: usize,
+    },
+    /// A caller buffer is shorter than the layout or kernel needs.
+    BufferTooShort {
+        /// Which buffer.
+        what: &'static str,
+        /// Elements needed.
+        needed: usize,
+        /// Elements given.
+        got: usize,
+    },
+    /// Two images that must have the same size do not.
+    SizeMismatch {
+        /// Which pair of images.
+        what: &'static str,
+        /// Expected width and height.
+        expected: (usize, usize),
+        /// Width and height given.
+        got: (usize, usize),
+    },
+    /// The number of interleaved channels is not one this kernel handles.
+    UnsupportedChannels {
+        /// Channels given.
+        channels: usize,
+        /// What the kernel accepts, in words.
+        accepted: &'static str,
+    },
+    /// A tap set is not usable (even length, empty, too long, bad shift).
+    BadTaps {
+        /// What is wrong with it.
+        reason: &'static str,
+        /// The offending number (length or shift).
+        value: usize,
+    },
+    /// The worst-case accumulator value of this filter over the full input
+    /// range would not fit the 32-bit accumulator.
+    AccumulatorOverflow {
+        /// Worst-case magnitude of the accumulator (including the rounding
+        /// offset).
+        worst_case: u64,
+        /// The largest magnitude that fits (`i32::MAX`).
+        limit: u64,
+    },
+    /// A scalar parameter is out of its documented range.
+    BadParameter {
+        /// Parameter name.
+        name: &'static str,
+        /// What range it must be in, in words.
+        expected: &'static str,
+        /// Value given (widened).
+        got: i64,
+    },
+    /// A streaming call came in an order the stream cannot accept.
+    StreamOrder {
+        /// What happened.
+        reason: &'static str,
+    },
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match *self {
+            Error::ZeroSize { width, height } => {
+                write!(f, "image size {width}x{height} has a zero dimension")
+            }
+            Error::TooLarge {
+                width,
+                height,
+                limit,
+            } => write!(
+                f,
+                "image size {width}x{height} exceeds the largest supported dimension {limit}"
+            ),
+            Error::StrideTooSmall { stride, row_len } => write!(
+                f,
+                "row stride {stride} is smaller than the {row_len} elements of one row"
+            ),
+            Error::LayoutOverflow { stride, height } => write!(
+                f,
+                "stride {stride} x height {height} does not fit 31-bit index arithmetic"
+            ),
+            Error::BufferTooShort { what, needed, got } => write!(
+                f,
+                "{what} buffer holds {got} elements but {needed} are needed"
+            ),
+            Error::SizeMismatch {
+                what,
+                expected,
+                got,
+            } => write!(
+                f,
+                "{what}: expected {}x{}, got {}x{}",
+                expected.0, expected.1, got.0, got.1
+            ),
+            Error::UnsupportedChannels { channels, accepted } => {
+                write!(f, "{channels} channels given; this kernel accepts {accepted}")
+            }
+            Error::BadTaps { reason, value } => write!(f, "invalid taps: {reason} (got {value})"),
+            Error::AccumulatorOverflow { worst_case, limit } => write!(
+                f,
+                "worst-case accumulator magnitude {worst_case} exceeds the 32-bit limit {limit}; \
+                 use smaller taps or fewer of them"
+            ),
+            Error::BadParameter {
+                name,
+                expected,
+                got,
+            } => write!(f, "parameter `{name}` = {got} is out of range: expected {expected}"),
+            Error::StreamOrder { reason } => write!(f, "stream misuse: {reason}"),
+        }
+    }
+}
+
+impl core::error::Error for Error {}

@@ -1,0 +1,1002 @@
+//! Separable FIR filters on `u8` images: smoothing (`u8 -> u8`) and
+//! derivatives (`u8 -> i16`), whole frame or one row at a time.
+//!
+//! # Integer model (what a port must reproduce)
+//!
+//! A filter is a horizontal tap set `h` (length `2rx+1`, shift `sh`) and a
+//! vertical tap set `v` (length `2ry+1`, shift `sv`), integer coefficients.
+//! Tap `k` of a set of radius `r` applies to offset `k - r`, so tap 0 is the
+//! left (top) neighbour; taps are **not** flipped (correlation).
+//! For output pixel `(x, y)`:
+//!
+//! ```text
+//! acc = sum_{j=0}^{2ry} sum_{i=0}^{2rx} v[j] * h[i] * P(x + i - rx, y + j - ry)    (exact, i32)
+//! out = saturate(floor((acc + 2^(s-1)) / 2^s))        with s = sh + sv  (out = acc when s = 0)
+//! ```
+//!
+//! `saturate` clamps to `0..=255` for `u8` output and to `-32768..=32767` for
+//! `i16` output. The rounding is **round half up** ([`crate::arith::round_shift`]).
+//! No intermediate result is rounded: the accumulator is exact, because
+//! construction rejects any tap set whose worst case
+//! `255 * sum|h| * sum|v| + 2^(s-1)` exceeds `i32::MAX`
+//! ([`Error::AccumulatorOverflow`]).
+//!
+//! `P` extends the image past its edges by the [`Border`] rule:
+//! * [`Border::Replicate`]: `P(x, y) = I(clamp(x, 0, w-1), clamp(y, 0, h-1))`;
+//! * [`Border::Constant(c)`](Border::Constant): `P(x, y) = c` outside the image.
+//!
+//! The implementation sums each column vertically first (one `i32` row), then
+//! filters that row horizontally; both forms ([`SeparableFilter::apply`] and
+//! [`FilterStream`]) call the same two passes, so they are bit-identical.
+//!
+//! # Memory
+//! * whole frame: a caller scratch of `width` `i32`;
+//! * streaming: `(2ry+1) * width` bytes of input rows plus `width` `i32`
+//!   ([`FilterLines`] holds both in a const-generic struct).
+//!
+//! ```
+//! use fixsight::filter::{self, Border};
+//! use fixsight::{ImageView, ImageViewMut};
+//! // A vertical step edge: Sobel x responds with 4 * 100 on the edge columns.
+//! let mut src = [0u8; 6 * 3];
+//! for y in 0..3 { for x in 3..6 { src[y * 6 + x] = 100; } }
+//! let mut gx = [0i16; 6 * 3];
+//! let mut scratch = [0i32; 6];
+//! filter::sobel_x(Border::Replicate).apply(
+//!     &ImageView::new(&src, 6, 3, 6)?, &mut ImageViewMut::new(&mut gx, 6, 3, 6)?, &mut scratch)?;
+//! assert_eq!(&gx[6..12], &[0, 0, 400, 400, 0, 0]);
+//! # Ok::<(), fixsight::Error>(())
+//! ```
+
+use crate::arith::{round_shift, sat_i16, sat_u8};
+use crate::error::{Error, Result};
+use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut, MAX_DIM};
+use crate::ops::{tally, Op};
+use fixed::types::extra::LeEqU16;
+use fixed::FixedI16;
+
+/// Longest tap set accepted.
+pub const MAX_TAPS: usize = 9;
+
+/// Largest shift of one tap set.
+pub const MAX_TAP_SHIFT: u32 = 16;
+
+/// Largest combined shift `sh + sv`.
+pub const MAX_TOTAL_SHIFT: u32 = 30;
+
+/// One-dimensional tap set: odd length `1..=9`, `i16` coefficients, and a
+/// normalisation shift (the taps represent `coef / 2^shift`).
+///
+/// ```
+/// use fixsight::filter::Taps;
+/// let t = Taps::new(&[1, 4, 6, 4, 1], 4)?;
+/// assert_eq!(t.radius(), 2);
+/// assert_eq!(t.sum(), 16);
+/// assert!(Taps::new(&[1, 1], 1).is_err());      // even length
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Taps {
+    coef: [i32; MAX_TAPS],
+    len: u8,
+    shift: u8,
+}
+
+impl Taps {
+    /// Taps from integer coefficients and a shift (`value = coef / 2^shift`).
+    ///
+    /// Errors: empty, even or longer than [`MAX_TAPS`] -> [`Error::BadTaps`];
+    /// `shift > 16` -> [`Error::BadTaps`].
+    ///
+    /// ```
+    /// assert!(fixsight::filter::Taps::new(&[-1, 0, 1], 0).is_ok());
+    /// ```
+    pub fn new(coef: &[i16], shift: u32) -> Result<Self> {
+        if coef.is_empty() || coef.len() > MAX_TAPS {
+            return Err(Error::BadTaps {
+                reason: "tap count must be 1 to 9",
+                value: coef.len(),
+            });
+        }
+        if coef.len() % 2 == 0 {
+            return Err(Error::BadTaps {
+                reason: "tap count must be odd (centred taps)",
+                value: coef.len(),
+            });
+        }
+        if shift > MAX_TAP_SHIFT {
+            return Err(Error::BadTaps {
+                reason: "shift of one tap set must be at most 16",
+                value: shift as usize,
+            });
+        }
+        let mut c = [0i32; MAX_TAPS];
+        for (d, &s) in c.iter_mut().zip(coef) {
+            *d = s as i32;
+        }
+        Ok(Self {
+            coef: c,
+            len: coef.len() as u8,
+            shift: shift as u8,
+        })
+    }
+
+    /// Taps from fixed-point coefficients: the raw bits become the integer
+    /// coefficients and the number of fractional bits becomes the shift.
+    ///
+    /// ```
+    /// use fixed::types::I8F8;
+    /// use fixsight::filter::Taps;
+    /// let quarter = I8F8::from_bits(64);   // 0.25
+    /// let half = I8F8::from_bits(128);     // 0.5
+    /// let t = Taps::from_fixed(&[quarter, half, quarter])?;
+    /// assert_eq!(t, Taps::new(&[64, 128, 64], 8)?);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn from_fixed<Frac: LeEqU16>(coef: &[FixedI16<Frac>]) -> Result<Self> {
+        let mut raw = [0i16; MAX_TAPS];
+        let n = coef.len().min(MAX_TAPS);
+        for (d, s) in raw.iter_mut().zip(coef.iter()) {
+            *d = s.to_bits();
+        }
+        if coef.len() > MAX_TAPS {
+            return Err(Error::BadTaps {
+                reason: "tap count must be 1 to 9",
+                value: coef.len(),
+            });
+        }
+        Self::new(&raw[..n], FixedI16::<Frac>::FRAC_NBITS)
+    }
+
+    /// Preset constructor for tap sets proven valid by tests.
+    const fn preset(c: [i32; MAX_TAPS], len: u8, shift: u8) -> Self {
+        Self {
+            coef: c,
+            len,
+            shift,
+        }
+    }
+
+    /// The integer coefficients.
+    ///
+    /// ```
+    /// let t = fixsight::filter::Taps::new(&[1, 2, 1], 2).unwrap();
+    /// assert_eq!(t.coefficients(), &[1, 2, 1]);
+    /// ```
+    pub fn coefficients(&self) -> &[i32] {
+        &self.coef[..self.len as usize]
+    }
+
+    /// Normalisation shift.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::filter::Taps::new(&[1, 2, 1], 2).unwrap().shift(), 2);
+    /// ```
+    pub fn shift(&self) -> u32 {
+        self.shift as u32
+    }
+
+    /// Radius `(len - 1) / 2`.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::filter::Taps::new(&[1], 0).unwrap().radius(), 0);
+    /// ```
+    pub fn radius(&self) -> usize {
+        (self.len as usize - 1) / 2
+    }
+
+    /// Sum of the coefficients.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::filter::Taps::new(&[-1, 0, 1], 0).unwrap().sum(), 0);
+    /// ```
+    pub fn sum(&self) -> i64 {
+        self.coefficients().iter().map(|&c| c as i64).sum()
+    }
+
+    /// Sum of the absolute values of the coefficients.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::filter::Taps::new(&[-1, 0, 1], 0).unwrap().abs_sum(), 2);
+    /// ```
+    pub fn abs_sum(&self) -> u64 {
+        self.coefficients()
+            .iter()
+            .map(|&c| c.unsigned_abs() as u64)
+            .sum()
+    }
+}
+
+/// How pixels outside the image are defined.
+///
+/// ```
+/// let b = fixsight::filter::Border::Constant(0);
+/// assert_ne!(b, fixsight::filter::Border::Replicate);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Border {
+    /// Nearest edge pixel: coordinates are clamped into the image.
+    Replicate,
+    /// A constant value everywhere outside the image.
+    Constant(u8),
+}
+
+mod sealed {
+    pub trait Sealed {}
+    impl Sealed for u8 {}
+    impl Sealed for i16 {}
+}
+
+/// Output element of a filter: `u8` (smoothing) or `i16` (derivatives).
+/// Sealed; the conversion is the documented round-half-up then saturate.
+///
+/// ```
+/// use fixsight::filter::FilterOutput;
+/// assert_eq!(<u8 as FilterOutput>::from_acc(24, 4), 2);     // 1.5 -> 2
+/// assert_eq!(<i16 as FilterOutput>::from_acc(-24, 4), -1);  // -1.5 -> -1
+/// ```
+pub trait FilterOutput: Copy + Default + sealed::Sealed {
+    /// `saturate(round_shift(acc, shift))`.
+    fn from_acc(acc: i32, shift: u32) -> Self;
+}
+
+impl FilterOutput for u8 {
+    #[inline(always)]
+    fn from_acc(acc: i32, shift: u32) -> Self {
+        sat_u8(round_shift(acc, shift))
+    }
+}
+
+impl FilterOutput for i16 {
+    #[inline(always)]
+    fn from_acc(acc: i32, shift: u32) -> Self {
+        sat_i16(round_shift(acc, shift))
+    }
+}
+
+/// A separable 2-D filter: horizontal taps, vertical taps, border rule.
+///
+/// ```
+/// use fixsight::filter::{Border, SeparableFilter, Taps};
+/// let box3 = Taps::new(&[1, 1, 1], 0)?;
+/// let f = SeparableFilter::new(box3, box3, Border::Constant(0))?;
+/// assert_eq!(f.shift(), 0);
+/// // 9-tap sets of 32767 would overflow the 32-bit accumulator:
+/// let big = Taps::new(&[32767; 9], 0)?;
+/// assert!(SeparableFilter::new(big, big, Border::Replicate).is_err());
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SeparableFilter {
+    h: Taps,
+    v: Taps,
+    border: Border,
+}
+
+impl SeparableFilter {
+    /// Builds a filter, checking the combined shift (at most 30) and that the
+    /// worst-case accumulator `255 * sum|h| * sum|v| + 2^(s-1)` fits `i32`.
+    ///
+    /// ```
+    /// use fixsight::filter::{Border, SeparableFilter, Taps};
+    /// let t = Taps::new(&[1, 2, 1], 2)?;
+    /// assert!(SeparableFilter::new(t, t, Border::Replicate).is_ok());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn new(h: Taps, v: Taps, border: Border) -> Result<Self> {
+        let s = h.shift() + v.shift();
+        if s > MAX_TOTAL_SHIFT {
+            return Err(Error::BadTaps {
+                reason: "combined horizontal + vertical shift must be at most 30",
+                value: s as usize,
+            });
+        }
+        let f = Self { h, v, border };
+        let worst = f.worst_case_acc();
+        if worst > i32::MAX as u64 {
+            return Err(Error::AccumulatorOverflow {
+                worst_case: worst,
+                limit: i32::MAX as u64,
+            });
+        }
+        Ok(f)
+    }
+
+    /// Worst-case accumulator magnitude over all `u8` inputs, including the
+    /// rounding offset: `255 * sum|h| * sum|v| + 2^(s-1)`.
+    ///
+    /// ```
+    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+    /// assert_eq!(f.worst_case_acc(), 255 * 16 * 16 + 128);
+    /// ```
+    pub fn worst_case_acc(&self) -> u64 {
+        let s = self.shift();
+        let half = if s == 0 { 0 } else { 1u64 << (s - 1) };
+        255 * self.h.abs_sum() * self.v.abs_sum() + half
+    }
+
+    /// Horizontal tap set.
+    ///
+    /// ```
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// assert_eq!(f.horizontal().coefficients(), &[-1, 0, 1]);
+    /// ```
+    pub fn horizontal(&self) -> &Taps {
+        &self.h
+    }
+
+    /// Vertical tap set.
+    ///
+    /// ```
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// assert_eq!(f.vertical().coefficients(), &[1, 2, 1]);
+    /// ```
+    pub fn vertical(&self) -> &Taps {
+        &self.v
+    }
+
+    /// Border rule.
+    ///
+    /// ```
+    /// let f = fixsight::filter::binomial3(fixsight::filter::Border::Constant(7));
+    /// assert_eq!(f.border(), fixsight::filter::Border::Constant(7));
+    /// ```
+    pub fn border(&self) -> Border {
+        self.border
+    }
+
+    /// Combined shift `sh + sv`.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::filter::binomial7(fixsight::filter::Border::Replicate).shift(), 12);
+    /// ```
+    pub fn shift(&self) -> u32 {
+        self.h.shift() + self.v.shift()
+    }
+
+    /// Filters a whole frame. `scratch` must hold at least `src.width()`
+    /// elements. Both views must be single-channel and the same size.
+    ///
+    /// ```
+    /// use fixsight::{filter, ImageView, ImageViewMut};
+    /// let src = [0u8, 0, 255, 0, 0];
+    /// let mut dst = [0u8; 5];
+    /// let mut scratch = [0i32; 5];
+    /// filter::binomial3(filter::Border::Replicate)
+    ///     .apply(&ImageView::new(&src, 5, 1, 5)?, &mut ImageViewMut::new(&mut dst, 5, 1, 5)?, &mut scratch)?;
+    /// // (0 + 2*255 + 0)/4 = 127.5 -> 128 (round half up); neighbours 255/4 = 63.75 -> 64
+    /// assert_eq!(dst, [0, 64, 128, 64, 0]);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn apply<T: FilterOutput>(
+        &self,
+        src: &ImageView<'_, u8>,
+        dst: &mut ImageViewMut<'_, T>,
+        scratch: &mut [i32],
+    ) -> Result<()> {
+        check_single_channel(src)?;
+        check_single_channel(&dst.as_view())?;
+        check_same_size("filter output vs input", src, dst)?;
+        let w = src.width();
+        let h = src.height();
+        if scratch.len() < w {
+            return Err(Error::BufferTooShort {
+                what: "filter scratch",
+                needed: w,
+                got: scratch.len(),
+            });
+        }
+        let acc = &mut scratch[..w];
+        for y in 0..h {
+            self.vertical_pass(y, h, |yy| src.row_at(yy), acc);
+            self.horizontal_pass(acc, dst.row_at_mut(y));
+            tally(Op::Branch, 1);
+        }
+        Ok(())
+    }
+
+    /// Vertical pass for output row `y`: `acc[x] = sum_j v[j] * P(x, y+j-ry)`.
+    /// `row(yy)` returns input row `yy` for `0 <= yy < height`.
+    fn vertical_pass<'r>(
+        &self,
+        y: usize,
+        height: usize,
+        row: impl Fn(usize) -> &'r [u8],
+        acc: &mut [i32],
+    ) {
+        let r = self.v.radius() as isize;
+        // Constant border rows contribute c * v[j] to every column.
+        let mut bias = 0i32;
+        if let Border::Constant(c) = self.border {
+            for (j, &cv) in self.v.coefficients().iter().enumerate() {
+                let yy = y as isize + j as isize - r;
+                if yy < 0 || yy >= height as isize {
+                    bias += cv * c as i32;
+                    tally(Op::Mac, 1);
+                }
+            }
+        }
+        acc.fill(bias);
+        tally(Op::Store, acc.len() as u32);
+        for (j, &cv) in self.v.coefficients().iter().enumerate() {
+            let yy = y as isize + j as isize - r;
+            let src_row = if yy >= 0 && yy < height as isize {
+                yy as usize
+            } else {
+                match self.border {
+                    Border::Constant(_) => continue,
+                    Border::Replicate => yy.clamp(0, height as isize - 1) as usize,
+                }
+            };
+            if cv == 0 {
+                continue;
+            }
+            let line = row(src_row);
+            for (a, &p) in acc.iter_mut().zip(line) {
+                *a += cv * p as i32;
+            }
+            let n = acc.len() as u32;
+            tally(Op::Load, 2 * n);
+            tally(Op::Mac, n);
+            tally(Op::Store, n);
+            tally(Op::Branch, n);
+        }
+    }
+
+    /// Horizontal pass: `out[x] = from_acc(sum_i h[i] * A(x+i-rx), s)` where
+    /// `A` is `acc` extended by the border rule.
+    fn horizontal_pass<T: FilterOutput>(&self, acc: &[i32], out: &mut [T]) {
+        let w = acc.len();
+        let r = self.h.radius();
+        let s = self.shift();
+        let taps = self.h.coefficients();
+        let outside = match self.border {
+            Border::Constant(c) => Some(c as i32 * self.v.sum() as i32),
+            Border::Replicate => None,
+        };
+        let ext = |i: isize| -> i32 {
+            if i >= 0 && (i as usize) < w {
+                acc[i as usize]
+            } else {
+                match outside {
+                    Some(v) => v,
+                    None => acc[i.clamp(0, w as isize - 1) as usize],
+                }
+            }
+        };
+        let border_px = |x: usize| -> T {
+            let mut sum = 0i32;
+            for (i, &c) in taps.iter().enumerate() {
+                sum += c * ext(x as isize + i as isize - r as isize);
+            }
+            T::from_acc(sum, s)
+        };
+        if w > 2 * r {
+            for x in 0..r {
+                out[x] = border_px(x);
+                out[w - 1 - x] = border_px(w - 1 - x);
+            }
+            let interior = &mut out[r..w - r];
+            match taps.len() {
+                1 => dot_row::<T, 1>(taps, acc, interior, s),
+                3 => dot_row::<T, 3>(taps, acc, interior, s),
+                5 => dot_row::<T, 5>(taps, acc, interior, s),
+                7 => dot_row::<T, 7>(taps, acc, interior, s),
+                _ => dot_row::<T, 9>(taps, acc, interior, s),
+            }
+        } else {
+            for (x, o) in out.iter_mut().enumerate().take(w) {
+                *o = border_px(x);
+            }
+        }
+        let n = w as u32;
+        let k = taps.len() as u32;
+        tally(Op::Load, n * k);
+        tally(Op::Mac, n * k);
+        // Rounding offset, shift, two saturation compares, store, loop branch.
+        tally(Op::AddSub, n);
+        tally(Op::Shift, n);
+        tally(Op::Logic, 2 * n);
+        tally(Op::Store, n);
+        tally(Op::Branch, n);
+    }
+}
+
+/// Interior of the horizontal pass with a compile-time tap count: `out[i]`
+/// takes the window `acc[i .. i + N]`.
+#[inline(always)]
+fn dot_row<T: FilterOutput, const N: usize>(taps: &[i32], acc: &[i32], out: &mut [T], s: u32) {
+    let mut k = [0i32; N];
+    for (d, &t) in k.iter_mut().zip(taps) {
+        *d = t;
+    }
+    for (o, win) in out.iter_mut().zip(acc.windows(N)) {
+        let mut sum = 0i32;
+        for i in 0..N {
+            sum += k[i] * win[i];
+        }
+        *o = T::from_acc(sum, s);
+    }
+}
+
+/// Row-streaming form of a [`SeparableFilter`]: push input rows top to
+/// bottom, receive output rows as soon as they are complete (after `ry`
+/// rows of latency), then flush the last `ry` rows.
+///
+/// Output is bit-identical to [`SeparableFilter::apply`].
+///
+/// ```
+/// use fixsight::filter::{self, Border, FilterLines};
+/// let f = filter::binomial3(Border::Replicate);
+/// let mut lines = FilterLines::<4, 3>::new();
+/// let mut s = lines.stream(&f, 3)?;
+/// let mut out = [0u8; 4];
+/// let mut got = 0;
+/// for _ in 0..3 {
+///     if let Some(_y) = s.push_row(&[8, 8, 8, 8], &mut out)? { got += 1; }
+/// }
+/// while let Some(_y) = s.flush_row(&mut out)? { got += 1; }
+/// assert_eq!((got, out), (3, [8; 4]));
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug)]
+pub struct FilterStream<'f, 'b> {
+    filter: &'f SeparableFilter,
+    width: usize,
+    height: usize,
+    ring_rows: usize,
+    ring: &'b mut [u8],
+    acc: &'b mut [i32],
+    pushed: usize,
+    emitted: usize,
+}
+
+impl<'f, 'b> FilterStream<'f, 'b> {
+    /// Input rows the ring must hold: `2 * ry + 1`.
+    ///
+    /// ```
+    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+    /// assert_eq!(fixsight::filter::FilterStream::ring_rows(&f), 5);
+    /// ```
+    pub fn ring_rows(filter: &SeparableFilter) -> usize {
+        2 * filter.v.radius() + 1
+    }
+
+    /// Starts a stream over caller memory: `ring` needs
+    /// `ring_rows(filter) * width` bytes and `acc` needs `width` elements.
+    ///
+    /// ```
+    /// use fixsight::filter::{self, Border, FilterStream};
+    /// let f = filter::sobel_y(Border::Replicate);
+    /// let (mut ring, mut acc) = ([0u8; 3 * 10], [0i32; 10]);
+    /// let s = FilterStream::new(&f, 10, 4, &mut ring, &mut acc)?;
+    /// assert_eq!(s.rows_pushed(), 0);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn new(
+        filter: &'f SeparableFilter,
+        width: usize,
+        height: usize,
+        ring: &'b mut [u8],
+        acc: &'b mut [i32],
+    ) -> Result<Self> {
+        if width == 0 || height == 0 {
+            return Err(Error::ZeroSize { width, height });
+        }
+        if width > MAX_DIM || height > MAX_DIM {
+            return Err(Error::TooLarge {
+                width,
+                height,
+                limit: MAX_DIM,
+            });
+        }
+        let ring_rows = Self::ring_rows(filter);
+        let needed = ring_rows * width;
+        if ring.len() < needed {
+            return Err(Error::BufferTooShort {
+                what: "stream row ring",
+                needed,
+                got: ring.len(),
+            });
+        }
+        if acc.len() < width {
+            return Err(Error::BufferTooShort {
+                what: "stream accumulator row",
+                needed: width,
+                got: acc.len(),
+            });
+        }
+        Ok(Self {
+            filter,
+            width,
+            height,
+            ring_rows,
+            ring,
+            acc,
+            pushed: 0,
+            emitted: 0,
+        })
+    }
+
+    /// Rows pushed so far.
+    ///
+    /// ```
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
+    /// let s = l.stream(&f, 2)?;
+    /// assert_eq!(s.rows_pushed(), 0);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn rows_pushed(&self) -> usize {
+        self.pushed
+    }
+
+    /// Output rows produced so far.
+    ///
+    /// ```
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
+    /// let s = l.stream(&f, 2)?;
+    /// assert_eq!(s.rows_emitted(), 0);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn rows_emitted(&self) -> usize {
+        self.emitted
+    }
+
+    /// Pushes the next input row (`width` elements are read) and, when an
+    /// output row is complete, writes it to `out` (`width` elements) and
+    /// returns its row index.
+    ///
+    /// Errors: more than `height` rows -> [`Error::StreamOrder`]; short
+    /// `row` or `out` -> [`Error::BufferTooShort`].
+    ///
+    /// ```
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
+    /// let mut s = l.stream(&f, 1)?;
+    /// let mut out = [0u8; 2];
+    /// assert_eq!(s.push_row(&[4, 4], &mut out)?, Some(0));
+    /// assert!(s.push_row(&[4, 4], &mut out).is_err()); // only 1 row declared
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn push_row<T: FilterOutput>(&mut self, row: &[u8], out: &mut [T]) -> Result<Option<usize>> {
+        if self.pushed >= self.height {
+            return Err(Error::StreamOrder {
+                reason: "more rows pushed than the height declared at construction",
+            });
+        }
+        if row.len() < self.width {
+            return Err(Error::BufferTooShort {
+                what: "pushed input row",
+                needed: self.width,
+                got: row.len(),
+            });
+        }
+        self.check_out(out.len())?;
+        let slot = (self.pushed % self.ring_rows) * self.width;
+        self.ring[slot..slot + self.width].copy_from_slice(&row[..self.width]);
+        tally(Op::Load, self.width as u32);
+        tally(Op::Store, self.width as u32);
+        self.pushed += 1;
+        let ry = self.filter.v.radius();
+        if self.pushed >= (self.emitted + ry + 1).min(self.height) {
+            Ok(Some(self.emit(out)))
+        } else {
+            Ok(None)
+        }
+    }
+
+    /// After all `height` rows are pushed, writes the next pending output
+    /// row to `out` and returns its index; `None` when every row is out.
+    ///
+    /// Errors: called before the last row was pushed -> [`Error::StreamOrder`].
+    ///
+    /// ```
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
+    /// let mut s = l.stream(&f, 2)?;
+    /// let mut out = [0u8; 2];
+    /// assert!(s.flush_row(&mut out).is_err()); // nothing pushed yet
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn flush_row<T: FilterOutput>(&mut self, out: &mut [T]) -> Result<Option<usize>> {
+        if self.pushed < self.height {
+            return Err(Error::StreamOrder {
+                reason: "flush before all declared rows were pushed",
+            });
+        }
+        if self.emitted >= self.height {
+            return Ok(None);
+        }
+        self.check_out(out.len())?;
+        Ok(Some(self.emit(out)))
+    }
+
+    fn check_out(&self, len: usize) -> Result<()> {
+        if len < self.width {
+            Err(Error::BufferTooShort {
+                what: "stream output row",
+                needed: self.width,
+                got: len,
+            })
+        } else {
+            Ok(())
+        }
+    }
+
+    /// Computes output row `emitted` from the ring (all its input rows are
+    /// in the ring by the push/flush conditions) and advances.
+    fn emit<T: FilterOutput>(&mut self, out: &mut [T]) -> usize {
+        let y = self.emitted;
+        let (w, rr) = (self.width, self.ring_rows);
+        let ring: &[u8] = self.ring;
+        self.filter.vertical_pass(
+            y,
+            self.height,
+            |yy| &ring[(yy % rr) * w..(yy % rr) * w + w],
+            self.acc,
+        );
+        self.filter.horizontal_pass(&self.acc[..w], &mut out[..w]);
+        self.emitted += 1;
+        y
+    }
+}
+
+/// Line buffers for a [`FilterStream`] sized at compile time: `ROWS` input
+/// rows of `WIDTH` bytes plus one `i32` row, `ROWS * WIDTH + 4 * WIDTH`
+/// bytes in all. `ROWS` must be at least `2 * ry + 1` of the filter used.
+///
+/// ```
+/// use fixsight::filter::{self, Border, FilterLines};
+/// let mut lines = FilterLines::<320, 5>::new();       // 320*5 + 4*320 = 2880 bytes
+/// assert!(lines.stream(&filter::binomial5(Border::Replicate), 240).is_ok());
+/// assert!(lines.stream(&filter::binomial7(Border::Replicate), 240).is_err()); // needs 7 rows
+/// ```
+#[derive(Debug, Clone)]
+pub struct FilterLines<const WIDTH: usize, const ROWS: usize> {
+    ring: [[u8; WIDTH]; ROWS],
+    acc: [i32; WIDTH],
+}
+
+impl<const WIDTH: usize, const ROWS: usize> Default for FilterLines<WIDTH, ROWS> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl<const WIDTH: usize, const ROWS: usize> FilterLines<WIDTH, ROWS> {
+    /// Zeroed buffers.
+    ///
+    /// ```
+    /// let _l = fixsight::filter::FilterLines::<64, 3>::new();
+    /// ```
+    pub const fn new() -> Self {
+        Self {
+            ring: [[0; WIDTH]; ROWS],
+            acc: [0; WIDTH],
+        }
+    }
+
+    /// Starts a stream of width `WIDTH` and the given height over these
+    /// buffers.
+    ///
+    /// ```
+    /// let mut l = fixsight::filter::FilterLines::<8, 3>::new();
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// assert!(l.stream(&f, 8).is_ok());
+    /// ```
+    pub fn stream<'f>(
+        &mut self,
+        filter: &'f SeparableFilter,
+        height: usize,
+    ) -> Result<FilterStream<'f, '_>> {
+        FilterStream::new(
+            filter,
+            WIDTH,
+            height,
+            self.ring.as_flattened_mut(),
+            &mut self.acc,
+        )
+    }
+}
+
+const fn taps3(a: i32, b: i32, c: i32, shift: u8) -> Taps {
+    Taps::preset([a, b, c, 0, 0, 0, 0, 0, 0], 3, shift)
+}
+
+/// Binomial smoothing, 3 taps `[1 2 1] / 4` in both directions.
+///
+/// ```
+/// let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.horizontal().coefficients(), &[1, 2, 1]);
+/// ```
+pub const fn binomial3(border: Border) -> SeparableFilter {
+    let t = taps3(1, 2, 1, 2);
+    SeparableFilter {
+        h: t,
+        v: t,
+        border,
+    }
+}
+
+/// Binomial smoothing, 5 taps `[1 4 6 4 1] / 16` in both directions.
+///
+/// ```
+/// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.vertical().coefficients(), &[1, 4, 6, 4, 1]);
+/// ```
+pub const fn binomial5(border: Border) -> SeparableFilter {
+    let t = Taps::preset([1, 4, 6, 4, 1, 0, 0, 0, 0], 5, 4);
+    SeparableFilter {
+        h: t,
+        v: t,
+        border,
+    }
+}
+
+/// Binomial smoothing, 7 taps `[1 6 15 20 15 6 1] / 64` in both directions.
+///
+/// ```
+/// let f = fixsight::filter::binomial7(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.horizontal().sum(), 64);
+/// ```
+pub const fn binomial7(border: Border) -> SeparableFilter {
+    let t = Taps::preset([1, 6, 15, 20, 15, 6, 1, 0, 0], 7, 6);
+    SeparableFilter {
+        h: t,
+        v: t,
+        border,
+    }
+}
+
+/// Sobel x derivative: `[-1 0 1]` horizontally, `[1 2 1]` vertically, no
+/// shift; output range `-1020..=1020` (use `i16` output). Positive where
+/// intensity grows to the right.
+///
+/// ```
+/// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.shift(), 0);
+/// ```
+pub const fn sobel_x(border: Border) -> SeparableFilter {
+    SeparableFilter {
+        h: taps3(-1, 0, 1, 0),
+        v: taps3(1, 2, 1, 0),
+        border,
+    }
+}
+
+/// Sobel y derivative: `[1 2 1]` horizontally, `[-1 0 1]` vertically;
+/// positive where intensity grows downwards (row index increasing).
+///
+/// ```
+/// let f = fixsight::filter::sobel_y(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.vertical().coefficients(), &[-1, 0, 1]);
+/// ```
+pub const fn sobel_y(border: Border) -> SeparableFilter {
+    SeparableFilter {
+        h: taps3(1, 2, 1, 0),
+        v: taps3(-1, 0, 1, 0),
+        border,
+    }
+}
+
+/// Scharr x derivative: `[-1 0 1]` horizontally, `[3 10 3]` vertically;
+/// output range `-4080..=4080`.
+///
+/// ```
+/// let f = fixsight::filter::scharr_x(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.vertical().coefficients(), &[3, 10, 3]);
+/// ```
+pub const fn scharr_x(border: Border) -> SeparableFilter {
+    SeparableFilter {
+        h: taps3(-1, 0, 1, 0),
+        v: taps3(3, 10, 3, 0),
+        border,
+    }
+}
+
+/// Scharr y derivative: `[3 10 3]` horizontally, `[-1 0 1]` vertically.
+///
+/// ```
+/// let f = fixsight::filter::scharr_y(fixsight::filter::Border::Replicate);
+/// assert_eq!(f.horizontal().coefficients(), &[3, 10, 3]);
+/// ```
+pub const fn scharr_y(border: Border) -> SeparableFilter {
+    SeparableFilter {
+        h: taps3(3, 10, 3, 0),
+        v: taps3(-1, 0, 1, 0),
+        border,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn presets_pass_the_checked_constructor() {
+        for f in [
+            binomial3(Border::Replicate),
+            binomial5(Border::Replicate),
+            binomial7(Border::Replicate),
+            sobel_x(Border::Replicate),
+            sobel_y(Border::Replicate),
+            scharr_x(Border::Replicate),
+            scharr_y(Border::Replicate),
+        ] {
+            let h = Taps::new(
+                &f.h.coefficients()
+                    .iter()
+                    .map(|&c| c as i16)
+                    .collect::<heapless::Vec<i16, 9>>(),
+                f.h.shift(),
+            )
+            .unwrap();
+            let v = Taps::new(
+                &f.v.coefficients()
+                    .iter()
+                    .map(|&c| c as i16)
+                    .collect::<heapless::Vec<i16, 9>>(),
+                f.v.shift(),
+            )
+            .unwrap();
+            assert_eq!(SeparableFilter::new(h, v, f.border).unwrap(), f);
+        }
+    }
+
+    #[test]
+    fn bad_tap_sets_are_rejected_with_reasons() {
+        assert!(matches!(
+            Taps::new(&[], 0),
+            Err(Error::BadTaps { value: 0, .. })
+        ));
+        assert!(matches!(
+            Taps::new(&[1; 11], 0),
+            Err(Error::BadTaps { value: 11, .. })
+        ));
+        assert!(matches!(
+            Taps::new(&[1, 2], 0),
+            Err(Error::BadTaps { value: 2, .. })
+        ));
+        assert!(matches!(
+            Taps::new(&[1], 17),
+            Err(Error::BadTaps { value: 17, .. })
+        ));
+        let t = Taps::new(&[1], 16).unwrap();
+        assert!(matches!(
+            SeparableFilter::new(t, t, Border::Replicate),
+            Err(Error::BadTaps { value: 32, .. })
+        ));
+        // Largest 9-tap set that fits: 255 * S * S < 2^31 -> S <= 2901.
+        let ok = Taps::new(&[322, 322, 322, 322, 322, 322, 322, 322, 325], 0).unwrap();
+        assert_eq!(ok.abs_sum(), 2901);
+        assert!(SeparableFilter::new(ok, ok, Border::Replicate).is_ok());
+        let bad = Taps::new(&[322, 322, 322, 322, 322, 322, 322, 322, 326], 0).unwrap();
+        assert!(matches!(
+            SeparableFilter::new(bad, bad, Border::Replicate),
+            Err(Error::AccumulatorOverflow { .. })
+        ));
+    }
+
+    #[test]
+    fn stream_misuse_is_an_error_not_a_panic() {
+        let f = binomial5(Border::Replicate);
+        let mut ring = [0u8; 4 * 5];
+        let mut acc = [0i32; 4];
+        assert!(matches!(
+            FilterStream::new(&f, 5, 2, &mut ring, &mut acc),
+            Err(Error::BufferTooShort { .. })
+        ));
+        let mut s = FilterStream::new(&f, 4, 2, &mut ring, &mut acc).unwrap();
+        let mut out = [0u8; 3];
+        assert!(matches!(
+            s.push_row(&[1, 2, 3, 4], &mut out),
+            Err(Error::BufferTooShort { .. })
+        ));
+        assert!(matches!(
+            s.push_row(&[1, 2, 3], &mut [0u8; 4]),
+            Err(Error::BufferTooShort { .. })
+        ));
+    }
+}

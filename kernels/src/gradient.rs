@@ -1,0 +1,347 @@
+//! Gradient magnitude and direction from a pair of `i16` derivative images.
+//!
+//! # Integer model
+//!
+//! Let `ax = |gx|`, `ay = |gy|` with the saturating absolute value
+//! ([`crate::arith::abs_sat_i16`]: `-32768` counts as `32767`), so
+//! `ax, ay <= 32767`.
+//!
+//! * **L1 magnitude** ([`magnitude_l1`]): `ax + ay`, exact, `u16`
+//!   (at most 65534).
+//! * **Approximate L2 magnitude** ([`magnitude_l2_approx`]), an
+//!   alpha-max-plus-beta-min estimate with our own coefficients
+//!   `alpha = 123/128`, `beta = 51/128`:
+//!   `m = (123 * max(ax, ay) + 51 * min(ax, ay) + 64) >> 7`, saturated to
+//!   `u16` (the sum is at most `174 * 32767 + 64`, which fits `i32`; the
+//!   result is at most 44543, so saturation never triggers). Round half up.
+//!   Worst-case relative error against `sqrt(gx^2 + gy^2)`, before the final
+//!   rounding: with `t = min/max` in `[0, 1]` the ratio
+//!   `(alpha + beta t) / sqrt(1 + t^2)` is largest at `t = beta/alpha`
+//!   (value `sqrt(alpha^2 + beta^2)`) and smallest at an end point, so the
+//!   bound is `max(sqrt(alpha^2+beta^2) - 1, 1 - alpha, 1 - (alpha+beta)/sqrt 2)
+//!   = 4.02 %` (see [`L2_APPROX_REL_ERR_PPM`]); rounding adds at most 0.5 LSB.
+//! * **Direction** ([`direction_sector`]): the gradient angle
+//!   `theta = atan2(gy, gx)` (x to the right, y down the rows), folded to
+//!   `[0, 180)` degrees, quantised to the nearest of 0, 45, 90, 135 degrees
+//!   and returned as sector `0, 1, 2, 3`. Computed exactly with integer
+//!   comparisons, no division and no table:
+//!   - sector 0 when `ay < (sqrt 2 - 1) * ax`, tested as `(ax + ay)^2 < 2 ax^2`;
+//!   - sector 2 when `ay > (sqrt 2 + 1) * ax`, tested as
+//!     `ay > ax && (ay - ax)^2 > 2 ax^2`;
+//!   - otherwise sector 1 when `gx` and `gy` have the same sign (both
+//!     non-zero), else sector 3.
+//!
+//!   All squares are `u32` (`(ax + ay)^2 <= 65534^2 < 2^32`). The
+//!   boundaries are irrational, so no integer pair lies on one: the result
+//!   equals quantising the exact angle. `gx = gy = 0` gives sector 0.
+//!
+//! ```
+//! use fixsight::gradient::{direction_sector, l2_approx};
+//! assert_eq!(direction_sector(10, 0), 0);   // gradient along +x
+//! assert_eq!(direction_sector(10, 10), 1);  // 45 degrees (down-right)
+//! assert_eq!(direction_sector(0, -7), 2);   // vertical
+//! assert_eq!(direction_sector(-10, 10), 3); // 135 degrees
+//! assert_eq!(l2_approx(300, 400), 504);     // exact: 500
+//! ```
+
+use crate::arith::{abs_sat_i16, sat_u16};
+use crate::error::{Error, Result};
+use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
+use crate::ops::{tally, Op};
+
+/// `alpha` numerator of the L2 estimate (denominator 128).
+pub const L2_ALPHA: i32 = 123;
+/// `beta` numerator of the L2 estimate (denominator 128).
+pub const L2_BETA: i32 = 51;
+/// Shift of the L2 estimate (denominator `2^7 = 128`).
+pub const L2_SHIFT: u32 = 7;
+/// Worst-case relative error of [`l2_approx`] before final rounding, in
+/// parts per million, rounded up: `sqrt(123^2 + 51^2) / 128 - 1`.
+pub const L2_APPROX_REL_ERR_PPM: u32 = 40_214;
+
+/// `|gx| + |gy|` (saturating absolute values).
+///
+/// ```
+/// assert_eq!(fixsight::gradient::l1(-3, 4), 7);
+/// assert_eq!(fixsight::gradient::l1(-32768, -32768), 65534);
+/// ```
+#[inline(always)]
+pub fn l1(gx: i16, gy: i16) -> u16 {
+    abs_sat_i16(gx) + abs_sat_i16(gy)
+}
+
+/// Alpha-max-plus-beta-min estimate of `sqrt(gx^2 + gy^2)` (see the module
+/// docs for the exact formula and bound).
+///
+/// ```
+/// assert_eq!(fixsight::gradient::l2_approx(100, 0), 96);  // 123*100/128 = 96.09
+/// ```
+#[inline(always)]
+pub fn l2_approx(gx: i16, gy: i16) -> u16 {
+    let ax = abs_sat_i16(gx) as i32;
+    let ay = abs_sat_i16(gy) as i32;
+    let (hi, lo) = if ax >= ay { (ax, ay) } else { (ay, ax) };
+    sat_u16((L2_ALPHA * hi + L2_BETA * lo + (1 << (L2_SHIFT - 1))) >> L2_SHIFT)
+}
+
+/// Gradient direction quantised to 4 sectors: 0 (0 deg), 1 (45 deg),
+/// 2 (90 deg), 3 (135 deg). Exact; see the module docs.
+///
+/// ```
+/// // tan(22.5 deg) = 0.41421...: 41/100 is below it, 42/100 above.
+/// assert_eq!(fixsight::gradient::direction_sector(100, 41), 0);
+/// assert_eq!(fixsight::gradient::direction_sector(100, 42), 1);
+/// ```
+#[inline(always)]
+pub fn direction_sector(gx: i16, gy: i16) -> u8 {
+    let ax = abs_sat_i16(gx) as u32;
+    let ay = abs_sat_i16(gy) as u32;
+    let s = ax + ay;
+    let two_ax2 = 2 * ax * ax;
+    if s * s < two_ax2 || s == 0 {
+        0
+    } else if ay > ax && (ay - ax) * (ay - ax) > two_ax2 {
+        2
+    } else if (gx > 0) == (gy > 0) {
+        1
+    } else {
+        3
+    }
+}
+
+/// Checks that the two gradient images and the output share one size and a
+/// single channel.
+fn check_pair<T: Copy>(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &ImageViewMut<'_, T>,
+) -> Result<()> {
+    check_single_channel(gx)?;
+    check_single_channel(gy)?;
+    check_single_channel(&out.as_view())?;
+    if gx.width() != gy.width() || gx.height() != gy.height() {
+        return Err(Error::SizeMismatch {
+            what: "gy vs gx",
+            expected: (gx.width(), gx.height()),
+            got: (gy.width(), gy.height()),
+        });
+    }
+    check_same_size("gradient output vs gx", gx, out)
+}
+
+/// Applies a per-pixel function of `(gx, gy)` row by row.
+fn map_pair<T: Copy>(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, T>,
+    row_fn: fn(&[i16], &[i16], &mut [T]) -> Result<()>,
+) -> Result<()> {
+    check_pair(gx, gy, out)?;
+    for y in 0..gx.height() {
+        row_fn(gx.row_at(y), gy.row_at(y), out.row_at_mut(y))?;
+    }
+    Ok(())
+}
+
+/// Checks the three rows of a row-level call and returns their common length.
+fn row_len(gx: &[i16], gy: &[i16], out_len: usize) -> Result<usize> {
+    let n = gx.len();
+    if gy.len() < n {
+        return Err(Error::BufferTooShort {
+            what: "gy row",
+            needed: n,
+            got: gy.len(),
+        });
+    }
+    if out_len < n {
+        return Err(Error::BufferTooShort {
+            what: "gradient output row",
+            needed: n,
+            got: out_len,
+        });
+    }
+    Ok(n)
+}
+
+/// L1 magnitude of one row (the streaming form): `out[i] = l1(gx[i], gy[i])`
+/// for `i < gx.len()`.
+///
+/// ```
+/// let mut out = [0u16; 2];
+/// fixsight::gradient::magnitude_l1_row(&[1, -2], &[3, 4], &mut out)?;
+/// assert_eq!(out, [4, 6]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l1_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
+    let n = row_len(gx, gy, out.len())?;
+    for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
+        *o = l1(a, b);
+    }
+    // Two loads, two abs (compare + negate), one add, one store, loop branch.
+    let n = n as u32;
+    tally(Op::Load, 2 * n);
+    tally(Op::Logic, 2 * n);
+    tally(Op::AddSub, 3 * n);
+    tally(Op::Store, n);
+    tally(Op::Branch, n);
+    Ok(())
+}
+
+/// Approximate L2 magnitude of one row: `out[i] = l2_approx(gx[i], gy[i])`.
+///
+/// ```
+/// let mut out = [0u16; 1];
+/// fixsight::gradient::magnitude_l2_approx_row(&[30], &[40], &mut out)?;
+/// assert_eq!(out, [50]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l2_approx_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
+    let n = row_len(gx, gy, out.len())?;
+    for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
+        *o = l2_approx(a, b);
+    }
+    // Loads 2, abs 2x(compare+negate), max/min compare 1, mul 1 + mac 1,
+    // rounding add 1, shift 1, saturation compares 2, store 1, branch 1.
+    let n = n as u32;
+    tally(Op::Load, 2 * n);
+    tally(Op::Logic, 5 * n);
+    tally(Op::AddSub, 3 * n);
+    tally(Op::Mul, n);
+    tally(Op::Mac, n);
+    tally(Op::Shift, n);
+    tally(Op::Store, n);
+    tally(Op::Branch, n);
+    Ok(())
+}
+
+/// Direction sectors of one row: `out[i] = direction_sector(gx[i], gy[i])`.
+///
+/// ```
+/// let mut out = [9u8; 2];
+/// fixsight::gradient::direction_row(&[5, 0], &[0, 5], &mut out)?;
+/// assert_eq!(out, [0, 2]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn direction_row(gx: &[i16], gy: &[i16], out: &mut [u8]) -> Result<()> {
+    let n = row_len(gx, gy, out.len())?;
+    let mut branches = 0u32;
+    for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
+        let d = direction_sector(a, b);
+        branches += if d == 0 { 1 } else { 2 };
+        *o = d;
+    }
+    let n32 = n as u32;
+    // Loads 2, abs 2x(compare+negate), add 1, squares: 1 mul + 1 mul,
+    // shift (2 ax^2) 1, compare 1 (+ up to 2 more), store 1, loop branch.
+    tally(Op::Load, 2 * n32);
+    tally(Op::Logic, 3 * n32 + branches);
+    tally(Op::AddSub, 3 * n32);
+    tally(Op::Mul, 2 * n32);
+    tally(Op::Shift, n32);
+    tally(Op::Store, n32);
+    tally(Op::Branch, n32 + branches);
+    Ok(())
+}
+
+/// L1 magnitude of a frame.
+///
+/// ```
+/// use fixsight::{gradient, ImageView, ImageViewMut};
+/// let (gx, gy, mut m) = ([3i16, -3], [4i16, 4], [0u16; 2]);
+/// gradient::magnitude_l1(&ImageView::new(&gx, 2, 1, 2)?, &ImageView::new(&gy, 2, 1, 2)?,
+///     &mut ImageViewMut::new(&mut m, 2, 1, 2)?)?;
+/// assert_eq!(m, [7, 7]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l1(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, u16>,
+) -> Result<()> {
+    map_pair(gx, gy, out, magnitude_l1_row)
+}
+
+/// Approximate L2 magnitude of a frame.
+///
+/// ```
+/// use fixsight::{gradient, ImageView, ImageViewMut};
+/// let (gx, gy, mut m) = ([0i16], [1000i16], [0u16]);
+/// gradient::magnitude_l2_approx(&ImageView::new(&gx, 1, 1, 1)?, &ImageView::new(&gy, 1, 1, 1)?,
+///     &mut ImageViewMut::new(&mut m, 1, 1, 1)?)?;
+/// assert_eq!(m, [961]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l2_approx(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, u16>,
+) -> Result<()> {
+    map_pair(gx, gy, out, magnitude_l2_approx_row)
+}
+
+/// Direction sectors of a frame.
+///
+/// ```
+/// use fixsight::{gradient, ImageView, ImageViewMut};
+/// let (gx, gy, mut d) = ([1i16, -1], [1i16, 1], [0u8; 2]);
+/// gradient::direction(&ImageView::new(&gx, 2, 1, 2)?, &ImageView::new(&gy, 2, 1, 2)?,
+///     &mut ImageViewMut::new(&mut d, 2, 1, 2)?)?;
+/// assert_eq!(d, [1, 3]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn direction(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, u8>,
+) -> Result<()> {
+    map_pair(gx, gy, out, direction_row)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sizes_must_match() {
+        let a = [0i16; 4];
+        let b = [0i16; 6];
+        let mut o = [0u16; 4];
+        let gx = ImageView::new(&a, 2, 2, 2).unwrap();
+        let gy = ImageView::new(&b, 3, 2, 3).unwrap();
+        let mut out = ImageViewMut::new(&mut o, 2, 2, 2).unwrap();
+        assert!(matches!(
+            magnitude_l1(&gx, &gy, &mut out),
+            Err(Error::SizeMismatch { .. })
+        ));
+        assert!(matches!(
+            magnitude_l1_row(&a, &b[..1], &mut [0u16; 4]),
+            Err(Error::BufferTooShort { .. })
+        ));
+    }
+
+    #[test]
+    fn direction_is_exact_on_a_dense_integer_grid() {
+        // Independent integer check of the boundary against an exact
+        // rational comparison with a rational enclosure of sqrt(2) - 1:
+        // 0.41421356237 < sqrt 2 - 1 < 0.41421356238 (sqrt 2 from memory to
+        // 11 digits; the enclosure is checked by squaring below).
+        let lo = 41_421_356_237u128;
+        let hi = 41_421_356_238u128;
+        let den = 100_000_000_000u128;
+        assert!((lo + den) * (lo + den) < 2 * den * den);
+        assert!((hi + den) * (hi + den) > 2 * den * den);
+        for ax in 0..300i32 {
+            for ay in 0..300i32 {
+                let (x, y) = (ax as u128, ay as u128);
+                let below = y * den < lo * x; // surely below the 22.5 deg line
+                let above = y * den > hi * x; // surely above it
+                let s = direction_sector(ax as i16, ay as i16);
+                if below {
+                    assert_eq!(s, 0, "({ax},{ay})");
+                } else if above {
+                    assert_ne!(s, 0, "({ax},{ay})");
+                }
+            }
+        }
+    }
+}
