@@ -1,1 +1,109 @@
-fn main() {}
+//! `fixsight-verify`: the command-line front of the verification tool.
+
+use clap::{Parser, Subcommand};
+use fixsight_verify::{golden, golden_dir, report, scene};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+#[derive(Parser)]
+#[command(
+    name = "fixsight-verify",
+    version,
+    about = "Verify the fixsight kernels against f64 references and golden vectors"
+)]
+struct Cli {
+    #[command(subcommand)]
+    cmd: Cmd,
+}
+
+#[derive(Subcommand)]
+enum Cmd {
+    /// Run every kernel on the built-in demo scenes, check every contract and
+    /// golden vector, print a table and write report.json.
+    Report {
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-report")]
+        out: PathBuf,
+        /// Golden-vector folder (default: ./golden, else the repository's).
+        #[arg(long)]
+        golden: Option<PathBuf>,
+    },
+    /// Check or regenerate the golden vectors.
+    Golden {
+        #[command(subcommand)]
+        cmd: GoldenCmd,
+    },
+}
+
+#[derive(Subcommand)]
+enum GoldenCmd {
+    /// Recompute every vector with the kernels and compare bit for bit.
+    Check {
+        /// Golden-vector folder (default: ./golden, else the repository's).
+        #[arg(long)]
+        dir: Option<PathBuf>,
+    },
+    /// Regenerate the vectors from the current kernels.
+    Write {
+        /// Golden-vector folder (default: ./golden, else the repository's).
+        #[arg(long)]
+        dir: Option<PathBuf>,
+        /// Replace existing vectors (needed when a manifest exists).
+        #[arg(long)]
+        overwrite: bool,
+    },
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match run(cli.cmd) {
+        Ok(true) => ExitCode::SUCCESS,
+        Ok(false) => ExitCode::FAILURE,
+        Err(e) => {
+            eprintln!("error: {e:#}");
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn run(cmd: Cmd) -> anyhow::Result<bool> {
+    match cmd {
+        Cmd::Report { out, golden } => {
+            let r = report::run(&out, &golden_dir(golden))?;
+            print!("{}", report::table(&r));
+            println!("report written to {}", out.join("report.json").display());
+            Ok(r.pass)
+        }
+        Cmd::Golden {
+            cmd: GoldenCmd::Check { dir },
+        } => {
+            let dir = golden_dir(dir);
+            let s = golden::check(&dir).map_err(|e| {
+                anyhow::anyhow!("{e}\nhint: regenerate with `fixsight-verify golden write --overwrite` only if the kernels changed on purpose")
+            })?;
+            for (id, why) in &s.failures {
+                println!("FAIL {id}: {why}");
+            }
+            println!(
+                "{}/{} golden vectors reproduced bit for bit ({})",
+                s.passed,
+                s.vectors,
+                dir.display()
+            );
+            Ok(s.failures.is_empty() && s.passed == s.vectors)
+        }
+        Cmd::Golden {
+            cmd: GoldenCmd::Write { dir, overwrite },
+        } => {
+            let dir = golden_dir(dir);
+            let cases = golden::all_cases(&scene::demo_scenes());
+            let m = golden::write(&dir, &cases, overwrite)?;
+            println!(
+                "wrote {} golden vectors to {}",
+                m.vectors.len(),
+                dir.display()
+            );
+            Ok(true)
+        }
+    }
+}

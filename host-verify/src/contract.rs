@@ -1,0 +1,129 @@
+//! The verification contract: one [`KernelReport`] row per kernel, as it
+//! appears in the printed table and in `report.json`.
+//!
+//! Every kernel declares one of two contracts:
+//! * [`Contract::BitExact`]: the kernel output equals the `f64` reference
+//!   after the same documented final rounding, on every sample;
+//!   `bound` is 0.
+//! * [`Contract::Tolerance`]: `max_abs_err <= bound`, where `bound` is an
+//!   analytical worst case derived from the number formats (stated in the
+//!   reference module's docs), never a fitted number.
+
+use crate::metrics::ErrorStats;
+use crate::opcount::OpsPerPx;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// Family of a kernel (the `family` field of `report.json`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum KernelFamily {
+    /// Separable filters.
+    Filter,
+    /// Gradient magnitude and direction.
+    Gradient,
+    /// Remap / undistortion.
+    Remap,
+    /// Edge detection steps.
+    Edges,
+    /// Line voting.
+    Lines,
+    /// Streaming pipeline.
+    Pipeline,
+    /// Tracking.
+    Track,
+}
+
+/// The declared contract.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Contract {
+    /// Equal to the reference after the documented final rounding.
+    #[serde(rename = "bit-exact")]
+    BitExact,
+    /// Within an analytical bound of the reference.
+    #[serde(rename = "tolerance")]
+    Tolerance,
+}
+
+/// One row of the report.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct KernelReport {
+    /// Kernel name, unique across the report (e.g. `filter.binomial5`).
+    pub name: String,
+    /// Family.
+    pub family: KernelFamily,
+    /// Declared contract.
+    pub contract: Contract,
+    /// Largest absolute error measured over all demo scenes.
+    pub max_abs_err: f64,
+    /// Analytical bound (0 for bit-exact).
+    pub bound: f64,
+    /// Share of output samples equal to the reference.
+    pub bit_exact_share: f64,
+    /// Operations per output pixel, counted by the kernel itself.
+    pub ops_per_px: OpsPerPx,
+    /// Free-form named figures (error statistics, geometry, F1, ...).
+    pub metrics: BTreeMap<String, f64>,
+    /// Verdict.
+    pub pass: bool,
+    /// Human-readable notes: what was compared, and why a check failed.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub notes: Vec<String>,
+}
+
+impl KernelReport {
+    /// A row for a kernel judged on one set of error statistics: pass when
+    /// the contract holds (bit-exact: every sample exact; tolerance:
+    /// `max_abs <= bound`).
+    pub fn from_stats(
+        name: &str,
+        family: KernelFamily,
+        contract: Contract,
+        bound: f64,
+        stats: &ErrorStats,
+        ops_per_px: OpsPerPx,
+    ) -> Self {
+        let pass = match contract {
+            Contract::BitExact => stats.max_abs == 0.0,
+            Contract::Tolerance => stats.max_abs <= bound,
+        };
+        let mut metrics = BTreeMap::new();
+        stats.add_to(&mut metrics, "");
+        metrics.insert("samples".into(), stats.samples as f64);
+        let mut notes = Vec::new();
+        if !pass {
+            notes.push(format!(
+                "max |err| {} exceeds the {} bound {}",
+                stats.max_abs,
+                match contract {
+                    Contract::BitExact => "bit-exact",
+                    Contract::Tolerance => "tolerance",
+                },
+                bound
+            ));
+        }
+        Self {
+            name: name.to_string(),
+            family,
+            contract,
+            max_abs_err: stats.max_abs,
+            bound: if contract == Contract::BitExact {
+                0.0
+            } else {
+                bound
+            },
+            bit_exact_share: stats.exact_share,
+            ops_per_px,
+            metrics,
+            pass,
+            notes,
+        }
+    }
+
+    /// Marks the row failed with a reason (used for extra checks such as
+    /// streaming == whole frame).
+    pub fn fail(&mut self, why: impl Into<String>) {
+        self.pass = false;
+        self.notes.push(why.into());
+    }
+}

@@ -1,0 +1,557 @@
+//! Golden vectors: fixed inputs, parameters and expected outputs that any
+//! port of a kernel must reproduce bit for bit.
+//!
+//! # Format (fixsight golden, version 1)
+//!
+//! A folder (by default `golden/` at the top of the repository) holds
+//! `manifest.json` and one binary file per image.
+//!
+//! ```text
+//! {
+//!   "format": "fixsight-golden",
+//!   "version": 1,
+//!   "vectors": [
+//!     {
+//!       "id": "filter.binomial5.replicate.floor",     unique, [a-z0-9._-]
+//!       "comment": "what the case exercises",
+//!       "kernel": "filter.separable",                 <family>.<kernel>
+//!       "params": { ... },                            kernel-specific, see the family's module docs
+//!       "inputs":   [ <image>, ... ],
+//!       "expected": [ <image>, ... ]
+//!     }
+//!   ]
+//! }
+//! <image> = { "name": "src", "file": "<id>.src.bin", "elem": "u8" | "i16" | "u16" | "i32" | "u32",
+//!             "width": W, "height": H, "channels": C, "sha256": "<64 hex digits of the file>" }
+//! ```
+//!
+//! Each `.bin` file is the image's elements, row-major, rows packed
+//! (stride = `width * channels`), channels interleaved, each element
+//! little-endian; its length is exactly `width * height * channels *
+//! size_of(elem)`.
+//!
+//! `golden check` verifies the manifest, every digest and length, then
+//! recomputes every vector with the kernels and compares the bytes: any
+//! single-bit difference fails that vector. `golden write` refuses to
+//! replace an existing manifest unless told to overwrite.
+
+use crate::families;
+use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
+use std::fs;
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// Value of the `format` field.
+pub const FORMAT: &str = "fixsight-golden";
+/// Value of the `version` field this code reads and writes.
+pub const VERSION: u32 = 1;
+/// Manifest file name.
+pub const MANIFEST: &str = "manifest.json";
+
+/// Element type of an image file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Elem {
+    /// Unsigned 8-bit.
+    U8,
+    /// Signed 16-bit, little-endian.
+    I16,
+    /// Unsigned 16-bit, little-endian.
+    U16,
+    /// Signed 32-bit, little-endian.
+    I32,
+    /// Unsigned 32-bit, little-endian.
+    U32,
+}
+
+impl Elem {
+    /// Bytes per element.
+    pub fn size(self) -> usize {
+        match self {
+            Elem::U8 => 1,
+            Elem::I16 | Elem::U16 => 2,
+            Elem::I32 | Elem::U32 => 4,
+        }
+    }
+}
+
+/// An image held in memory as its file bytes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Blob {
+    /// Role in the vector (`src`, `dst`, `gx`, ...).
+    pub name: String,
+    /// Element type.
+    pub elem: Elem,
+    /// Width in pixels.
+    pub width: usize,
+    /// Height in rows.
+    pub height: usize,
+    /// Interleaved channels.
+    pub channels: usize,
+    /// Little-endian element bytes, row-major, packed.
+    pub bytes: Vec<u8>,
+}
+
+macro_rules! blob_conv {
+    ($from:ident, $to:ident, $t:ty, $elem:expr) => {
+        /// Builds a blob from elements (packed rows).
+        pub fn $from(
+            name: &str,
+            width: usize,
+            height: usize,
+            channels: usize,
+            data: &[$t],
+        ) -> Blob {
+            Blob {
+                name: name.to_string(),
+                elem: $elem,
+                width,
+                height,
+                channels,
+                bytes: data.iter().flat_map(|v| v.to_le_bytes()).collect(),
+            }
+        }
+
+        /// The elements, or an error naming the blob if its type differs.
+        pub fn $to(&self) -> Result<Vec<$t>, String> {
+            if self.elem != $elem {
+                return Err(format!(
+                    "image `{}` has element type {:?}, expected {:?}",
+                    self.name, self.elem, $elem
+                ));
+            }
+            const N: usize = std::mem::size_of::<$t>();
+            Ok(self
+                .bytes
+                .chunks_exact(N)
+                .map(|c| {
+                    let mut a = [0u8; N];
+                    a.copy_from_slice(c);
+                    <$t>::from_le_bytes(a)
+                })
+                .collect())
+        }
+    };
+}
+
+impl Blob {
+    blob_conv!(from_u8, to_u8, u8, Elem::U8);
+    blob_conv!(from_i16, to_i16, i16, Elem::I16);
+    blob_conv!(from_u16, to_u16, u16, Elem::U16);
+    blob_conv!(from_i32, to_i32, i32, Elem::I32);
+    blob_conv!(from_u32, to_u32, u32, Elem::U32);
+
+    /// Expected byte length from the header fields.
+    pub fn expected_len(&self) -> usize {
+        self.width * self.height * self.channels * self.elem.size()
+    }
+}
+
+/// One image entry of the manifest.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(deny_unknown_fields)]
+pub struct ImageEntry {
+    /// Role in the vector.
+    pub name: String,
+    /// File name inside the golden folder.
+    pub file: String,
+    /// Element type.
+    pub elem: Elem,
+    /// Width.
+    pub width: usize,
+    /// Height.
+    pub height: usize,
+    /// Channels.
+    pub channels: usize,
+    /// SHA-256 of the file, lower-case hex.
+    pub sha256: String,
+}
+
+/// One vector of the manifest.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct VectorEntry {
+    /// Unique id.
+    pub id: String,
+    /// What the case exercises.
+    pub comment: String,
+    /// `<family>.<kernel>`.
+    pub kernel: String,
+    /// Kernel parameters.
+    pub params: serde_json::Value,
+    /// Input images.
+    pub inputs: Vec<ImageEntry>,
+    /// Expected output images.
+    pub expected: Vec<ImageEntry>,
+}
+
+/// The manifest.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct Manifest {
+    /// Always [`FORMAT`].
+    pub format: String,
+    /// Always [`VERSION`].
+    pub version: u32,
+    /// The vectors.
+    pub vectors: Vec<VectorEntry>,
+}
+
+/// A vector with its images in memory (what a family produces and what
+/// `golden write` stores).
+#[derive(Debug, Clone)]
+pub struct GoldenCase {
+    /// Unique id.
+    pub id: String,
+    /// What the case exercises.
+    pub comment: String,
+    /// `<family>.<kernel>`.
+    pub kernel: String,
+    /// Kernel parameters.
+    pub params: serde_json::Value,
+    /// Inputs.
+    pub inputs: Vec<Blob>,
+    /// Expected outputs.
+    pub expected: Vec<Blob>,
+}
+
+/// Everything that can go wrong reading or writing golden vectors.
+#[derive(Debug, Error)]
+pub enum GoldenError {
+    /// A file could not be read or written.
+    #[error("cannot access {path}: {source}")]
+    Io {
+        /// The file.
+        path: PathBuf,
+        /// The OS error.
+        source: std::io::Error,
+    },
+    /// The manifest is not valid JSON of the expected shape.
+    #[error("{path} is not a valid golden manifest: {source}")]
+    Json {
+        /// The manifest.
+        path: PathBuf,
+        /// The parse error (with line and column).
+        source: serde_json::Error,
+    },
+    /// Wrong `format` field.
+    #[error("{path}: format is \"{found}\", expected \"{FORMAT}\"")]
+    Format {
+        /// The manifest.
+        path: PathBuf,
+        /// What it says.
+        found: String,
+    },
+    /// Unsupported version.
+    #[error("{path}: version {found} is not supported (this tool reads version {VERSION})")]
+    Version {
+        /// The manifest.
+        path: PathBuf,
+        /// What it says.
+        found: u32,
+    },
+    /// A structural problem in the manifest.
+    #[error("{path}: vector `{id}`: {reason}")]
+    Inconsistent {
+        /// The manifest.
+        path: PathBuf,
+        /// The vector.
+        id: String,
+        /// What is wrong.
+        reason: String,
+    },
+    /// `golden write` would replace existing vectors.
+    #[error("{path} already exists; pass --overwrite to replace the golden vectors")]
+    Exists {
+        /// The manifest that exists.
+        path: PathBuf,
+    },
+}
+
+/// Result of a `golden check`.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct GoldenSummary {
+    /// Vectors in the manifest.
+    pub vectors: usize,
+    /// Vectors reproduced bit for bit.
+    pub passed: usize,
+    /// `(id, reason)` of every failed vector.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub failures: Vec<(String, String)>,
+}
+
+/// Lower-case hex SHA-256 of some bytes.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> GoldenError + '_ {
+    move |source| GoldenError::Io {
+        path: path.to_path_buf(),
+        source,
+    }
+}
+
+/// Reads and validates the manifest's structure (not the image files).
+pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
+    let path = dir.join(MANIFEST);
+    let text = fs::read_to_string(&path).map_err(io_err(&path))?;
+    let m: Manifest = serde_json::from_str(&text).map_err(|source| GoldenError::Json {
+        path: path.clone(),
+        source,
+    })?;
+    if m.format != FORMAT {
+        return Err(GoldenError::Format {
+            path,
+            found: m.format,
+        });
+    }
+    if m.version != VERSION {
+        return Err(GoldenError::Version {
+            path,
+            found: m.version,
+        });
+    }
+    let mut seen = std::collections::BTreeSet::new();
+    for v in &m.vectors {
+        let bad = |reason: String| GoldenError::Inconsistent {
+            path: path.clone(),
+            id: v.id.clone(),
+            reason,
+        };
+        if !seen.insert(v.id.clone()) {
+            return Err(bad("id appears more than once".into()));
+        }
+        if v.id.is_empty()
+            || !v
+                .id
+                .chars()
+                .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || "._-".contains(c))
+        {
+            return Err(bad("id must be non-empty and use only a-z 0-9 . _ -".into()));
+        }
+        for img in v.inputs.iter().chain(&v.expected) {
+            if img.file.contains('/') || img.file.contains('\\') || img.file.starts_with('.') {
+                return Err(bad(format!(
+                    "file name `{}` must be a plain name inside the golden folder",
+                    img.file
+                )));
+            }
+            if img.width == 0 || img.height == 0 || img.channels == 0 {
+                return Err(bad(format!("image `{}` has a zero dimension", img.name)));
+            }
+            if img.sha256.len() != 64 || !img.sha256.chars().all(|c| c.is_ascii_hexdigit()) {
+                return Err(bad(format!(
+                    "image `{}`: sha256 must be 64 hex digits",
+                    img.name
+                )));
+            }
+        }
+        if v.expected.is_empty() {
+            return Err(bad("no expected output".into()));
+        }
+    }
+    Ok(m)
+}
+
+/// Loads one image of a vector, checking its length and digest.
+pub fn load_image(dir: &Path, img: &ImageEntry) -> Result<Blob, String> {
+    let path = dir.join(&img.file);
+    let bytes = fs::read(&path).map_err(|e| format!("cannot read {}: {e}", path.display()))?;
+    let blob = Blob {
+        name: img.name.clone(),
+        elem: img.elem,
+        width: img.width,
+        height: img.height,
+        channels: img.channels,
+        bytes,
+    };
+    if blob.bytes.len() != blob.expected_len() {
+        return Err(format!(
+            "{} holds {} bytes but {}x{}x{} {:?} needs {}",
+            img.file,
+            blob.bytes.len(),
+            img.width,
+            img.height,
+            img.channels,
+            img.elem,
+            blob.expected_len()
+        ));
+    }
+    let digest = sha256_hex(&blob.bytes);
+    if !digest.eq_ignore_ascii_case(&img.sha256) {
+        return Err(format!(
+            "{} has SHA-256 {digest}, manifest says {} (file changed or corrupted)",
+            img.file, img.sha256
+        ));
+    }
+    Ok(blob)
+}
+
+/// Checks one vector: loads its files and recomputes it with the kernels.
+fn check_vector(dir: &Path, v: &VectorEntry) -> Result<(), String> {
+    let inputs = v
+        .inputs
+        .iter()
+        .map(|i| load_image(dir, i))
+        .collect::<Result<Vec<_>, _>>()?;
+    let expected = v
+        .expected
+        .iter()
+        .map(|i| load_image(dir, i))
+        .collect::<Result<Vec<_>, _>>()?;
+    let family = families::family_of(&v.kernel)
+        .ok_or_else(|| format!("kernel `{}` belongs to no known family", v.kernel))?;
+    let got = (family.run_vector)(&v.kernel, &v.params, &inputs)?;
+    compare_outputs(&expected, &got)
+}
+
+/// Compares produced images with expected ones, bit for bit.
+pub fn compare_outputs(expected: &[Blob], got: &[Blob]) -> Result<(), String> {
+    if expected.len() != got.len() {
+        return Err(format!(
+            "kernel produced {} images, {} expected",
+            got.len(),
+            expected.len()
+        ));
+    }
+    for (e, g) in expected.iter().zip(got) {
+        if (e.elem, e.width, e.height, e.channels) != (g.elem, g.width, g.height, g.channels) {
+            return Err(format!(
+                "image `{}`: produced {:?} {}x{}x{}, expected {:?} {}x{}x{}",
+                e.name,
+                g.elem,
+                g.width,
+                g.height,
+                g.channels,
+                e.elem,
+                e.width,
+                e.height,
+                e.channels
+            ));
+        }
+        if let Some(pos) = e.bytes.iter().zip(&g.bytes).position(|(a, b)| a != b) {
+            let elem = pos / e.elem.size();
+            let px = elem / e.channels;
+            let differing = e
+                .bytes
+                .chunks(e.elem.size())
+                .zip(g.bytes.chunks(e.elem.size()))
+                .filter(|(a, b)| a != b)
+                .count();
+            return Err(format!(
+                "image `{}` differs at pixel ({}, {}) channel {}; {differing} element(s) differ",
+                e.name,
+                px % e.width,
+                px / e.width,
+                elem % e.channels
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Checks every vector in `dir`. Manifest-level problems are errors;
+/// per-vector problems are listed in the summary's `failures`.
+pub fn check(dir: &Path) -> Result<GoldenSummary, GoldenError> {
+    let m = read_manifest(dir)?;
+    let mut s = GoldenSummary {
+        vectors: m.vectors.len(),
+        ..Default::default()
+    };
+    for v in &m.vectors {
+        match check_vector(dir, v) {
+            Ok(()) => s.passed += 1,
+            Err(e) => s.failures.push((v.id.clone(), e)),
+        }
+    }
+    Ok(s)
+}
+
+/// Writes `cases` as a golden folder. Refuses to replace an existing
+/// manifest unless `overwrite`; when overwriting, `.bin` files no longer
+/// referenced are removed.
+pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Manifest, GoldenError> {
+    let mpath = dir.join(MANIFEST);
+    if mpath.exists() && !overwrite {
+        return Err(GoldenError::Exists { path: mpath });
+    }
+    fs::create_dir_all(dir).map_err(io_err(dir))?;
+    let mut vectors = Vec::new();
+    let mut files = std::collections::BTreeSet::new();
+    for c in cases {
+        let mut entry = |b: &Blob| -> Result<ImageEntry, GoldenError> {
+            let file = format!("{}.{}.bin", c.id, b.name);
+            let path = dir.join(&file);
+            fs::write(&path, &b.bytes).map_err(io_err(&path))?;
+            files.insert(file.clone());
+            Ok(ImageEntry {
+                name: b.name.clone(),
+                file,
+                elem: b.elem,
+                width: b.width,
+                height: b.height,
+                channels: b.channels,
+                sha256: sha256_hex(&b.bytes),
+            })
+        };
+        let inputs = c.inputs.iter().map(&mut entry).collect::<Result<_, _>>()?;
+        let expected = c
+            .expected
+            .iter()
+            .map(&mut entry)
+            .collect::<Result<_, _>>()?;
+        vectors.push(VectorEntry {
+            id: c.id.clone(),
+            comment: c.comment.clone(),
+            kernel: c.kernel.clone(),
+            params: c.params.clone(),
+            inputs,
+            expected,
+        });
+    }
+    let m = Manifest {
+        format: FORMAT.into(),
+        version: VERSION,
+        vectors,
+    };
+    let text = serde_json::to_string_pretty(&m).map_err(|source| GoldenError::Json {
+        path: mpath.clone(),
+        source,
+    })?;
+    fs::write(&mpath, text + "\n").map_err(io_err(&mpath))?;
+    if let Ok(rd) = fs::read_dir(dir) {
+        for e in rd.flatten() {
+            let name = e.file_name().to_string_lossy().to_string();
+            if name.ends_with(".bin") && !files.contains(&name) {
+                let _ = fs::remove_file(e.path());
+            }
+        }
+    }
+    // Validate what was written with the same reader `check` uses.
+    read_manifest(dir)
+}
+
+/// All golden cases of all families, from the given scenes.
+pub fn all_cases(scenes: &[crate::scene::Scene]) -> Vec<GoldenCase> {
+    families::FAMILIES
+        .iter()
+        .flat_map(|f| (f.golden_cases)(scenes))
+        .collect()
+}
+
+/// Crops a `w x h` window at `(x0, y0)` out of a scene (for small golden
+/// inputs that still look like the demo world).
+pub fn crop(scene: &crate::scene::Scene, x0: usize, y0: usize, w: usize, h: usize) -> Vec<u8> {
+    (y0..y0 + h)
+        .flat_map(|y| {
+            scene.gray[y * scene.width + x0..y * scene.width + x0 + w]
+                .iter()
+                .copied()
+        })
+        .collect()
+}

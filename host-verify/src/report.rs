@@ -1,0 +1,219 @@
+//! The verification report: every family's contract checks on the demo
+//! scenes, the golden-vector check, and (when `targets.json` is in the
+//! output folder) the on-target figures; printed as a table and written as
+//! `report.json`.
+//!
+//! `report.json`, schema 1 (fields are only ever added):
+//!
+//! ```text
+//! { "schema": 1, "pass": bool,
+//!   "golden": { "vectors": int, "passed": int, "failures"?: [[id, reason]] },
+//!   "scenes": [ { "name", "description", "seed", "width", "height", "image" } ],
+//!   "kernels": [ { "name", "family", "contract": "bit-exact" | "tolerance",
+//!                  "max_abs_err", "bound", "bit_exact_share",
+//!                  "ops_per_px": { "total", "weighted", "add_sub", "mul", "mac", "shift",
+//!                                  "logic", "load", "store", "branch", "table", "div" },
+//!                  "metrics": { name: number }, "pass", "notes"?: [str] } ],
+//!   "targets"?: <contents of targets.json> }
+//! ```
+
+use crate::contract::KernelReport;
+use crate::families::FAMILIES;
+use crate::golden::{self, GoldenSummary};
+use crate::scene::{demo_scenes, Scene};
+use anyhow::Context;
+use serde::Serialize;
+use std::path::Path;
+
+/// Current schema number of `report.json`.
+pub const SCHEMA: u32 = 1;
+
+/// Description of a demo scene in the report.
+#[derive(Debug, Clone, Serialize)]
+pub struct SceneInfo {
+    /// Name.
+    pub name: String,
+    /// What it shows.
+    pub description: String,
+    /// Seed.
+    pub seed: u64,
+    /// Width.
+    pub width: usize,
+    /// Height.
+    pub height: usize,
+    /// PNG written next to the report.
+    pub image: String,
+}
+
+/// The whole report.
+#[derive(Debug, Clone, Serialize)]
+pub struct Report {
+    /// Schema number.
+    pub schema: u32,
+    /// Overall verdict.
+    pub pass: bool,
+    /// Golden-vector summary.
+    pub golden: GoldenSummary,
+    /// Demo scenes used.
+    pub scenes: Vec<SceneInfo>,
+    /// One row per kernel.
+    pub kernels: Vec<KernelReport>,
+    /// On-target figures, when `targets.json` was found.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub targets: Option<serde_json::Value>,
+}
+
+/// Runs every family's checks on the given scenes.
+pub fn check_all(scenes: &[Scene]) -> Vec<KernelReport> {
+    FAMILIES.iter().flat_map(|f| (f.check)(scenes)).collect()
+}
+
+/// Builds the report: scenes, checks, golden vectors in `golden_dir`, and
+/// `targets.json` from `out_dir` if present. Writes scene PNGs and
+/// `report.json` into `out_dir`.
+pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
+    std::fs::create_dir_all(out_dir)
+        .with_context(|| format!("cannot create output folder {}", out_dir.display()))?;
+    let scenes = demo_scenes();
+    let mut infos = Vec::new();
+    for s in &scenes {
+        let file = format!("scene-{}.png", s.name);
+        image::GrayImage::from_raw(s.width as u32, s.height as u32, s.gray.clone())
+            .context("scene buffer has the scene's size")?
+            .save(out_dir.join(&file))
+            .with_context(|| format!("cannot write {}", out_dir.join(&file).display()))?;
+        infos.push(SceneInfo {
+            name: s.name.into(),
+            description: s.description.into(),
+            seed: s.seed,
+            width: s.width,
+            height: s.height,
+            image: file,
+        });
+    }
+    let kernels = check_all(&scenes);
+    let golden = match golden::check(golden_dir) {
+        Ok(g) => g,
+        Err(e) => GoldenSummary {
+            vectors: 0,
+            passed: 0,
+            failures: vec![("manifest".into(), e.to_string())],
+        },
+    };
+    let targets_path = out_dir.join("targets.json");
+    let targets = if targets_path.exists() {
+        let text = std::fs::read_to_string(&targets_path)
+            .with_context(|| format!("cannot read {}", targets_path.display()))?;
+        Some(
+            serde_json::from_str(&text)
+                .with_context(|| format!("{} is not valid JSON", targets_path.display()))?,
+        )
+    } else {
+        None
+    };
+    let pass = kernels.iter().all(|k| k.pass)
+        && golden.failures.is_empty()
+        && golden.vectors > 0
+        && golden.passed == golden.vectors;
+    let report = Report {
+        schema: SCHEMA,
+        pass,
+        golden,
+        scenes: infos,
+        kernels,
+        targets,
+    };
+    let path = out_dir.join("report.json");
+    std::fs::write(&path, serde_json::to_string_pretty(&report)? + "\n")
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    Ok(report)
+}
+
+fn fmt_num(v: f64) -> String {
+    if v == 0.0 {
+        "0".into()
+    } else if v.abs() >= 0.01 && v.abs() < 1e5 {
+        format!("{v:.3}")
+    } else {
+        format!("{v:.2e}")
+    }
+}
+
+/// The report as a text table.
+pub fn table(r: &Report) -> String {
+    let mut out = String::new();
+    let header = [
+        "kernel", "family", "contract", "max err", "bound", "exact %", "ops/px", "wops/px",
+        "verdict",
+    ];
+    let rows: Vec<[String; 9]> = r
+        .kernels
+        .iter()
+        .map(|k| {
+            [
+                k.name.clone(),
+                serde_json::to_value(k.family)
+                    .ok()
+                    .and_then(|v| v.as_str().map(str::to_string))
+                    .unwrap_or_default(),
+                match k.contract {
+                    crate::contract::Contract::BitExact => "bit-exact".into(),
+                    crate::contract::Contract::Tolerance => "tolerance".into(),
+                },
+                fmt_num(k.max_abs_err),
+                fmt_num(k.bound),
+                format!("{:.2}", 100.0 * k.bit_exact_share),
+                format!("{:.1}", k.ops_per_px.total),
+                format!("{:.1}", k.ops_per_px.weighted),
+                if k.pass { "PASS".into() } else { "FAIL".into() },
+            ]
+        })
+        .collect();
+    let mut widths = header.map(str::len);
+    for row in &rows {
+        for (w, c) in widths.iter_mut().zip(row) {
+            *w = (*w).max(c.len());
+        }
+    }
+    let line = |cells: &[String]| -> String {
+        cells
+            .iter()
+            .zip(widths)
+            .enumerate()
+            .map(|(i, (c, w))| {
+                if i < 3 {
+                    format!("{c:<w$}")
+                } else {
+                    format!("{c:>w$}")
+                }
+            })
+            .collect::<Vec<_>>()
+            .join("  ")
+    };
+    out += &line(&header.map(String::from));
+    out += "\n";
+    out += &widths
+        .iter()
+        .map(|&w| "-".repeat(w))
+        .collect::<Vec<_>>()
+        .join("  ");
+    out += "\n";
+    for row in &rows {
+        out += &line(row);
+        out += "\n";
+    }
+    for k in r.kernels.iter().filter(|k| !k.pass) {
+        for n in &k.notes {
+            out += &format!("  {}: {}\n", k.name, n);
+        }
+    }
+    out += &format!(
+        "golden vectors: {}/{} reproduced bit for bit\n",
+        r.golden.passed, r.golden.vectors
+    );
+    for (id, why) in &r.golden.failures {
+        out += &format!("  golden {id}: {why}\n");
+    }
+    out += &format!("overall: {}\n", if r.pass { "PASS" } else { "FAIL" });
+    out
+}
