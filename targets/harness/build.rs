@@ -1,0 +1,209 @@
+//! Turns the golden manifest into static Rust data and a dispatch table.
+//!
+//! Input: `$FIXSIGHT_GOLDEN_DIR/manifest.json` (default `../../golden`).
+//! Output: `$OUT_DIR/vectors.rs` with
+//! * `pub static VECTORS: &[Vector]` (files embedded with `include_bytes!`
+//!   after checking their length and SHA-256 against the manifest);
+//! * `pub fn dispatch(kernel: &str) -> Option<RunFn>` over the kernel ids
+//!   this build serves.
+//!
+//! A kernel id `<family>.<name>` is served when `src/kernels/<family>.rs`
+//! contains `pub fn <name>(`. `FIXSIGHT_ONLY_KERNELS` (comma-separated
+//! kernel ids, or `none`) restricts both the vectors and the dispatch table:
+//! the host builds one image per kernel id that way and takes the growth of
+//! `.text` over the `none` image as the kernel's code size.
+
+use sha2::{Digest, Sha256};
+use std::collections::BTreeSet;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+fn main() {
+    let here = PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap());
+    let golden = match std::env::var("FIXSIGHT_GOLDEN_DIR") {
+        Ok(d) => PathBuf::from(d),
+        Err(_) => here.join("../../golden"),
+    };
+    println!("cargo:rerun-if-env-changed=FIXSIGHT_GOLDEN_DIR");
+    println!("cargo:rerun-if-env-changed=FIXSIGHT_ONLY_KERNELS");
+    let manifest_path = golden.join("manifest.json");
+    println!("cargo:rerun-if-changed={}", manifest_path.display());
+    println!("cargo:rerun-if-changed={}", here.join("src/kernels").display());
+
+    let only: Option<BTreeSet<String>> = std::env::var("FIXSIGHT_ONLY_KERNELS").ok().map(|s| {
+        s.split(',')
+            .map(|k| k.trim().to_string())
+            .filter(|k| !k.is_empty() && k != "none")
+            .collect()
+    });
+    let wanted = |k: &str| only.as_ref().is_none_or(|o| o.contains(k));
+
+    let vectors: Vec<serde_json::Value> = match std::fs::read_to_string(&manifest_path) {
+        Ok(text) => {
+            let m: serde_json::Value = serde_json::from_str(&text)
+                .unwrap_or_else(|e| panic!("{}: not JSON: {e}", manifest_path.display()));
+            assert_eq!(m["format"], "fixsight-golden", "{}: wrong format field", manifest_path.display());
+            assert_eq!(m["version"], 1, "{}: unsupported version", manifest_path.display());
+            m["vectors"].as_array().cloned().unwrap_or_default()
+        }
+        Err(_) => {
+            println!(
+                "cargo:warning=no golden manifest at {}; building with zero vectors",
+                manifest_path.display()
+            );
+            Vec::new()
+        }
+    };
+
+    let mut out = String::new();
+    let mut kernels = BTreeSet::new();
+    out.push_str("/// Every golden vector in manifest order.\npub static VECTORS: &[Vector] = &[\n");
+    for v in &vectors {
+        let kernel = v["kernel"].as_str().expect("vector without kernel");
+        if !wanted(kernel) {
+            continue;
+        }
+        let id = v["id"].as_str().expect("vector without id");
+        let served = serves(&here, kernel);
+        if served {
+            kernels.insert(kernel.to_string());
+        }
+        let mut params = Vec::new();
+        flatten("", &v["params"], &mut params);
+        writeln!(out, "    Vector {{").unwrap();
+        writeln!(out, "        id: {id:?},\n        kernel: {kernel:?},").unwrap();
+        if served {
+            writeln!(out, "        run: Some({}),", path_of(kernel)).unwrap();
+        } else {
+            writeln!(out, "        run: None,").unwrap();
+        }
+        writeln!(out, "        params: &[{}],", params.join(", ")).unwrap();
+        for (field, key) in [("inputs", "inputs"), ("expected", "expected")] {
+            writeln!(out, "        {field}: &[").unwrap();
+            for img in v[key].as_array().expect("image list") {
+                out.push_str(&image(&golden, id, img));
+            }
+            writeln!(out, "        ],").unwrap();
+        }
+        writeln!(out, "    }},").unwrap();
+    }
+    out.push_str("];\n\n");
+
+    // Kernels named by the bench table are dispatched too, when served.
+    for k in bench_kernels(&here) {
+        if wanted(&k) && serves(&here, &k) {
+            kernels.insert(k);
+        }
+    }
+    out.push_str("/// Dispatch function of a kernel id, if this build serves it.\n");
+    out.push_str("pub fn dispatch(kernel: &str) -> Option<RunFn> {\n    match kernel {\n");
+    for k in &kernels {
+        writeln!(out, "        {k:?} => Some({}),", path_of(k)).unwrap();
+    }
+    out.push_str("        _ => None,\n    }\n}\n");
+
+    let dst = PathBuf::from(std::env::var("OUT_DIR").unwrap()).join("vectors.rs");
+    std::fs::write(dst, out).unwrap();
+}
+
+/// `crate::kernels::<family>::<name>` for `<family>.<name>`.
+fn path_of(kernel: &str) -> String {
+    let (fam, name) = kernel.split_once('.').expect("kernel id is <family>.<name>");
+    format!("crate::kernels::{fam}::{name}")
+}
+
+/// Whether `src/kernels/<family>.rs` defines `pub fn <name>(`.
+fn serves(here: &Path, kernel: &str) -> bool {
+    let Some((fam, name)) = kernel.split_once('.') else {
+        return false;
+    };
+    let ok_ident = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !ok_ident(fam) || !ok_ident(name) {
+        return false;
+    }
+    let file = here.join("src/kernels").join(format!("{fam}.rs"));
+    std::fs::read_to_string(file).is_ok_and(|s| s.contains(&format!("pub fn {name}(")))
+}
+
+/// Kernel ids named in `src/bench.rs` (lines `kernel: "<id>",`).
+fn bench_kernels(here: &Path) -> Vec<String> {
+    let p = here.join("src/bench.rs");
+    println!("cargo:rerun-if-changed={}", p.display());
+    let text = std::fs::read_to_string(p).unwrap_or_default();
+    text.lines()
+        .filter_map(|l| l.trim().strip_prefix("kernel: \""))
+        .filter_map(|l| l.split('"').next())
+        .map(str::to_string)
+        .collect()
+}
+
+/// Flattens JSON params into `("key", Param::...)` literals.
+fn flatten(prefix: &str, v: &serde_json::Value, out: &mut Vec<String>) {
+    use serde_json::Value as J;
+    let key = |k: &str| if prefix.is_empty() { k.to_string() } else { format!("{prefix}.{k}") };
+    match v {
+        J::Object(m) => {
+            for (k, x) in m {
+                let kk = key(k);
+                match x {
+                    J::Object(_) => flatten(&kk, x, out),
+                    _ => out.push(format!("({kk:?}, {})", param(x))),
+                }
+            }
+        }
+        J::Null => {}
+        other => out.push(format!("({prefix:?}, {})", param(other))),
+    }
+}
+
+fn param(x: &serde_json::Value) -> String {
+    use serde_json::Value as J;
+    match x {
+        J::Null => "crate::kernels::Param::Null".into(),
+        J::Bool(b) => format!("crate::kernels::Param::Bool({b})"),
+        J::Number(n) => match n.as_i64() {
+            Some(i) => format!("crate::kernels::Param::Int({i})"),
+            None => format!("crate::kernels::Param::Num({:?})", n.to_string()),
+        },
+        J::String(s) => format!("crate::kernels::Param::Str({s:?})"),
+        J::Array(a) => {
+            let ints: Option<Vec<String>> = a.iter().map(|e| e.as_i64().map(|i| i.to_string())).collect();
+            match ints {
+                Some(list) => format!("crate::kernels::Param::Ints(&[{}])", list.join(", ")),
+                // Arrays of other things: keep the JSON text.
+                None => format!("crate::kernels::Param::Num({:?})", x.to_string()),
+            }
+        }
+        J::Object(_) => unreachable!("objects are flattened"),
+    }
+}
+
+/// One `ImageSpec` literal, after checking the file against the manifest.
+fn image(golden: &Path, id: &str, img: &serde_json::Value) -> String {
+    let file = img["file"].as_str().expect("image without file");
+    let path = golden.join(file);
+    println!("cargo:rerun-if-changed={}", path.display());
+    let bytes = std::fs::read(&path).unwrap_or_else(|e| panic!("vector {id}: {}: {e}", path.display()));
+    let elem = img["elem"].as_str().expect("image without elem");
+    let size = match elem {
+        "u8" => 1,
+        "i16" | "u16" => 2,
+        "i32" | "u32" => 4,
+        other => panic!("vector {id}: unknown element type {other}"),
+    };
+    let dim = |k: &str| img[k].as_u64().unwrap_or_else(|| panic!("vector {id}: image without {k}")) as usize;
+    let (w, h, c) = (dim("width"), dim("height"), dim("channels"));
+    assert_eq!(bytes.len(), w * h * c * size, "vector {id}: {file} has the wrong length");
+    let digest: String = Sha256::digest(&bytes).iter().map(|b| format!("{b:02x}")).collect();
+    assert_eq!(
+        Some(digest.as_str()),
+        img["sha256"].as_str(),
+        "vector {id}: {file} does not match its sha256 in the manifest"
+    );
+    let variant = elem.to_uppercase();
+    format!(
+        "            ImageSpec {{ name: {:?}, elem: Elem::{variant}, width: {w}, height: {h}, channels: {c}, bytes: include_bytes!({:?}) }},\n",
+        img["name"].as_str().expect("image without name"),
+        path.canonicalize().unwrap().display().to_string(),
+    )
+}

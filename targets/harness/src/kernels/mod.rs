@@ -1,0 +1,369 @@
+//! Dispatch from golden-vector kernel ids to the fixsight API.
+//!
+//! A vector whose `kernel` is `<family>.<name>` runs `pub fn <name>` in
+//! `src/kernels/<family>.rs` (`build.rs` finds these functions by name; a
+//! kernel id without one is reported as UNSUPPORTED and fails the run).
+//! Adding a family: create `src/kernels/<family>.rs`, add `pub mod
+//! <family>;` below, write one function per kernel with the [`RunFn`]
+//! signature, and (optionally) a QVGA entry in `src/bench.rs`.
+
+pub mod filter;
+pub mod gradient;
+
+use crate::vectors::{Elem, ImageSpec};
+use core::fmt;
+
+/// Most input or output images one vector may have.
+pub const MAX_IMAGES: usize = 6;
+
+/// A dispatch function: parameters, input images, output images (already
+/// sized like the expected outputs), scratch arena.
+pub type RunFn = fn(&Params, &[Img<'_>], &mut [Img<'_>], &mut Arena<'_>) -> Result<(), Fail>;
+
+/// Why a vector did not pass.
+#[derive(Debug, Clone, Copy)]
+pub enum Fail {
+    /// The kernel returned an error.
+    Kernel(fixsight::Error),
+    /// The vector does not fit what the dispatch function expects.
+    Harness(&'static str),
+    /// A parameter is missing or has the wrong type.
+    Param(&'static str),
+    /// An output differs from the expected bytes.
+    Mismatch {
+        /// Output image name.
+        image: &'static str,
+        /// Index of the first differing element.
+        element: usize,
+    },
+}
+
+impl From<fixsight::Error> for Fail {
+    fn from(e: fixsight::Error) -> Self {
+        Fail::Kernel(e)
+    }
+}
+
+impl fmt::Display for Fail {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Fail::Kernel(e) => write!(f, "kernel error: {e}"),
+            Fail::Harness(s) => write!(f, "harness: {s}"),
+            Fail::Param(s) => write!(f, "parameter `{s}` missing or of the wrong type"),
+            Fail::Mismatch { image, element } => {
+                write!(f, "output `{image}` differs first at element {element}")
+            }
+        }
+    }
+}
+
+/// A parameter value from the manifest (nested objects are flattened to
+/// dotted keys by `build.rs`).
+#[derive(Debug, Clone, Copy)]
+pub enum Param {
+    /// An integer.
+    Int(i64),
+    /// A boolean.
+    Bool(bool),
+    /// A string.
+    Str(&'static str),
+    /// An array of integers.
+    Ints(&'static [i64]),
+    /// A non-integer number, as written in the manifest.
+    Num(&'static str),
+    /// `null`.
+    Null,
+}
+
+/// The parameters of one call.
+#[derive(Debug, Clone, Copy)]
+pub struct Params {
+    items: &'static [(&'static str, Param)],
+}
+
+impl Params {
+    /// No parameters.
+    pub const EMPTY: Params = Params { items: &[] };
+
+    /// Wraps a static list.
+    pub const fn new(items: &'static [(&'static str, Param)]) -> Self {
+        Self { items }
+    }
+
+    /// Looks a key up.
+    pub fn get(&self, key: &str) -> Option<Param> {
+        self.items.iter().find(|(k, _)| *k == key).map(|(_, v)| *v)
+    }
+
+    /// Integer parameter.
+    pub fn int(&self, key: &'static str) -> Result<i64, Fail> {
+        match self.get(key) {
+            Some(Param::Int(v)) => Ok(v),
+            _ => Err(Fail::Param(key)),
+        }
+    }
+
+    /// String parameter.
+    pub fn str(&self, key: &'static str) -> Result<&'static str, Fail> {
+        match self.get(key) {
+            Some(Param::Str(v)) => Ok(v),
+            _ => Err(Fail::Param(key)),
+        }
+    }
+
+    /// Integer-array parameter.
+    pub fn ints(&self, key: &'static str) -> Result<&'static [i64], Fail> {
+        match self.get(key) {
+            Some(Param::Ints(v)) => Ok(v),
+            _ => Err(Fail::Param(key)),
+        }
+    }
+
+    /// Boolean parameter.
+    pub fn bool(&self, key: &'static str) -> Result<bool, Fail> {
+        match self.get(key) {
+            Some(Param::Bool(v)) => Ok(v),
+            _ => Err(Fail::Param(key)),
+        }
+    }
+}
+
+/// Typed pixel storage of one image.
+#[derive(Debug)]
+pub enum Buf<'a> {
+    /// `u8` elements.
+    U8(&'a mut [u8]),
+    /// `i16` elements.
+    I16(&'a mut [i16]),
+    /// `u16` elements.
+    U16(&'a mut [u16]),
+    /// `i32` elements.
+    I32(&'a mut [i32]),
+    /// `u32` elements.
+    U32(&'a mut [u32]),
+}
+
+/// An image in the arena (rows packed: stride = width * channels).
+#[derive(Debug)]
+pub struct Img<'a> {
+    /// Elements.
+    pub buf: Buf<'a>,
+    /// Width in pixels.
+    pub width: usize,
+    /// Height in rows.
+    pub height: usize,
+    /// Interleaved channels.
+    pub channels: usize,
+}
+
+impl Default for Img<'_> {
+    fn default() -> Self {
+        Img {
+            buf: Buf::U8(&mut []),
+            width: 0,
+            height: 0,
+            channels: 0,
+        }
+    }
+}
+
+macro_rules! img_access {
+    ($view:ident, $view_mut:ident, $var:ident, $t:ty) => {
+        /// Read-only fixsight view, or an error if the element type differs.
+        pub fn $view(&self) -> Result<fixsight::ImageView<'_, $t>, Fail> {
+            match &self.buf {
+                Buf::$var(d) => Ok(fixsight::ImageView::interleaved(
+                    d,
+                    self.width,
+                    self.height,
+                    self.width * self.channels,
+                    self.channels,
+                )?),
+                _ => Err(Fail::Harness(concat!("image is not ", stringify!($t)))),
+            }
+        }
+
+        /// Writable fixsight view, or an error if the element type differs.
+        pub fn $view_mut(&mut self) -> Result<fixsight::ImageViewMut<'_, $t>, Fail> {
+            let (w, h, c) = (self.width, self.height, self.channels);
+            match &mut self.buf {
+                Buf::$var(d) => Ok(fixsight::ImageViewMut::interleaved(d, w, h, w * c, c)?),
+                _ => Err(Fail::Harness(concat!("image is not ", stringify!($t)))),
+            }
+        }
+    };
+}
+
+impl Img<'_> {
+    img_access!(u8, u8_mut, U8, u8);
+    img_access!(i16, i16_mut, I16, i16);
+    img_access!(u16, u16_mut, U16, u16);
+    img_access!(i32, i32_mut, I32, i32);
+    img_access!(u32, u32_mut, U32, u32);
+
+    /// Index of the first element whose little-endian bytes differ from
+    /// `want` (or 0 if the shape or element type differs).
+    pub fn first_difference(&self, want: &ImageSpec) -> Option<usize> {
+        if self.width != want.width || self.height != want.height || self.channels != want.channels
+        {
+            return Some(0);
+        }
+        macro_rules! cmp {
+            ($d:expr, $t:ty, $e:path) => {{
+                if want.elem != $e {
+                    return Some(0);
+                }
+                const N: usize = core::mem::size_of::<$t>();
+                if want.bytes.len() != $d.len() * N {
+                    return Some(0);
+                }
+                $d.iter()
+                    .zip(want.bytes.chunks_exact(N))
+                    .position(|(v, b)| v.to_le_bytes()[..] != b[..])
+            }};
+        }
+        match &self.buf {
+            Buf::U8(d) => cmp!(d, u8, Elem::U8),
+            Buf::I16(d) => cmp!(d, i16, Elem::I16),
+            Buf::U16(d) => cmp!(d, u16, Elem::U16),
+            Buf::I32(d) => cmp!(d, i32, Elem::I32),
+            Buf::U32(d) => cmp!(d, u32, Elem::U32),
+        }
+    }
+}
+
+/// Bump allocator over a word buffer.
+pub struct Arena<'a> {
+    rest: &'a mut [u32],
+}
+
+impl<'a> Arena<'a> {
+    /// Wraps a buffer.
+    pub fn new(words: &'a mut [u32]) -> Self {
+        Self { rest: words }
+    }
+
+    fn words(&mut self, bytes: usize) -> Option<&'a mut [u32]> {
+        let n = bytes.div_ceil(4);
+        if n > self.rest.len() {
+            return None;
+        }
+        let rest = core::mem::take(&mut self.rest);
+        let (head, tail) = rest.split_at_mut(n);
+        self.rest = tail;
+        Some(head)
+    }
+
+    /// `n` zeroed-or-not elements of `u8` (contents unspecified).
+    pub fn u8s(&mut self, n: usize) -> Option<&'a mut [u8]> {
+        let w = self.words(n)?;
+        // SAFETY: a u32 buffer of >= n bytes, exclusively borrowed for 'a.
+        Some(unsafe { core::slice::from_raw_parts_mut(w.as_mut_ptr().cast::<u8>(), n) })
+    }
+
+    /// `n` elements of `i16`.
+    pub fn i16s(&mut self, n: usize) -> Option<&'a mut [i16]> {
+        let w = self.words(2 * n)?;
+        // SAFETY: 4-aligned buffer of >= 2n bytes, exclusively borrowed.
+        Some(unsafe { core::slice::from_raw_parts_mut(w.as_mut_ptr().cast::<i16>(), n) })
+    }
+
+    /// `n` elements of `u16`.
+    pub fn u16s(&mut self, n: usize) -> Option<&'a mut [u16]> {
+        let w = self.words(2 * n)?;
+        // SAFETY: as above.
+        Some(unsafe { core::slice::from_raw_parts_mut(w.as_mut_ptr().cast::<u16>(), n) })
+    }
+
+    /// `n` elements of `i32`.
+    pub fn i32s(&mut self, n: usize) -> Option<&'a mut [i32]> {
+        let w = self.words(4 * n)?;
+        // SAFETY: as above.
+        Some(unsafe { core::slice::from_raw_parts_mut(w.as_mut_ptr().cast::<i32>(), n) })
+    }
+
+    /// `n` elements of `u32`.
+    pub fn u32s(&mut self, n: usize) -> Option<&'a mut [u32]> {
+        self.words(4 * n)
+    }
+
+    /// An image whose every byte is `fill`.
+    pub fn image_filled(
+        &mut self,
+        elem: Elem,
+        width: usize,
+        height: usize,
+        channels: usize,
+        fill: u8,
+    ) -> Option<Img<'a>> {
+        let n = width * height * channels;
+        let f16 = u16::from_le_bytes([fill; 2]);
+        let f32v = u32::from_le_bytes([fill; 4]);
+        let buf = match elem {
+            Elem::U8 => {
+                let d = self.u8s(n)?;
+                d.fill(fill);
+                Buf::U8(d)
+            }
+            Elem::I16 => {
+                let d = self.i16s(n)?;
+                d.fill(f16 as i16);
+                Buf::I16(d)
+            }
+            Elem::U16 => {
+                let d = self.u16s(n)?;
+                d.fill(f16);
+                Buf::U16(d)
+            }
+            Elem::I32 => {
+                let d = self.i32s(n)?;
+                d.fill(f32v as i32);
+                Buf::I32(d)
+            }
+            Elem::U32 => {
+                let d = self.u32s(n)?;
+                d.fill(f32v);
+                Buf::U32(d)
+            }
+        };
+        Some(Img {
+            buf,
+            width,
+            height,
+            channels,
+        })
+    }
+
+    /// An image holding the decoded elements of a golden file.
+    pub fn image_from(&mut self, spec: &ImageSpec) -> Option<Img<'a>> {
+        let mut img = self.image_filled(spec.elem, spec.width, spec.height, spec.channels, 0)?;
+        macro_rules! dec {
+            ($d:expr, $t:ty) => {{
+                const N: usize = core::mem::size_of::<$t>();
+                for (v, b) in $d.iter_mut().zip(spec.bytes.chunks_exact(N)) {
+                    let mut a = [0u8; N];
+                    a.copy_from_slice(b);
+                    *v = <$t>::from_le_bytes(a);
+                }
+            }};
+        }
+        match &mut img.buf {
+            Buf::U8(d) => dec!(d, u8),
+            Buf::I16(d) => dec!(d, i16),
+            Buf::U16(d) => dec!(d, u16),
+            Buf::I32(d) => dec!(d, i32),
+            Buf::U32(d) => dec!(d, u32),
+        }
+        Some(img)
+    }
+}
+
+/// The single input image `i`, or a harness error naming what is missing.
+pub fn input<'r, 'a>(ins: &'r [Img<'a>], i: usize) -> Result<&'r Img<'a>, Fail> {
+    ins.get(i).ok_or(Fail::Harness("too few input images"))
+}
+
+/// The output image `i`.
+pub fn output<'r, 'a>(outs: &'r mut [Img<'a>], i: usize) -> Result<&'r mut Img<'a>, Fail> {
+    outs.get_mut(i).ok_or(Fail::Harness("too few output images"))
+}
