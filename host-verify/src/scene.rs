@@ -77,7 +77,7 @@ pub const DEMO_SPECS: [SceneSpec; 3] = [
         description: "tape bending right under a lamp with a glare spot",
         seed: 0x5EED_0002,
         tape: (-0.2, 0.05, 0.06),
-        stop_line_m: Some(2.6),
+        stop_line_m: Some(1.3),
         wear: 0.2,
         light: 0.8,
         lamp: (1.0, 2.0),
@@ -89,10 +89,10 @@ pub const DEMO_SPECS: [SceneSpec; 3] = [
         description: "worn tape in a dim aisle, strong noise",
         seed: 0x5EED_0003,
         tape: (0.05, -0.04, -0.02),
-        stop_line_m: Some(1.8),
+        stop_line_m: Some(1.0),
         wear: 0.45,
-        light: 0.55,
-        lamp: (-1.5, 5.0),
+        light: 0.6,
+        lamp: (-0.8, 2.0),
         glare: None,
         noise_dn: 4.5,
     },
@@ -127,7 +127,7 @@ pub fn demo_camera(width: usize, height: usize) -> Camera {
 /// Camera height above the floor, metres.
 const CAMERA_HEIGHT_M: f64 = 0.45;
 /// Camera pitch below the horizon, degrees.
-const CAMERA_PITCH_DEG: f64 = 38.0;
+const CAMERA_PITCH_DEG: f64 = 30.0;
 /// Tape width, metres.
 const TAPE_WIDTH_M: f64 = 0.05;
 
@@ -160,9 +160,9 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
         };
         // Ray in world coordinates (camera x right, y down, z forward).
         let d = (x, -y * sp + cp, -y * cp - sp);
-        // Off-axis fall-off of the optics (cos^4 law, approximated by
-        // 1/(1+r^2)^2 in normalised coordinates).
-        let vignette = 1.0 / (1.0 + x * x + y * y).powi(2);
+        // Off-axis fall-off of the optics: a softened cos^4 law,
+        // 1/(1 + 0.3 r^2)^2 in normalised coordinates.
+        let vignette = 1.0 / (1.0 + 0.3 * (x * x + y * y)).powi(2);
         if d.2 >= -1e-3 {
             // Racking wall above the horizon.
             let stripes = if (x * 6.0).rem_euclid(1.0) < 0.15 {
@@ -210,7 +210,7 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
         let albedo = base * (1.0 - tape) + 228.0 * tape;
         let (lx, ly) = spec.lamp;
         let r2 = (px - lx).powi(2) + (py - ly).powi(2);
-        let light = spec.light * (0.55 + 0.6 * (-r2 / (2.0 * 1.6 * 1.6)).exp());
+        let light = spec.light * (0.8 + 0.5 * (-r2 / (2.0 * 1.6 * 1.6)).exp());
         albedo * light * vignette
     };
     let mut rng = ChaCha8Rng::seed_from_u64(spec.seed);
