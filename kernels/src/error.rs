@@ -118,6 +118,91 @@ pub enum Error {
         /// What happened.
         reason: &'static str,
     },
+
+    // --- remap (kernels/src/remap.rs) ---
+    /// A map or mesh coordinate lies outside the accepted source range
+    /// (one source width / height beyond each edge).
+    MapOutOfRange {
+        /// `"x"` or `"y"`.
+        axis: &'static str,
+        /// Index of the coordinate pair (dense map: `y * width + x`; mesh:
+        /// `row * cols + col`).
+        index: usize,
+        /// Raw fixed-point value found.
+        value: i32,
+        /// Smallest accepted raw value.
+        min: i32,
+        /// Largest accepted raw value.
+        max: i32,
+    },
+    /// The incremental mesh accumulator of one cell could exceed `i32`:
+    /// the control points of that cell are too far apart for this step and
+    /// number of fractional bits.
+    MeshStepOverflow {
+        /// Cell column.
+        col: usize,
+        /// Cell row.
+        row: usize,
+        /// Worst-case accumulator magnitude of the cell.
+        worst_case: u64,
+        /// Largest accepted magnitude (`i32::MAX`).
+        limit: u64,
+    },
+    /// A mesh grid does not have the control points needed to cover the
+    /// output image.
+    MeshCoverage {
+        /// Output width and height.
+        output: (usize, usize),
+        /// Grid columns and rows given.
+        grid: (usize, usize),
+        /// Grid columns and rows needed.
+        needed: (usize, usize),
+    },
+    /// A blob is not exactly the size its header announces (or shorter than
+    /// a header).
+    BlobSize {
+        /// Bytes expected.
+        expected: usize,
+        /// Bytes given.
+        got: usize,
+    },
+    /// A blob does not start with the expected magic bytes.
+    BlobMagic {
+        /// The four bytes found.
+        got: [u8; 4],
+    },
+    /// A blob has a format version this build does not read.
+    BlobVersion {
+        /// Version found.
+        got: u16,
+        /// Version this build reads.
+        supported: u16,
+    },
+    /// A blob header field is inconsistent or out of range.
+    BlobField {
+        /// Field name.
+        field: &'static str,
+        /// Value found.
+        got: u32,
+        /// What was expected, in words.
+        expected: &'static str,
+    },
+    /// The CRC-32 stored in a blob does not match its contents.
+    BlobCrc {
+        /// CRC stored in the header.
+        stored: u32,
+        /// CRC computed over the header and payload.
+        computed: u32,
+    },
+    /// A strip of output rows does not fit the output height.
+    RowRange {
+        /// First output row requested.
+        first_row: usize,
+        /// Rows requested.
+        rows: usize,
+        /// Output height.
+        height: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -170,6 +255,65 @@ impl fmt::Display for Error {
                 got,
             } => write!(f, "parameter `{name}` = {got} is out of range: expected {expected}"),
             Error::StreamOrder { reason } => write!(f, "stream misuse: {reason}"),
+            Error::MapOutOfRange {
+                axis,
+                index,
+                value,
+                min,
+                max,
+            } => write!(
+                f,
+                "map coordinate {axis} of pair {index} is {value} (raw), outside the accepted range {min}..={max}"
+            ),
+            Error::MeshStepOverflow {
+                col,
+                row,
+                worst_case,
+                limit,
+            } => write!(
+                f,
+                "mesh cell (col {col}, row {row}): worst-case step accumulator {worst_case} exceeds {limit}; \
+                 use a smaller step or fewer fractional bits"
+            ),
+            Error::MeshCoverage {
+                output,
+                grid,
+                needed,
+            } => write!(
+                f,
+                "mesh grid {}x{} does not cover a {}x{} output: {}x{} control points needed",
+                grid.0, grid.1, output.0, output.1, needed.0, needed.1
+            ),
+            Error::BlobSize { expected, got } => {
+                write!(f, "blob is {got} bytes but {expected} are expected")
+            }
+            Error::BlobMagic { got } => write!(
+                f,
+                "blob magic is {:02x} {:02x} {:02x} {:02x}, not a fixsight mesh table",
+                got[0], got[1], got[2], got[3]
+            ),
+            Error::BlobVersion { got, supported } => write!(
+                f,
+                "blob format version {got} is not supported (this build reads version {supported})"
+            ),
+            Error::BlobField {
+                field,
+                got,
+                expected,
+            } => write!(f, "blob header field `{field}` = {got}: expected {expected}"),
+            Error::BlobCrc { stored, computed } => write!(
+                f,
+                "blob CRC-32 mismatch: stored {stored:#010x}, computed {computed:#010x}"
+            ),
+            Error::RowRange {
+                first_row,
+                rows,
+                height,
+            } => write!(
+                f,
+                "output rows {first_row}..{} do not fit an output of height {height}",
+                first_row.saturating_add(rows)
+            ),
         }
     }
 }

@@ -16,6 +16,7 @@
 //! | [`ops`] | operation counting (feature `count-ops`) |
 //! | [`filter`] | separable FIR filters, presets (binomial, Sobel, Scharr), row streaming |
 //! | [`gradient`] | gradient magnitude (L1, approximate L2) and 4-sector direction |
+//! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
@@ -44,6 +45,7 @@ pub mod filter;
 pub mod gradient;
 pub mod image;
 pub mod ops;
+pub mod remap;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};

@@ -1,0 +1,407 @@
+//! Binary thinning to one-pixel-wide, 8-connected edges by the parallel
+//! method of Zhang and Suen (T. Y. Zhang, C. Y. Suen, 1984, "A fast parallel
+//! algorithm for thinning digital patterns", Communications of the ACM
+//! 27(3)).
+//!
+//! # Model (what a port must reproduce)
+//!
+//! A pixel is foreground when its byte is nonzero; outside the image reads
+//! as background. For a foreground pixel `P1` name its neighbours
+//! `P2 = N, P3 = NE, P4 = E, P5 = SE, P6 = S, P7 = SW, P8 = W, P9 = NW`
+//! (y down the rows) and let
+//!
+//! * `B` = number of foreground neighbours,
+//! * `A` = number of background-to-foreground transitions in the cyclic
+//!   sequence `P2, P3, ..., P9, P2`.
+//!
+//! One iteration is two sub-iterations. Each sub-iteration decides every
+//! pixel from the map as it was at the start of that sub-iteration (the
+//! parallel rule of the paper) and deletes (sets to 0) every foreground
+//! pixel with `2 <= B <= 6`, `A = 1` and
+//!
+//! * sub-iteration 1: `P2 P4 P6 = 0` and `P4 P6 P8 = 0`;
+//! * sub-iteration 2: `P2 P4 P8 = 0` and `P2 P6 P8 = 0`.
+//!
+//! Iterations repeat until one deletes nothing. Pixels that stay keep their
+//! byte value. The decision is a look-up in a 256-entry table indexed by the
+//! neighbour bits (bit 0 = `P2` ... bit 7 = `P9`), built at compile time
+//! from the rule above ([`deletable`]).
+//!
+//! Known property of the published method: an isolated 2x2 block is deleted
+//! entirely; lines one pixel wide (8-connected, no 4-connected corners) are
+//! left unchanged.
+//!
+//! # Memory and time
+//! A caller scratch of `3 * width` bytes holds the rows above, at and below
+//! the current row as they were at the start of the sub-iteration. Each
+//! iteration is two full-frame scans; the number of iterations is about half
+//! the thickest stroke plus one, and at most the foreground count plus one
+//! (every iteration but the last deletes a pixel).
+//!
+//! ```
+//! use fixsight::{thinning, ImageViewMut};
+//! // A 3-pixel-thick bar thins to its centre row.
+//! let mut map = [0u8; 9 * 5];
+//! for y in 1..4 { for x in 1..8 { map[y * 9 + x] = 255; } }
+//! let mut scratch = [0u8; 3 * 9];
+//! thinning::thin(&mut ImageViewMut::new(&mut map, 9, 5, 9)?, &mut scratch)?;
+//! // Only the centre row is left (the ends shorten, as in the paper's examples).
+//! assert_eq!(&map[2 * 9..3 * 9], &[0, 0, 255, 255, 255, 255, 0, 0, 0]);
+//! assert_eq!(map.iter().filter(|&&v| v != 0).count(), 4);
+//! # Ok::<(), fixsight::Error>(())
+//! ```
+
+use crate::error::{Error, Result};
+use crate::image::{check_single_channel, ImageViewMut};
+use crate::ops::{tally, Op};
+
+/// The Zhang-Suen deletion rule for neighbour bits `mask` (bit 0 = `P2` =
+/// N, then clockwise to bit 7 = `P9` = NW) in sub-iteration `sub` (1 or 2;
+/// any other value is treated as 2).
+///
+/// ```
+/// use fixsight::thinning::deletable;
+/// // End of a horizontal line (only W set): B = 1, kept.
+/// assert!(!deletable(1 << 6, 1));
+/// // Top edge of a thick bar (E, SE, S, SW, W set): kept by sub-iteration 1
+/// // (E, S and W all set), deleted by sub-iteration 2 (N clear).
+/// assert!(!deletable(0b0111_1100, 1));
+/// assert!(deletable(0b0111_1100, 2));
+/// ```
+pub const fn deletable(mask: u8, sub: u8) -> bool {
+    let b = mask.count_ones();
+    // A: 0 -> 1 transitions going P2, P3, ..., P9, P2.
+    let next = mask.rotate_right(1); // bit i = neighbour i + 1
+    let a = (!mask & next).count_ones();
+    let p2 = mask & 1 != 0;
+    let p4 = mask & (1 << 2) != 0;
+    let p6 = mask & (1 << 4) != 0;
+    let p8 = mask & (1 << 6) != 0;
+    let (c, d) = if sub == 1 {
+        (!(p2 && p4 && p6), !(p4 && p6 && p8))
+    } else {
+        (!(p2 && p4 && p8), !(p2 && p6 && p8))
+    };
+    b >= 2 && b <= 6 && a == 1 && c && d
+}
+
+const fn build_table() -> [u8; 256] {
+    let mut t = [0u8; 256];
+    let mut m = 0usize;
+    while m < 256 {
+        let mut v = 0u8;
+        if deletable(m as u8, 1) {
+            v |= 1;
+        }
+        if deletable(m as u8, 2) {
+            v |= 2;
+        }
+        t[m] = v;
+        m += 1;
+    }
+    t
+}
+
+/// Bit 0: deletable in sub-iteration 1; bit 1: in sub-iteration 2.
+static TABLE: [u8; 256] = build_table();
+
+/// What a thinning run did.
+///
+/// ```
+/// assert_eq!(fixsight::thinning::ThinStats::default().deleted, 0);
+/// ```
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ThinStats {
+    /// Full iterations run, including the last one that deleted nothing.
+    pub iterations: u32,
+    /// Pixels deleted.
+    pub deleted: u32,
+}
+
+#[inline(always)]
+fn fg(row: Option<&[u8]>, x: isize) -> u8 {
+    match row {
+        Some(r) if x >= 0 && (x as usize) < r.len() => (r[x as usize] != 0) as u8,
+        _ => 0,
+    }
+}
+
+/// One sub-iteration; returns the number of pixels deleted.
+fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u32 {
+    let (w, h) = (map.width(), map.height());
+    let slot = |y: usize| (y % 3) * w;
+    ring[..w].copy_from_slice(map.row_at_mut(0));
+    tally(Op::Load, w as u32);
+    tally(Op::Store, w as u32);
+    let mut deleted = 0u32;
+    for y in 0..h {
+        if y + 1 < h {
+            let s = slot(y + 1);
+            ring[s..s + w].copy_from_slice(map.row_at_mut(y + 1));
+            tally(Op::Load, w as u32);
+            tally(Op::Store, w as u32);
+        }
+        let ring_ro: &[u8] = ring;
+        let above = if y > 0 {
+            Some(&ring_ro[slot(y - 1)..slot(y - 1) + w])
+        } else {
+            None
+        };
+        let cur = &ring_ro[slot(y)..slot(y) + w];
+        let below = if y + 1 < h {
+            Some(&ring_ro[slot(y + 1)..slot(y + 1) + w])
+        } else {
+            None
+        };
+        let out = map.row_at_mut(y);
+        let mut fg_count = 0u32;
+        for x in 0..w {
+            if cur[x] == 0 {
+                continue;
+            }
+            fg_count += 1;
+            let xi = x as isize;
+            let mask = fg(above, xi)
+                | fg(above, xi + 1) << 1
+                | fg(Some(cur), xi + 1) << 2
+                | fg(below, xi + 1) << 3
+                | fg(below, xi) << 4
+                | fg(below, xi - 1) << 5
+                | fg(Some(cur), xi - 1) << 6
+                | fg(above, xi - 1) << 7;
+            if TABLE[mask as usize] & bit != 0 {
+                out[x] = 0;
+                deleted += 1;
+            }
+        }
+        // Every pixel: load, compare, branch. Foreground pixels: 8 loads,
+        // 8 compares, 7 shifts, 7 ors, a table look-up, a test and branch.
+        let n = w as u32;
+        tally(Op::Load, n + 8 * fg_count);
+        tally(Op::Logic, n + 17 * fg_count);
+        tally(Op::Shift, 7 * fg_count);
+        tally(Op::Table, fg_count);
+        tally(Op::Branch, 2 * n + fg_count);
+        tally(Op::Store, deleted);
+    }
+    deleted
+}
+
+/// Thins a binary map in place (see the module docs). `scratch` needs
+/// `3 * width` bytes.
+///
+/// Errors: short scratch -> [`Error::BufferTooShort`]; multi-channel map ->
+/// [`Error::UnsupportedChannels`].
+///
+/// ```
+/// use fixsight::{thinning, ImageViewMut};
+/// // A one-pixel diagonal line is left as it is.
+/// let mut map = [9u8, 0, 0,  0, 9, 0,  0, 0, 9];
+/// let mut scratch = [0u8; 9];
+/// let st = thinning::thin(&mut ImageViewMut::new(&mut map, 3, 3, 3)?, &mut scratch)?;
+/// assert_eq!(map, [9, 0, 0,  0, 9, 0,  0, 0, 9]);
+/// assert_eq!((st.iterations, st.deleted), (1, 0));
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn thin(map: &mut ImageViewMut<'_, u8>, scratch: &mut [u8]) -> Result<ThinStats> {
+    check_single_channel(&map.as_view())?;
+    let needed = 3 * map.width();
+    if scratch.len() < needed {
+        return Err(Error::BufferTooShort {
+            what: "thinning row scratch",
+            needed,
+            got: scratch.len(),
+        });
+    }
+    let ring = &mut scratch[..needed];
+    let mut st = ThinStats::default();
+    loop {
+        st.iterations += 1;
+        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
+        st.deleted += d;
+        tally(Op::Branch, 1);
+        if d == 0 {
+            return Ok(st);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    extern crate std;
+    use super::*;
+    use proptest::prelude::*;
+    use std::vec;
+    use std::vec::Vec;
+
+    fn run(map: &mut [u8], w: usize, h: usize) -> ThinStats {
+        let mut scratch = vec![0u8; 3 * w];
+        thin(&mut ImageViewMut::new(map, w, h, w).unwrap(), &mut scratch).unwrap()
+    }
+
+    /// 8-connected components of the foreground (heap flood fill).
+    fn components(map: &[u8], w: usize, h: usize) -> usize {
+        let mut seen = vec![false; w * h];
+        let mut n = 0;
+        for s in 0..w * h {
+            if map[s] == 0 || seen[s] {
+                continue;
+            }
+            n += 1;
+            seen[s] = true;
+            let mut todo = vec![s];
+            while let Some(p) = todo.pop() {
+                let (x, y) = ((p % w) as i32, (p / w) as i32);
+                for dy in -1..=1 {
+                    for dx in -1..=1 {
+                        let (nx, ny) = (x + dx, y + dy);
+                        if nx >= 0 && ny >= 0 && (nx as usize) < w && (ny as usize) < h {
+                            let q = ny as usize * w + nx as usize;
+                            if map[q] != 0 && !seen[q] {
+                                seen[q] = true;
+                                todo.push(q);
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        n
+    }
+
+    /// Bresenham line (8-connected, one pixel wide).
+    fn line(map: &mut [u8], w: usize, (x0, y0): (i32, i32), (x1, y1): (i32, i32)) {
+        let (dx, dy) = ((x1 - x0).abs(), -(y1 - y0).abs());
+        let (sx, sy) = (if x0 < x1 { 1 } else { -1 }, if y0 < y1 { 1 } else { -1 });
+        let (mut x, mut y, mut err) = (x0, y0, dx + dy);
+        loop {
+            map[y as usize * w + x as usize] = 255;
+            if (x, y) == (x1, y1) {
+                break;
+            }
+            let e2 = 2 * err;
+            if e2 >= dy {
+                err += dy;
+                x += sx;
+            }
+            if e2 <= dx {
+                err += dx;
+                y += sy;
+            }
+        }
+    }
+
+    #[test]
+    fn table_matches_the_rule_at_a_few_hand_checked_masks() {
+        // Zhang & Suen 1984: interior of a region (B = 8) is never deleted;
+        // an isolated pixel (B = 0) is never deleted; a pixel joining two
+        // parts (A = 2) is never deleted.
+        assert_eq!(TABLE[0xFF], 0);
+        assert_eq!(TABLE[0], 0);
+        assert_eq!(TABLE[(1 << 0) | (1 << 4)], 0); // N and S only: A = 2
+                                                   // SE corner of a block (N, NW, W set) is deleted in both.
+        assert_eq!(TABLE[(1 << 0) | (1 << 7) | (1 << 6)], 3);
+    }
+
+    #[test]
+    fn published_invariants_hold_on_fixed_shapes() {
+        // Zhang & Suen 1984, CACM 27(3): thinning leaves one-pixel lines,
+        // reduces a thick stroke to its medial line and keeps connectivity.
+        let (w, h) = (32usize, 24usize);
+        // Filled bar 5 px thick, rows 4..9: thins to row 6.
+        let mut m = vec![0u8; w * h];
+        for y in 4..9 {
+            for x in 3..29 {
+                m[y * w + x] = 255;
+            }
+        }
+        run(&mut m, w, h);
+        for y in 0..h {
+            for x in 0..w {
+                if m[y * w + x] != 0 {
+                    assert_eq!(y, 6, "({x},{y})");
+                }
+            }
+        }
+        assert!(m[6 * w + 6..6 * w + 26].iter().all(|&v| v != 0));
+        // Two filled rectangles and a ring: component count kept.
+        let mut m = vec![0u8; w * h];
+        for y in 2..8 {
+            for x in 2..12 {
+                m[y * w + x] = 255;
+            }
+        }
+        for y in 12..21 {
+            for x in 4..9 {
+                m[y * w + x] = 255;
+            }
+        }
+        for y in 3..20 {
+            for x in 16..29 {
+                let ring = !(6..17).contains(&y) || !(19..26).contains(&x);
+                if ring {
+                    m[y * w + x] = 255;
+                }
+            }
+        }
+        let before = components(&m, w, h);
+        assert_eq!(before, 3);
+        let st = run(&mut m, w, h);
+        assert_eq!(components(&m, w, h), before);
+        assert!(st.deleted > 0 && st.iterations > 1);
+    }
+
+    #[test]
+    fn short_scratch_is_a_typed_error() {
+        let mut m = [0u8; 8];
+        let mut s = [0u8; 11];
+        assert_eq!(
+            thin(&mut ImageViewMut::new(&mut m, 4, 2, 4).unwrap(), &mut s),
+            Err(Error::BufferTooShort {
+                what: "thinning row scratch",
+                needed: 12,
+                got: 11
+            })
+        );
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        #[test]
+        fn bresenham_lines_are_unchanged(
+            x0 in 0i32..24, y0 in 0i32..20, x1 in 0i32..24, y1 in 0i32..20
+        ) {
+            // Zhang & Suen 1984: a line already one pixel wide is a fixed point.
+            prop_assume!((x0, y0) != (x1, y1));
+            let (w, h) = (24usize, 20usize);
+            let mut m = vec![0u8; w * h];
+            line(&mut m, w, (x0, y0), (x1, y1));
+            let before = m.clone();
+            run(&mut m, w, h);
+            prop_assert_eq!(m, before);
+        }
+
+        #[test]
+        fn result_is_a_subset_and_a_fixed_point(
+            w in 1usize..16, h in 1usize..16, seed in any::<u64>()
+        ) {
+            let mut m: Vec<u8> = Vec::with_capacity(w * h);
+            let mut s = seed;
+            for _ in 0..w * h {
+                s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+                m.push(if (s >> 40) % 3 != 0 { 200 } else { 0 });
+            }
+            let orig = m.clone();
+            run(&mut m, w, h);
+            for (a, b) in m.iter().zip(&orig) {
+                prop_assert!(*a == 0 || a == b);
+            }
+            let once = m.clone();
+            let st = run(&mut m, w, h);
+            prop_assert_eq!(m, once);
+            prop_assert_eq!(st.deleted, 0);
+        }
+    }
+}
