@@ -35,7 +35,7 @@ pub mod sys;
 pub mod vectors;
 
 use core::fmt::{self, Write};
-use kernels::{Arena, Fail, Img, Params, RunFn};
+use kernels::{noop, Arena, Fail, Img, Params, RunFn};
 
 /// Opens an instruction-count window. The plugin snapshots its counter when
 /// this function's first instruction executes. Its body differs from
@@ -164,10 +164,6 @@ impl Write for Console {
 /// QVGA bench images (845 KiB) and the largest golden vector.
 const ARENA_WORDS: usize = 384 * 1024;
 static mut ARENA: [u32; ARENA_WORDS] = [0; ARENA_WORDS];
-
-fn noop(_: &Params, _: &[Img<'_>], _: &mut [Img<'_>], _: &mut Arena<'_>) -> Result<(), Fail> {
-    Ok(())
-}
 
 /// Runs every golden vector and every bench frame, prints the report and
 /// returns the exit status (0 = all vectors bit-exact).
