@@ -19,7 +19,7 @@
 //!   `(alpha + beta t) / sqrt(1 + t^2)` is largest at `t = beta/alpha`
 //!   (value `sqrt(alpha^2 + beta^2)`) and smallest at an end point, so the
 //!   bound is `max(sqrt(alpha^2+beta^2) - 1, 1 - alpha, 1 - (alpha+beta)/sqrt 2)
-//!   = 4.02 %` (see [`L2_APPROX_REL_ERR_PPM`]); rounding adds at most 0.5 LSB.
+//!   = 4.027 %` (see [`L2_APPROX_REL_ERR_PPM`]); rounding adds at most 0.5 LSB.
 //! * **Direction** ([`direction_sector`]): the gradient angle
 //!   `theta = atan2(gy, gx)` (x to the right, y down the rows), folded to
 //!   `[0, 180)` degrees, quantised to the nearest of 0, 45, 90, 135 degrees
@@ -57,7 +57,7 @@ pub const L2_BETA: i32 = 51;
 pub const L2_SHIFT: u32 = 7;
 /// Worst-case relative error of [`l2_approx`] before final rounding, in
 /// parts per million, rounded up: `sqrt(123^2 + 51^2) / 128 - 1`.
-pub const L2_APPROX_REL_ERR_PPM: u32 = 40_214;
+pub const L2_APPROX_REL_ERR_PPM: u32 = 40_266;
 
 /// `|gx| + |gy|` (saturating absolute values).
 ///
