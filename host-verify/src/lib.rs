@@ -16,6 +16,7 @@
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
+//! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
 
 pub mod contract;
@@ -28,6 +29,7 @@ pub mod metrics;
 pub mod opcount;
 pub mod report;
 pub mod scene;
+pub mod targets;
 
 use std::path::PathBuf;
 

@@ -28,6 +28,16 @@ enum Cmd {
         #[arg(long)]
         golden: Option<PathBuf>,
     },
+    /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
+    /// and RV32 cores (QEMU), write targets.json.
+    Targets {
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-report")]
+        out: PathBuf,
+        /// Golden-vector folder (default: ./golden, else the repository's).
+        #[arg(long)]
+        golden: Option<PathBuf>,
+    },
     /// Check or regenerate the golden vectors.
     Golden {
         #[command(subcommand)]
@@ -74,6 +84,7 @@ fn run(cmd: Cmd) -> anyhow::Result<bool> {
             println!("report written to {}", out.join("report.json").display());
             Ok(r.pass)
         }
+        Cmd::Targets { out, golden } => fixsight_verify::targets::run(&out, &golden_dir(golden)),
         Cmd::Golden {
             cmd: GoldenCmd::Check { dir },
         } => {

@@ -1,0 +1,593 @@
+//! On-target conformance under QEMU: `fixsight-verify targets`.
+//!
+//! Builds the firmware under `targets/` for each core, runs it in QEMU
+//! system emulation, and collects what it reports over semihosting:
+//!
+//! | name | triple | QEMU |
+//! |---|---|---|
+//! | `cortex-m4` | `thumbv7em-none-eabihf` | `qemu-system-arm -M mps2-an386` |
+//! | `cortex-m3` | `thumbv7m-none-eabi` | `qemu-system-arm -M mps2-an385` |
+//! | `cortex-m0` | `thumbv6m-none-eabi` | `qemu-system-arm -M mps2-an385` (ARMv6-M code on the M3 model) |
+//! | `rv32imc` | `riscv32imc-unknown-none-elf` | `qemu-system-riscv32 -M virt -bios none` |
+//!
+//! Per target it records:
+//!
+//! * **vectors / passed** — every golden vector run on the core, outputs
+//!   compared byte for byte on the target; the firmware's exit status (0
+//!   only if all are bit-exact) must agree with the lines it printed.
+//! * **instructions per output pixel** — exact guest instruction counts from
+//!   the TCG plugin `targets/qemu-plugin/insn_window.c`: every executed
+//!   instruction adds 1 to a counter, and the counter is read on entry to the
+//!   firmware's `fixsight_window_open` and `fixsight_window_close` markers.
+//!   The marker cost, measured with a no-op call through the same code path
+//!   (window 0), is subtracted. Figures come from the 320 x 240 bench stages
+//!   of `targets/harness/src/bench.rs`; a kernel id with no bench stage uses
+//!   its golden vectors (total instructions / total output pixels). Every
+//!   image is run twice and all counts must agree, or the run fails.
+//! * **code bytes** — growth of the `.text` section of an image in which
+//!   only this kernel id is dispatched (all other vectors go to a no-op),
+//!   over an image in which none is; see `targets/harness/build.rs`.
+//! * **stack bytes** — high-water mark by stack painting: 16 KiB below the
+//!   caller's stack pointer are filled with a pattern before each measured
+//!   call and scanned after it; the figure is the deepest byte written,
+//!   measured from the caller's stack pointer (it includes the dispatch
+//!   function's frame). Per kernel id, the maximum over all its calls.
+//!
+//! Results go to `targets.json` (schema 1) in the output folder, with the
+//! console and plugin logs of each run beside it under `targets-logs/`.
+
+use anyhow::{anyhow, bail, Context, Result};
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+/// File name of the results in the output folder.
+pub const TARGETS_JSON: &str = "targets.json";
+
+/// Every Rust target the firmware needs.
+pub const TRIPLES: [&str; 4] = [
+    "thumbv7em-none-eabihf",
+    "thumbv7m-none-eabi",
+    "thumbv6m-none-eabi",
+    "riscv32imc-unknown-none-elf",
+];
+
+/// Seconds one QEMU run may take before it is killed (a semihosting call
+/// without `-semihosting-config` hangs).
+const QEMU_TIMEOUT_S: &str = "120";
+/// Seconds one firmware build may take.
+const BUILD_TIMEOUT_S: &str = "900";
+
+/// One emulated core.
+#[derive(Debug, Clone, Copy)]
+pub struct Target {
+    /// Short name used in the table and JSON.
+    pub name: &'static str,
+    /// Rust target triple.
+    pub triple: &'static str,
+    /// Firmware crate folder under `targets/`.
+    pub krate: &'static str,
+    /// Binary name of that crate.
+    pub bin: &'static str,
+    /// QEMU executable.
+    pub qemu: &'static str,
+    /// Board and CPU arguments.
+    pub machine: &'static [&'static str],
+}
+
+/// The four cores.
+pub const TARGETS: [Target; 4] = [
+    Target {
+        name: "cortex-m4",
+        triple: "thumbv7em-none-eabihf",
+        krate: "cortex-m",
+        bin: "fixsight-fw-cortex-m",
+        qemu: "qemu-system-arm",
+        machine: &["-M", "mps2-an386", "-cpu", "cortex-m4"],
+    },
+    Target {
+        name: "cortex-m3",
+        triple: "thumbv7m-none-eabi",
+        krate: "cortex-m",
+        bin: "fixsight-fw-cortex-m",
+        qemu: "qemu-system-arm",
+        machine: &["-M", "mps2-an385", "-cpu", "cortex-m3"],
+    },
+    Target {
+        name: "cortex-m0",
+        triple: "thumbv6m-none-eabi",
+        krate: "cortex-m",
+        bin: "fixsight-fw-cortex-m",
+        qemu: "qemu-system-arm",
+        machine: &["-M", "mps2-an385", "-cpu", "cortex-m3"],
+    },
+    Target {
+        name: "rv32imc",
+        triple: "riscv32imc-unknown-none-elf",
+        krate: "riscv32",
+        bin: "fixsight-fw-riscv32",
+        qemu: "qemu-system-riscv32",
+        machine: &["-M", "virt", "-bios", "none"],
+    },
+];
+
+/// `targets.json`.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct TargetsReport {
+    /// Always 1.
+    pub schema: u32,
+    /// One entry per core.
+    pub targets: Vec<TargetResult>,
+}
+
+/// Results of one core.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct TargetResult {
+    /// Short name (`cortex-m4`, ...).
+    pub name: String,
+    /// Rust target triple.
+    pub triple: String,
+    /// Golden vectors run.
+    pub vectors: usize,
+    /// Golden vectors reproduced bit for bit.
+    pub passed: usize,
+    /// Per-kernel figures.
+    pub kernels: Vec<KernelFigures>,
+}
+
+/// Figures of one kernel (one bench stage, or one kernel id without one).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct KernelFigures {
+    /// `<kernel id>` or `<kernel id>/<bench stage>`.
+    pub name: String,
+    /// Guest instructions per output pixel.
+    pub instr_per_px: f64,
+    /// `.text` bytes the kernel id adds to the firmware.
+    pub code_bytes: u64,
+    /// Stack high-water mark of the kernel id, bytes.
+    pub stack_bytes: u64,
+}
+
+/// Reads `targets.json` from `dir` if present and well-formed (for the
+/// report).
+pub fn load_targets_json(dir: &Path) -> Option<TargetsReport> {
+    let text = std::fs::read_to_string(dir.join(TARGETS_JSON)).ok()?;
+    let r: TargetsReport = serde_json::from_str(&text).ok()?;
+    (r.schema == 1).then_some(r)
+}
+
+/// Repository root (the folder holding `targets/`).
+fn repo_root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..")
+}
+
+/// `llvm-size` / `llvm-nm` from the rustup `llvm-tools` component.
+fn llvm_tool(name: &str) -> Result<PathBuf> {
+    let out = Command::new("rustc").args(["--print", "sysroot"]).output()?;
+    let sysroot = String::from_utf8_lossy(&out.stdout).trim().to_string();
+    let out = Command::new("rustc").arg("-vV").output()?;
+    let host = String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .find_map(|l| l.strip_prefix("host: ").map(str::to_string))
+        .ok_or_else(|| anyhow!("cannot read the host triple from `rustc -vV`"))?;
+    let p = Path::new(&sysroot).join("lib/rustlib").join(host).join("bin").join(name);
+    if p.exists() {
+        Ok(p)
+    } else {
+        bail!("{} not found; install it with: rustup component add llvm-tools", p.display())
+    }
+}
+
+/// Checks every outside tool and prints the exact install command for what
+/// is missing.
+pub fn preflight() -> Result<()> {
+    let mut missing = Vec::new();
+    for q in ["qemu-system-arm", "qemu-system-riscv32"] {
+        if Command::new(q).arg("--version").output().is_err() {
+            missing.push(format!(
+                "{q} not found; install it with: apt-get install -y --no-install-recommends qemu-system-arm qemu-system-misc"
+            ));
+        }
+    }
+    if Command::new("timeout").arg("--version").output().is_err() {
+        missing.push("timeout not found; install it with: apt-get install -y coreutils".into());
+    }
+    if Command::new("gcc").arg("--version").output().is_err() {
+        missing.push("gcc not found (builds the QEMU plugin); install it with: apt-get install -y --no-install-recommends gcc libc6-dev".into());
+    }
+    match Command::new("rustup").args(["target", "list", "--installed"]).output() {
+        Ok(o) => {
+            let have = String::from_utf8_lossy(&o.stdout).to_string();
+            let absent: Vec<&str> = TRIPLES
+                .iter()
+                .copied()
+                .filter(|t| !have.lines().any(|l| l.trim() == *t))
+                .collect();
+            if !absent.is_empty() {
+                missing.push(format!(
+                    "rust targets missing: {}; install them with: rustup target add {}",
+                    absent.join(" "),
+                    TRIPLES.join(" ")
+                ));
+            }
+        }
+        Err(_) => missing.push("rustup not found; the firmware needs rustup-managed targets".into()),
+    }
+    for t in ["llvm-size", "llvm-nm"] {
+        if let Err(e) = llvm_tool(t) {
+            missing.push(e.to_string());
+        }
+    }
+    if missing.is_empty() {
+        Ok(())
+    } else {
+        bail!("on-target checks cannot run:\n  {}", missing.join("\n  "))
+    }
+}
+
+/// Compiles the instruction-window plugin into `targets/qemu-plugin/target/`.
+fn build_plugin(root: &Path) -> Result<PathBuf> {
+    let dir = root.join("targets/qemu-plugin");
+    let out = dir.join("target/libinsn_window.so");
+    std::fs::create_dir_all(out.parent().unwrap())?;
+    let st = Command::new("gcc")
+        .args(["-shared", "-fPIC", "-O2", "-Wall", "-Wextra", "-Werror", "-o"])
+        .arg(&out)
+        .arg(dir.join("insn_window.c"))
+        .status()
+        .context("running gcc")?;
+    if !st.success() {
+        bail!("building the QEMU plugin failed");
+    }
+    Ok(out)
+}
+
+/// Builds one firmware image; `only` selects a code-size image.
+fn build_firmware(root: &Path, t: &Target, golden: &Path, only: Option<&str>) -> Result<PathBuf> {
+    let dir = root.join("targets").join(t.krate);
+    let mut cmd = Command::new("timeout");
+    cmd.args([BUILD_TIMEOUT_S, "cargo", "build", "--release", "--quiet", "--target", t.triple])
+        .current_dir(&dir)
+        .env_remove("CARGO_TARGET_DIR")
+        .env_remove("RUSTFLAGS")
+        .env_remove("CARGO_BUILD_RUSTFLAGS")
+        .env_remove("CARGO_ENCODED_RUSTFLAGS")
+        .env("FIXSIGHT_GOLDEN_DIR", golden);
+    match only {
+        Some(k) => cmd.env("FIXSIGHT_ONLY_KERNELS", k),
+        None => cmd.env_remove("FIXSIGHT_ONLY_KERNELS"),
+    };
+    let st = cmd.status().context("running cargo")?;
+    if !st.success() {
+        bail!("building the {} firmware for {} failed ({st})", t.krate, t.triple);
+    }
+    Ok(dir.join("target").join(t.triple).join("release").join(t.bin))
+}
+
+/// Address of a symbol in an ELF file.
+fn symbol(elf: &Path, name: &str) -> Result<u64> {
+    let out = Command::new(llvm_tool("llvm-nm")?).arg(elf).output()?;
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .find_map(|l| {
+            let mut it = l.split_whitespace();
+            let (a, _, n) = (it.next()?, it.next()?, it.next()?);
+            (n == name).then(|| u64::from_str_radix(a, 16).ok()).flatten()
+        })
+        .ok_or_else(|| anyhow!("symbol {name} not found in {}", elf.display()))
+}
+
+/// Size of the `.text` section.
+fn text_bytes(elf: &Path) -> Result<u64> {
+    let out = Command::new(llvm_tool("llvm-size")?).arg("-A").arg(elf).output()?;
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .find_map(|l| {
+            let mut it = l.split_whitespace();
+            (it.next()? == ".text").then(|| it.next()?.parse().ok()).flatten()
+        })
+        .ok_or_else(|| anyhow!("no .text section in {}", elf.display()))
+}
+
+/// What one QEMU run printed.
+#[derive(Debug, Clone, Default)]
+pub struct Run {
+    /// Exit status of QEMU (the firmware's, through semihosting).
+    pub status: i32,
+    /// Console text.
+    pub console: String,
+    /// Plugin log text.
+    pub windows: Vec<u64>,
+    /// Plugin log verbatim.
+    pub plugin_log: String,
+}
+
+fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
+    let open = symbol(elf, "fixsight_window_open")?;
+    let close = symbol(elf, "fixsight_window_close")?;
+    let _ = std::fs::remove_file(log);
+    let out = Command::new("timeout")
+        .args([QEMU_TIMEOUT_S, t.qemu])
+        .args(t.machine)
+        .args(["-display", "none", "-monitor", "none", "-serial", "none"])
+        .args(["-semihosting-config", "enable=on,target=native", "-kernel"])
+        .arg(elf)
+        .arg("-plugin")
+        .arg(format!("{},open={open:#x},close={close:#x}", plugin.display()))
+        .args(["-d", "plugin", "-D"])
+        .arg(log)
+        .output()
+        .with_context(|| format!("running {}", t.qemu))?;
+    let status = out.status.code().unwrap_or(-1);
+    if status == 124 {
+        bail!("{} on {} timed out after {QEMU_TIMEOUT_S} s", t.qemu, t.name);
+    }
+    let plugin_log = std::fs::read_to_string(log).unwrap_or_default();
+    let mut windows = Vec::new();
+    for l in plugin_log.lines() {
+        let f: Vec<&str> = l.split_whitespace().collect();
+        match f.as_slice() {
+            ["window", i, "insns", n] if i.parse::<usize>().ok() == Some(windows.len()) => {
+                windows.push(n.parse()?)
+            }
+            _ => bail!("unexpected plugin output on {}: {l}", t.name),
+        }
+    }
+    Ok(Run {
+        status,
+        console: String::from_utf8_lossy(&out.stdout).into_owned(),
+        windows,
+        plugin_log,
+    })
+}
+
+/// One measured call as printed by the firmware.
+#[derive(Debug, Clone)]
+struct Call {
+    kernel: String,
+    /// Bench stage name, `None` for a golden vector.
+    stage: Option<String>,
+    status: String,
+    window: Option<usize>,
+    px: u64,
+    stack: u64,
+    line: String,
+}
+
+fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize))> {
+    let mut cal = None;
+    let mut calls = Vec::new();
+    let mut done = None;
+    for l in c.lines() {
+        let f: Vec<&str> = l.split_whitespace().collect();
+        let field = |k: &str| f.iter().position(|x| *x == k).and_then(|i| f.get(i + 1)).copied();
+        let num = |k: &str| field(k).and_then(|v| v.parse::<u64>().ok());
+        match f.first().copied() {
+            Some("cal") => cal = field("win").and_then(|v| v.parse().ok()),
+            Some("vec") if f.len() >= 5 => calls.push(Call {
+                kernel: f[3].into(),
+                stage: None,
+                status: f[4].into(),
+                window: field("win").and_then(|v| v.parse().ok()),
+                px: num("px").unwrap_or(0),
+                stack: num("stack").unwrap_or(0),
+                line: l.into(),
+            }),
+            Some("bench") if f.len() >= 4 => calls.push(Call {
+                kernel: f[2].into(),
+                stage: Some(f[1].into()),
+                status: f[3].into(),
+                window: field("win").and_then(|v| v.parse().ok()),
+                px: num("px").unwrap_or(0),
+                stack: num("stack").unwrap_or(0),
+                line: l.into(),
+            }),
+            Some("done") => {
+                done = Some((num("vectors").unwrap_or(0) as usize, num("passed").unwrap_or(0) as usize))
+            }
+            _ => {}
+        }
+    }
+    let cal = cal.ok_or_else(|| anyhow!("no calibration line in the console output"))?;
+    let done = done.ok_or_else(|| anyhow!("the firmware did not finish (no `done` line)"))?;
+    Ok((cal, calls, done))
+}
+
+/// Runs everything for one core.
+pub fn run_target(
+    root: &Path,
+    t: &Target,
+    golden: &Path,
+    plugin: &Path,
+    logs: &Path,
+) -> Result<(TargetResult, Vec<String>)> {
+    let mut problems = Vec::new();
+    let elf = build_firmware(root, t, golden, None)?;
+    let mut runs = Vec::new();
+    for k in 0..2 {
+        let log = logs.join(format!("{}.plugin.{k}.txt", t.name));
+        let r = run_qemu(t, &elf, plugin, &log)?;
+        std::fs::write(logs.join(format!("{}.console.{k}.txt", t.name)), &r.console)?;
+        runs.push(r);
+    }
+    let r = &runs[0];
+    if runs[1].windows != r.windows {
+        problems.push(format!("{}: instruction counts differ between two runs", t.name));
+    }
+    if runs[1].console != r.console {
+        problems.push(format!("{}: console output differs between two runs", t.name));
+    }
+    let (cal, calls, (vectors, passed)) =
+        parse_console(&r.console).with_context(|| format!("{}: status {}", t.name, r.status))?;
+    for c in &calls {
+        if c.status != "pass" {
+            problems.push(format!("{}: {}", t.name, c.line));
+        }
+    }
+    if (r.status == 0) != (passed == vectors) {
+        problems.push(format!(
+            "{}: exit status {} disagrees with {passed}/{vectors} vectors passed",
+            t.name, r.status
+        ));
+    }
+    if r.status != 0 {
+        problems.push(format!("{}: firmware exit status {}", t.name, r.status));
+    }
+    let base = *r.windows.get(cal).ok_or_else(|| anyhow!("{}: no calibration window", t.name))?;
+    let insns = |c: &Call| c.window.and_then(|w| r.windows.get(w)).map(|&n| n.saturating_sub(base));
+
+    // Kernel ids in first-seen order.
+    let mut ids: Vec<String> = Vec::new();
+    for c in &calls {
+        if !ids.contains(&c.kernel) {
+            ids.push(c.kernel.clone());
+        }
+    }
+    let mut stack: BTreeMap<&str, u64> = BTreeMap::new();
+    for c in &calls {
+        let e = stack.entry(c.kernel.as_str()).or_default();
+        *e = (*e).max(c.stack);
+    }
+    // Code size: one image per kernel id, and the baseline.
+    let mut code: BTreeMap<String, u64> = BTreeMap::new();
+    let none = text_bytes(&build_firmware(root, t, golden, Some("none"))?)?;
+    for id in &ids {
+        let with = text_bytes(&build_firmware(root, t, golden, Some(id))?)?;
+        code.insert(id.clone(), with.saturating_sub(none));
+    }
+
+    let mut kernels = Vec::new();
+    for id in &ids {
+        let stages: Vec<&Call> = calls.iter().filter(|c| &c.kernel == id && c.stage.is_some()).collect();
+        let per_px = |cs: &[&Call]| -> f64 {
+            let (n, px) = cs
+                .iter()
+                .filter_map(|c| Some((insns(c)?, c.px)))
+                .fold((0u64, 0u64), |a, b| (a.0 + b.0, a.1 + b.1));
+            if px == 0 {
+                0.0
+            } else {
+                n as f64 / px as f64
+            }
+        };
+        let fig = |name: String, ipx: f64| KernelFigures {
+            name,
+            instr_per_px: (ipx * 100.0).round() / 100.0,
+            code_bytes: code[id],
+            stack_bytes: stack[id.as_str()],
+        };
+        if stages.is_empty() {
+            let vs: Vec<&Call> = calls.iter().filter(|c| &c.kernel == id).collect();
+            kernels.push(fig(id.clone(), per_px(&vs)));
+        } else {
+            for s in stages {
+                kernels.push(fig(format!("{id}/{}", s.stage.as_deref().unwrap_or("")), per_px(&[s])));
+            }
+        }
+    }
+    Ok((
+        TargetResult {
+            name: t.name.into(),
+            triple: t.triple.into(),
+            vectors,
+            passed,
+            kernels,
+        },
+        problems,
+    ))
+}
+
+/// The per-target table.
+pub fn table(r: &TargetsReport) -> String {
+    let mut s = String::new();
+    for t in &r.targets {
+        s += &format!(
+            "{} ({}): {}/{} golden vectors bit-exact\n",
+            t.name, t.triple, t.passed, t.vectors
+        );
+        s += &format!("  {:<36} {:>10} {:>10} {:>8}\n", "kernel", "instr/px", "code B", "stack B");
+        for k in &t.kernels {
+            s += &format!(
+                "  {:<36} {:>10.2} {:>10} {:>8}\n",
+                k.name, k.instr_per_px, k.code_bytes, k.stack_bytes
+            );
+        }
+    }
+    s
+}
+
+/// `fixsight-verify targets`: preflight, build, run, write `targets.json`.
+/// Returns `Ok(false)` if any vector failed or any check disagreed.
+pub fn run(out: &Path, golden: &Path) -> Result<bool> {
+    preflight()?;
+    let root = repo_root();
+    let golden = std::fs::canonicalize(golden)
+        .with_context(|| format!("golden folder {}", golden.display()))?;
+    let logs = out.join("targets-logs");
+    std::fs::create_dir_all(&logs)?;
+    let plugin = build_plugin(&root)?;
+    let mut report = TargetsReport {
+        schema: 1,
+        targets: Vec::new(),
+    };
+    let mut problems = Vec::new();
+    for t in &TARGETS {
+        let (r, p) = run_target(&root, t, &golden, &plugin, &logs)?;
+        report.targets.push(r);
+        problems.extend(p);
+    }
+    print!("{}", table(&report));
+    std::fs::write(out.join(TARGETS_JSON), serde_json::to_string_pretty(&report)? + "\n")?;
+    println!("targets written to {}", out.join(TARGETS_JSON).display());
+    for p in &problems {
+        println!("FAIL {p}");
+    }
+    Ok(problems.is_empty())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn console_lines_parse() {
+        let c = "fixsight-target x\ncal win 0 stack 8\n\
+                 vec 0 a.b a.b pass win 1 px 4 stack 100\n\
+                 vec 1 a.c a.b FAIL win 2 px 4 stack 90 output `dst` differs first at element 3\n\
+                 bench s a.b pass win 3 px 76800 stack 120\ndone vectors 2 passed 1\n";
+        let (cal, calls, done) = parse_console(c).unwrap();
+        assert_eq!((cal, done), (0, (2, 1)));
+        assert_eq!(calls.len(), 3);
+        assert_eq!(calls[1].status, "FAIL");
+        assert_eq!(calls[2].stage.as_deref(), Some("s"));
+        assert_eq!(calls[2].px, 76800);
+        assert!(parse_console("cal win 0 stack 8\n").is_err());
+    }
+
+    #[test]
+    fn targets_json_round_trips() {
+        let dir = std::env::temp_dir().join(format!("fixsight-targets-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let r = TargetsReport {
+            schema: 1,
+            targets: vec![TargetResult {
+                name: "cortex-m4".into(),
+                triple: "thumbv7em-none-eabihf".into(),
+                vectors: 3,
+                passed: 3,
+                kernels: vec![KernelFigures {
+                    name: "gradient.direction".into(),
+                    instr_per_px: 39.87,
+                    code_bytes: 1552,
+                    stack_bytes: 252,
+                }],
+            }],
+        };
+        std::fs::write(dir.join(TARGETS_JSON), serde_json::to_string(&r).unwrap()).unwrap();
+        assert_eq!(load_targets_json(&dir), Some(r));
+        std::fs::write(dir.join(TARGETS_JSON), "{\"schema\": 2, \"targets\": []}").unwrap();
+        assert_eq!(load_targets_json(&dir), None);
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}
