@@ -1,0 +1,17 @@
+#!/usr/bin/env bash
+# On-target conformance (issue 5): every golden vector on emulated
+# Cortex-M0/M3/M4 and RV32IMC cores under QEMU. Called from .ci/run.
+# Fails if any target differs from golden by a single bit, if two runs give
+# different instruction counts, or if a tool is missing.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+start=$(date +%s)
+if ! command -v qemu-system-arm >/dev/null || ! command -v qemu-system-riscv32 >/dev/null; then
+  apt-get update
+  apt-get install -y --no-install-recommends qemu-system-arm qemu-system-misc
+fi
+command -v gcc >/dev/null || apt-get install -y --no-install-recommends gcc libc6-dev
+rustup target add thumbv6m-none-eabi thumbv7m-none-eabi thumbv7em-none-eabihf riscv32imc-unknown-none-elf
+rustup component add llvm-tools
+timeout 1200 cargo run -q -p fixsight-verify -- targets --out "${FIXSIGHT_REPORT:-fixsight-report}"
+echo "targets step took $(( $(date +%s) - start )) s"
