@@ -203,6 +203,24 @@ pub enum Error {
         /// Output height.
         height: usize,
     },
+    // --- edges (kernels/src/nms.rs, hysteresis.rs, thinning.rs) ---
+    /// The low hysteresis threshold is above the high one.
+    ThresholdOrder {
+        /// Low threshold given.
+        low: u16,
+        /// High threshold given.
+        high: u16,
+    },
+    /// An edge-code map holds a code other than 0 (none), 1 (weak) or
+    /// 2 (strong).
+    BadEdgeCode {
+        /// Column of the first bad code in raster order.
+        x: usize,
+        /// Row of that code.
+        y: usize,
+        /// The code found.
+        value: u8,
+    },
 }
 
 impl fmt::Display for Error {
@@ -313,6 +331,14 @@ impl fmt::Display for Error {
                 f,
                 "output rows {first_row}..{} do not fit an output of height {height}",
                 first_row.saturating_add(rows)
+            ),
+            Error::ThresholdOrder { low, high } => write!(
+                f,
+                "low threshold {low} is above high threshold {high}; need low <= high"
+            ),
+            Error::BadEdgeCode { x, y, value } => write!(
+                f,
+                "edge code {value} at ({x}, {y}) is not 0 (none), 1 (weak) or 2 (strong)"
             ),
         }
     }

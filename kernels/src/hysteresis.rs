@@ -80,7 +80,14 @@
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, Op};
-use fixed::types::U0F16;
+/// The `fixed` type of the low-threshold fraction, re-exported so callers
+/// need not depend on `fixed` themselves.
+///
+/// ```
+/// let f = fixsight::hysteresis::U0F16::from_bits(32768);
+/// assert_eq!(f, fixsight::hysteresis::U0F16::from_num(0.5));
+/// ```
+pub use fixed::types::U0F16;
 
 /// Code of a pixel that is not an edge (input and output).
 pub const NONE: u8 = 0;

@@ -16,6 +16,9 @@
 //! | [`ops`] | operation counting (feature `count-ops`) |
 //! | [`filter`] | separable FIR filters, presets (binomial, Sobel, Scharr), row streaming |
 //! | [`gradient`] | gradient magnitude (L1, approximate L2) and 4-sector direction |
+//! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
+//! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
+//! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
 //! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
 //!
 //! ```
@@ -43,9 +46,12 @@ pub mod arith;
 pub mod error;
 pub mod filter;
 pub mod gradient;
+pub mod hysteresis;
 pub mod image;
+pub mod nms;
 pub mod ops;
 pub mod remap;
+pub mod thinning;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};
