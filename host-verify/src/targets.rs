@@ -164,18 +164,27 @@ fn repo_root() -> PathBuf {
 
 /// `llvm-size` / `llvm-nm` from the rustup `llvm-tools` component.
 fn llvm_tool(name: &str) -> Result<PathBuf> {
-    let out = Command::new("rustc").args(["--print", "sysroot"]).output()?;
+    let out = Command::new("rustc")
+        .args(["--print", "sysroot"])
+        .output()?;
     let sysroot = String::from_utf8_lossy(&out.stdout).trim().to_string();
     let out = Command::new("rustc").arg("-vV").output()?;
     let host = String::from_utf8_lossy(&out.stdout)
         .lines()
         .find_map(|l| l.strip_prefix("host: ").map(str::to_string))
         .ok_or_else(|| anyhow!("cannot read the host triple from `rustc -vV`"))?;
-    let p = Path::new(&sysroot).join("lib/rustlib").join(host).join("bin").join(name);
+    let p = Path::new(&sysroot)
+        .join("lib/rustlib")
+        .join(host)
+        .join("bin")
+        .join(name);
     if p.exists() {
         Ok(p)
     } else {
-        bail!("{} not found; install it with: rustup component add llvm-tools", p.display())
+        bail!(
+            "{} not found; install it with: rustup component add llvm-tools",
+            p.display()
+        )
     }
 }
 
@@ -196,7 +205,10 @@ pub fn preflight() -> Result<()> {
     if Command::new("gcc").arg("--version").output().is_err() {
         missing.push("gcc not found (builds the QEMU plugin); install it with: apt-get install -y --no-install-recommends gcc libc6-dev".into());
     }
-    match Command::new("rustup").args(["target", "list", "--installed"]).output() {
+    match Command::new("rustup")
+        .args(["target", "list", "--installed"])
+        .output()
+    {
         Ok(o) => {
             let have = String::from_utf8_lossy(&o.stdout).to_string();
             let absent: Vec<&str> = TRIPLES
@@ -212,7 +224,9 @@ pub fn preflight() -> Result<()> {
                 ));
             }
         }
-        Err(_) => missing.push("rustup not found; the firmware needs rustup-managed targets".into()),
+        Err(_) => {
+            missing.push("rustup not found; the firmware needs rustup-managed targets".into())
+        }
     }
     for t in ["llvm-size", "llvm-nm"] {
         if let Err(e) = llvm_tool(t) {
@@ -232,7 +246,9 @@ fn build_plugin(root: &Path) -> Result<PathBuf> {
     let out = dir.join("target/libinsn_window.so");
     std::fs::create_dir_all(out.parent().unwrap())?;
     let st = Command::new("gcc")
-        .args(["-shared", "-fPIC", "-O2", "-Wall", "-Wextra", "-Werror", "-o"])
+        .args([
+            "-shared", "-fPIC", "-O2", "-Wall", "-Wextra", "-Werror", "-o",
+        ])
         .arg(&out)
         .arg(dir.join("insn_window.c"))
         .status()
@@ -247,22 +263,38 @@ fn build_plugin(root: &Path) -> Result<PathBuf> {
 fn build_firmware(root: &Path, t: &Target, golden: &Path, only: Option<&str>) -> Result<PathBuf> {
     let dir = root.join("targets").join(t.krate);
     let mut cmd = Command::new("timeout");
-    cmd.args([BUILD_TIMEOUT_S, "cargo", "build", "--release", "--quiet", "--target", t.triple])
-        .current_dir(&dir)
-        .env_remove("CARGO_TARGET_DIR")
-        .env_remove("RUSTFLAGS")
-        .env_remove("CARGO_BUILD_RUSTFLAGS")
-        .env_remove("CARGO_ENCODED_RUSTFLAGS")
-        .env("FIXSIGHT_GOLDEN_DIR", golden);
+    cmd.args([
+        BUILD_TIMEOUT_S,
+        "cargo",
+        "build",
+        "--release",
+        "--quiet",
+        "--target",
+        t.triple,
+    ])
+    .current_dir(&dir)
+    .env_remove("CARGO_TARGET_DIR")
+    .env_remove("RUSTFLAGS")
+    .env_remove("CARGO_BUILD_RUSTFLAGS")
+    .env_remove("CARGO_ENCODED_RUSTFLAGS")
+    .env("FIXSIGHT_GOLDEN_DIR", golden);
     match only {
         Some(k) => cmd.env("FIXSIGHT_ONLY_KERNELS", k),
         None => cmd.env_remove("FIXSIGHT_ONLY_KERNELS"),
     };
     let st = cmd.status().context("running cargo")?;
     if !st.success() {
-        bail!("building the {} firmware for {} failed ({st})", t.krate, t.triple);
+        bail!(
+            "building the {} firmware for {} failed ({st})",
+            t.krate,
+            t.triple
+        );
     }
-    Ok(dir.join("target").join(t.triple).join("release").join(t.bin))
+    Ok(dir
+        .join("target")
+        .join(t.triple)
+        .join("release")
+        .join(t.bin))
 }
 
 /// Address of a symbol in an ELF file.
@@ -273,19 +305,26 @@ fn symbol(elf: &Path, name: &str) -> Result<u64> {
         .find_map(|l| {
             let mut it = l.split_whitespace();
             let (a, _, n) = (it.next()?, it.next()?, it.next()?);
-            (n == name).then(|| u64::from_str_radix(a, 16).ok()).flatten()
+            (n == name)
+                .then(|| u64::from_str_radix(a, 16).ok())
+                .flatten()
         })
         .ok_or_else(|| anyhow!("symbol {name} not found in {}", elf.display()))
 }
 
 /// Size of the `.text` section.
 fn text_bytes(elf: &Path) -> Result<u64> {
-    let out = Command::new(llvm_tool("llvm-size")?).arg("-A").arg(elf).output()?;
+    let out = Command::new(llvm_tool("llvm-size")?)
+        .arg("-A")
+        .arg(elf)
+        .output()?;
     String::from_utf8_lossy(&out.stdout)
         .lines()
         .find_map(|l| {
             let mut it = l.split_whitespace();
-            (it.next()? == ".text").then(|| it.next()?.parse().ok()).flatten()
+            (it.next()? == ".text")
+                .then(|| it.next()?.parse().ok())
+                .flatten()
         })
         .ok_or_else(|| anyhow!("no .text section in {}", elf.display()))
 }
@@ -314,14 +353,21 @@ fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
         .args(["-semihosting-config", "enable=on,target=native", "-kernel"])
         .arg(elf)
         .arg("-plugin")
-        .arg(format!("{},open={open:#x},close={close:#x}", plugin.display()))
+        .arg(format!(
+            "{},open={open:#x},close={close:#x}",
+            plugin.display()
+        ))
         .args(["-d", "plugin", "-D"])
         .arg(log)
         .output()
         .with_context(|| format!("running {}", t.qemu))?;
     let status = out.status.code().unwrap_or(-1);
     if status == 124 {
-        bail!("{} on {} timed out after {QEMU_TIMEOUT_S} s", t.qemu, t.name);
+        bail!(
+            "{} on {} timed out after {QEMU_TIMEOUT_S} s",
+            t.qemu,
+            t.name
+        );
     }
     let plugin_log = std::fs::read_to_string(log).unwrap_or_default();
     let mut windows = Vec::new();
@@ -361,7 +407,12 @@ fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize))> {
     let mut done = None;
     for l in c.lines() {
         let f: Vec<&str> = l.split_whitespace().collect();
-        let field = |k: &str| f.iter().position(|x| *x == k).and_then(|i| f.get(i + 1)).copied();
+        let field = |k: &str| {
+            f.iter()
+                .position(|x| *x == k)
+                .and_then(|i| f.get(i + 1))
+                .copied()
+        };
         let num = |k: &str| field(k).and_then(|v| v.parse::<u64>().ok());
         match f.first().copied() {
             Some("cal") => cal = field("win").and_then(|v| v.parse().ok()),
@@ -384,7 +435,10 @@ fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize))> {
                 line: l.into(),
             }),
             Some("done") => {
-                done = Some((num("vectors").unwrap_or(0) as usize, num("passed").unwrap_or(0) as usize))
+                done = Some((
+                    num("vectors").unwrap_or(0) as usize,
+                    num("passed").unwrap_or(0) as usize,
+                ))
             }
             _ => {}
         }
@@ -413,10 +467,16 @@ pub fn run_target(
     }
     let r = &runs[0];
     if runs[1].windows != r.windows {
-        problems.push(format!("{}: instruction counts differ between two runs", t.name));
+        problems.push(format!(
+            "{}: instruction counts differ between two runs",
+            t.name
+        ));
     }
     if runs[1].console != r.console {
-        problems.push(format!("{}: console output differs between two runs", t.name));
+        problems.push(format!(
+            "{}: console output differs between two runs",
+            t.name
+        ));
     }
     let (cal, calls, (vectors, passed)) =
         parse_console(&r.console).with_context(|| format!("{}: status {}", t.name, r.status))?;
@@ -434,8 +494,15 @@ pub fn run_target(
     if r.status != 0 {
         problems.push(format!("{}: firmware exit status {}", t.name, r.status));
     }
-    let base = *r.windows.get(cal).ok_or_else(|| anyhow!("{}: no calibration window", t.name))?;
-    let insns = |c: &Call| c.window.and_then(|w| r.windows.get(w)).map(|&n| n.saturating_sub(base));
+    let base = *r
+        .windows
+        .get(cal)
+        .ok_or_else(|| anyhow!("{}: no calibration window", t.name))?;
+    let insns = |c: &Call| {
+        c.window
+            .and_then(|w| r.windows.get(w))
+            .map(|&n| n.saturating_sub(base))
+    };
 
     // Kernel ids in first-seen order.
     let mut ids: Vec<String> = Vec::new();
@@ -459,7 +526,10 @@ pub fn run_target(
 
     let mut kernels = Vec::new();
     for id in &ids {
-        let stages: Vec<&Call> = calls.iter().filter(|c| &c.kernel == id && c.stage.is_some()).collect();
+        let stages: Vec<&Call> = calls
+            .iter()
+            .filter(|c| &c.kernel == id && c.stage.is_some())
+            .collect();
         let per_px = |cs: &[&Call]| -> f64 {
             let (n, px) = cs
                 .iter()
@@ -482,7 +552,10 @@ pub fn run_target(
             kernels.push(fig(id.clone(), per_px(&vs)));
         } else {
             for s in stages {
-                kernels.push(fig(format!("{id}/{}", s.stage.as_deref().unwrap_or("")), per_px(&[s])));
+                kernels.push(fig(
+                    format!("{id}/{}", s.stage.as_deref().unwrap_or("")),
+                    per_px(&[s]),
+                ));
             }
         }
     }
@@ -506,7 +579,10 @@ pub fn table(r: &TargetsReport) -> String {
             "{} ({}): {}/{} golden vectors bit-exact\n",
             t.name, t.triple, t.passed, t.vectors
         );
-        s += &format!("  {:<36} {:>10} {:>10} {:>8}\n", "kernel", "instr/px", "code B", "stack B");
+        s += &format!(
+            "  {:<36} {:>10} {:>10} {:>8}\n",
+            "kernel", "instr/px", "code B", "stack B"
+        );
         for k in &t.kernels {
             s += &format!(
                 "  {:<36} {:>10.2} {:>10} {:>8}\n",
@@ -538,7 +614,10 @@ pub fn run(out: &Path, golden: &Path) -> Result<bool> {
         problems.extend(p);
     }
     print!("{}", table(&report));
-    std::fs::write(out.join(TARGETS_JSON), serde_json::to_string_pretty(&report)? + "\n")?;
+    std::fs::write(
+        out.join(TARGETS_JSON),
+        serde_json::to_string_pretty(&report)? + "\n",
+    )?;
     println!("targets written to {}", out.join(TARGETS_JSON).display());
     for p in &problems {
         println!("FAIL {p}");

@@ -7,5 +7,8 @@ fn main() {
     std::fs::copy("memory.x", out.join("memory.x")).unwrap();
     println!("cargo:rustc-link-search={}", out.display());
     println!("cargo:rerun-if-changed=memory.x");
-    println!("cargo:rustc-env=FIXSIGHT_TARGET={}", std::env::var("TARGET").unwrap());
+    println!(
+        "cargo:rustc-env=FIXSIGHT_TARGET={}",
+        std::env::var("TARGET").unwrap()
+    );
 }

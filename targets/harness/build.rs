@@ -33,7 +33,10 @@ fn main() {
     println!("cargo:rerun-if-env-changed=FIXSIGHT_ONLY_KERNELS");
     let manifest_path = golden.join("manifest.json");
     println!("cargo:rerun-if-changed={}", manifest_path.display());
-    println!("cargo:rerun-if-changed={}", here.join("src/kernels").display());
+    println!(
+        "cargo:rerun-if-changed={}",
+        here.join("src/kernels").display()
+    );
 
     let only: Option<BTreeSet<String>> = std::env::var("FIXSIGHT_ONLY_KERNELS").ok().map(|s| {
         s.split(',')
@@ -47,8 +50,18 @@ fn main() {
         Ok(text) => {
             let m: serde_json::Value = serde_json::from_str(&text)
                 .unwrap_or_else(|e| panic!("{}: not JSON: {e}", manifest_path.display()));
-            assert_eq!(m["format"], "fixsight-golden", "{}: wrong format field", manifest_path.display());
-            assert_eq!(m["version"], 1, "{}: unsupported version", manifest_path.display());
+            assert_eq!(
+                m["format"],
+                "fixsight-golden",
+                "{}: wrong format field",
+                manifest_path.display()
+            );
+            assert_eq!(
+                m["version"],
+                1,
+                "{}: unsupported version",
+                manifest_path.display()
+            );
             m["vectors"].as_array().cloned().unwrap_or_default()
         }
         Err(_) => {
@@ -62,7 +75,9 @@ fn main() {
 
     let mut out = String::new();
     let mut kernels = BTreeSet::new();
-    out.push_str("/// Every golden vector in manifest order.\npub static VECTORS: &[Vector] = &[\n");
+    out.push_str(
+        "/// Every golden vector in manifest order.\npub static VECTORS: &[Vector] = &[\n",
+    );
     for v in &vectors {
         let kernel = v["kernel"].as_str().expect("vector without kernel");
         let id = v["id"].as_str().expect("vector without id");
@@ -116,7 +131,9 @@ fn main() {
 
 /// `crate::kernels::<family>::<name>` for `<family>.<name>`.
 fn path_of(kernel: &str) -> String {
-    let (fam, name) = kernel.split_once('.').expect("kernel id is <family>.<name>");
+    let (fam, name) = kernel
+        .split_once('.')
+        .expect("kernel id is <family>.<name>");
     format!("crate::kernels::{fam}::{name}")
 }
 
@@ -125,7 +142,8 @@ fn serves(here: &Path, kernel: &str) -> bool {
     let Some((fam, name)) = kernel.split_once('.') else {
         return false;
     };
-    let ok_ident = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    let ok_ident =
+        |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
     if !ok_ident(fam) || !ok_ident(name) {
         return false;
     }
@@ -148,7 +166,13 @@ fn bench_kernels(here: &Path) -> Vec<String> {
 /// Flattens JSON params into `("key", Param::...)` literals.
 fn flatten(prefix: &str, v: &serde_json::Value, out: &mut Vec<String>) {
     use serde_json::Value as J;
-    let key = |k: &str| if prefix.is_empty() { k.to_string() } else { format!("{prefix}.{k}") };
+    let key = |k: &str| {
+        if prefix.is_empty() {
+            k.to_string()
+        } else {
+            format!("{prefix}.{k}")
+        }
+    };
     match v {
         J::Object(m) => {
             for (k, x) in m {
@@ -175,7 +199,10 @@ fn param(x: &serde_json::Value) -> String {
         },
         J::String(s) => format!("crate::kernels::Param::Str({s:?})"),
         J::Array(a) => {
-            let ints: Option<Vec<String>> = a.iter().map(|e| e.as_i64().map(|i| i.to_string())).collect();
+            let ints: Option<Vec<String>> = a
+                .iter()
+                .map(|e| e.as_i64().map(|i| i.to_string()))
+                .collect();
             match ints {
                 Some(list) => format!("crate::kernels::Param::Ints(&[{}])", list.join(", ")),
                 // Arrays of other things: keep the JSON text.
@@ -191,7 +218,8 @@ fn image(golden: &Path, id: &str, img: &serde_json::Value) -> String {
     let file = img["file"].as_str().expect("image without file");
     let path = golden.join(file);
     println!("cargo:rerun-if-changed={}", path.display());
-    let bytes = std::fs::read(&path).unwrap_or_else(|e| panic!("vector {id}: {}: {e}", path.display()));
+    let bytes =
+        std::fs::read(&path).unwrap_or_else(|e| panic!("vector {id}: {}: {e}", path.display()));
     let elem = img["elem"].as_str().expect("image without elem");
     let size = match elem {
         "u8" => 1,
@@ -199,10 +227,21 @@ fn image(golden: &Path, id: &str, img: &serde_json::Value) -> String {
         "i32" | "u32" => 4,
         other => panic!("vector {id}: unknown element type {other}"),
     };
-    let dim = |k: &str| img[k].as_u64().unwrap_or_else(|| panic!("vector {id}: image without {k}")) as usize;
+    let dim = |k: &str| {
+        img[k]
+            .as_u64()
+            .unwrap_or_else(|| panic!("vector {id}: image without {k}")) as usize
+    };
     let (w, h, c) = (dim("width"), dim("height"), dim("channels"));
-    assert_eq!(bytes.len(), w * h * c * size, "vector {id}: {file} has the wrong length");
-    let digest: String = Sha256::digest(&bytes).iter().map(|b| format!("{b:02x}")).collect();
+    assert_eq!(
+        bytes.len(),
+        w * h * c * size,
+        "vector {id}: {file} has the wrong length"
+    );
+    let digest: String = Sha256::digest(&bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect();
     assert_eq!(
         Some(digest.as_str()),
         img["sha256"].as_str(),

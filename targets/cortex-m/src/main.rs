@@ -16,8 +16,8 @@
 #![no_std]
 #![no_main]
 
-use cortex_m_rt::{entry, exception, ExceptionFrame};
 use core::fmt::Write;
+use cortex_m_rt::{entry, exception, ExceptionFrame};
 
 /// The triple this image was built for (set by `build.rs`).
 const ARCH: &str = env!("FIXSIGHT_TARGET");

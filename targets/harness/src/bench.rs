@@ -75,7 +75,13 @@ const fn sep(
 
 const BINOMIAL3: [(&str, Param); 6] = sep(&[1, 2, 1], 2, &[1, 2, 1], 2, "u8");
 const BINOMIAL5: [(&str, Param); 6] = sep(&[1, 4, 6, 4, 1], 4, &[1, 4, 6, 4, 1], 4, "u8");
-const BINOMIAL7: [(&str, Param); 6] = sep(&[1, 6, 15, 20, 15, 6, 1], 6, &[1, 6, 15, 20, 15, 6, 1], 6, "u8");
+const BINOMIAL7: [(&str, Param); 6] = sep(
+    &[1, 6, 15, 20, 15, 6, 1],
+    6,
+    &[1, 6, 15, 20, 15, 6, 1],
+    6,
+    "u8",
+);
 const SOBEL_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[1, 2, 1], 0, "i16");
 const SOBEL_Y: [(&str, Param); 6] = sep(&[1, 2, 1], 0, &[-1, 0, 1], 0, "i16");
 const SCHARR_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[3, 10, 3], 0, "i16");

@@ -107,7 +107,9 @@ pub fn measure(
         w
     };
     let result = if low == limit {
-        Err(Fail::Harness("stack use reached the bottom of the painted span"))
+        Err(Fail::Harness(
+            "stack use reached the bottom of the painted span",
+        ))
     } else {
         result
     };
@@ -242,13 +244,25 @@ fn run_vector<'a>(
     for (slot, spec) in ins.iter_mut().zip(v.inputs) {
         match arena.image_from(spec) {
             Some(img) => *slot = img,
-            None => return ("ERROR", unsupported(u32::MAX), Some(Fail::Harness("arena full"))),
+            None => {
+                return (
+                    "ERROR",
+                    unsupported(u32::MAX),
+                    Some(Fail::Harness("arena full")),
+                )
+            }
         }
     }
     for (slot, spec) in outs.iter_mut().zip(v.expected) {
         match arena.image_filled(spec.elem, spec.width, spec.height, spec.channels, 0xA5) {
             Some(img) => *slot = img,
-            None => return ("ERROR", unsupported(u32::MAX), Some(Fail::Harness("arena full"))),
+            None => {
+                return (
+                    "ERROR",
+                    unsupported(u32::MAX),
+                    Some(Fail::Harness("arena full")),
+                )
+            }
         }
     }
     let ins = &ins[..v.inputs.len()];
@@ -260,7 +274,14 @@ fn run_vector<'a>(
     }
     for (got, want) in outs.iter().zip(v.expected) {
         if let Some(at) = got.first_difference(want) {
-            return ("FAIL", m, Some(Fail::Mismatch { image: want.name, element: at }));
+            return (
+                "FAIL",
+                m,
+                Some(Fail::Mismatch {
+                    image: want.name,
+                    element: at,
+                }),
+            );
         }
     }
     ("pass", m, None)

@@ -21,7 +21,9 @@ fn border(p: &Params) -> Result<Border, Fail> {
         Some(super::Param::Str("replicate")) => Ok(Border::Replicate),
         _ => {
             let c = p.int("border.constant")?;
-            Ok(Border::Constant(u8::try_from(c).map_err(|_| Fail::Param("border.constant"))?))
+            Ok(Border::Constant(
+                u8::try_from(c).map_err(|_| Fail::Param("border.constant"))?,
+            ))
         }
     }
 }
@@ -47,7 +49,11 @@ pub fn separable(
     outs: &mut [Img<'_>],
     arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let f = SeparableFilter::new(taps(p, "h", "h_shift")?, taps(p, "v", "v_shift")?, border(p)?)?;
+    let f = SeparableFilter::new(
+        taps(p, "h", "h_shift")?,
+        taps(p, "v", "v_shift")?,
+        border(p)?,
+    )?;
     let src = input(ins, 0)?;
     let dst = output(outs, 0)?;
     match p.str("output")? {

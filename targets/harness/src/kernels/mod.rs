@@ -372,5 +372,6 @@ pub fn input<'r, 'a>(ins: &'r [Img<'a>], i: usize) -> Result<&'r Img<'a>, Fail> 
 
 /// The output image `i`.
 pub fn output<'r, 'a>(outs: &'r mut [Img<'a>], i: usize) -> Result<&'r mut Img<'a>, Fail> {
-    outs.get_mut(i).ok_or(Fail::Harness("too few output images"))
+    outs.get_mut(i)
+        .ok_or(Fail::Harness("too few output images"))
 }
