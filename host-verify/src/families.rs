@@ -21,7 +21,11 @@ pub struct Family {
 }
 
 /// Every family, in report order.
-pub const FAMILIES: &[Family] = &[crate::filter::FAMILY, crate::gradient::FAMILY];
+pub const FAMILIES: &[Family] = &[
+    crate::filter::FAMILY,
+    crate::gradient::FAMILY,
+    crate::remap::FAMILY,
+];
 
 /// The family a golden kernel id (`<family>.<kernel>`) belongs to.
 pub fn family_of(kernel: &str) -> Option<&'static Family> {

@@ -21,6 +21,7 @@
 //! 50 iterations or the Jacobian becomes singular (the model is not
 //! invertible there).
 
+use std::collections::BTreeMap;
 use thiserror::Error;
 
 /// Pinhole intrinsics in pixels.
@@ -64,6 +65,13 @@ pub enum LensModel {
         /// Tangential coefficient p2.
         p2: f64,
     },
+    /// Equidistant fisheye, `theta_d = theta (1 + k1 theta^2 + k2 theta^4)`.
+    Equidistant {
+        /// theta^3 coefficient.
+        k1: f64,
+        /// theta^5 coefficient.
+        k2: f64,
+    },
 }
 
 /// Failure of a lens computation.
@@ -81,7 +89,25 @@ pub enum LensError {
         /// Final residual.
         residual: f64,
     },
+    /// A fisheye inversion reached 90 degrees off axis or a fold of the
+    /// model (`d theta_d / d theta <= 0`).
+    #[error("fisheye inversion of distorted radius {rd:.6} left the invertible range (theta {theta:.6} rad)")]
+    OutOfField {
+        /// Distorted radius.
+        rd: f64,
+        /// Angle reached.
+        theta: f64,
+    },
+    /// No corrected-view focal length satisfies the fit-to-view rule.
+    #[error("fit-to-view failed: {reason}")]
+    NoFit {
+        /// Why.
+        reason: String,
+    },
 }
+
+/// Largest off-axis angle the fisheye inversion accepts, radians (89.9 deg).
+pub const MAX_THETA: f64 = 89.9 * std::f64::consts::PI / 180.0;
 
 /// Convergence tolerance of the inversion, normalised units.
 pub const UNDISTORT_TOL: f64 = 1e-12;
@@ -100,6 +126,25 @@ impl LensModel {
                     y * radial + p1 * (r2 + 2.0 * y * y) + 2.0 * p2 * x * y,
                 )
             }
+            LensModel::Equidistant { .. } => {
+                let r = x.hypot(y);
+                if r == 0.0 {
+                    return (x, y);
+                }
+                let s = self.theta_d(r.atan()) / r;
+                (x * s, y * s)
+            }
+        }
+    }
+
+    /// Fisheye radial law `theta_d(theta)` (identity for Brown-Conrady).
+    pub fn theta_d(&self, theta: f64) -> f64 {
+        match *self {
+            LensModel::Equidistant { k1, k2 } => {
+                let t2 = theta * theta;
+                theta * (1.0 + t2 * (k1 + t2 * k2))
+            }
+            LensModel::BrownConrady { .. } => theta,
         }
     }
 
@@ -124,12 +169,28 @@ impl LensModel {
                     ],
                 ]
             }
+            LensModel::Equidistant { .. } => {
+                // Central differences (step 1e-7); only used by tests and
+                // diagnostics, the fisheye inversion is one-dimensional.
+                let h = 1e-7;
+                let (a0, b0) = self.distort(x - h, y);
+                let (a1, b1) = self.distort(x + h, y);
+                let (c0, d0) = self.distort(x, y - h);
+                let (c1, d1) = self.distort(x, y + h);
+                [
+                    [(a1 - a0) / (2.0 * h), (c1 - c0) / (2.0 * h)],
+                    [(b1 - b0) / (2.0 * h), (d1 - d0) / (2.0 * h)],
+                ]
+            }
         }
     }
 
     /// Distorted -> undistorted normalised coordinates by Newton iteration
     /// (see the module docs for the stopping rule).
     pub fn undistort(&self, xd: f64, yd: f64) -> Result<(f64, f64), LensError> {
+        if let LensModel::Equidistant { k1, k2 } = *self {
+            return undistort_fisheye(k1, k2, xd, yd);
+        }
         let (mut x, mut y) = (xd, yd);
         let mut residual = f64::INFINITY;
         for _ in 0..UNDISTORT_MAX_ITER {
@@ -156,6 +217,39 @@ impl LensModel {
     }
 }
 
+/// Fisheye inversion (see the module docs).
+fn undistort_fisheye(k1: f64, k2: f64, xd: f64, yd: f64) -> Result<(f64, f64), LensError> {
+    let rd = xd.hypot(yd);
+    if rd == 0.0 {
+        return Ok((xd, yd));
+    }
+    let lens = LensModel::Equidistant { k1, k2 };
+    let mut theta = rd;
+    let mut residual = f64::INFINITY;
+    for _ in 0..UNDISTORT_MAX_ITER {
+        residual = lens.theta_d(theta) - rd;
+        if residual.abs() <= UNDISTORT_TOL {
+            if !(0.0..MAX_THETA).contains(&theta) {
+                return Err(LensError::OutOfField { rd, theta });
+            }
+            let r = theta.tan();
+            return Ok((xd * r / rd, yd * r / rd));
+        }
+        let t2 = theta * theta;
+        let slope = 1.0 + t2 * (3.0 * k1 + 5.0 * k2 * t2);
+        if slope <= 0.0 || !slope.is_finite() {
+            return Err(LensError::OutOfField { rd, theta });
+        }
+        theta -= residual / slope;
+    }
+    Err(LensError::NoConvergence {
+        xd,
+        yd,
+        iterations: UNDISTORT_MAX_ITER,
+        residual: residual.abs(),
+    })
+}
+
 /// A camera: intrinsics plus lens.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Camera {
@@ -163,6 +257,322 @@ pub struct Camera {
     pub intrinsics: Intrinsics,
     /// Distortion model.
     pub lens: LensModel,
+}
+
+impl Camera {
+    /// Source (sensor) pixel sampled by corrected-view pixel `(u, v)` of a
+    /// view with intrinsics `view` (see the module docs).
+    pub fn source_of(&self, view: &Intrinsics, u: f64, v: f64) -> (f64, f64) {
+        let (x, y) = view.normalise(u, v);
+        let (xd, yd) = self.lens.distort(x, y);
+        self.intrinsics.to_pixel(xd, yd)
+    }
+
+    /// `true` when every output pixel on the border of a `w x h` view
+    /// samples inside a `sw x sh` sensor.
+    fn border_inside(&self, view: &Intrinsics, w: usize, h: usize, sw: usize, sh: usize) -> bool {
+        let inside = |u: f64, v: f64| {
+            let (x, y) = self.source_of(view, u, v);
+            x >= 0.0 && y >= 0.0 && x <= sw as f64 - 1.0 && y <= sh as f64 - 1.0
+        };
+        let (wl, hl) = (w as f64 - 1.0, h as f64 - 1.0);
+        (0..w).all(|u| inside(u as f64, 0.0) && inside(u as f64, hl))
+            && (0..h).all(|v| inside(0.0, v as f64) && inside(wl, v as f64))
+    }
+
+    /// The fit-to-view intrinsics of a `w x h` corrected view for a
+    /// `sw x sh` sensor (rule in the module docs).
+    pub fn fit_view(
+        &self,
+        w: usize,
+        h: usize,
+        sw: usize,
+        sh: usize,
+    ) -> Result<Intrinsics, LensError> {
+        let view = |f: f64| Intrinsics {
+            fx: f,
+            fy: f,
+            cx: (w as f64 - 1.0) / 2.0,
+            cy: (h as f64 - 1.0) / 2.0,
+        };
+        let f0 = self.intrinsics.fx;
+        let (mut lo, mut hi) = (1e-3 * f0, 1e3 * f0);
+        if !self.border_inside(&view(hi), w, h, sw, sh) {
+            return Err(LensError::NoFit {
+                reason: format!(
+                    "even focal length {hi:.3} px leaves the view border outside the {sw}x{sh} sensor"
+                ),
+            });
+        }
+        if self.border_inside(&view(lo), w, h, sw, sh) {
+            return Err(LensError::NoFit {
+                reason: format!(
+                    "focal length {lo:.6} px still fits: the model does not bound the view"
+                ),
+            });
+        }
+        while (hi - lo) > 1e-10 * hi {
+            let mid = 0.5 * (lo + hi);
+            if self.border_inside(&view(mid), w, h, sw, sh) {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        let v = view(hi);
+        for y in 0..h {
+            for x in 0..w {
+                let (sx, sy) = self.source_of(&v, x as f64, y as f64);
+                let ok = sx.is_finite()
+                    && sy.is_finite()
+                    && sx >= 0.0
+                    && sy >= 0.0
+                    && sx <= sw as f64 - 1.0
+                    && sy <= sh as f64 - 1.0;
+                if !ok {
+                    return Err(LensError::NoFit {
+                        reason: format!(
+                            "output pixel ({x}, {y}) samples ({sx:.3}, {sy:.3}), outside the sensor, \
+                             although the border fits: the model folds over inside the view"
+                        ),
+                    });
+                }
+            }
+        }
+        Ok(v)
+    }
+}
+
+/// A lens description read from a `fixsight-lens 1` text file (format in
+/// `crate::remap`'s module docs).
+#[derive(Debug, Clone, PartialEq)]
+pub struct LensSpec {
+    /// Sensor camera.
+    pub camera: Camera,
+    /// Sensor width and height.
+    pub sensor: (usize, usize),
+    /// Corrected view width and height.
+    pub output: (usize, usize),
+    /// Corrected view intrinsics (given, or from the fit-to-view rule).
+    pub view: Intrinsics,
+    /// `true` when the view came from the fit-to-view rule.
+    pub fitted: bool,
+}
+
+/// A problem in a lens file: line (0 = whole file / missing) and key.
+#[derive(Debug, Error, PartialEq)]
+#[error("{}: `{key}`: {problem}", if *.line == 0 { "lens file".to_string() } else { format!("lens file line {}", .line) })]
+pub struct LensFileError {
+    /// 1-based line, or 0 for a missing key or a whole-file problem.
+    pub line: usize,
+    /// Key concerned.
+    pub key: String,
+    /// What is wrong.
+    pub problem: String,
+}
+
+impl LensSpec {
+    /// Parses and validates a lens file.
+    pub fn parse(text: &str) -> Result<Self, LensFileError> {
+        let err = |line: usize, key: &str, problem: String| LensFileError {
+            line,
+            key: key.to_string(),
+            problem,
+        };
+        const KEYS: [&str; 19] = [
+            "format",
+            "model",
+            "sensor_width",
+            "sensor_height",
+            "fx",
+            "fy",
+            "cx",
+            "cy",
+            "k1",
+            "k2",
+            "k3",
+            "p1",
+            "p2",
+            "out_width",
+            "out_height",
+            "view",
+            "view_fx",
+            "view_fy",
+            "view_cx",
+        ];
+        let mut kv: BTreeMap<String, (usize, String)> = BTreeMap::new();
+        for (i, raw) in text.lines().enumerate() {
+            let line = i + 1;
+            let body = raw.split('#').next().unwrap_or("").trim();
+            if body.is_empty() {
+                continue;
+            }
+            let Some((k, v)) = body.split_once('=') else {
+                return Err(err(line, body, "expected `key = value`".into()));
+            };
+            let (k, v) = (k.trim(), v.trim());
+            if !KEYS.contains(&k) && k != "view_cy" {
+                return Err(err(line, k, "unknown key".into()));
+            }
+            if v.is_empty() {
+                return Err(err(line, k, "empty value".into()));
+            }
+            if let Some((first, _)) = kv.get(k) {
+                return Err(err(
+                    line,
+                    k,
+                    format!("repeated (first given on line {first})"),
+                ));
+            }
+            kv.insert(k.to_string(), (line, v.to_string()));
+        }
+        let text_of = |k: &str| -> Result<(usize, String), LensFileError> {
+            kv.get(k)
+                .cloned()
+                .ok_or_else(|| err(0, k, "missing".into()))
+        };
+        let num = |k: &str, lo: f64, hi: f64| -> Result<f64, LensFileError> {
+            let (line, v) = text_of(k)?;
+            let x: f64 = v
+                .parse()
+                .map_err(|_| err(line, k, format!("`{v}` is not a number")))?;
+            if !x.is_finite() {
+                return Err(err(line, k, format!("`{v}` is not finite")));
+            }
+            if x < lo || x > hi {
+                return Err(err(line, k, format!("{x} is outside {lo}..={hi}")));
+            }
+            Ok(x)
+        };
+        let int = |k: &str| -> Result<usize, LensFileError> {
+            let (line, v) = text_of(k)?;
+            let x: usize = v
+                .parse()
+                .map_err(|_| err(line, k, format!("`{v}` is not a whole number")))?;
+            if !(1..=32767).contains(&x) {
+                return Err(err(line, k, format!("{x} is outside 1..=32767")));
+            }
+            Ok(x)
+        };
+        let (fl, fv) = text_of("format")?;
+        if fv != "fixsight-lens 1" {
+            return Err(err(
+                fl,
+                "format",
+                format!("`{fv}` is not `fixsight-lens 1`"),
+            ));
+        }
+        let sensor = (int("sensor_width")?, int("sensor_height")?);
+        let (sw, sh) = (sensor.0 as f64, sensor.1 as f64);
+        let intrinsics = Intrinsics {
+            fx: num("fx", f64::MIN_POSITIVE, 1e5)?,
+            fy: num("fy", f64::MIN_POSITIVE, 1e5)?,
+            cx: num("cx", -sw, 2.0 * sw)?,
+            cy: num("cy", -sh, 2.0 * sh)?,
+        };
+        let (ml, model) = text_of("model")?;
+        let allowed: &[&str] = match model.as_str() {
+            "brown" => &["k1", "k2", "k3", "p1", "p2"],
+            "fisheye" => &["k1", "k2"],
+            _ => {
+                return Err(err(
+                    ml,
+                    "model",
+                    format!("`{model}` is not `brown` or `fisheye`"),
+                ))
+            }
+        };
+        for k in ["k3", "p1", "p2"] {
+            if !allowed.contains(&k) {
+                if let Some((line, _)) = kv.get(k) {
+                    return Err(err(
+                        *line,
+                        k,
+                        format!("not a coefficient of model `{model}`"),
+                    ));
+                }
+            }
+        }
+        let lens = if model == "brown" {
+            LensModel::BrownConrady {
+                k1: num("k1", -10.0, 10.0)?,
+                k2: num("k2", -10.0, 10.0)?,
+                k3: num("k3", -10.0, 10.0)?,
+                p1: num("p1", -1.0, 1.0)?,
+                p2: num("p2", -1.0, 1.0)?,
+            }
+        } else {
+            LensModel::Equidistant {
+                k1: num("k1", -10.0, 10.0)?,
+                k2: num("k2", -10.0, 10.0)?,
+            }
+        };
+        let output = (
+            if kv.contains_key("out_width") {
+                int("out_width")?
+            } else {
+                sensor.0
+            },
+            if kv.contains_key("out_height") {
+                int("out_height")?
+            } else {
+                sensor.1
+            },
+        );
+        let camera = Camera { intrinsics, lens };
+        let mode = kv.get("view").map(|(l, v)| (*l, v.clone()));
+        let (view, fitted) = match mode.as_ref().map(|(l, v)| (*l, v.as_str())) {
+            None | Some((_, "fit")) => {
+                let v = camera
+                    .fit_view(output.0, output.1, sensor.0, sensor.1)
+                    .map_err(|e| err(mode.as_ref().map_or(0, |m| m.0), "view", e.to_string()))?;
+                (v, true)
+            }
+            Some((_, "manual")) => {
+                let (ow, oh) = (output.0 as f64, output.1 as f64);
+                (
+                    Intrinsics {
+                        fx: num("view_fx", f64::MIN_POSITIVE, 1e5)?,
+                        fy: num("view_fy", f64::MIN_POSITIVE, 1e5)?,
+                        cx: num("view_cx", -ow, 2.0 * ow)?,
+                        cy: num("view_cy", -oh, 2.0 * oh)?,
+                    },
+                    false,
+                )
+            }
+            Some((l, v)) => return Err(err(l, "view", format!("`{v}` is not `fit` or `manual`"))),
+        };
+        // The map must be finite and stay within one sensor size of the
+        // sensor everywhere (the kernel's accepted coordinate range).
+        for (x, y) in [
+            (0, 0),
+            (output.0 - 1, 0),
+            (0, output.1 - 1),
+            (output.0 - 1, output.1 - 1),
+        ] {
+            let (sx, sy) = camera.source_of(&view, x as f64, y as f64);
+            if !(sx.is_finite()
+                && sy.is_finite()
+                && sx >= -sw
+                && sx <= 2.0 * sw - 1.0
+                && sy >= -sh
+                && sy <= 2.0 * sh - 1.0)
+            {
+                return Err(err(
+                    0,
+                    "view",
+                    format!("output corner ({x}, {y}) maps to ({sx:.2}, {sy:.2}), more than one sensor size outside the sensor"),
+                ));
+            }
+        }
+        Ok(Self {
+            camera,
+            sensor,
+            output,
+            view,
+            fitted,
+        })
+    }
 }
 
 #[cfg(test)]
@@ -203,6 +613,98 @@ mod tests {
                 assert!((ux - x).abs() < 1e-10 && (uy - y).abs() < 1e-10);
             }
         }
+    }
+
+    /// Equidistant projection: a ray at 45 degrees off axis (x = 1, y = 0)
+    /// lands at r_d = theta = pi/4 in focal units. Hand computation from the
+    /// definition r_d = f * theta of the equidistant projection as classified
+    /// in Miyamoto (1964), "Fish Eye Lens", J. Opt. Soc. Am. 54(8) (from
+    /// memory); with k1 = 0.1: theta_d = pi/4 (1 + 0.1 (pi/4)^2)
+    /// = 0.785398 * 1.061685 = 0.833846.
+    #[test]
+    fn fisheye_on_hand_computed_points() {
+        let ideal = LensModel::Equidistant { k1: 0.0, k2: 0.0 };
+        let (xd, yd) = ideal.distort(1.0, 0.0);
+        assert!((xd - std::f64::consts::FRAC_PI_4).abs() < 1e-15 && yd == 0.0);
+        let l = LensModel::Equidistant { k1: 0.1, k2: 0.0 };
+        let (xd, _) = l.distort(1.0, 0.0);
+        assert!((xd - 0.833_846).abs() < 1e-6, "{xd}");
+        // (x, y) = (0.6, 0.8): r = 1 again, direction kept.
+        let (a, b) = l.distort(0.6, 0.8);
+        assert!((a - 0.6 * 0.833_846).abs() < 1e-6 && (b - 0.8 * 0.833_846).abs() < 1e-6);
+        // Inversion round trip, and the out-of-field check.
+        let (x, y) = l.undistort(a, b).unwrap();
+        assert!((x - 0.6).abs() < 1e-10 && (y - 0.8).abs() < 1e-10);
+        assert!(matches!(
+            ideal.undistort(1.6, 0.0),
+            Err(LensError::OutOfField { .. })
+        ));
+    }
+
+    #[test]
+    fn fit_to_view_keeps_every_pixel_inside() {
+        let cam = Camera {
+            intrinsics: Intrinsics {
+                fx: 130.0,
+                fy: 130.0,
+                cx: 79.5,
+                cy: 59.5,
+            },
+            lens: lens(),
+        };
+        let v = cam.fit_view(160, 120, 160, 120).unwrap();
+        // The fitted view is tight: 0.1 % wider and the border leaves the sensor.
+        let wider = Intrinsics {
+            fx: v.fx * 0.999,
+            fy: v.fy * 0.999,
+            ..v
+        };
+        assert!(!cam.border_inside(&wider, 160, 120, 160, 120));
+        assert!(cam.border_inside(&v, 160, 120, 160, 120));
+        let fish = Camera {
+            intrinsics: cam.intrinsics,
+            lens: LensModel::Equidistant { k1: -0.02, k2: 0.0 },
+        };
+        assert!(fish.fit_view(160, 120, 160, 120).is_ok());
+    }
+
+    const GOOD: &str = "format = fixsight-lens 1\nmodel = brown\nsensor_width = 160\nsensor_height = 120\n\
+        fx = 130\nfy = 130\ncx = 79.5\ncy = 59.5\nk1 = -0.28\nk2 = 0.09\nk3 = 0\np1 = 0.0005\np2 = -0.0003\n";
+
+    #[test]
+    fn lens_file_parses_and_names_line_and_key_of_each_problem() {
+        let s = LensSpec::parse(GOOD).unwrap();
+        assert!(s.fitted && s.output == (160, 120));
+        let bad = |from: &str, to: &str| LensSpec::parse(&GOOD.replace(from, to)).unwrap_err();
+        let e = bad("fy = 130\n", "");
+        assert_eq!(
+            (e.line, e.key.as_str(), e.problem.as_str()),
+            (0, "fy", "missing")
+        );
+        let e = bad("k2 = 0.09", "k2 = zero");
+        assert_eq!((e.line, e.key.as_str()), (10, "k2"));
+        assert!(e.to_string().contains("line 10") && e.problem.contains("not a number"));
+        let e = bad("cx = 79.5", "cx = inf");
+        assert_eq!((e.line, e.key.as_str()), (7, "cx"));
+        assert!(e.problem.contains("not finite"));
+        let e = bad("cx = 79.5", "cx = NaN");
+        assert!(e.problem.contains("not finite"));
+        let e = bad("p1 = 0.0005", "p1 = 3");
+        assert_eq!((e.line, e.key.as_str()), (12, "p1"));
+        assert!(e.problem.contains("outside"));
+        let e = bad("sensor_width = 160", "sensor_width = 0");
+        assert_eq!((e.line, e.key.as_str()), (3, "sensor_width"));
+        let e = bad("model = brown", "model = ultra");
+        assert_eq!(e.line, 2);
+        let e = LensSpec::parse(&format!("{GOOD}fx = 1\n")).unwrap_err();
+        assert!(e.problem.contains("repeated (first given on line 5)"));
+        let e = LensSpec::parse(&format!("{GOOD}zoom = 2\n")).unwrap_err();
+        assert_eq!((e.line, e.key.as_str()), (14, "zoom"));
+        // In range but absurd: principal point outside the sensor, so no
+        // view centred on it can fit.
+        let e = bad("cx = 79.5", "cx = -150");
+        assert_eq!(e.key, "view");
+        assert!(e.problem.contains("fit-to-view failed"), "{e}");
     }
 
     #[test]

@@ -27,8 +27,10 @@ pub mod gradient;
 pub mod lens;
 pub mod metrics;
 pub mod opcount;
+pub mod remap;
 pub mod report;
 pub mod scene;
+pub mod sweep_plot;
 pub mod targets;
 
 use std::path::PathBuf;

@@ -18,6 +18,31 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Cmd {
+    /// Build a lens-undistortion mesh table from a lens file and write it as
+    /// Rust source, C header and binary blob.
+    Mesh {
+        /// Lens file (`fixsight-lens 1` text format).
+        #[arg(long)]
+        lens: PathBuf,
+        /// Mesh step as log2 of output pixels (2..=6).
+        #[arg(long, default_value_t = 4)]
+        step_log2: u32,
+        /// Fractional bits of the coordinates (2..=10).
+        #[arg(long, default_value_t = 5)]
+        frac_bits: u32,
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-mesh")]
+        out: PathBuf,
+        /// File stem and identifier stem of the outputs.
+        #[arg(long, default_value = "lens_mesh")]
+        name: String,
+    },
+    /// Remap precision sweep (fractional bits x mesh step): table and plot.
+    Sweep {
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-sweep")]
+        out: PathBuf,
+    },
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
     Report {
@@ -78,6 +103,24 @@ fn main() -> ExitCode {
 
 fn run(cmd: Cmd) -> anyhow::Result<bool> {
     match cmd {
+        Cmd::Mesh {
+            lens,
+            step_log2,
+            frac_bits,
+            out,
+            name,
+        } => {
+            println!(
+                "{}",
+                fixsight_verify::remap::mesh_command(&lens, step_log2, frac_bits, &out, &name)?
+            );
+            Ok(true)
+        }
+        Cmd::Sweep { out } => {
+            print!("{}", fixsight_verify::remap::sweep_command(&out)?);
+            println!("written to {}", out.display());
+            Ok(true)
+        }
         Cmd::Report { out, golden } => {
             let r = report::run(&out, &golden_dir(golden))?;
             print!("{}", report::table(&r));
