@@ -238,6 +238,8 @@ mod sealed {
 pub trait FilterOutput: Copy + Default + sealed::Sealed {
     /// `saturate(round_shift(acc, shift))`.
     fn from_acc(acc: i32, shift: u32) -> Self;
+    /// `saturate(v)` of an already rounded value.
+    fn from_rounded(v: i32) -> Self;
 }
 
 impl FilterOutput for u8 {
@@ -245,12 +247,20 @@ impl FilterOutput for u8 {
     fn from_acc(acc: i32, shift: u32) -> Self {
         sat_u8(round_shift(acc, shift))
     }
+    #[inline(always)]
+    fn from_rounded(v: i32) -> Self {
+        sat_u8(v)
+    }
 }
 
 impl FilterOutput for i16 {
     #[inline(always)]
     fn from_acc(acc: i32, shift: u32) -> Self {
         sat_i16(round_shift(acc, shift))
+    }
+    #[inline(always)]
+    fn from_rounded(v: i32) -> Self {
+        sat_i16(v)
     }
 }
 
@@ -416,8 +426,11 @@ impl SeparableFilter {
                 }
             }
         }
-        acc.fill(bias);
-        tally(Op::Store, acc.len() as u32);
+        // Gather the contributing rows (clamped for replicate; rows outside
+        // a constant border are already in `bias`) and sum them in one pass.
+        let mut rows: [&[u8]; MAX_TAPS] = [&[]; MAX_TAPS];
+        let mut coefs = [0i32; MAX_TAPS];
+        let mut n = 0usize;
         for (j, &cv) in self.v.coefficients().iter().enumerate() {
             let yy = y as isize + j as isize - r;
             let src_row = if yy >= 0 && yy < height as isize {
@@ -431,16 +444,29 @@ impl SeparableFilter {
             if cv == 0 {
                 continue;
             }
-            let line = row(src_row);
-            for (a, &p) in acc.iter_mut().zip(line) {
-                *a += cv * p as i32;
-            }
-            let n = acc.len() as u32;
-            tally(Op::Load, 2 * n);
-            tally(Op::Mac, n);
-            tally(Op::Store, n);
-            tally(Op::Branch, n);
+            rows[n] = row(src_row);
+            coefs[n] = cv;
+            n += 1;
         }
+        match n {
+            0 => acc.fill(bias),
+            1 => column_sum::<1>(&rows, &coefs, bias, acc),
+            2 => column_sum::<2>(&rows, &coefs, bias, acc),
+            3 => column_sum::<3>(&rows, &coefs, bias, acc),
+            4 => column_sum::<4>(&rows, &coefs, bias, acc),
+            5 => column_sum::<5>(&rows, &coefs, bias, acc),
+            6 => column_sum::<6>(&rows, &coefs, bias, acc),
+            7 => column_sum::<7>(&rows, &coefs, bias, acc),
+            8 => column_sum::<8>(&rows, &coefs, bias, acc),
+            _ => column_sum::<9>(&rows, &coefs, bias, acc),
+        }
+        // Per pixel: n loads + n MACs (the first is a multiply-add onto the
+        // bias), one store, one loop branch.
+        let w = acc.len() as u32;
+        tally(Op::Load, w * n as u32);
+        tally(Op::Mac, w * n as u32);
+        tally(Op::Store, w);
+        tally(Op::Branch, w);
     }
 
     /// Horizontal pass: `out[x] = from_acc(sum_i h[i] * A(x+i-rx), s)` where
@@ -506,16 +532,40 @@ impl SeparableFilter {
 /// takes the window `acc[i .. i + N]`.
 #[inline(always)]
 fn dot_row<T: FilterOutput, const N: usize>(taps: &[i32], acc: &[i32], out: &mut [T], s: u32) {
+    let n = out.len();
     let mut k = [0i32; N];
     for (d, &t) in k.iter_mut().zip(taps) {
         *d = t;
     }
-    for (o, win) in out.iter_mut().zip(acc.windows(N)) {
+    // One slice per tap, all of length n, so the loop indexes without
+    // bounds checks and vectorises.
+    let shifted: [&[i32]; N] = core::array::from_fn(|t| &acc[t..t + n]);
+    let half = if s == 0 { 0 } else { 1i32 << (s - 1) };
+    for (i, o) in out.iter_mut().enumerate() {
         let mut sum = 0i32;
-        for i in 0..N {
-            sum += k[i] * win[i];
+        for t in 0..N {
+            sum += k[t] * shifted[t][i];
         }
-        *o = T::from_acc(sum, s);
+        *o = T::from_rounded((sum + half) >> s);
+    }
+}
+
+/// `acc[x] = bias + sum_{t<N} coefs[t] * rows[t][x]` in one pass.
+#[inline(always)]
+fn column_sum<const N: usize>(
+    rows: &[&[u8]; MAX_TAPS],
+    coefs: &[i32; MAX_TAPS],
+    bias: i32,
+    acc: &mut [i32],
+) {
+    let w = acc.len();
+    let r: [&[u8]; N] = core::array::from_fn(|t| &rows[t][..w]);
+    for (x, a) in acc.iter_mut().enumerate() {
+        let mut sum = bias;
+        for t in 0..N {
+            sum += coefs[t] * r[t][x] as i32;
+        }
+        *a = sum;
     }
 }
 
@@ -660,7 +710,11 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// assert!(s.push_row(&[4, 4], &mut out).is_err()); // only 1 row declared
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn push_row<T: FilterOutput>(&mut self, row: &[u8], out: &mut [T]) -> Result<Option<usize>> {
+    pub fn push_row<T: FilterOutput>(
+        &mut self,
+        row: &[u8],
+        out: &mut [T],
+    ) -> Result<Option<usize>> {
         if self.pushed >= self.height {
             return Err(Error::StreamOrder {
                 reason: "more rows pushed than the height declared at construction",
@@ -813,11 +867,7 @@ const fn taps3(a: i32, b: i32, c: i32, shift: u8) -> Taps {
 /// ```
 pub const fn binomial3(border: Border) -> SeparableFilter {
     let t = taps3(1, 2, 1, 2);
-    SeparableFilter {
-        h: t,
-        v: t,
-        border,
-    }
+    SeparableFilter { h: t, v: t, border }
 }
 
 /// Binomial smoothing, 5 taps `[1 4 6 4 1] / 16` in both directions.
@@ -828,11 +878,7 @@ pub const fn binomial3(border: Border) -> SeparableFilter {
 /// ```
 pub const fn binomial5(border: Border) -> SeparableFilter {
     let t = Taps::preset([1, 4, 6, 4, 1, 0, 0, 0, 0], 5, 4);
-    SeparableFilter {
-        h: t,
-        v: t,
-        border,
-    }
+    SeparableFilter { h: t, v: t, border }
 }
 
 /// Binomial smoothing, 7 taps `[1 6 15 20 15 6 1] / 64` in both directions.
@@ -843,11 +889,7 @@ pub const fn binomial5(border: Border) -> SeparableFilter {
 /// ```
 pub const fn binomial7(border: Border) -> SeparableFilter {
     let t = Taps::preset([1, 6, 15, 20, 15, 6, 1, 0, 0], 7, 6);
-    SeparableFilter {
-        h: t,
-        v: t,
-        border,
-    }
+    SeparableFilter { h: t, v: t, border }
 }
 
 /// Sobel x derivative: `[-1 0 1]` horizontally, `[1 2 1]` vertically, no
