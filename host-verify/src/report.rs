@@ -111,7 +111,12 @@ pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
     } else {
         None
     };
-    let pass = kernels.iter().all(|k| k.pass)
+    let targets_ok = targets
+        .as_ref()
+        .and_then(|t: &serde_json::Value| t["targets"].as_array().cloned())
+        .is_none_or(|ts| ts.iter().all(|t| t["passed"] == t["vectors"]));
+    let pass = targets_ok
+        && kernels.iter().all(|k| k.pass)
         && golden.failures.is_empty()
         && golden.vectors > 0
         && golden.passed == golden.vectors;
@@ -213,6 +218,17 @@ pub fn table(r: &Report) -> String {
     );
     for (id, why) in &r.golden.failures {
         out += &format!("  golden {id}: {why}\n");
+    }
+    if let Some(targets) = r.targets.as_ref().and_then(|t| t["targets"].as_array()) {
+        for t in targets {
+            out += &format!(
+                "on target {} ({}): {}/{} golden vectors bit-exact\n",
+                t["name"].as_str().unwrap_or("?"),
+                t["triple"].as_str().unwrap_or("?"),
+                t["passed"],
+                t["vectors"]
+            );
+        }
     }
     out += &format!("overall: {}\n", if r.pass { "PASS" } else { "FAIL" });
     out
