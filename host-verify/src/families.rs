@@ -24,6 +24,7 @@ pub struct Family {
 pub const FAMILIES: &[Family] = &[
     crate::filter::FAMILY,
     crate::gradient::FAMILY,
+    crate::canny::FAMILY,
     crate::remap::FAMILY,
 ];
 

@@ -18,20 +18,26 @@
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
+//! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
+//! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
 
+pub mod canny;
 pub mod contract;
 pub mod families;
 pub mod filter;
 pub mod golden;
 pub mod gradient;
+pub mod hysteresis;
 pub mod lens;
 pub mod metrics;
+pub mod nms;
 pub mod opcount;
 pub mod remap;
 pub mod report;
 pub mod scene;
 pub mod sweep_plot;
 pub mod targets;
+pub mod thinning;
 
 use std::path::PathBuf;
 

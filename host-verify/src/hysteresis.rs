@@ -1,0 +1,93 @@
+//! Integer reference models of `fixsight::hysteresis`, written from the
+//! kernel's documented model:
+//!
+//! * [`classify`]: STRONG (2) when `m >= high`, WEAK (1) when
+//!   `low <= m < high`, else 0;
+//! * [`hysteresis`]: label the 8-connected components of the nonzero codes
+//!   (breadth first, on the heap) and keep a component when it holds a
+//!   STRONG pixel; the rule of Canny 1986 ("A Computational Approach to
+//!   Edge Detection", IEEE PAMI 8(6)) stated as connected components;
+//! * [`auto_thresholds`]: the histogram rule computed by sorting the bin
+//!   indices of the nonzero magnitudes and taking the `target`-th smallest.
+//!
+//! Contracts are **bit-exact**, checked in [`crate::canny`].
+
+use std::collections::VecDeque;
+
+/// Reference double threshold.
+pub fn classify(mag: &[u16], low: u16, high: u16) -> Vec<u8> {
+    mag.iter()
+        .map(|&m| {
+            if m >= high {
+                2
+            } else if m >= low {
+                1
+            } else {
+                0
+            }
+        })
+        .collect()
+}
+
+/// Reference hysteresis on edge codes (0, 1, 2): returns 0/255.
+pub fn hysteresis(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
+    let mut out = vec![0u8; w * h];
+    let mut seen = vec![false; w * h];
+    for s in 0..w * h {
+        if codes[s] == 0 || seen[s] {
+            continue;
+        }
+        seen[s] = true;
+        let mut members = vec![s];
+        let mut q = VecDeque::from([s]);
+        let mut strong = false;
+        while let Some(p) = q.pop_front() {
+            strong |= codes[p] == 2;
+            let (x, y) = ((p % w) as i64, (p / w) as i64);
+            for dy in -1..=1 {
+                for dx in -1..=1 {
+                    let (nx, ny) = (x + dx, y + dy);
+                    if nx >= 0 && ny >= 0 && nx < w as i64 && ny < h as i64 {
+                        let n = ny as usize * w + nx as usize;
+                        if codes[n] != 0 && !seen[n] {
+                            seen[n] = true;
+                            members.push(n);
+                            q.push_back(n);
+                        }
+                    }
+                }
+            }
+        }
+        if strong {
+            for m in members {
+                out[m] = 255;
+            }
+        }
+    }
+    out
+}
+
+/// Reference automatic thresholds `(low, high)`.
+pub fn auto_thresholds(
+    mag: &[u16],
+    bins: usize,
+    shift: u32,
+    high_permille: u16,
+    low_fraction_bits: u16,
+) -> (u16, u16) {
+    let mut idx: Vec<usize> = mag
+        .iter()
+        .filter(|&&m| m > 0)
+        .map(|&m| ((m >> shift) as usize).min(bins - 1))
+        .collect();
+    if idx.is_empty() {
+        return (u16::MAX, u16::MAX);
+    }
+    idx.sort_unstable();
+    let n = idx.len() as u64;
+    let target = (n * high_permille as u64).div_ceil(1000) as usize;
+    let b = idx[target.max(1) - 1];
+    let high = (((b as u64) + 1) << shift).min(65535);
+    let low = ((high as f64 * low_fraction_bits as f64 / 65536.0) + 0.5).floor() as u64;
+    (low.max(1) as u16, high as u16)
+}
