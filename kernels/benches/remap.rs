@@ -106,7 +106,10 @@ fn main() {
         black_box(r);
     });
     println!("remap 640x480, median of {REPS} frames (ns per output pixel)");
-    println!("  fixsight dense map, F = {F}:           {:7.2}", t_dense / px);
+    println!(
+        "  fixsight dense map, F = {F}:           {:7.2}",
+        t_dense / px
+    );
     println!(
         "  fixsight mesh step {}, F = {F} ({} B):  {:7.2}",
         1 << K,
