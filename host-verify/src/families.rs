@@ -6,6 +6,10 @@ use crate::contract::KernelReport;
 use crate::golden::{Blob, GoldenCase};
 use crate::scene::Scene;
 
+/// Recomputes one golden vector: `(kernel id, params, inputs) -> outputs`,
+/// or a message saying what was wrong with the vector.
+pub type RunVector = fn(&str, &serde_json::Value, &[Blob]) -> Result<Vec<Blob>, String>;
+
 /// What the host tool needs from a kernel family.
 pub struct Family {
     /// Family name: the part of golden kernel ids before the first `.`.
@@ -15,9 +19,8 @@ pub struct Family {
     /// The family's golden cases (inputs, parameters, expected outputs
     /// computed by the kernels).
     pub golden_cases: fn(&[Scene]) -> Vec<GoldenCase>,
-    /// Recomputes one golden vector: `(kernel id, params, inputs) ->
-    /// outputs`, or a message saying what was wrong with the vector.
-    pub run_vector: fn(&str, &serde_json::Value, &[Blob]) -> Result<Vec<Blob>, String>,
+    /// Recomputes one golden vector.
+    pub run_vector: RunVector,
 }
 
 /// Every family, in report order.

@@ -84,17 +84,17 @@ pub fn reference_sector(gx: i16, gy: i16) -> u8 {
     ((deg / 45.0).round() as u8) % 4
 }
 
+/// A frame-level gradient kernel.
+type PairKernel<T> =
+    fn(&ImageView<'_, i16>, &ImageView<'_, i16>, &mut ImageViewMut<'_, T>) -> fixsight::Result<()>;
+
 /// Runs a frame-level gradient kernel on `(gx, gy)`.
 fn run_pair<T: Copy + Default>(
     gx: &[i16],
     gy: &[i16],
     w: usize,
     h: usize,
-    k: fn(
-        &ImageView<'_, i16>,
-        &ImageView<'_, i16>,
-        &mut ImageViewMut<'_, T>,
-    ) -> fixsight::Result<()>,
+    k: PairKernel<T>,
 ) -> Result<Vec<T>, String> {
     let mut out = vec![T::default(); w * h];
     let e = |e: fixsight::Error| e.to_string();

@@ -129,12 +129,15 @@ fn check_pair<T: Copy>(
     check_same_size("gradient output vs gx", gx, out)
 }
 
+/// A row-level gradient kernel: `(gx row, gy row, output row)`.
+type RowKernel<T> = fn(&[i16], &[i16], &mut [T]) -> Result<()>;
+
 /// Applies a per-pixel function of `(gx, gy)` row by row.
 fn map_pair<T: Copy>(
     gx: &ImageView<'_, i16>,
     gy: &ImageView<'_, i16>,
     out: &mut ImageViewMut<'_, T>,
-    row_fn: fn(&[i16], &[i16], &mut [T]) -> Result<()>,
+    row_fn: RowKernel<T>,
 ) -> Result<()> {
     check_pair(gx, gy, out)?;
     for y in 0..gx.height() {
