@@ -116,40 +116,57 @@ pub fn sobel_pair(s: &Scene) -> (Vec<i16>, Vec<i16>) {
     (gx, gy)
 }
 
+/// A bit-exact row: runs `kernel` on every scene's gradients and compares
+/// with `reference` pixel by pixel.
+fn bit_exact_row<T: Copy + Default + Into<f64>>(
+    name: &str,
+    pairs: &[(&Scene, (Vec<i16>, Vec<i16>))],
+    kernel: PairKernel<T>,
+    reference: impl Fn(i16, i16) -> f64,
+    peak: f64,
+) -> KernelReport {
+    let (mut a, mut r, mut ops) = (Vec::new(), Vec::new(), None);
+    let mut err = None;
+    for (s, (gx, gy)) in pairs {
+        let (res, o) = measure(s.width * s.height, || {
+            run_pair(gx, gy, s.width, s.height, kernel)
+        });
+        ops.get_or_insert(o);
+        match res {
+            Ok(m) => {
+                a.extend(m.into_iter().map(Into::into));
+                r.extend(gx.iter().zip(gy).map(|(&x, &y)| reference(x, y)));
+            }
+            Err(e) => err = Some(e),
+        }
+    }
+    let stats = ErrorStats::compare(&a, &r, peak);
+    let mut row = KernelReport::from_stats(
+        name,
+        KernelFamily::Gradient,
+        Contract::BitExact,
+        0.0,
+        &stats,
+        ops.unwrap_or_default(),
+    );
+    if let Some(e) = err {
+        row.fail(e);
+    }
+    row
+}
+
 /// Contract checks on the scenes' Sobel gradients.
 pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     let pairs: Vec<_> = scenes.iter().map(|s| (s, sobel_pair(s))).collect();
     let mut rows = Vec::new();
 
-    // L1: bit-exact.
-    {
-        let (mut a, mut r, mut ops) = (Vec::new(), Vec::new(), None);
-        let mut err = None;
-        for (s, (gx, gy)) in &pairs {
-            let (res, o) = measure(s.width * s.height, || {
-                run_pair(gx, gy, s.width, s.height, gradient::magnitude_l1)
-            });
-            ops.get_or_insert(o);
-            match res {
-                Ok(m) => a.extend(m.iter().map(|&v| v as f64)),
-                Err(e) => err = Some(e),
-            }
-            r.extend(gx.iter().zip(gy).map(|(&x, &y)| reference_l1(x, y)));
-        }
-        let stats = ErrorStats::compare(&a, &r[..a.len()], 65534.0);
-        let mut row = KernelReport::from_stats(
-            "gradient.magnitude_l1",
-            KernelFamily::Gradient,
-            Contract::BitExact,
-            0.0,
-            &stats,
-            ops.unwrap_or_default(),
-        );
-        if let Some(e) = err {
-            row.fail(e);
-        }
-        rows.push(row);
-    }
+    rows.push(bit_exact_row(
+        "gradient.magnitude_l1",
+        &pairs,
+        gradient::magnitude_l1,
+        reference_l1,
+        65534.0,
+    ));
 
     // L2 estimate: relative tolerance.
     {
@@ -218,39 +235,13 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
         rows.push(row);
     }
 
-    // Direction: bit-exact.
-    {
-        let (mut a, mut r, mut ops) = (Vec::new(), Vec::new(), None);
-        let mut err = None;
-        for (s, (gx, gy)) in &pairs {
-            let (res, o) = measure(s.width * s.height, || {
-                run_pair(gx, gy, s.width, s.height, gradient::direction)
-            });
-            ops.get_or_insert(o);
-            match res {
-                Ok(d) => a.extend(d.iter().map(|&v| v as f64)),
-                Err(e) => err = Some(e),
-            }
-            r.extend(
-                gx.iter()
-                    .zip(gy)
-                    .map(|(&x, &y)| reference_sector(x, y) as f64),
-            );
-        }
-        let stats = ErrorStats::compare(&a, &r[..a.len()], 3.0);
-        let mut row = KernelReport::from_stats(
-            "gradient.direction",
-            KernelFamily::Gradient,
-            Contract::BitExact,
-            0.0,
-            &stats,
-            ops.unwrap_or_default(),
-        );
-        if let Some(e) = err {
-            row.fail(e);
-        }
-        rows.push(row);
-    }
+    rows.push(bit_exact_row(
+        "gradient.direction",
+        &pairs,
+        gradient::direction,
+        |x, y| reference_sector(x, y) as f64,
+        3.0,
+    ));
     rows
 }
 

@@ -50,7 +50,7 @@
 
 use crate::arith::{round_shift, sat_i16, sat_u8};
 use crate::error::{Error, Result};
-use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut, MAX_DIM};
+use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, Op};
 use fixed::types::extra::LeEqU16;
 use fixed::FixedI16;
@@ -630,16 +630,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
         ring: &'b mut [u8],
         acc: &'b mut [i32],
     ) -> Result<Self> {
-        if width == 0 || height == 0 {
-            return Err(Error::ZeroSize { width, height });
-        }
-        if width > MAX_DIM || height > MAX_DIM {
-            return Err(Error::TooLarge {
-                width,
-                height,
-                limit: MAX_DIM,
-            });
-        }
+        check_dims(width, height)?;
         let ring_rows = Self::ring_rows(filter);
         let needed = ring_rows * width;
         if ring.len() < needed {

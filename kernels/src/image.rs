@@ -29,14 +29,15 @@ pub const MAX_DIM: usize = 32767;
 /// Largest number of interleaved channels a view may have.
 pub const MAX_CHANNELS: usize = 4;
 
-/// Checks a layout and returns the number of elements it spans.
-fn check_layout(
-    len: usize,
-    width: usize,
-    height: usize,
-    stride: usize,
-    channels: usize,
-) -> Result<usize> {
+/// Checks that `width` and `height` are in `1..=MAX_DIM`.
+///
+/// ```
+/// use fixsight::image::check_dims;
+/// assert!(check_dims(640, 480).is_ok());
+/// assert!(check_dims(0, 480).is_err());
+/// assert!(check_dims(40000, 1).is_err());
+/// ```
+pub fn check_dims(width: usize, height: usize) -> Result<()> {
     if width == 0 || height == 0 {
         return Err(Error::ZeroSize { width, height });
     }
@@ -47,6 +48,18 @@ fn check_layout(
             limit: MAX_DIM,
         });
     }
+    Ok(())
+}
+
+/// Checks a layout and returns the number of elements it spans.
+fn check_layout(
+    len: usize,
+    width: usize,
+    height: usize,
+    stride: usize,
+    channels: usize,
+) -> Result<usize> {
+    check_dims(width, height)?;
     if channels == 0 || channels > MAX_CHANNELS {
         return Err(Error::UnsupportedChannels {
             channels,
