@@ -23,23 +23,29 @@ use crate::kernels::{Arena, Buf, Img, Param, Params};
 use crate::vectors::Elem;
 use crate::Console;
 use core::fmt::Write;
+use fixsight::remap::{MeshTable, RemapGeometry};
 
 /// Frame width.
 pub const WIDTH: usize = 320;
 /// Frame height.
 pub const HEIGHT: usize = 240;
 
-/// Image slots shared by the stages.
-const SLOTS: [Elem; 9] = [
-    Elem::U8,  // 0 frame
-    Elem::U8,  // 1 smooth
-    Elem::I16, // 2 gx
-    Elem::I16, // 3 gy
-    Elem::U16, // 4 mag (L1)
-    Elem::U16, // 5 mag2 (approx L2)
-    Elem::U8,  // 6 dir
-    Elem::U8,  // 7 scratch u8
-    Elem::I16, // 8 scratch i16
+/// Image slots shared by the stages: element type, width, height, channels.
+const SLOTS: [(Elem, usize, usize, usize); 14] = [
+    (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
+    (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
+    (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
+    (Elem::I16, WIDTH, HEIGHT, 1),   // 3 gy
+    (Elem::U16, WIDTH, HEIGHT, 1),   // 4 mag (L1)
+    (Elem::U16, WIDTH, HEIGHT, 1),   // 5 mag2 (approx L2)
+    (Elem::U8, WIDTH, HEIGHT, 1),    // 6 dir
+    (Elem::U8, WIDTH, HEIGHT, 1),    // 7 scratch u8
+    (Elem::I16, WIDTH, HEIGHT, 1),   // 8 scratch i16
+    (Elem::U16, WIDTH, HEIGHT, 1),   // 9 suppressed magnitude
+    (Elem::U16, 2, 1, 1),            // 10 thresholds (low, high)
+    (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
+    (Elem::I32, WIDTH, HEIGHT, 2),   // 12 dense map, raw (x, y) per pixel
+    (Elem::U8, MESH_BLOB_LEN, 1, 1), // 13 mesh blob
 ];
 
 /// One measured stage.
@@ -85,6 +91,66 @@ const BINOMIAL7: [(&str, Param); 6] = sep(
 const SOBEL_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[1, 2, 1], 0, "i16");
 const SOBEL_Y: [(&str, Param); 6] = sep(&[1, 2, 1], 0, &[-1, 0, 1], 0, "i16");
 const SCHARR_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[3, 10, 3], 0, "i16");
+/// The edge chain's smoothed Sobel (`smoothed_sobel` in
+/// `host-verify/src/canny.rs`): binomial5 convolved with Sobel's taps, one
+/// rounding, gradients 4x Sobel.
+const CHAIN_SOBEL_X: [(&str, Param); 6] = sep(
+    &[-1, -4, -5, 0, 5, 4, 1],
+    3,
+    &[1, 6, 15, 20, 15, 6, 1],
+    3,
+    "i16",
+);
+const CHAIN_SOBEL_Y: [(&str, Param); 6] = sep(
+    &[1, 6, 15, 20, 15, 6, 1],
+    3,
+    &[-1, -4, -5, 0, 5, 4, 1],
+    3,
+    "i16",
+);
+/// The edge chain's demo threshold rule (`DEMO` in `host-verify/src/canny.rs`:
+/// 512 bins of width 2, the kernel crate's demo share and ratio).
+const THRESHOLDS: [(&str, Param); 4] = [
+    ("bins", Param::Int(512)),
+    ("shift", Param::Int(1)),
+    (
+        "high_permille",
+        Param::Int(fixsight::hysteresis::DEMO_HIGH_PERMILLE as i64),
+    ),
+    (
+        "low_fraction_bits",
+        Param::Int(fixsight::hysteresis::DEMO_LOW_FRACTION.to_bits() as i64),
+    ),
+];
+/// The demo 1024-entry hysteresis stack.
+const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
+
+/// Fractional bits of the bench remap coordinates.
+const REMAP_FRAC_BITS: u32 = 5;
+/// Mesh step of the bench mesh, log2 (16 output pixels).
+const MESH_STEP_LOG2: u32 = 4;
+/// Mesh points along `n` output pixels (the rule in the kernel's `remap`
+/// docs: `max(2, ceil((n - 1) / S) + 1)`).
+const fn mesh_points(n: usize) -> usize {
+    let s = 1 << MESH_STEP_LOG2;
+    let c = (n - 1).div_ceil(s) + 1;
+    if c < 2 {
+        2
+    } else {
+        c
+    }
+}
+/// Blob bytes of the bench mesh: header and 8 bytes per point.
+const MESH_BLOB_LEN: usize =
+    fixsight::remap::BLOB_HEADER_LEN + 8 * mesh_points(WIDTH) * mesh_points(HEIGHT);
+const DENSE: [(&str, Param); 2] = [
+    ("border", Param::Str("replicate")),
+    ("frac_bits", Param::Int(REMAP_FRAC_BITS as i64)),
+];
+const MESH: [(&str, Param); 2] = [
+    ("border", Param::Str("replicate")),
+    ("strip_rows", Param::Int(16)),
+];
 
 /// The stages in run order (`kernel:` lines are read by `build.rs`).
 pub static STAGES: &[Stage] = &[
@@ -151,6 +217,83 @@ pub static STAGES: &[Stage] = &[
         inputs: &[1],
         outputs: &[8],
     },
+    Stage {
+        name: "chain_sobel_x",
+        kernel: "filter.separable",
+        params: &CHAIN_SOBEL_X,
+        inputs: &[0],
+        outputs: &[2],
+    },
+    Stage {
+        name: "chain_sobel_y",
+        kernel: "filter.separable",
+        params: &CHAIN_SOBEL_Y,
+        inputs: &[0],
+        outputs: &[3],
+    },
+    Stage {
+        name: "chain_magnitude_l2",
+        kernel: "gradient.magnitude_l2",
+        params: &[],
+        inputs: &[2, 3],
+        outputs: &[5],
+    },
+    Stage {
+        name: "chain_direction",
+        kernel: "gradient.direction",
+        params: &[],
+        inputs: &[2, 3],
+        outputs: &[6],
+    },
+    Stage {
+        name: "nms",
+        kernel: "edges.nms",
+        params: &[],
+        inputs: &[5, 6],
+        outputs: &[9],
+    },
+    Stage {
+        name: "thresholds",
+        kernel: "edges.thresholds",
+        params: &THRESHOLDS,
+        inputs: &[9],
+        outputs: &[10],
+    },
+    Stage {
+        name: "classify",
+        kernel: "edges.classify",
+        params: &[],
+        inputs: &[9, 10],
+        outputs: &[11],
+    },
+    Stage {
+        name: "hysteresis",
+        kernel: "edges.hysteresis",
+        params: &STACK,
+        inputs: &[],
+        outputs: &[11],
+    },
+    Stage {
+        name: "thinning",
+        kernel: "edges.thinning",
+        params: &[],
+        inputs: &[],
+        outputs: &[11],
+    },
+    Stage {
+        name: "remap_dense",
+        kernel: "remap.dense",
+        params: &DENSE,
+        inputs: &[0, 12],
+        outputs: &[7],
+    },
+    Stage {
+        name: "remap_mesh",
+        kernel: "remap.mesh",
+        params: &MESH,
+        inputs: &[0, 13],
+        outputs: &[7],
+    },
 ];
 
 /// Fills the synthetic frame (see the module docs).
@@ -173,13 +316,58 @@ fn fill_frame(frame: &mut [u8]) {
     }
 }
 
+/// Raw source coordinate of output position `(x, y)` (may lie past the
+/// frame: mesh points do) under the bench lens, a barrel undistortion
+/// `src = c + d * (1 - r^2 / 2^21)` with `d` the offset from the frame
+/// centre `c = (159.5, 119.5)` and `r^2 = |2d|^2` in half-pixel units
+/// (factor 0.924 in the corners, so every sample stays inside the frame).
+/// Integer only, floor of the raw value at `F` = [`REMAP_FRAC_BITS`].
+fn bench_lens(x: i64, y: i64) -> (i32, i32) {
+    let (dx2, dy2) = (2 * x - (WIDTH as i64 - 1), 2 * y - (HEIGHT as i64 - 1));
+    let r2 = dx2 * dx2 + dy2 * dy2;
+    let f = REMAP_FRAC_BITS;
+    // d * 2^F = d2 * 2^(F-1); times (2^21 - r^2) / 2^21.
+    let scale = (1i64 << 21) - r2;
+    let raw = |d2: i64, n: usize| -> i32 {
+        let centre = ((n as i64 - 1) << f) / 2;
+        (centre + ((d2 * scale) >> (22 - f))) as i32
+    };
+    (raw(dx2, WIDTH), raw(dy2, HEIGHT))
+}
+
+/// Fills the dense map slot with [`bench_lens`] at every output pixel.
+fn fill_map(map: &mut [i32]) {
+    for (i, p) in map.chunks_exact_mut(2).enumerate() {
+        let (x, y) = bench_lens((i % WIDTH) as i64, (i / WIDTH) as i64);
+        p[0] = x;
+        p[1] = y;
+    }
+}
+
+/// Writes the mesh blob of [`bench_lens`] at step 16 into `blob`, using
+/// `points` for the control points.
+fn fill_mesh(points: &mut [i32], blob: &mut [u8]) -> Result<(), fixsight::Error> {
+    let g = RemapGeometry::new(WIDTH, HEIGHT, WIDTH, HEIGHT, REMAP_FRAC_BITS)?;
+    let (cols, _) = MeshTable::grid_size(&g, MESH_STEP_LOG2)?;
+    for (i, p) in points.chunks_exact_mut(2).enumerate() {
+        let (x, y) = bench_lens(
+            ((i % cols) << MESH_STEP_LOG2) as i64,
+            ((i / cols) << MESH_STEP_LOG2) as i64,
+        );
+        p[0] = x;
+        p[1] = y;
+    }
+    MeshTable::new(points, g, MESH_STEP_LOG2)?.write_blob(blob)?;
+    Ok(())
+}
+
 /// Runs every stage whose kernel this build serves and prints one `bench`
 /// line per stage.
 pub fn run(con: &mut Console, words: &mut [u32]) {
     let mut arena = Arena::new(words);
     let mut slots: [Img<'_>; SLOTS.len()] = Default::default();
-    for (slot, &elem) in slots.iter_mut().zip(SLOTS.iter()) {
-        match arena.image_filled(elem, WIDTH, HEIGHT, 1, 0) {
+    for (slot, &(elem, w, h, c)) in slots.iter_mut().zip(SLOTS.iter()) {
+        match arena.image_filled(elem, w, h, c, 0) {
             Some(img) => *slot = img,
             None => {
                 let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 arena full");
@@ -189,6 +377,19 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
     }
     if let Buf::U8(f) = &mut slots[0].buf {
         fill_frame(f);
+    }
+    if let Buf::I32(m) = &mut slots[12].buf {
+        fill_map(m);
+    }
+    let Some(points) = arena.i32s((MESH_BLOB_LEN - fixsight::remap::BLOB_HEADER_LEN) / 4) else {
+        let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 arena full");
+        return;
+    };
+    if let Buf::U8(blob) = &mut slots[13].buf {
+        if let Err(e) = fill_mesh(points, blob) {
+            let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 bench mesh: {e}");
+            return;
+        }
     }
     for st in STAGES {
         let Some(run) = crate::vectors::dispatch(st.kernel) else {

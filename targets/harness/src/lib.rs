@@ -162,9 +162,10 @@ impl Write for Console {
     }
 }
 
-/// Arena for inputs, outputs and scratch: 1.5 MiB, enough for the nine
-/// QVGA bench images (845 KiB) and the largest golden vector.
-const ARENA_WORDS: usize = 384 * 1024;
+/// Arena for inputs, outputs and scratch: 2.5 MiB, enough for the QVGA
+/// bench images (1.9 MiB with the 614 KiB dense remap map) and the largest
+/// golden vector.
+const ARENA_WORDS: usize = 640 * 1024;
 static mut ARENA: [u32; ARENA_WORDS] = [0; ARENA_WORDS];
 
 /// Runs every golden vector and every bench frame, prints the report and

@@ -16,7 +16,7 @@ fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, 
     Ok(Taps::new(&c[..list.len()], shift)?)
 }
 
-fn border(p: &Params) -> Result<Border, Fail> {
+pub(super) fn border(p: &Params) -> Result<Border, Fail> {
     match p.get("border") {
         Some(super::Param::Str("replicate")) => Ok(Border::Replicate),
         _ => {

@@ -7,8 +7,10 @@
 //! <family>;` below, write one function per kernel with the [`RunFn`]
 //! signature, and (optionally) a QVGA entry in `src/bench.rs`.
 
+pub mod edges;
 pub mod filter;
 pub mod gradient;
+pub mod remap;
 
 use crate::vectors::{Elem, ImageSpec};
 use core::fmt;
