@@ -95,6 +95,7 @@ pub fn quantise(v: f64, f: u32) -> i32 {
 }
 
 /// Border-extended source sample `P(x, y)` of channel `ch`.
+#[allow(clippy::too_many_arguments)]
 fn px(img: &[u8], w: usize, h: usize, c: usize, ch: usize, x: i64, y: i64, b: Border) -> i64 {
     if x >= 0 && y >= 0 && x < w as i64 && y < h as i64 {
         img[(y as usize * w + x as usize) * c + ch] as i64
@@ -716,6 +717,7 @@ fn small_camera(w: usize, h: usize, lens: LensModel) -> Camera {
     }
 }
 
+#[allow(clippy::too_many_arguments)]
 fn dense_case(
     id: &str,
     comment: &str,
