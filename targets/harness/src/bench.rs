@@ -10,9 +10,24 @@
 //!                                               +--direction-----> dir
 //! ```
 //!
-//! plus the other presets (binomial3/7, Scharr) for comparison. Each stage
-//! is one measured call (instruction window and stack painting, like a
-//! golden vector). Every stage uses replicate borders.
+//! plus the other presets (binomial3/7, Scharr) for comparison; then the
+//! edge chain of `edges.chain` (`host-verify/src/canny.rs`) on the frame,
+//! with its fused smoothed Sobel (7 taps, gradients 4x Sobel) and demo
+//! threshold rule:
+//!
+//! ```text
+//! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2--> mag2
+//!                                   --chain_direction-----> dir
+//! (mag2, dir) --nms--> sup --thresholds--> (low, high)
+//! (sup, low, high) --classify--> codes --hysteresis--> edges --thinning--> thin
+//! ```
+//!
+//! (hysteresis and thinning in place on one image), and the two remap
+//! forms on the frame with the integer barrel lens of [`bench_lens`]:
+//! `remap_dense` (a dense map, F = 5) and `remap_mesh` (the same lens as a
+//! step-16 mesh blob, output in strips of 16 rows). Each stage is one
+//! measured call (instruction window and stack painting, like a golden
+//! vector). Every stage uses replicate borders.
 //!
 //! The frame is integer-only and deterministic: a ramp `64 + (x + 2y) / 8`,
 //! plus 96 inside a disc of radius 70 centred at (110, 120) and inside the
