@@ -157,7 +157,9 @@ impl OpCounts {
         self.counts
             .iter()
             .zip(weights.iter())
-            .fold(0u64, |a, (&c, &w)| a.saturating_add(c.saturating_mul(w as u64)))
+            .fold(0u64, |a, (&c, &w)| {
+                a.saturating_add(c.saturating_mul(w as u64))
+            })
     }
 }
 
