@@ -207,8 +207,12 @@ pub fn table(r: &Report) -> String {
         out += &line(row);
         out += "\n";
     }
-    for k in r.kernels.iter().filter(|k| !k.pass) {
-        for n in &k.notes {
+    for k in &r.kernels {
+        for n in k
+            .notes
+            .iter()
+            .filter(|n| !k.pass || n.starts_with("GOAL NOT MET"))
+        {
             out += &format!("  {}: {}\n", k.name, n);
         }
     }
