@@ -96,6 +96,9 @@ fn gray(s: &fixsight_verify::scene::Scene) -> GrayImage {
     GrayImage::from_raw(s.width as u32, s.height as u32, s.gray.clone()).unwrap()
 }
 
+/// A derivative operator of the outside crate.
+type OutsideDerivative = fn(&GrayImage) -> image::ImageBuffer<image::Luma<i16>, Vec<i16>>;
+
 #[test]
 fn reference_derivatives_match_imageproc_exactly() {
     // Outside reference: the general-purpose `imageproc` crate (0.25),
@@ -103,10 +106,7 @@ fn reference_derivatives_match_imageproc_exactly() {
     // continuity (= our replicate border) and return i16.
     for s in demo_scenes().iter().take(2) {
         let img = gray(s);
-        let pairs: [(
-            filter::SeparableFilter,
-            fn(&GrayImage) -> image::ImageBuffer<image::Luma<i16>, Vec<i16>>,
-        ); 4] = [
+        let pairs: [(filter::SeparableFilter, OutsideDerivative); 4] = [
             (
                 filter::sobel_x(Border::Replicate),
                 imageproc::gradients::horizontal_sobel,

@@ -763,7 +763,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             let ag0 = agreement(&c.edges, &reference, c.w, c.h);
             worst_before_thin = worst_before_thin.min(ag0.f1);
             metrics.push((s.name, ag));
-            if worst.map_or(true, |w| ag.f1 < w.f1) {
+            if worst.is_none_or(|w| ag.f1 < w.f1) {
                 worst = Some(ag);
             }
         }

@@ -116,11 +116,14 @@ pub fn sobel_pair(s: &Scene) -> (Vec<i16>, Vec<i16>) {
     (gx, gy)
 }
 
+/// A scene with its Sobel gradients `(gx, gy)`.
+type ScenePair<'a> = (&'a Scene, (Vec<i16>, Vec<i16>));
+
 /// A bit-exact row: runs `kernel` on every scene's gradients and compares
 /// with `reference` pixel by pixel.
 fn bit_exact_row<T: Copy + Default + Into<f64>>(
     name: &str,
-    pairs: &[(&Scene, (Vec<i16>, Vec<i16>))],
+    pairs: &[ScenePair<'_>],
     kernel: PairKernel<T>,
     reference: impl Fn(i16, i16) -> f64,
     peak: f64,
