@@ -158,7 +158,7 @@
 use crate::arith::{round_shift, sat_u8};
 use crate::error::{Error, Result};
 use crate::filter::Border;
-use crate::image::{ImageView, ImageViewMut, MAX_DIM};
+use crate::image::{check_dims, ImageView, ImageViewMut};
 use crate::ops::{tally, Op};
 
 /// Fewest fractional bits of a coordinate.
@@ -210,20 +210,6 @@ pub struct RemapGeometry {
     src_width: usize,
     src_height: usize,
     frac_bits: u32,
-}
-
-fn check_dims(width: usize, height: usize) -> Result<()> {
-    if width == 0 || height == 0 {
-        return Err(Error::ZeroSize { width, height });
-    }
-    if width > MAX_DIM || height > MAX_DIM {
-        return Err(Error::TooLarge {
-            width,
-            height,
-            limit: MAX_DIM,
-        });
-    }
-    Ok(())
 }
 
 impl RemapGeometry {
