@@ -1,6 +1,7 @@
-//! The `edges` family: the fixed-point edge chain (smoothing, Sobel,
-//! approximate L2 magnitude, 4-sector direction, non-maximum suppression,
-//! automatic double threshold, hysteresis, thinning) against
+//! The `edges` family: the fixed-point edge chain (7-tap integer Gaussian
+//! smoothing fused with Sobel, rounded L2 magnitude, 4-sector direction,
+//! non-maximum suppression, automatic double threshold, hysteresis,
+//! thinning) against
 //!
 //! * the integer reference models in [`crate::nms`], [`crate::hysteresis`]
 //!   and [`crate::thinning`], step by step on the same integer inputs —
@@ -11,10 +12,10 @@
 //!
 //! # The full-`f64` Canny reference
 //!
-//! 1. Gaussian smoothing with `sigma = 1` (the standard deviation of the
-//!    kernel chain's `[1 4 6 4 1]/16` binomial), sampled to radius
+//! 1. Gaussian smoothing with `sigma = 1`, sampled to radius
 //!    `ceil(3 sigma)`, normalised, separable, replicated border, no
-//!    rounding;
+//!    rounding (the kernel chain uses these taps rounded to 1/256, see
+//!    [`GAUSS7`]);
 //! 2. Sobel derivatives in `f64` (same taps, scale and replicated border as
 //!    the kernels), magnitude `sqrt(gx^2 + gy^2)`;
 //! 3. non-maximum suppression along the exact gradient angle: the
@@ -29,6 +30,25 @@
 //!
 //! No thinning: that is the classical detector (Canny 1986, "A
 //! Computational Approach to Edge Detection", IEEE PAMI 8(6)).
+//!
+//! # Design of the fixed-point chain (measured, worst scene `worn-dim`)
+//!
+//! The first chain smoothed with the binomial `[1 4 6 4 1]/16` (also
+//! `sigma = 1`) and used the alpha-max-plus-beta-min magnitude
+//! (`gradient::magnitude_l2_approx`, up to 4 % off). On `worn-dim` (strong
+//! noise, thresholds near the noise floor) it reached F1 0.929 only.
+//! Swapping one stage at a time for its exact `f64` form, same thresholds,
+//! worn-dim F1 after thinning was: binomial smoothing with exact magnitude
+//! and interpolated NMS 0.933 (the 5-tap binomial is not the reference's
+//! 7-tap sampled Gaussian, and hysteresis near the noise floor amplifies
+//! the difference); with the sampled Gaussian, exact magnitude and
+//! interpolated NMS 0.999; Gaussian with the approximate magnitude and
+//! 4-sector NMS 0.920; Gaussian with the exact magnitude and 4-sector NMS
+//! 0.969. Integer rounding of the gradients changed F1 by less than 0.002,
+//! thinning by less than 0.006. Hence the chain now smooths with the
+//! sampled Gaussian rounded to 1/256 ([`GAUSS7`]) and takes the exact
+//! rounded magnitude (`gradient::magnitude_l2_round`); NMS stays on the 4
+//! sectors.
 //!
 //! # Matching
 //!
@@ -77,10 +97,15 @@ pub const FAMILY: Family = Family {
 /// The F1 goal against the full-`f64` Canny (issue goal).
 pub const F1_GOAL: f64 = 0.95;
 
-/// Regression floor of the worst-scene F1: the `edges.canny` row fails
-/// below it. Set under the goal because the goal is not met on every demo
-/// scene yet (`worn-dim` measures 0.929); the goal is reported beside it.
+/// Regression floor of the worst-scene F1, kept as a guard in the tests
+/// (the `edges.canny` row's verdict is [`F1_GOAL`]).
 pub const F1_FLOOR: f64 = 0.90;
+
+/// The chain's smoothing taps: the `sigma = 1` Gaussian sampled at
+/// `-3..=3` and normalised (as in [`gaussian_f64`]), times 256, rounded to
+/// the nearest integer: `0.39905, 0.24203, 0.05401, 0.00443` times 256 are
+/// `102.16, 61.96, 13.83, 1.14`. The rounded taps sum to 256 exactly.
+pub const GAUSS7: [i16; 7] = [1, 14, 62, 102, 62, 14, 1];
 
 /// Settings of the fixed-point chain.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -120,7 +145,7 @@ pub struct Chain {
     pub gx: Vec<i16>,
     /// Sobel y of the smoothed image.
     pub gy: Vec<i16>,
-    /// Approximate L2 magnitude.
+    /// Rounded L2 magnitude.
     pub mag: Vec<u16>,
     /// Direction sectors.
     pub dir: Vec<u8>,
@@ -151,15 +176,28 @@ fn e(err: fixsight::Error) -> String {
 /// the smoothed derivative keeps 2 fractional bits.
 pub const GRAD_SCALE: f64 = 4.0;
 
-/// The smoothed Sobel x filter of the chain: the binomial `[1 4 6 4 1]/16`
-/// convolved with Sobel's `[-1 0 1]` and `[1 2 1]`, i.e. horizontal
-/// `[-1 -4 -5 0 5 4 1]` and vertical `[1 6 15 20 15 6 1]`, shift 6 (so the
-/// output is Sobel of the binomial-smoothed image times 4, rounded once,
-/// half up). Worst case `255 * 20 * 64` fits the accumulator; the output is
-/// at most `255 * 10 * 64 / 64 = 2550` in magnitude.
+/// Derivative taps of the chain: [`GAUSS7`] convolved with Sobel's
+/// `[-1 0 1]` (sum of absolute values 328).
+pub const CHAIN_DERIV: [i16; 9] = [-1, -14, -61, -88, 0, 88, 61, 14, 1];
+
+/// Cross taps of the chain: [`GAUSS7`] convolved with Sobel's `[1 2 1]`
+/// (sum 1024).
+pub const CHAIN_CROSS: [i16; 9] = [1, 16, 91, 240, 328, 240, 91, 16, 1];
+
+/// Shift of each of the chain's two tap sets (total 14).
+pub const CHAIN_TAP_SHIFT: u32 = 7;
+
+/// The smoothed Sobel x filter of the chain: [`CHAIN_DERIV`] horizontally
+/// and [`CHAIN_CROSS`] vertically, each shift 7 (9 x 9 support). The taps
+/// are `256` times Sobel's convolved with `GAUSS7 / 256`, so the exact
+/// accumulator is `2^16` times Sobel of the smoothed image and the shift 14
+/// leaves Sobel times 4, rounded once, half up. Worst case accumulator
+/// `255 * 328 * 1024 + 2^13` fits `i32`; the output is at most
+/// `(255 * 164 * 1024 + 2^13) >> 14 = 2614` in magnitude (the positive and
+/// the negative taps each sum to `164 * 1024`).
 pub fn smoothed_sobel(vertical: bool) -> SeparableFilter {
-    let d = Taps::new(&[-1, -4, -5, 0, 5, 4, 1], 3).expect("valid taps");
-    let s = Taps::new(&[1, 6, 15, 20, 15, 6, 1], 3).expect("valid taps");
+    let d = Taps::new(&CHAIN_DERIV, CHAIN_TAP_SHIFT).expect("valid taps");
+    let s = Taps::new(&CHAIN_CROSS, CHAIN_TAP_SHIFT).expect("valid taps");
     let (h, v) = if vertical { (s, d) } else { (d, s) };
     SeparableFilter::new(h, v, Border::Replicate).expect("fits the accumulator")
 }
@@ -255,7 +293,7 @@ pub fn run_chain(gray: &[u8], w: usize, h: usize, p: &ChainParams) -> Result<Cha
     {
         let vx = ImageView::new(&gx, w, h, w).map_err(e)?;
         let vy = ImageView::new(&gy, w, h, w).map_err(e)?;
-        gradient::magnitude_l2_approx(
+        gradient::magnitude_l2_round(
             &vx,
             &vy,
             &mut ImageViewMut::new(&mut mag, w, h, w).map_err(e)?,
@@ -591,7 +629,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             65535.0,
             ops,
             pr,
-            "suppressed L2-approx magnitudes vs the integer reference model (offsets from the sector angle)",
+            "suppressed rounded-L2 magnitudes vs the integer reference model (offsets from the sector angle)",
         );
         let kept: usize = chains
             .iter()
@@ -778,17 +816,10 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             kernel_px: 0,
             reference_px: 0,
         });
-        // The row's verdict uses the regression floor; the issue's goal is
-        // reported beside it (metrics `f1_goal`, `f1_goal_met`) and in a note.
-        let goal_note = (w.f1 < F1_GOAL).then(|| {
-            format!(
-                "GOAL NOT MET: worst F1 {:.4} is below the goal {F1_GOAL} (verdict uses the floor {F1_FLOOR})",
-                w.f1
-            )
-        });
-        if w.f1 < F1_FLOOR {
+        // The row's verdict is the issue's goal on the worst scene.
+        if w.f1 < F1_GOAL {
             pr.push(format!(
-                "worst F1 {:.4} is below the floor {F1_FLOOR}",
+                "GOAL NOT MET: worst F1 {:.4} is below the goal {F1_GOAL}",
                 w.f1
             ));
         }
@@ -797,7 +828,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             family: KernelFamily::Edges,
             contract: Contract::Tolerance,
             max_abs_err: 1.0 - w.f1,
-            bound: 1.0 - F1_FLOOR,
+            bound: 1.0 - F1_GOAL,
             bit_exact_share: 0.0,
             ops_per_px: ops,
             metrics: Default::default(),
@@ -805,8 +836,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             notes: vec![
                 "figure is 1 - F1 of the worst scene (1-px tolerance) against a full-f64 Canny \
                  (sigma 1 Gaussian, f64 Sobel, interpolated NMS) with the same thresholds; \
-                 bound is the regression floor F1 >= 0.90 (the goal is F1 >= 0.95, see metrics \
-                 f1_goal and f1_goal_met); neither is an analytical bound"
+                 bound is the goal F1 >= 0.95, not an analytical bound"
                     .into(),
                 "ops/px are those of the edge steps: nms + thresholds + hysteresis + thinning"
                     .into(),
@@ -820,7 +850,6 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
             "f1_goal_met".into(),
             if w.f1 >= F1_GOAL { 1.0 } else { 0.0 },
         );
-        row.notes.extend(goal_note);
         row.metrics
             .insert("f1_before_thinning".into(), worst_before_thin);
         for (name, ag) in metrics {
@@ -1003,7 +1032,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let mut v = Vec::new();
     v.push(case(
         "edges.nms.floor",
-        format!("suppression of the L2-approx magnitude and sectors of {at}"),
+        format!("suppression of the rounded L2 magnitude and sectors of {at}"),
         "edges.nms",
         json!({}),
         vec![
@@ -1104,7 +1133,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     ));
     v.push(case(
         "edges.chain.floor",
-        format!("the whole chain (binomial5, Sobel, L2 approx, NMS, auto thresholds, hysteresis, thinning) on {at}"),
+        format!("the whole chain (Gaussian 7-tap, Sobel, rounded L2, NMS, auto thresholds, hysteresis, thinning) on {at}"),
         "edges.chain",
         serde_json::to_value(DEMO).expect("serialisable"),
         vec![Blob::from_u8("src", w, h, 1, &img)],
@@ -1156,22 +1185,24 @@ mod tests {
     }
 
     #[test]
-    fn demo_scenes_meet_the_bit_exact_contracts_and_an_f1_floor() {
-        let rows = check(&demo_scenes());
+    fn demo_scenes_meet_the_bit_exact_contracts_and_the_f1_goal() {
+        let scenes = demo_scenes();
+        let rows = check(&scenes);
         assert_eq!(rows.len(), 5);
         for r in rows.iter().filter(|r| r.contract == Contract::BitExact) {
             assert!(r.pass, "{}: {:?} {:?}", r.name, r.notes, r.metrics);
             assert_eq!(r.bit_exact_share, 1.0, "{}", r.name);
         }
-        // Regression floor below the 0.95 goal: the report row states
-        // whether the goal is met; this guards against the chain drifting.
         let canny = rows.iter().find(|r| r.name == "edges.canny").unwrap();
-        assert!(canny.metrics["f1"] >= F1_FLOOR, "{:?}", canny.metrics);
         assert!(canny.pass, "{:?}", canny.notes);
-        assert_eq!(
-            canny.metrics["f1_goal_met"] == 1.0,
-            canny.metrics["f1"] >= F1_GOAL
-        );
+        assert_eq!(canny.metrics["f1_goal_met"], 1.0, "{:?}", canny.metrics);
+        for s in &scenes {
+            let f1 = canny.metrics[&format!("f1.{}", s.name)];
+            // The goal on every scene, and the older regression floor as a
+            // guard (it fails first if the chain drifts badly).
+            assert!(f1 >= F1_FLOOR, "{}: {f1}", s.name);
+            assert!(f1 >= F1_GOAL, "{}: {f1}", s.name);
+        }
     }
 
     #[test]

@@ -12,11 +12,15 @@
 //!   final half-LSB rounding is allowed for), and the analytical bound is
 //!   the alpha-max-plus-beta-min worst case
 //!   `sqrt(alpha^2 + beta^2) - 1 = 4.0266 %` derived in the kernel docs.
+//! * `gradient.magnitude_l2_round` — reference `sqrt(gx^2 + gy^2)` in
+//!   `f64` rounded to the nearest integer (`f64::round`; `sqrt` of an
+//!   integer below `2^31` is never within `f64` error of a half-integer, so
+//!   the rounding direction is never in doubt). **Bit-exact.**
 //! * `gradient.direction` — reference `atan2(gy, gx)` in degrees, folded to
 //!   `[0, 180)`, sector `round(theta / 45) mod 4`. **Bit-exact.**
 //!
-//! Golden kernel ids: `gradient.magnitude_l1`, `gradient.magnitude_l2`
-//! (outputs `mag`, u16), `gradient.direction` (output `dir`, u8); inputs
+//! Golden kernel ids: `gradient.magnitude_l1`, `gradient.magnitude_l2`,
+//! `gradient.magnitude_l2_round` (outputs `mag`, u16), `gradient.direction` (output `dir`, u8); inputs
 //! `gx`, `gy` (i16); params `{}`.
 
 use crate::contract::{Contract, KernelFamily, KernelReport};
@@ -65,6 +69,11 @@ pub fn reference_l1(gx: i16, gy: i16) -> f64 {
 /// Reference Euclidean magnitude.
 pub fn reference_l2(gx: i16, gy: i16) -> f64 {
     (sat_abs(gx)).hypot(sat_abs(gy))
+}
+
+/// Reference rounded Euclidean magnitude.
+pub fn reference_l2_round(gx: i16, gy: i16) -> f64 {
+    reference_l2(gx, gy).round()
 }
 
 /// Reference direction sector from the exact angle.
@@ -239,6 +248,14 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     }
 
     rows.push(bit_exact_row(
+        "gradient.magnitude_l2_round",
+        &pairs,
+        gradient::magnitude_l2_round,
+        reference_l2_round,
+        65534.0,
+    ));
+
+    rows.push(bit_exact_row(
         "gradient.direction",
         &pairs,
         gradient::direction,
@@ -305,6 +322,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         for kernel in [
             "gradient.magnitude_l1",
             "gradient.magnitude_l2",
+            "gradient.magnitude_l2_round",
             "gradient.direction",
         ] {
             let expected =
@@ -353,6 +371,13 @@ pub fn run_vector(
             1,
             &run_pair(&gx, &gy, w, h, gradient::magnitude_l2_approx)?,
         ),
+        "gradient.magnitude_l2_round" => Blob::from_u16(
+            "mag",
+            w,
+            h,
+            1,
+            &run_pair(&gx, &gy, w, h, gradient::magnitude_l2_round)?,
+        ),
         "gradient.direction" => Blob::from_u8(
             "dir",
             w,
@@ -389,6 +414,11 @@ mod tests {
             assert_eq!(
                 gradient::direction_sector(x, y),
                 reference_sector(x, y),
+                "({x},{y})"
+            );
+            assert_eq!(
+                gradient::l2_round(x, y) as f64,
+                reference_l2_round(x, y),
                 "({x},{y})"
             );
             let t = reference_l2(x, y);

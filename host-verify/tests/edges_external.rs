@@ -6,8 +6,9 @@
 //! own automatic thresholds divided by the chain's gradient scale (4), so
 //! both detectors threshold the same Sobel magnitude; imageproc smooths
 //! with its own Gaussian (sigma 1.4 in its source, from memory), the chain
-//! with the binomial `[1 4 6 4 1]/16` (sigma 1), so the figure measures
-//! agreement between two reasonable Canny set-ups, not an error.
+//! with a 7-tap Gaussian of sigma 1 (taps `[1 14 62 102 62 14 1]/256`), so
+//! the figure measures agreement between two reasonable Canny set-ups, not
+//! an error.
 
 use fixsight_verify::canny::{agreement, run_chain, DEMO, GRAD_SCALE};
 use fixsight_verify::scene::demo_scenes;
@@ -32,7 +33,7 @@ fn chain_agrees_with_imageproc_canny_on_the_demo_scenes() {
         );
         worst = worst.min(ag.f1);
     }
-    // Measured: F1 0.82 / 0.88 / 0.66 with recall >= 0.985 on every scene
+    // Measured: F1 0.81 / 0.89 / 0.63 with recall >= 0.96 on every scene
     // (the chain finds nearly every imageproc edge; imageproc's wider
     // Gaussian drops more noise edges). The floor sits below the measured
     // worst; a drop under it means the chain no longer finds the same edges.

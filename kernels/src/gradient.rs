@@ -20,6 +20,20 @@
 //!   (value `sqrt(alpha^2 + beta^2)`) and smallest at an end point, so the
 //!   bound is `max(sqrt(alpha^2+beta^2) - 1, 1 - alpha, 1 - (alpha+beta)/sqrt 2)
 //!   = 4.027 %` (see [`L2_APPROX_REL_ERR_PPM`]); rounding adds at most 0.5 LSB.
+//! * **Rounded L2 magnitude** ([`magnitude_l2_round`]): the integer nearest
+//!   to `sqrt(ax^2 + ay^2)`, exact. `s = ax^2 + ay^2` is a `u32` (at most
+//!   `2 * 32767^2 = 2147352578 < 2^31`); `r = floor(sqrt(s))` by the
+//!   bit-by-bit square root: `k` steps, where `k = 4, 8, 12, 16` for `s`
+//!   below `2^8, 2^16, 2^24` or above (three compares; leading steps on a
+//!   smaller `s` would change nothing), `bit` runs over
+//!   `4^(k-1), ..., 4, 1`; each step forms `t = root + bit`, halves `root`,
+//!   and when `rem >= t` subtracts `t` from `rem` and adds `bit` to `root`;
+//!   at the end `root = r`, `rem = s - r^2`. The result is `r + 1` when
+//!   `rem > r`, else `r`. Only the result is the contract; a port may take
+//!   the square root any exact way. Because `s` is an integer, `sqrt(s)` is never
+//!   exactly `r + 1/2` (that would need `s = r^2 + r + 1/4`), so there is
+//!   no tie and the result is `round(sqrt(s))` under any rounding rule; at
+//!   most 46340, so it fits `u16`.
 //! * **Direction** ([`direction_sector`]): the gradient angle
 //!   `theta = atan2(gy, gx)` (x to the right, y down the rows), folded to
 //!   `[0, 180)` degrees, quantised to the nearest of 0, 45, 90, 135 degrees
@@ -82,6 +96,61 @@ pub fn l2_approx(gx: i16, gy: i16) -> u16 {
     let ay = abs_sat_i16(gy) as i32;
     let (hi, lo) = if ax >= ay { (ax, ay) } else { (ay, ax) };
     sat_u16((L2_ALPHA * hi + L2_BETA * lo + (1 << (L2_SHIFT - 1))) >> L2_SHIFT)
+}
+
+/// Steps of the bit-by-bit square root of `s < 2^32` (two bits of the
+/// radicand per step): 4, 8, 12 or 16.
+#[inline(always)]
+fn sqrt_steps(s: u32) -> u32 {
+    if s < 1 << 8 {
+        4
+    } else if s < 1 << 16 {
+        8
+    } else if s < 1 << 24 {
+        12
+    } else {
+        16
+    }
+}
+
+/// `floor(sqrt(s))` and `s - floor(sqrt(s))^2` in `steps` bit-by-bit steps
+/// (`s < 4^steps`).
+#[inline(always)]
+fn sqrt_rem(s: u32, steps: u32) -> (u32, u32) {
+    let mut rem = s;
+    let mut root = 0u32;
+    let mut bit = 1u32 << (2 * (steps - 1));
+    for _ in 0..steps {
+        let t = root + bit;
+        root >>= 1;
+        if rem >= t {
+            rem -= t;
+            root += bit;
+        }
+        bit >>= 2;
+    }
+    (root, rem)
+}
+
+/// The integer nearest to `sqrt(gx^2 + gy^2)` (saturating absolute values;
+/// see the module docs for the exact steps). Exact: the error is at most
+/// half an LSB and there are no ties.
+///
+/// ```
+/// use fixsight::gradient::l2_round;
+/// assert_eq!(l2_round(300, 400), 500);
+/// assert_eq!(l2_round(1, 1), 1);     // sqrt 2 = 1.414
+/// assert_eq!(l2_round(1, 2), 2);     // sqrt 5 = 2.236
+/// assert_eq!(l2_round(-32768, -32768), 46340); // saturated to 32767
+/// ```
+#[inline(always)]
+pub fn l2_round(gx: i16, gy: i16) -> u16 {
+    let ax = abs_sat_i16(gx) as u32;
+    let ay = abs_sat_i16(gy) as u32;
+    let s = ax * ax + ay * ay;
+    let (root, rem) = sqrt_rem(s, sqrt_steps(s));
+    // root = floor(sqrt(s)) <= 46339, rem = s - root^2; round to nearest.
+    sat_u16((root + u32::from(rem > root)) as i32)
 }
 
 /// Gradient direction quantised to 4 sectors: 0 (0 deg), 1 (45 deg),
@@ -217,6 +286,45 @@ pub fn magnitude_l2_approx_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Resul
     Ok(())
 }
 
+/// Rounded L2 magnitude of one row: `out[i] = l2_round(gx[i], gy[i])`.
+///
+/// Errors: `gy` or `out` shorter than `gx` -> [`Error::BufferTooShort`].
+///
+/// ```
+/// let mut out = [0u16; 2];
+/// fixsight::gradient::magnitude_l2_round_row(&[30, -7], &[40, 7], &mut out)?;
+/// assert_eq!(out, [50, 10]); // sqrt 98 = 9.899
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
+    let n = row_len(gx, gy, out.len())?;
+    // Square-root steps and step-count compares of the row.
+    let (mut k, mut c) = (0u32, 0u32);
+    for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
+        *o = l2_round(a, b);
+        let (ax, ay) = (abs_sat_i16(a) as u32, abs_sat_i16(b) as u32);
+        let steps = sqrt_steps(ax * ax + ay * ay);
+        k += steps;
+        c += (steps / 4).min(3);
+    }
+    // Per pixel: loads 2, abs 2x(compare+negate), one mul + one mac for the
+    // sum of squares, 1 to 3 compares and branches choosing the step count;
+    // per square-root step an add (t), a shift (root), a compare, a
+    // conditional subtract and add (counted as two adds and one select,
+    // whichever way it goes), a shift (bit) and the loop branch; then the
+    // rounding compare and add, store 1, loop branch 1.
+    let n = n as u32;
+    tally(Op::Load, 2 * n);
+    tally(Op::Logic, 3 * n + c + 2 * k);
+    tally(Op::AddSub, 3 * n + 3 * k);
+    tally(Op::Mul, n);
+    tally(Op::Mac, n);
+    tally(Op::Shift, 2 * k);
+    tally(Op::Store, n);
+    tally(Op::Branch, n + c + k);
+    Ok(())
+}
+
 /// Direction sectors of one row: `out[i] = direction_sector(gx[i], gy[i])`.
 ///
 /// ```
@@ -282,6 +390,27 @@ pub fn magnitude_l2_approx(
     map_pair(gx, gy, out, magnitude_l2_approx_row)
 }
 
+/// Rounded L2 magnitude of a frame ([`l2_round`] per pixel).
+///
+/// Errors: `gx`, `gy` and `out` must be single-channel and of one size
+/// ([`Error::SizeMismatch`], [`Error::UnsupportedChannels`]).
+///
+/// ```
+/// use fixsight::{gradient, ImageView, ImageViewMut};
+/// let (gx, gy, mut m) = ([0i16, 5], [1000i16, 5], [0u16; 2]);
+/// gradient::magnitude_l2_round(&ImageView::new(&gx, 2, 1, 2)?, &ImageView::new(&gy, 2, 1, 2)?,
+///     &mut ImageViewMut::new(&mut m, 2, 1, 2)?)?;
+/// assert_eq!(m, [1000, 7]); // sqrt 50 = 7.07
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn magnitude_l2_round(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, u16>,
+) -> Result<()> {
+    map_pair(gx, gy, out, magnitude_l2_round_row)
+}
+
 /// Direction sectors of a frame.
 ///
 /// ```
@@ -318,6 +447,40 @@ mod tests {
         ));
         assert!(matches!(
             magnitude_l1_row(&a, &b[..1], &mut [0u16; 4]),
+            Err(Error::BufferTooShort { .. })
+        ));
+    }
+
+    #[test]
+    fn l2_round_is_the_nearest_integer_by_integer_comparison() {
+        // Independent integer check: r is nearest to sqrt(s) exactly when
+        // (2r - 1)^2 < 4s < (2r + 1)^2 (no equality is possible).
+        let check = |x: i16, y: i16| {
+            let (ax, ay) = (abs_sat_i16(x) as u64, abs_sat_i16(y) as u64);
+            let s4 = 4 * (ax * ax + ay * ay);
+            let r = l2_round(x, y) as u64;
+            assert!(r == 0 || (2 * r - 1) * (2 * r - 1) < s4, "({x},{y}) -> {r}");
+            assert!(s4 < (2 * r + 1) * (2 * r + 1), "({x},{y}) -> {r}");
+        };
+        for x in -200i16..=200 {
+            for y in -60i16..=60 {
+                check(x, y);
+            }
+        }
+        // Around the step-count switches s = 2^8, 2^16, 2^24.
+        for x in (250i16..=262).chain(4090..=4100) {
+            for y in -3i16..=3 {
+                check(x, y);
+            }
+        }
+        for x in [i16::MIN, -32767, -32766, -1, 0, 1, 23170, 32766, 32767] {
+            for y in [i16::MIN, -32767, -16384, -1, 0, 1, 23170, 23171, 32767] {
+                check(x, y);
+            }
+        }
+        let mut bad = [0u16; 3];
+        assert!(matches!(
+            magnitude_l2_round_row(&[1, 2, 3, 4], &[1, 2, 3, 4], &mut bad),
             Err(Error::BufferTooShort { .. })
         ));
     }

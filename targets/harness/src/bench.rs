@@ -12,8 +12,8 @@
 //!
 //! plus the other presets (binomial3/7, Scharr) for comparison; then the
 //! edge chain of `edges.chain` (`host-verify/src/canny.rs`) on the frame,
-//! with its fused smoothed Sobel (7 taps, gradients 4x Sobel) and demo
-//! threshold rule:
+//! with its fused smoothed Sobel (9 taps: the 7-tap Gaussian with Sobel,
+//! gradients 4x Sobel), rounded L2 magnitude and demo threshold rule:
 //!
 //! ```text
 //! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2--> mag2
@@ -107,20 +107,20 @@ const SOBEL_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[1, 2, 1], 0, "i16");
 const SOBEL_Y: [(&str, Param); 6] = sep(&[1, 2, 1], 0, &[-1, 0, 1], 0, "i16");
 const SCHARR_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[3, 10, 3], 0, "i16");
 /// The edge chain's smoothed Sobel (`smoothed_sobel` in
-/// `host-verify/src/canny.rs`): binomial5 convolved with Sobel's taps, one
-/// rounding, gradients 4x Sobel.
+/// `host-verify/src/canny.rs`): the 7-tap Gaussian `[1 14 62 102 62 14 1]/256`
+/// convolved with Sobel's taps, one rounding, gradients 4x Sobel.
 const CHAIN_SOBEL_X: [(&str, Param); 6] = sep(
-    &[-1, -4, -5, 0, 5, 4, 1],
-    3,
-    &[1, 6, 15, 20, 15, 6, 1],
-    3,
+    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
+    7,
+    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
+    7,
     "i16",
 );
 const CHAIN_SOBEL_Y: [(&str, Param); 6] = sep(
-    &[1, 6, 15, 20, 15, 6, 1],
-    3,
-    &[-1, -4, -5, 0, 5, 4, 1],
-    3,
+    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
+    7,
+    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
+    7,
     "i16",
 );
 /// The edge chain's demo threshold rule (`DEMO` in `host-verify/src/canny.rs`:
@@ -248,7 +248,7 @@ pub static STAGES: &[Stage] = &[
     },
     Stage {
         name: "chain_magnitude_l2",
-        kernel: "gradient.magnitude_l2",
+        kernel: "gradient.magnitude_l2_round",
         params: &[],
         inputs: &[2, 3],
         outputs: &[5],

@@ -150,16 +150,18 @@ pub fn thinning(
 }
 
 /// The chain's smoothed Sobel (`smoothed_sobel` in `host-verify/src/canny.rs`):
-/// horizontal `[-1 -4 -5 0 5 4 1]` and vertical `[1 6 15 20 15 6 1]`, each
-/// shift 3, replicated border; swapped for the vertical derivative.
+/// the 7-tap Gaussian `[1 14 62 102 62 14 1]/256` convolved with Sobel's
+/// taps, horizontal `[-1 -14 -61 -88 0 88 61 14 1]` and vertical
+/// `[1 16 91 240 328 240 91 16 1]`, each shift 7, replicated border;
+/// swapped for the vertical derivative.
 fn smoothed_sobel(vertical: bool) -> Result<SeparableFilter, Fail> {
-    let d = Taps::new(&[-1, -4, -5, 0, 5, 4, 1], 3)?;
-    let s = Taps::new(&[1, 6, 15, 20, 15, 6, 1], 3)?;
+    let d = Taps::new(&[-1, -14, -61, -88, 0, 88, 61, 14, 1], 7)?;
+    let s = Taps::new(&[1, 16, 91, 240, 328, 240, 91, 16, 1], 7)?;
     let (h, v) = if vertical { (s, d) } else { (d, s) };
     Ok(SeparableFilter::new(h, v, Border::Replicate)?)
 }
 
-/// `edges.chain`: smoothed Sobel x and y, `magnitude_l2_approx`,
+/// `edges.chain`: smoothed Sobel x and y, `magnitude_l2_round`,
 /// `direction`, `nms::suppress`, automatic thresholds, `classify`,
 /// `hysteresis`, `thin` (`run_chain` in `host-verify/src/canny.rs`); the
 /// codes are written to the output and the last two steps run there in
@@ -186,7 +188,7 @@ pub fn chain(
     row.fill(0);
     smoothed_sobel(true)?.apply(&sv, &mut ImageViewMut::new(gy, w, h, w)?, row)?;
     let (vx, vy) = (ImageView::new(gx, w, h, w)?, ImageView::new(gy, w, h, w)?);
-    gradient::magnitude_l2_approx(&vx, &vy, &mut ImageViewMut::new(mag, w, h, w)?)?;
+    gradient::magnitude_l2_round(&vx, &vy, &mut ImageViewMut::new(mag, w, h, w)?)?;
     gradient::direction(&vx, &vy, &mut ImageViewMut::new(dir, w, h, w)?)?;
     let (mv, dv) = (ImageView::new(mag, w, h, w)?, ImageView::new(dir, w, h, w)?);
     nms::suppress(&mv, &dv, &mut ImageViewMut::new(sup, w, h, w)?)?;

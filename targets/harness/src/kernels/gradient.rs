@@ -27,6 +27,19 @@ pub fn magnitude_l2(
     Ok(())
 }
 
+/// `gradient.magnitude_l2_round`: output `mag` (u16), the nearest integer
+/// to the Euclidean magnitude.
+pub fn magnitude_l2_round(
+    _p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    _arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
+    gradient::magnitude_l2_round(&gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
+    Ok(())
+}
+
 /// `gradient.direction`: output `dir` (u8), sectors 0..=3.
 pub fn direction(
     _p: &Params,
