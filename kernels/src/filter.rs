@@ -28,6 +28,11 @@
 //! The implementation sums each column vertically first (one `i32` row), then
 //! filters that row horizontally; both forms ([`SeparableFilter::apply`] and
 //! [`FilterStream`]) call the same two passes, so they are bit-identical.
+//! The preset tap sets `[1 2 1]`, `[1 4 6 4 1]`, `[1 6 15 20 15 6 1]`,
+//! `[-1 0 1]` and `[3 10 3]` (recognised by their coefficients, whichever
+//! constructor built them) run as constant shift-and-add forms in both passes
+//! when no row or column of the window lies in a constant border; the
+//! integer sums are regrouped, not approximated, so the output is the same.
 //!
 //! # Memory
 //! * whole frame: a caller scratch of `width` `i32`;
@@ -415,6 +420,26 @@ impl SeparableFilter {
         acc: &mut [i32],
     ) {
         let r = self.v.radius() as isize;
+        // Preset tap sets with every row inside the image (or clamped by
+        // the replicate rule) take a shift-and-add form with constant taps.
+        if let Some(kind) = FixedTaps::of(self.v.coefficients()) {
+            let inside = y as isize >= r && y as isize + r < height as isize;
+            if inside || self.border == Border::Replicate {
+                let mut rows: [&[u8]; MAX_TAPS] = [&[]; MAX_TAPS];
+                for (j, slot) in rows.iter_mut().enumerate().take(2 * r as usize + 1) {
+                    let yy = (y as isize + j as isize - r).clamp(0, height as isize - 1);
+                    *slot = row(yy as usize);
+                }
+                kind.column_sum(&rows, acc);
+                // Per pixel: the form's loads and arithmetic, one store, one
+                // loop branch.
+                let w = acc.len() as u32;
+                kind.tally_px(w);
+                tally(Op::Store, w);
+                tally(Op::Branch, w);
+                return;
+            }
+        }
         // Constant border rows contribute c * v[j] to every column.
         let mut bias = 0i32;
         if let Border::Constant(c) = self.border {
@@ -497,28 +522,41 @@ impl SeparableFilter {
             }
             T::from_acc(sum, s)
         };
+        let k = taps.len() as u32;
         if w > 2 * r {
             for x in 0..r {
                 out[x] = border_px(x);
                 out[w - 1 - x] = border_px(w - 1 - x);
             }
             let interior = &mut out[r..w - r];
-            match taps.len() {
-                1 => dot_row::<T, 1>(taps, acc, interior, s),
-                3 => dot_row::<T, 3>(taps, acc, interior, s),
-                5 => dot_row::<T, 5>(taps, acc, interior, s),
-                7 => dot_row::<T, 7>(taps, acc, interior, s),
-                _ => dot_row::<T, 9>(taps, acc, interior, s),
+            let fixed = FixedTaps::of(taps);
+            match (fixed, taps.len()) {
+                (Some(kind), _) => kind.dot_row(acc, interior, s),
+                (None, 1) => dot_row::<T, 1>(taps, acc, interior, s),
+                (None, 3) => dot_row::<T, 3>(taps, acc, interior, s),
+                (None, 5) => dot_row::<T, 5>(taps, acc, interior, s),
+                (None, 7) => dot_row::<T, 7>(taps, acc, interior, s),
+                (None, _) => dot_row::<T, 9>(taps, acc, interior, s),
+            }
+            // Border pixels: one load and one MAC per tap.
+            let (nb, ni) = (2 * r as u32, (w - 2 * r) as u32);
+            tally(Op::Load, nb * k);
+            tally(Op::Mac, nb * k);
+            match fixed {
+                Some(kind) => kind.tally_px(ni),
+                None => {
+                    tally(Op::Load, ni * k);
+                    tally(Op::Mac, ni * k);
+                }
             }
         } else {
             for (x, o) in out.iter_mut().enumerate().take(w) {
                 *o = border_px(x);
             }
+            tally(Op::Load, w as u32 * k);
+            tally(Op::Mac, w as u32 * k);
         }
         let n = w as u32;
-        let k = taps.len() as u32;
-        tally(Op::Load, n * k);
-        tally(Op::Mac, n * k);
         // Rounding offset, shift, two saturation compares, store, loop branch.
         tally(Op::AddSub, n);
         tally(Op::Shift, n);
@@ -547,6 +585,136 @@ fn dot_row<T: FilterOutput, const N: usize>(taps: &[i32], acc: &[i32], out: &mut
             sum += k[t] * shifted[t][i];
         }
         *o = T::from_rounded((sum + half) >> s);
+    }
+}
+
+/// `acc[x] = form(...)` over input rows bound by name: each row is sliced
+/// to `acc.len()` once, so the loop indexes without bounds checks and
+/// keeps every row pointer in a register.
+macro_rules! column_form {
+    ($rows:expr, $acc:expr, [$($p:ident = $j:expr),+], $form:block) => {{
+        let w = $acc.len();
+        let acc = &mut $acc[..w];
+        $(let $p = &$rows[$j][..w];)+
+        for x in 0..w {
+            $(let $p = $p[x] as i32;)+
+            acc[x] = $form;
+        }
+    }};
+}
+
+/// `out[i] = from_rounded((form(acc[i + j]...) + half) >> s)` over shifted
+/// views of the accumulator row bound by name, all of length `out.len()`.
+macro_rules! dot_form {
+    ($T:ty, $acc:expr, $out:expr, $s:expr, [$($p:ident = $j:expr),+], $form:block) => {{
+        let n = $out.len();
+        let out = &mut $out[..n];
+        $(let $p = &$acc[$j..$j + n];)+
+        let s = $s;
+        let half = if s == 0 { 0 } else { 1i32 << (s - 1) };
+        for i in 0..n {
+            $(let $p = $p[i];)+
+            out[i] = <$T>::from_rounded(($form + half) >> s);
+        }
+    }};
+}
+
+/// Preset tap sets computed with constant taps (shifts, adds and constant
+/// multiplies). Every form equals the tap-by-tap sum exactly: the terms are
+/// regrouped, and no partial sum exceeds `sum|c| * max|input|`, which the
+/// construction check bounds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum FixedTaps {
+    /// `[1 2 1]`: `p0 + p2 + (p1 << 1)`.
+    Binomial3,
+    /// `[1 4 6 4 1]`: `(p0 + p4) + ((p1 + p3) << 2) + 6 * p2`.
+    Binomial5,
+    /// `[1 6 15 20 15 6 1]`:
+    /// `(p0 + p6) + 6 * (p1 + p5) + 15 * (p2 + p4) + 20 * p3`.
+    Binomial7,
+    /// `[-1 0 1]`: `p2 - p0` (the centre is not read).
+    Diff3,
+    /// `[3 10 3]`: `3 * (p0 + p2) + 10 * p1`.
+    Scharr3,
+}
+
+impl FixedTaps {
+    fn of(c: &[i32]) -> Option<Self> {
+        match c {
+            [1, 2, 1] => Some(Self::Binomial3),
+            [1, 4, 6, 4, 1] => Some(Self::Binomial5),
+            [1, 6, 15, 20, 15, 6, 1] => Some(Self::Binomial7),
+            [-1, 0, 1] => Some(Self::Diff3),
+            [3, 10, 3] => Some(Self::Scharr3),
+            _ => None,
+        }
+    }
+
+    /// Tallies `n` evaluations of the form: its loads and arithmetic.
+    fn tally_px(self, n: u32) {
+        // (loads, add/sub, shifts, multiplies by a constant)
+        let (ld, add, sh, mul) = match self {
+            Self::Binomial3 => (3, 2, 1, 0),
+            Self::Binomial5 => (5, 4, 1, 1),
+            Self::Binomial7 => (7, 6, 0, 3),
+            Self::Diff3 => (2, 1, 0, 0),
+            Self::Scharr3 => (3, 2, 0, 2),
+        };
+        tally(Op::Load, n * ld);
+        tally(Op::AddSub, n * add);
+        tally(Op::Shift, n * sh);
+        tally(Op::Mul, n * mul);
+    }
+
+    /// `acc[x] = form(rows[0][x], rows[1][x], ...)`, rows `0..len`.
+    #[inline(always)]
+    fn column_sum(self, rows: &[&[u8]; MAX_TAPS], acc: &mut [i32]) {
+        match self {
+            Self::Binomial3 => {
+                column_form!(rows, acc, [p0 = 0, p1 = 1, p2 = 2], { p0 + p2 + (p1 << 1) })
+            }
+            Self::Binomial5 => column_form!(rows, acc, [p0 = 0, p1 = 1, p2 = 2, p3 = 3, p4 = 4], {
+                (p0 + p4) + ((p1 + p3) << 2) + 6 * p2
+            }),
+            Self::Binomial7 => column_form!(
+                rows,
+                acc,
+                [p0 = 0, p1 = 1, p2 = 2, p3 = 3, p4 = 4, p5 = 5, p6 = 6],
+                { (p0 + p6) + 6 * (p1 + p5) + 15 * (p2 + p4) + 20 * p3 }
+            ),
+            Self::Diff3 => column_form!(rows, acc, [p0 = 0, p2 = 2], { p2 - p0 }),
+            Self::Scharr3 => column_form!(rows, acc, [p0 = 0, p1 = 1, p2 = 2], {
+                3 * (p0 + p2) + 10 * p1
+            }),
+        }
+    }
+
+    /// Interior of the horizontal pass: `out[i] = from_rounded((form(acc[i ..
+    /// i + len]) + half) >> s)`.
+    #[inline(always)]
+    fn dot_row<T: FilterOutput>(self, acc: &[i32], out: &mut [T], s: u32) {
+        match self {
+            Self::Binomial3 => dot_form!(T, acc, out, s, [p0 = 0, p1 = 1, p2 = 2], {
+                p0 + p2 + (p1 << 1)
+            }),
+            Self::Binomial5 => {
+                dot_form!(T, acc, out, s, [p0 = 0, p1 = 1, p2 = 2, p3 = 3, p4 = 4], {
+                    (p0 + p4) + ((p1 + p3) << 2) + 6 * p2
+                })
+            }
+            Self::Binomial7 => dot_form!(
+                T,
+                acc,
+                out,
+                s,
+                [p0 = 0, p1 = 1, p2 = 2, p3 = 3, p4 = 4, p5 = 5, p6 = 6],
+                { (p0 + p6) + 6 * (p1 + p5) + 15 * (p2 + p4) + 20 * p3 }
+            ),
+            Self::Diff3 => dot_form!(T, acc, out, s, [p0 = 0, p2 = 2], { p2 - p0 }),
+            Self::Scharr3 => dot_form!(T, acc, out, s, [p0 = 0, p1 = 1, p2 = 2], {
+                3 * (p0 + p2) + 10 * p1
+            }),
+        }
     }
 }
 
@@ -1010,6 +1178,58 @@ mod tests {
             SeparableFilter::new(bad, bad, Border::Replicate),
             Err(Error::AccumulatorOverflow { .. })
         ));
+    }
+
+    #[test]
+    fn constant_tap_forms_equal_the_tap_by_tap_sums() {
+        let sets: [&[i32]; 5] = [
+            &[1, 2, 1],
+            &[1, 4, 6, 4, 1],
+            &[1, 6, 15, 20, 15, 6, 1],
+            &[-1, 0, 1],
+            &[3, 10, 3],
+        ];
+        const W: usize = 23;
+        let mut data = [[0u8; W]; 7];
+        for (j, r) in data.iter_mut().enumerate() {
+            for (x, p) in r.iter_mut().enumerate() {
+                *p = match (x + j) % 5 {
+                    0 => 0,
+                    1 => 255,
+                    _ => ((x * 37 + j * 91) % 256) as u8,
+                };
+            }
+        }
+        for c in sets {
+            let kind = FixedTaps::of(c).unwrap();
+            let n = c.len();
+            let mut rows: [&[u8]; MAX_TAPS] = [&[]; MAX_TAPS];
+            let mut coefs = [0i32; MAX_TAPS];
+            for j in 0..n {
+                rows[j] = &data[j];
+                coefs[j] = c[j];
+            }
+            let (mut fixed, mut generic) = ([0i32; W], [0i32; W]);
+            kind.column_sum(&rows, &mut fixed);
+            match n {
+                3 => column_sum::<3>(&rows, &coefs, 0, &mut generic),
+                5 => column_sum::<5>(&rows, &coefs, 0, &mut generic),
+                _ => column_sum::<7>(&rows, &coefs, 0, &mut generic),
+            }
+            assert_eq!(fixed, generic, "column form of {c:?}");
+            // Horizontal: an accumulator row with the extreme column sums.
+            let acc: [i32; W] = core::array::from_fn(|x| fixed[x] * 255 - 128 * (x as i32 % 3));
+            for s in [0, 3, 8] {
+                let (mut a, mut b) = ([0i16; W], [0i16; W]);
+                kind.dot_row(&acc, &mut a[..W + 1 - n], s);
+                match n {
+                    3 => dot_row::<i16, 3>(c, &acc, &mut b[..W + 1 - n], s),
+                    5 => dot_row::<i16, 5>(c, &acc, &mut b[..W + 1 - n], s),
+                    _ => dot_row::<i16, 7>(c, &acc, &mut b[..W + 1 - n], s),
+                }
+                assert_eq!(a, b, "row form of {c:?}, shift {s}");
+            }
+        }
     }
 
     #[test]
