@@ -579,12 +579,13 @@ fn dot_row<T: FilterOutput, const N: usize>(taps: &[i32], acc: &[i32], out: &mut
     // bounds checks and vectorises.
     let shifted: [&[i32]; N] = core::array::from_fn(|t| &acc[t..t + n]);
     let half = if s == 0 { 0 } else { 1i32 << (s - 1) };
-    for (i, o) in out.iter_mut().enumerate() {
+    let out = &mut out[..n];
+    for i in 0..n {
         let mut sum = 0i32;
         for t in 0..N {
             sum += k[t] * shifted[t][i];
         }
-        *o = T::from_rounded((sum + half) >> s);
+        out[i] = T::from_rounded((sum + half) >> s);
     }
 }
 
@@ -727,13 +728,14 @@ fn column_sum<const N: usize>(
     acc: &mut [i32],
 ) {
     let w = acc.len();
+    let acc = &mut acc[..w];
     let r: [&[u8]; N] = core::array::from_fn(|t| &rows[t][..w]);
-    for (x, a) in acc.iter_mut().enumerate() {
+    for x in 0..w {
         let mut sum = bias;
         for t in 0..N {
             sum += coefs[t] * r[t][x] as i32;
         }
-        *a = sum;
+        acc[x] = sum;
     }
 }
 
