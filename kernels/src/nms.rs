@@ -55,7 +55,7 @@
 //! ```
 
 use crate::error::{Error, Result};
-use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut, MAX_DIM};
+use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, Op};
 
 /// Neighbour offsets `(before, after)` of each sector, as `(dx, dy)`.
@@ -254,16 +254,7 @@ impl<'b> NmsStream<'b> {
     /// assert!(fixsight::nms::NmsStream::new(11, 5, &mut m, &mut d).is_err());
     /// ```
     pub fn new(width: usize, height: usize, mag: &'b mut [u16], dir: &'b mut [u8]) -> Result<Self> {
-        if width == 0 || height == 0 {
-            return Err(Error::ZeroSize { width, height });
-        }
-        if width > MAX_DIM || height > MAX_DIM {
-            return Err(Error::TooLarge {
-                width,
-                height,
-                limit: MAX_DIM,
-            });
-        }
+        check_dims(width, height)?;
         let needed = RING * width;
         if mag.len() < needed {
             return Err(Error::BufferTooShort {
