@@ -817,6 +817,9 @@ impl<'f, 'b> FilterStream<'f, 'b> {
                 got: acc.len(),
             });
         }
+        // Keep exactly one row of accumulators: the passes size their
+        // loops from it.
+        let acc = &mut acc[..width];
         Ok(Self {
             filter,
             width,

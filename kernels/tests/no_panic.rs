@@ -1,0 +1,134 @@
+//! Public kernel APIs never panic: arbitrary sizes, strides, channel
+//! counts, buffer lengths, thresholds and call orders give `Ok` or a typed
+//! `Err`, never a panic (debug build, overflow checks on).
+
+use fixed::types::U0F16;
+use fixsight::filter::{self, Border, FilterStream, SeparableFilter, Taps};
+use fixsight::{gradient, hysteresis, nms, thinning};
+use fixsight::{ImageView, ImageViewMut};
+use proptest::prelude::*;
+
+/// An arbitrary, usually inconsistent, layout: (width, height, stride,
+/// channels, buffer length).
+fn layout() -> impl Strategy<Value = (usize, usize, usize, usize, usize)> {
+    (
+        prop_oneof![
+            0usize..20,
+            Just(32767usize),
+            Just(32768usize),
+            Just(usize::MAX)
+        ],
+        prop_oneof![0usize..20, Just(32768usize), Just(usize::MAX / 2)],
+        prop_oneof![0usize..80, Just(usize::MAX)],
+        0usize..6,
+        0usize..600,
+    )
+}
+
+fn taps() -> impl Strategy<Value = (Vec<i16>, u32)> {
+    (prop::collection::vec(any::<i16>(), 0..12), 0u32..20)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn views_and_filters((w, h, st, ch, len) in layout(), (w2, h2, st2, ch2, len2) in layout(),
+                         (ht, hs) in taps(), (vt, vs) in taps(), scratch in 0usize..40,
+                         b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+        let src = vec![7u8; len];
+        let mut dst8 = vec![0u8; len2];
+        let mut dst16 = vec![0i16; len2];
+        let mut s = vec![0i32; scratch];
+        let v = ImageView::interleaved(&src, w, h, st, ch);
+        if let Ok(v) = &v {
+            // Every accepted view can be read row by row without panicking.
+            for y in 0..v.height() + 1 {
+                let _ = v.row(y);
+                let _ = v.pixel(v.width(), y);
+            }
+        }
+        let filters: Vec<SeparableFilter> = match (Taps::new(&ht, hs), Taps::new(&vt, vs)) {
+            (Ok(a), Ok(c)) => SeparableFilter::new(a, c, b).into_iter().collect(),
+            _ => vec![filter::binomial7(b), filter::sobel_x(b)],
+        };
+        for f in &filters {
+            if let (Ok(v), Ok(mut d)) = (&v, ImageViewMut::interleaved(&mut dst8, w2, h2, st2, ch2)) {
+                let _ = f.apply(v, &mut d, &mut s);
+            }
+            if let (Ok(v), Ok(mut d)) = (&v, ImageViewMut::interleaved(&mut dst16, w2, h2, st2, ch2)) {
+                let _ = f.apply(v, &mut d, &mut s);
+            }
+        }
+    }
+
+    #[test]
+    fn streams_in_any_call_order(w in 0usize..12, h in 0usize..8, ring in 0usize..120, acc in 0usize..14,
+                                 calls in prop::collection::vec((any::<bool>(), 0usize..14, 0usize..14), 0..24)) {
+        let f = filter::binomial5(Border::Replicate);
+        let mut r = vec![0u8; ring];
+        let mut a = vec![0i32; acc];
+        if let Ok(mut st) = FilterStream::new(&f, w, h, &mut r, &mut a) {
+            for (push, inlen, outlen) in calls {
+                let row = vec![1u8; inlen];
+                let mut out = vec![0u8; outlen];
+                let _ = if push { st.push_row(&row, &mut out) } else { st.flush_row(&mut out) };
+            }
+        }
+        let (mut m, mut d) = (vec![0u16; ring], vec![0u8; ring]);
+        if let Ok(mut st) = nms::NmsStream::new(w, h, &mut m, &mut d) {
+            for i in 0..(h + 3) {
+                let mut out = vec![0u16; w.saturating_sub(i % 2)];
+                let _ = st.push_row(&vec![5u16; w], &vec![(i % 6) as u8; w], &mut out);
+                let _ = st.flush_row(&mut out);
+            }
+        }
+    }
+
+    #[test]
+    fn gradient_and_edge_kernels((w, h, st, _ch, len) in layout(), (w2, h2, st2, _c2, len2) in layout(),
+                                 dirs in prop::collection::vec(0u8..8, 1..64),
+                                 codes in prop::collection::vec(0u8..5, 1..64),
+                                 low in any::<u16>(), high in any::<u16>(), stack in 0usize..12,
+                                 hist in 0usize..40, shift in 0u32..40, permille in any::<u16>(), frac in any::<u16>()) {
+        let gx = vec![i16::MIN; len];
+        let gy = vec![i16::MAX; len];
+        let mut o16 = vec![0u16; len2];
+        let mut o8 = vec![0u8; len2];
+        if let (Ok(a), Ok(b)) = (ImageView::new(&gx, w, h, st), ImageView::new(&gy, w, h, st)) {
+            if let Ok(mut o) = ImageViewMut::new(&mut o16, w2, h2, st2) {
+                let _ = gradient::magnitude_l1(&a, &b, &mut o);
+                let _ = gradient::magnitude_l2_approx(&a, &b, &mut o);
+                let _ = gradient::magnitude_l2_round(&a, &b, &mut o);
+            }
+            if let Ok(mut o) = ImageViewMut::new(&mut o8, w2, h2, st2) {
+                let _ = gradient::direction(&a, &b, &mut o);
+            }
+        }
+        let n = dirs.len();
+        let mags: Vec<u16> = (0..n).map(|i| (i * 977 % 65536) as u16).collect();
+        let mut out = vec![0u16; n];
+        let (mw, mh) = (w.clamp(1, n), n / w.clamp(1, n));
+        if let (Ok(m), Ok(d), Ok(mut o)) = (ImageView::new(&mags, mw, mh, mw), ImageView::new(&dirs, mw, mh, mw),
+                                          ImageViewMut::new(&mut out, mw, mh, mw)) {
+            let _ = nms::suppress(&m, &d, &mut o);
+            let mut hbuf = vec![0u32; hist];
+            let _ = hysteresis::Thresholds::from_histogram(&m, &mut hbuf, shift, permille, U0F16::from_bits(frac));
+            if let Ok(t) = hysteresis::Thresholds::new(low, high) {
+                let mut c = vec![0u8; n];
+                if let Ok(mut cv) = ImageViewMut::new(&mut c, mw, mh, mw) {
+                    let _ = hysteresis::classify(&m, &t, &mut cv);
+                }
+            }
+        }
+        let mut map = codes.clone();
+        let cw = w.clamp(1, map.len());
+        let ch = map.len() / cw;
+        let mut stk = vec![0u32; stack];
+        if let Ok(mut mv) = ImageViewMut::new(&mut map, cw, ch, cw) {
+            let _ = hysteresis::hysteresis(&mut mv, &mut stk);
+            let mut scratch = vec![0u8; stack * 3];
+            let _ = thinning::thin(&mut mv, &mut scratch);
+        }
+    }
+}
