@@ -132,3 +132,63 @@ proptest! {
         }
     }
 }
+
+mod remap_apis {
+    use fixsight::filter::Border;
+    use fixsight::remap::{sample_pixel, DenseMap, MeshTable, RemapGeometry};
+    use fixsight::{ImageView, ImageViewMut};
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        #[test]
+        fn remap_entry_points(ow in 0usize..10, oh in 0usize..10, sw in 0usize..10, sh in 0usize..10,
+                              f in 0u32..14, k in 0u32..9, first in 0usize..12,
+                              coords in prop::collection::vec(any::<i32>(), 0..260),
+                              small in prop::collection::vec(-400i32..400, 0..260),
+                              blob in prop::collection::vec(any::<u8>(), 0..120),
+                              dst_h in 0usize..12, ch in 0usize..6, sx in any::<i32>(), sy in any::<i32>(),
+                              b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+            let src = vec![9u8; 10 * 10 * 5];
+            let mut dst = vec![0u8; 10 * 12 * 5];
+            let mut px = [0u8; 5];
+            if let Ok(v) = ImageView::interleaved(&src, sw.max(1), sh.max(1), sw.max(1) * ch.max(1), ch) {
+                let _ = sample_pixel(&v, sx, sy, f, b, &mut px[..ch.min(5)]);
+            }
+            let _ = MeshTable::from_blob(&blob);
+            if let Ok(g) = RemapGeometry::new(ow, oh, sw, sh, f) {
+                // Exactly the lengths the constructors want, filled from the
+                // random values (so range checks, not length checks, decide).
+                let fit = |n: usize| -> Vec<i32> {
+                    small.iter().chain(coords.iter()).copied().cycle().take(n).collect()
+                };
+                let s = 1usize << k.clamp(2, 6);
+                let cols = 2usize.max((ow.saturating_sub(1)).div_ceil(s) + 1);
+                let rows = 2usize.max((oh.saturating_sub(1)).div_ceil(s) + 1);
+                let dense = fit(2 * ow * oh);
+                let pts = fit(2 * cols * rows);
+                let scaled: Vec<i32> = pts.iter().map(|v| v << f.min(10)).collect();
+                let maps: Vec<DenseMap> = [&coords, &dense]
+                    .iter()
+                    .filter_map(|c| DenseMap::new(c, g).ok())
+                    .collect();
+                let meshes: Vec<MeshTable> = [&coords, &pts, &scaled]
+                    .iter()
+                    .filter_map(|c| MeshTable::new(c, g, k).ok())
+                    .collect();
+                if let (Ok(v), Ok(mut d)) = (
+                    ImageView::interleaved(&src, sw, sh, sw * ch.max(1), ch),
+                    ImageViewMut::interleaved(&mut dst, ow, dst_h, ow * ch.max(1), ch),
+                ) {
+                    for m in &maps {
+                        let _ = m.remap_rows(&v, &mut d, first, b);
+                    }
+                    for m in &meshes {
+                        let _ = m.remap_rows(&v, &mut d, first, b);
+                    }
+                }
+            }
+        }
+    }
+}
