@@ -123,18 +123,7 @@ pub fn reference_real(
     border: Border,
 ) -> Vec<f64> {
     let (rx, ry) = (htaps.len() as i64 / 2, vtaps.len() as i64 / 2);
-    let px = |x: i64, y: i64| -> f64 {
-        let inside = x >= 0 && y >= 0 && x < w as i64 && y < h as i64;
-        match border {
-            _ if inside => img[y as usize * w + x as usize] as f64,
-            Border::Constant(c) => c as f64,
-            Border::Replicate => {
-                let cx = x.clamp(0, w as i64 - 1) as usize;
-                let cy = y.clamp(0, h as i64 - 1) as usize;
-                img[cy * w + cx] as f64
-            }
-        }
-    };
+    let px = |x: i64, y: i64| crate::remap::px(img, w, h, 1, 0, x, y, border) as f64;
     let mut out = Vec::with_capacity(w * h);
     for y in 0..h as i64 {
         for x in 0..w as i64 {

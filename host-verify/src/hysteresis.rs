@@ -29,27 +29,26 @@ pub fn classify(mag: &[u16], low: u16, high: u16) -> Vec<u8> {
         .collect()
 }
 
-/// Reference hysteresis on edge codes (0, 1, 2): returns 0/255.
-pub fn hysteresis(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
-    let mut out = vec![0u8; w * h];
+/// The 8-connected components of the nonzero pixels of `map`, each as
+/// the list of its pixel indices (breadth-first flood fill).
+pub fn components8(map: &[u8], w: usize, h: usize) -> Vec<Vec<usize>> {
+    let mut comps = Vec::new();
     let mut seen = vec![false; w * h];
     for s in 0..w * h {
-        if codes[s] == 0 || seen[s] {
+        if map[s] == 0 || seen[s] {
             continue;
         }
         seen[s] = true;
         let mut members = vec![s];
         let mut q = VecDeque::from([s]);
-        let mut strong = false;
         while let Some(p) = q.pop_front() {
-            strong |= codes[p] == 2;
             let (x, y) = ((p % w) as i64, (p / w) as i64);
             for dy in -1..=1 {
                 for dx in -1..=1 {
                     let (nx, ny) = (x + dx, y + dy);
                     if nx >= 0 && ny >= 0 && nx < w as i64 && ny < h as i64 {
                         let n = ny as usize * w + nx as usize;
-                        if codes[n] != 0 && !seen[n] {
+                        if map[n] != 0 && !seen[n] {
                             seen[n] = true;
                             members.push(n);
                             q.push_back(n);
@@ -58,7 +57,17 @@ pub fn hysteresis(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
                 }
             }
         }
-        if strong {
+        comps.push(members);
+    }
+    comps
+}
+
+/// Reference hysteresis on edge codes (0, 1, 2): returns 0/255. A
+/// component of nonzero codes is kept whole when it holds a strong pixel.
+pub fn hysteresis(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
+    let mut out = vec![0u8; w * h];
+    for members in components8(codes, w, h) {
+        if members.iter().any(|&m| codes[m] == 2) {
             for m in members {
                 out[m] = 255;
             }

@@ -94,9 +94,10 @@ pub fn quantise(v: f64, f: u32) -> i32 {
         .clamp(i32::MIN as f64, i32::MAX as f64) as i32
 }
 
-/// Border-extended source sample `P(x, y)` of channel `ch`.
+/// Border-extended source sample `P(x, y)` of channel `ch` of an image of
+/// `c` interleaved channels (the border rule of every kernel's reference).
 #[allow(clippy::too_many_arguments)]
-fn px(img: &[u8], w: usize, h: usize, c: usize, ch: usize, x: i64, y: i64, b: Border) -> i64 {
+pub fn px(img: &[u8], w: usize, h: usize, c: usize, ch: usize, x: i64, y: i64, b: Border) -> i64 {
     if x >= 0 && y >= 0 && x < w as i64 && y < h as i64 {
         img[(y as usize * w + x as usize) * c + ch] as i64
     } else {

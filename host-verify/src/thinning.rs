@@ -61,30 +61,5 @@ pub fn reference(map: &[u8], w: usize, h: usize) -> (Vec<u8>, u32) {
 
 /// Number of 8-connected foreground components.
 pub fn components(map: &[u8], w: usize, h: usize) -> usize {
-    let mut seen = vec![false; w * h];
-    let mut n = 0;
-    for s in 0..w * h {
-        if map[s] == 0 || seen[s] {
-            continue;
-        }
-        n += 1;
-        seen[s] = true;
-        let mut todo = vec![s];
-        while let Some(p) = todo.pop() {
-            let (x, y) = ((p % w) as i64, (p / w) as i64);
-            for dy in -1..=1 {
-                for dx in -1..=1 {
-                    let (nx, ny) = (x + dx, y + dy);
-                    if nx >= 0 && ny >= 0 && nx < w as i64 && ny < h as i64 {
-                        let q = ny as usize * w + nx as usize;
-                        if map[q] != 0 && !seen[q] {
-                            seen[q] = true;
-                            todo.push(q);
-                        }
-                    }
-                }
-            }
-        }
-    }
-    n
+    crate::hysteresis::components8(map, w, h).len()
 }
