@@ -129,7 +129,7 @@ fn bad_manifests_give_typed_errors() {
 fn unknown_kernels_and_bad_params_fail_the_vector_not_the_tool() {
     let dir = copy_golden("params");
     let text = fs::read_to_string(dir.join(MANIFEST)).unwrap();
-    let text = text.replacen("\"h_shift\": 2", "\"h_shift\": 99", 1);
+    let text = text.replacen("\"h_shift\": 6", "\"h_shift\": 99", 1);
     let text = text.replacen(
         "\"kernel\": \"gradient.direction\"",
         "\"kernel\": \"nosuch.kernel\"",

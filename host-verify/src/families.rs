@@ -1,6 +1,13 @@
-//! The registry of kernel families. Each family module (named like the
-//! kernel file it verifies) exposes one [`Family`]; adding a family is one
-//! line in [`FAMILIES`].
+//! The registry of kernel families and kernel ids. Each family module
+//! (named like the kernel file it verifies, `kernels/src/<name>.rs`) exposes
+//! one [`Family`]; adding a family is one line in [`FAMILIES`].
+//!
+//! A kernel id is `<family>.<function or preset>`: the stem of the kernel
+//! file and the name of the public function (or preset constructor, or type
+//! in snake case) it runs, e.g. `filter.binomial5`, `gradient.direction`,
+//! `warp.pixel_map` ([`fixsight::warp::PixelMap`]). The same id names the
+//! golden vectors' `kernel` field, the row of `report.json`, the row of
+//! `targets.json` and the on-target dispatcher.
 
 use crate::contract::KernelReport;
 use crate::golden::{Blob, GoldenCase};
@@ -12,8 +19,14 @@ pub type RunVector = fn(&str, &serde_json::Value, &[Blob]) -> Result<Vec<Blob>, 
 
 /// What the host tool needs from a kernel family.
 pub struct Family {
-    /// Family name: the part of golden kernel ids before the first `.`.
+    /// Family name: the stem of its files, the part of its kernel ids before
+    /// the first `.`, and the `family` field of its report rows.
     pub name: &'static str,
+    /// Every kernel id of the family, in report order.
+    pub kernels: &'static [&'static str],
+    /// `true` when the kernels are composed on the host from kernel-crate
+    /// functions (no `kernels/src/<name>.rs` yet).
+    pub composed_on_host: bool,
     /// Runs every contract check of the family on the demo scenes.
     pub check: fn(&[Scene]) -> Vec<KernelReport>,
     /// The family's golden cases (inputs, parameters, expected outputs
@@ -27,9 +40,17 @@ pub struct Family {
 pub const FAMILIES: &[Family] = &[
     crate::filter::FAMILY,
     crate::gradient::FAMILY,
-    crate::canny::FAMILY,
-    crate::remap::FAMILY,
+    crate::nms::FAMILY,
+    crate::hysteresis::FAMILY,
+    crate::thinning::FAMILY,
+    crate::chain::FAMILY,
+    crate::warp::FAMILY,
 ];
+
+/// Every kernel id of every family, in report order.
+pub fn kernel_ids() -> impl Iterator<Item = &'static str> {
+    FAMILIES.iter().flat_map(|f| f.kernels.iter().copied())
+}
 
 /// The family a golden kernel id (`<family>.<kernel>`) belongs to.
 pub fn family_of(kernel: &str) -> Option<&'static Family> {

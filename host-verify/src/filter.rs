@@ -11,10 +11,16 @@
 //! scene, whole-frame and streaming forms (which must also equal each
 //! other).
 //!
-//! Golden kernel id: `filter.separable`, params
+//! Kernel ids (golden `kernel` field, report row, on-target row): one per
+//! preset function, `filter.binomial3`, `filter.binomial5`,
+//! `filter.binomial7`, `filter.sobel_x`, `filter.sobel_y`,
+//! `filter.scharr_x`, `filter.scharr_y`, with params
+//! `{"border": "clamp" | {"fill": u8}}` (taps and output type are the
+//! preset's); and `filter.separable` (`filter::separable`, caller-chosen
+//! taps), params
 //! `{"h": [i16...], "h_shift": u32, "v": [i16...], "v_shift": u32,
-//!   "border": "replicate" | {"constant": u8}, "output": "u8" | "i16"}`,
-//! input `src` (u8), output `dst` (u8 or i16).
+//!   "border": "clamp" | {"fill": u8}, "output": "u8" | "i16"}`.
+//! Input `src` (u8), output `dst` (u8 or i16).
 
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::families::{input, parse_params, Family};
@@ -29,6 +35,17 @@ use serde::{Deserialize, Serialize};
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "filter",
+    kernels: &[
+        "filter.binomial3",
+        "filter.binomial5",
+        "filter.binomial7",
+        "filter.sobel_x",
+        "filter.sobel_y",
+        "filter.scharr_x",
+        "filter.scharr_y",
+        "filter.separable",
+    ],
+    composed_on_host: false,
     check,
     golden_cases,
     run_vector,
@@ -38,17 +55,17 @@ pub const FAMILY: Family = Family {
 #[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "lowercase")]
 pub enum BorderParam {
-    /// Replicate the edge pixel.
-    Replicate,
-    /// A constant value outside.
-    Constant(u8),
+    /// Coordinates clamped into the image.
+    Clamp,
+    /// The fill value outside the image.
+    Fill(u8),
 }
 
 impl From<BorderParam> for Border {
     fn from(b: BorderParam) -> Border {
         match b {
-            BorderParam::Replicate => Border::Replicate,
-            BorderParam::Constant(c) => Border::Constant(c),
+            BorderParam::Clamp => Border::Clamp,
+            BorderParam::Fill(c) => Border::Fill(c),
         }
     }
 }
@@ -56,8 +73,8 @@ impl From<BorderParam> for Border {
 impl From<Border> for BorderParam {
     fn from(b: Border) -> BorderParam {
         match b {
-            Border::Replicate => BorderParam::Replicate,
-            Border::Constant(c) => BorderParam::Constant(c),
+            Border::Clamp => BorderParam::Clamp,
+            Border::Fill(c) => BorderParam::Fill(c),
         }
     }
 }
@@ -123,7 +140,7 @@ pub fn reference_real(
     border: Border,
 ) -> Vec<f64> {
     let (rx, ry) = (htaps.len() as i64 / 2, vtaps.len() as i64 / 2);
-    let px = |x: i64, y: i64| crate::remap::px(img, w, h, 1, 0, x, y, border) as f64;
+    let px = |x: i64, y: i64| crate::warp::px(img, w, h, 1, 0, x, y, border) as f64;
     let mut out = Vec::with_capacity(w * h);
     for y in 0..h as i64 {
         for x in 0..w as i64 {
@@ -210,61 +227,94 @@ pub fn run_stream<T: FilterOutput>(
     Ok(out)
 }
 
-/// A preset with its report name, family and output type.
-struct Preset {
-    name: &'static str,
-    family: KernelFamily,
-    make: fn(Border) -> SeparableFilter,
-    output: OutputParam,
+/// A preset: its kernel id (`filter.<preset function>`), constructor and
+/// output type.
+pub struct Preset {
+    /// Kernel id, equal to the report row name.
+    pub id: &'static str,
+    /// The kernel crate's constructor.
+    pub make: fn(Border) -> SeparableFilter,
+    /// Output element type.
+    pub output: OutputParam,
 }
 
-const PRESETS: [Preset; 7] = [
+/// Every preset of `fixsight::filter`.
+pub const PRESETS: [Preset; 7] = [
     Preset {
-        name: "filter.binomial3",
-        family: KernelFamily::Filter,
+        id: "filter.binomial3",
         make: filter::binomial3,
         output: OutputParam::U8,
     },
     Preset {
-        name: "filter.binomial5",
-        family: KernelFamily::Filter,
+        id: "filter.binomial5",
         make: filter::binomial5,
         output: OutputParam::U8,
     },
     Preset {
-        name: "filter.binomial7",
-        family: KernelFamily::Filter,
+        id: "filter.binomial7",
         make: filter::binomial7,
         output: OutputParam::U8,
     },
     Preset {
-        name: "gradient.sobel_x",
-        family: KernelFamily::Gradient,
+        id: "filter.sobel_x",
         make: filter::sobel_x,
         output: OutputParam::I16,
     },
     Preset {
-        name: "gradient.sobel_y",
-        family: KernelFamily::Gradient,
+        id: "filter.sobel_y",
         make: filter::sobel_y,
         output: OutputParam::I16,
     },
     Preset {
-        name: "gradient.scharr_x",
-        family: KernelFamily::Gradient,
+        id: "filter.scharr_x",
         make: filter::scharr_x,
         output: OutputParam::I16,
     },
     Preset {
-        name: "gradient.scharr_y",
-        family: KernelFamily::Gradient,
+        id: "filter.scharr_y",
         make: filter::scharr_y,
         output: OutputParam::I16,
     },
 ];
 
+/// Kernel id of a filter with caller-chosen taps (`filter::separable`).
+pub const CUSTOM_ID: &str = "filter.separable";
+
+/// The preset with kernel id `id`.
+pub fn preset(id: &str) -> Option<&'static Preset> {
+    PRESETS.iter().find(|p| p.id == id)
+}
+
+/// The custom tap sets checked under `filter.separable`: an asymmetric
+/// 9 x 5 set with negative taps and shifts on both axes (`u8` and `i16`
+/// output), and a 9-tap smoothed derivative with a 1-tap cross axis.
+fn custom_filters(border: Border) -> Vec<(SeparableFilter, OutputParam)> {
+    let odd = filter::separable(
+        Taps::new(&ODD_H, 6).expect("valid taps"),
+        Taps::new(&ODD_V, 3).expect("valid taps"),
+        border,
+    )
+    .expect("fits the accumulator");
+    let deriv = filter::separable(
+        Taps::new(&[-1, -14, -61, -88, 0, 88, 61, 14, 1], 7).expect("valid taps"),
+        Taps::new(&[1], 0).expect("valid taps"),
+        border,
+    )
+    .expect("fits the accumulator");
+    vec![
+        (odd, OutputParam::U8),
+        (odd, OutputParam::I16),
+        (deriv, OutputParam::I16),
+    ]
+}
+
+/// Horizontal taps of the asymmetric custom case (shift 6).
+const ODD_H: [i16; 9] = [-3, 5, 17, 40, 17, 5, -3, 1, 2];
+/// Vertical taps of the asymmetric custom case (shift 3).
+const ODD_V: [i16; 5] = [2, -7, 29, -7, 2];
+
 /// Borders every preset is checked with.
-const BORDERS: [Border; 2] = [Border::Replicate, Border::Constant(0)];
+const BORDERS: [Border; 2] = [Border::Clamp, Border::Fill(0)];
 
 /// Kernel output widened to `f64`, whole frame and stream.
 fn outputs(
@@ -300,66 +350,84 @@ fn outputs(
     })
 }
 
-/// Contract checks of every preset on the scenes.
+/// Contract checks of every preset and of the custom tap sets on the
+/// scenes: one row per kernel id.
 pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
-    PRESETS.iter().map(|p| check_preset(p, scenes)).collect()
+    let mut rows: Vec<KernelReport> = PRESETS
+        .iter()
+        .map(|p| check_filters(p.id, &|b| vec![((p.make)(b), p.output)], scenes))
+        .collect();
+    rows.push(check_filters(CUSTOM_ID, &custom_filters, scenes));
+    rows
 }
 
-fn check_preset(p: &Preset, scenes: &[Scene]) -> KernelReport {
-    let (lo, hi) = match p.output {
-        OutputParam::U8 => (0.0, 255.0),
-        OutputParam::I16 => (-32768.0, 32767.0),
-    };
+/// The filters of one kernel id for a border rule, with their output types.
+type FilterSet<'a> = dyn Fn(Border) -> Vec<(SeparableFilter, OutputParam)> + 'a;
+
+fn check_filters(id: &str, make: &FilterSet<'_>, scenes: &[Scene]) -> KernelReport {
     let mut actual = Vec::new();
     let mut reference = Vec::new();
     let mut unrounded_max = 0f64;
     let mut problems = Vec::new();
     let mut ops = OpsPerPx::default();
+    let mut peak = 0f64;
     for border in BORDERS {
-        let f = (p.make)(border);
-        for (si, s) in scenes.iter().enumerate() {
-            let real = reference_real(
-                &s.gray,
-                s.width,
-                s.height,
-                &real_taps(f.horizontal()),
-                &real_taps(f.vertical()),
-                border,
-            );
-            let res = if si == 0 && border == Border::Replicate {
-                let (r, o) = measure(s.width * s.height, || outputs(&f, p.output, s));
-                ops = o;
-                r
-            } else {
-                outputs(&f, p.output, s)
+        for (fi, (f, output)) in make(border).into_iter().enumerate() {
+            let (lo, hi) = match output {
+                OutputParam::U8 => (0.0, 255.0),
+                OutputParam::I16 => (-32768.0, 32767.0),
             };
-            match res {
-                Ok((whole, stream)) => {
-                    if whole != stream {
-                        let n = whole.iter().zip(&stream).filter(|(a, b)| a != b).count();
-                        problems.push(format!(
-                            "{}: streaming differs from whole frame at {n} pixels ({border:?})",
-                            s.name
-                        ));
-                    }
-                    for (&k, &r) in whole.iter().zip(&real) {
-                        if r >= lo && r <= hi {
-                            unrounded_max = unrounded_max.max((k - r).abs());
+            peak = peak.max(hi - lo);
+            for (si, s) in scenes.iter().enumerate() {
+                let real = reference_real(
+                    &s.gray,
+                    s.width,
+                    s.height,
+                    &real_taps(f.horizontal()),
+                    &real_taps(f.vertical()),
+                    border,
+                );
+                let res = if si == 0 && fi == 0 && border == Border::Clamp {
+                    let (r, o) = measure(s.width * s.height, || outputs(&f, output, s));
+                    ops = o;
+                    r
+                } else {
+                    outputs(&f, output, s)
+                };
+                match res {
+                    Ok((whole, stream)) => {
+                        if whole != stream {
+                            let n = whole.iter().zip(&stream).filter(|(a, b)| a != b).count();
+                            problems.push(format!(
+                                "{}: streaming differs from whole frame at {n} pixels ({border:?})",
+                                s.name
+                            ));
                         }
+                        for (&k, &r) in whole.iter().zip(&real) {
+                            if r >= lo && r <= hi {
+                                unrounded_max = unrounded_max.max((k - r).abs());
+                            }
+                        }
+                        reference.extend(real.iter().map(|&r| round_half_up_sat(r, lo, hi)));
+                        actual.extend(whole);
                     }
-                    reference.extend(real.iter().map(|&r| round_half_up_sat(r, lo, hi)));
-                    actual.extend(whole);
+                    Err(e) => problems.push(format!("{}: kernel error: {e}", s.name)),
                 }
-                Err(e) => problems.push(format!("{}: kernel error: {e}", s.name)),
             }
         }
     }
     // Ops were measured over both forms (whole frame then stream) on one
     // scene: halve to get the cost of one pass.
     let ops = halve(&ops);
-    let peak = hi - lo;
     let stats = ErrorStats::compare(&actual, &reference, peak);
-    let mut r = KernelReport::from_stats(p.name, p.family, Contract::BitExact, 0.0, &stats, ops);
+    let mut r = KernelReport::from_stats(
+        id,
+        KernelFamily::Filter,
+        Contract::BitExact,
+        0.0,
+        &stats,
+        ops,
+    );
     r.metrics
         .insert("max_err_vs_unrounded".into(), unrounded_max);
     r.metrics.insert(
@@ -371,9 +439,16 @@ fn check_preset(p: &Preset, scenes: &[Scene]) -> KernelReport {
         },
     );
     r.notes.push(format!(
-        "whole frame and row stream vs direct 2-D f64 sum; borders replicate and constant(0); {} scenes",
+        "whole frame and row stream vs direct 2-D f64 sum; borders clamp and fill(0); {} scenes",
         scenes.len()
     ));
+    if id == CUSTOM_ID {
+        r.notes.push(
+            "custom taps: asymmetric 9x5 (u8 and i16 output) and a 9-tap smoothed derivative; \
+             ops/px of the first"
+                .into(),
+        );
+    }
     for pr in problems {
         r.fail(pr);
     }
@@ -400,39 +475,67 @@ pub fn checkerboard(w: usize, h: usize) -> Vec<u8> {
         .collect()
 }
 
+/// Golden parameters of a preset kernel id (`filter.binomial5`, ...): the
+/// taps and the output type are the preset's.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(deny_unknown_fields)]
+pub struct PresetParams {
+    /// Border rule.
+    pub border: BorderParam,
+}
+
+/// Runs `f` over a whole `w x h` frame into a `dst` blob of the output type.
+fn run_blob(
+    f: &SeparableFilter,
+    output: OutputParam,
+    img: &[u8],
+    w: usize,
+    h: usize,
+) -> Result<Blob, String> {
+    let e = |e: fixsight::Error| e.to_string();
+    Ok(match output {
+        OutputParam::U8 => {
+            Blob::from_u8("dst", w, h, 1, &run_whole::<u8>(f, img, w, h).map_err(e)?)
+        }
+        OutputParam::I16 => {
+            Blob::from_i16("dst", w, h, 1, &run_whole::<i16>(f, img, w, h).map_err(e)?)
+        }
+    })
+}
+
+/// A golden case of kernel `kernel`: a preset id (params: the border) or
+/// [`CUSTOM_ID`] (params: taps, shifts, border, output).
 fn case(
     id: String,
     comment: String,
+    kernel: &str,
     f: &SeparableFilter,
     output: OutputParam,
-    img: Vec<u8>,
-    w: usize,
-    h: usize,
+    (img, w, h): (Vec<u8>, usize, usize),
 ) -> GoldenCase {
-    let params = FilterParams::of(f, output);
-    let expected = match output {
-        OutputParam::U8 => Blob::from_u8(
-            "dst",
-            w,
-            h,
-            1,
-            &run_whole::<u8>(f, &img, w, h).expect("golden case sizes are valid"),
-        ),
-        OutputParam::I16 => Blob::from_i16(
-            "dst",
-            w,
-            h,
-            1,
-            &run_whole::<i16>(f, &img, w, h).expect("golden case sizes are valid"),
-        ),
+    let params = if kernel == CUSTOM_ID {
+        serde_json::to_value(FilterParams::of(f, output))
+    } else {
+        serde_json::to_value(PresetParams {
+            border: f.border().into(),
+        })
     };
+    let expected = run_blob(f, output, &img, w, h).expect("golden case sizes are valid");
     GoldenCase {
         id,
         comment,
-        kernel: "filter.separable".into(),
-        params: serde_json::to_value(params).expect("params serialise"),
+        kernel: kernel.into(),
+        params: params.expect("params serialise"),
         inputs: vec![Blob::from_u8("src", w, h, 1, &img)],
         expected: vec![expected],
+    }
+}
+
+/// The id tag of a border rule: `clamp` or `fill<c>`.
+fn border_tag(b: Border) -> String {
+    match b {
+        Border::Clamp => "clamp".to_string(),
+        Border::Fill(c) => format!("fill{c}"),
     }
 }
 
@@ -445,109 +548,94 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let (cw, ch) = (37, 23);
     let floor = crop(s, 140, 150, cw, ch);
     for p in &PRESETS {
-        let short = p.name.split('.').nth(1).unwrap_or(p.name);
-        for border in [Border::Replicate, Border::Constant(17)] {
-            let f = (p.make)(border);
-            let b = match border {
-                Border::Replicate => "replicate".to_string(),
-                Border::Constant(c) => format!("const{c}"),
+        let short = p.id.split('.').nth(1).unwrap_or(p.id);
+        for border in [Border::Clamp, Border::Fill(17), Border::Fill(255)] {
+            let b = border_tag(border);
+            let (img, comment) = if border == Border::Fill(255) {
+                (
+                    (checkerboard(16, 12), 16, 12),
+                    format!("{short} on a 0/255 checkerboard (extreme accumulator values) with fill value 255"),
+                )
+            } else {
+                (
+                    (floor.clone(), cw, ch),
+                    format!(
+                        "{short} on a {cw}x{ch} crop of scene {} with border {b}",
+                        s.name
+                    ),
+                )
+            };
+            let place = if border == Border::Fill(255) {
+                "checker"
+            } else {
+                "floor"
             };
             v.push(case(
-                format!("filter.{short}.{b}.floor"),
-                format!(
-                    "{short} on a {cw}x{ch} crop of scene {} with border {b}",
-                    s.name
-                ),
-                &f,
+                format!("{}.{b}.{place}", p.id),
+                comment,
+                p.id,
+                &(p.make)(border),
                 p.output,
-                floor.clone(),
-                cw,
-                ch,
+                img,
             ));
         }
-        let f = (p.make)(Border::Constant(255));
-        v.push(case(
-            format!("filter.{short}.const255.checker"),
-            format!("{short} on a 0/255 checkerboard (extreme accumulator values) with border 255"),
-            &f,
-            p.output,
-            checkerboard(16, 12),
-            16,
-            12,
-        ));
     }
-    let f7 = filter::binomial7(Border::Replicate);
     v.push(case(
-        "filter.binomial7.replicate.narrow".into(),
+        "filter.binomial7.clamp.narrow".into(),
         "7 taps on a 2x3 image: every pixel is a border pixel".into(),
-        &f7,
+        "filter.binomial7",
+        &filter::binomial7(Border::Clamp),
         OutputParam::U8,
-        vec![0, 255, 40, 90, 200, 7],
-        2,
-        3,
+        (vec![0, 255, 40, 90, 200, 7], 2, 3),
     ));
-    let odd = SeparableFilter::new(
-        Taps::new(&[-3, 5, 17, 40, 17, 5, -3, 1, 2], 6).expect("valid taps"),
-        Taps::new(&[2, -7, 29, -7, 2], 3).expect("valid taps"),
-        Border::Constant(200),
-    )
-    .expect("fits the accumulator");
+    let odd = custom_filters(Border::Fill(200))[0].0;
     v.push(case(
-        "filter.custom9x5.const200.floor".into(),
+        "filter.separable.custom9x5.fill200.floor".into(),
         "asymmetric 9x5 taps with negative coefficients: rounding of negative sums and saturation to 0..255".into(),
+        CUSTOM_ID,
         &odd,
         OutputParam::U8,
-        floor.clone(),
-        cw,
-        ch,
+        (floor.clone(), cw, ch),
     ));
     v.push(case(
-        "filter.custom9x5.const200.derivative".into(),
+        "filter.separable.custom9x5.fill200.derivative".into(),
         "the same taps with i16 output".into(),
+        CUSTOM_ID,
         &odd,
         OutputParam::I16,
-        floor,
-        cw,
-        ch,
+        (floor, cw, ch),
     ));
-    let one = filter::sobel_x(Border::Constant(9));
     v.push(case(
-        "filter.sobel_x.const9.single".into(),
-        "a 1x1 image: only the border value and the pixel contribute".into(),
-        &one,
+        "filter.sobel_x.fill9.single".into(),
+        "a 1x1 image: only the fill value and the pixel contribute".into(),
+        "filter.sobel_x",
+        &filter::sobel_x(Border::Fill(9)),
         OutputParam::I16,
-        vec![200],
-        1,
-        1,
+        (vec![200], 1, 1),
     ));
     v
 }
 
-/// Recomputes a `filter.separable` vector.
+/// Recomputes a `filter.*` vector: a preset id or `filter.separable`.
 pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
     inputs: &[Blob],
 ) -> Result<Vec<Blob>, String> {
-    if kernel != "filter.separable" {
-        return Err(format!("unknown filter kernel `{kernel}`"));
-    }
-    let p: FilterParams = parse_params(kernel, params)?;
-    let f = p.build()?;
+    let (f, output) = if kernel == CUSTOM_ID {
+        let p: FilterParams = parse_params(kernel, params)?;
+        (p.build()?, p.output)
+    } else {
+        let pr = preset(kernel).ok_or_else(|| format!("unknown filter kernel `{kernel}`"))?;
+        let p: PresetParams = parse_params(kernel, params)?;
+        ((pr.make)(p.border.into()), pr.output)
+    };
     let src = input(inputs, "src")?;
-    let img = src.to_u8()?;
-    let (w, h) = (src.width, src.height);
-    let e = |e: fixsight::Error| e.to_string();
-    Ok(vec![match p.output {
-        OutputParam::U8 => {
-            Blob::from_u8("dst", w, h, 1, &run_whole::<u8>(&f, &img, w, h).map_err(e)?)
-        }
-        OutputParam::I16 => Blob::from_i16(
-            "dst",
-            w,
-            h,
-            1,
-            &run_whole::<i16>(&f, &img, w, h).map_err(e)?,
-        ),
-    }])
+    Ok(vec![run_blob(
+        &f,
+        output,
+        &src.to_u8()?,
+        src.width,
+        src.height,
+    )?])
 }

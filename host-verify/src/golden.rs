@@ -12,9 +12,9 @@
 //!   "version": 1,
 //!   "vectors": [
 //!     {
-//!       "id": "filter.binomial5.replicate.floor",     unique, [a-z0-9._-]
+//!       "id": "filter.binomial5.clamp.floor",         unique, [a-z0-9._-], starts with the kernel id
 //!       "comment": "what the case exercises",
-//!       "kernel": "filter.separable",                 <family>.<kernel>
+//!       "kernel": "filter.binomial5",                 kernel id: <family>.<function or preset>
 //!       "params": { ... },                            kernel-specific, see the family's module docs
 //!       "inputs":   [ <image>, ... ],
 //!       "expected": [ <image>, ... ]

@@ -344,7 +344,7 @@ impl Camera {
 }
 
 /// A lens description read from a `fixsight-lens 1` text file (format in
-/// `crate::remap`'s module docs).
+/// `crate::warp`'s module docs).
 #[derive(Debug, Clone, PartialEq)]
 pub struct LensSpec {
     /// Sensor camera.

@@ -17,11 +17,11 @@
 //! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
-//! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
-//! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
-//! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
+//! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | reference, contract check and golden cases of `kernels/src/<same name>.rs` |
+//! | [`chain`] | the edge chain composed on the host (`chain.edges`), its full-`f64` Canny reference |
+//! | [`sweep_plot`] | the plot of the warp precision sweep |
 
-pub mod canny;
+pub mod chain;
 pub mod contract;
 pub mod families;
 pub mod filter;
@@ -32,12 +32,12 @@ pub mod lens;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
-pub mod remap;
 pub mod report;
 pub mod scene;
 pub mod sweep_plot;
 pub mod targets;
 pub mod thinning;
+pub mod warp;
 
 use std::path::PathBuf;
 

@@ -1,12 +1,12 @@
-//! `f64` reference, integer-model transcription, mesh builder, lens files,
-//! table writers, precision sweep and contract for `fixsight::remap`.
+//! `f64` reference, integer-model transcription, grid builder, lens files,
+//! table writers, precision sweep and contract for `fixsight::warp`.
 //!
 //! # References
 //!
 //! * [`bilinear_f64`]: bilinear interpolation of the border-extended source
 //!   at a real coordinate (pixel centres at integers), in `f64`.
-//! * [`model_sample`] and [`model_mesh_coord`]: the kernel's documented
-//!   integer model (kernels/src/remap.rs) transcribed in `i64`/`i128`
+//! * [`model_sample`] and [`model_grid_coord`]: the kernel's documented
+//!   integer model (kernels/src/warp.rs) transcribed in `i64`/`i128`
 //!   arithmetic with Euclidean division, without the kernel's fast path or
 //!   incremental stepping.
 //! * [`exact_map`]: the exact `f64` source coordinate of every output pixel
@@ -16,22 +16,29 @@
 //!
 //! # Contract
 //!
-//! * `remap.dense` / `remap.dense_rgb`: bit-exact to the integer model on the
-//!   quantised exact map, whole frame and in strips; against the `f64`
+//! * `warp.pixel_map` (grey and 3 interleaved channels in one row):
+//!   bit-exact to the integer model on the quantised exact map, whole frame and in strips; against the `f64`
 //!   reference at the **exact** (unquantised) coordinates within
 //!   `0.5 + (Dx + Dy) 2^-(F+1)` LSB, `Dx`/`Dy` the largest horizontal /
 //!   vertical neighbour difference of the source (derivation in the kernel
 //!   docs), and within 1 LSB on at least 99.9 % of pixels at `F >= 5`.
-//! * `remap.mesh`: bit-exact to the integer model fed with the
-//!   mesh-interpolated coordinates; against the `f64` reference at the
-//!   ideal mesh coordinate (bilinear interpolation of the unquantised control
+//! * `warp.control_grid`: bit-exact to the integer model fed with the
+//!   grid-interpolated coordinates; against the `f64` reference at the
+//!   ideal grid coordinate (bilinear interpolation of the unquantised control
 //!   points) within `0.5 + (Dx + Dy) 2^-F` (control-point quantisation and
 //!   coordinate rounding, `2^-(F+1)` each per axis), and within 1 LSB on
-//!   99.9 %. The mesh's own approximation of the lens is reported apart as
-//!   geometric error (`mesh_max_px`, `mesh_rms_px`) and as
+//!   99.9 %. The grid's own approximation of the lens is reported apart as
+//!   geometric error (`grid_max_px`, `grid_rms_px`) and as
 //!   `max_err_vs_exact_lens_map`.
 //!
-//! # Mesh builder
+//! # Golden kernel ids
+//!
+//! | id | kernel API | inputs | params | output |
+//! |---|---|---|---|---|
+//! | `warp.pixel_map` | `PixelMap::warp_rows` | `src` u8 (any channels), `map` i32 2 channels (raw x, y per output pixel) | `{"frac_bits": 2..=10, "border": "clamp" \| {"fill": u8}}` | `dst` u8, map size, channels of `src` |
+//! | `warp.control_grid` | `ControlGrid::from_blob`, `ControlGrid::warp_rows` | `src` u8, `blob` u8 (the grid blob as one row) | `{"border": ..., "strip_rows": rows per call}` | `dst` u8, the blob's output size |
+//!
+//! # Grid builder
 //!
 //! Control point `(i, j)` is the quantised exact map at output position
 //! `(X, Y) = (i 2^k, j 2^k)`. Points past the output edge (only the last
@@ -39,8 +46,8 @@
 //! (which can run away far outside the view): along x, with `Xp = X - 2^k`
 //! and `Xe = W' - 1`, `g(X) = g(Xp) + (g(Xe) - g(Xp)) 2^k / (Xe - Xp)`
 //! (`g(Xp)` when `Xe = Xp`), then the same along y on those values. The
-//! mesh thus passes through the exact map at the output's last column and
-//! row up to interpolation. The geometric error of a mesh is the Euclidean distance between
+//! grid thus passes through the exact map at the output's last column and
+//! row up to interpolation. The geometric error of a grid is the Euclidean distance between
 //! its integer-model coordinate (divided by `2^F`) and the exact map, over
 //! every output pixel.
 //!
@@ -73,7 +80,7 @@ use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
 use crate::scene::Scene;
 use fixsight::filter::Border;
-use fixsight::remap::{DenseMap, MeshTable, RemapGeometry};
+use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
 use fixsight::{ImageView, ImageViewMut};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -81,7 +88,9 @@ use std::fmt::Write as _;
 
 /// The family entry.
 pub const FAMILY: Family = Family {
-    name: "remap",
+    name: "warp",
+    kernels: &["warp.pixel_map", "warp.control_grid"],
+    composed_on_host: false,
     check,
     golden_cases,
     run_vector,
@@ -102,8 +111,8 @@ pub fn px(img: &[u8], w: usize, h: usize, c: usize, ch: usize, x: i64, y: i64, b
         img[(y as usize * w + x as usize) * c + ch] as i64
     } else {
         match b {
-            Border::Constant(v) => v as i64,
-            Border::Replicate => {
+            Border::Fill(v) => v as i64,
+            Border::Clamp => {
                 let xc = x.clamp(0, w as i64 - 1) as usize;
                 let yc = y.clamp(0, h as i64 - 1) as usize;
                 img[(yc * w + xc) * c + ch] as i64
@@ -157,10 +166,10 @@ pub fn model_sample(
         .collect()
 }
 
-/// The mesh coordinate model, transcribed in `i128`: rounded exact bilinear
+/// The grid coordinate model, transcribed in `i128`: rounded exact bilinear
 /// interpolation of the cell's control points. `points` is the interleaved
 /// grid of `cols x rows` raw pairs.
-pub fn model_mesh_coord(
+pub fn model_grid_coord(
     points: &[i32],
     cols: usize,
     rows: usize,
@@ -191,8 +200,8 @@ pub fn exact_map(cam: &Camera, view: &Intrinsics, w: usize, h: usize) -> Vec<(f6
         .collect()
 }
 
-/// Quantised dense map (interleaved raw pairs).
-pub fn dense_coords(map: &[(f64, f64)], f: u32) -> Vec<i32> {
+/// Quantised pixel map (interleaved raw pairs).
+pub fn pixel_map_coords(map: &[(f64, f64)], f: u32) -> Vec<i32> {
     map.iter()
         .flat_map(|&(x, y)| [quantise(x, f), quantise(y, f)])
         .collect()
@@ -204,7 +213,7 @@ pub fn dense_coords(map: &[(f64, f64)], f: u32) -> Vec<i32> {
 fn control_value(
     cam: &Camera,
     view: &Intrinsics,
-    geom: RemapGeometry,
+    geom: WarpGeometry,
     k: u32,
     i: usize,
     j: usize,
@@ -228,11 +237,11 @@ fn control_value(
     along(j * s, hl, &col)
 }
 
-/// A built mesh with its geometric error.
+/// A built grid with its geometric error.
 #[derive(Debug, Clone)]
-pub struct MeshBuild {
+pub struct GridBuild {
     /// Geometry of the table.
-    pub geom: RemapGeometry,
+    pub geom: WarpGeometry,
     /// Step log2.
     pub k: u32,
     /// Grid columns and rows.
@@ -247,22 +256,22 @@ pub struct MeshBuild {
     pub max_axis_px: (f64, f64),
     /// Control-point bytes (`cols * rows * 8`).
     pub table_bytes: usize,
-    /// Mesh coordinates of every output pixel (interleaved raw pairs).
+    /// Grid coordinates of every output pixel (interleaved raw pairs).
     pub coords: Vec<i32>,
-    /// The ideal mesh coordinates: `f64` bilinear interpolation of the
+    /// The ideal grid coordinates: `f64` bilinear interpolation of the
     /// unquantised control points, every output pixel.
     pub ideal: Vec<(f64, f64)>,
 }
 
-/// Builds a mesh (rule in the module docs) and measures it against the
+/// Builds a grid (rule in the module docs) and measures it against the
 /// exact map over every output pixel.
-pub fn build_mesh(
+pub fn build_grid(
     cam: &Camera,
     view: &Intrinsics,
-    geom: RemapGeometry,
+    geom: WarpGeometry,
     k: u32,
-) -> Result<MeshBuild, String> {
-    let (cols, rows) = MeshTable::grid_size(&geom, k).map_err(|e| e.to_string())?;
+) -> Result<GridBuild, String> {
+    let (cols, rows) = ControlGrid::grid_size(&geom, k).map_err(|e| e.to_string())?;
     let f = geom.frac_bits();
     let mut points = Vec::with_capacity(2 * cols * rows);
     let mut real = Vec::with_capacity(cols * rows);
@@ -292,7 +301,7 @@ pub fn build_mesh(
         };
         (mix(a.0, b.0, c.0, d.0), mix(a.1, b.1, c.1, d.1))
     };
-    let table = MeshTable::new(&points, geom, k).map_err(|e| e.to_string())?;
+    let table = ControlGrid::new(&points, geom, k).map_err(|e| e.to_string())?;
     let (w, h) = (geom.out_width(), geom.out_height());
     let exact = exact_map(cam, view, w, h);
     let scale = 1.0 / (1u64 << f) as f64;
@@ -314,7 +323,7 @@ pub fn build_mesh(
             coords.push(cy);
         }
     }
-    Ok(MeshBuild {
+    Ok(GridBuild {
         geom,
         k,
         grid: (cols, rows),
@@ -328,19 +337,19 @@ pub fn build_mesh(
     })
 }
 
-/// Runs the dense kernel over a whole frame.
-pub fn run_dense(
+/// Runs the pixel-map kernel over a whole frame.
+pub fn run_pixel_map(
     coords: &[i32],
-    geom: RemapGeometry,
+    geom: WarpGeometry,
     img: &[u8],
     c: usize,
     border: Border,
 ) -> Result<Vec<u8>, fixsight::Error> {
-    let map = DenseMap::new(coords, geom)?;
+    let map = PixelMap::new(coords, geom)?;
     let (w, h) = (geom.out_width(), geom.out_height());
     let mut out = vec![0u8; w * h * c];
     let sw = geom.src_width();
-    map.remap_rows(
+    map.warp_rows(
         &ImageView::interleaved(img, sw, geom.src_height(), sw * c, c)?,
         &mut ImageViewMut::interleaved(&mut out, w, h, w * c, c)?,
         0,
@@ -349,15 +358,15 @@ pub fn run_dense(
     Ok(out)
 }
 
-/// Runs a mesh over a whole frame, or in strips of `strip` rows.
-pub fn run_mesh(
-    mesh: &MeshTable<'_>,
+/// Runs a grid over a whole frame, or in strips of `strip` rows.
+pub fn run_grid(
+    grid: &ControlGrid<'_>,
     img: &[u8],
     c: usize,
     border: Border,
     strip: Option<usize>,
 ) -> Result<Vec<u8>, fixsight::Error> {
-    let g = mesh.geometry();
+    let g = grid.geometry();
     let (w, h) = (g.out_width(), g.out_height());
     let mut out = vec![0u8; w * h * c];
     let sw = g.src_width();
@@ -365,7 +374,7 @@ pub fn run_mesh(
     let step = strip.unwrap_or(h).max(1);
     for (n, chunk) in out.chunks_mut(step * w * c).enumerate() {
         let rows = chunk.len() / (w * c);
-        mesh.remap_rows(
+        grid.warp_rows(
             &src,
             &mut ImageViewMut::interleaved(chunk, w, rows, w * c, c)?,
             n * step,
@@ -377,7 +386,7 @@ pub fn run_mesh(
 
 /// Largest horizontal and vertical neighbour differences of a
 /// border-extended image (over all channels); the border value counts as a
-/// neighbour for a constant border.
+/// neighbour for a fill border.
 pub fn neighbour_diffs(img: &[u8], w: usize, h: usize, c: usize, b: Border) -> (f64, f64) {
     let (mut dx, mut dy) = (0i64, 0i64);
     for ch in 0..c {
@@ -394,9 +403,9 @@ pub fn neighbour_diffs(img: &[u8], w: usize, h: usize, c: usize, b: Border) -> (
 
 /// Fractional bits used by the report checks.
 pub const CHECK_FRAC_BITS: u32 = 5;
-/// Mesh step used by the report checks on the QVGA demo scenes (step 8 at
+/// Grid step used by the report checks on the QVGA demo scenes (step 8 at
 /// QVGA covers the view like step 16 at VGA).
-pub const CHECK_STEP_LOG2: u32 = 3;
+pub const CHECK_GRID_LOG2: u32 = 3;
 
 /// The corrected view of a demo scene: fit-to-view at the scene size.
 pub fn demo_view(s: &Scene) -> Result<Intrinsics, String> {
@@ -405,7 +414,7 @@ pub fn demo_view(s: &Scene) -> Result<Intrinsics, String> {
         .map_err(|e| e.to_string())
 }
 
-/// Results of one remap path on one image.
+/// Results of one warp path on one image.
 struct PathResult {
     stats_ref: ErrorStats,
     bound: f64,
@@ -458,7 +467,7 @@ fn judge(
 }
 
 /// Largest `|out - reference|` with the reference at the exact lens map
-/// (informational for the mesh: includes the mesh's geometric error).
+/// (informational for the grid: includes the grid's geometric error).
 fn max_err_vs(
     out: &[u8],
     exact: &[(f64, f64)],
@@ -480,9 +489,8 @@ fn max_err_vs(
 /// Contract checks on the demo scenes.
 pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     vec![
-        check_path(scenes, false, 1),
-        check_path(scenes, false, 3),
-        check_path(scenes, true, 1),
+        check_path(scenes, false, &[1, 3]),
+        check_path(scenes, true, &[1]),
     ]
 }
 
@@ -494,13 +502,13 @@ pub fn to_three_channels(g: &[u8]) -> Vec<u8> {
         .collect()
 }
 
-fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
+fn check_path(scenes: &[Scene], grid: bool, channels: &[usize]) -> KernelReport {
     let f = CHECK_FRAC_BITS;
-    let k = CHECK_STEP_LOG2;
-    let name = match (mesh, c) {
-        (true, _) => "remap.mesh",
-        (false, 1) => "remap.dense",
-        _ => "remap.dense_rgb",
+    let k = CHECK_GRID_LOG2;
+    let name = if grid {
+        "warp.control_grid"
+    } else {
+        "warp.pixel_map"
     };
     let mut problems = Vec::new();
     let (mut worst_margin, mut bound_max, mut within1, mut samples) =
@@ -511,107 +519,111 @@ fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
     let mut lens_err = 0f64;
     let mut actual_all = Vec::new();
     let mut ref_all = Vec::new();
-    for (si, s) in scenes.iter().enumerate() {
-        let view = match demo_view(s) {
-            Ok(v) => v,
-            Err(e) => {
-                problems.push(format!("{}: {e}", s.name));
-                continue;
-            }
-        };
-        let (w, h) = (s.width, s.height);
-        let img = if c == 3 {
-            to_three_channels(&s.gray)
-        } else {
-            s.gray.clone()
-        };
-        let geom = match RemapGeometry::new(w, h, w, h, f) {
-            Ok(g) => g,
-            Err(e) => {
-                problems.push(e.to_string());
-                continue;
-            }
-        };
-        let exact = exact_map(&s.camera, &view, w, h);
-        for border in [Border::Constant(0), Border::Replicate] {
-            let ref_coords: Vec<(f64, f64)>;
-            let (coords, coord_err, out) = if mesh {
-                let mb = match build_mesh(&s.camera, &view, geom, k) {
-                    Ok(m) => m,
-                    Err(e) => {
-                        problems.push(format!("{}: {e}", s.name));
-                        continue;
-                    }
-                };
-                gmax = gmax.max(mb.max_px);
-                grms2 += mb.rms_px * mb.rms_px;
-                table_bytes = mb.table_bytes;
-                let table = match MeshTable::new(&mb.points, geom, k) {
-                    Ok(t) => t,
-                    Err(e) => {
-                        problems.push(e.to_string());
-                        continue;
-                    }
-                };
-                let (whole, o) = measure(w * h, || run_mesh(&table, &img, c, border, None));
-                if si == 0 {
-                    ops = o;
-                }
-                let strips = run_mesh(&table, &img, c, border, Some(7));
-                let whole = match (whole, strips) {
-                    (Ok(a), Ok(b)) => {
-                        if a != b {
-                            problems
-                                .push(format!("{}: 7-row strips differ from the frame", s.name));
-                        }
-                        a
-                    }
-                    (Err(e), _) | (_, Err(e)) => {
-                        problems.push(format!("{}: kernel error: {e}", s.name));
-                        continue;
-                    }
-                };
-                let q = 1.0 / (1u64 << f) as f64;
-                lens_err = lens_err.max(max_err_vs(&whole, &exact, &img, w, h, c, border));
-                ref_coords = mb.ideal;
-                (mb.coords, (q, q), whole)
-            } else {
-                let coords = dense_coords(&exact, f);
-                let q = 1.0 / (1u64 << (f + 1)) as f64;
-                let (r, o) = measure(w * h, || run_dense(&coords, geom, &img, c, border));
-                if si == 0 {
-                    ops = o;
-                }
-                ref_coords = exact.clone();
-                match r {
-                    Ok(out) => (coords, (q, q), out),
-                    Err(e) => {
-                        problems.push(format!("{}: kernel error: {e}", s.name));
-                        continue;
-                    }
+    for &c in channels {
+        for (si, s) in scenes.iter().enumerate() {
+            let view = match demo_view(s) {
+                Ok(v) => v,
+                Err(e) => {
+                    problems.push(format!("{}: {e}", s.name));
+                    continue;
                 }
             };
-            let exact = &ref_coords;
-            let pr = judge(&out, &coords, exact, &img, w, h, c, f, border, coord_err);
-            mismatch += pr.model_mismatch;
-            bound_max = bound_max.max(pr.bound);
-            worst_margin = worst_margin.min(pr.bound - pr.stats_ref.max_abs);
-            if pr.stats_ref.max_abs > pr.bound {
-                problems.push(format!(
-                    "{} ({border:?}): max error {:.4} exceeds its bound {:.4}",
-                    s.name, pr.stats_ref.max_abs, pr.bound
-                ));
-            }
-            for (p, &(ex, ey)) in exact.iter().enumerate() {
-                for ch in 0..c {
-                    let r = bilinear_f64(&img, w, h, c, ch, ex, ey, border);
-                    let a = out[p * c + ch] as f64;
-                    if (a - r).abs() <= 1.0 {
-                        within1 += 1;
+            let (w, h) = (s.width, s.height);
+            let img = if c == 3 {
+                to_three_channels(&s.gray)
+            } else {
+                s.gray.clone()
+            };
+            let geom = match WarpGeometry::new(w, h, w, h, f) {
+                Ok(g) => g,
+                Err(e) => {
+                    problems.push(e.to_string());
+                    continue;
+                }
+            };
+            let exact = exact_map(&s.camera, &view, w, h);
+            for border in [Border::Fill(0), Border::Clamp] {
+                let ref_coords: Vec<(f64, f64)>;
+                let (coords, coord_err, out) = if grid {
+                    let mb = match build_grid(&s.camera, &view, geom, k) {
+                        Ok(m) => m,
+                        Err(e) => {
+                            problems.push(format!("{}: {e}", s.name));
+                            continue;
+                        }
+                    };
+                    gmax = gmax.max(mb.max_px);
+                    grms2 += mb.rms_px * mb.rms_px;
+                    table_bytes = mb.table_bytes;
+                    let table = match ControlGrid::new(&mb.points, geom, k) {
+                        Ok(t) => t,
+                        Err(e) => {
+                            problems.push(e.to_string());
+                            continue;
+                        }
+                    };
+                    let (whole, o) = measure(w * h, || run_grid(&table, &img, c, border, None));
+                    if si == 0 && c == channels[0] {
+                        ops = o;
                     }
-                    samples += 1;
-                    actual_all.push(a);
-                    ref_all.push(r);
+                    let strips = run_grid(&table, &img, c, border, Some(7));
+                    let whole = match (whole, strips) {
+                        (Ok(a), Ok(b)) => {
+                            if a != b {
+                                problems.push(format!(
+                                    "{}: 7-row strips differ from the frame",
+                                    s.name
+                                ));
+                            }
+                            a
+                        }
+                        (Err(e), _) | (_, Err(e)) => {
+                            problems.push(format!("{}: kernel error: {e}", s.name));
+                            continue;
+                        }
+                    };
+                    let q = 1.0 / (1u64 << f) as f64;
+                    lens_err = lens_err.max(max_err_vs(&whole, &exact, &img, w, h, c, border));
+                    ref_coords = mb.ideal;
+                    (mb.coords, (q, q), whole)
+                } else {
+                    let coords = pixel_map_coords(&exact, f);
+                    let q = 1.0 / (1u64 << (f + 1)) as f64;
+                    let (r, o) = measure(w * h, || run_pixel_map(&coords, geom, &img, c, border));
+                    if si == 0 && c == channels[0] {
+                        ops = o;
+                    }
+                    ref_coords = exact.clone();
+                    match r {
+                        Ok(out) => (coords, (q, q), out),
+                        Err(e) => {
+                            problems.push(format!("{}: kernel error: {e}", s.name));
+                            continue;
+                        }
+                    }
+                };
+                let exact = &ref_coords;
+                let pr = judge(&out, &coords, exact, &img, w, h, c, f, border, coord_err);
+                mismatch += pr.model_mismatch;
+                bound_max = bound_max.max(pr.bound);
+                worst_margin = worst_margin.min(pr.bound - pr.stats_ref.max_abs);
+                if pr.stats_ref.max_abs > pr.bound {
+                    problems.push(format!(
+                        "{} ({border:?}): max error {:.4} exceeds its bound {:.4}",
+                        s.name, pr.stats_ref.max_abs, pr.bound
+                    ));
+                }
+                for (p, &(ex, ey)) in exact.iter().enumerate() {
+                    for ch in 0..c {
+                        let r = bilinear_f64(&img, w, h, c, ch, ex, ey, border);
+                        let a = out[p * c + ch] as f64;
+                        if (a - r).abs() <= 1.0 {
+                            within1 += 1;
+                        }
+                        samples += 1;
+                        actual_all.push(a);
+                        ref_all.push(r);
+                    }
                 }
             }
         }
@@ -631,7 +643,7 @@ fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
     }
     let mut r = KernelReport::from_stats(
         name,
-        KernelFamily::Remap,
+        KernelFamily::Warp,
         Contract::Tolerance,
         bound_max,
         &all,
@@ -645,11 +657,11 @@ fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
         "bound_worst_case_any_image".into(),
         0.5 + 255.0 / (1u64 << f) as f64,
     );
-    if mesh {
-        metrics.insert("step_log2".into(), k as f64);
-        metrics.insert("mesh_max_px".into(), gmax);
+    if grid {
+        metrics.insert("grid_log2".into(), k as f64);
+        metrics.insert("grid_max_px".into(), gmax);
         metrics.insert(
-            "mesh_rms_px".into(),
+            "grid_rms_px".into(),
             (grms2 / (2 * scenes.len()).max(1) as f64).sqrt(),
         );
         metrics.insert("table_bytes".into(), table_bytes as f64);
@@ -657,22 +669,23 @@ fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
     }
     r.metrics.extend(metrics);
     r.notes.push(format!(
-        "{} path, {c} channel(s), F = {f}{}: bit-exact to the transcribed integer model ({}), \
-         vs f64 bilinear at {}; borders constant(0) and replicate; {} scenes; \
-         bound = 0.5 + Dx ex + Dy ey per scene (largest shown)",
-        if mesh { "mesh" } else { "dense" },
-        if mesh {
-            format!(", step 2^{k}")
+        "{} path, {:?} channel(s), F = {f}{}: bit-exact to the transcribed integer model ({}), \
+         vs f64 bilinear at {}; borders fill(0) and clamp; {} scenes; \
+         bound = 0.5 + Dx ex + Dy ey per scene (largest shown); ops/px of 1 channel",
+        if grid { "control-grid" } else { "pixel-map" },
+        channels,
+        if grid {
+            format!(", grid step 2^{k}")
         } else {
             String::new()
         },
-        if mesh {
-            "fed with mesh coordinates"
+        if grid {
+            "fed with grid coordinates"
         } else {
             "quantised exact map"
         },
-        if mesh {
-            "the unquantised mesh (bilinear of exact control points; ex = ey = 2^-F)"
+        if grid {
+            "the unquantised grid (bilinear of exact control points; ex = ey = 2^-F)"
         } else {
             "the exact fit-to-view lens coordinates (ex = ey = 2^-(F+1))"
         },
@@ -686,20 +699,20 @@ fn check_path(scenes: &[Scene], mesh: bool, c: usize) -> KernelReport {
 
 // ---------------------------------------------------------------- golden
 
-/// Golden parameters of `remap.dense`.
+/// Golden parameters of `warp.pixel_map`.
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
 #[serde(deny_unknown_fields)]
-pub struct DenseParams {
+pub struct PixelMapParams {
     /// Fractional bits.
     pub frac_bits: u32,
     /// Border rule.
     pub border: BorderParam,
 }
 
-/// Golden parameters of `remap.mesh` (the mesh itself is the `blob` input).
+/// Golden parameters of `warp.control_grid` (the grid itself is the `blob` input).
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
 #[serde(deny_unknown_fields)]
-pub struct MeshParams {
+pub struct GridParams {
     /// Border rule.
     pub border: BorderParam,
     /// Rows per strip the output is produced in.
@@ -719,7 +732,7 @@ fn small_camera(w: usize, h: usize, lens: LensModel) -> Camera {
 }
 
 #[allow(clippy::too_many_arguments)]
-fn dense_case(
+fn pixel_map_case(
     id: &str,
     comment: &str,
     img: Vec<u8>,
@@ -729,13 +742,13 @@ fn dense_case(
     f: u32,
     border: Border,
 ) -> GoldenCase {
-    let geom = RemapGeometry::new(ow, oh, sw, sh, f).expect("golden geometry is valid");
-    let out = run_dense(&coords, geom, &img, c, border).expect("golden map is valid");
+    let geom = WarpGeometry::new(ow, oh, sw, sh, f).expect("golden geometry is valid");
+    let out = run_pixel_map(&coords, geom, &img, c, border).expect("golden map is valid");
     GoldenCase {
         id: id.into(),
         comment: comment.into(),
-        kernel: "remap.dense".into(),
-        params: serde_json::to_value(DenseParams {
+        kernel: "warp.pixel_map".into(),
+        params: serde_json::to_value(PixelMapParams {
             frac_bits: f,
             border: border.into(),
         })
@@ -748,15 +761,15 @@ fn dense_case(
     }
 }
 
-fn mesh_blob(points: &[i32], geom: RemapGeometry, k: u32) -> Vec<u8> {
-    let m = MeshTable::new(points, geom, k).expect("golden mesh is valid");
+fn grid_blob(points: &[i32], geom: WarpGeometry, k: u32) -> Vec<u8> {
+    let m = ControlGrid::new(points, geom, k).expect("golden grid is valid");
     let mut blob = vec![0u8; m.blob_len()];
     m.write_blob(&mut blob)
         .expect("blob buffer is large enough");
     blob
 }
 
-fn mesh_case(
+fn grid_case(
     id: &str,
     comment: &str,
     img: Vec<u8>,
@@ -765,14 +778,14 @@ fn mesh_case(
     border: Border,
     strip_rows: usize,
 ) -> GoldenCase {
-    let m = MeshTable::from_blob(&blob).expect("golden blob parses");
+    let m = ControlGrid::from_blob(&blob).expect("golden blob parses");
     let g = m.geometry();
-    let out = run_mesh(&m, &img, c, border, Some(strip_rows)).expect("golden mesh runs");
+    let out = run_grid(&m, &img, c, border, Some(strip_rows)).expect("golden grid runs");
     GoldenCase {
         id: id.into(),
         comment: comment.into(),
-        kernel: "remap.mesh".into(),
-        params: serde_json::to_value(MeshParams {
+        kernel: "warp.control_grid".into(),
+        params: serde_json::to_value(GridParams {
             border: border.into(),
             strip_rows,
         })
@@ -785,9 +798,9 @@ fn mesh_case(
     }
 }
 
-/// Golden cases: dense maps at 2, 5 and 10 fractional bits with both
+/// Golden cases: pixel maps at 2, 5 and 10 fractional bits with both
 /// borders, an RGB case, a map reaching the edges of the accepted range,
-/// and meshes at steps 4, 16 and 32 (partial last cells, strips, RGB),
+/// and control grids at steps 4, 16 and 32 (partial last cells, strips, RGB),
 /// all on a crop of a demo scene undistorted by a small barrel lens.
 pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let s = &scenes[0];
@@ -812,35 +825,35 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let exact = exact_map(&cam, &view, ow, oh);
     let mut v = Vec::new();
     for (f, border, tag) in [
-        (2, Border::Replicate, "f2.replicate"),
-        (5, Border::Constant(0), "f5.const0"),
-        (10, Border::Replicate, "f10.replicate"),
+        (2, Border::Clamp, "f2.clamp"),
+        (5, Border::Fill(0), "f5.fill0"),
+        (10, Border::Clamp, "f10.clamp"),
     ] {
-        v.push(dense_case(
-            &format!("remap.dense.{tag}"),
+        v.push(pixel_map_case(
+            &format!("warp.pixel_map.{tag}"),
             &format!("{ow}x{oh} undistortion of a {sw}x{sh} floor crop, F = {f}"),
             img.clone(),
             (sw, sh, 1),
-            dense_coords(&exact, f),
+            pixel_map_coords(&exact, f),
             (ow, oh),
             f,
             border,
         ));
     }
-    v.push(dense_case(
-        "remap.dense.f6.rgb.const90",
+    v.push(pixel_map_case(
+        "warp.pixel_map.f6.rgb.fill90",
         "three interleaved channels sharing the weights, F = 6, border 90",
         rgb.clone(),
         (sw, sh, 3),
-        dense_coords(&exact, 6),
+        pixel_map_coords(&exact, 6),
         (ow, oh),
         6,
-        Border::Constant(90),
+        Border::Fill(90),
     ));
     // A map spreading over the whole accepted range (-W..2W-1), including
     // its two extremes, to exercise the border rule far outside.
     let f = 4;
-    let g = RemapGeometry::new(16, 12, sw, sh, f).expect("valid");
+    let g = WarpGeometry::new(16, 12, sw, sh, f).expect("valid");
     let (xl, xh) = g.coord_range_x();
     let (yl, yh) = g.coord_range_y();
     let far: Vec<i32> = (0..16 * 12)
@@ -860,12 +873,9 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             _ => v,
         })
         .collect();
-    for (border, tag) in [
-        (Border::Constant(255), "const255"),
-        (Border::Replicate, "replicate"),
-    ] {
-        v.push(dense_case(
-            &format!("remap.dense.far.{tag}"),
+    for (border, tag) in [(Border::Fill(255), "fill255"), (Border::Clamp, "clamp")] {
+        v.push(pixel_map_case(
+            &format!("warp.pixel_map.far.{tag}"),
             "coordinates scattered over the accepted range, extremes included",
             img.clone(),
             (sw, sh, 1),
@@ -876,23 +886,23 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         ));
     }
     for (k, f, c, border, strip, tag) in [
-        (2, 5, 1, Border::Constant(0), 30, "k2.f5.const0"),
-        (4, 8, 3, Border::Replicate, 7, "k4.f8.rgb.replicate"),
-        (5, 10, 1, Border::Replicate, 1, "k5.f10.replicate"),
+        (2, 5, 1, Border::Fill(0), 30, "k2.f5.fill0"),
+        (4, 8, 3, Border::Clamp, 7, "k4.f8.rgb.clamp"),
+        (5, 10, 1, Border::Clamp, 1, "k5.f10.clamp"),
     ] {
-        let geom = RemapGeometry::new(ow, oh, sw, sh, f).expect("valid");
-        let mb = build_mesh(&cam, &view, geom, k).expect("golden mesh builds");
-        v.push(mesh_case(
-            &format!("remap.mesh.{tag}"),
+        let geom = WarpGeometry::new(ow, oh, sw, sh, f).expect("valid");
+        let mb = build_grid(&cam, &view, geom, k).expect("golden grid builds");
+        v.push(grid_case(
+            &format!("warp.control_grid.{tag}"),
             &format!(
-                "mesh step {} ({}x{} points) from a blob, F = {f}, {c} channel(s), strips of {strip} rows",
+                "grid step {} ({}x{} points) from a blob, F = {f}, {c} channel(s), strips of {strip} rows",
                 1 << k,
                 mb.grid.0,
                 mb.grid.1
             ),
             if c == 3 { rgb.clone() } else { img.clone() },
             c,
-            mesh_blob(&mb.points, geom, k),
+            grid_blob(&mb.points, geom, k),
             border,
             strip,
         ));
@@ -900,7 +910,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     v
 }
 
-/// Recomputes a `remap.dense` or `remap.mesh` vector.
+/// Recomputes a `warp.pixel_map` or `warp.control_grid` vector.
 pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
@@ -911,24 +921,23 @@ pub fn run_vector(
     let c = src.channels;
     let e = |e: fixsight::Error| e.to_string();
     match kernel {
-        "remap.dense" => {
-            let p: DenseParams = parse_params(kernel, params)?;
+        "warp.pixel_map" => {
+            let p: PixelMapParams = parse_params(kernel, params)?;
             let map = input(inputs, "map")?;
             if map.channels != 2 {
                 return Err(format!("map has {} channels, expected 2", map.channels));
             }
-            let geom =
-                RemapGeometry::new(map.width, map.height, src.width, src.height, p.frac_bits)
-                    .map_err(e)?;
-            let out = run_dense(&map.to_i32()?, geom, &img, c, p.border.into()).map_err(e)?;
+            let geom = WarpGeometry::new(map.width, map.height, src.width, src.height, p.frac_bits)
+                .map_err(e)?;
+            let out = run_pixel_map(&map.to_i32()?, geom, &img, c, p.border.into()).map_err(e)?;
             Ok(vec![Blob::from_u8("dst", map.width, map.height, c, &out)])
         }
-        "remap.mesh" => {
-            let p: MeshParams = parse_params(kernel, params)?;
+        "warp.control_grid" => {
+            let p: GridParams = parse_params(kernel, params)?;
             let blob = input(inputs, "blob")?.to_u8()?;
-            let m = MeshTable::from_blob(&blob).map_err(e)?;
+            let m = ControlGrid::from_blob(&blob).map_err(e)?;
             let g = m.geometry();
-            let out = run_mesh(&m, &img, c, p.border.into(), Some(p.strip_rows)).map_err(e)?;
+            let out = run_grid(&m, &img, c, p.border.into(), Some(p.strip_rows)).map_err(e)?;
             Ok(vec![Blob::from_u8(
                 "dst",
                 g.out_width(),
@@ -937,26 +946,26 @@ pub fn run_vector(
                 &out,
             )])
         }
-        _ => Err(format!("unknown remap kernel `{kernel}`")),
+        _ => Err(format!("unknown warp kernel `{kernel}`")),
     }
 }
 
-// ---------------------------------------------------------------- mesh tool
+// ---------------------------------------------------------------- grid tool
 
-/// The three files `fixsight-verify mesh` writes.
+/// The three files `fixsight-verify grid` writes.
 #[derive(Debug, Clone)]
-pub struct MeshFiles {
+pub struct GridFiles {
     /// Rust source defining the control points and geometry.
     pub rust: String,
     /// C header with the same data.
     pub c_header: String,
-    /// Binary blob (format in the kernel's `remap` docs).
+    /// Binary blob (format in the kernel's `warp` docs).
     pub blob: Vec<u8>,
 }
 
-/// Renders a built mesh as Rust source, C header and blob. `name` becomes
+/// Renders a built grid as Rust source, C header and blob. `name` becomes
 /// the identifier stem (upper-cased for constants).
-pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles, String> {
+pub fn grid_files(mb: &GridBuild, name: &str, origin: &str) -> Result<GridFiles, String> {
     let ident: String = name
         .chars()
         .map(|c| {
@@ -974,7 +983,7 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
     let (cols, rows) = mb.grid;
     let n = mb.points.len();
     let header = format!(
-        "Mesh table {name}: output {}x{}, source {}x{}, step 2^{} px, {} fractional bits, \
+        "Control grid {name}: output {}x{}, source {}x{}, step 2^{} px, {} fractional bits, \
          {cols}x{rows} control points ({} bytes); geometric error vs the exact lens map: \
          max {:.5} px, RMS {:.5} px. Generated by fixsight-verify from {origin}.",
         g.out_width(),
@@ -1004,7 +1013,7 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
     };
     let mut rust = String::new();
     let _ = writeln!(rust, "// {header}");
-    let _ = writeln!(rust, "// Load with fixsight::remap::MeshTable::new(&{ident}_POINTS, RemapGeometry::new({ident}_OUT_WIDTH, {ident}_OUT_HEIGHT, {ident}_SRC_WIDTH, {ident}_SRC_HEIGHT, {ident}_FRAC_BITS)?, {ident}_STEP_LOG2).");
+    let _ = writeln!(rust, "// Load with fixsight::warp::ControlGrid::new(&{ident}_POINTS, WarpGeometry::new({ident}_OUT_WIDTH, {ident}_OUT_HEIGHT, {ident}_SRC_WIDTH, {ident}_SRC_HEIGHT, {ident}_FRAC_BITS)?, {ident}_GRID_LOG2).");
     for (k, v) in [
         ("OUT_WIDTH", g.out_width()),
         ("OUT_HEIGHT", g.out_height()),
@@ -1018,7 +1027,7 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
         "pub const {ident}_FRAC_BITS: u32 = {};",
         g.frac_bits()
     );
-    let _ = writeln!(rust, "pub const {ident}_STEP_LOG2: u32 = {};", mb.k);
+    let _ = writeln!(rust, "pub const {ident}_GRID_LOG2: u32 = {};", mb.k);
     let _ = writeln!(
         rust,
         "/// {cols} x {rows} control points, interleaved raw (x, y), row-major."
@@ -1027,7 +1036,7 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
     rust.push_str(&body(6));
     rust.push_str("];\n");
     let mut c = String::new();
-    let guard = format!("{ident}_MESH_H");
+    let guard = format!("FIXSIGHT_{ident}_H");
     let _ = writeln!(c, "/* {header} */");
     let _ = writeln!(
         c,
@@ -1039,9 +1048,9 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
         ("SRC_WIDTH", g.src_width()),
         ("SRC_HEIGHT", g.src_height()),
         ("FRAC_BITS", g.frac_bits() as usize),
-        ("STEP_LOG2", mb.k as usize),
-        ("GRID_COLS", cols),
-        ("GRID_ROWS", rows),
+        ("GRID_LOG2", mb.k as usize),
+        ("COLS", cols),
+        ("ROWS", rows),
     ] {
         let _ = writeln!(c, "#define {ident}_{k} {v}u");
     }
@@ -1052,10 +1061,10 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
     let _ = writeln!(c, "static const int32_t {ident}_POINTS[{n}] = {{");
     c.push_str(&body(6));
     let _ = writeln!(c, "}};\n\n#endif /* {guard} */");
-    let table = MeshTable::new(&mb.points, g, mb.k).map_err(|e| e.to_string())?;
+    let table = ControlGrid::new(&mb.points, g, mb.k).map_err(|e| e.to_string())?;
     let mut blob = vec![0u8; table.blob_len()];
     table.write_blob(&mut blob).map_err(|e| e.to_string())?;
-    Ok(MeshFiles {
+    Ok(GridFiles {
         rust,
         c_header: c,
         blob,
@@ -1069,9 +1078,9 @@ pub fn mesh_files(mb: &MeshBuild, name: &str, origin: &str) -> Result<MeshFiles,
 pub struct SweepRow {
     /// Fractional bits.
     pub frac_bits: u32,
-    /// Mesh step log2, or `None` for the dense map.
-    pub step_log2: Option<u32>,
-    /// Table bytes (dense: `8 * w * h`).
+    /// Grid step log2, or `None` for the pixel map.
+    pub grid_log2: Option<u32>,
+    /// Table bytes (pixel map: `8 * w * h`).
     pub table_bytes: usize,
     /// Largest geometric error, px.
     pub geo_max_px: f64,
@@ -1085,7 +1094,7 @@ pub struct SweepRow {
     pub within_1lsb: f64,
 }
 
-/// Runs the sweep over `frac_bits` x (dense + `steps`) on a grey image
+/// Runs the sweep over `frac_bits` x (pixel map + `steps`) on a grey image
 /// taken through `cam` and corrected to `view` (same size as the image).
 pub fn sweep(
     img: &[u8],
@@ -1097,7 +1106,7 @@ pub fn sweep(
     steps: &[u32],
 ) -> Result<Vec<SweepRow>, String> {
     let exact = exact_map(cam, view, w, h);
-    let border = Border::Constant(0);
+    let border = Border::Fill(0);
     let reference: Vec<f64> = exact
         .iter()
         .map(|&(x, y)| bilinear_f64(img, w, h, 1, 0, x, y, border))
@@ -1116,8 +1125,8 @@ pub fn sweep(
     let e = |e: fixsight::Error| e.to_string();
     let mut rows = Vec::new();
     for &f in frac_bits {
-        let geom = RemapGeometry::new(w, h, w, h, f).map_err(e)?;
-        let coords = dense_coords(&exact, f);
+        let geom = WarpGeometry::new(w, h, w, h, f).map_err(e)?;
+        let coords = pixel_map_coords(&exact, f);
         let scale = 1.0 / (1u64 << f) as f64;
         let (mut gmax, mut g2) = (0f64, 0f64);
         for (p, &(ex, ey)) in exact.iter().enumerate() {
@@ -1126,11 +1135,11 @@ pub fn sweep(
             gmax = gmax.max(d);
             g2 += d * d;
         }
-        let out = run_dense(&coords, geom, img, 1, border).map_err(e)?;
+        let out = run_pixel_map(&coords, geom, img, 1, border).map_err(e)?;
         let (m, r, s1) = stats(&out);
         rows.push(SweepRow {
             frac_bits: f,
-            step_log2: None,
+            grid_log2: None,
             table_bytes: 8 * w * h,
             geo_max_px: gmax,
             geo_rms_px: (g2 / (w * h) as f64).sqrt(),
@@ -1139,13 +1148,13 @@ pub fn sweep(
             within_1lsb: s1,
         });
         for &k in steps {
-            let mb = build_mesh(cam, view, geom, k)?;
-            let table = MeshTable::new(&mb.points, geom, k).map_err(e)?;
-            let out = run_mesh(&table, img, 1, border, None).map_err(e)?;
+            let mb = build_grid(cam, view, geom, k)?;
+            let table = ControlGrid::new(&mb.points, geom, k).map_err(e)?;
+            let out = run_grid(&table, img, 1, border, None).map_err(e)?;
             let (m, r, s1) = stats(&out);
             rows.push(SweepRow {
                 frac_bits: f,
-                step_log2: Some(k),
+                grid_log2: Some(k),
                 table_bytes: mb.table_bytes,
                 geo_max_px: mb.max_px,
                 geo_rms_px: mb.rms_px,
@@ -1169,8 +1178,8 @@ pub fn sweep_table(rows: &[SweepRow]) -> String {
             s,
             "| {} | {} | {} | {:.4} | {:.4} | {:.3} | {:.4} | {:.5} |",
             r.frac_bits,
-            r.step_log2
-                .map_or("dense".to_string(), |k| format!("mesh {}", 1 << k)),
+            r.grid_log2
+                .map_or("pixel map".to_string(), |k| format!("grid {}", 1 << k)),
             r.table_bytes,
             r.geo_max_px,
             r.geo_rms_px,
@@ -1182,11 +1191,11 @@ pub fn sweep_table(rows: &[SweepRow]) -> String {
     s
 }
 
-/// `fixsight-verify mesh`: reads a lens file, builds the mesh, writes
+/// `fixsight-verify grid`: reads a lens file, builds the grid, writes
 /// `<name>.rs`, `<name>.h` and `<name>.bin` into `out`; returns a summary.
-pub fn mesh_command(
+pub fn grid_command(
     lens_file: &std::path::Path,
-    step_log2: u32,
+    grid_log2: u32,
     frac_bits: u32,
     out: &std::path::Path,
     name: &str,
@@ -1194,18 +1203,18 @@ pub fn mesh_command(
     let text = std::fs::read_to_string(lens_file)
         .map_err(|e| anyhow::anyhow!("cannot read {}: {e}", lens_file.display()))?;
     let spec = crate::lens::LensSpec::parse(&text)?;
-    let geom = RemapGeometry::new(
+    let geom = WarpGeometry::new(
         spec.output.0,
         spec.output.1,
         spec.sensor.0,
         spec.sensor.1,
         frac_bits,
     )?;
-    let mb = build_mesh(&spec.camera, &spec.view, geom, step_log2).map_err(anyhow::Error::msg)?;
+    let mb = build_grid(&spec.camera, &spec.view, geom, grid_log2).map_err(anyhow::Error::msg)?;
     let origin = lens_file
         .file_name()
         .map_or("a lens file".into(), |f| f.to_string_lossy().to_string());
-    let files = mesh_files(&mb, name, &origin).map_err(anyhow::Error::msg)?;
+    let files = grid_files(&mb, name, &origin).map_err(anyhow::Error::msg)?;
     std::fs::create_dir_all(out)?;
     for (ext, bytes) in [
         ("rs", files.rust.as_bytes()),
@@ -1217,7 +1226,7 @@ pub fn mesh_command(
             .map_err(|e| anyhow::anyhow!("cannot write {}: {e}", p.display()))?;
     }
     Ok(format!(
-        "{}x{} view ({}; f' = {:.3} px) of a {}x{} sensor: mesh step {} px, F = {frac_bits}, \
+        "{}x{} view ({}; f' = {:.3} px) of a {}x{} sensor: grid step {} px, F = {frac_bits}, \
          {}x{} points, {} bytes (blob {} bytes); geometric error max {:.5} px, RMS {:.5} px\n\
          wrote {name}.rs, {name}.h, {name}.bin to {}",
         spec.output.0,
@@ -1230,7 +1239,7 @@ pub fn mesh_command(
         spec.view.fx,
         spec.sensor.0,
         spec.sensor.1,
-        1u32 << step_log2,
+        1u32 << grid_log2,
         mb.grid.0,
         mb.grid.1,
         mb.table_bytes,
@@ -1254,7 +1263,7 @@ pub fn sweep_command(out: &std::path::Path) -> anyhow::Result<String> {
         .map_err(anyhow::Error::msg)?;
     std::fs::create_dir_all(out)?;
     let table = format!(
-        "Precision sweep on demo scene `{}` ({}x{}, fit-to-view undistortion, border constant 0).\n\
+        "Precision sweep on demo scene `{}` ({}x{}, fit-to-view undistortion, border fill 0).\n\
          Errors against the f64 bilinear reference at the exact lens coordinates.\n\n{}",
         s.name,
         s.width,
@@ -1283,7 +1292,7 @@ mod tests {
     #[test]
     fn f64_reference_on_the_handbook_unit_cell() {
         let img = [0u8, 100, 50, 250];
-        let r = |x, y| bilinear_f64(&img, 2, 2, 1, 0, x, y, Border::Replicate);
+        let r = |x, y| bilinear_f64(&img, 2, 2, 1, 0, x, y, Border::Clamp);
         assert_eq!(r(0.0, 0.0), 0.0);
         assert_eq!(r(1.0, 0.0), 100.0);
         assert_eq!(r(0.0, 1.0), 50.0);
@@ -1293,7 +1302,7 @@ mod tests {
         // The kernel model at the same (exactly representable) points rounds
         // these values half up.
         assert_eq!(
-            model_sample(&img, 2, 2, 1, 4, 12, 4, Border::Replicate),
+            model_sample(&img, 2, 2, 1, 4, 12, 4, Border::Clamp),
             vec![81]
         );
     }
@@ -1327,7 +1336,7 @@ mod tests {
                 if u < 1.0 || v < 1.0 || u > 94.0 || v > 70.0 {
                     continue;
                 }
-                let r = bilinear_f64(&s.gray, 96, 72, 1, 0, u, v, Border::Constant(0));
+                let r = bilinear_f64(&s.gray, 96, 72, 1, 0, u, v, Border::Fill(0));
                 let theirs = warped.get_pixel(x, y)[0] as f64;
                 assert!(
                     theirs - r > -2.0 && theirs - r <= 0.01,
@@ -1342,7 +1351,7 @@ mod tests {
         assert!(mean < -0.5 && mean > -1.5, "mean difference {mean}");
     }
 
-    /// Mesh error on realistic coefficients: Zhang (2000), "A flexible new
+    /// Grid error on realistic coefficients: Zhang (2000), "A flexible new
     /// technique for camera calibration", IEEE Trans. PAMI 22(11), real-data
     /// calibration of a 640x480 camera (from memory; see
     /// host-verify/data/demo-lens.txt). VGA, step 16, F = 5: the table is
@@ -1351,11 +1360,11 @@ mod tests {
     /// interpolation error plus control-point and coordinate rounding), with
     /// second derivatives taken as central differences at 1 px over the view.
     #[test]
-    fn mesh_error_on_a_published_calibration_stays_within_its_bound() {
+    fn grid_error_on_a_published_calibration_stays_within_its_bound() {
         let spec = LensSpec::parse(include_str!("../data/demo-lens.txt")).unwrap();
         let (w, h) = spec.output;
-        let geom = RemapGeometry::new(w, h, spec.sensor.0, spec.sensor.1, 5).unwrap();
-        let mb = build_mesh(&spec.camera, &spec.view, geom, 4).unwrap();
+        let geom = WarpGeometry::new(w, h, spec.sensor.0, spec.sensor.1, 5).unwrap();
+        let mb = build_grid(&spec.camera, &spec.view, geom, 4).unwrap();
         assert_eq!(mb.table_bytes, 10168);
         let exact = exact_map(&spec.camera, &spec.view, w, h);
         let at = |x: usize, y: usize| exact[y * w + x];
@@ -1384,7 +1393,7 @@ mod tests {
 
     /// "1/16 to 1/32 px sub-pixel resolution suffices for 8-bit output":
     /// common practice, no source. The sweep on the first demo scene puts
-    /// it here: at F = 5 (1/32 px) the dense path is within 1 LSB of the
+    /// it here: at F = 5 (1/32 px) the pixel-map path is within 1 LSB of the
     /// exact-coordinate reference on >= 99.9 % of pixels and its RMS error
     /// is within 0.01 LSB of F = 10; at F = 4 (1/16 px) the RMS is still
     /// within 0.05 LSB of F = 10 but the 99.9 % share is not reached.
@@ -1401,7 +1410,7 @@ mod tests {
     }
 
     #[test]
-    fn remap_contracts_hold_on_the_demo_scenes() {
+    fn warp_contracts_hold_on_the_demo_scenes() {
         let scenes = crate::scene::demo_scenes();
         for r in check(&scenes) {
             assert!(r.pass, "{}: {:?}", r.name, r.notes);
@@ -1410,12 +1419,12 @@ mod tests {
     }
 
     #[test]
-    fn mesh_files_round_trip_through_the_kernel_loader() {
+    fn grid_files_round_trip_through_the_kernel_loader() {
         let spec = LensSpec::parse(include_str!("../data/demo-lens.txt")).unwrap();
-        let geom = RemapGeometry::new(640, 480, 640, 480, 6).unwrap();
-        let mb = build_mesh(&spec.camera, &spec.view, geom, 5).unwrap();
-        let files = mesh_files(&mb, "zhang vga", "test").unwrap();
-        let t = MeshTable::from_blob(&files.blob).unwrap();
+        let geom = WarpGeometry::new(640, 480, 640, 480, 6).unwrap();
+        let mb = build_grid(&spec.camera, &spec.view, geom, 5).unwrap();
+        let files = grid_files(&mb, "zhang vga", "test").unwrap();
+        let t = ControlGrid::from_blob(&files.blob).unwrap();
         assert_eq!(t.grid(), mb.grid);
         assert_eq!(
             t.point(3, 2),
@@ -1428,7 +1437,12 @@ mod tests {
             "pub static ZHANG_VGA_POINTS: [i32; {}]",
             mb.points.len()
         )));
-        assert!(files.c_header.contains("#define ZHANG_VGA_GRID_COLS 21u"));
+        assert!(files.c_header.contains("#define ZHANG_VGA_COLS 21u"));
+        assert!(files.c_header.contains("#define ZHANG_VGA_GRID_LOG2 5u"));
+        assert!(files.c_header.contains("#ifndef FIXSIGHT_ZHANG_VGA_H\n"));
+        // The default stem gives a guard that names the grid once.
+        let default = grid_files(&mb, "lens_grid", "test").unwrap();
+        assert!(default.c_header.contains("#ifndef FIXSIGHT_LENS_GRID_H\n"));
         // Every number in the Rust array is the table, in order.
         let body = files.rust.split("= [").nth(1).unwrap();
         let nums: Vec<i32> = body
@@ -1437,7 +1451,7 @@ mod tests {
             .map(|t| t.parse().unwrap())
             .collect();
         assert_eq!(nums, mb.points);
-        assert!(mesh_files(&mb, "9lives", "test").is_err());
+        assert!(grid_files(&mb, "9lives", "test").is_err());
     }
 
     #[test]
@@ -1447,6 +1461,6 @@ mod tests {
             let got = run_vector(&c.kernel, &c.params, &c.inputs).unwrap();
             assert_eq!(got, c.expected, "{}", c.id);
         }
-        assert!(run_vector("remap.nothing", &serde_json::json!({}), &[]).is_err());
+        assert!(run_vector("warp.nothing", &serde_json::json!({}), &[]).is_err());
     }
 }
