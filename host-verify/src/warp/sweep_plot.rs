@@ -12,7 +12,7 @@
 //! blue, green, orange, red, magenta. A dashed-grey horizontal line on the
 //! left panel marks 0.5 LSB, on the right 1/32 px.
 
-use crate::warp::SweepRow;
+use crate::warp::sweep::SweepRow;
 use plotters::prelude::*;
 use std::path::Path;
 
