@@ -19,6 +19,7 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
+//! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
 //! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
 //!
 //! ```
@@ -50,6 +51,7 @@ pub mod hysteresis;
 pub mod image;
 pub mod nms;
 pub mod ops;
+pub mod pipeline;
 pub mod remap;
 pub mod thinning;
 
