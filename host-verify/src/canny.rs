@@ -15,7 +15,7 @@
 //! 1. Gaussian smoothing with `sigma = 1`, sampled to radius
 //!    `ceil(3 sigma)`, normalised, separable, replicated border, no
 //!    rounding (the kernel chain uses these taps rounded to 1/256, see
-//!    [`GAUSS7`]);
+//!    [`fixsight::pipeline::Smoothing::Gauss7`]);
 //! 2. Sobel derivatives in `f64` (same taps, scale and replicated border as
 //!    the kernels), magnitude `sqrt(gx^2 + gy^2)`;
 //! 3. non-maximum suppression along the exact gradient angle: the
@@ -46,7 +46,7 @@
 //! 4-sector NMS 0.920; Gaussian with the exact magnitude and 4-sector NMS
 //! 0.969. Integer rounding of the gradients changed F1 by less than 0.002,
 //! thinning by less than 0.006. Hence the chain now smooths with the
-//! sampled Gaussian rounded to 1/256 ([`GAUSS7`]) and takes the exact
+//! sampled Gaussian rounded to 1/256 ([`fixsight::pipeline::Smoothing::Gauss7`]) and takes the exact
 //! rounded magnitude (`gradient::magnitude_l2_round`); NMS stays on the 4
 //! sectors.
 //!
@@ -77,7 +77,8 @@ use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
 use crate::scene::Scene;
 use crate::{hysteresis as href, nms as nref, thinning as tref};
-use fixsight::filter::{Border, SeparableFilter, Taps};
+use fixsight::filter::SeparableFilter;
+use fixsight::pipeline::{self, ThresholdRule};
 use fixsight::hysteresis::{self, Thresholds, U0F16};
 use fixsight::nms::{self, NmsStream};
 use fixsight::{gradient, thinning, ImageView, ImageViewMut};
@@ -101,12 +102,6 @@ pub const F1_GOAL: f64 = 0.95;
 /// (the `edges.canny` row's verdict is [`F1_GOAL`]).
 pub const F1_FLOOR: f64 = 0.90;
 
-/// The chain's smoothing taps: the `sigma = 1` Gaussian sampled at
-/// `-3..=3` and normalised (as in [`gaussian_f64`]), times 256, rounded to
-/// the nearest integer: `0.39905, 0.24203, 0.05401, 0.00443` times 256 are
-/// `102.16, 61.96, 13.83, 1.14`. The rounded taps sum to 256 exactly.
-pub const GAUSS7: [i16; 7] = [1, 14, 62, 102, 62, 14, 1];
-
 /// Settings of the fixed-point chain.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -123,10 +118,36 @@ pub struct ChainParams {
     pub stack: usize,
 }
 
-/// The demo settings: 512 bins of width 2 (magnitudes up to 1023 resolved;
-/// the chain's magnitudes are 4x Sobel), the kernel crate's demo share and
-/// ratio, a 1024-entry stack.
-pub const DEMO: ChainParams = ChainParams {
+/// The demo settings: the threshold rule of the kernel crate's
+/// [`fixsight::pipeline::DEMO`] (bins of width 8 covering the chain's
+/// largest magnitude, the demo share and ratio) and a 1024-entry stack.
+pub const DEMO: ChainParams = demo_params();
+
+const fn demo_params() -> ChainParams {
+    let (shift, high_permille, low_fraction_bits) = match pipeline::DEMO.thresholds {
+        ThresholdRule::Auto {
+            shift,
+            high_permille,
+            low_fraction_bits,
+            ..
+        } => (shift as u32, high_permille, low_fraction_bits),
+        ThresholdRule::Fixed { .. } => (0, 0, 0),
+    };
+    ChainParams {
+        bins: pipeline::DEMO.bins_needed(),
+        shift,
+        high_permille,
+        low_fraction_bits,
+        stack: 1024,
+    }
+}
+
+/// The parameters the `edges.*.floor` golden vectors were written with
+/// (512 bins of width 2, the same share and ratio, a 1024-entry stack).
+/// They are the vectors' own parameters, stored in the manifest, and stay
+/// as they are so the vectors stay byte-identical; the report uses
+/// [`DEMO`].
+pub const VECTOR_PARAMS: ChainParams = ChainParams {
     bins: 512,
     shift: 1,
     high_permille: hysteresis::DEMO_HIGH_PERMILLE,
@@ -176,30 +197,23 @@ fn e(err: fixsight::Error) -> String {
 /// the smoothed derivative keeps 2 fractional bits.
 pub const GRAD_SCALE: f64 = 4.0;
 
-/// Derivative taps of the chain: [`GAUSS7`] convolved with Sobel's
-/// `[-1 0 1]` (sum of absolute values 328).
-pub const CHAIN_DERIV: [i16; 9] = [-1, -14, -61, -88, 0, 88, 61, 14, 1];
-
-/// Cross taps of the chain: [`GAUSS7`] convolved with Sobel's `[1 2 1]`
-/// (sum 1024).
-pub const CHAIN_CROSS: [i16; 9] = [1, 16, 91, 240, 328, 240, 91, 16, 1];
-
-/// Shift of each of the chain's two tap sets (total 14).
-pub const CHAIN_TAP_SHIFT: u32 = 7;
-
-/// The smoothed Sobel x filter of the chain: [`CHAIN_DERIV`] horizontally
-/// and [`CHAIN_CROSS`] vertically, each shift 7 (9 x 9 support). The taps
-/// are `256` times Sobel's convolved with `GAUSS7 / 256`, so the exact
+/// The smoothed Sobel filter of the chain, `x` or (`vertical`) `y`:
+/// [`fixsight::pipeline::EdgeConfig::gradient_filters`] of
+/// [`fixsight::pipeline::DEMO`], the 7-tap Gaussian `[1 14 62 102 62 14
+/// 1]/256` convolved with Sobel's taps, `[-1 -14 -61 -88 0 88 61 14 1]` by
+/// `[1 16 91 240 328 240 91 16 1]`, each shift 7 (9 x 9 support). The exact
 /// accumulator is `2^16` times Sobel of the smoothed image and the shift 14
-/// leaves Sobel times 4, rounded once, half up. Worst case accumulator
-/// `255 * 328 * 1024 + 2^13` fits `i32`; the output is at most
-/// `(255 * 164 * 1024 + 2^13) >> 14 = 2614` in magnitude (the positive and
-/// the negative taps each sum to `164 * 1024`).
+/// leaves Sobel times 4 ([`GRAD_SCALE`]), rounded once, half up; the output
+/// is at most 2614 in magnitude.
 pub fn smoothed_sobel(vertical: bool) -> SeparableFilter {
-    let d = Taps::new(&CHAIN_DERIV, CHAIN_TAP_SHIFT).expect("valid taps");
-    let s = Taps::new(&CHAIN_CROSS, CHAIN_TAP_SHIFT).expect("valid taps");
-    let (h, v) = if vertical { (s, d) } else { (d, s) };
-    SeparableFilter::new(h, v, Border::Replicate).expect("fits the accumulator")
+    let (fx, fy) = pipeline::DEMO
+        .gradient_filters()
+        .expect("the demo configuration is valid");
+    if vertical {
+        fy
+    } else {
+        fx
+    }
 }
 
 /// Integer gradients of an 8-bit image: [`smoothed_sobel`] x and y, one
@@ -1027,7 +1041,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let (w, h) = (48usize, 32usize);
     let (x0, y0) = (136usize, 180usize);
     let img = crop(s, x0, y0, w, h);
-    let c = run_chain(&img, w, h, &DEMO).expect("crop sizes are valid");
+    let c = run_chain(&img, w, h, &VECTOR_PARAMS).expect("crop sizes are valid");
     let at = format!("a {w}x{h} crop at ({x0}, {y0}) of scene {}", s.name);
     let mut v = Vec::new();
     v.push(case(
@@ -1055,8 +1069,9 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             Blob::from_u8("dir", tw, th, 1, &td),
         ],
     ));
-    let tp = json!({"bins": DEMO.bins, "shift": DEMO.shift, "high_permille": DEMO.high_permille,
-                    "low_fraction_bits": DEMO.low_fraction_bits});
+    let tp = json!({"bins": VECTOR_PARAMS.bins, "shift": VECTOR_PARAMS.shift,
+                    "high_permille": VECTOR_PARAMS.high_permille,
+                    "low_fraction_bits": VECTOR_PARAMS.low_fraction_bits});
     v.push(case(
         "edges.thresholds.floor",
         format!("automatic thresholds of the suppressed magnitudes of {at}"),
@@ -1084,7 +1099,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         "edges.hysteresis.floor",
         format!("hysteresis of the edge codes of {at}"),
         "edges.hysteresis",
-        json!({"stack": DEMO.stack}),
+        json!({"stack": VECTOR_PARAMS.stack}),
         vec![Blob::from_u8("codes", w, h, 1, &c.codes)],
     ));
     let (hw, hh) = (20usize, 14usize);
@@ -1135,7 +1150,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         "edges.chain.floor",
         format!("the whole chain (Gaussian 7-tap, Sobel, rounded L2, NMS, auto thresholds, hysteresis, thinning) on {at}"),
         "edges.chain",
-        serde_json::to_value(DEMO).expect("serialisable"),
+        serde_json::to_value(VECTOR_PARAMS).expect("serialisable"),
         vec![Blob::from_u8("src", w, h, 1, &img)],
     ));
     v
@@ -1226,5 +1241,23 @@ mod tests {
         )
         .unwrap_err()
         .contains("low threshold 9 is above high threshold 3"));
+    }
+}
+#[cfg(test)]
+mod tmp_probe {
+    use super::*;
+    #[test]
+    fn probe_shifts() {
+        let scenes = crate::scene::demo_scenes();
+        for shift in [1u32, 2, 3, 4] {
+            let p = ChainParams { bins: (3697 >> shift) + 1, shift, ..DEMO };
+            for s in &scenes {
+                let c = run_chain(&s.gray, s.width, s.height, &p).unwrap();
+                let r = reference_f64(&s.gray, c.w, c.h, c.thresholds.low() as f64, c.thresholds.high() as f64);
+                let ag = agreement(&c.thin, &r, c.w, c.h);
+                let cand = c.codes.iter().filter(|&&v| v > 0).count();
+                println!("shift {shift} {} t {:?} f1 {:.4} cand {cand} thin {}", s.name, c.thresholds, ag.f1, c.thin.iter().filter(|&&v| v>0).count());
+            }
+        }
     }
 }

@@ -470,9 +470,8 @@ impl CodeMap for ImageViewMut<'_, u8> {
     }
 }
 
-/// A work-stack entry `(y << 16) | x`: `u32` in the public API, `i32` where
-/// the pipeline lends its accumulator rows (coordinates are below 2^15, so
-/// the value is never negative).
+/// A work-stack entry `(y << 16) | x`: `u32` in the public API, a pair of
+/// `i16` where the pipeline lends its gradient row (low half first).
 pub(crate) trait StackWord: Copy {
     /// Stores an entry.
     fn pack(e: u32) -> Self;
@@ -491,14 +490,14 @@ impl StackWord for u32 {
     }
 }
 
-impl StackWord for i32 {
+impl StackWord for [i16; 2] {
     #[inline(always)]
     fn pack(e: u32) -> Self {
-        e as i32
+        [e as i16, (e >> 16) as i16]
     }
     #[inline(always)]
     fn unpack(self) -> u32 {
-        self as u32
+        (self[0] as u16 as u32) | ((self[1] as u16 as u32) << 16)
     }
 }
 
