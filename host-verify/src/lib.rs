@@ -20,6 +20,7 @@
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
 //! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
 //! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
+//! | [`pipeline`] | the streamed edge stage against the whole-frame kernels and the `f64` Canny |
 
 pub mod canny;
 pub mod contract;
@@ -32,6 +33,7 @@ pub mod lens;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
+pub mod pipeline;
 pub mod remap;
 pub mod report;
 pub mod scene;

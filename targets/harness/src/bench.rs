@@ -12,8 +12,9 @@
 //!
 //! plus the other presets (binomial3/7, Scharr) for comparison; then the
 //! edge chain of `edges.chain` (`host-verify/src/canny.rs`) on the frame,
-//! with its fused smoothed Sobel (9 taps: the 7-tap Gaussian with Sobel,
-//! gradients 4x Sobel), rounded L2 magnitude and demo threshold rule:
+//! kernel by kernel, with the settings of `fixsight::pipeline::DEMO` (its
+//! fused smoothed Sobel: 9 taps, the 7-tap Gaussian with Sobel, gradients
+//! 4x Sobel; rounded L2 magnitude; its threshold rule):
 //!
 //! ```text
 //! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2--> mag2
@@ -22,7 +23,10 @@
 //! (sup, low, high) --classify--> codes --hysteresis--> edges --thinning--> thin
 //! ```
 //!
-//! (hysteresis and thinning in place on one image), and the two remap
+//! (hysteresis and thinning in place on one image); then `pipeline_edges`,
+//! the same chain as one streamed stage (`fixsight::pipeline::EdgeStream`
+//! with `DEMO`: 240 rows pushed, the frame finished, its points read), the
+//! figure a firmware that streams camera rows pays per frame; and the two remap
 //! forms on the frame with the integer barrel lens of [`bench_lens`]:
 //! `remap_dense` (a dense map, F = 5) and `remap_mesh` (the same lens as a
 //! step-16 mesh blob, output in strips of 16 rows). Each stage is one
@@ -38,6 +42,7 @@ use crate::kernels::{Arena, Buf, Img, Param, Params};
 use crate::vectors::Elem;
 use crate::Console;
 use core::fmt::Write;
+use fixsight::pipeline::{GradientTaps, ThresholdRule, DEMO};
 use fixsight::remap::{MeshTable, RemapGeometry};
 
 /// Frame width.
@@ -46,7 +51,7 @@ pub const WIDTH: usize = 320;
 pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
-const SLOTS: [(Elem, usize, usize, usize); 14] = [
+const SLOTS: [(Elem, usize, usize, usize); 15] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
     (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
     (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
@@ -61,6 +66,7 @@ const SLOTS: [(Elem, usize, usize, usize); 14] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
     (Elem::I32, WIDTH, HEIGHT, 2),   // 12 dense map, raw (x, y) per pixel
     (Elem::U8, MESH_BLOB_LEN, 1, 1), // 13 mesh blob
+    (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
 ];
 
 /// One measured stage.
@@ -106,36 +112,61 @@ const BINOMIAL7: [(&str, Param); 6] = sep(
 const SOBEL_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[1, 2, 1], 0, "i16");
 const SOBEL_Y: [(&str, Param); 6] = sep(&[1, 2, 1], 0, &[-1, 0, 1], 0, "i16");
 const SCHARR_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[3, 10, 3], 0, "i16");
-/// The edge chain's smoothed Sobel (`smoothed_sobel` in
-/// `host-verify/src/canny.rs`): the 7-tap Gaussian `[1 14 62 102 62 14 1]/256`
-/// convolved with Sobel's taps, one rounding, gradients 4x Sobel.
+/// The fused gradient taps of `fixsight::pipeline::DEMO` (the edge chain's
+/// smoothed Sobel: the 7-tap Gaussian `[1 14 62 102 62 14 1]/256`
+/// convolved with Sobel's taps, one rounding, gradients 4x Sobel).
+const DEMO_TAPS: GradientTaps = DEMO.gradient_taps();
+const DEMO_LEN: usize = DEMO_TAPS.deriv().len();
+
+/// `i16` taps widened to the manifest's integers (zero past the end).
+const fn widen(t: &[i16]) -> [i64; 9] {
+    let mut out = [0i64; 9];
+    let mut i = 0;
+    while i < t.len() {
+        out[i] = t[i] as i64;
+        i += 1;
+    }
+    out
+}
+
+const DEMO_DERIV: [i64; 9] = widen(DEMO_TAPS.deriv());
+const DEMO_CROSS: [i64; 9] = widen(DEMO_TAPS.cross());
 const CHAIN_SOBEL_X: [(&str, Param); 6] = sep(
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
 const CHAIN_SOBEL_Y: [(&str, Param); 6] = sep(
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
-/// The edge chain's demo threshold rule (`DEMO` in `host-verify/src/canny.rs`:
-/// 512 bins of width 2, the kernel crate's demo share and ratio).
+/// The threshold rule of `fixsight::pipeline::DEMO`: bins covering its
+/// largest magnitude, its bin width, share and ratio.
+const DEMO_RULE: (i64, i64, i64) = match DEMO.thresholds {
+    ThresholdRule::Auto {
+        shift,
+        high_permille,
+        low_fraction_bits,
+        ..
+    } => (shift as i64, high_permille as i64, low_fraction_bits as i64),
+    ThresholdRule::Fixed { .. } => (0, 1, 1),
+};
 const THRESHOLDS: [(&str, Param); 4] = [
-    ("bins", Param::Int(512)),
-    ("shift", Param::Int(1)),
-    (
-        "high_permille",
-        Param::Int(fixsight::hysteresis::DEMO_HIGH_PERMILLE as i64),
-    ),
-    (
-        "low_fraction_bits",
-        Param::Int(fixsight::hysteresis::DEMO_LOW_FRACTION.to_bits() as i64),
-    ),
+    ("bins", Param::Int(DEMO.bins_needed() as i64)),
+    ("shift", Param::Int(DEMO_RULE.0)),
+    ("high_permille", Param::Int(DEMO_RULE.1)),
+    ("low_fraction_bits", Param::Int(DEMO_RULE.2)),
+];
+/// The streamed edge stage on one frame with `fixsight::pipeline::DEMO`.
+const PIPELINE: [(&str, Param); 3] = [
+    ("frames", Param::Int(1)),
+    ("height", Param::Int(HEIGHT as i64)),
+    ("last_rows", Param::Int(HEIGHT as i64)),
 ];
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
@@ -294,6 +325,13 @@ pub static STAGES: &[Stage] = &[
         params: &[],
         inputs: &[],
         outputs: &[11],
+    },
+    Stage {
+        name: "pipeline_edges",
+        kernel: "pipeline.edges",
+        params: &PIPELINE,
+        inputs: &[0],
+        outputs: &[14],
     },
     Stage {
         name: "remap_dense",

@@ -22,7 +22,7 @@
 //! the copy of the map.
 
 use super::{input, output, Arena, Buf, Fail, Img, Param, Params};
-use fixsight::filter::{Border, SeparableFilter, Taps};
+use fixsight::filter::SeparableFilter;
 use fixsight::hysteresis::{self, Thresholds, U0F16};
 use fixsight::{gradient, nms, thinning, ImageView, ImageViewMut};
 
@@ -150,15 +150,10 @@ pub fn thinning(
 }
 
 /// The chain's smoothed Sobel (`smoothed_sobel` in `host-verify/src/canny.rs`):
-/// the 7-tap Gaussian `[1 14 62 102 62 14 1]/256` convolved with Sobel's
-/// taps, horizontal `[-1 -14 -61 -88 0 88 61 14 1]` and vertical
-/// `[1 16 91 240 328 240 91 16 1]`, each shift 7, replicated border;
-/// swapped for the vertical derivative.
+/// the gradient filters of `fixsight::pipeline::DEMO`, x or (`vertical`) y.
 fn smoothed_sobel(vertical: bool) -> Result<SeparableFilter, Fail> {
-    let d = Taps::new(&[-1, -14, -61, -88, 0, 88, 61, 14, 1], 7)?;
-    let s = Taps::new(&[1, 16, 91, 240, 328, 240, 91, 16, 1], 7)?;
-    let (h, v) = if vertical { (s, d) } else { (d, s) };
-    Ok(SeparableFilter::new(h, v, Border::Replicate)?)
+    let (fx, fy) = fixsight::pipeline::DEMO.gradient_filters()?;
+    Ok(if vertical { fy } else { fx })
 }
 
 /// `edges.chain`: smoothed Sobel x and y, `magnitude_l2_round`,
