@@ -452,6 +452,12 @@ pub(crate) trait CodeMap {
     fn code(&self, x: usize, y: usize) -> u8;
     /// Writes a code at `(x, y)`.
     fn set_code(&mut self, x: usize, y: usize, v: u8);
+    /// The first column `>= x` of row `y` that may hold STRONG (`width`
+    /// when none does); a map that cannot tell returns `x`.
+    #[inline(always)]
+    fn next_strong(&self, x: usize, _y: usize) -> usize {
+        x
+    }
 }
 
 impl CodeMap for ImageViewMut<'_, u8> {
@@ -570,8 +576,14 @@ pub(crate) fn propagate<M: CodeMap, S: StackWord>(map: &mut M, stack: &mut [S]) 
         st.passes += 1;
         let mut next_r0 = usize::MAX;
         for y in r0..h {
-            for x in 0..w {
+            let mut x = 0;
+            while x < w {
+                x = map.next_strong(x, y);
+                if x >= w {
+                    break;
+                }
                 if map.code(x, y) != STRONG {
+                    x += 1;
                     continue;
                 }
                 map.set_code(x, y, M::EDGE);
@@ -622,6 +634,7 @@ pub(crate) fn propagate<M: CodeMap, S: StackWord>(map: &mut M, stack: &mut [S]) 
                         }
                     }
                 }
+                x += 1;
             }
             // Scan: a load, a compare and two branches per pixel.
             tally(Op::Load, w as u32);

@@ -81,11 +81,26 @@
 //! camera DMA writes straight into the ring). Gradient row `y` is formed
 //! when row `y + r` arrives (`r` = radius of the fused taps, 4 in
 //! [`DEMO`]); its suppression and classification follow one row later.
-//! Each row fetch feeds both derivatives: one vertical pass over the ring
-//! forms both column sums, one horizontal loop forms `gx`, `gy` and the
-//! magnitude, one loop does direction, suppression, histogram,
-//! classification and the point gradients. Hysteresis and thinning run on
-//! the class map in [`EdgeStream::finish`].
+//! One loop per row does it all: each column's `2r + 1` ring pixels are
+//! read once and feed both column sums (cross and derivative taps), a
+//! sliding window of `2r + 1` column sums gives `gx`, `gy` and the
+//! magnitude of row `y`, and one pixel behind, in the same loop, row
+//! `y - 1` gets its direction, suppression, histogram count, class and
+//! point gradient. Hysteresis and thinning run on the class map when the
+//! frame ends ([`EdgeStream::finish`]), with the gradient row as their
+//! work stack and the camera ring as their row scratch.
+//!
+//! # Rounding, saturation and borders
+//!
+//! Only what the whole-frame kernels do: the fused column and row sums are
+//! exact in `i32` (the taps are regrouped by their symmetry, which changes
+//! no sum; [`EdgeConfig::check`] rejects any configuration whose worst
+//! case does not fit), `gx, gy = sat_i16(round_shift(acc, h_shift +
+//! v_shift))` (round half up, [`crate::arith::round_shift`]), rows and
+//! columns outside the frame clamp to its edge, magnitudes and sectors by
+//! [`crate::gradient`], suppression by the rule of [`crate::nms`] (zero
+//! outside), classes and thresholds by [`crate::hysteresis`], thinning by
+//! [`crate::thinning`].
 //!
 //! # Bad input
 //!
@@ -739,6 +754,25 @@ impl CodeMap for Packed<'_> {
     fn set_code(&mut self, x: usize, y: usize, v: u8) {
         self.set(x, y, v)
     }
+    /// Skips the words of row `y` that hold no STRONG (`10`) pair.
+    #[inline(always)]
+    fn next_strong(&self, x: usize, y: usize) -> usize {
+        let row = &self.words[y * self.stride..(y + 1) * self.stride];
+        let mut wi = x / 16;
+        // Pixels before `x` masked off.
+        let mut v = row.get(wi).copied().unwrap_or(0) & (u32::MAX << (2 * (x % 16)));
+        loop {
+            let strong = (v >> 1) & !v & 0x5555_5555;
+            if strong != 0 {
+                return (wi * 16 + strong.trailing_zeros() as usize / 2).min(self.width);
+            }
+            wi += 1;
+            match row.get(wi) {
+                Some(&n) => v = n,
+                None => return self.width,
+            }
+        }
+    }
 }
 
 impl ThinMap for Packed<'_> {
@@ -747,8 +781,17 @@ impl ThinMap for Packed<'_> {
         (self.width, self.height)
     }
     fn load_row(&self, y: usize, dst: &mut [u8]) {
-        for (x, d) in dst.iter_mut().enumerate().take(self.width) {
-            *d = (self.get(x, y) == EDGE2) as u8;
+        let row = &self.words[y * self.stride..(y + 1) * self.stride];
+        for (chunk, &v) in dst[..self.width].chunks_mut(16).zip(row) {
+            // One bit per pixel: both bits of its pair set (`11`, an edge).
+            let e = v & (v >> 1) & 0x5555_5555;
+            if e == 0 {
+                chunk.fill(0);
+            } else {
+                for (i, d) in chunk.iter_mut().enumerate() {
+                    *d = ((e >> (2 * i)) & 1) as u8;
+                }
+            }
         }
     }
     #[inline(always)]
