@@ -17,12 +17,12 @@
 //! 1. gradients: [`crate::filter::SeparableFilter::apply`] with the two
 //!    filters of [`EdgeConfig::gradient_filters`] (the smoothing taps
 //!    convolved with the operator's derivative and cross taps, one
-//!    rounding, replicated border), `i16` output;
+//!    rounding, clamped border), `i16` output;
 //! 2. magnitude ([`Magnitude`]) and [`crate::gradient::direction`];
 //! 3. [`crate::nms::suppress`];
 //! 4. [`crate::hysteresis::classify`] with the thresholds in use for the
 //!    frame (see *Thresholds* below);
-//! 5. [`crate::hysteresis::hysteresis`];
+//! 5. [`crate::hysteresis::link`];
 //! 6. [`crate::thinning::thin`] (or [`crate::thinning::thin_at_most`], or
 //!    nothing, by [`Thinning`]).
 //!
@@ -127,7 +127,7 @@
 
 use crate::arith::{round_shift, sat_i16};
 use crate::error::{Error, Result};
-use crate::filter::{Border, SeparableFilter, Taps, MAX_TAPS};
+use crate::filter::{self, Border, SeparableFilter, Taps, MAX_TAPS};
 use crate::gradient::{direction_sector, l1, l2_approx, l2_round, L2_ALPHA, L2_BETA, L2_SHIFT};
 use crate::hysteresis::{
     self, check_rule, code_of, CodeMap, HysteresisStats, Thresholds, NONE, U0F16,
@@ -307,7 +307,7 @@ pub enum ThresholdRule {
         /// (`1..=999`).
         high_permille: u16,
         /// `low / high` as `U0F16` bits (nonzero).
-        low_fraction_bits: u16,
+        low_ratio_u0f16: u16,
         /// Low threshold of the first frame.
         first_low: u16,
         /// High threshold of the first frame.
@@ -389,7 +389,7 @@ pub const DEMO: EdgeConfig = EdgeConfig {
     thresholds: ThresholdRule::Auto {
         shift: 2,
         high_permille: hysteresis::DEMO_HIGH_PERMILLE,
-        low_fraction_bits: hysteresis::DEMO_LOW_FRACTION.to_bits(),
+        low_ratio_u0f16: hysteresis::DEMO_LOW_FRACTION.to_bits(),
         first_low: 60,
         first_high: 125,
     },
@@ -582,7 +582,7 @@ impl EdgeConfig {
             ThresholdRule::Auto {
                 shift,
                 high_permille,
-                low_fraction_bits,
+                low_ratio_u0f16,
                 first_low,
                 first_high,
             } => {
@@ -590,7 +590,7 @@ impl EdgeConfig {
                     1,
                     shift as u32,
                     high_permille,
-                    U0F16::from_bits(low_fraction_bits),
+                    U0F16::from_bits(low_ratio_u0f16),
                 )?;
                 Thresholds::new(first_low, first_high)?;
             }
@@ -606,7 +606,7 @@ impl EdgeConfig {
     }
 
     /// The two whole-frame filters the stage equals: `(gx filter, gy
-    /// filter)`, replicated border.
+    /// filter)`, clamped border ([`Border::Clamp`]).
     ///
     /// ```
     /// let (fx, fy) = fixsight::pipeline::DEMO.gradient_filters()?;
@@ -618,8 +618,8 @@ impl EdgeConfig {
         let t = self.gradient_taps();
         let d = |s| Taps::new(t.deriv(), s);
         let c = |s| Taps::new(t.cross(), s);
-        let fx = SeparableFilter::new(d(t.h_shift)?, c(t.v_shift)?, Border::Replicate)?;
-        let fy = SeparableFilter::new(c(t.h_shift)?, d(t.v_shift)?, Border::Replicate)?;
+        let fx = filter::separable(d(t.h_shift)?, c(t.v_shift)?, Border::Clamp)?;
+        let fy = filter::separable(c(t.h_shift)?, d(t.v_shift)?, Border::Clamp)?;
         Ok((fx, fy))
     }
 
@@ -1500,7 +1500,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         if let ThresholdRule::Auto {
             shift,
             high_permille,
-            low_fraction_bits,
+            low_ratio_u0f16,
             ..
         } = self.cfg.thresholds
         {
@@ -1510,7 +1510,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
                 &self.hist[..self.bins],
                 shift as u32,
                 high_permille,
-                U0F16::from_bits(low_fraction_bits),
+                U0F16::from_bits(low_ratio_u0f16),
             ) {
                 at_limit = t.high() == u16::MAX;
                 next = t;
@@ -1869,7 +1869,7 @@ type RowAbove<'a, 'c, const CAP: usize> =
     (Option<&'a [u16]>, &'a [u16], &'a mut Classifier<'c, CAP>);
 
 /// One fused row: column sums in a sliding window of `2R + 1` columns
-/// (columns outside the row clamp to its ends, the replicated border), `gx`
+/// (columns outside the row clamp to its ends, the clamped border), `gx`
 /// from the cross sums with `deriv`, `gy` from the derivative sums with
 /// `cross`, each rounded once by `sat_i16(round_shift(acc, shift))`, the
 /// magnitude into `mag`; with `classify`, the row above is suppressed and
@@ -2053,7 +2053,7 @@ mod tests {
         )
         .unwrap();
         let mut map = ImageViewMut::new(&mut edges, w, h, w).unwrap();
-        hysteresis::hysteresis(&mut map, &mut [0u32; 8]).unwrap();
+        hysteresis::link(&mut map, &mut [0u32; 8]).unwrap();
         let mut ring = vec![0u8; 3 * w];
         match cfg.thinning {
             Thinning::Off => {}
@@ -2126,7 +2126,7 @@ mod tests {
                 |(shift, p, f, l, d)| ThresholdRule::Auto {
                     shift,
                     high_permille: p,
-                    low_fraction_bits: f,
+                    low_ratio_u0f16: f,
                     first_low: l,
                     first_high: l + d,
                 }
@@ -2178,7 +2178,7 @@ mod tests {
         if let ThresholdRule::Auto {
             shift,
             high_permille,
-            low_fraction_bits,
+            low_ratio_u0f16,
             ..
         } = cfg.thresholds
         {
@@ -2188,7 +2188,7 @@ mod tests {
                 &mut hist,
                 shift as u32,
                 high_permille,
-                U0F16::from_bits(low_fraction_bits),
+                U0F16::from_bits(low_ratio_u0f16),
             )
             .unwrap();
             prop_assert_eq!(rep.next_thresholds, (next.low(), next.high()));

@@ -3,7 +3,7 @@
 //!
 //! | id | params | inputs | outputs |
 //! |---|---|---|---|
-//! | `pipeline.edges` | the configuration, `frames`, `height`, `last_rows` | `frames` u8 | `edges` u8, `grad` i16 x2, `thresholds` u16 4x1 |
+//! | `pipeline.edge_stream` | the configuration, `frames`, `height`, `last_rows` | `frames` u8 | `edges` u8, `grad` i16 x2, `thresholds` u16 4x1 |
 //!
 //! The stream lives in a `static` (its buffers are sized by its type, about
 //! 46 KiB here), configured once per call. Bench form (`src/bench.rs`): no
@@ -58,7 +58,7 @@ fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
         "auto" => ThresholdRule::Auto {
             shift: int(p, "shift")?,
             high_permille: int(p, "high_permille")?,
-            low_fraction_bits: int(p, "low_fraction_bits")?,
+            low_ratio_u0f16: int(p, "low_ratio_u0f16")?,
             first_low: low,
             first_high: high,
         },
@@ -80,8 +80,8 @@ fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
     })
 }
 
-/// `pipeline.edges`: every frame of the input through one stream.
-pub fn edges(
+/// `pipeline.edge_stream`: every frame of the input through one stream.
+pub fn edge_stream(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],

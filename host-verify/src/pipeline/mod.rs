@@ -4,11 +4,11 @@
 //!
 //! * the whole-frame kernels run one after another on the same frame
 //!   ([`whole_frame`]: the two gradient filters, magnitude, direction,
-//!   suppression, classification, hysteresis, thinning) — **bit-exact**:
+//!   suppression, classification, hysteresis (`link`), thinning) — **bit-exact**:
 //!   the edge map, the `gx, gy` of every point, the candidates, and the
 //!   thresholds the automatic rule derives for the next frame (equal to
 //!   `Thresholds::from_histogram` on the frame's suppressed magnitudes);
-//! * the full-`f64` Canny of [`crate::canny`] with the same thresholds —
+//! * the full-`f64` Canny of [`crate::chain`] with the same thresholds —
 //!   F1 with a 1-pixel tolerance, goal `F1 >= 0.95` on every demo scene.
 //!
 //! Each demo scene is streamed twice through one stream, as a camera
@@ -20,7 +20,7 @@
 //! > needs safety-rated sensing and control (ISO 3691-4, IEC 61508,
 //! > ISO 13849) and local rules.
 //!
-//! # Golden kernel id `pipeline.edges`
+//! # Golden kernel id `pipeline.edge_stream`
 //!
 //! Inputs: `frames` u8, `width x (frames * height)`: the frames stacked
 //! top to bottom. Params ([`StageParams`]): the configuration
@@ -28,7 +28,7 @@
 //! `operator` `sobel | scharr`, `frac_bits`, `magnitude` `l1 | l2_approx |
 //! l2_round`, `thresholds` `fixed | auto` with `low`, `high` (the fixed
 //! pair, or the first frame's pair) and for `auto` `shift`,
-//! `high_permille`, `low_fraction_bits`, `thinning` `off | until_stable |
+//! `high_permille`, `low_ratio_u0f16`, `thinning` `off | until_stable |
 //! at_most` with `thinning_cap`), `frames`, `height`, and `last_rows`: the
 //! last frame ends after that many rows (`last_rows < height` ends it as a
 //! short frame). Every frame goes through one stream configured once.
@@ -37,10 +37,12 @@
 //! points, 0 elsewhere), `thresholds` u16 `4 x 1` (low and high used, low
 //! and high carried to the next frame).
 
-use crate::canny::{self, agreement, reference_f64};
+use crate::chain::check::F1_GOAL;
+use crate::chain::reference::{agreement, reference_f64};
 use crate::contract::{Contract, KernelFamily, KernelReport};
-use crate::families::{input, parse_params, Family};
-use crate::filter::run_whole;
+use crate::edge_chain::{run_classify, run_link, run_nms};
+use crate::family::{case as family_case, input, parse_params, Family};
+use crate::filter::run::run_whole;
 use crate::golden::{crop, Blob, GoldenCase};
 use crate::metrics::ErrorStats;
 use crate::opcount::measure;
@@ -56,10 +58,15 @@ use serde::{Deserialize, Serialize};
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "pipeline",
+    kernels: &[KERNEL],
+    composed_on_host: false,
     check,
     golden_cases,
     run_vector,
 };
+
+/// The kernel id: the stream type [`fixsight::pipeline::EdgeStream`].
+pub const KERNEL: &str = "pipeline.edge_stream";
 
 /// Largest frame the host stream takes.
 pub const HOST_W: usize = 640;
@@ -109,7 +116,7 @@ pub struct StageParams {
     /// Share below `high`, permille (ignored when fixed).
     pub high_permille: u16,
     /// `low / high` as `U0F16` bits (ignored when fixed).
-    pub low_fraction_bits: u16,
+    pub low_ratio_u0f16: u16,
     /// `off`, `until_stable` or `at_most`.
     pub thinning: String,
     /// Iteration cap for `at_most` (ignored otherwise).
@@ -145,12 +152,12 @@ pub fn stage_params(
         Magnitude::L2Approx => "l2_approx",
         Magnitude::L2Round => "l2_round",
     };
-    let (kind, low, high, shift, high_permille, low_fraction_bits) = match cfg.thresholds {
+    let (kind, low, high, shift, high_permille, low_ratio_u0f16) = match cfg.thresholds {
         ThresholdRule::Fixed { low, high } => ("fixed", low, high, 0, 0, 0),
         ThresholdRule::Auto {
             shift,
             high_permille,
-            low_fraction_bits,
+            low_ratio_u0f16,
             first_low,
             first_high,
         } => (
@@ -159,7 +166,7 @@ pub fn stage_params(
             first_high,
             shift,
             high_permille,
-            low_fraction_bits,
+            low_ratio_u0f16,
         ),
     };
     let (thinning, thinning_cap) = match cfg.thinning {
@@ -177,7 +184,7 @@ pub fn stage_params(
         high,
         shift,
         high_permille,
-        low_fraction_bits,
+        low_ratio_u0f16,
         thinning: thinning.into(),
         thinning_cap,
         frames,
@@ -188,7 +195,8 @@ pub fn stage_params(
 
 /// The configuration the parameters name.
 pub fn config_of(p: &StageParams) -> Result<EdgeConfig, String> {
-    let bad = |what: &str, v: &str| format!("params of `pipeline.edges`: unknown {what} `{v}`");
+    let bad =
+        |what: &str, v: &str| format!("params of `pipeline.edge_stream`: unknown {what} `{v}`");
     let smoothing = match p.smoothing.as_str() {
         "none" => Smoothing::None,
         "binomial3" => Smoothing::Binomial3,
@@ -216,7 +224,7 @@ pub fn config_of(p: &StageParams) -> Result<EdgeConfig, String> {
         "auto" => ThresholdRule::Auto {
             shift: p.shift,
             high_permille: p.high_permille,
-            low_fraction_bits: p.low_fraction_bits,
+            low_ratio_u0f16: p.low_ratio_u0f16,
             first_low: p.low,
             first_high: p.high,
         },
@@ -328,7 +336,7 @@ pub struct Whole {
 
 /// The whole-frame composition the stage must equal bit for bit: the two
 /// filters of `EdgeConfig::gradient_filters`, the magnitude, the
-/// direction, `nms::suppress`, `classify` with `t`, `hysteresis` and the
+/// direction, `nms::suppress`, `classify` with `t`, `hysteresis::link` and the
 /// configured thinning.
 pub fn whole_frame(
     cfg: &EdgeConfig,
@@ -359,9 +367,9 @@ pub fn whole_frame(
         )
         .map_err(e)?;
     }
-    let sup = canny::run_nms(&mag, &dir, w, h)?;
-    let codes = canny::run_classify(&sup, w, h, t)?;
-    let (mut edges, _) = canny::run_hysteresis(&codes, w, h, hysteresis::MIN_STACK)?;
+    let sup = run_nms(&mag, &dir, w, h)?;
+    let codes = run_classify(&sup, w, h, t)?;
+    let (mut edges, _) = run_link(&codes, w, h, hysteresis::MIN_STACK)?;
     let mut ring = vec![0u8; 3 * w];
     let mut map = ImageViewMut::new(&mut edges, w, h, w).map_err(e)?;
     match cfg.thinning {
@@ -412,7 +420,7 @@ pub fn compare(cfg: &EdgeConfig, img: &[u8], w: usize, h: usize, out: &StageOut)
     if let ThresholdRule::Auto {
         shift,
         high_permille,
-        low_fraction_bits,
+        low_ratio_u0f16,
         ..
     } = cfg.thresholds
     {
@@ -422,7 +430,7 @@ pub fn compare(cfg: &EdgeConfig, img: &[u8], w: usize, h: usize, out: &StageOut)
             &mut hist,
             shift as u32,
             high_permille,
-            U0F16::from_bits(low_fraction_bits),
+            U0F16::from_bits(low_ratio_u0f16),
         ) {
             Ok(n) if (n.low(), n.high()) == r.next_thresholds => {}
             Ok(n) => pr.push(format!(
@@ -484,7 +492,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     }
     let stats = ErrorStats::compare(&a, &r, 255.0);
     let mut row = KernelReport::from_stats(
-        "pipeline.edges",
+        KERNEL,
         KernelFamily::Pipeline,
         Contract::BitExact,
         0.0,
@@ -498,15 +506,15 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     );
     row.notes.push(format!(
         "f1 against the full-f64 Canny with the same thresholds; goal {}",
-        canny::F1_GOAL
+        F1_GOAL
     ));
     row.notes.push(
         "ram figures are the edge stage alone (no line accumulator), counted from the types".into(),
     );
-    if worst_f1 < canny::F1_GOAL {
+    if worst_f1 < F1_GOAL {
         pr.push(format!(
             "GOAL NOT MET: worst F1 {worst_f1:.4} is below {}",
-            canny::F1_GOAL
+            F1_GOAL
         ));
     }
     let m = &mut row.metrics;
@@ -546,7 +554,7 @@ pub fn run_vector(
     params: &serde_json::Value,
     inputs: &[Blob],
 ) -> Result<Vec<Blob>, String> {
-    if kernel != "pipeline.edges" {
+    if kernel != KERNEL {
         return Err(format!("unknown pipeline kernel `{kernel}`"));
     }
     let p: StageParams = parse_params(kernel, params)?;
@@ -582,15 +590,7 @@ pub fn run_vector(
 fn case(id: &str, comment: String, params: &StageParams, frames: Vec<u8>, w: usize) -> GoldenCase {
     let params = serde_json::to_value(params).expect("serialisable");
     let inputs = vec![Blob::from_u8("frames", w, frames.len() / w, 1, &frames)];
-    let expected = run_vector("pipeline.edges", &params, &inputs).expect("golden inputs are valid");
-    GoldenCase {
-        id: id.into(),
-        comment,
-        kernel: "pipeline.edges".into(),
-        params,
-        inputs,
-        expected,
-    }
+    family_case(run_vector, id, comment, KERNEL, params, inputs)
 }
 
 /// Golden cases: scene crops through the demo configuration (two frames,
@@ -604,7 +604,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let mut two = crop(s, 136, 180, w, h);
     two.extend(crop(s, 140, 176, w, h));
     v.push(case(
-        "pipeline.edges.demo-two-frames",
+        "pipeline.edge_stream.demo-two-frames",
         format!(
             "the demo configuration on two {w}x{h} crops of scene {} (at (136, 180), then (140, 176)): \
              the second frame uses the thresholds the first derived",
@@ -618,7 +618,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let mut short = crop(t, 101, 150, w, h);
     short.extend(crop(t, 96, 147, w, h));
     v.push(case(
-        "pipeline.edges.demo-short-frame",
+        "pipeline.edge_stream.demo-short-frame",
         format!(
             "the demo configuration on two {w}x{h} crops of scene {}; the second frame ends after 15 rows",
             t.name
@@ -637,7 +637,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     };
     let (w, h) = (31usize, 19usize);
     v.push(case(
-        "pipeline.edges.scharr-l1-fixed",
+        "pipeline.edge_stream.scharr-l1-fixed",
         format!(
             "binomial 5 with Scharr, 1 fractional bit, L1 magnitude, fixed thresholds (60, 160), \
              thinning until stable, on a {w}x{h} crop of scene {}",
@@ -649,7 +649,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     ));
     let tiny: Vec<u8> = vec![10, 200, 10, 200, 10, 200];
     v.push(case(
-        "pipeline.edges.tiny",
+        "pipeline.edge_stream.tiny",
         "a 3x2 frame, smaller than the 9-tap support: every row and column clamps".into(),
         &stage_params(
             &EdgeConfig {
@@ -677,7 +677,7 @@ mod tests {
         let r = &rows[0];
         assert!(r.pass, "{:?} {:?}", r.notes, r.metrics);
         assert_eq!(r.bit_exact_share, 1.0);
-        assert!(r.metrics["f1_worst"] >= canny::F1_GOAL);
+        assert!(r.metrics["f1_worst"] >= F1_GOAL);
         // The edge stage fits 48 KiB with a 16 KiB line accumulator.
         assert!(r.metrics["edge_ram_bytes_qvga"] + 16.0 * 1024.0 <= 48.0 * 1024.0);
         for s in demo_scenes() {
@@ -703,7 +703,7 @@ mod tests {
         assert!(edges.iter().filter(|&&v| v != 0).count() > 20);
         let mut bad = cases[0].params.clone();
         bad["smoothing"] = "gauss9".into();
-        assert!(run_vector("pipeline.edges", &bad, &cases[0].inputs)
+        assert!(run_vector(KERNEL, &bad, &cases[0].inputs)
             .unwrap_err()
             .contains("gauss9"));
     }
