@@ -15,6 +15,7 @@ pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
 pub mod nms;
+pub mod pipeline;
 pub mod thinning;
 pub mod warp;
 
