@@ -271,4 +271,23 @@ mod tests {
         assert!(mean > 30.0 && mean < 220.0, "mean {mean}");
         assert!(var > 25.0, "variance {var}");
     }
+
+    /// The demo scenes' pixels are fixed: golden vectors and the report
+    /// depend on them. SHA-256 of each QVGA scene's grey bytes.
+    #[test]
+    fn demo_scene_pixels_are_unchanged() {
+        use sha2::{Digest, Sha256};
+        let want = [
+            "eb052aefcb0f1c4ffe210d43a8eeaf2dfcaaf6605a744c5ad4780956232ce27f",
+            "f2b7a105c6ffbb98279be82c47862ef9d9b6ea871a3e741676db24c9b2b91efa",
+            "800547a477f5102e613037fe374c03b6a0f9cf71b4b5ac4a383e4608f69781bf",
+        ];
+        for (s, w) in demo_scenes().iter().zip(want) {
+            let d: String = Sha256::digest(&s.gray)
+                .iter()
+                .map(|b| format!("{b:02x}"))
+                .collect();
+            assert_eq!(d, w, "scene {}", s.name);
+        }
+    }
 }
