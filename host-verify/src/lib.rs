@@ -9,6 +9,7 @@
 //! | module | role |
 //! |---|---|
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
+//! | [`sequence`] | the demo sequence (cart drifting along floor tape) and its per-frame truth |
 //! | [`lens`] | lens models in `f64` |
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
@@ -35,6 +36,7 @@ pub mod opcount;
 pub mod remap;
 pub mod report;
 pub mod scene;
+pub mod sequence;
 pub mod sweep_plot;
 pub mod targets;
 pub mod thinning;
