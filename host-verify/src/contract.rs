@@ -32,6 +32,8 @@ pub enum KernelFamily {
     Pipeline,
     /// Tracking.
     Track,
+    /// Marking selection.
+    Marking,
 }
 
 /// The declared contract.

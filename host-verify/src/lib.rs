@@ -20,6 +20,7 @@
 //! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
 //! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
+//! | [`marking`] | derivation of the marking-selection limits, `f64` reference, contract on the sequence's truth |
 //! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
 
 pub mod canny;
@@ -30,6 +31,7 @@ pub mod golden;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod marking;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;

@@ -291,6 +291,22 @@ impl TruthLine {
     }
 }
 
+/// A line of the scene that is not a tape edge ([`SequenceSpec::clutter`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Clutter {
+    /// What it is (`racking-base`, `beam`, `upright`, `joint-across`,
+    /// `joint-along`, `occluder`).
+    pub kind: &'static str,
+    /// The line; `brighter_along_normal` is meaningful only when
+    /// `polarity_known`.
+    pub line: TruthLine,
+    /// Whether the scene fixes which side is brighter.
+    pub polarity_known: bool,
+    /// Image length of the object's edge inside the view, pixels
+    /// ([`SequenceSpec::image_length`]).
+    pub length_px: f64,
+}
+
 /// Which tape edge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Side {
@@ -315,6 +331,10 @@ pub struct FrameTruth {
     pub margin_px: [f64; 2],
     /// Visible share of each edge (see the module docs).
     pub visible: [f64; 2],
+    /// Image length of each edge inside the view, pixels, occlusion not
+    /// counted ([`SequenceSpec::image_length`] of the edge from the
+    /// camera's position along the aisle to 30 m ahead).
+    pub length_px: [f64; 2],
 }
 
 impl FrameTruth {
@@ -440,25 +460,43 @@ impl SequenceSpec {
         (dx * c - dy * s, dx * s + dy * c)
     }
 
-    /// The image line of the floor line through world floor points
-    /// `a`, `b`, in the corrected view `view`, about `origin`.
-    fn floor_line(
-        &self,
+    /// World point `(X, Y, Z)` (Z up from the floor) -> camera coordinates
+    /// (x right, y down, z along the axis) at pose `p`.
+    fn to_camera(p: &Pose, w: [f64; 3]) -> [f64; 3] {
+        let (sp, cp) = CAMERA_PITCH_DEG.to_radians().sin_cos();
+        let (x, y) = Self::to_camera_floor(p, w[0], w[1]);
+        let z = w[2] - CAMERA_HEIGHT_M;
+        [x, -y * sp - z * cp, y * cp - z * sp]
+    }
+
+    /// Corrected-view pixel of world point `w` about `origin`, seen from
+    /// pose `p`, if it is in front of the camera.
+    pub fn project(
         p: &Pose,
         view: &Intrinsics,
-        a: (f64, f64),
-        b: (f64, f64),
+        w: [f64; 3],
+        origin: (f64, f64),
+    ) -> Option<(f64, f64)> {
+        let c = Self::to_camera(p, w);
+        (c[2] > 1e-9).then(|| {
+            (
+                view.cx + view.fx * c[0] / c[2] - origin.0,
+                view.cy + view.fy * c[1] / c[2] - origin.1,
+            )
+        })
+    }
+
+    /// The image line of the world line through points `a`, `b` (X, Y, Z
+    /// with Z up from the floor), in the corrected view `view`, about
+    /// `origin` (module docs).
+    fn world_line(
+        p: &Pose,
+        view: &Intrinsics,
+        a: [f64; 3],
+        b: [f64; 3],
         origin: (f64, f64),
     ) -> TruthLine {
-        let (sp, cp) = CAMERA_PITCH_DEG.to_radians().sin_cos();
-        let h = CAMERA_HEIGHT_M;
-        // Floor frame (right, forward, up) -> camera (x right, y down, z axis).
-        let cam = |(xw, yw): (f64, f64)| {
-            let (x, y) = Self::to_camera_floor(p, xw, yw);
-            let z = -h;
-            [x, -y * sp - z * cp, y * cp - z * sp]
-        };
-        let (p1, p2) = (cam(a), cam(b));
+        let (p1, p2) = (Self::to_camera(p, a), Self::to_camera(p, b));
         let n = [
             p1[1] * p2[2] - p1[2] * p2[1],
             p1[2] * p2[0] - p1[0] * p2[2],
@@ -626,13 +664,16 @@ impl SequenceSpec {
         let (ru, rv) = self.reference_px;
         let (rx, ry) = (ru - origin.0, rv - origin.1);
         // A tape centre point ahead, in the image, to orient the margins.
-        let centre = {
-            let l = self.floor_line(&p, view, (0.0, p.y_m + 1.0), (0.0, p.y_m + 2.0), origin);
-            let ahead = self.floor_line(&p, view, (-1.0, p.y_m + 1.0), (1.0, p.y_m + 1.0), origin);
-            intersect(&l, &ahead)
-        };
+        let centre = Self::project(&p, view, [0.0, p.y_m + 1.0, 0.0], origin)
+            .expect("a point 1 m ahead on the floor is in front of the camera");
         let mut edges = [-half, half].map(|x| {
-            let mut l = self.floor_line(&p, view, (x, p.y_m + 1.0), (x, p.y_m + 2.0), origin);
+            let mut l = Self::world_line(
+                &p,
+                view,
+                [x, p.y_m + 1.0, 0.0],
+                [x, p.y_m + 2.0, 0.0],
+                origin,
+            );
             l.brighter_along_normal = l.distance(centre.0, centre.1) > 0.0;
             l
         });
@@ -649,13 +690,152 @@ impl SequenceSpec {
             }
         });
         let visible = edges.map(|l| self.visible_share(view, &p, k, &l, origin));
+        // Edge order in the image follows X here (the heading is small).
+        let mut length_px = [-half, half]
+            .map(|x| self.image_length(&p, view, [x, p.y_m, 0.0], [x, p.y_m + 30.0, 0.0]));
+        if xr(&edges[0]) > xr(&edges[1]) {
+            length_px.swap(0, 1);
+        }
         FrameTruth {
             frame: k,
             pose: p,
             edges,
             margin_px,
             visible,
+            length_px,
         }
+    }
+
+    /// The straight edges of the scene other than the tape, as lines of
+    /// the corrected view about `origin` at frame `k`: what a line stage
+    /// also finds and the marking selection must reject. Only lines that
+    /// cross the view are listed, each with what it is and whether its
+    /// polarity is fixed by the scene (a dark groove, upright or racking
+    /// base: `brighter_along_normal` set accordingly) or not (beams against
+    /// stored goods of any shade, the occluder's sides).
+    ///
+    /// | kind | world line |
+    /// |---|---|
+    /// | `racking-base` | `X = +-racking_x_m` on the floor |
+    /// | `beam` | `X = +-racking_x_m` at heights 0.10, 0.20, 1.05, 1.15 m |
+    /// | `upright` | vertical, at the two sides of each upright 1..12 m ahead |
+    /// | `joint-across` | both sides (+-4.5 mm) of each joint 0.15..8 m ahead |
+    /// | `joint-along` | both sides of the joint along the aisle |
+    /// | `occluder` | the panel's two vertical sides, while it is ahead |
+    pub fn clutter(&self, view: &Intrinsics, k: usize, origin: (f64, f64)) -> Vec<Clutter> {
+        let p = self.pose(k);
+        let mut out = Vec::new();
+        let (w, h) = (self.width as f64, self.height as f64);
+        let corners = [
+            (0.0, 0.0),
+            (w - 1.0, 0.0),
+            (0.0, h - 1.0),
+            (w - 1.0, h - 1.0),
+        ]
+        .map(|(u, v)| (u - origin.0, v - origin.1));
+        let (y1, y2, far) = (p.y_m + 1.0, p.y_m + 2.0, p.y_m + 30.0);
+        // A world segment a..b (its line is the clutter line), and a
+        // point on its dark side if the scene fixes one.
+        let mut push = |kind: &'static str, a: [f64; 3], b: [f64; 3], dark: Option<[f64; 3]>| {
+            let mut line = Self::world_line(&p, view, a, b, origin);
+            let sides = corners.map(|(x, y)| line.distance(x, y) > 0.0);
+            let length_px = self.image_length(&p, view, a, b);
+            if sides.iter().all(|&s| s == sides[0]) || length_px <= 0.0 {
+                return;
+            }
+            let known = dark.and_then(|d| Self::project(&p, view, d, origin));
+            if let Some((x, y)) = known {
+                line.brighter_along_normal = line.distance(x, y) < 0.0;
+            }
+            out.push(Clutter {
+                kind,
+                line,
+                polarity_known: known.is_some(),
+                length_px,
+            });
+        };
+        let r = self.racking_x_m;
+        for side in [-1.0, 1.0] {
+            let x = side * r;
+            push(
+                "racking-base",
+                [x, p.y_m, 0.0],
+                [x, far, 0.0],
+                Some([x + side * 0.01, y1, 0.05]),
+            );
+            for z in [0.10, 0.20, 1.05, 1.15] {
+                push("beam", [x, p.y_m, z], [x, far, z], None);
+            }
+            let first = ((p.y_m + 1.0 - 0.6) / 2.7).ceil() as i64;
+            for n in first.. {
+                let y = 0.6 + 2.7 * n as f64;
+                if y > p.y_m + 12.0 {
+                    break;
+                }
+                for (edge, dark_dy) in [(y, 0.04), (y + 0.08, -0.04)] {
+                    push(
+                        "upright",
+                        [x, edge, 0.0],
+                        [x, edge, 2.4],
+                        Some([x, edge + dark_dy, 0.6]),
+                    );
+                }
+            }
+        }
+        let first = ((p.y_m + 0.15 - self.joint_first_m) / self.joint_spacing_m).ceil() as i64;
+        for n in first.. {
+            let y = self.joint_first_m + self.joint_spacing_m * n as f64;
+            if y > p.y_m + 8.0 {
+                break;
+            }
+            for dy in [-0.0045, 0.0045] {
+                push(
+                    "joint-across",
+                    [-r, y + dy, 0.0],
+                    [r, y + dy, 0.0],
+                    Some([p.x_m, y, 0.0]),
+                );
+            }
+        }
+        let xl = self.long_joint_x_m;
+        for dx in [-0.0045, 0.0045] {
+            push(
+                "joint-along",
+                [xl + dx, p.y_m, 0.0],
+                [xl + dx, far, 0.0],
+                Some([xl, y2, 0.0]),
+            );
+        }
+        let o = &self.occluder;
+        let c = o.centre_x(k as f64);
+        if (c - p.x_m).abs() < 2.0 {
+            for x in [c - o.width_m / 2.0, c + o.width_m / 2.0] {
+                let y = p.y_m + o.ahead_m;
+                push("occluder", [x, y, 0.0], [x, y, o.height_m], None);
+            }
+        }
+        out
+    }
+
+    /// Length, corrected-view pixels, of the image of the world segment
+    /// `a`..`b` inside the view (the segment sampled at 400 points; the
+    /// pieces between consecutive points that project inside the view are
+    /// added up; nothing is hidden).
+    pub fn image_length(&self, p: &Pose, view: &Intrinsics, a: [f64; 3], b: [f64; 3]) -> f64 {
+        let (w, h) = (self.width as f64 - 1.0, self.height as f64 - 1.0);
+        let mut prev: Option<(f64, f64)> = None;
+        let mut len = 0.0;
+        for i in 0..=400 {
+            let t = i as f64 / 400.0;
+            let q = [0, 1, 2].map(|c| a[c] + t * (b[c] - a[c]));
+            let here = Self::project(p, view, q, (0.0, 0.0))
+                .filter(|&(u, v)| (0.0..=w).contains(&u) && (0.0..=h).contains(&v));
+            if let (Some(p0), Some(p1)) = (prev, here) {
+                len += (p1.0 - p0.0).hypot(p1.1 - p0.1);
+            }
+            prev = here;
+        }
+        len
     }
 
     /// Visible share of an edge line (module docs).
@@ -711,17 +891,6 @@ impl SequenceSpec {
                 .collect(),
         })
     }
-}
-
-/// Intersection of two (non-parallel) lines.
-fn intersect(a: &TruthLine, b: &TruthLine) -> (f64, f64) {
-    let (sa, ca) = a.theta.sin_cos();
-    let (sb, cb) = b.theta.sin_cos();
-    let det = ca * sb - sa * cb;
-    (
-        (a.rho * sb - b.rho * sa) / det,
-        (ca * b.rho - cb * a.rho) / det,
-    )
 }
 
 impl Sequence {

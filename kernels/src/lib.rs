@@ -19,6 +19,7 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
+//! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
 //!
 //! ```
@@ -48,6 +49,7 @@ pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
 pub mod image;
+pub mod marking;
 pub mod nms;
 pub mod ops;
 pub mod remap;
