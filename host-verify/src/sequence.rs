@@ -65,7 +65,7 @@
 //!
 //! Lines live in the **corrected view**: the pinhole of the fit-to-view
 //! intrinsics of the demo lens at the sequence size
-//! ([`crate::lens::Camera::fit_view`], the view the remap produces). A
+//! ([`crate::lens::Camera::fit_view`], the view the warp produces). A
 //! line is `rho = x cos(theta) + y sin(theta)`, `x` right and `y` down in
 //! pixels measured from an origin given by the caller (the image centre
 //! `((W-1)/2, (H-1)/2)` by default, pixel centres at integers), `theta`

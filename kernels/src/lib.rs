@@ -20,14 +20,14 @@
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
 //! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
-//! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
+//! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
 //! let src = [10u8; 8 * 4];
 //! let mut dst = [0u8; 8 * 4];
 //! let mut scratch = [0i32; 8];
-//! let smooth = filter::binomial5(filter::Border::Replicate);
+//! let smooth = filter::binomial5(filter::Border::Clamp);
 //! smooth.apply(
 //!     &ImageView::new(&src, 8, 4, 8)?,
 //!     &mut ImageViewMut::new(&mut dst, 8, 4, 8)?,
@@ -52,8 +52,8 @@ pub mod image;
 pub mod marking;
 pub mod nms;
 pub mod ops;
-pub mod remap;
 pub mod thinning;
+pub mod warp;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};
