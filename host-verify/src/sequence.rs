@@ -1085,6 +1085,43 @@ mod tests {
     }
 
     #[test]
+    fn clutter_lines_are_the_scene_objects_seen_from_the_cart() {
+        let s = DEMO_SEQUENCE;
+        let view = s.view().unwrap();
+        let origin = (view.cx, view.cy);
+        for k in [0, 36, 80] {
+            let p = s.pose(k);
+            let c = s.clutter(&view, k, origin);
+            let kinds: std::collections::BTreeSet<&str> = c.iter().map(|c| c.kind).collect();
+            for want in [
+                "racking-base",
+                "beam",
+                "upright",
+                "joint-across",
+                "joint-along",
+            ] {
+                assert!(kinds.contains(want), "frame {k}: no {want} in {kinds:?}");
+            }
+            assert_eq!(kinds.contains("occluder"), k == 36, "frame {k}");
+            // The joint along the aisle: both sides pass through their
+            // projected floor points, the groove's centre darker.
+            let along: Vec<_> = c.iter().filter(|c| c.kind == "joint-along").collect();
+            assert_eq!(along.len(), 2);
+            for (l, dx) in along.iter().zip([-0.0045, 0.0045]) {
+                let x = s.long_joint_x_m + dx;
+                for ahead in [0.5, 2.0] {
+                    let (u, v) = project(&view, &p, x, p.y_m + ahead);
+                    assert!(l.line.distance(u - origin.0, v - origin.1).abs() < 1e-9);
+                }
+                let (u, v) = project(&view, &p, s.long_joint_x_m, p.y_m + 1.0);
+                let towards_groove = l.line.distance(u - origin.0, v - origin.1) > 0.0;
+                assert!(l.polarity_known && towards_groove != l.line.brighter_along_normal);
+                assert!(l.length_px > 50.0);
+            }
+        }
+    }
+
+    #[test]
     fn quantised_lines_use_the_shared_units() {
         let l = TruthLine {
             rho: -2.53,

@@ -325,4 +325,3 @@ fn empty_row() -> KernelReport {
         notes: Vec::new(),
     }
 }
-

@@ -345,7 +345,6 @@ pub fn derive_limits(g: &MarkingGeometry) -> Result<MarkingLimits, DeriveError> 
     derive(g).map(|d| d.limits)
 }
 
-
 /// A second configuration for the vectors: a VGA view (focal 420 px) of
 /// a camera 0.30 m up, pitched 40 degrees, looking for a 19 mm dark tape.
 pub fn vga_dark_geometry() -> MarkingGeometry {
@@ -365,4 +364,3 @@ pub fn vga_dark_geometry() -> MarkingGeometry {
         contrast: TapeContrast::Darker,
     }
 }
-

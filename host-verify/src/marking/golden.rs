@@ -178,7 +178,12 @@ pub fn run_vector(
     }
 }
 
-fn marking_case(id: &str, comment: &str, limits: &MarkingLimits, lines: &[Candidate]) -> GoldenCase {
+fn marking_case(
+    id: &str,
+    comment: &str,
+    limits: &MarkingLimits,
+    lines: &[Candidate],
+) -> GoldenCase {
     let params = serde_json::to_value(LimitsParams::of(limits)).expect("params serialise");
     case(
         run_vector,
@@ -189,7 +194,6 @@ fn marking_case(id: &str, comment: &str, limits: &MarkingLimits, lines: &[Candid
         vec![lines_blob(lines)],
     )
 }
-
 
 /// Golden cases: trials of the demo sequence (tape present with and
 /// without polarities, occluded), tie-breaks, extreme values, and a second
@@ -345,4 +349,3 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     ));
     v
 }
-

@@ -118,7 +118,6 @@
 //! low and high 32 bits, and (when not found) the number of lines that
 //! passed the single-line rules, else 0.
 
-
 pub mod check;
 pub mod derive;
 pub mod golden;
