@@ -36,6 +36,8 @@ pub enum KernelFamily {
     Chain,
     /// The streamed edge stage (`pipeline.rs`).
     Pipeline,
+    /// Marking selection (`marking.rs`).
+    Marking,
 }
 
 impl KernelFamily {
@@ -50,6 +52,7 @@ impl KernelFamily {
             KernelFamily::Warp => "warp",
             KernelFamily::Chain => "chain",
             KernelFamily::Pipeline => "pipeline",
+            KernelFamily::Marking => "marking",
         }
     }
 }

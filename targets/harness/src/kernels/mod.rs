@@ -14,6 +14,7 @@ pub mod chain;
 pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
+pub mod marking;
 pub mod nms;
 pub mod pipeline;
 pub mod thinning;
