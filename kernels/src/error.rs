@@ -221,6 +221,14 @@ pub enum Error {
         /// The code found.
         value: u8,
     },
+    // --- track (kernels/src/track.rs) ---
+    /// A tracker was given a frame number not greater than the last one.
+    FrameOrder {
+        /// Last frame number accepted.
+        last: u32,
+        /// Frame number given.
+        got: u32,
+    },
 }
 
 impl fmt::Display for Error {
@@ -339,6 +347,10 @@ impl fmt::Display for Error {
             Error::BadEdgeCode { x, y, value } => write!(
                 f,
                 "edge code {value} at ({x}, {y}) is not 0 (none), 1 (weak) or 2 (strong)"
+            ),
+            Error::FrameOrder { last, got } => write!(
+                f,
+                "frame number {got} does not follow the last frame {last}; frame numbers must increase"
             ),
         }
     }

@@ -20,6 +20,7 @@
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
 //! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
+//! | [`track`] | constant-velocity Kalman tracking of tape edges, drift warning (not a safety function) |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
@@ -52,6 +53,7 @@ pub mod nms;
 pub mod ops;
 pub mod remap;
 pub mod thinning;
+pub mod track;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};
