@@ -20,6 +20,7 @@
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
 //! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
 //! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
+//! | [`track`] | `f64` reference tracker, synthetic sequences, tracker and drift-warning contract |
 
 pub mod canny;
 pub mod contract;
@@ -38,6 +39,7 @@ pub mod scene;
 pub mod sweep_plot;
 pub mod targets;
 pub mod thinning;
+pub mod track;
 
 use std::path::PathBuf;
 
