@@ -175,7 +175,8 @@
 //!
 //! with `cos` and `sin` from [`sin_q15`] / [`cos_q15`] (Q15). At birth the
 //! track stores the side of the reference point, `side = +1` if `d(0) >= 0`
-//! else `-1`. For a confirmed track, after the frame's update:
+//! else `-1`. For a confirmed track with at least `warn_min_hits` hits,
+//! after the frame's update:
 //!
 //! * if `side * d(0) <= 0` the point is on the edge or past it: **0 frames**;
 //! * else the first `t` in `1 ..= warn_horizon` with `side * d(t) <= 0`,
@@ -425,6 +426,9 @@ pub struct TrackConfig {
     pub reference_q4: (i32, i32),
     /// Frames ahead the crossing is searched, `0 ..= 1024`.
     pub warn_horizon: u16,
+    /// Hits a confirmed track needs before it may warn (its velocity
+    /// estimate has settled), any value.
+    pub warn_min_hits: u16,
 }
 
 impl TrackConfig {
@@ -432,14 +436,14 @@ impl TrackConfig {
     /// from the image centre, reference point at the bottom-centre pixel
     /// `(0, 119.5)` px:
     ///
-    /// * rho: measurement sd 0.5 px (`R = 64` units^2), `q = 0.01`
-    ///   (acceleration sd 0.05 px/frame^2), new-track velocity sd 1 px/frame
-    ///   (`init = 256 u^2 / R = 4`);
+    /// * rho: measurement sd 0.5 px (`R = 64` units^2), `q = 0.001`
+    ///   (66 in Q16; acceleration sd 0.016 px/frame^2, a slow drift), new-track
+    ///   velocity sd 1 px/frame (`init = 256 u^2 / R = 4`);
     /// * theta: measurement sd 0.3 degree (109 units, `R = 11881`),
-    ///   `q = 0.01`, new-track velocity sd 0.3 degree/frame (`init = 1`);
+    ///   `q = 0.001`, new-track velocity sd 0.3 degree/frame (`init = 1`);
     /// * gate 99 % ([`GATE_99_Q8`]); confirmed after 3 hits; 5 missed
     ///   frames survived; births from weight 40 up; warning horizon 90
-    ///   frames.
+    ///   frames (3 s at 30 frames/s), from the 15th hit of a track on.
     ///
     /// These are design choices for the demo sequence (common practice, no
     /// source), not measured camera figures.
@@ -451,12 +455,12 @@ impl TrackConfig {
     pub const DEMO: TrackConfig = TrackConfig {
         rho: AxisNoise {
             meas_var: 64,
-            accel_index_q16: 655,
+            accel_index_q16: 66,
             init_vel_var_q16: 4 << 16,
         },
         theta: AxisNoise {
             meas_var: 11881,
-            accel_index_q16: 655,
+            accel_index_q16: 66,
             init_vel_var_q16: 1 << 16,
         },
         gate_q8: GATE_99_Q8,
@@ -465,6 +469,7 @@ impl TrackConfig {
         birth_weight: 40,
         reference_q4: (0, 1912),
         warn_horizon: 90,
+        warn_min_hits: 15,
     };
 
     /// Checks every field's range.
@@ -487,7 +492,11 @@ impl TrackConfig {
         for (axis, names) in [
             (
                 &self.rho,
-                ["rho.meas_var", "rho.accel_index_q16", "rho.init_vel_var_q16"],
+                [
+                    "rho.meas_var",
+                    "rho.accel_index_q16",
+                    "rho.init_vel_var_q16",
+                ],
             ),
             (
                 &self.theta,
@@ -589,7 +598,11 @@ impl AxisState {
         tally(Op::Shift, 6);
         tally(Op::Logic, 4);
         let x = self.pos as i64 + rs(k0 * y, COV_FRAC);
-        self.vel = sat(self.vel as i64 + rs(k1 * y, COV_FRAC), -VEL_LIMIT, VEL_LIMIT) as i32;
+        self.vel = sat(
+            self.vel as i64 + rs(k1 * y, COV_FRAC),
+            -VEL_LIMIT,
+            VEL_LIMIT,
+        ) as i32;
         self.p_vel = sat(c - rs(k1 * b, COV_FRAC), 0, COV_MAX) as i32;
         self.p_pos = k0 as i32;
         self.p_cross = k1 as i32;
@@ -632,8 +645,8 @@ pub struct Track {
     /// Side of the reference point at birth, `+1` or `-1` (flips with the
     /// rho sign on a theta wrap).
     pub side: i8,
-    /// Predicted frames to the crossing after the last call (confirmed
-    /// tracks only; `None` beyond the horizon or when not confirmed).
+    /// Predicted frames to the crossing after the last call (`None` beyond
+    /// the horizon, or when the track may not warn yet).
     pub frames_to_cross: Option<u16>,
 }
 
@@ -1048,7 +1061,11 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         // Drift warnings.
         for (i, slot) in self.slots.iter_mut().enumerate() {
             let Some(t) = slot else { continue };
-            t.frames_to_cross = if t.confirmed { t.crossing(&cfg) } else { None };
+            t.frames_to_cross = if t.confirmed && t.hits >= cfg.warn_min_hits {
+                t.crossing(&cfg)
+            } else {
+                None
+            };
             if let Some(frames) = t.frames_to_cross {
                 if rep.warning.is_none_or(|w| frames < w.frames) {
                     rep.warning = Some(DriftWarning {
@@ -1138,7 +1155,11 @@ mod tests {
         }
         let tr = t.tracks().next().unwrap();
         assert!(tr.theta.pos > 60000 << 8, "theta {}", tr.theta.pos);
-        assert!((tr.rho.pos + (rho << 8)).abs() < 256 * 8, "rho {}", tr.rho.pos);
+        assert!(
+            (tr.rho.pos + (rho << 8)).abs() < 256 * 8,
+            "rho {}",
+            tr.rho.pos
+        );
         assert!(tr.theta.vel < 0 && (tr.theta.vel + 100 * 256).abs() < 256 * 5);
         assert_eq!(t.tracks().count(), 1);
     }
@@ -1152,7 +1173,10 @@ mod tests {
             t.update(10, &[]),
             Err(Error::FrameOrder { last: 10, got: 10 })
         );
-        assert_eq!(t.update(3, &[]), Err(Error::FrameOrder { last: 10, got: 3 }));
+        assert_eq!(
+            t.update(3, &[]),
+            Err(Error::FrameOrder { last: 10, got: 3 })
+        );
         assert_eq!(t.slots, before.slots);
         assert!(matches!(
             t.update(11, &[det(0, 0), det(1, 1), det(2, 2)]),

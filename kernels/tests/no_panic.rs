@@ -220,19 +220,51 @@ mod track_apis {
             0u32..200,
             (prop_oneof![-3000i32..3000, any::<i32>()], -3000i32..3000),
             prop_oneof![0u16..100, Just(1024u16), Just(u16::MAX)],
+            prop_oneof![0u16..20, Just(u16::MAX)],
         )
-            .prop_map(|(rho, theta, gate_q8, confirm_hits, max_missed, birth_weight, reference_q4, warn_horizon)| {
-                TrackConfig { rho, theta, gate_q8, confirm_hits, max_missed, birth_weight, reference_q4, warn_horizon }
-            })
+            .prop_map(
+                |(
+                    rho,
+                    theta,
+                    gate_q8,
+                    confirm_hits,
+                    max_missed,
+                    birth_weight,
+                    reference_q4,
+                    warn_horizon,
+                    warn_min_hits,
+                )| {
+                    TrackConfig {
+                        rho,
+                        theta,
+                        gate_q8,
+                        confirm_hits,
+                        max_missed,
+                        birth_weight,
+                        reference_q4,
+                        warn_horizon,
+                        warn_min_hits,
+                    }
+                },
+            )
     }
 
     fn detection() -> impl Strategy<Value = Detection> {
         (
-            prop_oneof![-3000i32..3000, any::<i32>(), Just((1 << 17) - 1), Just(-(1 << 17) + 1)],
+            prop_oneof![
+                -3000i32..3000,
+                any::<i32>(),
+                Just((1 << 17) - 1),
+                Just(-(1 << 17) + 1)
+            ],
             any::<u16>(),
             any::<u32>(),
         )
-            .prop_map(|(rho_q4, theta, weight)| Detection { rho_q4, theta, weight })
+            .prop_map(|(rho_q4, theta, weight)| Detection {
+                rho_q4,
+                theta,
+                weight,
+            })
     }
 
     proptest! {

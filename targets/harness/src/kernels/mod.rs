@@ -11,6 +11,7 @@ pub mod edges;
 pub mod filter;
 pub mod gradient;
 pub mod remap;
+pub mod track;
 
 use crate::vectors::{Elem, ImageSpec};
 use core::fmt;
