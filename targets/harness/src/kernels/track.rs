@@ -63,13 +63,26 @@ pub fn update(
     _arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
     if int::<usize>(p, "slots")? != SLOTS || int::<usize>(p, "max_detections")? != MAX_DETECTIONS {
-        return Err(Fail::Harness("slots / max_detections differ from Tracker<4, 8>"));
+        return Err(Fail::Harness(
+            "slots / max_detections differ from Tracker<4, 8>",
+        ));
     }
     let cfg = TrackConfig {
-        rho: axis(p, ["rho.meas_var", "rho.accel_index_q16", "rho.init_vel_var_q16"])?,
+        rho: axis(
+            p,
+            [
+                "rho.meas_var",
+                "rho.accel_index_q16",
+                "rho.init_vel_var_q16",
+            ],
+        )?,
         theta: axis(
             p,
-            ["theta.meas_var", "theta.accel_index_q16", "theta.init_vel_var_q16"],
+            [
+                "theta.meas_var",
+                "theta.accel_index_q16",
+                "theta.init_vel_var_q16",
+            ],
         )?,
         gate_q8: int(p, "gate_q8")?,
         confirm_hits: int(p, "confirm_hits")?,
@@ -101,12 +114,14 @@ pub fn update(
     for (k, call) in frames.chunks_exact(2).enumerate() {
         let n = call[1] as usize;
         if n > MAX_DETECTIONS {
-            return Err(Fail::Harness("more detections in a call than Tracker<4, 8> takes"));
+            return Err(Fail::Harness(
+                "more detections in a call than Tracker<4, 8> takes",
+            ));
         }
         let mut batch = [Detection::default(); MAX_DETECTIONS];
-        let src = dets
-            .get(3 * at..3 * (at + n))
-            .ok_or(Fail::Harness("frames announce more detections than dets holds"))?;
+        let src = dets.get(3 * at..3 * (at + n)).ok_or(Fail::Harness(
+            "frames announce more detections than dets holds",
+        ))?;
         for (d, c) in batch.iter_mut().zip(src.chunks_exact(3)) {
             *d = Detection {
                 rho_q4: c[0],
