@@ -493,17 +493,21 @@ impl RefTracker {
                 rep.associated += 1;
             }
         }
-        for i in 0..self.slots.len() {
-            if track_taken[i] {
+        let (confirmed_limit, tentative_limit) = (cfg.max_missed, 0u8);
+        for (slot, &taken) in self.slots.iter_mut().zip(&track_taken) {
+            let Some(t) = slot.as_mut() else { continue };
+            if taken {
                 continue;
             }
-            if let Some(t) = self.slots[i].as_mut() {
-                t.missed = t.missed.saturating_add(1);
-                let t = t.clone();
-                if self.dropped(&t) {
-                    self.slots[i] = None;
-                    rep.dropped += 1;
-                }
+            t.missed = t.missed.saturating_add(1);
+            let limit = if t.confirmed {
+                confirmed_limit
+            } else {
+                tentative_limit
+            };
+            if t.missed > limit {
+                *slot = None;
+                rep.dropped += 1;
             }
         }
         loop {
@@ -719,7 +723,7 @@ pub fn synth_sequence(seed: u64, n: u32, wrap: bool) -> Sequence {
             };
             dets.push(quantise(l, rng.random_range(10..120)));
         }
-        dets.sort_by(|a, b| b.weight.cmp(&a.weight));
+        dets.sort_by_key(|d| std::cmp::Reverse(d.weight));
         frames.push(SeqFrame { frame: f, dets });
         truth.push(canon);
     }
