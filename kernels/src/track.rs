@@ -206,7 +206,9 @@
 //!     let rho_q4 = 320 - 8 * f as i32;
 //!     let rep = t.update(f, &[Detection { rho_q4, theta: 0, weight: 100 }])?;
 //!     if f == 30 {
-//!         assert_eq!(rep.warning.map(|w| w.frames), Some(10));
+//!         // 10 frames to go; the velocity estimate is still settling.
+//!         let frames = rep.warning.expect("crossing within the horizon").frames;
+//!         assert!((9..=11).contains(&frames), "{frames}");
 //!     }
 //! }
 //! # Ok::<(), fixsight::Error>(())
