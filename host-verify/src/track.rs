@@ -1319,38 +1319,11 @@ pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
 // ---------------------------------------------------------------- golden
 
 /// Fields per row of the `states` output.
-pub const STATE_FIELDS: usize = 16;
+pub const STATE_FIELDS: usize = fixsight::track::TRACK_WORDS;
 
-/// One `states` row: `[id or -1, confirmed, hits, missed, side,
-/// frames_to_cross or -1, rho pos, rho vel, rho p_pos, rho p_cross, rho
-/// p_vel, theta pos, theta vel, theta p_pos, theta p_cross, theta p_vel]`;
-/// an empty slot is `-1` followed by zeros.
+/// One `states` row (`fixsight::track::track_words`).
 pub fn state_row(t: Option<&Track>) -> [i32; STATE_FIELDS] {
-    let Some(t) = t else {
-        let mut r = [0; STATE_FIELDS];
-        r[0] = -1;
-        return r;
-    };
-    let ax = |a: &AxisState| [a.pos, a.vel, a.p_pos, a.p_cross, a.p_vel];
-    let (r, th) = (ax(&t.rho), ax(&t.theta));
-    [
-        t.id as i32,
-        t.confirmed as i32,
-        t.hits as i32,
-        t.missed as i32,
-        t.side as i32,
-        t.frames_to_cross.map_or(-1, |f| f as i32),
-        r[0],
-        r[1],
-        r[2],
-        r[3],
-        r[4],
-        th[0],
-        th[1],
-        th[2],
-        th[3],
-        th[4],
-    ]
+    fixsight::track::track_words(t)
 }
 
 /// One `report` row.

@@ -739,6 +739,43 @@ impl Track {
     }
 }
 
+/// Words per track in [`track_words`].
+///
+/// ```
+/// assert_eq!(fixsight::track::TRACK_WORDS, 16);
+/// ```
+pub const TRACK_WORDS: usize = 16;
+
+/// A slot as 16 `i32` words (the layout of the tracker's golden vectors and
+/// a compact log record): `[id or -1, confirmed, hits, missed, side,
+/// frames_to_cross or -1, rho pos, rho vel, rho p_pos, rho p_cross, rho
+/// p_vel, theta pos, theta vel, theta p_pos, theta p_cross, theta p_vel]`;
+/// an empty slot is `-1` followed by zeros.
+///
+/// ```
+/// use fixsight::track::{track_words, Track};
+/// assert_eq!(track_words(None)[0], -1);
+/// assert_eq!(track_words(Some(&Track::default()))[5], -1);
+/// ```
+pub fn track_words(t: Option<&Track>) -> [i32; TRACK_WORDS] {
+    let mut w = [0; TRACK_WORDS];
+    let Some(t) = t else {
+        w[0] = -1;
+        return w;
+    };
+    w[0] = t.id as i32;
+    w[1] = t.confirmed as i32;
+    w[2] = t.hits as i32;
+    w[3] = t.missed as i32;
+    w[4] = t.side as i32;
+    w[5] = t.frames_to_cross.map_or(-1, |f| f as i32);
+    for (k, a) in [&t.rho, &t.theta].into_iter().enumerate() {
+        let base = 6 + 5 * k;
+        w[base..base + 5].copy_from_slice(&[a.pos, a.vel, a.p_pos, a.p_cross, a.p_vel]);
+    }
+    w
+}
+
 /// A predicted crossing of the reference point over a confirmed edge.
 ///
 /// ```

@@ -9,11 +9,11 @@
 //! `fixsight::track` module docs).
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
-use fixsight::track::{AxisNoise, AxisState, Detection, Track, TrackConfig, Tracker};
+use fixsight::track::{track_words, AxisNoise, Detection, TrackConfig, Tracker};
 
 const SLOTS: usize = 4;
 const MAX_DETECTIONS: usize = 8;
-const STATE_FIELDS: usize = 16;
+const STATE_FIELDS: usize = fixsight::track::TRACK_WORDS;
 
 fn int<T: TryFrom<i64>>(p: &Params, key: &'static str) -> Result<T, Fail> {
     T::try_from(p.int(key)?).map_err(|_| Fail::Param(key))
@@ -25,34 +25,6 @@ fn axis(p: &Params, keys: [&'static str; 3]) -> Result<AxisNoise, Fail> {
         accel_index_q16: int(p, keys[1])?,
         init_vel_var_q16: int(p, keys[2])?,
     })
-}
-
-fn state_row(t: Option<&Track>) -> [i32; STATE_FIELDS] {
-    let Some(t) = t else {
-        let mut r = [0; STATE_FIELDS];
-        r[0] = -1;
-        return r;
-    };
-    let ax = |a: &AxisState| [a.pos, a.vel, a.p_pos, a.p_cross, a.p_vel];
-    let (r, th) = (ax(&t.rho), ax(&t.theta));
-    [
-        t.id as i32,
-        t.confirmed as i32,
-        t.hits as i32,
-        t.missed as i32,
-        t.side as i32,
-        t.frames_to_cross.map_or(-1, |f| f as i32),
-        r[0],
-        r[1],
-        r[2],
-        r[3],
-        r[4],
-        th[0],
-        th[1],
-        th[2],
-        th[3],
-        th[4],
-    ]
 }
 
 /// `track.update`: runs a `Tracker<4, 8>` over the calls of `frames`.
@@ -147,7 +119,7 @@ pub fn update(
             states
                 .get_mut(base..base + STATE_FIELDS)
                 .ok_or(Fail::Harness("states too small"))?
-                .copy_from_slice(&state_row(tracker.slot(slot)));
+                .copy_from_slice(&track_words(tracker.slot(slot)));
         }
     }
     Ok(())
