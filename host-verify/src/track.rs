@@ -107,7 +107,7 @@
 //! -1, warning frames or -1), one row per call.
 
 use crate::contract::{Contract, KernelFamily, KernelReport};
-use crate::families::{input, parse_params, Family};
+use crate::family::{input, parse_params, Family};
 use crate::golden::{Blob, GoldenCase};
 use crate::metrics::ErrorStats;
 use crate::opcount::measure;
@@ -124,6 +124,8 @@ use std::f64::consts::PI;
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "track",
+    kernels: &["track.update"],
+    composed_on_host: false,
     check,
     golden_cases,
     run_vector,
@@ -1252,7 +1254,7 @@ pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
         let stats = stats_of(&etas_err);
         let bound = etas_err.iter().map(|p| p.1).fold(0.0, f64::max);
         let mut row = KernelReport::from_stats(
-            "track.drift_warning",
+            "track.update/drift_warning",
             KernelFamily::Track,
             Contract::Tolerance,
             bound,

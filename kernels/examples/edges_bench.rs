@@ -65,21 +65,21 @@ fn main() {
     let mut gx = vec![0i16; W * H];
     let mut gy = vec![0i16; W * H];
     let mut scratch = vec![0i32; W];
-    binomial5(Border::Replicate)
+    binomial5(Border::Clamp)
         .apply(
             &v(&img),
             &mut ImageViewMut::new(&mut smooth, W, H, W).unwrap(),
             &mut scratch,
         )
         .unwrap();
-    sobel_x(Border::Replicate)
+    sobel_x(Border::Clamp)
         .apply(
             &v(&smooth),
             &mut ImageViewMut::new(&mut gx, W, H, W).unwrap(),
             &mut scratch,
         )
         .unwrap();
-    sobel_y(Border::Replicate)
+    sobel_y(Border::Clamp)
         .apply(
             &v(&smooth),
             &mut ImageViewMut::new(&mut gy, W, H, W).unwrap(),
@@ -118,7 +118,7 @@ fn main() {
         )
         .unwrap();
         let mut map = ImageViewMut::new(&mut codes, W, H, W).unwrap();
-        hysteresis::hysteresis(&mut map, &mut stack).unwrap();
+        hysteresis::link(&mut map, &mut stack).unwrap();
         thinning::thin(&mut map, &mut thin_scratch).unwrap();
         edges = codes.iter().filter(|&&c| c != 0).count();
     };

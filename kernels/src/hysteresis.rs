@@ -14,7 +14,7 @@
 //! NONE   (0)  otherwise (so m = 0, a suppressed pixel, is never an edge)
 //! ```
 //!
-//! **Hysteresis** ([`hysteresis`]) turns a code map in place into a binary
+//! **Hysteresis** ([`link`]) turns a code map in place into a binary
 //! map: a pixel becomes [`EDGE`] (255) when it is STRONG, or WEAK and joined
 //! to a STRONG pixel by a path of WEAK pixels, each step to one of the 8
 //! neighbours; every other pixel becomes [`NONE`]. The result is a pure
@@ -72,7 +72,7 @@
 //!     &mut ImageViewMut::new(&mut map, 5, 1, 5)?)?;
 //! assert_eq!(map, [2, 1, 1, 0, 1]);
 //! let mut stack = [0u32; 8];
-//! hysteresis::hysteresis(&mut ImageViewMut::new(&mut map, 5, 1, 5)?, &mut stack)?;
+//! hysteresis::link(&mut ImageViewMut::new(&mut map, 5, 1, 5)?, &mut stack)?;
 //! assert_eq!(map, [EDGE, EDGE, EDGE, NONE, NONE]);
 //! # Ok::<(), fixsight::Error>(())
 //! ```
@@ -399,12 +399,12 @@ const NEIGHBOURS: [(i32, i32); 8] = [
 /// // A weak diagonal hanging off a strong corner pixel survives.
 /// let mut map = [2u8, 0, 0,  0, 1, 0,  0, 0, 1];
 /// let mut stack = [0u32; 8];
-/// let st = hysteresis::hysteresis(&mut ImageViewMut::new(&mut map, 3, 3, 3)?, &mut stack)?;
+/// let st = hysteresis::link(&mut ImageViewMut::new(&mut map, 3, 3, 3)?, &mut stack)?;
 /// assert_eq!(map, [255, 0, 0,  0, 255, 0,  0, 0, 255]);
 /// assert_eq!((st.edges, st.passes), (3, 1));
 /// # Ok::<(), fixsight::Error>(())
 /// ```
-pub fn hysteresis(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<HysteresisStats> {
+pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<HysteresisStats> {
     check_single_channel(&map.as_view())?;
     if stack.len() < MIN_STACK {
         return Err(Error::BufferTooShort {
@@ -564,7 +564,7 @@ mod tests {
         let mut map = [1u8, 2, 7, 0];
         let mut stack = [0u32; 8];
         assert_eq!(
-            hysteresis(
+            link(
                 &mut ImageViewMut::new(&mut map, 2, 2, 2).unwrap(),
                 &mut stack
             ),
@@ -576,7 +576,7 @@ mod tests {
         );
         assert_eq!(map, [1, 2, 7, 0]);
         assert_eq!(
-            hysteresis(
+            link(
                 &mut ImageViewMut::new(&mut map, 2, 2, 2).unwrap(),
                 &mut stack[..7]
             ),
@@ -617,8 +617,7 @@ mod tests {
         for cap in [8usize, 9, 13, w * h] {
             let mut m = map.clone();
             let mut stack = vec![0u32; cap];
-            let st =
-                hysteresis(&mut ImageViewMut::new(&mut m, w, h, w).unwrap(), &mut stack).unwrap();
+            let st = link(&mut ImageViewMut::new(&mut m, w, h, w).unwrap(), &mut stack).unwrap();
             assert_eq!(m, want, "stack {cap}");
             assert!(st.peak_stack as usize <= cap);
             if cap == w * h {
@@ -633,7 +632,7 @@ mod tests {
         let mut map = vec![WEAK; w * h];
         map[w * h - 1] = STRONG;
         let mut stack = [0u32; MIN_STACK];
-        let st = hysteresis(
+        let st = link(
             &mut ImageViewMut::new(&mut map, w, h, w).unwrap(),
             &mut stack,
         )
@@ -685,7 +684,7 @@ mod tests {
             let want = by_components(&map, w, h);
             let mut m = map.clone();
             let mut stack = vec![0u32; cap];
-            hysteresis(&mut ImageViewMut::new(&mut m, w, h, w).unwrap(), &mut stack).unwrap();
+            link(&mut ImageViewMut::new(&mut m, w, h, w).unwrap(), &mut stack).unwrap();
             prop_assert_eq!(m, want);
         }
 

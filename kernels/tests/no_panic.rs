@@ -35,7 +35,7 @@ proptest! {
     #[test]
     fn views_and_filters((w, h, st, ch, len) in layout(), (w2, h2, st2, ch2, len2) in layout(),
                          (ht, hs) in taps(), (vt, vs) in taps(), scratch in 0usize..40,
-                         b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+                         b in prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]) {
         let src = vec![7u8; len];
         let mut dst8 = vec![0u8; len2];
         let mut dst16 = vec![0i16; len2];
@@ -49,7 +49,12 @@ proptest! {
             }
         }
         let filters: Vec<SeparableFilter> = match (Taps::new(&ht, hs), Taps::new(&vt, vs)) {
-            (Ok(a), Ok(c)) => SeparableFilter::new(a, c, b).into_iter().collect(),
+            (Ok(a), Ok(c)) => {
+                // Both entry points for custom taps agree and never panic.
+                let f = filter::separable(a, c, b);
+                prop_assert_eq!(f, SeparableFilter::new(a, c, b));
+                f.into_iter().collect()
+            }
             _ => vec![filter::binomial7(b), filter::sobel_x(b)],
         };
         for f in &filters {
@@ -65,7 +70,7 @@ proptest! {
     #[test]
     fn streams_in_any_call_order(w in 0usize..12, h in 0usize..8, ring in 0usize..120, acc in 0usize..14,
                                  calls in prop::collection::vec((any::<bool>(), 0usize..14, 0usize..14), 0..24)) {
-        let f = filter::binomial5(Border::Replicate);
+        let f = filter::binomial5(Border::Clamp);
         let mut r = vec![0u8; ring];
         let mut a = vec![0i32; acc];
         if let Ok(mut st) = FilterStream::new(&f, w, h, &mut r, &mut a) {
@@ -126,16 +131,16 @@ proptest! {
         let ch = map.len() / cw;
         let mut stk = vec![0u32; stack];
         if let Ok(mut mv) = ImageViewMut::new(&mut map, cw, ch, cw) {
-            let _ = hysteresis::hysteresis(&mut mv, &mut stk);
+            let _ = hysteresis::link(&mut mv, &mut stk);
             let mut scratch = vec![0u8; stack * 3];
             let _ = thinning::thin(&mut mv, &mut scratch);
         }
     }
 }
 
-mod remap_apis {
+mod warp_apis {
     use fixsight::filter::Border;
-    use fixsight::remap::{sample_pixel, DenseMap, MeshTable, RemapGeometry};
+    use fixsight::warp::{sample_pixel, ControlGrid, PixelMap, WarpGeometry};
     use fixsight::{ImageView, ImageViewMut};
     use proptest::prelude::*;
 
@@ -143,21 +148,21 @@ mod remap_apis {
         #![proptest_config(ProptestConfig::with_cases(256))]
 
         #[test]
-        fn remap_entry_points(ow in 0usize..10, oh in 0usize..10, sw in 0usize..10, sh in 0usize..10,
+        fn warp_entry_points(ow in 0usize..10, oh in 0usize..10, sw in 0usize..10, sh in 0usize..10,
                               f in 0u32..14, k in 0u32..9, first in 0usize..12,
                               coords in prop::collection::vec(any::<i32>(), 0..260),
                               small in prop::collection::vec(-400i32..400, 0..260),
                               blob in prop::collection::vec(any::<u8>(), 0..120),
                               dst_h in 0usize..12, ch in 0usize..6, sx in any::<i32>(), sy in any::<i32>(),
-                              b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+                              b in prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]) {
             let src = vec![9u8; 10 * 10 * 5];
             let mut dst = vec![0u8; 10 * 12 * 5];
             let mut px = [0u8; 5];
             if let Ok(v) = ImageView::interleaved(&src, sw.max(1), sh.max(1), sw.max(1) * ch.max(1), ch) {
                 let _ = sample_pixel(&v, sx, sy, f, b, &mut px[..ch.min(5)]);
             }
-            let _ = MeshTable::from_blob(&blob);
-            if let Ok(g) = RemapGeometry::new(ow, oh, sw, sh, f) {
+            let _ = ControlGrid::from_blob(&blob);
+            if let Ok(g) = WarpGeometry::new(ow, oh, sw, sh, f) {
                 // Exactly the lengths the constructors want, filled from the
                 // random values (so range checks, not length checks, decide).
                 let fit = |n: usize| -> Vec<i32> {
@@ -169,23 +174,23 @@ mod remap_apis {
                 let dense = fit(2 * ow * oh);
                 let pts = fit(2 * cols * rows);
                 let scaled: Vec<i32> = pts.iter().map(|v| v << f.min(10)).collect();
-                let maps: Vec<DenseMap> = [&coords, &dense]
+                let maps: Vec<PixelMap> = [&coords, &dense]
                     .iter()
-                    .filter_map(|c| DenseMap::new(c, g).ok())
+                    .filter_map(|c| PixelMap::new(c, g).ok())
                     .collect();
-                let meshes: Vec<MeshTable> = [&coords, &pts, &scaled]
+                let grids: Vec<ControlGrid> = [&coords, &pts, &scaled]
                     .iter()
-                    .filter_map(|c| MeshTable::new(c, g, k).ok())
+                    .filter_map(|c| ControlGrid::new(c, g, k).ok())
                     .collect();
                 if let (Ok(v), Ok(mut d)) = (
                     ImageView::interleaved(&src, sw, sh, sw * ch.max(1), ch),
                     ImageViewMut::interleaved(&mut dst, ow, dst_h, ow * ch.max(1), ch),
                 ) {
                     for m in &maps {
-                        let _ = m.remap_rows(&v, &mut d, first, b);
+                        let _ = m.warp_rows(&v, &mut d, first, b);
                     }
-                    for m in &meshes {
-                        let _ = m.remap_rows(&v, &mut d, first, b);
+                    for m in &grids {
+                        let _ = m.warp_rows(&v, &mut d, first, b);
                     }
                 }
             }

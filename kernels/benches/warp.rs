@@ -1,15 +1,15 @@
-//! Time per output pixel of the remap kernels on a 640x480 grey frame —
-//! dense map and mesh (step 16, 5 fractional bits) — against the bilinear
+//! Time per output pixel of the warp kernels on a 640x480 grey frame —
+//! pixel map and grid (step 16, 5 fractional bits) — against the bilinear
 //! warp of the general-purpose `imageproc` crate on the same input and the
 //! same (precomputed) map.
 //!
-//! Run with `cargo bench -p fixsight --bench remap` (without `count-ops`,
+//! Run with `cargo bench -p fixsight --bench warp` (without `count-ops`,
 //! so the tallies compile to nothing). Plain `std::time` timing: each
 //! variant runs `REPS` frames after one warm-up frame; the median frame time
 //! is reported. Figures go in the README.
 
 use fixsight::filter::Border;
-use fixsight::remap::{DenseMap, MeshTable, RemapGeometry};
+use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
 use fixsight::{ImageView, ImageViewMut};
 use image::{GrayImage, Luma};
 use imageproc::geometric_transformations::{warp_with, Interpolation};
@@ -63,31 +63,31 @@ fn median_ns(mut run: impl FnMut()) -> f64 {
 
 fn main() {
     let src = frame();
-    let geom = RemapGeometry::new(W, H, W, H, F).expect("valid geometry");
+    let geom = WarpGeometry::new(W, H, W, H, F).expect("valid geometry");
     let dense: Vec<i32> = (0..H)
         .flat_map(|y| (0..W).map(move |x| map(x as f64, y as f64)))
         .flat_map(|(x, y)| [quant(x), quant(y)])
         .collect();
-    let (cols, rows) = MeshTable::grid_size(&geom, K).expect("valid step");
+    let (cols, rows) = ControlGrid::grid_size(&geom, K).expect("valid step");
     let points: Vec<i32> = (0..rows)
         .flat_map(|j| (0..cols).map(move |i| map((i << K) as f64, (j << K) as f64)))
         .flat_map(|(x, y)| [quant(x), quant(y)])
         .collect();
-    let dmap = DenseMap::new(&dense, geom).expect("map in range");
-    let mesh = MeshTable::new(&points, geom, K).expect("mesh in range");
+    let dmap = PixelMap::new(&dense, geom).expect("map in range");
+    let grid = ControlGrid::new(&points, geom, K).expect("grid in range");
     let view = ImageView::new(&src, W, H, W).expect("valid view");
     let mut out = vec![0u8; W * H];
     let px = (W * H) as f64;
 
     let t_dense = median_ns(|| {
         let mut o = ImageViewMut::new(&mut out, W, H, W).expect("valid view");
-        dmap.remap_rows(&view, &mut o, 0, Border::Constant(0))
+        dmap.warp_rows(&view, &mut o, 0, Border::Fill(0))
             .expect("runs");
         black_box(&out);
     });
-    let t_mesh = median_ns(|| {
+    let t_grid = median_ns(|| {
         let mut o = ImageViewMut::new(&mut out, W, H, W).expect("valid view");
-        mesh.remap_rows(&view, &mut o, 0, Border::Constant(0))
+        grid.warp_rows(&view, &mut o, 0, Border::Fill(0))
             .expect("runs");
         black_box(&out);
     });
@@ -105,21 +105,21 @@ fn main() {
         );
         black_box(r);
     });
-    println!("remap 640x480, median of {REPS} frames (ns per output pixel)");
+    println!("warp 640x480, median of {REPS} frames (ns per output pixel)");
     println!(
-        "  fixsight dense map, F = {F}:           {:7.2}",
+        "  fixsight pixel map, F = {F}:           {:7.2}",
         t_dense / px
     );
     println!(
-        "  fixsight mesh step {}, F = {F} ({} B):  {:7.2}",
+        "  fixsight grid step {}, F = {F} ({} B):  {:7.2}",
         1 << K,
         cols * rows * 8,
-        t_mesh / px
+        t_grid / px
     );
     println!("  imageproc warp_with bilinear:         {:7.2}", t_ip / px);
     println!(
-        "  ratio imageproc / dense = {:.2}, imageproc / mesh = {:.2}",
+        "  ratio imageproc / dense = {:.2}, imageproc / grid = {:.2}",
         t_ip / t_dense,
-        t_ip / t_mesh
+        t_ip / t_grid
     );
 }

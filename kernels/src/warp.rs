@@ -1,20 +1,24 @@
-//! Geometric remap (lens undistortion): bilinear sampling at fixed-point
-//! source coordinates, driven by a dense coordinate map or by a compact mesh
-//! of control points, for grey or interleaved multi-channel `u8` images,
-//! one strip of output rows at a time.
+//! Geometric warp (lens undistortion): bilinear sampling at fixed-point
+//! source coordinates, driven by a pixel map (one coordinate pair per
+//! output pixel, [`PixelMap`]) or by a control grid (control points every
+//! `2^k` output pixels, [`ControlGrid`]), for grey or interleaved
+//! multi-channel `u8` images, one strip of output rows at a time.
+//!
+//! Kernel ids (golden vectors, `report.json`, on-target figures):
+//! `warp.pixel_map` and `warp.control_grid`.
 //!
 //! # Coordinates
 //!
 //! A source coordinate is a signed raw integer with `F` fractional bits
-//! (`F` = [`RemapGeometry::frac_bits`], `2..=10`): raw `r` means `r / 2^F`
+//! (`F` = [`WarpGeometry::frac_bits`], `2..=10`): raw `r` means `r / 2^F`
 //! pixels. Pixel centres sit at integer coordinates, so raw `(0, 0)` is the
 //! centre of the top-left source pixel and raw `((W-1) * 2^F, 0)` the centre
 //! of the top-right one.
 //!
-//! Every coordinate a map or mesh holds must lie in the **accepted range**
+//! Every coordinate a map or grid holds must lie in the **accepted range**
 //! `-W * 2^F ..= (2W - 1) * 2^F` for x and `-H * 2^F ..= (2H - 1) * 2^F` for y
 //! (`W x H` the source size): one source image beyond each edge. This is
-//! checked when a map or mesh is built ([`Error::MapOutOfRange`]); with
+//! checked when a map or grid is built ([`Error::MapOutOfRange`]); with
 //! `W, H <= 32767` and `F <= 10` every raw value fits 27 bits.
 //!
 //! # Sampling integer model (what a port must reproduce)
@@ -37,8 +41,8 @@
 //! which never triggers because the interpolant is a convex combination).
 //!
 //! `P(x, y)` is the source pixel inside the image and follows the
-//! [`Border`] rule outside it: [`Border::Replicate`] clamps `x` to `0..=W-1`
-//! and `y` to `0..=H-1`; [`Border::Constant(c)`](Border::Constant) gives `c`.
+//! [`Border`] rule outside it: [`Border::Clamp`] clamps `x` to `0..=W-1`
+//! and `y` to `0..=H-1`; [`Border::Fill(c)`](Border::Fill) gives `c`.
 //! All four taps use the rule, even taps whose weight is zero (which then
 //! contribute nothing). No coordinate, however far outside, reads outside
 //! the source buffer.
@@ -58,16 +62,32 @@
 //! |out - ref| <= 0.5 + (Dx + Dy) * 2^-(F+1)   <=   0.5 + 255 * 2^-F   LSB
 //! ```
 //!
-//! # Dense map
+//! ## Fractional bits: the default `F = 5`
 //!
-//! [`DenseMap`]: one `(x, y)` raw pair per output pixel, row-major, as
+//! The host tool's defaults (`fixsight-verify grid --frac-bits`, the
+//! report's checks, the on-target bench) use `F = 5`. The value follows the
+//! project's own precision sweep (`fixsight-verify sweep`: demo scene
+//! `aisle-straight`, 320 x 240, fit-to-view undistortion, fill value 0,
+//! errors against the `f64` bilinear value at the exact lens coordinates):
+//! `F = 5` is the smallest `F` at which both the pixel map and a control
+//! grid with points every 4 pixels keep at least 99.9 % of pixels within
+//! 1 LSB (0.99961 and 0.99931; at `F = 4`, 0.99819 and 0.99702). The pixel
+//! map's RMS error is then 0.294 LSB against 0.287 LSB at `F = 10`, where
+//! only the final rounding remains, and each further bit gains less than
+//! 0.005 LSB RMS. Coarser grids are limited by their geometric error, not
+//! by `F`. The sweep runs on one synthetic scene; the value is to be
+//! checked again on natural images.
+//!
+//! # Pixel map
+//!
+//! [`PixelMap`]: one `(x, y)` raw pair per output pixel, row-major, as
 //! interleaved `i32` (`coords[2 * (y * out_width + x)]` is x). Output pixel
 //! `(x, y)` samples at exactly that pair.
 //!
-//! # Mesh integer model
+//! # Control-grid integer model
 //!
-//! [`MeshTable`]: control points every `S = 2^k` output pixels (`k` =
-//! `step_log2`, `2..=6`) on a grid of `cols x rows` points, where
+//! [`ControlGrid`]: control points every `S = 2^k` output pixels (`k` =
+//! `grid_log2`, `2..=6`) on a grid of `cols x rows` points, where
 //! `cols = max(2, ceil((out_width - 1) / S) + 1)` and likewise `rows` with
 //! the height: point `(i, j)` belongs to output position `(i * S, j * S)` and
 //! holds a raw `(x, y)` pair (stored row-major, interleaved `i32`). Points past
@@ -84,10 +104,10 @@
 //! ```
 //!
 //! which equals `floor(B + 1/2)`, `B` the exact bilinear interpolation of the
-//! four control points: **the mesh coordinate is the exact bilinear mesh
+//! four control points: **the grid coordinate is the exact bilinear grid
 //! value rounded half up to `F` fractional bits**. The sample is then the
-//! sampling model above fed with `(c_x, c_y)`, so the mesh path is bit-exact
-//! to the dense path given the mesh-interpolated coordinates.
+//! sampling model above fed with `(c_x, c_y)`, so the grid path is bit-exact
+//! to the pixel-map path given the grid-interpolated coordinates.
 //!
 //! The kernel evaluates the same quantity incrementally. Per output row and
 //! cell: `L = v*(C01-C00)`, `R = ((C10-C00) << k) + v*(C11-C10)`,
@@ -97,14 +117,14 @@
 //! `A(u) = S*L + u*D = (S-u)*L + u*R + 2^(2k-1)`, this is identical to the
 //! formula above. Construction proves that `A` fits `i32` for every cell:
 //! `S*(2S+1)*(|C10-C00| + |C11-C10| + |C01-C00|) + 2^(2k-1) <= i32::MAX` per
-//! axis, otherwise [`Error::MeshStepOverflow`].
+//! axis, otherwise [`Error::GridCellOverflow`].
 //!
-//! Every mesh coordinate is a rounded convex combination of its cell's
+//! Every grid coordinate is a rounded convex combination of its cell's
 //! control points, so it lies in the accepted range whenever they do.
 //!
 //! # Blob format (version 1)
 //!
-//! A mesh travels as a binary blob, all integers little-endian:
+//! A grid travels as a binary blob, all integers little-endian:
 //!
 //! | offset | size | field |
 //! |---|---|---|
@@ -126,31 +146,31 @@
 //!
 //! The CRC is CRC-32/ISO-HDLC (reflected polynomial `0xEDB88320`, initial
 //! value and final XOR `0xFFFFFFFF`; check value of `"123456789"` is
-//! `0xCBF43926`). [`MeshTable::from_blob`] checks, in order: length at least
+//! `0xCBF43926`). [`ControlGrid::from_blob`] checks, in order: length at least
 //! 32, magic, version, header length, total length equal to `32 + payload`,
-//! CRC, then every field and control point as [`MeshTable::new`] does. The
+//! CRC, then every field and control point as [`ControlGrid::new`] does. The
 //! parsed table borrows the blob; nothing is copied.
 //!
 //! # Memory and strips
 //!
-//! No scratch memory. [`DenseMap::remap_rows`] and [`MeshTable::remap_rows`]
+//! No scratch memory. [`PixelMap::warp_rows`] and [`ControlGrid::warp_rows`]
 //! write a strip of consecutive output rows starting at `first_row` into a
 //! view whose height is the strip height, so a frame can be produced a part
 //! at a time; strips are bit-identical to the same rows of a whole frame.
 //!
 //! ```
 //! use fixsight::filter::Border;
-//! use fixsight::remap::{MeshTable, RemapGeometry};
+//! use fixsight::warp::{ControlGrid, WarpGeometry};
 //! use fixsight::{ImageView, ImageViewMut};
-//! // A 4x4 identity mesh (step 4, 2 fractional bits) over a 4x4 image.
-//! let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
+//! // A 4x4 identity grid (step 4, 2 fractional bits) over a 4x4 image.
+//! let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
 //! let s = 4 * 4; // raw value of 4 px
 //! let pts = [0, 0, s, 0, 0, s, s, s];
-//! let mesh = MeshTable::new(&pts, g, 2)?;
+//! let grid = ControlGrid::new(&pts, g, 2)?;
 //! let src: [u8; 16] = core::array::from_fn(|i| 10 * i as u8);
 //! let mut out = [0u8; 16];
-//! mesh.remap_rows(&ImageView::new(&src, 4, 4, 4)?, &mut ImageViewMut::new(&mut out, 4, 4, 4)?,
-//!                 0, Border::Replicate)?;
+//! grid.warp_rows(&ImageView::new(&src, 4, 4, 4)?, &mut ImageViewMut::new(&mut out, 4, 4, 4)?,
+//!                 0, Border::Clamp)?;
 //! assert_eq!(out, src);
 //! # Ok::<(), fixsight::Error>(())
 //! ```
@@ -165,12 +185,12 @@ use crate::ops::{tally, Op};
 pub const MIN_FRAC_BITS: u32 = 2;
 /// Most fractional bits of a coordinate.
 pub const MAX_FRAC_BITS: u32 = 10;
-/// Smallest mesh step, as log2 of output pixels.
-pub const MIN_STEP_LOG2: u32 = 2;
-/// Largest mesh step, as log2 of output pixels.
-pub const MAX_STEP_LOG2: u32 = 6;
+/// Smallest grid step, as log2 of output pixels.
+pub const MIN_GRID_LOG2: u32 = 2;
+/// Largest grid step, as log2 of output pixels.
+pub const MAX_GRID_LOG2: u32 = 6;
 
-/// Magic bytes at the start of a mesh blob.
+/// Magic bytes at the start of a grid blob.
 pub const BLOB_MAGIC: [u8; 4] = *b"FSMT";
 /// Blob format version this build writes and reads.
 pub const BLOB_VERSION: u16 = 1;
@@ -183,7 +203,7 @@ const BLOB_CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
 /// CRC-32 (ISO-HDLC) of `parts` concatenated, as stored in a blob header.
 ///
 /// ```
-/// assert_eq!(fixsight::remap::crc32(&[b"1234", b"56789"]), 0xCBF4_3926);
+/// assert_eq!(fixsight::warp::crc32(&[b"1234", b"56789"]), 0xCBF4_3926);
 /// ```
 pub fn crc32(parts: &[&[u8]]) -> u32 {
     let mut d = BLOB_CRC.digest();
@@ -193,18 +213,18 @@ pub fn crc32(parts: &[&[u8]]) -> u32 {
     d.finalize()
 }
 
-/// Sizes and coordinate format shared by a dense map and a mesh: output
+/// Sizes and coordinate format shared by a pixel map and a grid: output
 /// size, source size and fractional bits `F`. All validated at construction.
 ///
 /// ```
-/// use fixsight::remap::RemapGeometry;
-/// let g = RemapGeometry::new(640, 480, 640, 480, 5)?;
+/// use fixsight::warp::WarpGeometry;
+/// let g = WarpGeometry::new(640, 480, 640, 480, 5)?;
 /// assert_eq!(g.coord_range_x(), (-640 * 32, 1279 * 32));
-/// assert!(RemapGeometry::new(640, 480, 640, 480, 11).is_err());
+/// assert!(WarpGeometry::new(640, 480, 640, 480, 11).is_err());
 /// # Ok::<(), fixsight::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct RemapGeometry {
+pub struct WarpGeometry {
     out_width: usize,
     out_height: usize,
     src_width: usize,
@@ -212,12 +232,12 @@ pub struct RemapGeometry {
     frac_bits: u32,
 }
 
-impl RemapGeometry {
+impl WarpGeometry {
     /// Output `out_width x out_height`, source `src_width x src_height`
     /// (each `1..=32767`), `frac_bits` in `2..=10`.
     ///
     /// ```
-    /// assert!(fixsight::remap::RemapGeometry::new(0, 4, 4, 4, 4).is_err());
+    /// assert!(fixsight::warp::WarpGeometry::new(0, 4, 4, 4, 4).is_err());
     /// ```
     pub fn new(
         out_width: usize,
@@ -247,7 +267,7 @@ impl RemapGeometry {
     /// Output width.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.out_width(), 8);
     /// ```
     pub fn out_width(&self) -> usize {
@@ -257,7 +277,7 @@ impl RemapGeometry {
     /// Output height.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.out_height(), 6);
     /// ```
     pub fn out_height(&self) -> usize {
@@ -267,7 +287,7 @@ impl RemapGeometry {
     /// Source width.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.src_width(), 4);
     /// ```
     pub fn src_width(&self) -> usize {
@@ -277,7 +297,7 @@ impl RemapGeometry {
     /// Source height.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.src_height(), 3);
     /// ```
     pub fn src_height(&self) -> usize {
@@ -287,7 +307,7 @@ impl RemapGeometry {
     /// Fractional bits `F` of every coordinate.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.frac_bits(), 4);
     /// ```
     pub fn frac_bits(&self) -> u32 {
@@ -297,7 +317,7 @@ impl RemapGeometry {
     /// Accepted raw x range `(-W * 2^F, (2W - 1) * 2^F)`.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.coord_range_x(), (-64, 112));
     /// ```
     pub fn coord_range_x(&self) -> (i32, i32) {
@@ -307,7 +327,7 @@ impl RemapGeometry {
     /// Accepted raw y range `(-H * 2^F, (2H - 1) * 2^F)`.
     ///
     /// ```
-    /// # let g = fixsight::remap::RemapGeometry::new(8, 6, 4, 3, 4).unwrap();
+    /// # let g = fixsight::warp::WarpGeometry::new(8, 6, 4, 3, 4).unwrap();
     /// assert_eq!(g.coord_range_y(), (-48, 80));
     /// ```
     pub fn coord_range_y(&self) -> (i32, i32) {
@@ -348,14 +368,14 @@ impl RemapGeometry {
     ) -> Result<()> {
         if src.width() != self.src_width || src.height() != self.src_height {
             return Err(Error::SizeMismatch {
-                what: "remap source vs map geometry",
+                what: "warp source vs map geometry",
                 expected: (self.src_width, self.src_height),
                 got: (src.width(), src.height()),
             });
         }
         if dst.width() != self.out_width {
             return Err(Error::SizeMismatch {
-                what: "remap output strip vs map geometry",
+                what: "warp output strip vs map geometry",
                 expected: (self.out_width, dst.height()),
                 got: (dst.width(), dst.height()),
             });
@@ -389,12 +409,12 @@ fn range(n: usize, f: u32) -> (i32, i32) {
 /// border rule covers everything outside the image).
 ///
 /// ```
-/// use fixsight::{filter::Border, remap::sample_pixel, ImageView};
+/// use fixsight::{filter::Border, warp::sample_pixel, ImageView};
 /// // Unit cell 0,100 / 50,250 sampled at its centre (raw 2, 2 with F = 2):
 /// let src = [0u8, 100, 50, 250];
 /// let v = ImageView::new(&src, 2, 2, 2)?;
 /// let mut out = [0u8; 1];
-/// sample_pixel(&v, 2, 2, 2, Border::Replicate, &mut out)?;
+/// sample_pixel(&v, 2, 2, 2, Border::Clamp, &mut out)?;
 /// assert_eq!(out, [100]); // (0 + 100 + 50 + 250) / 4
 /// # Ok::<(), fixsight::Error>(())
 /// ```
@@ -479,8 +499,8 @@ impl<'s, 'a> Sampler<'s, 'a> {
             self.src.row_at(y as usize)[x as usize * C + ch] as i32
         } else {
             match self.border {
-                Border::Constant(c) => c as i32,
-                Border::Replicate => {
+                Border::Fill(c) => c as i32,
+                Border::Clamp => {
                     let xc = x.clamp(0, self.wm1 as i32) as usize;
                     let yc = y.clamp(0, self.hm1 as i32) as usize;
                     self.src.row_at(yc)[xc * C + ch] as i32
@@ -551,41 +571,41 @@ fn tally_samples(n: usize, fast: usize, c: usize) {
     tally(Op::Branch, 4 * slow * c);
 }
 
-/// A dense map: one raw `(x, y)` source coordinate per output pixel,
+/// A pixel map: one raw `(x, y)` source coordinate per output pixel,
 /// interleaved `i32`, row-major, borrowed from the caller.
 ///
 /// ```
-/// use fixsight::remap::{DenseMap, RemapGeometry};
-/// let g = RemapGeometry::new(2, 1, 2, 1, 4)?;
+/// use fixsight::warp::{PixelMap, WarpGeometry};
+/// let g = WarpGeometry::new(2, 1, 2, 1, 4)?;
 /// let coords = [16, 0, 0, 0];            // mirror: out(0) <- src(1), out(1) <- src(0)
-/// assert!(DenseMap::new(&coords, g).is_ok());
-/// assert!(DenseMap::new(&coords[..3], g).is_err());
+/// assert!(PixelMap::new(&coords, g).is_ok());
+/// assert!(PixelMap::new(&coords[..3], g).is_err());
 /// # Ok::<(), fixsight::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy)]
-pub struct DenseMap<'a> {
+pub struct PixelMap<'a> {
     coords: &'a [i32],
-    geom: RemapGeometry,
+    geom: WarpGeometry,
 }
 
-impl<'a> DenseMap<'a> {
+impl<'a> PixelMap<'a> {
     /// Wraps `coords` (at least `2 * out_width * out_height` values),
     /// checking every pair against the accepted range.
     ///
     /// ```
-    /// use fixsight::remap::{DenseMap, RemapGeometry};
+    /// use fixsight::warp::{PixelMap, WarpGeometry};
     /// use fixsight::Error;
-    /// let g = RemapGeometry::new(1, 1, 4, 4, 2)?;
+    /// let g = WarpGeometry::new(1, 1, 4, 4, 2)?;
     /// // x = 20 px is more than one source width past the right edge:
-    /// assert!(matches!(DenseMap::new(&[80, 0], g), Err(Error::MapOutOfRange { axis: "x", .. })));
+    /// assert!(matches!(PixelMap::new(&[80, 0], g), Err(Error::MapOutOfRange { axis: "x", .. })));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn new(coords: &'a [i32], geom: RemapGeometry) -> Result<Self> {
+    pub fn new(coords: &'a [i32], geom: WarpGeometry) -> Result<Self> {
         let n = geom.out_width * geom.out_height;
         let needed = 2 * n;
         if coords.len() < needed {
             return Err(Error::BufferTooShort {
-                what: "dense map",
+                what: "pixel map",
                 needed,
                 got: coords.len(),
             });
@@ -602,33 +622,33 @@ impl<'a> DenseMap<'a> {
     /// The geometry.
     ///
     /// ```
-    /// # use fixsight::remap::{DenseMap, RemapGeometry};
-    /// let g = RemapGeometry::new(1, 1, 1, 1, 3)?;
-    /// assert_eq!(DenseMap::new(&[0, 0], g)?.geometry().frac_bits(), 3);
+    /// # use fixsight::warp::{PixelMap, WarpGeometry};
+    /// let g = WarpGeometry::new(1, 1, 1, 1, 3)?;
+    /// assert_eq!(PixelMap::new(&[0, 0], g)?.geometry().frac_bits(), 3);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn geometry(&self) -> RemapGeometry {
+    pub fn geometry(&self) -> WarpGeometry {
         self.geom
     }
 
-    /// Remaps output rows `first_row .. first_row + dst.height()` into
+    /// Warps output rows `first_row .. first_row + dst.height()` into
     /// `dst` (width `out_width`, same channel count as `src`, which must be
     /// `src_width x src_height`).
     ///
     /// ```
     /// use fixsight::filter::Border;
-    /// use fixsight::remap::{DenseMap, RemapGeometry};
+    /// use fixsight::warp::{PixelMap, WarpGeometry};
     /// use fixsight::{ImageView, ImageViewMut};
-    /// let g = RemapGeometry::new(2, 1, 2, 1, 4)?;
-    /// let map = DenseMap::new(&[16, 0, 8, 0], g)?;  // x = 1.0 and x = 0.5
+    /// let g = WarpGeometry::new(2, 1, 2, 1, 4)?;
+    /// let map = PixelMap::new(&[16, 0, 8, 0], g)?;  // x = 1.0 and x = 0.5
     /// let src = [10u8, 21];
     /// let mut out = [0u8; 2];
-    /// map.remap_rows(&ImageView::new(&src, 2, 1, 2)?, &mut ImageViewMut::new(&mut out, 2, 1, 2)?,
-    ///                0, Border::Replicate)?;
+    /// map.warp_rows(&ImageView::new(&src, 2, 1, 2)?, &mut ImageViewMut::new(&mut out, 2, 1, 2)?,
+    ///                0, Border::Clamp)?;
     /// assert_eq!(out, [21, 16]); // 15.5 rounds half up to 16
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn remap_rows(
+    pub fn warp_rows(
         &self,
         src: &ImageView<'_, u8>,
         dst: &mut ImageViewMut<'_, u8>,
@@ -669,7 +689,7 @@ impl<'a> DenseMap<'a> {
     }
 }
 
-/// Where a mesh's control points live: caller `i32` words or the payload
+/// Where a grid's control points live: caller `i32` words or the payload
 /// bytes of a blob (read little-endian in place).
 #[derive(Debug, Clone, Copy)]
 enum Points<'a> {
@@ -691,34 +711,35 @@ impl Points<'_> {
     }
 }
 
-/// A compact mesh of control points (see the module docs for the grid, the
-/// integer model and the blob format). Borrows its points.
+/// A control grid: control points every `2^k` output pixels (see the
+/// module docs for the grid, the integer model and the blob format).
+/// Borrows its points.
 ///
 /// ```
-/// use fixsight::remap::{MeshTable, RemapGeometry};
-/// let g = RemapGeometry::new(640, 480, 640, 480, 5)?;
-/// let (cols, rows) = MeshTable::grid_size(&g, 4)?;
+/// use fixsight::warp::{ControlGrid, WarpGeometry};
+/// let g = WarpGeometry::new(640, 480, 640, 480, 5)?;
+/// let (cols, rows) = ControlGrid::grid_size(&g, 4)?;
 /// assert_eq!((cols, rows), (41, 31));
-/// assert_eq!(MeshTable::table_bytes(&g, 4)?, 41 * 31 * 8); // 10168 bytes for VGA at step 16
+/// assert_eq!(ControlGrid::table_bytes(&g, 4)?, 41 * 31 * 8); // 10168 bytes for VGA at step 16
 /// # Ok::<(), fixsight::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy)]
-pub struct MeshTable<'a> {
+pub struct ControlGrid<'a> {
     points: Points<'a>,
-    geom: RemapGeometry,
+    geom: WarpGeometry,
     k: u32,
     cols: usize,
     rows: usize,
 }
 
-fn check_step(step_log2: u32) -> Result<()> {
-    if (MIN_STEP_LOG2..=MAX_STEP_LOG2).contains(&step_log2) {
+fn check_step(grid_log2: u32) -> Result<()> {
+    if (MIN_GRID_LOG2..=MAX_GRID_LOG2).contains(&grid_log2) {
         Ok(())
     } else {
         Err(Error::BadParameter {
-            name: "step_log2",
+            name: "grid_log2",
             expected: "2..=6",
-            got: step_log2 as i64,
+            got: grid_log2 as i64,
         })
     }
 }
@@ -728,59 +749,59 @@ fn grid_len(n: usize, k: u32) -> usize {
     ((n - 1).div_ceil(s) + 1).max(2)
 }
 
-impl<'a> MeshTable<'a> {
-    /// Grid `(cols, rows)` a mesh with step `2^step_log2` needs for this
+impl<'a> ControlGrid<'a> {
+    /// Grid `(cols, rows)` a grid with step `2^grid_log2` needs for this
     /// geometry.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
     /// // 17 columns: points at x = 0 and 16 suffice; 18 need a third at 32.
-    /// let g = RemapGeometry::new(17, 1, 8, 8, 4)?;
-    /// assert_eq!(MeshTable::grid_size(&g, 4)?, (2, 2));
-    /// let g = RemapGeometry::new(18, 1, 8, 8, 4)?;
-    /// assert_eq!(MeshTable::grid_size(&g, 4)?, (3, 2));
+    /// let g = WarpGeometry::new(17, 1, 8, 8, 4)?;
+    /// assert_eq!(ControlGrid::grid_size(&g, 4)?, (2, 2));
+    /// let g = WarpGeometry::new(18, 1, 8, 8, 4)?;
+    /// assert_eq!(ControlGrid::grid_size(&g, 4)?, (3, 2));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn grid_size(geom: &RemapGeometry, step_log2: u32) -> Result<(usize, usize)> {
-        check_step(step_log2)?;
+    pub fn grid_size(geom: &WarpGeometry, grid_log2: u32) -> Result<(usize, usize)> {
+        check_step(grid_log2)?;
         Ok((
-            grid_len(geom.out_width, step_log2),
-            grid_len(geom.out_height, step_log2),
+            grid_len(geom.out_width, grid_log2),
+            grid_len(geom.out_height, grid_log2),
         ))
     }
 
     /// Bytes of control-point data (`cols * rows * 8`) for this geometry.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 4)?;
-    /// assert_eq!(MeshTable::table_bytes(&g, 2)?, 2 * 2 * 8);
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 4)?;
+    /// assert_eq!(ControlGrid::table_bytes(&g, 2)?, 2 * 2 * 8);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn table_bytes(geom: &RemapGeometry, step_log2: u32) -> Result<usize> {
-        let (c, r) = Self::grid_size(geom, step_log2)?;
+    pub fn table_bytes(geom: &WarpGeometry, grid_log2: u32) -> Result<usize> {
+        let (c, r) = Self::grid_size(geom, grid_log2)?;
         Ok(c * r * 8)
     }
 
-    /// A mesh over caller words: `points` holds at least `2 * cols * rows`
+    /// A grid over caller words: `points` holds at least `2 * cols * rows`
     /// raw values (`(x, y)` per control point, row-major). Checks the step,
     /// every point against the accepted range and every cell against the
     /// accumulator bound.
     ///
     /// ```
-    /// use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert!(MeshTable::new(&[0; 8], g, 2).is_ok());
-    /// assert!(MeshTable::new(&[0; 6], g, 2).is_err()); // 4 points needed
-    /// assert!(MeshTable::new(&[0; 8], g, 7).is_err()); // step 128 not supported
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert!(ControlGrid::new(&[0; 8], g, 2).is_ok());
+    /// assert!(ControlGrid::new(&[0; 6], g, 2).is_err()); // 4 points needed
+    /// assert!(ControlGrid::new(&[0; 8], g, 7).is_err()); // step 128 not supported
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn new(points: &'a [i32], geom: RemapGeometry, step_log2: u32) -> Result<Self> {
-        let (cols, rows) = Self::grid_size(&geom, step_log2)?;
+    pub fn new(points: &'a [i32], geom: WarpGeometry, grid_log2: u32) -> Result<Self> {
+        let (cols, rows) = Self::grid_size(&geom, grid_log2)?;
         let needed = 2 * cols * rows;
         if points.len() < needed {
             return Err(Error::BufferTooShort {
-                what: "mesh control points",
+                what: "grid control points",
                 needed,
                 got: points.len(),
             });
@@ -788,7 +809,7 @@ impl<'a> MeshTable<'a> {
         Self::validated(
             Points::Words(&points[..needed]),
             geom,
-            step_log2,
+            grid_log2,
             cols,
             rows,
         )
@@ -796,7 +817,7 @@ impl<'a> MeshTable<'a> {
 
     fn validated(
         points: Points<'a>,
-        geom: RemapGeometry,
+        geom: WarpGeometry,
         k: u32,
         cols: usize,
         rows: usize,
@@ -822,7 +843,7 @@ impl<'a> MeshTable<'a> {
                         + (c01 as i64 - c00 as i64).unsigned_abs();
                     let worst = s * (2 * s + 1) * sum + half;
                     if worst > i32::MAX as u64 {
-                        return Err(Error::MeshStepOverflow {
+                        return Err(Error::GridCellOverflow {
                             col: i,
                             row: j,
                             worst_case: worst,
@@ -838,18 +859,18 @@ impl<'a> MeshTable<'a> {
     /// Parses a blob (format in the module docs), borrowing its payload.
     ///
     /// ```
-    /// use fixsight::remap::{MeshTable, RemapGeometry};
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
     /// use fixsight::Error;
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
     /// let pts = [0, 0, 16, 0, 0, 16, 16, 16];
     /// let mut blob = [0u8; 64];
-    /// let n = MeshTable::new(&pts, g, 2)?.write_blob(&mut blob)?;
+    /// let n = ControlGrid::new(&pts, g, 2)?.write_blob(&mut blob)?;
     /// assert_eq!(n, 64);
-    /// let back = MeshTable::from_blob(&blob)?;
+    /// let back = ControlGrid::from_blob(&blob)?;
     /// assert_eq!(back.point(1, 1), (16, 16));
     /// blob[40] ^= 1;
-    /// assert!(matches!(MeshTable::from_blob(&blob), Err(Error::BlobCrc { .. })));
-    /// assert!(matches!(MeshTable::from_blob(&blob[..50]), Err(Error::BlobSize { .. })));
+    /// assert!(matches!(ControlGrid::from_blob(&blob), Err(Error::BlobCrc { .. })));
+    /// assert!(matches!(ControlGrid::from_blob(&blob[..50]), Err(Error::BlobSize { .. })));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn from_blob(bytes: &'a [u8]) -> Result<Self> {
@@ -902,7 +923,7 @@ impl<'a> MeshTable<'a> {
                 expected: "0",
             });
         }
-        let geom = RemapGeometry::new(
+        let geom = WarpGeometry::new(
             u16_at(8) as usize,
             u16_at(10) as usize,
             u16_at(12) as usize,
@@ -913,7 +934,7 @@ impl<'a> MeshTable<'a> {
         let (cols, rows) = Self::grid_size(&geom, k)?;
         let (gc, gr) = (u16_at(18) as usize, u16_at(20) as usize);
         if (gc, gr) != (cols, rows) {
-            return Err(Error::MeshCoverage {
+            return Err(Error::GridCoverage {
                 output: (geom.out_width, geom.out_height),
                 grid: (gc, gr),
                 needed: (cols, rows),
@@ -935,12 +956,12 @@ impl<'a> MeshTable<'a> {
         )
     }
 
-    /// Blob length for this mesh: `32 + cols * rows * 8`.
+    /// Blob length for this grid: `32 + cols * rows * 8`.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert_eq!(MeshTable::new(&[0; 8], g, 2)?.blob_len(), 64);
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert_eq!(ControlGrid::new(&[0; 8], g, 2)?.blob_len(), 64);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn blob_len(&self) -> usize {
@@ -951,17 +972,17 @@ impl<'a> MeshTable<'a> {
     /// bytes) and returns its length.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
     /// let mut small = [0u8; 63];
-    /// assert!(MeshTable::new(&[0; 8], g, 2)?.write_blob(&mut small).is_err());
+    /// assert!(ControlGrid::new(&[0; 8], g, 2)?.write_blob(&mut small).is_err());
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn write_blob(&self, out: &mut [u8]) -> Result<usize> {
         let n = self.blob_len();
         if out.len() < n {
             return Err(Error::BufferTooShort {
-                what: "mesh blob",
+                what: "grid blob",
                 needed: n,
                 got: out.len(),
             });
@@ -994,33 +1015,33 @@ impl<'a> MeshTable<'a> {
     /// The geometry.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert_eq!(MeshTable::new(&[0; 8], g, 2)?.geometry(), g);
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert_eq!(ControlGrid::new(&[0; 8], g, 2)?.geometry(), g);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn geometry(&self) -> RemapGeometry {
+    pub fn geometry(&self) -> WarpGeometry {
         self.geom
     }
 
     /// Step as log2 of output pixels.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert_eq!(MeshTable::new(&[0; 8], g, 2)?.step_log2(), 2);
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert_eq!(ControlGrid::new(&[0; 8], g, 2)?.grid_log2(), 2);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn step_log2(&self) -> u32 {
+    pub fn grid_log2(&self) -> u32 {
         self.k
     }
 
     /// Grid `(cols, rows)`.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert_eq!(MeshTable::new(&[0; 8], g, 2)?.grid(), (2, 2));
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert_eq!(ControlGrid::new(&[0; 8], g, 2)?.grid(), (2, 2));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn grid(&self) -> (usize, usize) {
@@ -1032,9 +1053,9 @@ impl<'a> MeshTable<'a> {
     /// two apart).
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// let m = MeshTable::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?;
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// let m = ControlGrid::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?;
     /// assert_eq!(m.point(1, 0), (16, 0));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
@@ -1045,9 +1066,9 @@ impl<'a> MeshTable<'a> {
     /// Control point `(col, row)`, or `None` outside the grid.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// assert_eq!(MeshTable::new(&[0; 8], g, 2)?.try_point(2, 0), None);
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// assert_eq!(ControlGrid::new(&[0; 8], g, 2)?.try_point(2, 0), None);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn try_point(&self, col: usize, row: usize) -> Option<(i32, i32)> {
@@ -1066,14 +1087,14 @@ impl<'a> MeshTable<'a> {
         (at(i, j), at(i + 1, j), at(i, j + 1), at(i + 1, j + 1))
     }
 
-    /// The mesh-interpolated raw coordinate of output pixel `(x, y)` by the
+    /// The grid-interpolated raw coordinate of output pixel `(x, y)` by the
     /// closed formula of the module docs (multiplies; for checking and for
     /// callers that need single points). `None` outside the output.
     ///
     /// ```
-    /// # use fixsight::remap::{MeshTable, RemapGeometry};
-    /// let g = RemapGeometry::new(4, 4, 4, 4, 2)?;
-    /// let m = MeshTable::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?;
+    /// # use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// let m = ControlGrid::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?;
     /// assert_eq!(m.coord(3, 1), Some((12, 4)));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
@@ -1096,25 +1117,25 @@ impl<'a> MeshTable<'a> {
         Some((axis(0), axis(1)))
     }
 
-    /// Remaps output rows `first_row .. first_row + dst.height()` into
-    /// `dst`; same view rules as [`DenseMap::remap_rows`].
+    /// Warps output rows `first_row .. first_row + dst.height()` into
+    /// `dst`; same view rules as [`PixelMap::warp_rows`].
     ///
     /// ```
     /// use fixsight::filter::Border;
-    /// use fixsight::remap::{MeshTable, RemapGeometry};
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
     /// use fixsight::{ImageView, ImageViewMut};
     /// // Shift right by half a pixel (F = 3): every point is x + 0.5.
-    /// let g = RemapGeometry::new(4, 2, 4, 4, 3)?;
+    /// let g = WarpGeometry::new(4, 2, 4, 4, 3)?;
     /// let pts = [4, 0, 36, 0, 4, 32, 36, 32];        // points at output x, y = 0 and 4
-    /// let m = MeshTable::new(&pts, g, 2)?;
+    /// let m = ControlGrid::new(&pts, g, 2)?;
     /// let src = [0u8, 10, 20, 30].repeat(4);
     /// let mut strip = [0u8; 4];                      // just row 1
-    /// m.remap_rows(&ImageView::new(&src, 4, 4, 4)?, &mut ImageViewMut::new(&mut strip, 4, 1, 4)?,
-    ///              1, Border::Constant(0))?;
+    /// m.warp_rows(&ImageView::new(&src, 4, 4, 4)?, &mut ImageViewMut::new(&mut strip, 4, 1, 4)?,
+    ///              1, Border::Fill(0))?;
     /// assert_eq!(strip, [5, 15, 25, 15]);            // last: (30 + 0) / 2
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn remap_rows(
+    pub fn warp_rows(
         &self,
         src: &ImageView<'_, u8>,
         dst: &mut ImageViewMut<'_, u8>,
@@ -1225,8 +1246,8 @@ mod tests {
                 src[(y as usize * w + x as usize) * c + ch] as i64
             } else {
                 match border {
-                    Border::Constant(v) => v as i64,
-                    Border::Replicate => {
+                    Border::Fill(v) => v as i64,
+                    Border::Clamp => {
                         let xc = x.clamp(0, w as i64 - 1) as usize;
                         let yc = y.clamp(0, h as i64 - 1) as usize;
                         src[(yc * w + xc) * c + ch] as i64
@@ -1270,7 +1291,7 @@ mod tests {
             // = 6.25 + 28.125 + 46.875 = 81.25 -> 81
             (4, 12, 81),
         ] {
-            sample_pixel(&v, sx, sy, f, Border::Replicate, &mut o).unwrap();
+            sample_pixel(&v, sx, sy, f, Border::Clamp, &mut o).unwrap();
             assert_eq!(o[0], want, "at ({sx}, {sy})");
         }
     }
@@ -1281,47 +1302,38 @@ mod tests {
         let v = ImageView::new(&src, 2, 2, 2).unwrap();
         let mut o = [0u8; 1];
         for (sx, sy) in [(i32::MIN, 0), (i32::MAX, i32::MAX), (-1, -1), (0, i32::MIN)] {
-            sample_pixel(&v, sx, sy, 10, Border::Constant(200), &mut o).unwrap();
+            sample_pixel(&v, sx, sy, 10, Border::Fill(200), &mut o).unwrap();
             let clamped_x = sx.clamp(-2 << 10, 3 << 10);
             let clamped_y = sy.clamp(-2 << 10, 3 << 10);
             assert_eq!(
                 o.to_vec(),
-                model(
-                    &src,
-                    2,
-                    2,
-                    1,
-                    clamped_x,
-                    clamped_y,
-                    10,
-                    Border::Constant(200)
-                )
+                model(&src, 2, 2, 1, clamped_x, clamped_y, 10, Border::Fill(200))
             );
         }
-        sample_pixel(&v, i32::MAX, i32::MAX, 10, Border::Replicate, &mut o).unwrap();
+        sample_pixel(&v, i32::MAX, i32::MAX, 10, Border::Clamp, &mut o).unwrap();
         assert_eq!(o[0], 13);
-        sample_pixel(&v, i32::MIN, i32::MIN, 10, Border::Constant(3), &mut o).unwrap();
+        sample_pixel(&v, i32::MIN, i32::MIN, 10, Border::Fill(3), &mut o).unwrap();
         assert_eq!(o[0], 3);
     }
 
     #[test]
     fn geometry_and_map_rejections() {
         assert!(matches!(
-            RemapGeometry::new(4, 4, 4, 4, 1),
+            WarpGeometry::new(4, 4, 4, 4, 1),
             Err(Error::BadParameter {
                 name: "frac_bits",
                 ..
             })
         ));
         assert!(matches!(
-            RemapGeometry::new(4, 4, 40000, 4, 4),
+            WarpGeometry::new(4, 4, 40000, 4, 4),
             Err(Error::TooLarge { .. })
         ));
-        let g = RemapGeometry::new(2, 2, 4, 4, 4).unwrap();
+        let g = WarpGeometry::new(2, 2, 4, 4, 4).unwrap();
         let mut c = [0i32; 8];
         c[5] = -(4 << 4) - 1;
         assert_eq!(
-            DenseMap::new(&c, g).unwrap_err(),
+            PixelMap::new(&c, g).unwrap_err(),
             Error::MapOutOfRange {
                 axis: "y",
                 index: 2,
@@ -1331,25 +1343,25 @@ mod tests {
             }
         );
         // Views that do not match the geometry.
-        let m = DenseMap::new(&[0; 8], g).unwrap();
+        let m = PixelMap::new(&[0; 8], g).unwrap();
         let src = [0u8; 16];
         let mut out = [0u8; 8];
         let sv = ImageView::new(&src, 4, 4, 4).unwrap();
         assert!(matches!(
-            m.remap_rows(
+            m.warp_rows(
                 &ImageView::new(&src, 4, 3, 4).unwrap(),
                 &mut ImageViewMut::new(&mut out, 2, 2, 2).unwrap(),
                 0,
-                Border::Replicate
+                Border::Clamp
             ),
             Err(Error::SizeMismatch { .. })
         ));
         assert_eq!(
-            m.remap_rows(
+            m.warp_rows(
                 &sv,
                 &mut ImageViewMut::new(&mut out, 2, 2, 2).unwrap(),
                 1,
-                Border::Replicate
+                Border::Clamp
             ),
             Err(Error::RowRange {
                 first_row: 1,
@@ -1358,48 +1370,48 @@ mod tests {
             })
         );
         assert!(m
-            .remap_rows(
+            .warp_rows(
                 &sv,
                 &mut ImageViewMut::new(&mut out, 2, 1, 2).unwrap(),
                 usize::MAX,
-                Border::Replicate
+                Border::Clamp
             )
             .is_err());
         assert!(matches!(
-            m.remap_rows(
+            m.warp_rows(
                 &sv,
                 &mut ImageViewMut::interleaved(&mut out, 2, 1, 6, 3).unwrap(),
                 0,
-                Border::Replicate
+                Border::Clamp
             ),
             Err(Error::UnsupportedChannels { channels: 3, .. })
         ));
     }
 
     #[test]
-    fn mesh_step_overflow_is_detected() {
+    fn grid_step_overflow_is_detected() {
         // k = 6, F = 10: a cell whose corners are 3 source widths apart.
-        let g = RemapGeometry::new(64, 64, 32767, 32767, 10).unwrap();
+        let g = WarpGeometry::new(64, 64, 32767, 32767, 10).unwrap();
         let big = (32767 << 10) - 1;
         let pts = [0, 0, big, 0, 0, 0, 0, 0];
         assert!(matches!(
-            MeshTable::new(&pts, g, 6),
-            Err(Error::MeshStepOverflow { col: 0, row: 0, .. })
+            ControlGrid::new(&pts, g, 6),
+            Err(Error::GridCellOverflow { col: 0, row: 0, .. })
         ));
     }
 
     #[test]
     fn blob_rejections() {
-        let g = RemapGeometry::new(5, 5, 8, 8, 4).unwrap();
-        let (c, r) = MeshTable::grid_size(&g, 2).unwrap();
+        let g = WarpGeometry::new(5, 5, 8, 8, 4).unwrap();
+        let (c, r) = ControlGrid::grid_size(&g, 2).unwrap();
         assert_eq!((c, r), (2, 2));
         let pts = [0, 0, 64, 0, 0, 64, 64, 64];
-        let m = MeshTable::new(&pts, g, 2).unwrap();
+        let m = ControlGrid::new(&pts, g, 2).unwrap();
         let mut blob = vec![0u8; m.blob_len()];
         m.write_blob(&mut blob).unwrap();
-        assert!(MeshTable::from_blob(&blob).is_ok());
+        assert!(ControlGrid::from_blob(&blob).is_ok());
         assert_eq!(
-            MeshTable::from_blob(&blob[..10]).unwrap_err(),
+            ControlGrid::from_blob(&blob[..10]).unwrap_err(),
             Error::BlobSize {
                 expected: 32,
                 got: 10
@@ -1408,13 +1420,13 @@ mod tests {
         let mut b = blob.clone();
         b[0] = b'X';
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::BlobMagic { .. })
         ));
         let mut b = blob.clone();
         b[4] = 2;
         assert_eq!(
-            MeshTable::from_blob(&b).unwrap_err(),
+            ControlGrid::from_blob(&b).unwrap_err(),
             Error::BlobVersion {
                 got: 2,
                 supported: 1
@@ -1423,7 +1435,7 @@ mod tests {
         let mut b = blob.clone();
         b.push(0);
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::BlobSize { .. })
         ));
         // A field change with a recomputed CRC is caught by the field checks.
@@ -1435,9 +1447,9 @@ mod tests {
         b[16] = 7;
         reseal(&mut b);
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::BadParameter {
-                name: "step_log2",
+                name: "grid_log2",
                 ..
             })
         ));
@@ -1445,8 +1457,8 @@ mod tests {
         b[18] = 3;
         reseal(&mut b);
         assert_eq!(
-            MeshTable::from_blob(&b).unwrap_err(),
-            Error::MeshCoverage {
+            ControlGrid::from_blob(&b).unwrap_err(),
+            Error::GridCoverage {
                 output: (5, 5),
                 grid: (3, 2),
                 needed: (2, 2)
@@ -1456,7 +1468,7 @@ mod tests {
         b[32..36].copy_from_slice(&(-10_000i32).to_le_bytes());
         reseal(&mut b);
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::MapOutOfRange {
                 axis: "x",
                 index: 0,
@@ -1467,13 +1479,13 @@ mod tests {
         b[22] = 1;
         reseal(&mut b);
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::BlobField { field: "flags", .. })
         ));
         let mut b = blob.clone();
         b[6] = 33;
         assert!(matches!(
-            MeshTable::from_blob(&b),
+            ControlGrid::from_blob(&b),
             Err(Error::BlobField {
                 field: "header_len",
                 ..
@@ -1482,25 +1494,22 @@ mod tests {
     }
 
     fn arb_border() -> impl Strategy<Value = Border> {
-        prop_oneof![
-            Just(Border::Replicate),
-            any::<u8>().prop_map(Border::Constant)
-        ]
+        prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]
     }
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(64))]
 
-        /// The dense path equals the i64 transcription of the model on
+        /// The pixel-map path equals the i64 transcription of the model on
         /// arbitrary in-range coordinates, any channel count, any strip.
         #[test]
-        fn dense_matches_model(
+        fn pixel_map_matches_model(
             w in 1usize..7, h in 1usize..6, ow in 1usize..6, oh in 1usize..6,
             c in prop_oneof![Just(1usize), Just(3usize), Just(2usize), Just(4usize)],
             f in 2u32..=10, border in arb_border(), seed in any::<u64>(),
             split in 0usize..6,
         ) {
-            let g = RemapGeometry::new(ow, oh, w, h, f).unwrap();
+            let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (xl, xh) = g.coord_range_x();
             let (yl, yh) = g.coord_range_y();
             let mut st = seed | 1;
@@ -1511,10 +1520,10 @@ mod tests {
                 let y = yl + (next() % (yh - yl + 1) as u64) as i32;
                 [x, y]
             }).collect();
-            let map = DenseMap::new(&coords, g).unwrap();
+            let map = PixelMap::new(&coords, g).unwrap();
             let sv = ImageView::interleaved(&src, w, h, w * c, c).unwrap();
             let mut full = vec![0u8; ow * oh * c];
-            map.remap_rows(&sv, &mut ImageViewMut::interleaved(&mut full, ow, oh, ow * c, c).unwrap(),
+            map.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut full, ow, oh, ow * c, c).unwrap(),
                 0, border).unwrap();
             for p in 0..ow * oh {
                 let want = model(&src, w, h, c, coords[2 * p], coords[2 * p + 1], f, border);
@@ -1525,27 +1534,27 @@ mod tests {
             let mut strips = vec![0u8; ow * oh * c];
             let (a, b) = strips.split_at_mut(split * ow * c);
             if split > 0 {
-                map.remap_rows(&sv, &mut ImageViewMut::interleaved(a, ow, split, ow * c, c).unwrap(),
+                map.warp_rows(&sv, &mut ImageViewMut::interleaved(a, ow, split, ow * c, c).unwrap(),
                     0, border).unwrap();
             }
             if split < oh {
-                map.remap_rows(&sv, &mut ImageViewMut::interleaved(b, ow, oh - split, ow * c, c).unwrap(),
+                map.warp_rows(&sv, &mut ImageViewMut::interleaved(b, ow, oh - split, ow * c, c).unwrap(),
                     split, border).unwrap();
             }
             prop_assert_eq!(strips, full);
         }
 
-        /// The incremental mesh path equals the closed formula for every
+        /// The incremental grid path equals the closed formula for every
         /// output pixel, and the closed formula equals the rounded exact
-        /// bilinear mesh value (computed independently in i128).
+        /// bilinear grid value (computed independently in i128).
         #[test]
-        fn mesh_matches_closed_formula_and_dense_path(
+        fn grid_matches_closed_formula_and_pixel_map_path(
             ow in 1usize..40, oh in 1usize..30, w in 1usize..20, h in 1usize..20,
             k in 2u32..=6, f in 2u32..=10, c in prop_oneof![Just(1usize), Just(3usize)],
             border in arb_border(), seed in any::<u64>(), first in 0usize..30,
         ) {
-            let g = RemapGeometry::new(ow, oh, w, h, f).unwrap();
-            let (cols, rows) = MeshTable::grid_size(&g, k).unwrap();
+            let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
+            let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
             let (xl, xh) = g.coord_range_x();
             let (yl, yh) = g.coord_range_y();
             let mut st = seed | 1;
@@ -1554,16 +1563,16 @@ mod tests {
                 [xl + (next() % (xh - xl + 1) as u64) as i32,
                  yl + (next() % (yh - yl + 1) as u64) as i32]
             }).collect();
-            let mesh = match MeshTable::new(&pts, g, k) {
+            let grid = match ControlGrid::new(&pts, g, k) {
                 Ok(m) => m,
-                Err(Error::MeshStepOverflow { .. }) => return Ok(()),
+                Err(Error::GridCellOverflow { .. }) => return Ok(()),
                 Err(e) => panic!("{e}"),
             };
             let s = 1i128 << k;
             let mut coords = vec![0i32; 2 * ow * oh];
             for y in 0..oh {
                 for x in 0..ow {
-                    let (cx, cy) = mesh.coord(x, y).unwrap();
+                    let (cx, cy) = grid.coord(x, y).unwrap();
                     let i = (x >> k).min(cols - 2);
                     let j = (y >> k).min(rows - 2);
                     let u = (x - (i << k)) as i128;
@@ -1585,39 +1594,39 @@ mod tests {
             let rows_out = oh - first;
             let mut a = vec![0u8; ow * rows_out * c];
             let mut b = vec![0u8; ow * rows_out * c];
-            mesh.remap_rows(&sv, &mut ImageViewMut::interleaved(&mut a, ow, rows_out, ow * c, c).unwrap(),
+            grid.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut a, ow, rows_out, ow * c, c).unwrap(),
                 first, border).unwrap();
-            let dense = DenseMap::new(&coords, g).unwrap();
-            dense.remap_rows(&sv, &mut ImageViewMut::interleaved(&mut b, ow, rows_out, ow * c, c).unwrap(),
+            let pmap = PixelMap::new(&coords, g).unwrap();
+            pmap.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut b, ow, rows_out, ow * c, c).unwrap(),
                 first, border).unwrap();
             prop_assert_eq!(&a, &b);
             // Through a blob, too.
-            let mut blob = vec![0u8; mesh.blob_len()];
-            mesh.write_blob(&mut blob).unwrap();
-            let back = MeshTable::from_blob(&blob).unwrap();
+            let mut blob = vec![0u8; grid.blob_len()];
+            grid.write_blob(&mut blob).unwrap();
+            let back = ControlGrid::from_blob(&blob).unwrap();
             let mut d = vec![0u8; ow * rows_out * c];
-            back.remap_rows(&sv, &mut ImageViewMut::interleaved(&mut d, ow, rows_out, ow * c, c).unwrap(),
+            back.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut d, ow, rows_out, ow * c, c).unwrap(),
                 first, border).unwrap();
             prop_assert_eq!(d, b);
         }
 
         /// Arbitrary bytes, and arbitrary single-byte corruptions of a valid
-        /// blob, never panic and never parse as a different valid mesh.
+        /// blob, never panic and never parse as a different valid grid.
         #[test]
         fn blob_parser_never_panics(bytes in proptest::collection::vec(any::<u8>(), 0..200),
                                     pos in 0usize..96, flip in 1u8..=255) {
-            let _ = MeshTable::from_blob(&bytes);
-            let g = RemapGeometry::new(9, 5, 8, 8, 3).unwrap();
-            let (cols, rows) = MeshTable::grid_size(&g, 2).unwrap();
+            let _ = ControlGrid::from_blob(&bytes);
+            let g = WarpGeometry::new(9, 5, 8, 8, 3).unwrap();
+            let (cols, rows) = ControlGrid::grid_size(&g, 2).unwrap();
             let pts: Vec<i32> = (0..cols * rows).flat_map(|i| [(i as i32 % cols as i32) * 32, (i / cols) as i32 * 32]).collect();
-            let m = MeshTable::new(&pts, g, 2).unwrap();
+            let m = ControlGrid::new(&pts, g, 2).unwrap();
             let mut blob = vec![0u8; m.blob_len()];
             m.write_blob(&mut blob).unwrap();
             let pos = pos % blob.len();
             blob[pos] ^= flip;
-            prop_assert!(MeshTable::from_blob(&blob).is_err());
+            prop_assert!(ControlGrid::from_blob(&blob).is_err());
             let cut = pos.min(blob.len() - 1);
-            prop_assert!(MeshTable::from_blob(&blob[..cut]).is_err());
+            prop_assert!(ControlGrid::from_blob(&blob[..cut]).is_err());
         }
     }
 }

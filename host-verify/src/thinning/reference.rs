@@ -1,9 +1,4 @@
-//! Reference model of `fixsight::thinning`: Zhang-Suen thinning written
-//! directly from the paper (T. Y. Zhang, C. Y. Suen, 1984, "A fast parallel
-//! algorithm for thinning digital patterns", CACM 27(3)), with `B` and `A`
-//! counted per pixel (no table) and each sub-iteration deciding from a full
-//! copy of the frame. Contract **bit-exact** (foreground/background and the
-//! surviving byte values), checked in [`crate::canny`].
+//! The reference model of `fixsight::thinning` (see the family docs).
 
 /// Thins a `w x h` map (nonzero = foreground; outside = background) and
 /// returns the result and the number of full iterations run.
@@ -61,5 +56,5 @@ pub fn reference(map: &[u8], w: usize, h: usize) -> (Vec<u8>, u32) {
 
 /// Number of 8-connected foreground components.
 pub fn components(map: &[u8], w: usize, h: usize) -> usize {
-    crate::hysteresis::components8(map, w, h).len()
+    crate::hysteresis::reference::components8(map, w, h).len()
 }

@@ -1,16 +1,5 @@
-//! Integer reference models of `fixsight::hysteresis`, written from the
-//! kernel's documented model:
-//!
-//! * [`classify`]: STRONG (2) when `m >= high`, WEAK (1) when
-//!   `low <= m < high`, else 0;
-//! * [`hysteresis`]: label the 8-connected components of the nonzero codes
-//!   (breadth first, on the heap) and keep a component when it holds a
-//!   STRONG pixel; the rule of Canny 1986 ("A Computational Approach to
-//!   Edge Detection", IEEE PAMI 8(6)) stated as connected components;
-//! * [`auto_thresholds`]: the histogram rule computed by sorting the bin
-//!   indices of the nonzero magnitudes and taking the `target`-th smallest.
-//!
-//! Contracts are **bit-exact**, checked in [`crate::canny`].
+//! The integer reference models of `fixsight::hysteresis` (see the family
+//! docs).
 
 use std::collections::VecDeque;
 
@@ -64,7 +53,7 @@ pub fn components8(map: &[u8], w: usize, h: usize) -> Vec<Vec<usize>> {
 
 /// Reference hysteresis on edge codes (0, 1, 2): returns 0/255. A
 /// component of nonzero codes is kept whole when it holds a strong pixel.
-pub fn hysteresis(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
+pub fn link(codes: &[u8], w: usize, h: usize) -> Vec<u8> {
     let mut out = vec![0u8; w * h];
     for members in components8(codes, w, h) {
         if members.iter().any(|&m| codes[m] == 2) {
@@ -82,7 +71,7 @@ pub fn auto_thresholds(
     bins: usize,
     shift: u32,
     high_permille: u16,
-    low_fraction_bits: u16,
+    low_ratio_u0f16: u16,
 ) -> (u16, u16) {
     let mut idx: Vec<usize> = mag
         .iter()
@@ -97,6 +86,6 @@ pub fn auto_thresholds(
     let target = (n * high_permille as u64).div_ceil(1000) as usize;
     let b = idx[target.max(1) - 1];
     let high = (((b as u64) + 1) << shift).min(65535);
-    let low = ((high as f64 * low_fraction_bits as f64 / 65536.0) + 0.5).floor() as u64;
+    let low = ((high as f64 * low_ratio_u0f16 as f64 / 65536.0) + 0.5).floor() as u64;
     (low.max(1) as u16, high as u16)
 }

@@ -1,13 +1,4 @@
-//! Integer reference model of `fixsight::nms`, written from the kernel's
-//! documented model and nothing else.
-//!
-//! The neighbour offsets are derived here from the sector's angle
-//! (`45 * sector` degrees, x right, y down): the *after* neighbour is
-//! `(round(cos a), round(sin a))`, the *before* neighbour its opposite.
-//! A pixel keeps its magnitude when it is strictly greater than the before
-//! neighbour and not smaller than the after neighbour; neighbours outside
-//! the image read as 0. The contract is **bit-exact** (checked in
-//! [`crate::canny`], which runs the whole edge chain on the demo scenes).
+//! The integer reference model of `fixsight::nms` (see the family docs).
 
 /// Offsets `(before, after)` of a sector, from its angle.
 pub fn sector_offsets(sector: u8) -> ((i64, i64), (i64, i64)) {

@@ -1,24 +1,24 @@
-//! `remap.*` kernel ids, as `run_vector` in `host-verify/src/remap.rs`
+//! `warp.*` kernel ids, as `run_vector` in `host-verify/src/warp.rs`
 //! computes them.
 //!
-//! * `remap.dense`: params `frac_bits`, `border` (`"replicate"` or
-//!   `{"constant": c}`); inputs `src` (u8, any channel count), `map` (i32,
+//! * `warp.pixel_map`: params `frac_bits`, `border` (`"clamp"` or
+//!   `{"fill": c}`); inputs `src` (u8, any channel count), `map` (i32,
 //!   2 channels: raw x, y per output pixel); output `dst` (u8, map size,
-//!   channels of `src`). One `DenseMap::remap_rows` call over all rows.
-//! * `remap.mesh`: params `border`, `strip_rows`; inputs `src` (u8),
-//!   `blob` (u8, the mesh blob as one row of bytes); output `dst` (u8, the
+//!   channels of `src`). One `PixelMap::warp_rows` call over all rows.
+//! * `warp.control_grid`: params `border`, `strip_rows`; inputs `src` (u8),
+//!   `blob` (u8, the grid blob as one row of bytes); output `dst` (u8, the
 //!   blob's output size). The blob is parsed in place by
-//!   `MeshTable::from_blob` and the output produced in strips of
-//!   `strip_rows` rows (the last strip shorter), one `remap_rows` call per
+//!   `ControlGrid::from_blob` and the output produced in strips of
+//!   `strip_rows` rows (the last strip shorter), one `warp_rows` call per
 //!   strip, like a caller with a small line buffer.
 
 use super::filter::border;
 use super::{input, output, Arena, Buf, Fail, Img, Params};
-use fixsight::remap::{DenseMap, MeshTable, RemapGeometry};
+use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
 use fixsight::ImageViewMut;
 
-/// `remap.dense`.
-pub fn dense(
+/// `warp.pixel_map`.
+pub fn pixel_map(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],
@@ -34,14 +34,14 @@ pub fn dense(
     let Buf::I32(coords) = &map.buf else {
         return Err(Fail::Harness("map is not i32"));
     };
-    let geom = RemapGeometry::new(map.width, map.height, src.width, src.height, frac_bits)?;
-    let m = DenseMap::new(coords, geom)?;
-    m.remap_rows(&src.u8()?, &mut output(outs, 0)?.u8_mut()?, 0, b)?;
+    let geom = WarpGeometry::new(map.width, map.height, src.width, src.height, frac_bits)?;
+    let m = PixelMap::new(coords, geom)?;
+    m.warp_rows(&src.u8()?, &mut output(outs, 0)?.u8_mut()?, 0, b)?;
     Ok(())
 }
 
-/// `remap.mesh`.
-pub fn mesh(
+/// `warp.control_grid`.
+pub fn control_grid(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],
@@ -55,7 +55,7 @@ pub fn mesh(
     let Buf::U8(blob) = &input(ins, 1)?.buf else {
         return Err(Fail::Harness("blob is not u8"));
     };
-    let m = MeshTable::from_blob(blob)?;
+    let m = ControlGrid::from_blob(blob)?;
     let sv = src.u8()?;
     let dst = output(outs, 0)?;
     let (w, c) = (dst.width, dst.channels);
@@ -67,7 +67,7 @@ pub fn mesh(
     }
     for (n, chunk) in out.chunks_mut(strip * w * c).enumerate() {
         let rows = chunk.len() / (w * c);
-        m.remap_rows(
+        m.warp_rows(
             &sv,
             &mut ImageViewMut::interleaved(chunk, w, rows, w * c, c)?,
             n * strip,

@@ -8,11 +8,11 @@
 //!   y from 10^-2 to 10^2;
 //! * right: largest geometric error (px), y from 10^-4 to 10^1.
 //!
-//! One line per map: dense black, then meshes of step 4, 8, 16, 32, 64 in
+//! One line per map: dense black, then control grids of step 4, 8, 16, 32, 64 in
 //! blue, green, orange, red, magenta. A dashed-grey horizontal line on the
 //! left panel marks 0.5 LSB, on the right 1/32 px.
 
-use crate::remap::SweepRow;
+use crate::warp::sweep::SweepRow;
 use plotters::prelude::*;
 use std::path::Path;
 
@@ -31,7 +31,7 @@ pub fn draw(rows: &[SweepRow], path: &Path) -> anyhow::Result<()> {
     root.fill(&WHITE)?;
     let panels = root.split_evenly((1, 2));
     let series =
-        |k: Option<u32>| -> Vec<&SweepRow> { rows.iter().filter(|r| r.step_log2 == k).collect() };
+        |k: Option<u32>| -> Vec<&SweepRow> { rows.iter().filter(|r| r.grid_log2 == k).collect() };
     let keys: Vec<Option<u32>> = std::iter::once(None).chain((2..=6).map(Some)).collect();
     for (pi, panel) in panels.iter().enumerate() {
         let (ylo, yhi) = if pi == 0 { (-2.0, 2.0) } else { (-4.0, 1.0) };
@@ -39,7 +39,7 @@ pub fn draw(rows: &[SweepRow], path: &Path) -> anyhow::Result<()> {
             .margin(18)
             .build_cartesian_2d(1.5f64..10.5f64, ylo..yhi)?;
         // Axes and one tick per fractional-bit value, drawn as plain lines
-        // (the mesh helper would draw text).
+        // (the grid helper would draw text).
         let axis = RGBColor(60, 60, 60);
         chart.draw_series(LineSeries::new([(1.5, yhi), (1.5, ylo), (10.5, ylo)], axis))?;
         for f in 2..=10 {
