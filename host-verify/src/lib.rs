@@ -44,5 +44,5 @@ pub mod report;
 pub mod scene;
 pub mod targets;
 pub mod thinning;
-pub mod warp;
 pub mod track;
+pub mod warp;

@@ -1,9 +1,9 @@
-//! `track.*` kernel ids, as `run_vector` in `host-verify/src/track.rs`
-//! computes them.
+//! The `track.tracker` kernel id, as `run_vector` in
+//! `host-verify/src/track/` computes it.
 //!
 //! | id | params | inputs | outputs |
 //! |---|---|---|---|
-//! | `track.update` | axis noise (`rho.*`, `theta.*`), `gate_q8`, `confirm_hits`, `max_missed`, `birth_weight`, `reference_x_q4`, `reference_y_q4`, `warn_horizon`, `warn_min_hits`, `slots` (4), `max_detections` (8) | `frames` u32 (frame, count), `dets` i32 (rho_q4, theta, weight) | `states` i32 (16 per slot per call), `report` i32 (5 per call) |
+//! | `track.tracker` | axis noise (`rho.*`, `theta.*`), `gate_q8`, `confirm_hits`, `max_missed`, `birth_weight`, `reference_x_q4`, `reference_y_q4`, `warn_horizon`, `warn_min_hits`, `slots` (4), `max_detections` (8) | `frames` u32 (frame, count), `dets` i32 (rho_q4, theta, weight) | `states` i32 (16 per slot per call), `report` i32 (5 per call) |
 //!
 //! Not a safety function: the drift warning is an aid only (see the
 //! `fixsight::track` module docs).
@@ -27,8 +27,8 @@ fn axis(p: &Params, keys: [&'static str; 3]) -> Result<AxisNoise, Fail> {
     })
 }
 
-/// `track.update`: runs a `Tracker<4, 8>` over the calls of `frames`.
-pub fn update(
+/// `track.tracker`: runs a `Tracker<4, 8>` over the calls of `frames`.
+pub fn tracker(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],

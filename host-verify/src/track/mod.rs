@@ -2,6 +2,13 @@
 //! an `f64` reference tracker, on synthetic measurement sequences, and
 //! against the truth that generated them.
 //!
+//! One kernel id, `track.tracker` ([`fixsight::track::Tracker`], one call
+//! of `Tracker::update` per frame; the drift warning is part of what that
+//! call returns). Its report row carries the rho position error in px as
+//! `max_abs_err` against `bound`; every other figure below is in the row's
+//! `metrics` (`theta_*`, `velocity_*`, `steady_*`, `warning_*`, `eta_*`,
+//! `tracking_error_*`, ...) and any failed check fails the row.
+//!
 //! > **Not a safety function.** The drift warning measured here is an aid,
 //! > not a safety function; a vehicle that can hurt people needs
 //! > safety-rated sensing and control (ISO 3691-4, IEC 61508, ISO 13849) and
@@ -17,7 +24,7 @@
 //! standard library. The saturation limits of the kernel are applied as
 //! `f64` clamps (they never act on the sequences below).
 //!
-//! # The tolerance contract (`track.update/rho`, `track.update/theta`)
+//! # The tolerance contract (rho: `max_abs_err`, `bound`; theta: `theta_*`)
 //!
 //! While both trackers make the same decisions (same slots, ids, hits,
 //! misses, confirmations), the fixed state differs from the reference only
@@ -43,10 +50,10 @@
 //!
 //! Products of two errors (of order 2^-34) are left out: the bound is
 //! first order. It is computed along each sequence from the formats, never
-//! fitted; a row passes when every compared sample lies within its own
+//! fitted; the row fails unless every compared sample lies within its own
 //! bound and the decisions of the two trackers agree in every frame.
 //!
-//! # Drift warning (`track.drift_warning`)
+//! # Drift warning (`warning_*`, `eta_*`)
 //!
 //! Per track that may warn and per frame (both trackers agreeing on the
 //! decisions), the fixed frames-to-crossing is compared with the
@@ -65,7 +72,7 @@
 //! the horizon before the true crossing (`early_warning_frames`) and frames
 //! of the last 30 before it without a warning (`missed_warning_frames`).
 //!
-//! # Steady-state gains (`track.update/steady_gain`)
+//! # Steady-state gains (`steady_*`)
 //!
 //! Fed a measurement every frame, a constant-velocity Kalman filter
 //! converges to the alpha-beta filter whose gains depend only on the
@@ -92,7 +99,7 @@
 //! frames), a shelf edge (a horizontal line 60 px above the centre) is seen
 //! in 70 % of frames, and up to two random clutter lines per frame.
 //!
-//! # Golden kernel id `track.update`
+//! # Golden kernel id `track.tracker`
 //!
 //! Params: `{"rho": {meas_var, accel_index_q16, init_vel_var_q16}, "theta":
 //! {...}, gate_q8, confirm_hits, max_missed, birth_weight, reference_x_q4,
@@ -110,7 +117,7 @@ use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::family::{input, parse_params, Family};
 use crate::golden::{Blob, GoldenCase};
 use crate::metrics::ErrorStats;
-use crate::opcount::measure;
+use crate::opcount::{measure, OpsPerPx};
 use crate::scene::Scene;
 use fixsight::track::{AxisNoise, AxisState, Detection, FrameReport, Track, TrackConfig, Tracker};
 use rand::{Rng, SeedableRng};
@@ -124,12 +131,16 @@ use std::f64::consts::PI;
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "track",
-    kernels: &["track.update"],
+    kernels: &[ID],
     composed_on_host: false,
     check,
     golden_cases,
     run_vector,
 };
+
+/// Kernel id of the tracker (`fixsight::track::Tracker`, run frame by
+/// frame through `Tracker::update`).
+pub const ID: &str = "track.tracker";
 
 /// Track slots of the verified tracker.
 pub const SLOTS: usize = 4;
@@ -1078,24 +1089,15 @@ fn stats_of(pairs: &[(f64, f64)]) -> ErrorStats {
     ErrorStats::compare(&a, &vec![0.0; a.len()], 1.0)
 }
 
-fn tolerance_row(
-    name: &str,
-    pairs: &[(f64, f64)],
-    mismatches: usize,
-    ops: crate::opcount::OpsPerPx,
-    unit: &str,
-) -> KernelReport {
-    let stats = stats_of(pairs);
-    let bound = pairs.iter().map(|p| p.1).fold(0.0, f64::max);
-    let mut row = KernelReport::from_stats(
-        name,
-        KernelFamily::Track,
-        Contract::Tolerance,
-        bound,
-        &stats,
-        ops,
-    );
-    let worst_ratio = pairs
+/// Largest bound of `(error, bound)` samples.
+fn max_bound(pairs: &[(f64, f64)]) -> f64 {
+    pairs.iter().map(|p| p.1).fold(0.0, f64::max)
+}
+
+/// Largest `error / bound` of `(error, bound)` samples (infinite when a
+/// sample with a zero bound has an error).
+fn worst_ratio(pairs: &[(f64, f64)]) -> f64 {
+    pairs
         .iter()
         .map(|(e, b)| {
             if *b > 0.0 {
@@ -1106,216 +1108,230 @@ fn tolerance_row(
                 0.0
             }
         })
-        .fold(0.0, f64::max);
-    row.metrics.insert("worst_err_to_bound".into(), worst_ratio);
-    row.metrics
-        .insert("decision_mismatch_frames".into(), mismatches as f64);
-    row.notes.push(format!(
-        "fixed vs f64 tracker state, position in {unit}; per-sample first-order rounding bound \
-         (max shown); ops are per frame"
-    ));
-    if worst_ratio > 1.0 {
-        row.fail(format!(
-            "a sample exceeds its own bound (ratio {worst_ratio:.3})"
-        ));
-    }
-    if mismatches > 0 {
-        row.fail(format!(
-            "{mismatches} frames with different tracker decisions"
-        ));
-    }
-    row
+        .fold(0.0, f64::max)
 }
 
-/// Contract checks (the scenes are not used: the tracker's input is lines).
-pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
-    let cfg = TrackConfig::DEMO;
-    let seqs = contract_sequences();
-    let mut rho = Vec::new();
-    let mut theta = Vec::new();
-    let mut vel_rho = 0f64;
-    let mut vel_theta = 0f64;
-    let mut mismatches = 0;
-    let mut ops = None;
-    let mut problems = Vec::new();
-    let mut warn_delta = 0i64;
-    let mut warn_mismatch = 0usize;
-    let mut eta_delta = 0u32;
-    let mut truth = TruthFigures::default();
-    let mut etas = Vec::new();
-    let mut leads = Vec::new();
-    let mut eta_errors = Vec::new();
-    let mut calls = 0usize;
-    for s in &seqs {
+/// Everything measured over the contract sequences.
+#[derive(Default)]
+struct Measured {
+    /// Rho position `(error px, bound px)` per compared sample.
+    rho: Vec<(f64, f64)>,
+    /// Theta position `(error deg, bound deg)`.
+    theta: Vec<(f64, f64)>,
+    vel_rho: f64,
+    vel_theta: f64,
+    decision_mismatches: usize,
+    ops: Option<OpsPerPx>,
+    problems: Vec<String>,
+    warn_delta: i64,
+    warn_mismatch: usize,
+    eta_delta: u32,
+    etas: Vec<(f64, f64, bool, bool)>,
+    truth: TruthFigures,
+    leads: Vec<i64>,
+    eta_errors: Vec<i64>,
+    calls: usize,
+}
+
+fn measure_sequences(cfg: TrackConfig, seqs: &[Sequence]) -> Measured {
+    let mut m = Measured::default();
+    for s in seqs {
         let (fixed, o) = measure(s.frames.len(), || run_fixed(cfg, &s.frames));
-        ops.get_or_insert(o);
+        m.ops.get_or_insert(o);
         let fixed = match fixed {
             Ok(f) => f,
             Err(e) => {
-                problems.push(format!("{}: {e}", s.name));
+                m.problems.push(format!("{}: {e}", s.name));
                 continue;
             }
         };
-        calls += s.frames.len();
+        m.calls += s.frames.len();
         let reference = run_reference(cfg, &s.frames);
         let c = compare_states(&fixed, &reference);
-        rho.extend(c.rho);
-        theta.extend(c.theta);
+        m.rho.extend(c.rho);
+        m.theta.extend(c.theta);
         for (vr, vt) in c.vel {
-            vel_rho = vel_rho.max(vr);
-            vel_theta = vel_theta.max(vt);
+            m.vel_rho = m.vel_rho.max(vr);
+            m.vel_theta = m.vel_theta.max(vt);
         }
-        mismatches += c.decision_mismatches;
-        etas.extend(compare_etas(&cfg, &fixed, &reference));
+        m.decision_mismatches += c.decision_mismatches;
+        m.etas.extend(compare_etas(&cfg, &fixed, &reference));
         let (ff, fr, wm, ed) = compare_warnings(s, &fixed, &reference);
         match (ff, fr) {
-            (Some(a), Some(b)) => warn_delta = warn_delta.max((a as i64 - b as i64).abs()),
+            (Some(a), Some(b)) => m.warn_delta = m.warn_delta.max((a as i64 - b as i64).abs()),
             (None, None) => {}
-            _ => warn_mismatch += 1,
+            _ => m.warn_mismatch += 1,
         }
-        warn_mismatch += wm;
-        eta_delta = eta_delta.max(ed);
+        m.warn_mismatch += wm;
+        m.eta_delta = m.eta_delta.max(ed);
         let t = truth_figures(&cfg, s, &fixed);
-        truth.rho_err.extend(t.rho_err);
-        truth.theta_err.extend(t.theta_err);
-        truth.frames_lost += t.frames_lost;
-        truth.early_warning_frames += t.early_warning_frames;
-        truth.missed_warning_frames += t.missed_warning_frames;
-        leads.extend(t.lead);
-        eta_errors.extend(t.eta_error);
+        m.truth.rho_err.extend(t.rho_err);
+        m.truth.theta_err.extend(t.theta_err);
+        m.truth.frames_lost += t.frames_lost;
+        m.truth.early_warning_frames += t.early_warning_frames;
+        m.truth.missed_warning_frames += t.missed_warning_frames;
+        m.leads.extend(t.lead);
+        m.eta_errors.extend(t.eta_error);
     }
-    let ops = ops.unwrap_or_default();
-    let mut rows = vec![
-        tolerance_row("track.update/rho", &rho, mismatches, ops.clone(), "px"),
-        tolerance_row(
-            "track.update/theta",
-            &theta,
-            mismatches,
-            ops.clone(),
-            "degrees",
-        ),
-    ];
-    rows[0]
-        .metrics
-        .insert("velocity_max_abs_err_px_per_frame".into(), vel_rho);
-    rows[1]
-        .metrics
-        .insert("velocity_max_abs_err_deg_per_frame".into(), vel_theta);
+    m
+}
 
-    // Steady-state gains against Kalata (1984).
-    {
-        let mut worst = 0f64;
-        let mut bound = 0f64;
-        let mut metrics = BTreeMap::new();
-        for (name, q) in [
-            ("0.01", 655u32),
-            ("0.1", 6554),
-            ("1", 65536),
-            ("10", 655360),
-        ] {
-            let (fa, fb, ra, rb, ba, bb) = steady_gains(q, 4 << 16, 2000);
-            let l = (q as f64 / 65536.0).sqrt();
-            let (ka, kb) = kalata_gains(l);
-            let ea = (fa - ka).abs();
-            let eb = (fb - kb).abs();
-            worst = worst.max(ea).max(eb);
-            bound = bound.max(ba + (ra - ka).abs()).max(bb + (rb - kb).abs());
-            if ea > ba + (ra - ka).abs() || eb > bb + (rb - kb).abs() {
-                problems.push(format!("q = {name}: gains off Kalata beyond the bound"));
-            }
-            metrics.insert(format!("alpha_fixed_q{name}"), fa);
-            metrics.insert(format!("alpha_kalata_q{name}"), ka);
-            metrics.insert(format!("beta_fixed_q{name}"), fb);
-            metrics.insert(format!("beta_kalata_q{name}"), kb);
+/// Steady-state gains against Kalata (1984) for `q = L^2` in {0.01, 0.1,
+/// 1, 10}: metrics and the gains that lie outside their bound.
+fn steady_gain_figures(metrics: &mut BTreeMap<String, f64>) -> Vec<String> {
+    let mut worst = 0f64;
+    let mut bound = 0f64;
+    let mut problems = Vec::new();
+    for (name, q) in [
+        ("0.01", 655u32),
+        ("0.1", 6554),
+        ("1", 65536),
+        ("10", 655360),
+    ] {
+        let (fa, fb, ra, rb, ba, bb) = steady_gains(q, 4 << 16, 2000);
+        let (ka, kb) = kalata_gains((q as f64 / 65536.0).sqrt());
+        let (ea, eb) = ((fa - ka).abs(), (fb - kb).abs());
+        let (la, lb) = (ba + (ra - ka).abs(), bb + (rb - kb).abs());
+        worst = worst.max(ea).max(eb);
+        bound = bound.max(la).max(lb);
+        if ea > la || eb > lb {
+            problems.push(format!(
+                "steady gains at q = {name} off Kalata (1984) beyond their bound"
+            ));
         }
-        let stats = ErrorStats::compare(&[worst], &[0.0], 1.0);
-        let mut row = KernelReport::from_stats(
-            "track.update/steady_gain",
-            KernelFamily::Track,
-            Contract::Tolerance,
-            bound,
-            &stats,
-            crate::opcount::OpsPerPx::default(),
-        );
-        row.metrics.extend(metrics);
-        row.notes.push(
-            "steady-state alpha, beta after 2000 updates vs Kalata (1984) closed form, \
-             q = L^2 in {0.01, 0.1, 1, 10}"
-                .into(),
-        );
-        rows.push(row);
+        metrics.insert(format!("steady_alpha_fixed_q{name}"), fa);
+        metrics.insert(format!("steady_alpha_kalata_q{name}"), ka);
+        metrics.insert(format!("steady_beta_fixed_q{name}"), fb);
+        metrics.insert(format!("steady_beta_kalata_q{name}"), kb);
     }
+    metrics.insert("steady_gain_max_abs_err".into(), worst);
+    metrics.insert("steady_gain_bound".into(), bound);
+    problems
+}
 
-    // Drift warning.
-    {
-        let etas_err: Vec<(f64, f64)> = etas.iter().map(|e| (e.0, e.1)).collect();
-        let outside = etas.iter().filter(|e| !e.2).count();
-        let uncertain = etas.iter().filter(|e| e.3).count();
-        let stats = stats_of(&etas_err);
-        let bound = etas_err.iter().map(|p| p.1).fold(0.0, f64::max);
-        let mut row = KernelReport::from_stats(
-            "track.update/drift_warning",
-            KernelFamily::Track,
-            Contract::Tolerance,
-            bound,
-            &stats,
-            ops,
-        );
-        let m = &mut row.metrics;
-        m.insert("warning_frame_delta".into(), warn_delta as f64);
-        m.insert("warning_mismatch_frames".into(), warn_mismatch as f64);
-        m.insert("warning_frames_to_cross_max_delta".into(), eta_delta as f64);
-        m.insert("eta_samples_outside_range".into(), outside as f64);
-        m.insert("eta_samples_uncertain".into(), uncertain as f64);
-        let rs = ErrorStats::compare(&truth.rho_err, &vec![0.0; truth.rho_err.len()], 1.0);
-        let ts = ErrorStats::compare(&truth.theta_err, &vec![0.0; truth.theta_err.len()], 1.0);
-        m.insert("tracking_error_rho_px_rms".into(), rs.rmse);
-        m.insert("tracking_error_rho_px_max".into(), rs.max_abs);
-        m.insert("tracking_error_theta_deg_rms".into(), ts.rmse);
-        m.insert("tracking_error_theta_deg_max".into(), ts.max_abs);
-        m.insert("frames_lost".into(), truth.frames_lost as f64);
-        m.insert("edge_frames".into(), 2.0 * calls as f64);
-        m.insert(
-            "early_warning_frames".into(),
-            truth.early_warning_frames as f64,
-        );
-        m.insert(
-            "missed_warning_frames".into(),
-            truth.missed_warning_frames as f64,
-        );
-        if let (Some(mn), Some(mx)) = (leads.iter().min(), leads.iter().max()) {
-            m.insert("warning_lead_frames_min".into(), *mn as f64);
-            m.insert("warning_lead_frames_max".into(), *mx as f64);
-        }
-        if let Some(w) = eta_errors.iter().map(|e| e.abs()).max() {
-            m.insert("first_warning_eta_abs_err_frames_max".into(), w as f64);
-        }
-        m.insert("sequences".into(), seqs.len() as f64);
-        row.notes.push(format!(
-            "{} synthetic sequences of 300 frames (drift and theta wrap, misses, occlusion, \
-             dropped frames, clutter); per track and frame, fixed vs f64 frames-to-crossing \
-             (none = horizon + 1) within the range the first-order state bound allows; \
-             tracking errors and warning timing vs truth; not a safety function",
-            seqs.len()
+/// The drift-warning figures of the module docs, into `metrics`; the
+/// failed checks.
+fn warning_figures(m: &Measured, metrics: &mut BTreeMap<String, f64>) -> Vec<String> {
+    let mut problems = Vec::new();
+    let pairs: Vec<(f64, f64)> = m.etas.iter().map(|e| (e.0, e.1)).collect();
+    let outside = m.etas.iter().filter(|e| !e.2).count();
+    let uncertain = m.etas.iter().filter(|e| e.3).count();
+    let eta = stats_of(&pairs);
+    let mut put = |k: &str, v: f64| {
+        metrics.insert(k.into(), v);
+    };
+    put("warning_frame_delta", m.warn_delta as f64);
+    put("warning_mismatch_frames", m.warn_mismatch as f64);
+    put("warning_frames_to_cross_max_delta", m.eta_delta as f64);
+    put("eta_max_abs_err_frames", eta.max_abs);
+    put("eta_bound_frames", max_bound(&pairs));
+    put("eta_samples", pairs.len() as f64);
+    put("eta_samples_outside_range", outside as f64);
+    put("eta_samples_uncertain", uncertain as f64);
+    let t = &m.truth;
+    let rs = ErrorStats::compare(&t.rho_err, &vec![0.0; t.rho_err.len()], 1.0);
+    let ts = ErrorStats::compare(&t.theta_err, &vec![0.0; t.theta_err.len()], 1.0);
+    put("tracking_error_rho_px_rms", rs.rmse);
+    put("tracking_error_rho_px_max", rs.max_abs);
+    put("tracking_error_theta_deg_rms", ts.rmse);
+    put("tracking_error_theta_deg_max", ts.max_abs);
+    put("frames_lost", t.frames_lost as f64);
+    put("edge_frames", 2.0 * m.calls as f64);
+    put("early_warning_frames", t.early_warning_frames as f64);
+    put("missed_warning_frames", t.missed_warning_frames as f64);
+    if let (Some(mn), Some(mx)) = (m.leads.iter().min(), m.leads.iter().max()) {
+        put("warning_lead_frames_min", *mn as f64);
+        put("warning_lead_frames_max", *mx as f64);
+    }
+    if let Some(w) = m.eta_errors.iter().map(|e| e.abs()).max() {
+        put("first_warning_eta_abs_err_frames_max", w as f64);
+    }
+    if outside > 0 {
+        problems.push(format!(
+            "{outside} frames-to-crossing samples outside their allowed range"
         ));
-        if outside > 0 {
-            row.fail(format!(
-                "{outside} frames-to-crossing samples outside their allowed range"
+    }
+    if m.warn_delta != 0 {
+        problems.push(format!(
+            "first warning frame differs by {} (goal 0)",
+            m.warn_delta
+        ));
+    }
+    problems
+}
+
+/// The `track.tracker` row (the scenes are not used: the tracker's input
+/// is lines). Its `max_abs_err` and `bound` are the rho position's (px);
+/// theta, velocity, steady gains and the drift warning are in `metrics`
+/// and fail the row as well (module docs).
+pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
+    let cfg = TrackConfig::DEMO;
+    let seqs = contract_sequences();
+    let m = measure_sequences(cfg, &seqs);
+    let mut row = KernelReport::from_stats(
+        ID,
+        KernelFamily::Track,
+        Contract::Tolerance,
+        max_bound(&m.rho),
+        &stats_of(&m.rho),
+        m.ops.clone().unwrap_or_default(),
+    );
+    let mut problems = m.problems.clone();
+    let (rho_ratio, theta_ratio) = (worst_ratio(&m.rho), worst_ratio(&m.theta));
+    let theta = stats_of(&m.theta);
+    let mt = &mut row.metrics;
+    mt.insert("rho_worst_err_to_bound".into(), rho_ratio);
+    mt.insert("theta_max_abs_err_deg".into(), theta.max_abs);
+    mt.insert("theta_rmse_deg".into(), theta.rmse);
+    mt.insert("theta_bound_deg".into(), max_bound(&m.theta));
+    mt.insert("theta_worst_err_to_bound".into(), theta_ratio);
+    mt.insert("velocity_rho_max_abs_err_px_per_frame".into(), m.vel_rho);
+    mt.insert(
+        "velocity_theta_max_abs_err_deg_per_frame".into(),
+        m.vel_theta,
+    );
+    mt.insert(
+        "decision_mismatch_frames".into(),
+        m.decision_mismatches as f64,
+    );
+    mt.insert("sequences".into(), seqs.len() as f64);
+    problems.extend(steady_gain_figures(mt));
+    problems.extend(warning_figures(&m, mt));
+    for (axis, r) in [("rho", rho_ratio), ("theta", theta_ratio)] {
+        if r > 1.0 {
+            problems.push(format!(
+                "a {axis} sample exceeds its own bound (ratio {r:.3})"
             ));
         }
-        if warn_delta != 0 {
-            row.fail(format!(
-                "first warning frame differs by {warn_delta} (goal 0)"
-            ));
-        }
-        rows.push(row);
     }
-    for r in &mut rows {
-        for p in &problems {
-            r.fail(p.clone());
-        }
+    if m.decision_mismatches > 0 {
+        problems.push(format!(
+            "{} frames with different tracker decisions",
+            m.decision_mismatches
+        ));
     }
-    rows
+    row.notes.push(format!(
+        "fixed vs f64 tracker over {} synthetic sequences of 300 frames (drift and theta wrap, \
+         misses, occlusion, dropped frames, clutter): max_abs_err and bound are the rho \
+         position in px (per-sample first-order rounding bound, max shown), theta_* the same \
+         in degrees; ops are per frame",
+        seqs.len()
+    ));
+    row.notes.push(
+        "steady_*: alpha, beta after 2000 updates vs the Kalata (1984) closed form, \
+         q = L^2 in {0.01, 0.1, 1, 10}"
+            .into(),
+    );
+    row.notes.push(
+        "warning_*, eta_*: per track and frame, fixed vs f64 frames-to-crossing (none = \
+         horizon + 1) within the range the first-order state bound allows; tracking errors \
+         and warning timing vs truth; not a safety function"
+            .into(),
+    );
+    for p in problems {
+        row.fail(p);
+    }
+    vec![row]
 }
 
 // ---------------------------------------------------------------- golden
@@ -1410,13 +1426,13 @@ fn outputs_of(run: &[FixedFrame]) -> Vec<Blob> {
     ]
 }
 
-/// Recomputes a `track.update` vector.
+/// Recomputes a `track.tracker` vector.
 pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
     inputs: &[Blob],
 ) -> Result<Vec<Blob>, String> {
-    if kernel != "track.update" {
+    if kernel != ID {
         return Err(format!("unknown kernel `{kernel}`"));
     }
     let p: Params = parse_params(kernel, params)?;
@@ -1476,7 +1492,7 @@ fn case(id: &str, comment: &str, cfg: &TrackConfig, frames: &[SeqFrame]) -> Gold
     GoldenCase {
         id: id.into(),
         comment: comment.into(),
-        kernel: "track.update".into(),
+        kernel: ID.into(),
         params: params_json(cfg),
         inputs: inputs_of(frames),
         expected,
@@ -1519,7 +1535,7 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
         .collect();
     vec![
         case(
-            "track.update.demo-wrap",
+            "track.tracker.demo-wrap",
             "120 frames of two tape edges drifting toward the reference point while theta \
              passes 0/180 degrees; misses, an occlusion, dropped frame numbers, a shelf edge \
              and clutter",
@@ -1527,7 +1543,7 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
             &demo.frames,
         ),
         case(
-            "track.update.extremes",
+            "track.tracker.extremes",
             "largest process noise and velocity prior, rho at +-(2^17 - 1), any theta, gate \
              wide open, frame gaps up to 300: saturation and wrap rules",
             &extreme,
