@@ -23,7 +23,7 @@
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
-//! | [`track`] | `f64` reference tracker, synthetic sequences, tracker and drift-warning contract |
+//! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
 
 pub mod border;
 pub mod chain;
