@@ -38,6 +38,8 @@ pub enum KernelFamily {
     Pipeline,
     /// Marking selection (`marking.rs`).
     Marking,
+    /// Tape-edge tracker and drift warning (`track.rs`).
+    Track,
 }
 
 impl KernelFamily {
@@ -53,6 +55,7 @@ impl KernelFamily {
             KernelFamily::Chain => "chain",
             KernelFamily::Pipeline => "pipeline",
             KernelFamily::Marking => "marking",
+            KernelFamily::Track => "track",
         }
     }
 }

@@ -26,6 +26,7 @@
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
+//! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
 
 pub mod border;
 pub mod chain;
@@ -49,4 +50,5 @@ pub mod scene;
 pub mod sequence;
 pub mod targets;
 pub mod thinning;
+pub mod track;
 pub mod warp;

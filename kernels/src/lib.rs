@@ -22,6 +22,7 @@
 //! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
 //! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
+//! | [`track`] | constant-velocity Kalman tracking of tape edges, drift warning (not a safety function) |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
@@ -55,6 +56,7 @@ pub mod nms;
 pub mod ops;
 pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 pub use error::{Error, Result};

@@ -255,6 +255,71 @@ mod pipeline_apis {
                     },
                     thinning: [Thinning::Off, Thinning::UntilStable, Thinning::AtMost(cap)][th],
                 }
+mod track_apis {
+    use fixsight::track::{cos_q15, sin_q15, AxisNoise, Detection, TrackConfig, Tracker};
+
+    fn axis() -> impl Strategy<Value = AxisNoise> {
+            prop_oneof![Just(0u32), 1u32..100_000, Just(1 << 24), Just(u32::MAX)],
+            prop_oneof![Just(0u32), 0u32..70_000, Just(1 << 24), Just(u32::MAX)],
+            prop_oneof![Just(0u32), 0u32..1_000_000, Just(1 << 28), Just(u32::MAX)],
+        )
+            .prop_map(|(meas_var, accel_index_q16, init_vel_var_q16)| AxisNoise {
+                meas_var,
+                accel_index_q16,
+                init_vel_var_q16,
+            })
+    }
+
+    fn config() -> impl Strategy<Value = TrackConfig> {
+            axis(),
+            axis(),
+            prop_oneof![Just(0u32), 1u32..5000, Just(u32::MAX)],
+            0u32..200,
+            (prop_oneof![-3000i32..3000, any::<i32>()], -3000i32..3000),
+            prop_oneof![0u16..100, Just(1024u16), Just(u16::MAX)],
+            prop_oneof![0u16..20, Just(u16::MAX)],
+        )
+            .prop_map(
+                |(
+                    rho,
+                    theta,
+                    gate_q8,
+                    confirm_hits,
+                    max_missed,
+                    birth_weight,
+                    reference_q4,
+                    warn_horizon,
+                    warn_min_hits,
+                )| {
+                    TrackConfig {
+                        rho,
+                        theta,
+                        gate_q8,
+                        confirm_hits,
+                        max_missed,
+                        birth_weight,
+                        reference_q4,
+                        warn_horizon,
+                        warn_min_hits,
+                    }
+                },
+            )
+    }
+
+    fn detection() -> impl Strategy<Value = Detection> {
+            prop_oneof![
+                -3000i32..3000,
+                any::<i32>(),
+                Just((1 << 17) - 1),
+                Just(-(1 << 17) + 1)
+            ],
+            any::<u16>(),
+            any::<u32>(),
+        )
+            .prop_map(|(rho_q4, theta, weight)| Detection {
+                rho_q4,
+                theta,
+                weight,
             })
     }
 
@@ -361,6 +426,48 @@ proptest! {
         for c in &lines {
             let _ = marking::column_at_row(c.rho_q4, c.theta, rows.0);
             let _ = marking::sin_cos_q15(c.theta);
+        }
+        #![proptest_config(ProptestConfig::with_cases(128))]
+
+        fn tracker_any_config_frames_and_detections(
+            cfg in config(),
+            calls in prop::collection::vec(
+                (prop_oneof![0u32..4, Just(1000u32), Just(u32::MAX)], prop::collection::vec(detection(), 0..7)),
+                0..40),
+            angles in prop::collection::vec(any::<i32>(), 0..8),
+        ) {
+            for a in angles {
+                let (s, c) = (sin_q15(a), cos_q15(a));
+                prop_assert!(s.abs() <= 32768 && c.abs() <= 32768);
+            }
+            // The same settings brought into range, so every call order is
+            // exercised on a tracker that exists.
+            let mut wide = cfg;
+            for ax in [&mut wide.rho, &mut wide.theta] {
+                ax.meas_var = ax.meas_var.clamp(1, 1 << 24);
+                ax.accel_index_q16 = ax.accel_index_q16.min(1 << 24);
+                ax.init_vel_var_q16 = ax.init_vel_var_q16.min(1 << 28);
+            }
+            wide.confirm_hits = wide.confirm_hits.max(1);
+            wide.gate_q8 = wide.gate_q8.max(1);
+            wide.reference_q4.0 = wide.reference_q4.0.clamp(-(1 << 17) + 1, (1 << 17) - 1);
+            wide.warn_horizon = wide.warn_horizon.min(1024);
+            prop_assert!(Tracker::<3, 5>::new(wide).is_ok());
+            let mut a = Tracker::<3, 5>::new(wide);
+            let mut b = Tracker::<1, 1>::new(cfg);
+            let _ = Tracker::<0, 1>::new(cfg);
+            let _ = Tracker::<1, 0>::new(cfg);
+            let mut frame = 0u32;
+            for (step, dets) in calls {
+                frame = frame.wrapping_add(step);
+                if let Ok(t) = a.as_mut() {
+                    let _ = t.update(frame, &dets);
+                }
+                if let Ok(t) = b.as_mut() {
+                    let _ = t.update(frame, &dets);
+                    let _ = t.tracks().count();
+                }
+            }
         }
     }
 }

@@ -18,6 +18,7 @@ pub mod marking;
 pub mod nms;
 pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 use crate::vectors::{same, served, Elem, ImageSpec, ONLY};
