@@ -221,6 +221,18 @@ pub enum Error {
         /// The code found.
         value: u8,
     },
+    // --- lines (kernels/src/lines.rs) ---
+    /// A point to vote lies outside the voting frame.
+    PointOutside {
+        /// x in Q4 pixels from the top-left pixel centre.
+        x_q4: i32,
+        /// y in Q4 pixels from the top-left pixel centre.
+        y_q4: i32,
+        /// Frame width.
+        width: usize,
+        /// Frame height.
+        height: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -339,6 +351,15 @@ impl fmt::Display for Error {
             Error::BadEdgeCode { x, y, value } => write!(
                 f,
                 "edge code {value} at ({x}, {y}) is not 0 (none), 1 (weak) or 2 (strong)"
+            ),
+            Error::PointOutside {
+                x_q4,
+                y_q4,
+                width,
+                height,
+            } => write!(
+                f,
+                "point ({x_q4}, {y_q4}) (Q4 pixels) lies outside the {width}x{height} voting frame"
             ),
         }
     }
