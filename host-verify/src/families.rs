@@ -29,6 +29,7 @@ pub const FAMILIES: &[Family] = &[
     crate::gradient::FAMILY,
     crate::canny::FAMILY,
     crate::remap::FAMILY,
+    crate::lines::FAMILY,
 ];
 
 /// The family a golden kernel id (`<family>.<kernel>`) belongs to.

@@ -19,8 +19,13 @@
 //! * `gradient.direction` — reference `atan2(gy, gx)` in degrees, folded to
 //!   `[0, 180)`, sector `round(theta / 45) mod 4`. **Bit-exact.**
 //!
+//! * `gradient.angles` — reference `atan2(gy, gx)` folded to `[0, 180)`
+//!   degrees; **tolerance** 0.004881 degrees (derived in the kernel docs);
+//!   its row is built in `crate::lines` (the lines family uses it).
+//!
 //! Golden kernel ids: `gradient.magnitude_l1`, `gradient.magnitude_l2`,
-//! `gradient.magnitude_l2_round` (outputs `mag`, u16), `gradient.direction` (output `dir`, u8); inputs
+//! `gradient.magnitude_l2_round` (outputs `mag`, u16), `gradient.direction` (output `dir`, u8),
+//! `gradient.angles` (output `angle`, u16, 65536 = 180 degrees); inputs
 //! `gx`, `gy` (i16); params `{}`.
 
 use crate::contract::{Contract, KernelFamily, KernelReport};
@@ -324,6 +329,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             "gradient.magnitude_l2",
             "gradient.magnitude_l2_round",
             "gradient.direction",
+            "gradient.angles",
         ] {
             let expected =
                 run_vector(kernel, &json!({}), &inputs).expect("golden inputs are valid");
@@ -384,6 +390,13 @@ pub fn run_vector(
             h,
             1,
             &run_pair(&gx, &gy, w, h, gradient::direction)?,
+        ),
+        "gradient.angles" => Blob::from_u16(
+            "angle",
+            w,
+            h,
+            1,
+            &run_pair(&gx, &gy, w, h, gradient::angles)?,
         ),
         _ => return Err(format!("unknown gradient kernel `{kernel}`")),
     }])

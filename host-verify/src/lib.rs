@@ -20,6 +20,7 @@
 //! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
 //! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
 //! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
+//! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod canny;
 pub mod contract;
@@ -29,6 +30,7 @@ pub mod golden;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod lines;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;

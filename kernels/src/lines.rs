@@ -131,7 +131,7 @@
 //! m(u) = C[u][b-1] + C[u][b] + C[u][b+1]            for u = t-1, t, t+1
 //! c(u) = rho_b + rdiv((C[u][b+1] - C[u][b-1]) << r, m(u))    (rho_b when m(u) = 0)
 //! den  = 2 * (2 m(t) - m(t-1) - m(t+1))
-//! off  = clamp(rdiv((m(t-1) - m(t+1)) << s, den), -2^(s-1), 2^(s-1))   (0 when den <= 0)
+//! off  = clamp(rdiv((m(t+1) - m(t-1)) << s, den), -2^(s-1), 2^(s-1))   (0 when den <= 0)
 //! rho  = c(t) + rdiv((c(u) - c(t)) * |off|, 2^s)   with u = t+1 if off > 0, t-1 if off < 0,
 //!                                                  when that column exists and m(u) > 0; else c(t)
 //! a    = (theta_start + t * 2^s + off) mod 2^17  ->  Line::from_turn(a, rho, C[t][b])
@@ -1351,7 +1351,7 @@ impl<'a> Accumulator<'a> {
         let off = if den <= 0 {
             0
         } else {
-            rdiv((ml - mr) << s, den).clamp(-half, half)
+            rdiv((mr - ml) << s, den).clamp(-half, half)
         };
         let c0 = centroid(ti);
         let u = if off > 0 { ti + 1 } else { ti - 1 };
