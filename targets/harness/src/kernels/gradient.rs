@@ -54,3 +54,15 @@ pub fn direction(
     gradient::direction(&gx, &gy, &mut output(outs, 0)?.u8_mut()?)?;
     Ok(())
 }
+
+/// `gradient.angles`: output `angle` (u16, 65536 = 180 degrees).
+pub fn angles(
+    _p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    _arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
+    gradient::angles(&gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
+    Ok(())
+}

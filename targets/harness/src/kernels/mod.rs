@@ -10,6 +10,7 @@
 pub mod edges;
 pub mod filter;
 pub mod gradient;
+pub mod lines;
 pub mod remap;
 
 use crate::vectors::{Elem, ImageSpec};
