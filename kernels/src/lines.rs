@@ -299,8 +299,8 @@ pub fn cos_sin(a: u32, frac_bits: u32) -> (i16, i16) {
 /// ```
 /// use fixsight::lines::VoteParams;
 /// let p = VoteParams::DEMO_QVGA;
-/// assert_eq!(p.cells(), 64 * 101);
-/// assert_eq!(p.bytes(), 64 * 101 * 2 + 64 * 4); // 13184 bytes: fits 16 KiB
+/// assert_eq!(p.cells(), 32 * 201);
+/// assert_eq!(p.bytes(), 32 * 201 * 2 + 32 * 4); // 12992 bytes: fits 16 KiB
 /// assert!(p.check().is_ok());
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -331,11 +331,14 @@ pub struct VoteParams {
 }
 
 impl VoteParams {
-    /// The demo configuration for 320 x 240: columns every 1.40625 degrees
+    /// The demo configuration for 320 x 240: columns every 2.8125 degrees
     /// over `[135, 225)` degrees (lines within 45 degrees of vertical, as
-    /// floor markings seen by a forward camera), rows every 4 px over
-    /// `-200..=200` px (the half diagonal), Q14 table, gate +-10 degrees
-    /// (3641 units), unit votes. 13184 bytes of cells and table.
+    /// floor markings seen by a forward camera), rows every 2 px over
+    /// `-200..=200` px (the half diagonal), Q14 table, gate +-15 degrees
+    /// (5461 units), unit votes: 32 x 201 cells, 12992 bytes with the
+    /// table. Chosen on the known-line cases of the host tool (rows of 2 px
+    /// keep the two edges of a tape apart; 4 px rows with 1.4 degree
+    /// columns recovered fewer lines in the same memory).
     ///
     /// ```
     /// assert_eq!(fixsight::lines::VoteParams::DEMO_QVGA.theta_start, 49152); // 135 degrees
@@ -344,19 +347,19 @@ impl VoteParams {
         width: 320,
         height: 240,
         theta_start: 49152,
-        theta_step_log2: 9,
-        theta_bins: 64,
-        rho_step_log2: 6,
-        rho_bins: 101,
+        theta_step_log2: 10,
+        theta_bins: 32,
+        rho_step_log2: 5,
+        rho_bins: 201,
         trig_frac_bits: 14,
-        gate: Some(3641),
+        gate: Some(5461),
         weight_shift: None,
     };
 
     /// Cells `T * R`.
     ///
     /// ```
-    /// assert_eq!(fixsight::lines::VoteParams::DEMO_QVGA.cells(), 6464);
+    /// assert_eq!(fixsight::lines::VoteParams::DEMO_QVGA.cells(), 6432);
     /// ```
     pub const fn cells(&self) -> usize {
         self.theta_bins.saturating_mul(self.rho_bins)
@@ -365,7 +368,7 @@ impl VoteParams {
     /// Bytes of caller memory: `2 * T * R` (cells) `+ 4 * T` (table).
     ///
     /// ```
-    /// assert_eq!(fixsight::lines::VoteParams::DEMO_QVGA.bytes(), 13184);
+    /// assert_eq!(fixsight::lines::VoteParams::DEMO_QVGA.bytes(), 12992);
     /// ```
     pub const fn bytes(&self) -> usize {
         self.cells()
@@ -460,7 +463,7 @@ impl VoteParams {
     ///
     /// ```
     /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
-    /// assert_eq!(p.rho_of_row(50), 0);
+    /// assert_eq!(p.rho_of_row(100), 0);
     /// assert_eq!(p.rho_of_row(0), -200 * 16);
     /// ```
     pub fn rho_of_row(&self, b: usize) -> i32 {
@@ -472,9 +475,9 @@ impl VoteParams {
     ///
     /// ```
     /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
-    /// // Column 32 is 135 + 45 = 180 degrees: theta 0 with rho negated.
-    /// assert_eq!(p.line_of_cell(32, 51, 9).theta, 0);
-    /// assert_eq!(p.line_of_cell(32, 51, 9).rho, -64);
+    /// // Column 16 is 135 + 45 = 180 degrees: theta 0 with rho negated.
+    /// assert_eq!(p.line_of_cell(16, 101, 9).theta, 0);
+    /// assert_eq!(p.line_of_cell(16, 101, 9).rho, -32);
     /// ```
     pub fn line_of_cell(&self, t: usize, b: usize, votes: u16) -> Line {
         Line::from_turn(self.column_angle(t), self.rho_of_row(b), votes)
@@ -552,8 +555,8 @@ pub struct PeakParams {
 
 impl PeakParams {
     /// Demo settings for [`VoteParams::DEMO_QVGA`] with unit votes: at
-    /// least 40 points (640 = 40 x 16), suppression over +-2 columns
-    /// (2.8 degrees) and +-1 row (4 px), so the two edges of a tape a few
+    /// least 40 points (640 = 40 x 16), suppression over +-1 column
+    /// (2.8 degrees) and +-1 row (2 px), so the two edges of a tape a few
     /// pixels wide stay apart.
     ///
     /// ```
@@ -561,7 +564,7 @@ impl PeakParams {
     /// ```
     pub const DEMO: PeakParams = PeakParams {
         threshold: 640,
-        radius_theta: 2,
+        radius_theta: 1,
         radius_rho: 1,
     };
 }
@@ -618,7 +621,7 @@ impl<'a> Accumulator<'a> {
     ///
     /// ```
     /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
-    /// assert_eq!(fixsight::lines::Accumulator::cells_needed(&p), 6464);
+    /// assert_eq!(fixsight::lines::Accumulator::cells_needed(&p), 6432);
     /// ```
     pub fn cells_needed(p: &VoteParams) -> usize {
         p.cells()
@@ -631,7 +634,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// use fixsight::lines::{Accumulator, VoteParams};
     /// let p = VoteParams::DEMO_QVGA;
-    /// let (mut cells, mut trig) = (vec![0u16; 10], vec![[0i16; 2]; 64]);
+    /// let (mut cells, mut trig) = (vec![0u16; 10], vec![[0i16; 2]; 32]);
     /// assert!(Accumulator::new(p, &mut cells, &mut trig).is_err());
     /// ```
     pub fn new(p: VoteParams, cells: &'a mut [u16], trig: &'a mut [[i16; 2]]) -> Result<Self> {
@@ -675,7 +678,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// acc.vote_point(0, 0, Some(0), 1)?;
     /// acc.reset();
@@ -695,7 +698,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
     /// assert_eq!(acc.params(), &p);
     /// # Ok::<(), fixsight::Error>(())
@@ -709,9 +712,9 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
-    /// assert_eq!(acc.cells().len(), 6464);
+    /// assert_eq!(acc.cells().len(), 6432);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn cells(&self) -> &[u16] {
@@ -723,9 +726,9 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
-    /// assert_eq!(acc.table()[32], [-16384, 0]); // column 32: 180 degrees
+    /// assert_eq!(acc.table()[16], [-16384, 0]); // column 16: 180 degrees
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn table(&self) -> &[[i16; 2]] {
@@ -737,7 +740,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
     /// assert_eq!(acc.points(), 0);
     /// # Ok::<(), fixsight::Error>(())
@@ -753,10 +756,10 @@ impl<'a> Accumulator<'a> {
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let mut p = VoteParams::DEMO_QVGA;
     /// p.gate = None;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// acc.vote_point(0, 0, None, 1)?;
-    /// assert_eq!(acc.columns(), 64);
+    /// assert_eq!(acc.columns(), 32);
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn columns(&self) -> u32 {
@@ -769,7 +772,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
     /// assert_eq!(acc.skipped(), 0);
     /// # Ok::<(), fixsight::Error>(())
@@ -784,7 +787,7 @@ impl<'a> Accumulator<'a> {
     /// # use fixsight::lines::{Accumulator, EdgeRow, VoteParams};
     /// # let mut p = VoteParams::DEMO_QVGA;
     /// # p.gate = None;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// acc.vote_row(0, &EdgeRow::plain(&[0u8; 320]))?;
     /// assert_eq!(acc.next_row(), 1);
@@ -806,7 +809,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// assert!(acc.vote_point(320 * 16, 0, Some(0), 1).is_err()); // one past the last column
     /// assert!(acc.vote_point(0, 0, None, 1).is_err());           // the demo gates: angle needed
@@ -925,7 +928,7 @@ impl<'a> Accumulator<'a> {
     /// use fixsight::lines::{Accumulator, EdgeRow, VoteParams};
     /// let mut p = VoteParams::DEMO_QVGA;
     /// p.gate = None;
-    /// let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// let mut row = [0u8; 320];
     /// row[10] = 1;
@@ -969,7 +972,7 @@ impl<'a> Accumulator<'a> {
     /// use fixsight::ImageView;
     /// let mut p = VoteParams::DEMO_QVGA;
     /// p.gate = None;
-    /// let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let mut acc = Accumulator::new(p, &mut c, &mut t)?;
     /// let edges = vec![0u8; 320 * 240];
     /// acc.vote_frame(&ImageView::new(&edges, 320, 240, 320)?, None, None)?;
@@ -1248,7 +1251,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, Peak, PeakParams, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
     /// let mut out = [Peak::default(); 4];
     /// assert_eq!(acc.peaks(&PeakParams::DEMO, &mut out)?, 0);
@@ -1324,7 +1327,7 @@ impl<'a> Accumulator<'a> {
     /// ```
     /// # use fixsight::lines::{Accumulator, VoteParams};
     /// # let p = VoteParams::DEMO_QVGA;
-    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 64]);
+    /// # let (mut c, mut t) = (vec![0u16; p.cells()], vec![[0i16; 2]; 32]);
     /// let acc = Accumulator::new(p, &mut c, &mut t)?;
     /// // An empty neighbourhood refines to the cell itself.
     /// assert_eq!(acc.refine(0, 50), p.line_of_cell(0, 50, 0));
@@ -1389,10 +1392,10 @@ fn tally_scan(w: u32, points: u32, gated: bool) {
 ///
 /// ```
 /// use fixsight::lines::{VoteParams, VoteStore};
-/// let mut store: VoteStore<64, 101> = VoteStore::new();
-/// assert_eq!(core::mem::size_of_val(&store), 13184);
+/// let mut store: VoteStore<32, 201> = VoteStore::new();
+/// assert_eq!(core::mem::size_of_val(&store), 12992);
 /// let acc = store.accumulator(VoteParams::DEMO_QVGA)?;
-/// assert_eq!(acc.cells().len(), 6464);
+/// assert_eq!(acc.cells().len(), 6432);
 /// # Ok::<(), fixsight::Error>(())
 /// ```
 #[derive(Debug)]

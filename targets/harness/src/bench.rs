@@ -27,9 +27,9 @@
 //! `remap_dense` (a dense map, F = 5) and `remap_mesh` (the same lens as a
 //! step-16 mesh blob, output in strips of 16 rows); then line voting of
 //! the thinned edges with the chain's gradients in the demo configuration
-//! (`VoteParams::DEMO_QVGA`: 64 columns of 1.4 degrees, 101 rows of 4 px),
-//! `vote_gated` (+-10 degree orientation gate) and `vote_ungated`, whose
-//! `px` is the number of edge points times the 64 columns, so their figure
+//! (`VoteParams::DEMO_QVGA`: 32 columns of 2.8 degrees, 201 rows of 2 px),
+//! `vote_gated` (+-15 degree orientation gate) and `vote_ungated`, whose
+//! `px` is the number of edge points times the 32 columns, so their figure
 //! is instructions per edge point per theta column. Each stage is one
 //! measured call (instruction window and stack painting, like a golden
 //! vector). Every stage uses replicate borders.
@@ -66,7 +66,7 @@ const SLOTS: [(Elem, usize, usize, usize); 15] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
     (Elem::I32, WIDTH, HEIGHT, 2),   // 12 dense map, raw (x, y) per pixel
     (Elem::U8, MESH_BLOB_LEN, 1, 1), // 13 mesh blob
-    (Elem::U16, 101, 64, 1),         // 14 line accumulator (demo: 64 columns x 101 rows)
+    (Elem::U16, 201, 32, 1),         // 14 line accumulator (demo: 32 columns x 201 rows)
 ];
 
 /// One measured stage.
@@ -174,7 +174,7 @@ const MESH: [(&str, Param); 2] = [
 ];
 
 /// The demo line-voting configuration (`VoteParams::DEMO_QVGA`), gated
-/// (+-10 degrees) or not.
+/// (+-15 degrees) or not.
 const fn vote(gate: i64) -> [(&'static str, Param); 10] {
     let d = fixsight::lines::VoteParams::DEMO_QVGA;
     [
@@ -190,7 +190,7 @@ const fn vote(gate: i64) -> [(&'static str, Param); 10] {
         ("weight_shift", Param::Int(-1)),
     ]
 }
-const VOTE_GATED: [(&str, Param); 10] = vote(3641);
+const VOTE_GATED: [(&str, Param); 10] = vote(5461);
 const VOTE_UNGATED: [(&str, Param); 10] = vote(0);
 
 /// The stages in run order (`kernel:` lines are read by `build.rs`).
