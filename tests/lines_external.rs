@@ -105,7 +105,11 @@ fn strongest_line_agrees_with_imageproc() {
             dt = 180.0 - dt;
             dr = (ours_r + best.r as f64).abs();
         }
-        assert!(dt <= 1.7, "t={t}: ours {th:.2} deg, imageproc {}", best.angle_in_degrees);
+        assert!(
+            dt <= 1.7,
+            "t={t}: ours {th:.2} deg, imageproc {}",
+            best.angle_in_degrees
+        );
         assert!(dr <= 1.5, "t={t}: ours r {ours_r:.2}, imageproc {}", best.r);
         // And both are near the drawn line.
         assert!((best.angle_in_degrees as f64 - t).abs() <= 1.0 || t > 179.0);

@@ -240,7 +240,12 @@ pub fn hough_f64(p: &VoteParams, points: &[(f64, f64, f64)]) -> Vec<f64> {
 /// Peaks of a cell array by the kernel's rule (threshold, suppression
 /// neighbourhood with the half-turn wrap, ties by index), strongest first:
 /// `(t, b, value)`.
-pub fn peaks_of(p: &VoteParams, cells: &[f64], pp: &PeakParams, k: usize) -> Vec<(usize, usize, f64)> {
+pub fn peaks_of(
+    p: &VoteParams,
+    cells: &[f64],
+    pp: &PeakParams,
+    k: usize,
+) -> Vec<(usize, usize, f64)> {
     let (tn, r) = (p.theta_bins as i64, p.rho_bins as i64);
     let wraps = (p.theta_bins << p.theta_step_log2) == UNITS_180 as usize;
     let idx = |t: i64, b: i64| -> Option<usize> {
@@ -528,7 +533,10 @@ pub fn known_line(i: usize, w: usize, h: usize, corr: Option<&[(f64, f64)]>) -> 
         }
         for &(bx, by, ba, hl, hw) in &bars {
             let (dx, dy) = (x - bx, y - by);
-            let (u, q) = (dx * ba.cos() + dy * ba.sin(), -dx * ba.sin() + dy * ba.cos());
+            let (u, q) = (
+                dx * ba.cos() + dy * ba.sin(),
+                -dx * ba.sin() + dy * ba.cos(),
+            );
             if u.abs() <= hl && q.abs() <= hw {
                 v = bg + 0.8 * contrast;
             }
@@ -642,8 +650,7 @@ pub fn run_known_lines(n: usize, p: &VoteParams, pp: &PeakParams) -> Result<Know
             gy: &c.gy,
             weights: &[],
         };
-        let run = run_vote(p, &inp, lens.then_some(&grid), pp, 1)
-            .map_err(|e| e.to_string())?;
+        let run = run_vote(p, &inp, lens.then_some(&grid), pp, 1).map_err(|e| e.to_string())?;
         pts += run.points as u64;
         cols += run.columns as u64;
         st.cases += 1;
@@ -931,18 +938,30 @@ fn scene_rows(scenes: &[Scene]) -> Result<Vec<KernelReport>, String> {
     m.insert("columns_per_point_ungated".into(), cpp_u);
     m.insert("ops_per_point_gated".into(), og.total);
     m.insert("ops_per_point_ungated".into(), ou.total);
-    m.insert("ops_per_point_per_column_gated".into(), og.total / cpp_g.max(1e-9));
-    m.insert("ops_per_point_per_column_ungated".into(), ou.total / cpp_u.max(1e-9));
+    m.insert(
+        "ops_per_point_per_column_gated".into(),
+        og.total / cpp_g.max(1e-9),
+    );
+    m.insert(
+        "ops_per_point_per_column_ungated".into(),
+        ou.total / cpp_u.max(1e-9),
+    );
     m.insert("accumulator_bytes".into(), gated.bytes() as f64);
     for p in &stream_bad {
-        vote.fail(format!("{p}: streaming rows differ from the whole-frame call"));
+        vote.fail(format!(
+            "{p}: streaming rows differ from the whole-frame call"
+        ));
     }
     let share = peaks_near as f64 / peaks_total.max(1) as f64;
     let mut peaks = KernelReport {
         name: "lines.peaks".into(),
         family: KernelFamily::Lines,
         contract: Contract::Tolerance,
-        max_abs_err: if peaks_total == 0 { 0.0 } else { worst_bins as f64 },
+        max_abs_err: if peaks_total == 0 {
+            0.0
+        } else {
+            worst_bins as f64
+        },
         bound: 1.0,
         bit_exact_share: share,
         ops_per_px: OpsPerPx::default(),
@@ -1007,7 +1026,8 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
         )],
     };
     r.metrics.insert("grid_rms_px".into(), cg.rms_px);
-    r.metrics.insert("grid_bytes".into(), (cg.points.len() * 4) as f64);
+    r.metrics
+        .insert("grid_bytes".into(), (cg.points.len() * 4) as f64);
     r.metrics
         .insert("lens_turn_max_deg".into(), lens_turn_deg(&cam, &view, w, h));
     if let Some(s) = scenes.iter().find(|s| (s.width, s.height) == (w, h)) {
@@ -1022,8 +1042,9 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
             weights: &[],
         };
         let (plain, o_plain) = measure(1, || run_vote(&ungated, &inp, None, &PeakParams::DEMO, 1));
-        let (corr, o_corr) =
-            measure(1, || run_vote(&ungated, &inp, Some(&grid), &PeakParams::DEMO, 1));
+        let (corr, o_corr) = measure(1, || {
+            run_vote(&ungated, &inp, Some(&grid), &PeakParams::DEMO, 1)
+        });
         let (plain, corr) = (plain.map_err(e)?, corr.map_err(e)?);
         let pts = corr.points.max(1) as f64;
         let point_cost = (o_corr.total - o_plain.total).max(0.0);
@@ -1036,7 +1057,8 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
         });
         r.ops_per_px = scale_ops(&o_corr, 1.0 / pts);
         r.metrics.insert("edge_points".into(), pts);
-        r.metrics.insert("skipped_points".into(), corr.skipped as f64);
+        r.metrics
+            .insert("skipped_points".into(), corr.skipped as f64);
         r.metrics
             .insert("correction_ops_per_frame".into(), point_cost);
         r.metrics.insert("warp_ops_per_frame".into(), o_warp.total);
@@ -1044,8 +1066,7 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
             "warp_over_correction_ops".into(),
             o_warp.total / point_cost.max(1.0),
         );
-        r.metrics
-            .insert("plain_points".into(), plain.points as f64);
+        r.metrics.insert("plain_points".into(), plain.points as f64);
         r.notes.push(format!(
             "cost on scene {}: correcting {} edge points takes {:.0} operations against {:.0} to \
              warp the {}x{} frame through a mesh of the same lens (no frame buffer needed)",
@@ -1360,7 +1381,12 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     };
     let mut v = Vec::new();
     for (tag, p, edges, what) in [
-        ("gated", base, &c.thin, "demo-like window, gate +-10 degrees"),
+        (
+            "gated",
+            base,
+            &c.thin,
+            "demo-like window, gate +-10 degrees",
+        ),
         (
             "ungated",
             VoteParams { gate: None, ..base },
@@ -1532,7 +1558,8 @@ mod tests {
             gate: None,
             weight_shift: None,
         };
-        let cases: [(&dyn Fn(usize, usize) -> bool, u16, i32); 3] = [
+        type OnLine<'a> = &'a dyn Fn(usize, usize) -> bool;
+        let cases: [(OnLine, u16, i32); 3] = [
             (&|_x, y| y == 9, 32768, 3 * 16),
             (&|x, _y| x == 2, 0, -6 * 16),
             (&|x, y| x >= 2 && y + 2 == x, 49152, 0),
@@ -1554,7 +1581,10 @@ mod tests {
             };
             let run = run_vote(&p, &inp, None, &pp, 1).unwrap();
             let l = run.peaks[0].line;
-            assert!(angle_diff_deg(l.theta as f64, theta as f64) < 0.2, "{l:?} vs {theta}");
+            assert!(
+                angle_diff_deg(l.theta as f64, theta as f64) < 0.2,
+                "{l:?} vs {theta}"
+            );
             let flip = (l.theta as i32 - theta as i32).abs() > 32768;
             let want = if flip { -rho } else { rho };
             assert!((l.rho - want).abs() <= 2, "{l:?} vs rho {want}");

@@ -18,14 +18,19 @@ const H: usize = 240;
 
 fn frame() -> Vec<u8> {
     let mut s = 0x5EED_1234u64;
-    let stripes = [(170.0f64, -40.0f64), (12.0, 60.0), (150.0, 20.0), (95.0, -70.0)];
+    let stripes = [
+        (170.0f64, -40.0f64),
+        (12.0, 60.0),
+        (150.0, 20.0),
+        (95.0, -70.0),
+    ];
     let mut img = vec![0u8; W * H];
     for y in 0..H {
         for x in 0..W {
             let (xr, yr) = (x as f64 - 160.0, y as f64 - 120.0);
             let mut v = 90.0;
             for &(t, r) in &stripes {
-                let (sn, c) = (t as f64).to_radians().sin_cos();
+                let (sn, c) = t.to_radians().sin_cos();
                 if (xr * c + yr * sn - r).abs() < 2.0 {
                     v = 190.0;
                 }
@@ -40,6 +45,10 @@ fn frame() -> Vec<u8> {
     img
 }
 
+fn v(b: &[u8]) -> ImageView<'_, u8> {
+    ImageView::new(b, W, H, W).unwrap()
+}
+
 fn best_of<F: FnMut()>(runs: usize, mut f: F) -> f64 {
     (0..runs)
         .map(|_| {
@@ -52,18 +61,29 @@ fn best_of<F: FnMut()>(runs: usize, mut f: F) -> f64 {
 
 fn main() {
     let img = frame();
-    let v = |b: &[u8]| ImageView::new(b, W, H, W).unwrap();
     let mut smooth = vec![0u8; W * H];
     let (mut gx, mut gy) = (vec![0i16; W * H], vec![0i16; W * H]);
     let mut scratch = vec![0i32; W];
     binomial5(Border::Replicate)
-        .apply(&v(&img), &mut ImageViewMut::new(&mut smooth, W, H, W).unwrap(), &mut scratch)
+        .apply(
+            &v(&img),
+            &mut ImageViewMut::new(&mut smooth, W, H, W).unwrap(),
+            &mut scratch,
+        )
         .unwrap();
     sobel_x(Border::Replicate)
-        .apply(&v(&smooth), &mut ImageViewMut::new(&mut gx, W, H, W).unwrap(), &mut scratch)
+        .apply(
+            &v(&smooth),
+            &mut ImageViewMut::new(&mut gx, W, H, W).unwrap(),
+            &mut scratch,
+        )
         .unwrap();
     sobel_y(Border::Replicate)
-        .apply(&v(&smooth), &mut ImageViewMut::new(&mut gy, W, H, W).unwrap(), &mut scratch)
+        .apply(
+            &v(&smooth),
+            &mut ImageViewMut::new(&mut gy, W, H, W).unwrap(),
+            &mut scratch,
+        )
         .unwrap();
     let (mut mag, mut dir, mut sup) = (vec![0u16; W * H], vec![0u8; W * H], vec![0u16; W * H]);
     let vx = ImageView::new(&gx, W, H, W).unwrap();
@@ -77,7 +97,10 @@ fn main() {
         &mut ImageViewMut::new(&mut sup, W, H, W).unwrap(),
     )
     .unwrap();
-    let edges: Vec<u8> = sup.iter().map(|&m| if m >= 120 { 255 } else { 0 }).collect();
+    let edges: Vec<u8> = sup
+        .iter()
+        .map(|&m| if m >= 120 { 255 } else { 0 })
+        .collect();
     let npts = edges.iter().filter(|&&e| e != 0).count();
     println!("frame {W}x{H}, {npts} edge points");
 
@@ -137,7 +160,9 @@ fn main() {
         (2 * rmax + 1) * 180 * 4
     );
 
-    println!("\naccumulator bytes (u16 cells + 4-byte table per column), rows cover the half diagonal:");
+    println!(
+        "\naccumulator bytes (u16 cells + 4-byte table per column), rows cover the half diagonal:"
+    );
     println!("| frame | window | theta step | rho step | columns x rows | bytes |");
     println!("|---|---|---|---|---|---|");
     for (w, h) in [(320usize, 240usize), (640, 480)] {
@@ -146,7 +171,7 @@ fn main() {
             for r in [4u32, 5, 6] {
                 let step_px = (1u32 << r) as f64 / 16.0;
                 let rows = 2 * (half / step_px).ceil() as usize + 1;
-                let cols = ((window as usize * 65536 / 180) >> s) as usize;
+                let cols = (window as usize * 65536 / 180) >> s;
                 let p = VoteParams {
                     width: w,
                     height: h,

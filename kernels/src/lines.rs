@@ -415,8 +415,7 @@ impl VoteParams {
         if !(4..=14).contains(&self.theta_step_log2) {
             return bad("theta_step_log2", "4..=14", self.theta_step_log2 as i64);
         }
-        if self.theta_bins == 0 || self.theta_bins > (UNITS_180 as usize >> self.theta_step_log2)
-        {
+        if self.theta_bins == 0 || self.theta_bins > (UNITS_180 as usize >> self.theta_step_log2) {
             return bad(
                 "theta_bins",
                 "1..=65536 >> theta_step_log2 (a window of at most 180 degrees)",
@@ -867,7 +866,8 @@ impl<'a> Accumulator<'a> {
     fn check_row(&self, y: usize, row: &EdgeRow<'_>, width: usize) -> Result<()> {
         if y != self.next_row {
             return Err(Error::StreamOrder {
-                reason: "edge rows must be voted in order 0, 1, ..., height - 1 (reset starts a frame)",
+                reason:
+                    "edge rows must be voted in order 0, 1, ..., height - 1 (reset starts a frame)",
             });
         }
         if row.edges.len() < width {
@@ -1013,7 +1013,12 @@ impl<'a> Accumulator<'a> {
             check("gy vs vote frame", gy.width(), gy.height(), gy.channels())?;
         }
         if let Some(wv) = weights {
-            check("weights vs vote frame", wv.width(), wv.height(), wv.channels())?;
+            check(
+                "weights vs vote frame",
+                wv.width(),
+                wv.height(),
+                wv.channels(),
+            )?;
         }
         for y in 0..self.p.height {
             let row = EdgeRow {
@@ -1163,7 +1168,7 @@ impl<'a> Accumulator<'a> {
         }
         let r = self.p.rho_bins;
         let sh = self.p.rho_step_log2 + self.p.trig_frac_bits;
-        let off = (((r as i32) - 1) / 2 << sh) + (1 << (sh - 5));
+        let off = ((((r as i32) - 1) / 2) << sh) + (1 << (sh - 5));
         let (lo_w, hi_w) = (16 * w, w);
         for t in t0..t1 {
             let [c, s] = self.trig[t];
@@ -1589,7 +1594,9 @@ pub fn segments(
         })
     };
     let cross = |i: usize| base + i as i64 * d;
-    let q4 = |jj: i64| (16 * oj + ((jj + (1 << 11)) >> 12)).clamp(i32::MIN as i64, i32::MAX as i64) as i32;
+    let q4 = |jj: i64| {
+        (16 * oj + ((jj + (1 << 11)) >> 12)).clamp(i32::MIN as i64, i32::MAX as i64) as i32
+    };
     let mut n = 0usize;
     // (first step, last hit step, hits) of the open run.
     let mut run: Option<(usize, usize, u16)> = None;
@@ -1598,9 +1605,21 @@ pub fn segments(
             let (a, b) = (cross(first), cross(last));
             let (fi, li) = (16 * first as i32, 16 * last as i32);
             out[*n] = if along_x {
-                Segment { x0: fi, y0: q4(a), x1: li, y1: q4(b), hits }
+                Segment {
+                    x0: fi,
+                    y0: q4(a),
+                    x1: li,
+                    y1: q4(b),
+                    hits,
+                }
             } else {
-                Segment { x0: q4(a), y0: fi, x1: q4(b), y1: li, hits }
+                Segment {
+                    x0: q4(a),
+                    y0: fi,
+                    x1: q4(b),
+                    y1: li,
+                    hits,
+                }
             };
             *n += 1;
         }

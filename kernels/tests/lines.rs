@@ -237,7 +237,8 @@ fn gated_votes_are_fewer_and_hit_the_right_column() {
     let mut cells = vec![0u16; p.cells()];
     let mut trig = vec![[0i16; 2]; 64];
     let mut acc = Accumulator::new(p, &mut cells, &mut trig).unwrap();
-    acc.vote_point(16 * 3, 16 * 5, Some(angle(100, 0)), 1).unwrap();
+    acc.vote_point(16 * 3, 16 * 5, Some(angle(100, 0)), 1)
+        .unwrap();
     // Columns at 0 and +-1024 (within 1500 of 0), and 63 * 1024 = 180 - 1024.
     assert_eq!(acc.columns(), 3);
     let voted: Vec<usize> = (0..64)
@@ -258,7 +259,10 @@ fn trig_table_lies_on_the_unit_circle() {
     for a in (0..(1u32 << 17)).step_by(7) {
         let (c, s) = cos_sin(a, 14);
         let r2 = (c as i64).pow(2) + (s as i64).pow(2);
-        assert!((16383i64.pow(2)..=16385i64.pow(2)).contains(&r2), "{a}: {c} {s}");
+        assert!(
+            (16383i64.pow(2)..=16385i64.pow(2)).contains(&r2),
+            "{a}: {c} {s}"
+        );
     }
     // Symmetries of the reduction: a + 180 degrees negates both.
     for a in (0..65536u32).step_by(13) {
@@ -332,7 +336,10 @@ fn bad_input_gives_typed_errors() {
             ..p
         },
     ] {
-        assert!(Accumulator::new(bad, &mut cells, &mut trig).is_err(), "{bad:?}");
+        assert!(
+            Accumulator::new(bad, &mut cells, &mut trig).is_err(),
+            "{bad:?}"
+        );
     }
     let mut acc = Accumulator::new(p, &mut cells, &mut trig).unwrap();
     assert!(matches!(

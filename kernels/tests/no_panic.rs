@@ -270,7 +270,8 @@ mod lines_no_panic {
                 let _ = acc.refine(t.min(p.theta_bins - 1), 0);
             }
             let e = vec![1u8; p.width.min(24) * p.height.min(24)];
-            let v = ImageView::new(&e, p.width.min(24).max(1), p.height.min(24).max(1), p.width.min(24).max(1));
+            let (vw, vh) = (p.width.clamp(1, 24), p.height.clamp(1, 24));
+            let v = ImageView::new(&e, vw, vh, vw);
             if let Ok(v) = v {
                 let _ = acc.vote_frame(&v, None, None);
             }

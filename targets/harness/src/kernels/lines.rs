@@ -67,7 +67,11 @@ fn vote<'c>(
     let e = input(ins, 0)?;
     let h = e.height;
     let ev = e.u8()?;
-    let (gx, gy, wt) = (input(ins, 1)?.i16()?, input(ins, 2)?.i16()?, input(ins, 3)?.u16()?);
+    let (gx, gy, wt) = (
+        input(ins, 1)?.i16()?,
+        input(ins, 2)?.i16()?,
+        input(ins, 3)?.u16()?,
+    );
     match grid {
         None => {
             let g = vp.gate.map(|_| (&gx, &gy));
@@ -155,9 +159,7 @@ pub fn peaks(
     if k == 0 || k > MAX_K {
         return Err(Fail::Param("k"));
     }
-    let cells = arena
-        .u16s(vp.cells())
-        .ok_or(Fail::Harness("arena full"))?;
+    let cells = arena.u16s(vp.cells()).ok_or(Fail::Harness("arena full"))?;
     let mut trig = [[0i16; 2]; MAX_T];
     let acc = vote(vp, ins, cells, &mut trig, None)?;
     let pp = PeakParams {
