@@ -64,21 +64,21 @@ fn main() {
     let mut smooth = vec![0u8; W * H];
     let (mut gx, mut gy) = (vec![0i16; W * H], vec![0i16; W * H]);
     let mut scratch = vec![0i32; W];
-    binomial5(Border::Replicate)
+    binomial5(Border::Clamp)
         .apply(
             &v(&img),
             &mut ImageViewMut::new(&mut smooth, W, H, W).unwrap(),
             &mut scratch,
         )
         .unwrap();
-    sobel_x(Border::Replicate)
+    sobel_x(Border::Clamp)
         .apply(
             &v(&smooth),
             &mut ImageViewMut::new(&mut gx, W, H, W).unwrap(),
             &mut scratch,
         )
         .unwrap();
-    sobel_y(Border::Replicate)
+    sobel_y(Border::Clamp)
         .apply(
             &v(&smooth),
             &mut ImageViewMut::new(&mut gy, W, H, W).unwrap(),

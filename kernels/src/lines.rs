@@ -96,11 +96,11 @@
 //! # Lens-corrected points
 //!
 //! [`Accumulator::vote_row_corrected`] takes rows of the raw (distorted)
-//! edge map and a control grid ([`crate::remap::MeshTable`]) **over the
+//! edge map and a control grid ([`crate::warp::ControlGrid`]) **over the
 //! source image** whose points hold corrected coordinates: the grid's
 //! output size is the source frame, its source size the corrected
 //! (voting) frame. Each edge pixel `(x, y)` becomes the grid's coordinate
-//! [`MeshTable::coord`](crate::remap::MeshTable::coord) (the exact
+//! [`ControlGrid::coord`](crate::warp::ControlGrid::coord) (the exact
 //! bilinear interpolation of its cell's four points, rounded half up to
 //! `F` fractional bits), then Q4: `round_shift(c, F - 4)` for `F >= 4`,
 //! `c << (4 - F)` below. Points that land outside the corrected frame are
@@ -174,7 +174,7 @@ use crate::error::{Error, Result};
 use crate::gradient::{self, CORDIC_ATAN};
 use crate::image::ImageView;
 use crate::ops::{tally, Op};
-use crate::remap::MeshTable;
+use crate::warp::ControlGrid;
 
 /// Binary-angle units of a full turn (`2^17` = 360 degrees).
 pub const UNITS_360: u32 = 1 << 17;
@@ -1041,12 +1041,12 @@ impl<'a> Accumulator<'a> {
     ///
     /// ```
     /// use fixsight::lines::{Accumulator, EdgeRow, VoteParams};
-    /// use fixsight::remap::{MeshTable, RemapGeometry};
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
     /// // Identity grid over an 8 x 8 raw frame, 4 fractional bits.
-    /// let g = RemapGeometry::new(8, 8, 8, 8, 4)?;
+    /// let g = WarpGeometry::new(8, 8, 8, 8, 4)?;
     /// let s = 4 * 16;
     /// let pts = [0, 0, s, 0, 2 * s, 0, 0, s, s, s, 2 * s, s, 0, 2 * s, s, 2 * s, 2 * s, 2 * s];
-    /// let grid = MeshTable::new(&pts, g, 2)?;
+    /// let grid = ControlGrid::new(&pts, g, 2)?;
     /// let p = VoteParams { width: 8, height: 8, theta_start: 0, theta_step_log2: 12,
     ///     theta_bins: 16, rho_step_log2: 4, rho_bins: 13, trig_frac_bits: 14,
     ///     gate: None, weight_shift: None };
@@ -1061,7 +1061,7 @@ impl<'a> Accumulator<'a> {
         &mut self,
         y: usize,
         row: &EdgeRow<'_>,
-        grid: &MeshTable<'_>,
+        grid: &ControlGrid<'_>,
     ) -> Result<()> {
         let g = grid.geometry();
         if (g.src_width(), g.src_height()) != (self.p.width, self.p.height) {

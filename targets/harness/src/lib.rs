@@ -163,7 +163,7 @@ impl Write for Console {
 }
 
 /// Arena for inputs, outputs and scratch: 2.5 MiB, enough for the QVGA
-/// bench images (1.9 MiB with the 614 KiB dense remap map) and the largest
+/// bench images (1.9 MiB with the 614 KiB dense warp map) and the largest
 /// golden vector.
 const ARENA_WORDS: usize = 640 * 1024;
 static mut ARENA: [u32; ARENA_WORDS] = [0; ARENA_WORDS];

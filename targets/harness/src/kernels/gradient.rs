@@ -18,8 +18,8 @@ pub fn magnitude_l1(
     Ok(())
 }
 
-/// `gradient.magnitude_l2`: output `mag` (u16), alpha-max-plus-beta-min.
-pub fn magnitude_l2(
+/// `gradient.magnitude_l2_approx`: output `mag` (u16), alpha-max-plus-beta-min.
+pub fn magnitude_l2_approx(
     _p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],

@@ -3,6 +3,7 @@
 //!
 //! | id | inputs | outputs |
 //! |---|---|---|
+//! | `lines.cos_sin` | `angles` u32 | `cs` i16, 2 channels |
 //! | `lines.vote_frame` | `edges` u8, `gx`, `gy` i16, `weights` u16 | `cells` u16 (`R x T`) |
 //! | `lines.vote_row_corrected` | the same and `grid` i32 (2 channels) | `cells` u16 |
 //! | `lines.peaks` | as `lines.vote_frame` | `peaks` i32 `5 x k` |
@@ -21,7 +22,7 @@ use fixsight::lines::{
     segments as walk, Accumulator, EdgeRow, Line, Peak, PeakParams, Segment, SegmentParams,
     VoteParams,
 };
-use fixsight::remap::{MeshTable, RemapGeometry};
+use fixsight::warp::{ControlGrid, WarpGeometry};
 use fixsight::ImageView;
 
 /// Largest `k` the harness serves (stack arrays).
@@ -58,7 +59,7 @@ fn vote<'c>(
     ins: &[Img<'_>],
     cells: &'c mut [u16],
     trig: &'c mut [[i16; 2]; MAX_T],
-    grid: Option<&MeshTable<'_>>,
+    grid: Option<&ControlGrid<'_>>,
 ) -> Result<Accumulator<'c>, Fail> {
     if vp.theta_bins > MAX_T {
         return Err(Fail::Param("theta_bins"));
@@ -127,8 +128,8 @@ pub fn vote_row_corrected(
         Buf::I32(d) => &d[..],
         _ => return Err(Fail::Harness("grid must be i32")),
     };
-    let geom = RemapGeometry::new(e.width, e.height, vp.width, vp.height, int(p, "frac_bits")?)?;
-    let grid = MeshTable::new(pts, geom, int(p, "grid_log2")?)?;
+    let geom = WarpGeometry::new(e.width, e.height, vp.width, vp.height, int(p, "frac_bits")?)?;
+    let grid = ControlGrid::new(pts, geom, int(p, "grid_log2")?)?;
     let mut trig = [[0i16; 2]; MAX_T];
     vote(vp, ins, cells_of(outs)?, &mut trig, Some(&grid))?;
     Ok(())
@@ -212,4 +213,29 @@ pub fn segments(
         *r = [s.x0, s.y0, s.x1, s.y1, s.hits as i32];
     }
     write_rows(outs, &rows[..n], k)
+}
+
+/// `lines.cos_sin`: `(cos, sin)` of every input angle in Q`frac_bits`.
+pub fn cos_sin(
+    p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    _arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    let q: u32 = int(p, "frac_bits")?;
+    let angles = match &input(ins, 0)?.buf {
+        Buf::U32(a) => &a[..],
+        _ => return Err(Fail::Harness("angles must be u32")),
+    };
+    match &mut output(outs, 0)?.buf {
+        Buf::I16(o) if o.len() == 2 * angles.len() => {
+            for (d, &a) in o.chunks_exact_mut(2).zip(angles) {
+                let (c, s) = fixsight::lines::cos_sin(a, q);
+                d[0] = c;
+                d[1] = s;
+            }
+            Ok(())
+        }
+        _ => Err(Fail::Harness("output must be i16, 2 per angle")),
+    }
 }

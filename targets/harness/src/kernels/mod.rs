@@ -7,11 +7,15 @@
 //! <family>;` below, write one function per kernel with the [`RunFn`]
 //! signature, and (optionally) a QVGA entry in `src/bench.rs`.
 
-pub mod edges;
+pub mod chain;
 pub mod filter;
 pub mod gradient;
+pub mod hysteresis;
 pub mod lines;
-pub mod remap;
+pub mod nms;
+pub mod pipeline;
+pub mod thinning;
+pub mod warp;
 
 use crate::vectors::{Elem, ImageSpec};
 use core::fmt;
@@ -377,4 +381,27 @@ pub fn input<'r, 'a>(ins: &'r [Img<'a>], i: usize) -> Result<&'r Img<'a>, Fail> 
 pub fn output<'r, 'a>(outs: &'r mut [Img<'a>], i: usize) -> Result<&'r mut Img<'a>, Fail> {
     outs.get_mut(i)
         .ok_or(Fail::Harness("too few output images"))
+}
+
+/// An integer parameter converted to `T`.
+pub(crate) fn int<T: TryFrom<i64>>(p: &Params, key: &'static str) -> Result<T, Fail> {
+    T::try_from(p.int(key)?).map_err(|_| Fail::Param(key))
+}
+
+/// Copies input 0 into output 0 (same shape, u8), unless there is no input.
+pub(crate) fn copy_in(ins: &[Img<'_>], outs: &mut [Img<'_>]) -> Result<(), Fail> {
+    let Some(src) = ins.first() else {
+        return Ok(());
+    };
+    let dst = output(outs, 0)?;
+    if (src.width, src.height, src.channels) != (dst.width, dst.height, dst.channels) {
+        return Err(Fail::Harness("input and output differ in shape"));
+    }
+    match (&src.buf, &mut dst.buf) {
+        (Buf::U8(s), Buf::U8(d)) if s.len() == d.len() => {
+            d.copy_from_slice(s);
+            Ok(())
+        }
+        _ => Err(Fail::Harness("input and output must be u8 of one size")),
+    }
 }
