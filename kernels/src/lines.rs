@@ -1080,29 +1080,20 @@ impl<'a> Accumulator<'a> {
             });
         }
         self.check_row(y, row, w)?;
-        let f = g.frac_bits();
         let (ox, oy) = self.origin_q4();
         let (xm, ym) = (
             (self.p.width as i32 - 1) * 16,
             (self.p.height as i32 - 1) * 16,
         );
-        let to_q4 = |c: i32| {
-            if f >= 4 {
-                round_shift(c, f - 4)
-            } else {
-                c << (4 - f)
-            }
-        };
         let mut seen = 0u32;
         for x in 0..w {
             if row.edges[x] == 0 {
                 continue;
             }
             seen += 1;
-            let Some((cx, cy)) = grid.coord(x, y) else {
+            let Some((x4, y4)) = correct_point(grid, x, y) else {
                 continue;
             };
-            let (x4, y4) = (to_q4(cx), to_q4(cy));
             if !(0..=xm).contains(&x4) || !(0..=ym).contains(&y4) {
                 self.skipped = self.skipped.saturating_add(1);
                 continue;
@@ -1376,6 +1367,36 @@ impl<'a> Accumulator<'a> {
             votes,
         )
     }
+}
+
+/// The corrected position of raw pixel `(x, y)` through a correction grid
+/// (module docs, "Lens-corrected points"): the grid's coordinate
+/// ([`ControlGrid::coord`], `F` fractional bits) converted to Q4 pixels,
+/// `round_shift(c, F - 4)` for `F >= 4`, else `c << (4 - F)`. `None` when
+/// `(x, y)` lies outside the grid's output (the raw frame).
+///
+/// ```
+/// use fixsight::lines::correct_point;
+/// use fixsight::warp::{ControlGrid, WarpGeometry};
+/// // A grid that shifts every point by (+1.5, -0.25) px (F = 2).
+/// let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+/// let (dx, dy) = (6, -1);
+/// let pts = [dx, dy, 32 + dx, dy, dx, 32 + dy, 32 + dx, 32 + dy];
+/// let grid = ControlGrid::new(&pts, g, 3)?;
+/// assert_eq!(correct_point(&grid, 2, 3), Some((16 * 2 + 24, 16 * 3 - 4)));
+/// assert_eq!(correct_point(&grid, 8, 0), None);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn correct_point(grid: &ControlGrid<'_>, x: usize, y: usize) -> Option<(i32, i32)> {
+    let f = grid.geometry().frac_bits();
+    let to_q4 = |c: i32| {
+        if f >= 4 {
+            round_shift(c, f - 4)
+        } else {
+            c << (4 - f)
+        }
+    };
+    grid.coord(x, y).map(|(cx, cy)| (to_q4(cx), to_q4(cy)))
 }
 
 /// Counts the scan of one row: a load, a test and a branch per pixel, and

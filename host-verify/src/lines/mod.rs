@@ -11,12 +11,12 @@
 //! * [`model_cells`]: the accumulator's documented integer model
 //!   transcribed in `i64`, one point and one column at a time, the gate
 //!   tested by the signed angle difference of every column (not by the
-//!   kernel's interval arithmetic). Contract `lines.vote_frame`:
+//!   kernel's interval arithmetic). Contract `lines.accumulator`:
 //!   **bit-exact**, on the edge maps of the demo scenes, streaming and
 //!   whole-frame.
 //! * [`hough_f64`]: the same bins in `f64`: exact `cos`/`sin`, exact `rho`,
 //!   the vote split linearly between the two rows around it, the gate
-//!   by `f64` `atan2`; peaks by the kernel's rule. Contract `lines.peaks`:
+//!   by `f64` `atan2`; peaks by the kernel's rule. Contract `lines.peak`:
 //!   every kernel peak within +-1 bin (column and row) of an `f64` peak.
 //! * The trigonometric table against `f64` `cos`/`sin` at every binary
 //!   angle: within `0.5 + 2^(q-22)` LSB (`lines.cos_sin`).
@@ -60,20 +60,20 @@
 //! | id | inputs | params | outputs |
 //! |---|---|---|---|
 //! | `lines.cos_sin` | `angles` u32 (binary, `2^17` per turn) | `frac_bits` | `cs` i16, 2 channels (cos, sin) |
-//! | `lines.vote_frame` | `edges` u8, `gx`, `gy` i16, `weights` u16 | [`VoteParamsJson`] | `cells` u16, `R x T` (row `t` = column `t`) |
-//! | `lines.vote_row_corrected` | `edges` u8, `gx`, `gy` i16, `weights` u16, `grid` i32 (2 channels, `cols x rows`) | [`VoteParamsJson`] plus `grid_log2`, `frac_bits` | `cells` u16 |
-//! | `lines.peaks` | as `lines.vote_frame` | [`VoteParamsJson`] plus `threshold`, `radius_theta`, `radius_rho`, `k` | `peaks` i32, `5 x k` (theta_bin, rho_bin, votes, rho, theta; zero rows after the last) |
+//! | `lines.accumulator` | `edges` u8, `gx`, `gy` i16, `weights` u16 | [`VoteParamsJson`] | `cells` u16, `R x T` (row `t` = column `t`) |
+//! | `lines.correct_point` | `edges` u8, `gx`, `gy` i16, `weights` u16, `grid` i32 (2 channels, `cols x rows`) | [`VoteParamsJson`] plus `grid_log2`, `frac_bits` | `cells` u16 |
+//! | `lines.peak` | as `lines.accumulator` | [`VoteParamsJson`] plus `threshold`, `radius_theta`, `radius_rho`, `k` | `peaks` i32, `5 x k` (theta_bin, rho_bin, votes, rho, theta; zero rows after the last) |
 //! | `lines.segments` | `edges` u8 | `rho`, `theta`, `min_length`, `max_gap`, `tolerance`, `k` | `segments` i32, `5 x k` (x0, y0, x1, y1, hits; zero rows after the last) |
 
-use crate::edge_chain as canny;
 use crate::contract::{Contract, KernelFamily, KernelReport};
+use crate::edge_chain as canny;
 use crate::family::{input, parse_params, Family};
 use crate::golden::{Blob, GoldenCase};
 use crate::lens::{Camera, Intrinsics};
 use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
-use crate::warp::reference::quantise;
 use crate::scene::{demo_camera, Scene};
+use crate::warp::reference::quantise;
 use fixsight::gradient;
 use fixsight::lines::{
     cos_sin, segments, Accumulator, EdgeRow, Line, Peak, PeakParams, Segment, SegmentParams,
@@ -93,9 +93,9 @@ pub const FAMILY: Family = Family {
     name: "lines",
     kernels: &[
         "lines.cos_sin",
-        "lines.vote_frame",
-        "lines.peaks",
-        "lines.vote_row_corrected",
+        "lines.accumulator",
+        "lines.peak",
+        "lines.correct_point",
         "lines.segments",
     ],
     composed_on_host: false,
@@ -932,7 +932,7 @@ fn scene_rows(scenes: &[Scene]) -> Result<Vec<KernelReport>, String> {
     };
     let (og, ou) = (per_point(&ops_g), per_point(&ops_u));
     let mut vote = KernelReport::from_stats(
-        "lines.vote_frame",
+        "lines.accumulator",
         KernelFamily::Lines,
         Contract::BitExact,
         0.0,
@@ -969,7 +969,7 @@ fn scene_rows(scenes: &[Scene]) -> Result<Vec<KernelReport>, String> {
     }
     let share = peaks_near as f64 / peaks_total.max(1) as f64;
     let mut peaks = KernelReport {
-        name: "lines.peaks".into(),
+        name: "lines.peak".into(),
         family: KernelFamily::Lines,
         contract: Contract::Tolerance,
         max_abs_err: if peaks_total == 0 {
@@ -1023,7 +1023,7 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
     // grid, budgeted at 0.25 px (a quarter of the 1 px goal).
     let bound = 0.25;
     let mut r = KernelReport {
-        name: "lines.vote_row_corrected".into(),
+        name: "lines.correct_point".into(),
         family: KernelFamily::Lines,
         contract: Contract::Tolerance,
         max_abs_err: cg.max_px,
@@ -1068,7 +1068,13 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
         let mb = crate::warp::grid::build_grid(&cam, &view, wg, GRID_LOG2)?;
         let warp_grid = ControlGrid::new(&mb.points, wg, GRID_LOG2).map_err(e)?;
         let (_, o_warp) = measure(1, || {
-            crate::warp::run::run_grid(&warp_grid, &s.gray, 1, fixsight::filter::Border::Clamp, None)
+            crate::warp::run::run_grid(
+                &warp_grid,
+                &s.gray,
+                1,
+                fixsight::filter::Border::Clamp,
+                None,
+            )
         });
         r.ops_per_px = scale_ops(&o_corr, 1.0 / pts);
         r.metrics.insert("edge_points".into(), pts);
@@ -1091,7 +1097,7 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
     Ok(r)
 }
 
-/// Adds the known-line figures to the `lines.peaks` row (module docs).
+/// Adds the known-line figures to the `lines.peak` row (module docs).
 fn add_known(r: &mut KernelReport, n: usize) -> Result<(), String> {
     let p = VoteParams::DEMO_QVGA;
     let st = run_known_lines(n, &p, &PeakParams::DEMO)?;
@@ -1160,7 +1166,11 @@ pub fn model_segments(
             let jc = oj + ((cross(i) + (1 << 15)) >> 16);
             (jc - tol..=jc + tol).any(|j| {
                 (0..n_j as i64).contains(&j) && {
-                    let (x, y) = if along_x { (i, j as usize) } else { (j as usize, i) };
+                    let (x, y) = if along_x {
+                        (i, j as usize)
+                    } else {
+                        (j as usize, i)
+                    };
                     edges[y * w + x] != 0
                 }
             })
@@ -1205,7 +1215,10 @@ fn segments_row(scenes: &[Scene]) -> Result<KernelReport, String> {
     let (mut a, mut b) = (Vec::new(), Vec::new());
     let mut found = 0usize;
     let mut ops = OpsPerPx::default();
-    for s in scenes.iter().filter(|s| (s.width, s.height) == (p.width, p.height)) {
+    for s in scenes
+        .iter()
+        .filter(|s| (s.width, s.height) == (p.width, p.height))
+    {
         let c = canny::run_chain(&s.gray, s.width, s.height, &canny::DEMO)?;
         let inp = EdgeInput {
             w: c.w,
@@ -1283,22 +1296,22 @@ pub struct VoteParamsJson {
     pub gate: u16,
     /// Weight shift, -1 for unit votes.
     pub weight_shift: i32,
-    /// Grid step log2 (`lines.vote_row_corrected` only).
+    /// Grid step log2 (`lines.correct_point` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub grid_log2: Option<u32>,
-    /// Grid fractional bits (`lines.vote_row_corrected` only).
+    /// Grid fractional bits (`lines.correct_point` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub frac_bits: Option<u32>,
-    /// Peak threshold (`lines.peaks` only).
+    /// Peak threshold (`lines.peak` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub threshold: Option<u16>,
-    /// Peak suppression columns (`lines.peaks` only).
+    /// Peak suppression columns (`lines.peak` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub radius_theta: Option<usize>,
-    /// Peak suppression rows (`lines.peaks` only).
+    /// Peak suppression rows (`lines.peak` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub radius_rho: Option<usize>,
-    /// Peak capacity (`lines.peaks` only).
+    /// Peak capacity (`lines.peak` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub k: Option<usize>,
 }
@@ -1454,18 +1467,18 @@ pub fn run_vector(
     };
     let k = pj.k.unwrap_or(1);
     let run = match kernel {
-        "lines.vote_frame" | "lines.peaks" => run_vote(&p, &inp, None, &pp, k).map_err(e)?,
-        "lines.vote_row_corrected" => {
+        "lines.accumulator" | "lines.peak" => run_vote(&p, &inp, None, &pp, k).map_err(e)?,
+        "lines.correct_point" => {
             let gb = input(inputs, "grid")?;
             let pts = gb.to_i32()?;
-            let geom = WarpGeometry::new(w, h, p.width, p.height, pj.frac_bits.unwrap_or(0))
-                .map_err(e)?;
+            let geom =
+                WarpGeometry::new(w, h, p.width, p.height, pj.frac_bits.unwrap_or(0)).map_err(e)?;
             let grid = ControlGrid::new(&pts, geom, pj.grid_log2.unwrap_or(0)).map_err(e)?;
             run_vote(&p, &inp, Some(&grid), &pp, k).map_err(e)?
         }
         _ => return Err(format!("unknown lines kernel `{kernel}`")),
     };
-    Ok(vec![if kernel == "lines.peaks" {
+    Ok(vec![if kernel == "lines.peak" {
         Blob::from_i32("peaks", 5, k, 1, &peak_rows(&run.peaks, k))
     } else {
         Blob::from_u16("cells", p.rho_bins, p.theta_bins, 1, &run.cells)
@@ -1537,13 +1550,17 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     };
     let mut v = Vec::new();
     // Every quadrant boundary and its neighbours, then a stride through a turn.
-    let mut angles: Vec<u32> = [0u32, 1, 16383, 16384, 32767, 32768, 32769, 65535, 65536, 98303, 98304, 131071]
-        .to_vec();
+    let mut angles: Vec<u32> = [
+        0u32, 1, 16383, 16384, 32767, 32768, 32769, 65535, 65536, 98303, 98304, 131071,
+    ]
+    .to_vec();
     angles.extend((0..52u32).map(|i| i * 2521));
     for q in [8u32, 14] {
         v.push(case(
             &format!("lines.cos_sin.q{q}"),
-            format!("cos and sin in Q{q} at 64 binary angles (2^17 per turn), quadrant edges first"),
+            format!(
+                "cos and sin in Q{q} at 64 binary angles (2^17 per turn), quadrant edges first"
+            ),
             "lines.cos_sin",
             json!(TrigParamsJson { frac_bits: q }),
             vec![Blob::from_u32("angles", 64, 1, 1, &angles)],
@@ -1579,9 +1596,9 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
         ),
     ] {
         v.push(case(
-            &format!("lines.vote_frame.{tag}"),
+            &format!("lines.accumulator.{tag}"),
             format!("accumulator of a {w}x{h} known-line edge map: {what}"),
-            "lines.vote_frame",
+            "lines.accumulator",
             json!(VoteParamsJson::of(&p)),
             inputs(edges),
         ));
@@ -1591,9 +1608,9 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
         pj.radius_rho = Some(1);
         pj.k = Some(6);
         v.push(case(
-            &format!("lines.peaks.{tag}"),
+            &format!("lines.peak.{tag}"),
             format!("six strongest refined peaks of the same accumulator: {what}"),
-            "lines.peaks",
+            "lines.peak",
             json!(pj),
             inputs(edges),
         ));
@@ -1608,11 +1625,11 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     let mut ins = inputs(&noisy);
     ins.push(Blob::from_i32("grid", cg.grid.0, cg.grid.1, 2, &cg.points));
     v.push(case(
-        "lines.vote_row_corrected.demo-lens",
+        "lines.correct_point.demo-lens",
         format!(
             "edge points of a {w}x{h} frame corrected through a step-4, F = 5 grid of the demo lens"
         ),
-        "lines.vote_row_corrected",
+        "lines.correct_point",
         json!(pj),
         ins,
     ));

@@ -370,14 +370,14 @@ pub static STAGES: &[Stage] = &[
     },
     Stage {
         name: "vote_gated",
-        kernel: "lines.vote_frame",
+        kernel: "lines.accumulator",
         params: &VOTE_GATED,
         inputs: &[11, 2, 3, 4],
         outputs: &[15],
     },
     Stage {
         name: "vote_ungated",
-        kernel: "lines.vote_frame",
+        kernel: "lines.accumulator",
         params: &VOTE_UNGATED,
         inputs: &[11, 2, 3, 4],
         outputs: &[15],

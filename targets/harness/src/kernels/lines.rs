@@ -4,9 +4,9 @@
 //! | id | inputs | outputs |
 //! |---|---|---|
 //! | `lines.cos_sin` | `angles` u32 | `cs` i16, 2 channels |
-//! | `lines.vote_frame` | `edges` u8, `gx`, `gy` i16, `weights` u16 | `cells` u16 (`R x T`) |
-//! | `lines.vote_row_corrected` | the same and `grid` i32 (2 channels) | `cells` u16 |
-//! | `lines.peaks` | as `lines.vote_frame` | `peaks` i32 `5 x k` |
+//! | `lines.accumulator` | `edges` u8, `gx`, `gy` i16, `weights` u16 | `cells` u16 (`R x T`) |
+//! | `lines.correct_point` | the same and `grid` i32 (2 channels) | `cells` u16 |
+//! | `lines.peak` | as `lines.accumulator` | `peaks` i32 `5 x k` |
 //! | `lines.segments` | `edges` u8 | `segments` i32 `5 x k` |
 //!
 //! Parameters: the `VoteParams` fields (`gate` 0 = none, `weight_shift`
@@ -101,8 +101,8 @@ fn cells_of<'o>(outs: &'o mut [Img<'_>]) -> Result<&'o mut [u16], Fail> {
     }
 }
 
-/// `lines.vote_frame`: the accumulator of the edge map.
-pub fn vote_frame(
+/// `lines.accumulator`: the accumulator of the edge map (`Accumulator::vote_frame`).
+pub fn accumulator(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],
@@ -114,8 +114,8 @@ pub fn vote_frame(
     Ok(())
 }
 
-/// `lines.vote_row_corrected`: edge points corrected through `grid`.
-pub fn vote_row_corrected(
+/// `lines.correct_point`: edge points corrected through `grid`.
+pub fn correct_point(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],
@@ -148,8 +148,8 @@ fn write_rows(outs: &mut [Img<'_>], rows: &[[i32; 5]], k: usize) -> Result<(), F
     }
 }
 
-/// `lines.peaks`: the `k` strongest refined peaks.
-pub fn peaks(
+/// `lines.peak`: the `k` strongest refined peaks.
+pub fn peak(
     p: &Params,
     ins: &[Img<'_>],
     outs: &mut [Img<'_>],
