@@ -117,8 +117,8 @@ fn main() {
     let ungated = VoteParams { gate: None, ..demo };
     for (name, p) in [
         ("180 deg, 1.4 deg x 1 px, ungated", full),
-        ("demo 90 deg window, 1.4 deg x 4 px, ungated", ungated),
-        ("demo 90 deg window, 1.4 deg x 4 px, gate +-10 deg", demo),
+        ("demo 90 deg window, 2.8 deg x 2 px, ungated", ungated),
+        ("demo 90 deg window, 2.8 deg x 2 px, gate +-15 deg", demo),
     ] {
         let mut cells = vec![0u16; p.cells()];
         let mut trig = vec![[0i16; 2]; p.theta_bins];
@@ -167,7 +167,14 @@ fn main() {
     println!("|---|---|---|---|---|---|");
     for (w, h) in [(320usize, 240usize), (640, 480)] {
         let half = ((w * w + h * h) as f64).sqrt() / 2.0;
-        for (window, s) in [(90u32, 9u32), (90, 8), (180, 9), (180, 8)] {
+        for (window, s) in [
+            (90u32, 10u32),
+            (90, 9),
+            (90, 8),
+            (180, 10),
+            (180, 9),
+            (180, 8),
+        ] {
             for r in [4u32, 5, 6] {
                 let step_px = (1u32 << r) as f64 / 16.0;
                 let rows = 2 * (half / step_px).ceil() as usize + 1;
