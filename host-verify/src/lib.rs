@@ -27,6 +27,7 @@
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
 //! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
+//! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod border;
 pub mod chain;
@@ -41,6 +42,7 @@ pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
 pub mod marking;
+pub mod lines;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;

@@ -248,7 +248,7 @@ mod pipeline_apis {
                         ThresholdRule::Auto {
                             shift: sh,
                             high_permille: p,
-                            low_fraction_bits: f,
+                            low_ratio_u0f16: f,
                             first_low: lo,
                             first_high: hi,
                         }
@@ -468,6 +468,110 @@ proptest! {
                     let _ = t.tracks().count();
                 }
             }
+        }
+    }
+}
+
+mod lines_no_panic {
+    //! Line voting and the gradient angle: arbitrary parameters, buffer
+    //! lengths, points, rows and call orders give `Ok` or a typed `Err`.
+
+    use fixsight::gradient;
+    use fixsight::lines::{
+        cos_sin, segments, Accumulator, EdgeRow, Line, Peak, PeakParams, Segment, SegmentParams,
+        VoteParams,
+    };
+    use fixsight::warp::{ControlGrid, WarpGeometry};
+    use fixsight::ImageView;
+    use proptest::prelude::*;
+
+    prop_compose! {
+        fn any_params()(w in prop_oneof![0usize..24, Just(4096usize), Just(4097usize), Just(usize::MAX)],
+                        h in prop_oneof![0usize..24, Just(usize::MAX)],
+                        start in prop_oneof![0u32..(1 << 17), any::<u32>()],
+                        s in 0u32..20, bins in prop_oneof![0usize..70, Just(usize::MAX)],
+                        r in 0u32..12, rho in prop_oneof![0usize..300, Just(usize::MAX)],
+                        q in 0u32..20, gate in prop::option::of(any::<u16>()),
+                        ws in prop::option::of(0u32..40)) -> VoteParams {
+            VoteParams { width: w, height: h, theta_start: start, theta_step_log2: s,
+                theta_bins: bins, rho_step_log2: r, rho_bins: rho, trig_frac_bits: q,
+                gate, weight_shift: ws }
+        }
+    }
+
+    prop_compose! {
+        fn usable_params()(w in 1usize..24, h in 1usize..24, start in 0u32..(1 << 17), s in 8u32..=14,
+                           r in 0u32..=8, half in 0usize..20, q in 8u32..=14,
+                           gate in prop::option::of(1u16..=32767), ws in prop::option::of(0u32..=15))
+                          (bins in 1usize..=(65536usize >> s).min(64), w in Just(w), h in Just(h),
+                           start in Just(start), s in Just(s), r in Just(r), half in Just(half),
+                           q in Just(q), gate in Just(gate), ws in Just(ws)) -> VoteParams {
+            VoteParams { width: w, height: h, theta_start: start, theta_step_log2: s,
+                theta_bins: bins, rho_step_log2: r, rho_bins: 2 * half + 1, trig_frac_bits: q,
+                gate, weight_shift: ws }
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        #[test]
+        fn accumulator_calls(p in prop_oneof![any_params(), usable_params()], ncells in prop_oneof![0usize..3000, Just(70_000usize)], ntrig in prop_oneof![0usize..80, Just(4096usize)],
+                             pts in prop::collection::vec((any::<i32>(), any::<i32>(), any::<Option<u16>>(), any::<u16>()), 0..8),
+                             rows in prop::collection::vec((0usize..30, 0usize..40, 0usize..40, 0usize..40, 0usize..40), 0..6),
+                             thr in any::<u16>(), rt in prop_oneof![0usize..4, Just(usize::MAX)],
+                             rb in prop_oneof![0usize..4, Just(usize::MAX)], k in 0usize..5) {
+            let _ = p.check();
+            let _ = p.bytes();
+            let mut cells = vec![0u16; ncells];
+            let mut trig = vec![[0i16; 2]; ntrig];
+            let Ok(mut acc) = Accumulator::new(p, &mut cells, &mut trig) else { return Ok(()); };
+            for (x, y, a, w) in pts {
+                let _ = acc.vote_point(x, y, a, w);
+            }
+            let g = WarpGeometry::new(8, 6, p.width.clamp(1, 32767), p.height.clamp(1, 32767), 3).unwrap();
+            let grid_pts = vec![5i32; 2 * 3 * 3];
+            let grid = ControlGrid::new(&grid_pts, g, 2).unwrap();
+            for (y, ne, nx, ny, nw) in rows {
+                let e = vec![1u8; ne];
+                let (gx, gy, wt) = (vec![3i16; nx], vec![-4i16; ny], vec![9u16; nw]);
+                let row = EdgeRow { edges: &e, gx: Some(&gx), gy: Some(&gy), weights: Some(&wt) };
+                let _ = acc.vote_row(y, &row);
+                let _ = acc.vote_row(acc.next_row(), &row);
+                let _ = acc.vote_row_corrected(y, &row, &grid);
+            }
+            let mut out = vec![Peak::default(); k];
+            let pp = PeakParams { threshold: thr, radius_theta: rt.min(1 << 20), radius_rho: rb.min(1 << 20) };
+            if let Ok(n) = acc.peaks(&pp, &mut out) {
+                prop_assert!(n <= k);
+            }
+            for t in [0usize, 1, usize::MAX] {
+                let _ = acc.refine(t.min(p.theta_bins - 1), 0);
+            }
+            let e = vec![1u8; p.width.min(24) * p.height.min(24)];
+            let (vw, vh) = (p.width.clamp(1, 24), p.height.clamp(1, 24));
+            let v = ImageView::new(&e, vw, vh, vw);
+            if let Ok(v) = v {
+                let _ = acc.vote_frame(&v, None, None);
+            }
+        }
+
+        #[test]
+        fn segments_and_angles(w in 1usize..30, h in 1usize..30, rho in any::<i32>(), theta in any::<u16>(),
+                               minl in any::<u16>(), gap in any::<u16>(), tol in any::<u8>(), cap in 0usize..4,
+                               gx in prop::collection::vec(any::<i16>(), 0..20),
+                               gy in prop::collection::vec(any::<i16>(), 0..20), no in 0usize..20,
+                               a in any::<u32>(), q in any::<u32>()) {
+            let m = vec![1u8; w * h];
+            let v = ImageView::new(&m, w, h, w).unwrap();
+            let mut out = vec![Segment::default(); cap];
+            let sp = SegmentParams { min_length: minl, max_gap: gap, tolerance: tol };
+            if let Ok(n) = segments(&v, &Line { rho, theta, votes: 0 }, &sp, &mut out) {
+                prop_assert!(n <= cap);
+            }
+            let mut o = vec![0u16; no];
+            let _ = gradient::angle_row(&gx, &gy, &mut o);
+            let _ = cos_sin(a, q);
         }
     }
 }
