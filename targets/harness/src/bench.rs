@@ -75,7 +75,7 @@ const SLOTS: [(Elem, usize, usize, usize); 15] = [
 pub struct Stage {
     /// Report name.
     pub name: &'static str,
-    /// Kernel id (dispatched through the generated table).
+    /// Kernel id (dispatched through the table in `src/kernels/mod.rs`).
     pub kernel: &'static str,
     /// Parameters, in the golden-manifest form.
     pub params: &'static [(&'static str, Param)],
@@ -193,7 +193,7 @@ const CONTROL_GRID: [(&str, Param); 2] = [
     ("strip_rows", Param::Int(16)),
 ];
 
-/// The stages in run order (`kernel:` lines are read by `build.rs`).
+/// The stages in run order.
 pub static STAGES: &[Stage] = &[
     Stage {
         name: "binomial5",
@@ -440,7 +440,7 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         }
     }
     for st in STAGES {
-        let Some(run) = crate::vectors::dispatch(st.kernel) else {
+        let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };
         let mut ins: [Img<'_>; 2] = Default::default();
