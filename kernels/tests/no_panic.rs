@@ -245,7 +245,7 @@ mod pipeline_apis {
                         ThresholdRule::Auto {
                             shift: sh,
                             high_permille: p,
-                            low_fraction_bits: f,
+                            low_ratio_u0f16: f,
                             first_low: lo,
                             first_high: hi,
                         }
