@@ -36,6 +36,10 @@ pub enum KernelFamily {
     Chain,
     /// The streamed edge stage (`pipeline.rs`).
     Pipeline,
+    /// Marking selection (`marking.rs`).
+    Marking,
+    /// Tape-edge tracker and drift warning (`track.rs`).
+    Track,
 }
 
 impl KernelFamily {
@@ -50,6 +54,8 @@ impl KernelFamily {
             KernelFamily::Warp => "warp",
             KernelFamily::Chain => "chain",
             KernelFamily::Pipeline => "pipeline",
+            KernelFamily::Marking => "marking",
+            KernelFamily::Track => "track",
         }
     }
 }

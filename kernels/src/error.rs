@@ -238,6 +238,14 @@ pub enum Error {
         /// Rows pushed.
         got: usize,
     },
+    // --- track (kernels/src/track.rs) ---
+    /// A tracker was given a frame number not greater than the last one.
+    FrameOrder {
+        /// Last frame number accepted.
+        last: u32,
+        /// Frame number given.
+        got: u32,
+    },
 }
 
 impl fmt::Display for Error {
@@ -366,6 +374,10 @@ impl fmt::Display for Error {
                 f,
                 "frame ended after {got} rows but {expected} were declared; \
                  end it early on purpose with the short-frame call"
+            ),
+            Error::FrameOrder { last, got } => write!(
+                f,
+                "frame number {got} does not follow the last frame {last}; frame numbers must increase"
             ),
         }
     }

@@ -14,9 +14,11 @@ pub mod chain;
 pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
+pub mod marking;
 pub mod nms;
 pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 use crate::vectors::{same, served, Elem, ImageSpec, ONLY};
