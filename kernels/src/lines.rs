@@ -1536,8 +1536,8 @@ pub struct Segment {
 /// first when `cj < 0`), and the pixel tested is `j = oj + ((J(i) + 2^15) >> 16)`
 /// and its `tolerance` neighbours on each side across the walk. A step
 /// **hits** when any of them is inside the map and nonzero. A run opens at
-/// a hit, takes every later hit, and closes when `max_gap` steps in a row
-/// have missed or the walk ends; a closed run of `last - first + 1 >=
+/// a hit, takes every later hit, and closes when more than `max_gap` steps in
+/// a row have missed (a gap of `max_gap` misses stays inside) or the walk ends; a closed run of `last - first + 1 >=
 /// min_length` steps is a segment from step `first` to step `last`:
 /// walk coordinate `16 i`, cross coordinate `16 oj + ((J(i) + 2^11) >> 12)`
 /// (Q4, rounded half up).

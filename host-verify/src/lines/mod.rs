@@ -1186,7 +1186,7 @@ pub fn model_segments(
         }
         let (first, mut last, mut k) = (i, i, 0u32);
         let mut j = i;
-        while j < n_i && j - last <= sp.max_gap as usize {
+        while j < n_i && j <= last + 1 + sp.max_gap as usize {
             if hits[j] {
                 last = j;
                 k += 1;
