@@ -89,8 +89,8 @@
 //!   `i = 0..=256` (no entry is within 0.003 of a half). For `a` in
 //!   `0..=32768` (90 degrees = 32768 units), `S(a) = T[256]` when
 //!   `a = 32768`, else with `i = a >> 7`, `r = a & 127`:
-//!   `S(a) = T[i] + (((T[i+1] - T[i]) * r + 64) >> 7)` (the difference is
-//!   never negative). Then for `theta` in `0..65536`:
+//!   `S(a) = T[i] + round_shift((T[i+1] - T[i]) * r, 7)`, that is
+//!   `((T[i+1] - T[i]) * r + 64) >> 7` (the difference is never negative). Then for `theta` in `0..65536`:
 //!   `sin = S(theta)` if `theta < 32768` else `S(65536 - theta)`;
 //!   `cos = S(32768 - theta)` if `theta <= 32768` else `-S(theta - 32768)`.
 //!   Error against `32768 sin`, `32768 cos`: at most
@@ -113,10 +113,12 @@
 //! # Cost
 //!
 //! `n` input lines: at most `n` column pairs (two table sines, two
-//! divisions each), `n (n - 1) / 2` pair tests (a few subtractions and
-//! comparisons each). The first [`CACHED_LINES`] lines' columns are kept
-//! on the stack (24 bytes each); lines past them are evaluated again for
-//! each pair they enter.
+//! divisions each), `n (n - 1) / 2` pair tests (a few subtractions,
+//! multiplications and comparisons each). The columns of the first
+//! [`CACHED_LINES`] lines are kept on the stack as two `i32` (512 bytes
+//! and a 64-bit mask; a near column that passed rule 2 is within
+//! `MAX_SPAN_Q4`, its far column within `2^21 + 1` of it, so both fit);
+//! lines past them are evaluated again for each pair they enter.
 //!
 //! ```
 //! use fixsight::marking::{self, Candidate, Marking, MarkingConfig, Polarity};
@@ -141,6 +143,7 @@
 //! # Ok::<(), fixsight::Error>(())
 //! ```
 
+use crate::arith::round_shift;
 use crate::error::{Error, Result};
 use crate::ops::{tally, Op};
 
@@ -209,9 +212,9 @@ pub const MAX_SPAN_Q4: i32 = 1 << 24;
 /// Lines whose columns [`select`] keeps on the stack.
 ///
 /// ```
-/// assert_eq!(fixsight::marking::CACHED_LINES, 16);
+/// assert_eq!(fixsight::marking::CACHED_LINES, 64);
 /// ```
-pub const CACHED_LINES: usize = 16;
+pub const CACHED_LINES: usize = 64;
 
 /// Which way the image intensity changes across a line, when the lines
 /// stage knows it (for example from the sign of the gradient of the
@@ -565,7 +568,7 @@ fn quarter_sine(a: u32) -> i32 {
             tally(Op::AddSub, 3);
             tally(Op::Mul, 1);
             tally(Op::Shift, 1);
-            t0 as i32 + (((t1 as i32 - t0 as i32) * r + 64) >> 7)
+            t0 as i32 + round_shift((t1 as i32 - t0 as i32) * r, 7)
         }
         // a = 32768 (i = 256); a > 32768 is never passed.
         _ => {
@@ -719,14 +722,20 @@ fn to_i32(v: i64) -> i32 {
 /// ```
 pub fn select(lines: &[Candidate], config: &MarkingConfig) -> Marking {
     let l = &config.limits;
-    let mut cache = [None; CACHED_LINES];
+    // Columns of the first CACHED_LINES lines; bit i of `known` set when
+    // line i passed rules 1 and 2.
+    let mut cache = [[0i32; 2]; CACHED_LINES];
+    let mut known = 0u64;
     let mut candidates = 0usize;
-    for (slot, c) in cache.iter_mut().zip(lines) {
-        *slot = columns(c, l);
+    for (i, (slot, c)) in cache.iter_mut().zip(lines).enumerate() {
+        if let Some((near, far)) = columns(c, l) {
+            *slot = [to_i32(near), to_i32(far)];
+            known |= 1 << i;
+        }
     }
     let cols = |i: usize| -> Option<(i64, i64)> {
         match cache.get(i) {
-            Some(v) => *v,
+            Some(v) => (known >> i & 1 == 1).then_some((v[0] as i64, v[1] as i64)),
             None => lines.get(i).and_then(|c| columns(c, l)),
         }
     };
@@ -963,11 +972,16 @@ mod tests {
     fn lines_past_the_cache_behave_like_the_first_ones() {
         let cfg = MarkingConfig::DEMO;
         let [l, r] = tape(3.0, 100, true);
-        let mut lines = [line(0.0, 90.0, 5, Polarity::Unknown); 40];
-        lines[30] = l;
-        lines[37] = r;
+        let mut lines = [line(0.0, 90.0, 5, Polarity::Unknown); 80];
+        lines[70] = l;
+        lines[77] = r;
         let t = *select(&lines, &cfg).found().unwrap();
-        assert_eq!((t.left, t.right), (30, 37));
+        assert_eq!((t.left, t.right), (70, 77));
+        // One edge inside the cache, one past it.
+        lines[70] = lines[0];
+        lines[5] = l;
+        let t = *select(&lines, &cfg).found().unwrap();
+        assert_eq!((t.left, t.right), (5, 77));
         let m = select(&[l, r], &cfg);
         assert_eq!(
             m.found().map(|u| (u.near_x_q4, u.far_x_q4)),
@@ -989,6 +1003,25 @@ mod tests {
         }
         assert!(worst <= bound, "{worst}");
         assert!(worst > 0.9, "{worst}: the bound is not loose by much");
+    }
+
+    /// The normal parameterisation `rho = x cos(theta) + y sin(theta)` of
+    /// Duda & Hart (1972), "Use of the Hough transformation to detect lines
+    /// and curves in pictures", CACM 15(1), on lines worked by hand: the
+    /// vertical line x = 5 (theta 0, rho 5), the horizontal line y = 3
+    /// (theta 90, no column), the 45-degree line x + y = 8 (rho 8 / sqrt 2,
+    /// at y = 2 the column is 6) and the 135-degree line y - x = 4 (normal
+    /// (-1, 1) / sqrt 2, rho 4 / sqrt 2; at y = 10 the column is 6).
+    #[test]
+    fn columns_of_hand_worked_lines() {
+        assert_eq!(column_at_row(5 * 16, 0, 7 * 16), Some(80));
+        assert_eq!(column_at_row(3 * 16, 32768, 0), None);
+        let r = (8.0 / core::f64::consts::SQRT_2 * 16.0f64).round() as i32;
+        let x = column_at_row(r, 16384, 2 * 16).unwrap();
+        assert!((x - 96).abs() <= 1, "{x}");
+        let r = (4.0 / core::f64::consts::SQRT_2 * 16.0f64).round() as i32;
+        let x = column_at_row(r, 49152, 10 * 16).unwrap();
+        assert!((x - 96).abs() <= 1, "{x}");
     }
 
     #[test]
