@@ -20,6 +20,7 @@
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
 //! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
+//! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
 //!
 //! ```
@@ -52,6 +53,7 @@ pub mod image;
 pub mod marking;
 pub mod nms;
 pub mod ops;
+pub mod pipeline;
 pub mod thinning;
 pub mod warp;
 
