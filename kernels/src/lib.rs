@@ -19,8 +19,8 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
-//! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
+//! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
 //!
 //! ```
