@@ -389,69 +389,88 @@ impl MarkingConfig {
     /// assert!(matches!(MarkingConfig::new(l), Err(Error::BadParameter { name: "max_tilt", .. })));
     /// ```
     pub const fn new(l: MarkingLimits) -> Result<Self> {
-        let row = "-MAX_ROW_Q4..=MAX_ROW_Q4";
-        if l.near_row_q4 < -MAX_ROW_Q4 || l.near_row_q4 > MAX_ROW_Q4 {
-            return Err(bad("near_row_q4", row, l.near_row_q4 as i64));
-        }
-        if l.far_row_q4 < -MAX_ROW_Q4 || l.far_row_q4 >= l.near_row_q4 {
-            return Err(bad(
+        let (row, span) = (MAX_ROW_Q4 as i64, MAX_SPAN_Q4 as i64);
+        // (name, value, smallest, largest, accepted range in words), in
+        // the order checked; a range may use the limits checked before it.
+        let checks: [(&str, i64, i64, i64, &str); 10] = [
+            (
+                "near_row_q4",
+                l.near_row_q4 as i64,
+                -row,
+                row,
+                "-MAX_ROW_Q4..=MAX_ROW_Q4",
+            ),
+            (
                 "far_row_q4",
-                "-MAX_ROW_Q4..near_row_q4 (above the near row)",
                 l.far_row_q4 as i64,
-            ));
-        }
-        if l.horizon_row_q4 < -MAX_ROW_Q4 || l.horizon_row_q4 >= l.far_row_q4 {
-            return Err(bad(
+                -row,
+                l.near_row_q4 as i64 - 1,
+                "-MAX_ROW_Q4..near_row_q4 (above the near row)",
+            ),
+            (
                 "horizon_row_q4",
-                "-MAX_ROW_Q4..far_row_q4 (above the far row)",
                 l.horizon_row_q4 as i64,
-            ));
-        }
-        if l.max_tilt > MAX_TILT {
-            return Err(bad(
+                -row,
+                l.far_row_q4 as i64 - 1,
+                "-MAX_ROW_Q4..far_row_q4 (above the far row)",
+            ),
+            (
                 "max_tilt",
-                "0..=MAX_TILT (60 degrees)",
                 l.max_tilt as i64,
-            ));
-        }
-        let span = "-MAX_SPAN_Q4..=MAX_SPAN_Q4";
-        if l.near_x_min_q4 < -MAX_SPAN_Q4 || l.near_x_min_q4 > MAX_SPAN_Q4 {
-            return Err(bad("near_x_min_q4", span, l.near_x_min_q4 as i64));
-        }
-        if l.near_x_max_q4 < l.near_x_min_q4 || l.near_x_max_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                0,
+                MAX_TILT as i64,
+                "0..=MAX_TILT (60 degrees)",
+            ),
+            (
+                "near_x_min_q4",
+                l.near_x_min_q4 as i64,
+                -span,
+                span,
+                "-MAX_SPAN_Q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_x_max_q4",
-                "near_x_min_q4..=MAX_SPAN_Q4",
                 l.near_x_max_q4 as i64,
-            ));
-        }
-        if l.near_sep_min_q4 < 1 || l.near_sep_min_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_x_min_q4 as i64,
+                span,
+                "near_x_min_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_min_q4",
-                "1..=MAX_SPAN_Q4",
                 l.near_sep_min_q4 as i64,
-            ));
-        }
-        if l.near_sep_nominal_q4 < l.near_sep_min_q4 || l.near_sep_nominal_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                1,
+                span,
+                "1..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_nominal_q4",
-                "near_sep_min_q4..=MAX_SPAN_Q4",
                 l.near_sep_nominal_q4 as i64,
-            ));
-        }
-        if l.near_sep_max_q4 < l.near_sep_nominal_q4 || l.near_sep_max_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_sep_min_q4 as i64,
+                span,
+                "near_sep_min_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_max_q4",
-                "near_sep_nominal_q4..=MAX_SPAN_Q4",
                 l.near_sep_max_q4 as i64,
-            ));
-        }
-        if l.converge_tol_q4 < 0 || l.converge_tol_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_sep_nominal_q4 as i64,
+                span,
+                "near_sep_nominal_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "converge_tol_q4",
-                "0..=MAX_SPAN_Q4",
                 l.converge_tol_q4 as i64,
-            ));
+                0,
+                span,
+                "0..=MAX_SPAN_Q4",
+            ),
+        ];
+        let mut i = 0;
+        while i < checks.len() {
+            let (name, value, lo, hi, expected) = checks[i];
+            if value < lo || value > hi {
+                return Err(bad(name, expected, value));
+            }
+            i += 1;
         }
         Ok(Self { limits: l })
     }
@@ -538,7 +557,51 @@ pub enum Marking {
     },
 }
 
+/// Number of words of [`Marking::record`].
+///
+/// ```
+/// assert_eq!(fixsight::marking::RECORD_WORDS, 10);
+/// ```
+pub const RECORD_WORDS: usize = 10;
+
 impl Marking {
+    /// The outcome as [`RECORD_WORDS`] `i32` words, the layout of the
+    /// golden vectors' `marking` output and a fixed-size record for a log
+    /// or a link: `found` (1 or 0), `left`, `right` (input indices, -1 when
+    /// not found, `i32::MAX` for an index past it), the near-row columns
+    /// left and right, the far-row columns left and right (Q4, 0 when not
+    /// found), the vote sum's low and high 32 bits (as `i32` bit patterns),
+    /// and, when not found, the number of lines that passed the
+    /// single-line rules (saturated to `i32::MAX`), else 0.
+    ///
+    /// ```
+    /// use fixsight::marking::{Marking, TapeEdges};
+    /// let t = TapeEdges { left: 3, right: 1, near_x_q4: [-8, 8], far_x_q4: [-4, 4], votes: 1 << 32 };
+    /// assert_eq!(Marking::Found(t).record(), [1, 3, 1, -8, 8, -4, 4, 0, 1, 0]);
+    /// let n = Marking::NotFound { lines: 9, candidates: 2 };
+    /// assert_eq!(n.record(), [0, -1, -1, 0, 0, 0, 0, 0, 0, 2]);
+    /// ```
+    pub fn record(&self) -> [i32; RECORD_WORDS] {
+        let word = |v: usize| i32::try_from(v).unwrap_or(i32::MAX);
+        match self {
+            Marking::Found(t) => [
+                1,
+                word(t.left),
+                word(t.right),
+                t.near_x_q4[0],
+                t.near_x_q4[1],
+                t.far_x_q4[0],
+                t.far_x_q4[1],
+                t.votes as u32 as i32,
+                (t.votes >> 32) as u32 as i32,
+                0,
+            ],
+            Marking::NotFound { candidates, .. } => {
+                [0, -1, -1, 0, 0, 0, 0, 0, 0, word(*candidates)]
+            }
+        }
+    }
+
     /// The edges, if found.
     ///
     /// ```
