@@ -81,6 +81,7 @@ kernel_table! {
     "chain.edges" => chain::edges,
     "warp.pixel_map" => warp::pixel_map,
     "warp.control_grid" => warp::control_grid,
+    "pipeline.edge_stream" => pipeline::edge_stream,
     "marking.select" => marking::select,
 }
 
