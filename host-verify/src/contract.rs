@@ -38,6 +38,10 @@ pub enum KernelFamily {
     Pipeline,
     /// Marking selection (`marking.rs`).
     Marking,
+    /// Tape-edge tracker and drift warning (`track.rs`).
+    Track,
+    /// Line voting (`lines.rs`).
+    Lines,
 }
 
 impl KernelFamily {
@@ -53,6 +57,8 @@ impl KernelFamily {
             KernelFamily::Chain => "chain",
             KernelFamily::Pipeline => "pipeline",
             KernelFamily::Marking => "marking",
+            KernelFamily::Track => "track",
+            KernelFamily::Lines => "lines",
         }
     }
 }

@@ -26,6 +26,8 @@ pub const FAMILIES: &[Family] = &[
     crate::warp::FAMILY,
     crate::pipeline::FAMILY,
     crate::marking::FAMILY,
+    crate::track::FAMILY,
+    crate::lines::FAMILY,
 ];
 
 /// Every kernel id of every family, in report order.

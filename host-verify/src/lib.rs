@@ -26,6 +26,8 @@
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
+//! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
+//! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod border;
 pub mod chain;
@@ -39,6 +41,7 @@ pub mod golden;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod lines;
 pub mod marking;
 pub mod metrics;
 pub mod nms;
@@ -49,4 +52,5 @@ pub mod scene;
 pub mod sequence;
 pub mod targets;
 pub mod thinning;
+pub mod track;
 pub mod warp;
