@@ -89,8 +89,8 @@
 //!   `i = 0..=256` (no entry is within 0.003 of a half). For `a` in
 //!   `0..=32768` (90 degrees = 32768 units), `S(a) = T[256]` when
 //!   `a = 32768`, else with `i = a >> 7`, `r = a & 127`:
-//!   `S(a) = T[i] + (((T[i+1] - T[i]) * r + 64) >> 7)` (the difference is
-//!   never negative). Then for `theta` in `0..65536`:
+//!   `S(a) = T[i] + round_shift((T[i+1] - T[i]) * r, 7)`, that is
+//!   `((T[i+1] - T[i]) * r + 64) >> 7` (the difference is never negative). Then for `theta` in `0..65536`:
 //!   `sin = S(theta)` if `theta < 32768` else `S(65536 - theta)`;
 //!   `cos = S(32768 - theta)` if `theta <= 32768` else `-S(theta - 32768)`.
 //!   Error against `32768 sin`, `32768 cos`: at most
@@ -113,10 +113,12 @@
 //! # Cost
 //!
 //! `n` input lines: at most `n` column pairs (two table sines, two
-//! divisions each), `n (n - 1) / 2` pair tests (a few subtractions and
-//! comparisons each). The first [`CACHED_LINES`] lines' columns are kept
-//! on the stack (24 bytes each); lines past them are evaluated again for
-//! each pair they enter.
+//! divisions each), `n (n - 1) / 2` pair tests (a few subtractions,
+//! multiplications and comparisons each). The columns of the first
+//! [`CACHED_LINES`] lines are kept on the stack as two `i32` (512 bytes
+//! and a 64-bit mask; a near column that passed rule 2 is within
+//! `MAX_SPAN_Q4`, its far column within `2^21 + 1` of it, so both fit);
+//! lines past them are evaluated again for each pair they enter.
 //!
 //! ```
 //! use fixsight::marking::{self, Candidate, Marking, MarkingConfig, Polarity};
@@ -141,6 +143,7 @@
 //! # Ok::<(), fixsight::Error>(())
 //! ```
 
+use crate::arith::round_shift;
 use crate::error::{Error, Result};
 use crate::ops::{tally, Op};
 
@@ -209,9 +212,9 @@ pub const MAX_SPAN_Q4: i32 = 1 << 24;
 /// Lines whose columns [`select`] keeps on the stack.
 ///
 /// ```
-/// assert_eq!(fixsight::marking::CACHED_LINES, 16);
+/// assert_eq!(fixsight::marking::CACHED_LINES, 64);
 /// ```
-pub const CACHED_LINES: usize = 16;
+pub const CACHED_LINES: usize = 64;
 
 /// Which way the image intensity changes across a line, when the lines
 /// stage knows it (for example from the sign of the gradient of the
@@ -386,69 +389,88 @@ impl MarkingConfig {
     /// assert!(matches!(MarkingConfig::new(l), Err(Error::BadParameter { name: "max_tilt", .. })));
     /// ```
     pub const fn new(l: MarkingLimits) -> Result<Self> {
-        let row = "-MAX_ROW_Q4..=MAX_ROW_Q4";
-        if l.near_row_q4 < -MAX_ROW_Q4 || l.near_row_q4 > MAX_ROW_Q4 {
-            return Err(bad("near_row_q4", row, l.near_row_q4 as i64));
-        }
-        if l.far_row_q4 < -MAX_ROW_Q4 || l.far_row_q4 >= l.near_row_q4 {
-            return Err(bad(
+        let (row, span) = (MAX_ROW_Q4 as i64, MAX_SPAN_Q4 as i64);
+        // (name, value, smallest, largest, accepted range in words), in
+        // the order checked; a range may use the limits checked before it.
+        let checks: [(&str, i64, i64, i64, &str); 10] = [
+            (
+                "near_row_q4",
+                l.near_row_q4 as i64,
+                -row,
+                row,
+                "-MAX_ROW_Q4..=MAX_ROW_Q4",
+            ),
+            (
                 "far_row_q4",
-                "-MAX_ROW_Q4..near_row_q4 (above the near row)",
                 l.far_row_q4 as i64,
-            ));
-        }
-        if l.horizon_row_q4 < -MAX_ROW_Q4 || l.horizon_row_q4 >= l.far_row_q4 {
-            return Err(bad(
+                -row,
+                l.near_row_q4 as i64 - 1,
+                "-MAX_ROW_Q4..near_row_q4 (above the near row)",
+            ),
+            (
                 "horizon_row_q4",
-                "-MAX_ROW_Q4..far_row_q4 (above the far row)",
                 l.horizon_row_q4 as i64,
-            ));
-        }
-        if l.max_tilt > MAX_TILT {
-            return Err(bad(
+                -row,
+                l.far_row_q4 as i64 - 1,
+                "-MAX_ROW_Q4..far_row_q4 (above the far row)",
+            ),
+            (
                 "max_tilt",
-                "0..=MAX_TILT (60 degrees)",
                 l.max_tilt as i64,
-            ));
-        }
-        let span = "-MAX_SPAN_Q4..=MAX_SPAN_Q4";
-        if l.near_x_min_q4 < -MAX_SPAN_Q4 || l.near_x_min_q4 > MAX_SPAN_Q4 {
-            return Err(bad("near_x_min_q4", span, l.near_x_min_q4 as i64));
-        }
-        if l.near_x_max_q4 < l.near_x_min_q4 || l.near_x_max_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                0,
+                MAX_TILT as i64,
+                "0..=MAX_TILT (60 degrees)",
+            ),
+            (
+                "near_x_min_q4",
+                l.near_x_min_q4 as i64,
+                -span,
+                span,
+                "-MAX_SPAN_Q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_x_max_q4",
-                "near_x_min_q4..=MAX_SPAN_Q4",
                 l.near_x_max_q4 as i64,
-            ));
-        }
-        if l.near_sep_min_q4 < 1 || l.near_sep_min_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_x_min_q4 as i64,
+                span,
+                "near_x_min_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_min_q4",
-                "1..=MAX_SPAN_Q4",
                 l.near_sep_min_q4 as i64,
-            ));
-        }
-        if l.near_sep_nominal_q4 < l.near_sep_min_q4 || l.near_sep_nominal_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                1,
+                span,
+                "1..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_nominal_q4",
-                "near_sep_min_q4..=MAX_SPAN_Q4",
                 l.near_sep_nominal_q4 as i64,
-            ));
-        }
-        if l.near_sep_max_q4 < l.near_sep_nominal_q4 || l.near_sep_max_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_sep_min_q4 as i64,
+                span,
+                "near_sep_min_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "near_sep_max_q4",
-                "near_sep_nominal_q4..=MAX_SPAN_Q4",
                 l.near_sep_max_q4 as i64,
-            ));
-        }
-        if l.converge_tol_q4 < 0 || l.converge_tol_q4 > MAX_SPAN_Q4 {
-            return Err(bad(
+                l.near_sep_nominal_q4 as i64,
+                span,
+                "near_sep_nominal_q4..=MAX_SPAN_Q4",
+            ),
+            (
                 "converge_tol_q4",
-                "0..=MAX_SPAN_Q4",
                 l.converge_tol_q4 as i64,
-            ));
+                0,
+                span,
+                "0..=MAX_SPAN_Q4",
+            ),
+        ];
+        let mut i = 0;
+        while i < checks.len() {
+            let (name, value, lo, hi, expected) = checks[i];
+            if value < lo || value > hi {
+                return Err(bad(name, expected, value));
+            }
+            i += 1;
         }
         Ok(Self { limits: l })
     }
@@ -535,7 +557,51 @@ pub enum Marking {
     },
 }
 
+/// Number of words of [`Marking::record`].
+///
+/// ```
+/// assert_eq!(fixsight::marking::RECORD_WORDS, 10);
+/// ```
+pub const RECORD_WORDS: usize = 10;
+
 impl Marking {
+    /// The outcome as [`RECORD_WORDS`] `i32` words, the layout of the
+    /// golden vectors' `marking` output and a fixed-size record for a log
+    /// or a link: `found` (1 or 0), `left`, `right` (input indices, -1 when
+    /// not found, `i32::MAX` for an index past it), the near-row columns
+    /// left and right, the far-row columns left and right (Q4, 0 when not
+    /// found), the vote sum's low and high 32 bits (as `i32` bit patterns),
+    /// and, when not found, the number of lines that passed the
+    /// single-line rules (saturated to `i32::MAX`), else 0.
+    ///
+    /// ```
+    /// use fixsight::marking::{Marking, TapeEdges};
+    /// let t = TapeEdges { left: 3, right: 1, near_x_q4: [-8, 8], far_x_q4: [-4, 4], votes: 1 << 32 };
+    /// assert_eq!(Marking::Found(t).record(), [1, 3, 1, -8, 8, -4, 4, 0, 1, 0]);
+    /// let n = Marking::NotFound { lines: 9, candidates: 2 };
+    /// assert_eq!(n.record(), [0, -1, -1, 0, 0, 0, 0, 0, 0, 2]);
+    /// ```
+    pub fn record(&self) -> [i32; RECORD_WORDS] {
+        let word = |v: usize| i32::try_from(v).unwrap_or(i32::MAX);
+        match self {
+            Marking::Found(t) => [
+                1,
+                word(t.left),
+                word(t.right),
+                t.near_x_q4[0],
+                t.near_x_q4[1],
+                t.far_x_q4[0],
+                t.far_x_q4[1],
+                t.votes as u32 as i32,
+                (t.votes >> 32) as u32 as i32,
+                0,
+            ],
+            Marking::NotFound { candidates, .. } => {
+                [0, -1, -1, 0, 0, 0, 0, 0, 0, word(*candidates)]
+            }
+        }
+    }
+
     /// The edges, if found.
     ///
     /// ```
@@ -565,7 +631,7 @@ fn quarter_sine(a: u32) -> i32 {
             tally(Op::AddSub, 3);
             tally(Op::Mul, 1);
             tally(Op::Shift, 1);
-            t0 as i32 + (((t1 as i32 - t0 as i32) * r + 64) >> 7)
+            t0 as i32 + round_shift((t1 as i32 - t0 as i32) * r, 7)
         }
         // a = 32768 (i = 256); a > 32768 is never passed.
         _ => {
@@ -719,14 +785,20 @@ fn to_i32(v: i64) -> i32 {
 /// ```
 pub fn select(lines: &[Candidate], config: &MarkingConfig) -> Marking {
     let l = &config.limits;
-    let mut cache = [None; CACHED_LINES];
+    // Columns of the first CACHED_LINES lines; bit i of `known` set when
+    // line i passed rules 1 and 2.
+    let mut cache = [[0i32; 2]; CACHED_LINES];
+    let mut known = 0u64;
     let mut candidates = 0usize;
-    for (slot, c) in cache.iter_mut().zip(lines) {
-        *slot = columns(c, l);
+    for (i, (slot, c)) in cache.iter_mut().zip(lines).enumerate() {
+        if let Some((near, far)) = columns(c, l) {
+            *slot = [to_i32(near), to_i32(far)];
+            known |= 1 << i;
+        }
     }
     let cols = |i: usize| -> Option<(i64, i64)> {
         match cache.get(i) {
-            Some(v) => *v,
+            Some(v) => (known >> i & 1 == 1).then_some((v[0] as i64, v[1] as i64)),
             None => lines.get(i).and_then(|c| columns(c, l)),
         }
     };
@@ -963,11 +1035,16 @@ mod tests {
     fn lines_past_the_cache_behave_like_the_first_ones() {
         let cfg = MarkingConfig::DEMO;
         let [l, r] = tape(3.0, 100, true);
-        let mut lines = [line(0.0, 90.0, 5, Polarity::Unknown); 40];
-        lines[30] = l;
-        lines[37] = r;
+        let mut lines = [line(0.0, 90.0, 5, Polarity::Unknown); 80];
+        lines[70] = l;
+        lines[77] = r;
         let t = *select(&lines, &cfg).found().unwrap();
-        assert_eq!((t.left, t.right), (30, 37));
+        assert_eq!((t.left, t.right), (70, 77));
+        // One edge inside the cache, one past it.
+        lines[70] = lines[0];
+        lines[5] = l;
+        let t = *select(&lines, &cfg).found().unwrap();
+        assert_eq!((t.left, t.right), (5, 77));
         let m = select(&[l, r], &cfg);
         assert_eq!(
             m.found().map(|u| (u.near_x_q4, u.far_x_q4)),
@@ -989,6 +1066,25 @@ mod tests {
         }
         assert!(worst <= bound, "{worst}");
         assert!(worst > 0.9, "{worst}: the bound is not loose by much");
+    }
+
+    /// The normal parameterisation `rho = x cos(theta) + y sin(theta)` of
+    /// Duda & Hart (1972), "Use of the Hough transformation to detect lines
+    /// and curves in pictures", CACM 15(1), on lines worked by hand: the
+    /// vertical line x = 5 (theta 0, rho 5), the horizontal line y = 3
+    /// (theta 90, no column), the 45-degree line x + y = 8 (rho 8 / sqrt 2,
+    /// at y = 2 the column is 6) and the 135-degree line y - x = 4 (normal
+    /// (-1, 1) / sqrt 2, rho 4 / sqrt 2; at y = 10 the column is 6).
+    #[test]
+    fn columns_of_hand_worked_lines() {
+        assert_eq!(column_at_row(5 * 16, 0, 7 * 16), Some(80));
+        assert_eq!(column_at_row(3 * 16, 32768, 0), None);
+        let r = (8.0 / core::f64::consts::SQRT_2 * 16.0f64).round() as i32;
+        let x = column_at_row(r, 16384, 2 * 16).unwrap();
+        assert!((x - 96).abs() <= 1, "{x}");
+        let r = (4.0 / core::f64::consts::SQRT_2 * 16.0f64).round() as i32;
+        let x = column_at_row(r, 49152, 10 * 16).unwrap();
+        assert!((x - 96).abs() <= 1, "{x}");
     }
 
     #[test]

@@ -8,7 +8,7 @@ use crate::golden::{Blob, GoldenCase};
 use crate::scene::Scene;
 use crate::sequence::{TruthLine, DEMO_SEQUENCE};
 use fixsight::marking::{
-    self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast,
+    self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast, RECORD_WORDS,
 };
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -141,24 +141,10 @@ pub fn lines_of(b: &Blob) -> Result<Vec<Candidate>, String> {
         .collect()
 }
 
-/// A selection outcome as the golden `marking` image.
+/// A selection outcome as the golden `marking` image
+/// (`fixsight::marking::Marking::record`).
 pub fn marking_blob(m: &Marking) -> Blob {
-    let data = match m {
-        Marking::Found(t) => [
-            1,
-            t.left as i32,
-            t.right as i32,
-            t.near_x_q4[0],
-            t.near_x_q4[1],
-            t.far_x_q4[0],
-            t.far_x_q4[1],
-            t.votes as u32 as i32,
-            (t.votes >> 32) as u32 as i32,
-            0,
-        ],
-        Marking::NotFound { candidates, .. } => [0, -1, -1, 0, 0, 0, 0, 0, 0, *candidates as i32],
-    };
-    Blob::from_i32("marking", 10, 1, 1, &data)
+    Blob::from_i32("marking", RECORD_WORDS, 1, 1, &m.record())
 }
 
 /// Recomputes a `marking` vector.

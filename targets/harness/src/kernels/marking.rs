@@ -9,9 +9,7 @@
 //! The lines are copied into a stack array of [`MAX_LINES`] candidates.
 
 use super::{input, int, output, Arena, Buf, Fail, Img, Params};
-use fixsight::marking::{
-    self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast,
-};
+use fixsight::marking::{self, Candidate, MarkingConfig, MarkingLimits, Polarity, TapeContrast};
 
 /// Most lines one vector may offer.
 pub const MAX_LINES: usize = 64;
@@ -65,22 +63,7 @@ pub fn select(
             },
         };
     }
-    let m = marking::select(&lines[..src.height], &cfg);
-    let res = match m {
-        Marking::Found(t) => [
-            1,
-            t.left as i32,
-            t.right as i32,
-            t.near_x_q4[0],
-            t.near_x_q4[1],
-            t.far_x_q4[0],
-            t.far_x_q4[1],
-            t.votes as u32 as i32,
-            (t.votes >> 32) as u32 as i32,
-            0,
-        ],
-        Marking::NotFound { candidates, .. } => [0, -1, -1, 0, 0, 0, 0, 0, 0, candidates as i32],
-    };
+    let res = marking::select(&lines[..src.height], &cfg).record();
     match &mut output(outs, 0)?.buf {
         Buf::I32(o) if o.len() == res.len() => {
             o.copy_from_slice(&res);
