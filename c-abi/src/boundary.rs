@@ -323,6 +323,9 @@ pub(crate) trait Stored: Sized {
     const TAG: u32;
 }
 
+/// `FXS_OBJECT_ALIGN`: alignment of every object storage type.
+pub const FXS_OBJECT_ALIGN: usize = 8;
+
 /// What lives in the storage: the tag, then the object.
 #[repr(C)]
 pub(crate) struct Tagged<T> {
@@ -438,6 +441,10 @@ macro_rules! object_storage {
         const _: () = assert!(
             $crate::boundary::fits::<$obj>(),
             concat!(stringify!($name), ": object size differs from the storage constant")
+        );
+        const _: () = assert!(
+            core::mem::size_of::<$name>() == $size
+                && core::mem::align_of::<$name>() == $crate::boundary::FXS_OBJECT_ALIGN
         );
     };
 }

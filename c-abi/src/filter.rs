@@ -30,7 +30,7 @@ crate::boundary::object_storage!(
 );
 
 /// A stream and the caller memory it borrows.
-struct StreamObj {
+pub(crate) struct StreamObj {
     stream: FilterStream<'static, 'static>,
     width: usize,
     /// Ring and accumulator row (written), the filter object (read).

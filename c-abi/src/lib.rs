@@ -58,6 +58,9 @@ mod status;
 mod thinning;
 mod warp;
 
+#[cfg(test)]
+mod header_check;
+
 #[cfg(target_os = "none")]
 #[panic_handler]
 fn panic(_: &core::panic::PanicInfo) -> ! {

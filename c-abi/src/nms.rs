@@ -9,7 +9,7 @@ use crate::status::{finish, kernel, FxsStatus};
 use fixsight::nms::{self, NmsStream};
 
 /// A stream and the ring memory it borrows.
-struct StreamObj {
+pub(crate) struct StreamObj {
     stream: NmsStream<'static>,
     width: usize,
     /// Magnitude and direction rings (written).

@@ -42,7 +42,7 @@ unsafe fn geometry(g: *const FxsWarpGeometry) -> Checked<WarpGeometry> {
 }
 
 /// A pixel map and the coordinates it borrows.
-struct MapObj {
+pub(crate) struct MapObj {
     map: PixelMap<'static>,
     borrowed: Span,
 }
@@ -54,7 +54,7 @@ crate::boundary::object_storage!(
 );
 
 /// A control grid and the points or blob it borrows.
-struct GridObj {
+pub(crate) struct GridObj {
     grid: ControlGrid<'static>,
     borrowed: Span,
 }

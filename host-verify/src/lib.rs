@@ -14,6 +14,7 @@
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
 //! | [`golden`] | golden-vector format, check and write |
+//! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
 //! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
@@ -26,6 +27,7 @@ pub mod contract;
 pub mod families;
 pub mod filter;
 pub mod golden;
+pub mod golden_c;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
