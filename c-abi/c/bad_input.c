@@ -230,7 +230,7 @@ static void gradients_and_edges(void) {
     uint16_t low, high;
     memset(a16, 0, sizeof a16);
     memset(u16b, 0, sizeof u16b);
-    memset(a8, 0, sizeof a8);
+    memset(a8w, 0, sizeof a8w);
     expect("gradient.ok", fxs_gradient_magnitude_l1(&gx, &gy, &m), FXS_OK);
     expect("gradient.size_mismatch", fxs_gradient_magnitude_l2_round(&gx, &gy3, &m), FXS_E_SIZE_MISMATCH);
     expect("gradient.inputs_may_share", fxs_gradient_magnitude_l2_approx(&gx, &gx, &m), FXS_OK);

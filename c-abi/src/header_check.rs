@@ -147,7 +147,13 @@ fn parse_header(text: &str) -> Header {
     }
     // Typedefs: tag, fields, alias.
     let mut rest = body.as_str();
-    while let Some(i) = rest.find("typedef ") {
+    loop {
+        let next = |k: &str| rest.find(k);
+        let i = match (next("typedef struct "), next("typedef union ")) {
+            (Some(a), Some(b)) => a.min(b),
+            (Some(a), None) | (None, Some(a)) => a,
+            (None, None) => break,
+        };
         rest = &rest[i + 8..];
         let is_union = rest.starts_with("union ");
         let after = rest.split_once(' ').unwrap().1;
@@ -250,10 +256,16 @@ fn parse_rust(dir: &Path) -> RustSide {
                 Item::Macro(m) if m.mac.path.segments.last().unwrap().ident == "descriptors" => {
                     // `$(#[doc])* Name, *const T, T, writable;`: every
                     // descriptor has the fields data, len, width, height, stride.
-                    let toks: Vec<String> =
-                        m.mac.tokens.clone().into_iter().map(|t| t.to_string()).collect();
+                    let toks: Vec<String> = m
+                        .mac
+                        .tokens
+                        .clone()
+                        .into_iter()
+                        .map(|t| t.to_string())
+                        .collect();
                     for (i, t) in toks.iter().enumerate() {
-                        if t.starts_with("Fxs") && toks.get(i + 1).map(String::as_str) == Some(",") {
+                        if t.starts_with("Fxs") && toks.get(i + 1).map(String::as_str) == Some(",")
+                        {
                             let ptr = format!("{} {} {}", toks[i + 2], toks[i + 3], toks[i + 4]);
                             let ty: Type = syn::parse_str(&ptr).unwrap();
                             let int = "int32_t".to_string();
@@ -283,7 +295,11 @@ fn storage_macro(tokens: &proc_macro2::TokenStream, r: &mut RustSide) {
     let s: Vec<String> = toks.iter().map(|t| t.to_string()).collect();
     let at_for = s.iter().position(|t| t == "for").expect("`Name for Obj`");
     let name = snake(&s[at_for - 1]);
-    let eq = s.iter().position(|t| t == "=").expect("`SIZE = (..)`");
+    let eq = at_for
+        + s[at_for..]
+            .iter()
+            .position(|t| t == "=")
+            .expect("`SIZE = (..)`");
     r.storages.insert(name, s[eq - 1].clone());
     for i in eq..s.len() - 2 {
         if s[i].starts_with("FXS_") && s[i + 1] == ":" {
@@ -313,13 +329,20 @@ fn both() -> (Header, RustSide) {
 #[test]
 fn functions_agree() {
     let (h, r) = both();
-    assert!(r.functions.len() >= 30, "found {} functions", r.functions.len());
+    assert!(
+        r.functions.len() >= 30,
+        "found {} functions",
+        r.functions.len()
+    );
     for (name, sig) in &r.functions {
         let got = h.functions.get(name);
         assert_eq!(got, Some(sig), "header prototype of {name}");
     }
     for name in h.functions.keys() {
-        assert!(r.functions.contains_key(name), "{name} is in the header only");
+        assert!(
+            r.functions.contains_key(name),
+            "{name} is in the header only"
+        );
     }
 }
 
@@ -332,7 +355,10 @@ fn structs_and_storage_agree() {
         }
     }
     for name in h.structs.keys() {
-        assert!(r.structs.contains_key(name), "struct {name} is in the header only");
+        assert!(
+            r.structs.contains_key(name),
+            "struct {name} is in the header only"
+        );
     }
     assert_eq!(r.storages.len(), 5);
     for (name, size) in &r.storages {
@@ -348,7 +374,10 @@ fn constants_agree() {
         assert_eq!(h.numbers.get(name), Some(v), "#define {name}");
     }
     for name in h.numbers.keys() {
-        assert!(r.numbers.contains_key(name), "{name} is defined in the header only");
+        assert!(
+            r.numbers.contains_key(name),
+            "{name} is defined in the header only"
+        );
     }
     for (code, name, _) in crate::status::STATUSES {
         assert_eq!(h.numbers.get(*name), Some(&(*code as i64)), "{name}");

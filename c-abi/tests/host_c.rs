@@ -40,7 +40,14 @@ fn build_and_run(golden: &Path, work: &Path) -> (i32, String) {
     let exe = work.join("fixsight-c-host-test");
     let c = crate_dir().join("c");
     let out = Command::new("gcc")
-        .args(["-std=c99", "-pedantic", "-O1", "-Wall", "-Wextra", "-Werror"])
+        .args([
+            "-std=c99",
+            "-pedantic",
+            "-O1",
+            "-Wall",
+            "-Wextra",
+            "-Werror",
+        ])
         .arg("-I")
         .arg(crate_dir().join("include"))
         .arg("-I")
@@ -73,8 +80,14 @@ fn summary(console: &str) -> (usize, usize, Vec<String>, usize, usize) {
         let i = f.iter().position(|x| *x == key).unwrap();
         f[i + 1].parse().unwrap()
     };
-    let done = console.lines().find(|l| l.starts_with("done ")).expect("done line");
-    let bad = console.lines().find(|l| l.starts_with("badinput ")).expect("badinput line");
+    let done = console
+        .lines()
+        .find(|l| l.starts_with("done "))
+        .expect("done line");
+    let bad = console
+        .lines()
+        .find(|l| l.starts_with("badinput "))
+        .expect("badinput line");
     let failing = console
         .lines()
         .filter(|l| (l.starts_with("vec ") || l.starts_with("bad ")) && !l.contains(" pass"))
@@ -97,8 +110,14 @@ fn golden_vectors_and_bad_inputs_through_the_c_api() {
     std::fs::write(work.join("console.txt"), &console).unwrap();
     let (vectors, passed, failing, cases, bad_failed) = summary(&console);
     let manifest = fixsight_verify::golden::read_manifest(&golden).unwrap();
-    println!("C API on the host: {passed}/{vectors} golden vectors bit-exact, {cases} bad-input cases");
-    println!("c-api host: {} passed, {} failed", passed + cases - bad_failed, failing.len());
+    println!(
+        "C API on the host: {passed}/{vectors} golden vectors bit-exact, {cases} bad-input cases"
+    );
+    println!(
+        "c-api host: {} passed, {} failed",
+        passed + cases - bad_failed,
+        failing.len()
+    );
     assert!(failing.is_empty(), "failing cases:\n{}", failing.join("\n"));
     assert_eq!(vectors, manifest.vectors.len());
     assert_eq!((passed, bad_failed, status), (vectors, 0, 0));

@@ -119,7 +119,11 @@ fn params(
 /// Bytes of one image as a C array definition; returns its initialiser.
 fn image(dir: &Path, img: &ImageEntry, name: &str, arrays: &mut String) -> Result<String> {
     let blob = golden::load_image(dir, img).map_err(|e| anyhow!(e))?;
-    write!(arrays, "static const uint8_t {name}[{}] = {{", blob.bytes.len())?;
+    write!(
+        arrays,
+        "static const uint8_t {name}[{}] = {{",
+        blob.bytes.len()
+    )?;
     for (i, b) in blob.bytes.iter().enumerate() {
         if i % 24 == 0 {
             arrays.push_str("\n ");
@@ -140,7 +144,8 @@ fn image(dir: &Path, img: &ImageEntry, name: &str, arrays: &mut String) -> Resul
 
 /// The C translation unit for the golden folder `dir`.
 pub fn c_source(dir: &Path) -> Result<String> {
-    let m = golden::read_manifest(dir).with_context(|| format!("golden folder {}", dir.display()))?;
+    let m =
+        golden::read_manifest(dir).with_context(|| format!("golden folder {}", dir.display()))?;
     if m.vectors.is_empty() {
         bail!("{}: no golden vectors", dir.display());
     }
@@ -212,7 +217,14 @@ mod tests {
         assert_eq!(out[1], "{\"h\", GOLDEN_INTS, 0, 0, v9_p1, 2}");
         assert_eq!(out[2], "{\"output\", GOLDEN_STR, 0, \"u8\", 0, 0}");
         assert!(arrays.contains("static const int64_t v9_p1[] = {1LL, -2LL};"));
-        assert!(params("", &serde_json::json!({"x": 0.5}), "v", &mut arrays, &mut out).is_err());
+        assert!(params(
+            "",
+            &serde_json::json!({"x": 0.5}),
+            "v",
+            &mut arrays,
+            &mut out
+        )
+        .is_err());
     }
 
     #[test]

@@ -18,10 +18,12 @@
 //! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
+//! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
 //! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | reference, contract check and golden cases of `kernels/src/<same name>.rs` |
 //! | [`chain`] | the edge chain composed on the host (`chain.edges`), its full-`f64` Canny reference |
 //! | [`sweep_plot`] | the plot of the warp precision sweep |
 
+pub mod c_firmware;
 pub mod chain;
 pub mod contract;
 pub mod families;
