@@ -10,9 +10,14 @@
  * (row streams, strips, blob round trip) run it too, outside the measured
  * window, and it must give the same bits.
  *
- * Code-size images (-DGOLDEN_KEEP=K_<family>_<name>, or -1 for none) route
- * every other kernel id to a no-op and drop the second paths, so the
+ * Code-size images (-DGOLDEN_SIZE_IMAGE, linked without bad_input.c) drop
+ * the second paths and the bad-input cases; with -DGOLDEN_KEEP=K_<family>_<name>
+ * (or -1 for none) they route every other kernel id to a no-op, so the
  * growth of .text over the `none` image is what that kernel id adds.
+ *
+ * Pixels per vector (the "px" of the console line): the first output's,
+ * or the first input's when the output is a single row (a summary such as
+ * the two thresholds, not an image).
  */
 #include "fixsight.h"
 #include "golden.h"
@@ -552,9 +557,17 @@ enum {
 
 #ifdef GOLDEN_KEEP
 #define PICK_RUN(tok, f) ((GOLDEN_KEEP == K_##tok) ? (f) : run_noop)
-#define PICK_ALT(tok, f) ((run_fn)0)
 #else
 #define PICK_RUN(tok, f) (f)
+#endif
+#ifdef GOLDEN_SIZE_IMAGE
+#define PICK_ALT(tok, f) ((run_fn)0)
+/* Size images leave the bad-input cases out: they call every function. */
+int golden_bad_inputs(int32_t *cases) {
+    *cases = 0;
+    return 0;
+}
+#else
 #define PICK_ALT(tok, f) (f)
 #endif
 
@@ -640,7 +653,10 @@ static int run_vector(int32_t index, const golden_vector *v) {
     say(" win ");
     golden_print_int(win);
     say(" px ");
-    golden_print_int((int64_t)v->expected[0].width * v->expected[0].height);
+    {
+        const golden_image *g = v->expected[0].height > 1 || v->ninputs == 0 ? &v->expected[0] : &v->inputs[0];
+        golden_print_int((int64_t)g->width * g->height);
+    }
     say(" stack ");
     golden_print_int(stack);
     if (s != FXS_OK) {

@@ -55,6 +55,7 @@ fn build_and_run(golden: &Path, work: &Path) -> (i32, String) {
         .arg(c.join("golden_run.c"))
         .arg(c.join("bad_input.c"))
         .arg(c.join("host_main.c"))
+        .arg(c.join("readme_example.c"))
         .arg(&vectors)
         .arg(static_lib())
         .args(["-lpthread", "-ldl", "-lm", "-o"])
@@ -122,6 +123,19 @@ fn golden_vectors_and_bad_inputs_through_the_c_api() {
     assert_eq!(vectors, manifest.vectors.len());
     assert_eq!((passed, bad_failed, status), (vectors, 0, 0));
     assert!(cases >= 100, "only {cases} bad-input cases ran");
+    assert!(console.contains("readme example: success"), "{console}");
+}
+
+/// The README's "From C" example is `c/readme_example.c`, which the test
+/// above compiles and runs.
+#[test]
+fn the_readme_shows_the_compiled_example() {
+    let example = std::fs::read_to_string(crate_dir().join("c/readme_example.c")).unwrap();
+    let readme = std::fs::read_to_string(crate_dir().join("../README.md")).unwrap();
+    assert!(
+        readme.contains(example.trim()),
+        "README.md lacks c-abi/c/readme_example.c"
+    );
 }
 
 #[test]

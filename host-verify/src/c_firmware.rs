@@ -20,7 +20,8 @@
 //! firmware), the stack high-water mark by painting, and code bytes as the
 //! `.text` growth of an image whose runner keeps only that kernel id's
 //! dispatcher (`-DGOLDEN_KEEP=K_<family>_<name>`) over one that keeps none
-//! (`-DGOLDEN_KEEP=-1`): link-only images, not run. The archive size and
+//! (`-DGOLDEN_KEEP=-1`), both without the bad-input cases (which call
+//! every function): link-only images, not run. The archive size and
 //! the growth of `.text + .rodata` of the full image over the `none` image
 //! go to `c_library`.
 
@@ -145,11 +146,19 @@ impl Builder {
         )
     }
 
-    fn image(&self, keep: Option<&str>, name: &str) -> Result<PathBuf> {
+    /// The run image (`size` = None), or a code-size image keeping every
+    /// kernel id (`Some(None)`) or one (`Some(Some("K_..."))`, `"-1"` none).
+    fn image(&self, size: Option<Option<&str>>, name: &str) -> Result<PathBuf> {
         let mut defines = vec![format!("-DGOLDEN_ARCH=\"{}\"", TARGET.triple)];
-        if let Some(k) = keep {
-            defines.push(format!("-DGOLDEN_KEEP={k}"));
+        let mut objects = self.fixed.clone();
+        if let Some(keep) = size {
+            defines.push("-DGOLDEN_SIZE_IMAGE".into());
             defines.push("-Wno-unused-function".into());
+            if let Some(k) = keep {
+                defines.push(format!("-DGOLDEN_KEEP={k}"));
+            }
+        } else {
+            objects.push(self.dir.join("bad_input.o"));
         }
         let runner = self.dir.join(format!("golden_run.{name}.o"));
         self.compile(&self.root.join("c-abi/c/golden_run.c"), &runner, &defines)?;
@@ -161,7 +170,7 @@ impl Builder {
                 .arg(self.root.join("targets/c-firmware/link.ld"))
                 .arg("-Wl,--gc-sections")
                 .arg(&runner)
-                .args(&self.fixed)
+                .args(&objects)
                 .arg(&self.lib)
                 .args(["-lc", "-lgcc", "-o"])
                 .arg(&elf),
@@ -197,7 +206,9 @@ pub fn run(
     ] {
         let o = dir.join(obj);
         b.compile(&src, &o, &defines)?;
-        b.fixed.push(o);
+        if obj != "bad_input.o" {
+            b.fixed.push(o);
+        }
     }
     let elf = b.image(None, TARGET.bin.trim_end_matches(".elf"))?;
 
@@ -241,7 +252,8 @@ pub fn run(
         .get(cal)
         .context("C firmware: no calibration window")?;
 
-    let none = b.image(Some("-1"), "none")?;
+    let none = b.image(Some(Some("-1")), "none")?;
+    let every = b.image(Some(None), "every")?;
     let (text_none, all_none) = (text_bytes(&none)?, text_rodata(&none)?);
     let mut ids: Vec<String> = Vec::new();
     for c in &calls {
@@ -257,7 +269,7 @@ pub fn run(
     }
     for id in &ids {
         let token = format!("K_{}", id.replace('.', "_"));
-        let with = text_bytes(&b.image(Some(&token), &token)?)?;
+        let with = text_bytes(&b.image(Some(Some(&token)), &token)?)?;
         let (mut n, mut px) = (0u64, 0u64);
         for c in calls.iter().filter(|c| &c.kernel == id) {
             if let Some(w) = c.window.and_then(|w| r.windows.get(w)) {
@@ -281,7 +293,7 @@ pub fn run(
     let c_library = CLibrary {
         archive: rel,
         archive_bytes: std::fs::metadata(&lib)?.len(),
-        firmware_bytes_added: text_rodata(&elf)?.saturating_sub(all_none),
+        firmware_bytes_added: text_rodata(&every)?.saturating_sub(all_none),
     };
     b.fixed.clear();
     Ok((

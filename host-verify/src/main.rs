@@ -57,7 +57,8 @@ enum Cmd {
         vectors: Option<PathBuf>,
     },
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
-    /// and RV32 cores (QEMU), write targets.json.
+    /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
+    /// targets.json.
     Targets {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
@@ -65,6 +66,9 @@ enum Cmd {
         /// Golden-vector folder (default: ./golden, else the repository's).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+        /// Only the firmware in this language (`rust` or `c`); default both.
+        #[arg(long, value_parser = ["rust", "c"])]
+        lang: Option<String>,
     },
     /// Check or regenerate the golden vectors.
     Golden {
@@ -130,7 +134,9 @@ fn run(cmd: Cmd) -> anyhow::Result<bool> {
             println!("report written to {}", out.join("report.json").display());
             Ok(r.pass)
         }
-        Cmd::Targets { out, vectors } => fixsight_verify::targets::run(&out, &golden_dir(vectors)),
+        Cmd::Targets { out, vectors, lang } => {
+            fixsight_verify::targets::run(&out, &golden_dir(vectors), lang.as_deref())
+        }
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => {
