@@ -2,7 +2,8 @@
 //! against sources the project did not write. Each check names its source.
 
 use fixsight::filter::{self, Border};
-use fixsight_verify::filter::{real_taps, reference_real, run_whole};
+use fixsight_verify::filter::reference::{real_taps, reference_real};
+use fixsight_verify::filter::run::run_whole;
 use fixsight_verify::scene::demo_scenes;
 use image::GrayImage;
 

@@ -59,7 +59,12 @@ fn every_kernel_id_is_named_after_its_file_and_api() {
     for f in FAMILIES {
         assert!(!f.kernels.is_empty(), "family {} has no kernel id", f.name);
         let kernel_file = root().join("kernels/src").join(format!("{}.rs", f.name));
-        let host = read(&format!("host-verify/src/{}.rs", f.name));
+        // The family's host folder, every file of it.
+        let host_dir = root().join("host-verify/src").join(f.name);
+        let host: String = fs::read_dir(&host_dir)
+            .unwrap_or_else(|e| panic!("{}: {e}", host_dir.display()))
+            .map(|e| fs::read_to_string(e.unwrap().path()).unwrap())
+            .collect();
         for id in f.kernels {
             assert!(seen.insert(*id), "kernel id {id} listed twice");
             let (fam, name) = id.split_once('.').expect("id is <family>.<name>");
@@ -73,7 +78,7 @@ fn every_kernel_id_is_named_after_its_file_and_api() {
             );
             assert!(
                 host.contains(&format!("`{id}`")) || host.contains(&format!("\"{id}\"")),
-                "{id} is not named in host-verify/src/{}.rs",
+                "{id} is not named in host-verify/src/{}/",
                 f.name
             );
             if f.composed_on_host {
@@ -84,7 +89,7 @@ fn every_kernel_id_is_named_after_its_file_and_api() {
                 );
                 assert!(
                     host.contains("host composition"),
-                    "host-verify/src/{}.rs must say that {id} is a host composition",
+                    "host-verify/src/{}/ must say that {id} is a host composition",
                     f.name
                 );
             } else {
@@ -162,34 +167,39 @@ fn report_rows_are_the_registry_ids_in_order() {
     fs::remove_dir_all(&out).unwrap();
 }
 
-/// `pub fn <name>(` of the on-target dispatchers, per harness file stem.
-fn harness_functions() -> BTreeSet<String> {
-    let dir = root().join("targets/harness/src/kernels");
-    let mut out = BTreeSet::new();
-    for e in fs::read_dir(&dir).unwrap() {
-        let p = e.unwrap().path();
-        let stem = p.file_stem().unwrap().to_string_lossy().to_string();
-        if stem == "mod" {
-            continue;
-        }
-        for l in fs::read_to_string(&p).unwrap().lines() {
-            if let Some(rest) = l.strip_prefix("pub fn ") {
-                let name: String = rest
-                    .chars()
-                    .take_while(|c| *c != '(' && *c != '<')
-                    .collect();
-                out.insert(format!("{stem}.{name}"));
-            }
-        }
-    }
-    out
+/// The rows `"<id>" => <module>::<function>,` of the harness's kernel
+/// table (`targets/harness/src/kernels/mod.rs`, inside `kernel_table!`).
+fn harness_table() -> Vec<(String, String)> {
+    let text = read("targets/harness/src/kernels/mod.rs");
+    let start = text
+        .find("kernel_table! {")
+        .expect("the harness has its kernel table");
+    let body = &text[start..];
+    let body = &body[..body.find("\n}").expect("the table ends")];
+    body.lines()
+        .filter_map(|l| {
+            let (id, f) = l.trim().trim_end_matches(',').split_once(" => ")?;
+            Some((id.trim_matches('"').to_string(), f.to_string()))
+        })
+        .collect()
 }
 
 #[test]
-fn on_target_dispatchers_and_bench_stages_use_the_registry_ids() {
-    let served = harness_functions();
-    for id in kernel_ids() {
-        assert!(served.contains(id), "no on-target dispatcher for {id}");
+fn on_target_table_and_bench_stages_use_the_registry_ids() {
+    let table = harness_table();
+    let ids: Vec<String> = table.iter().map(|(id, _)| id.clone()).collect();
+    let want: Vec<String> = kernel_ids().map(str::to_string).collect();
+    assert_eq!(
+        ids, want,
+        "harness kernel table (left) vs the registry (right)"
+    );
+    for (id, f) in &table {
+        // `nms.suppress` => `nms::suppress`: the dispatcher has the id's name.
+        assert_eq!(
+            f,
+            &id.replacen('.', "::", 1),
+            "table row {id} points at {f}"
+        );
     }
     let ids: BTreeSet<&str> = kernel_ids().collect();
     for l in read("targets/harness/src/bench.rs").lines() {

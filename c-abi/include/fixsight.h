@@ -105,6 +105,9 @@ typedef int32_t fxs_status;
 #define FXS_E_ROW_RANGE (-20)           /* strip of rows does not fit the output */
 #define FXS_E_THRESHOLD_ORDER (-21)     /* low threshold above high */
 #define FXS_E_BAD_EDGE_CODE (-22)       /* edge-code map value other than 0, 1, 2 */
+#define FXS_E_ROW_LENGTH (-23)          /* camera row of the wrong length (pipeline) */
+#define FXS_E_ROW_COUNT (-24)           /* frame ended with the wrong row count (pipeline) */
+#define FXS_E_FRAME_ORDER (-25)         /* frame number not increasing (track) */
 #define FXS_E_KERNEL_OTHER (-99)        /* kernel error of a newer kernel crate */
 /* Found at the C boundary. */
 #define FXS_E_NULL_POINTER (-101)    /* a required pointer is NULL */

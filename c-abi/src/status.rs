@@ -59,6 +59,12 @@ pub const FXS_E_ROW_RANGE: FxsStatus = -20;
 pub const FXS_E_THRESHOLD_ORDER: FxsStatus = -21;
 /// `Error::BadEdgeCode`.
 pub const FXS_E_BAD_EDGE_CODE: FxsStatus = -22;
+/// `Error::RowLength`.
+pub const FXS_E_ROW_LENGTH: FxsStatus = -23;
+/// `Error::RowCount`.
+pub const FXS_E_ROW_COUNT: FxsStatus = -24;
+/// `Error::FrameOrder`.
+pub const FXS_E_FRAME_ORDER: FxsStatus = -25;
 /// A kernel error this build of the C ABI has no code for (a newer kernel
 /// crate); never returned while the header test passes.
 pub const FXS_E_KERNEL_OTHER: FxsStatus = -99;
@@ -193,6 +199,21 @@ pub const STATUSES: &[(FxsStatus, &str, &CStr)] = &[
         c"edge-code map holds a value other than 0, 1 or 2",
     ),
     (
+        FXS_E_ROW_LENGTH,
+        "FXS_E_ROW_LENGTH",
+        c"a camera row does not have the length the stream was set up for",
+    ),
+    (
+        FXS_E_ROW_COUNT,
+        "FXS_E_ROW_COUNT",
+        c"a frame ended with a row count other than the declared height",
+    ),
+    (
+        FXS_E_FRAME_ORDER,
+        "FXS_E_FRAME_ORDER",
+        c"frame number not greater than the last one accepted",
+    ),
+    (
         FXS_E_KERNEL_OTHER,
         "FXS_E_KERNEL_OTHER",
         c"kernel error without a C status code in this build",
@@ -257,6 +278,9 @@ pub(crate) fn status_of(e: Error) -> FxsStatus {
         Error::RowRange { .. } => FXS_E_ROW_RANGE,
         Error::ThresholdOrder { .. } => FXS_E_THRESHOLD_ORDER,
         Error::BadEdgeCode { .. } => FXS_E_BAD_EDGE_CODE,
+        Error::RowLength { .. } => FXS_E_ROW_LENGTH,
+        Error::RowCount { .. } => FXS_E_ROW_COUNT,
+        Error::FrameOrder { .. } => FXS_E_FRAME_ORDER,
         _ => FXS_E_KERNEL_OTHER,
     }
 }

@@ -34,6 +34,12 @@ pub enum KernelFamily {
     Warp,
     /// The edge chain composed on the host (`host-verify/src/chain.rs`).
     Chain,
+    /// The streamed edge stage (`pipeline.rs`).
+    Pipeline,
+    /// Marking selection (`marking.rs`).
+    Marking,
+    /// Tape-edge tracker and drift warning (`track.rs`).
+    Track,
 }
 
 impl KernelFamily {
@@ -47,6 +53,9 @@ impl KernelFamily {
             KernelFamily::Thinning => "thinning",
             KernelFamily::Warp => "warp",
             KernelFamily::Chain => "chain",
+            KernelFamily::Pipeline => "pipeline",
+            KernelFamily::Marking => "marking",
+            KernelFamily::Track => "track",
         }
     }
 }

@@ -8,54 +8,51 @@
 //!
 //! | module | role |
 //! |---|---|
+//! | [`cmd`] | the body of each command of the `fixsight-verify` tool, one file per command |
+//! | [`family`] | what a kernel family provides ([`family::Family`]) and shared helpers |
+//! | [`families`] | the list of families and kernel ids; recomputing any golden vector |
+//! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | one folder per kernel file `kernels/src/<same name>.rs`: `reference.rs`, `check.rs` (contract), `golden.rs` (golden cases, `run_vector`) |
+//! | [`chain`] | the edge chain composed on the host (`chain.edges`): full-`f64` Canny reference, F1 contract |
+//! | [`edge_chain`] | the fixed-point edge chain run on the host, whose intermediates the edge families check |
+//! | [`pipeline`] | the streamed edge stage (`pipeline.edge_stream`) against the whole-frame kernels and the `f64` Canny |
+//! | [`border`] | the border rule as a golden parameter, the border-extended pixel lookup |
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
-//! | [`lens`] | lens models in `f64` |
+//! | [`sequence`] | the demo sequence (cart drifting along floor tape) and its per-frame truth |
+//! | [`lens`] | lens models in `f64`, the lens file format |
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
-//! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
-//! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
+//! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 //! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
-//! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | reference, contract check and golden cases of `kernels/src/<same name>.rs` |
-//! | [`chain`] | the edge chain composed on the host (`chain.edges`), its full-`f64` Canny reference |
-//! | [`sweep_plot`] | the plot of the warp precision sweep |
+//! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
+//! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
 
+pub mod border;
 pub mod c_firmware;
 pub mod chain;
+pub mod cmd;
 pub mod contract;
+pub mod edge_chain;
 pub mod families;
+pub mod family;
 pub mod filter;
 pub mod golden;
 pub mod golden_c;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod marking;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
+pub mod pipeline;
 pub mod report;
 pub mod scene;
-pub mod sweep_plot;
+pub mod sequence;
 pub mod targets;
 pub mod thinning;
+pub mod track;
 pub mod warp;
-
-use std::path::PathBuf;
-
-/// The golden folder: `dir` if given; else `golden/` in the current folder
-/// if it has a manifest; else the repository's `golden/` next to this crate.
-pub fn golden_dir(dir: Option<PathBuf>) -> PathBuf {
-    if let Some(d) = dir {
-        return d;
-    }
-    let here = PathBuf::from("golden");
-    if here.join(golden::MANIFEST).exists() {
-        return here;
-    }
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("..")
-        .join("golden")
-}

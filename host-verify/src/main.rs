@@ -1,7 +1,9 @@
-//! `fixsight-verify`: the command-line front of the verification tool.
+//! `fixsight-verify`: the command-line front of the verification tool. It
+//! parses the arguments and calls the command's body in
+//! `fixsight_verify::cmd`.
 
 use clap::{Parser, Subcommand};
-use fixsight_verify::{golden, golden_dir, report, scene};
+use fixsight_verify::cmd;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -48,6 +50,11 @@ enum Cmd {
     },
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
+    ///
+    /// The `track.tracker` row measures a drift warning for a vehicle following floor
+    /// tape. It is not a safety function: a vehicle that can hurt people needs
+    /// safety-rated sensing and control under the applicable standards (for
+    /// example ISO 3691-4, IEC 61508, ISO 13849) and local regulations.
     Report {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
@@ -108,8 +115,8 @@ fn main() -> ExitCode {
     }
 }
 
-fn run(cmd: Cmd) -> anyhow::Result<bool> {
-    match cmd {
+fn run(command: Cmd) -> anyhow::Result<bool> {
+    match command {
         Cmd::Grid {
             lens,
             grid_log2,
@@ -119,54 +126,22 @@ fn run(cmd: Cmd) -> anyhow::Result<bool> {
         } => {
             println!(
                 "{}",
-                fixsight_verify::warp::grid_command(&lens, grid_log2, frac_bits, &out, &name)?
+                cmd::grid::run(&lens, grid_log2, frac_bits, &out, &name)?
             );
             Ok(true)
         }
         Cmd::Sweep { out } => {
-            print!("{}", fixsight_verify::warp::sweep_command(&out)?);
+            print!("{}", cmd::sweep::run(&out)?);
             println!("written to {}", out.display());
             Ok(true)
         }
-        Cmd::Report { out, vectors } => {
-            let r = report::run(&out, &golden_dir(vectors))?;
-            print!("{}", report::table(&r));
-            println!("report written to {}", out.join("report.json").display());
-            Ok(r.pass)
-        }
-        Cmd::Targets { out, vectors, lang } => {
-            fixsight_verify::targets::run(&out, &golden_dir(vectors), lang.as_deref())
-        }
+        Cmd::Report { out, vectors } => cmd::report::run(&out, vectors),
+        Cmd::Targets { out, vectors, lang } => cmd::targets::run(&out, vectors, lang.as_deref()),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
-        } => {
-            let dir = golden_dir(vectors);
-            let s = golden::check(&dir).map_err(|e| {
-                anyhow::anyhow!("{e}\nhint: regenerate with `fixsight-verify golden write --overwrite` only if the kernels changed on purpose")
-            })?;
-            for (id, why) in &s.failures {
-                println!("FAIL {id}: {why}");
-            }
-            println!(
-                "{}/{} golden vectors reproduced bit for bit ({})",
-                s.passed,
-                s.vectors,
-                dir.display()
-            );
-            Ok(s.failures.is_empty() && s.passed == s.vectors)
-        }
+        } => cmd::golden::check(vectors),
         Cmd::Golden {
             cmd: GoldenCmd::Write { vectors, overwrite },
-        } => {
-            let dir = golden_dir(vectors);
-            let cases = golden::all_cases(&scene::demo_scenes());
-            let m = golden::write(&dir, &cases, overwrite)?;
-            println!(
-                "wrote {} golden vectors to {}",
-                m.vectors.len(),
-                dir.display()
-            );
-            Ok(true)
-        }
+        } => cmd::golden::write(vectors, overwrite),
     }
 }

@@ -19,7 +19,10 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
+//! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
+//! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
+//! | [`track`] | constant-velocity Kalman tracking of tape edges, drift warning (not a safety function) |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
@@ -48,9 +51,12 @@ pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
 pub mod image;
+pub mod marking;
 pub mod nms;
 pub mod ops;
+pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 pub use error::{Error, Result};
