@@ -65,6 +65,8 @@ pub const FXS_E_ROW_LENGTH: FxsStatus = -23;
 pub const FXS_E_ROW_COUNT: FxsStatus = -24;
 /// `Error::FrameOrder`.
 pub const FXS_E_FRAME_ORDER: FxsStatus = -25;
+/// `Error::PointOutside`.
+pub const FXS_E_POINT_OUTSIDE: FxsStatus = -26;
 /// A kernel error this build of the C ABI has no code for (a newer kernel
 /// crate); never returned while the header test passes.
 pub const FXS_E_KERNEL_OTHER: FxsStatus = -99;
@@ -214,6 +216,11 @@ pub const STATUSES: &[(FxsStatus, &str, &CStr)] = &[
         c"frame number not greater than the last one accepted",
     ),
     (
+        FXS_E_POINT_OUTSIDE,
+        "FXS_E_POINT_OUTSIDE",
+        c"a point lies outside the area the kernel accepts",
+    ),
+    (
         FXS_E_KERNEL_OTHER,
         "FXS_E_KERNEL_OTHER",
         c"kernel error without a C status code in this build",
@@ -281,6 +288,7 @@ pub(crate) fn status_of(e: Error) -> FxsStatus {
         Error::RowLength { .. } => FXS_E_ROW_LENGTH,
         Error::RowCount { .. } => FXS_E_ROW_COUNT,
         Error::FrameOrder { .. } => FXS_E_FRAME_ORDER,
+        Error::PointOutside { .. } => FXS_E_POINT_OUTSIDE,
         _ => FXS_E_KERNEL_OTHER,
     }
 }

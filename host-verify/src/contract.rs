@@ -40,6 +40,8 @@ pub enum KernelFamily {
     Marking,
     /// Tape-edge tracker and drift warning (`track.rs`).
     Track,
+    /// Line voting (`lines.rs`).
+    Lines,
 }
 
 impl KernelFamily {
@@ -56,6 +58,7 @@ impl KernelFamily {
             KernelFamily::Pipeline => "pipeline",
             KernelFamily::Marking => "marking",
             KernelFamily::Track => "track",
+            KernelFamily::Lines => "lines",
         }
     }
 }

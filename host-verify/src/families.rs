@@ -27,6 +27,7 @@ pub const FAMILIES: &[Family] = &[
     crate::pipeline::FAMILY,
     crate::marking::FAMILY,
     crate::track::FAMILY,
+    crate::lines::FAMILY,
 ];
 
 /// Every kernel id of every family, in report order.

@@ -29,6 +29,7 @@
 //! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
 //! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
+//! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod border;
 pub mod c_firmware;
@@ -44,6 +45,7 @@ pub mod golden_c;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod lines;
 pub mod marking;
 pub mod metrics;
 pub mod nms;

@@ -246,6 +246,18 @@ pub enum Error {
         /// Frame number given.
         got: u32,
     },
+    // --- lines (kernels/src/lines.rs) ---
+    /// A point to vote lies outside the voting frame.
+    PointOutside {
+        /// x in Q4 pixels from the top-left pixel centre.
+        x_q4: i32,
+        /// y in Q4 pixels from the top-left pixel centre.
+        y_q4: i32,
+        /// Frame width.
+        width: usize,
+        /// Frame height.
+        height: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -378,6 +390,15 @@ impl fmt::Display for Error {
             Error::FrameOrder { last, got } => write!(
                 f,
                 "frame number {got} does not follow the last frame {last}; frame numbers must increase"
+            ),
+            Error::PointOutside {
+                x_q4,
+                y_q4,
+                width,
+                height,
+            } => write!(
+                f,
+                "point ({x_q4}, {y_q4}) (Q4 pixels) lies outside the {width}x{height} voting frame"
             ),
         }
     }
