@@ -292,25 +292,28 @@ static fxs_status stream_filter(const golden_vector *v, const img *in, const img
 
 /* ------------------------------------------------------------ gradient -- */
 
-static fxs_status run_magnitude_l1(const golden_vector *v, const img *in, const img *out) {
+typedef fxs_status (*magnitude_fn)(const fxs_i16_view *, const fxs_i16_view *, const fxs_u16_view_mut *);
+
+/* A magnitude kernel of gx, gy (inputs 0 and 1) into output 0. */
+static fxs_status magnitude(const img *in, const img *out, magnitude_fn k) {
     fxs_i16_view gx = i16v(&in[0]), gy = i16v(&in[1]);
     fxs_u16_view_mut m = u16m(&out[0]);
+    return k(&gx, &gy, &m);
+}
+
+static fxs_status run_magnitude_l1(const golden_vector *v, const img *in, const img *out) {
     (void)v;
-    return fxs_gradient_magnitude_l1(&gx, &gy, &m);
+    return magnitude(in, out, fxs_gradient_magnitude_l1);
 }
 
 static fxs_status run_magnitude_l2_approx(const golden_vector *v, const img *in, const img *out) {
-    fxs_i16_view gx = i16v(&in[0]), gy = i16v(&in[1]);
-    fxs_u16_view_mut m = u16m(&out[0]);
     (void)v;
-    return fxs_gradient_magnitude_l2_approx(&gx, &gy, &m);
+    return magnitude(in, out, fxs_gradient_magnitude_l2_approx);
 }
 
 static fxs_status run_magnitude_l2_round(const golden_vector *v, const img *in, const img *out) {
-    fxs_i16_view gx = i16v(&in[0]), gy = i16v(&in[1]);
-    fxs_u16_view_mut m = u16m(&out[0]);
     (void)v;
-    return fxs_gradient_magnitude_l2_round(&gx, &gy, &m);
+    return magnitude(in, out, fxs_gradient_magnitude_l2_round);
 }
 
 static fxs_status run_direction(const golden_vector *v, const img *in, const img *out) {
