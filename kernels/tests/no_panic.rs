@@ -432,6 +432,69 @@ mod track_apis {
     }
 }
 
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn marking_selection_on_any_lines_and_limits(
+        rows in (any::<i32>(), any::<i32>(), any::<i32>()),
+        tilt in any::<u16>(),
+        xs in (any::<i32>(), any::<i32>()),
+        seps in (any::<i32>(), any::<i32>(), any::<i32>(), any::<i32>()),
+        contrast in 0u8..3,
+        raw in prop::collection::vec((any::<i32>(), any::<u16>(), any::<u32>(), 0u8..3), 0..40),
+        near_demo in prop::collection::vec((-4000i32..4000, prop_oneof![0u16..12000, 53536u16..=65535], any::<u32>(), 0u8..3), 0..24),
+    ) {
+        let pol = |p: u8| [Polarity::Unknown, Polarity::Rising, Polarity::Falling][p as usize];
+        let lines: Vec<Candidate> = raw
+            .iter()
+            .chain(near_demo.iter())
+            .map(|&(rho_q4, theta, votes, p)| Candidate { rho_q4, theta, votes, polarity: pol(p) })
+            .collect();
+        let limits = MarkingLimits {
+            near_row_q4: rows.0,
+            far_row_q4: rows.1,
+            horizon_row_q4: rows.2,
+            max_tilt: tilt,
+            near_x_min_q4: xs.0,
+            near_x_max_q4: xs.1,
+            near_sep_min_q4: seps.0,
+            near_sep_nominal_q4: seps.1,
+            near_sep_max_q4: seps.2,
+            converge_tol_q4: seps.3,
+            contrast: [TapeContrast::Brighter, TapeContrast::Darker, TapeContrast::Either][contrast as usize],
+        };
+        if let Ok(c) = MarkingConfig::new(limits) {
+            let _ = marking::select(&lines, &c);
+        }
+        // The widest configuration the checks accept.
+        let wide = MarkingConfig::new(MarkingLimits {
+            near_row_q4: marking::MAX_ROW_Q4,
+            far_row_q4: marking::MAX_ROW_Q4 - 1,
+            horizon_row_q4: -marking::MAX_ROW_Q4,
+            max_tilt: marking::MAX_TILT,
+            near_x_min_q4: -marking::MAX_SPAN_Q4,
+            near_x_max_q4: marking::MAX_SPAN_Q4,
+            near_sep_min_q4: 1,
+            near_sep_nominal_q4: 1,
+            near_sep_max_q4: marking::MAX_SPAN_Q4,
+            converge_tol_q4: marking::MAX_SPAN_Q4,
+            contrast: TapeContrast::Either,
+        })
+        .unwrap();
+        let _ = marking::select(&lines, &wide);
+        let m = marking::select(&lines, &MarkingConfig::DEMO);
+        if let Marking::Found(t) = m {
+            prop_assert!(t.left < lines.len() && t.right < lines.len() && t.left != t.right);
+            prop_assert!(t.near_x_q4[0] < t.near_x_q4[1]);
+        }
+        for c in &lines {
+            let _ = marking::column_at_row(c.rho_q4, c.theta, rows.0);
+            let _ = marking::sin_cos_q15(c.theta);
+        }
+    }
+}
+
 mod lines_no_panic {
     //! Line voting and the gradient angle: arbitrary parameters, buffer
     //! lengths, points, rows and call orders give `Ok` or a typed `Err`.
