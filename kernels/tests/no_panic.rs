@@ -339,6 +339,7 @@ mod track_apis {
             (prop_oneof![-3000i32..3000, any::<i32>()], -3000i32..3000),
             prop_oneof![0u16..100, Just(1024u16), Just(u16::MAX)],
             prop_oneof![0u16..20, Just(u16::MAX)],
+            (any::<u8>(), any::<u8>()),
         )
             .prop_map(
                 |(
@@ -351,6 +352,7 @@ mod track_apis {
                     reference_q4,
                     warn_horizon,
                     warn_min_hits,
+                    (warn_raise_frames, warn_clear_frames),
                 )| {
                     TrackConfig {
                         rho,
@@ -362,6 +364,8 @@ mod track_apis {
                         reference_q4,
                         warn_horizon,
                         warn_min_hits,
+                        warn_raise_frames,
+                        warn_clear_frames,
                     }
                 },
             )
@@ -412,6 +416,8 @@ mod track_apis {
             wide.gate_q8 = wide.gate_q8.max(1);
             wide.reference_q4.0 = wide.reference_q4.0.clamp(-(1 << 17) + 1, (1 << 17) - 1);
             wide.warn_horizon = wide.warn_horizon.min(1024);
+            wide.warn_raise_frames = wide.warn_raise_frames.max(1);
+            wide.warn_clear_frames = wide.warn_clear_frames.max(1);
             prop_assert!(Tracker::<3, 5>::new(wide).is_ok());
             let mut a = Tracker::<3, 5>::new(wide);
             let mut b = Tracker::<1, 1>::new(cfg);
@@ -428,69 +434,6 @@ mod track_apis {
                     let _ = t.tracks().count();
                 }
             }
-        }
-    }
-}
-
-proptest! {
-    #![proptest_config(ProptestConfig::with_cases(256))]
-
-    #[test]
-    fn marking_selection_on_any_lines_and_limits(
-        rows in (any::<i32>(), any::<i32>(), any::<i32>()),
-        tilt in any::<u16>(),
-        xs in (any::<i32>(), any::<i32>()),
-        seps in (any::<i32>(), any::<i32>(), any::<i32>(), any::<i32>()),
-        contrast in 0u8..3,
-        raw in prop::collection::vec((any::<i32>(), any::<u16>(), any::<u32>(), 0u8..3), 0..40),
-        near_demo in prop::collection::vec((-4000i32..4000, prop_oneof![0u16..12000, 53536u16..=65535], any::<u32>(), 0u8..3), 0..24),
-    ) {
-        let pol = |p: u8| [Polarity::Unknown, Polarity::Rising, Polarity::Falling][p as usize];
-        let lines: Vec<Candidate> = raw
-            .iter()
-            .chain(near_demo.iter())
-            .map(|&(rho_q4, theta, votes, p)| Candidate { rho_q4, theta, votes, polarity: pol(p) })
-            .collect();
-        let limits = MarkingLimits {
-            near_row_q4: rows.0,
-            far_row_q4: rows.1,
-            horizon_row_q4: rows.2,
-            max_tilt: tilt,
-            near_x_min_q4: xs.0,
-            near_x_max_q4: xs.1,
-            near_sep_min_q4: seps.0,
-            near_sep_nominal_q4: seps.1,
-            near_sep_max_q4: seps.2,
-            converge_tol_q4: seps.3,
-            contrast: [TapeContrast::Brighter, TapeContrast::Darker, TapeContrast::Either][contrast as usize],
-        };
-        if let Ok(c) = MarkingConfig::new(limits) {
-            let _ = marking::select(&lines, &c);
-        }
-        // The widest configuration the checks accept.
-        let wide = MarkingConfig::new(MarkingLimits {
-            near_row_q4: marking::MAX_ROW_Q4,
-            far_row_q4: marking::MAX_ROW_Q4 - 1,
-            horizon_row_q4: -marking::MAX_ROW_Q4,
-            max_tilt: marking::MAX_TILT,
-            near_x_min_q4: -marking::MAX_SPAN_Q4,
-            near_x_max_q4: marking::MAX_SPAN_Q4,
-            near_sep_min_q4: 1,
-            near_sep_nominal_q4: 1,
-            near_sep_max_q4: marking::MAX_SPAN_Q4,
-            converge_tol_q4: marking::MAX_SPAN_Q4,
-            contrast: TapeContrast::Either,
-        })
-        .unwrap();
-        let _ = marking::select(&lines, &wide);
-        let m = marking::select(&lines, &MarkingConfig::DEMO);
-        if let Marking::Found(t) = m {
-            prop_assert!(t.left < lines.len() && t.right < lines.len() && t.left != t.right);
-            prop_assert!(t.near_x_q4[0] < t.near_x_q4[1]);
-        }
-        for c in &lines {
-            let _ = marking::column_at_row(c.rho_q4, c.theta, rows.0);
-            let _ = marking::sin_cos_q15(c.theta);
         }
     }
 }
@@ -595,6 +538,69 @@ mod lines_no_panic {
             let mut o = vec![0u16; no];
             let _ = gradient::angle_row(&gx, &gy, &mut o);
             let _ = cos_sin(a, q);
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn marking_selection_on_any_lines_and_limits(
+        rows in (any::<i32>(), any::<i32>(), any::<i32>()),
+        tilt in any::<u16>(),
+        xs in (any::<i32>(), any::<i32>()),
+        seps in (any::<i32>(), any::<i32>(), any::<i32>(), any::<i32>()),
+        contrast in 0u8..3,
+        raw in prop::collection::vec((any::<i32>(), any::<u16>(), any::<u32>(), 0u8..3), 0..40),
+        near_demo in prop::collection::vec((-4000i32..4000, prop_oneof![0u16..12000, 53536u16..=65535], any::<u32>(), 0u8..3), 0..24),
+    ) {
+        let pol = |p: u8| [Polarity::Unknown, Polarity::Rising, Polarity::Falling][p as usize];
+        let lines: Vec<Candidate> = raw
+            .iter()
+            .chain(near_demo.iter())
+            .map(|&(rho_q4, theta, votes, p)| Candidate { rho_q4, theta, votes, polarity: pol(p) })
+            .collect();
+        let limits = MarkingLimits {
+            near_row_q4: rows.0,
+            far_row_q4: rows.1,
+            horizon_row_q4: rows.2,
+            max_tilt: tilt,
+            near_x_min_q4: xs.0,
+            near_x_max_q4: xs.1,
+            near_sep_min_q4: seps.0,
+            near_sep_nominal_q4: seps.1,
+            near_sep_max_q4: seps.2,
+            converge_tol_q4: seps.3,
+            contrast: [TapeContrast::Brighter, TapeContrast::Darker, TapeContrast::Either][contrast as usize],
+        };
+        if let Ok(c) = MarkingConfig::new(limits) {
+            let _ = marking::select(&lines, &c);
+        }
+        // The widest configuration the checks accept.
+        let wide = MarkingConfig::new(MarkingLimits {
+            near_row_q4: marking::MAX_ROW_Q4,
+            far_row_q4: marking::MAX_ROW_Q4 - 1,
+            horizon_row_q4: -marking::MAX_ROW_Q4,
+            max_tilt: marking::MAX_TILT,
+            near_x_min_q4: -marking::MAX_SPAN_Q4,
+            near_x_max_q4: marking::MAX_SPAN_Q4,
+            near_sep_min_q4: 1,
+            near_sep_nominal_q4: 1,
+            near_sep_max_q4: marking::MAX_SPAN_Q4,
+            converge_tol_q4: marking::MAX_SPAN_Q4,
+            contrast: TapeContrast::Either,
+        })
+        .unwrap();
+        let _ = marking::select(&lines, &wide);
+        let m = marking::select(&lines, &MarkingConfig::DEMO);
+        if let Marking::Found(t) = m {
+            prop_assert!(t.left < lines.len() && t.right < lines.len() && t.left != t.right);
+            prop_assert!(t.near_x_q4[0] < t.near_x_q4[1]);
+        }
+        for c in &lines {
+            let _ = marking::column_at_row(c.rho_q4, c.theta, rows.0);
+            let _ = marking::sin_cos_q15(c.theta);
         }
     }
 }
