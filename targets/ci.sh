@@ -11,6 +11,11 @@ if ! command -v qemu-system-arm >/dev/null || ! command -v qemu-system-riscv32 >
   apt-get install -y --no-install-recommends qemu-system-arm qemu-system-misc
 fi
 command -v gcc >/dev/null || apt-get install -y --no-install-recommends gcc libc6-dev
+# The C firmware (targets/c-firmware): Arm cross compiler and newlib.
+if ! command -v arm-none-eabi-gcc >/dev/null; then
+  apt-get update
+  apt-get install -y --no-install-recommends gcc-arm-none-eabi libnewlib-arm-none-eabi
+fi
 rustup target add thumbv6m-none-eabi thumbv7m-none-eabi thumbv7em-none-eabihf riscv32imc-unknown-none-elf
 rustup component add llvm-tools
 timeout 1200 cargo run -q --release -p fixsight-verify -- targets --out "${FIXSIGHT_REPORT:-fixsight-report}"

@@ -23,13 +23,16 @@
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
 //! | [`golden`] | golden-vector format, check and write |
+//! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
+//! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
 //! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
 //! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod border;
+pub mod c_firmware;
 pub mod chain;
 pub mod cmd;
 pub mod contract;
@@ -38,6 +41,7 @@ pub mod families;
 pub mod family;
 pub mod filter;
 pub mod golden;
+pub mod golden_c;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;

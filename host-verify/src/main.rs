@@ -67,7 +67,8 @@ enum Cmd {
         vectors: Option<PathBuf>,
     },
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
-    /// and RV32 cores (QEMU), write targets.json.
+    /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
+    /// targets.json.
     Targets {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
@@ -75,6 +76,9 @@ enum Cmd {
         /// Golden-vector folder (default: ./golden, else the repository's).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+        /// Only the firmware in this language (`rust` or `c`); default both.
+        #[arg(long, value_parser = ["rust", "c"])]
+        lang: Option<String>,
     },
     /// Check or regenerate the golden vectors.
     Golden {
@@ -135,7 +139,7 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             Ok(true)
         }
         Cmd::Report { out, vectors } => cmd::report::run(&out, vectors),
-        Cmd::Targets { out, vectors } => cmd::targets::run(&out, vectors),
+        Cmd::Targets { out, vectors, lang } => cmd::targets::run(&out, vectors, lang.as_deref()),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),

@@ -227,12 +227,21 @@ pub fn table(r: &Report) -> String {
     if let Some(targets) = r.targets.as_ref().and_then(|t| t["targets"].as_array()) {
         for t in targets {
             out += &format!(
-                "on target {} ({}): {}/{} golden vectors bit-exact\n",
+                "on target {} ({}, {}): {}/{} golden vectors bit-exact\n",
                 t["name"].as_str().unwrap_or("?"),
                 t["triple"].as_str().unwrap_or("?"),
+                t["lang"].as_str().unwrap_or("rust"),
                 t["passed"],
                 t["vectors"]
             );
+            if let Some(l) = t.get("c_library") {
+                out += &format!(
+                    "  C static library {}: {} bytes, adds {} bytes of .text + .rodata\n",
+                    l["archive"].as_str().unwrap_or("?"),
+                    l["archive_bytes"],
+                    l["firmware_bytes_added"]
+                );
+            }
         }
     }
     out += &format!("overall: {}\n", if r.pass { "PASS" } else { "FAIL" });

@@ -134,6 +134,31 @@ pub struct TargetResult {
     pub passed: usize,
     /// Per-kernel figures.
     pub kernels: Vec<KernelFigures>,
+    /// Language of the firmware: `"rust"` (the kernels called directly) or
+    /// `"c"` (through the C ABI, `targets/c-firmware`).
+    #[serde(default = "rust_lang")]
+    pub lang: String,
+    /// The static library a C firmware links, and what it adds.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub c_library: Option<CLibrary>,
+}
+
+fn rust_lang() -> String {
+    "rust".into()
+}
+
+/// Size figures of the C ABI's static library on one core.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CLibrary {
+    /// Path of the archive, relative to the repository.
+    pub archive: String,
+    /// Bytes of the archive file (`libfixsight_c.a`).
+    pub archive_bytes: u64,
+    /// Growth of `.text` + `.rodata` of the C firmware that dispatches
+    /// every kernel id over the same firmware dispatching none (code-size
+    /// images without the bad-input cases): what the library (and the
+    /// small C dispatchers) add to a firmware image.
+    pub firmware_bytes_added: u64,
 }
 
 /// Figures of one kernel (one bench stage, or one kernel id without one).
@@ -158,12 +183,12 @@ pub fn load_targets_json(dir: &Path) -> Option<TargetsReport> {
 }
 
 /// Repository root (the folder holding `targets/`).
-fn repo_root() -> PathBuf {
+pub(crate) fn repo_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("..")
 }
 
 /// `llvm-size` / `llvm-nm` from the rustup `llvm-tools` component.
-fn llvm_tool(name: &str) -> Result<PathBuf> {
+pub(crate) fn llvm_tool(name: &str) -> Result<PathBuf> {
     let out = Command::new("rustc")
         .args(["--print", "sysroot"])
         .output()?;
@@ -201,6 +226,13 @@ pub fn preflight() -> Result<()> {
     }
     if Command::new("timeout").arg("--version").output().is_err() {
         missing.push("timeout not found; install it with: apt-get install -y coreutils".into());
+    }
+    if Command::new(crate::c_firmware::CC)
+        .arg("--version")
+        .output()
+        .is_err()
+    {
+        missing.push(format!("{} not found (builds the C firmware); install it with: apt-get install -y --no-install-recommends gcc-arm-none-eabi libnewlib-arm-none-eabi", crate::c_firmware::CC));
     }
     if Command::new("gcc").arg("--version").output().is_err() {
         missing.push("gcc not found (builds the QEMU plugin); install it with: apt-get install -y --no-install-recommends gcc libc6-dev".into());
@@ -241,7 +273,7 @@ pub fn preflight() -> Result<()> {
 }
 
 /// Compiles the instruction-window plugin into `targets/qemu-plugin/target/`.
-fn build_plugin(root: &Path) -> Result<PathBuf> {
+pub(crate) fn build_plugin(root: &Path) -> Result<PathBuf> {
     let dir = root.join("targets/qemu-plugin");
     let out = dir.join("target/libinsn_window.so");
     std::fs::create_dir_all(out.parent().unwrap())?;
@@ -298,7 +330,7 @@ fn build_firmware(root: &Path, t: &Target, golden: &Path, only: Option<&str>) ->
 }
 
 /// Address of a symbol in an ELF file.
-fn symbol(elf: &Path, name: &str) -> Result<u64> {
+pub(crate) fn symbol(elf: &Path, name: &str) -> Result<u64> {
     let out = Command::new(llvm_tool("llvm-nm")?).arg(elf).output()?;
     String::from_utf8_lossy(&out.stdout)
         .lines()
@@ -313,7 +345,7 @@ fn symbol(elf: &Path, name: &str) -> Result<u64> {
 }
 
 /// Size of the `.text` section.
-fn text_bytes(elf: &Path) -> Result<u64> {
+pub(crate) fn text_bytes(elf: &Path) -> Result<u64> {
     let out = Command::new(llvm_tool("llvm-size")?)
         .arg("-A")
         .arg(elf)
@@ -342,7 +374,7 @@ pub struct Run {
     pub plugin_log: String,
 }
 
-fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
+pub(crate) fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
     let open = symbol(elf, "fixsight_window_open")?;
     let close = symbol(elf, "fixsight_window_close")?;
     let _ = std::fs::remove_file(log);
@@ -390,18 +422,18 @@ fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
 
 /// One measured call as printed by the firmware.
 #[derive(Debug, Clone)]
-struct Call {
-    kernel: String,
+pub(crate) struct Call {
+    pub(crate) kernel: String,
     /// Bench stage name, `None` for a golden vector.
-    stage: Option<String>,
-    status: String,
-    window: Option<usize>,
-    px: u64,
-    stack: u64,
-    line: String,
+    pub(crate) stage: Option<String>,
+    pub(crate) status: String,
+    pub(crate) window: Option<usize>,
+    pub(crate) px: u64,
+    pub(crate) stack: u64,
+    pub(crate) line: String,
 }
 
-fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize))> {
+pub(crate) fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize))> {
     let mut cal = None;
     let mut calls = Vec::new();
     let mut done = None;
@@ -566,6 +598,8 @@ pub fn run_target(
             vectors,
             passed,
             kernels,
+            lang: rust_lang(),
+            c_library: None,
         },
         problems,
     ))
@@ -576,9 +610,15 @@ pub fn table(r: &TargetsReport) -> String {
     let mut s = String::new();
     for t in &r.targets {
         s += &format!(
-            "{} ({}): {}/{} golden vectors bit-exact\n",
-            t.name, t.triple, t.passed, t.vectors
+            "{} ({}, {}): {}/{} golden vectors bit-exact\n",
+            t.name, t.triple, t.lang, t.passed, t.vectors
         );
+        if let Some(l) = &t.c_library {
+            s += &format!(
+                "  {}: {} bytes; adds {} bytes of .text + .rodata to the firmware\n",
+                l.archive, l.archive_bytes, l.firmware_bytes_added
+            );
+        }
         s += &format!(
             "  {:<36} {:>10} {:>10} {:>8}\n",
             "kernel", "instr/px", "code B", "stack B"
@@ -595,7 +635,9 @@ pub fn table(r: &TargetsReport) -> String {
 
 /// `fixsight-verify targets`: preflight, build, run, write `targets.json`.
 /// Returns `Ok(false)` if any vector failed or any check disagreed.
-pub fn run(out: &Path, golden: &Path) -> Result<bool> {
+///
+/// `lang` = `Some("rust")` or `Some("c")` runs only that firmware.
+pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
     preflight()?;
     let root = repo_root();
     let golden = std::fs::canonicalize(golden)
@@ -608,8 +650,15 @@ pub fn run(out: &Path, golden: &Path) -> Result<bool> {
         targets: Vec::new(),
     };
     let mut problems = Vec::new();
-    for t in &TARGETS {
-        let (r, p) = run_target(&root, t, &golden, &plugin, &logs)?;
+    if lang != Some("c") {
+        for t in &TARGETS {
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs)?;
+            report.targets.push(r);
+            problems.extend(p);
+        }
+    }
+    if lang != Some("rust") {
+        let (r, p) = crate::c_firmware::run(&root, &golden, &plugin, &logs)?;
         report.targets.push(r);
         problems.extend(p);
     }
@@ -661,6 +710,12 @@ mod tests {
                     code_bytes: 1552,
                     stack_bytes: 252,
                 }],
+                lang: "c".into(),
+                c_library: Some(CLibrary {
+                    archive: "target/x/c-release/libfixsight_c.a".into(),
+                    archive_bytes: 10,
+                    firmware_bytes_added: 5,
+                }),
             }],
         };
         std::fs::write(dir.join(TARGETS_JSON), serde_json::to_string(&r).unwrap()).unwrap();

@@ -51,14 +51,20 @@ pub fn check_dims(width: usize, height: usize) -> Result<()> {
     Ok(())
 }
 
-/// Checks a layout and returns the number of elements it spans.
-fn check_layout(
-    len: usize,
-    width: usize,
-    height: usize,
-    stride: usize,
-    channels: usize,
-) -> Result<usize> {
+/// Checks a layout (the rules in the module docs, without a buffer) and
+/// returns the number of elements it spans:
+/// `stride * (height - 1) + width * channels`. A buffer of at least that many
+/// elements can hold the image; callers that hand memory across a language
+/// boundary use it to size the slice before making a view.
+///
+/// ```
+/// use fixsight::{image::layout_span, Error};
+/// assert_eq!(layout_span(5, 3, 6, 1), Ok(17));          // last row needs no padding
+/// assert_eq!(layout_span(2, 2, 6, 3), Ok(12));          // interleaved RGB
+/// assert!(matches!(layout_span(7, 3, 6, 1), Err(Error::StrideTooSmall { .. })));
+/// assert!(matches!(layout_span(1, 30000, 1 << 20, 1), Err(Error::LayoutOverflow { .. })));
+/// ```
+pub fn layout_span(width: usize, height: usize, stride: usize, channels: usize) -> Result<usize> {
     check_dims(width, height)?;
     if channels == 0 || channels > MAX_CHANNELS {
         return Err(Error::UnsupportedChannels {
@@ -74,7 +80,19 @@ fn check_layout(
         Some(t) if t <= i32::MAX as usize => t,
         _ => return Err(Error::LayoutOverflow { stride, height }),
     };
-    let needed = total - stride + row_len;
+    Ok(total - stride + row_len)
+}
+
+/// Checks a layout against a buffer length and returns the number of
+/// elements it spans.
+fn check_layout(
+    len: usize,
+    width: usize,
+    height: usize,
+    stride: usize,
+    channels: usize,
+) -> Result<usize> {
+    let needed = layout_span(width, height, stride, channels)?;
     if len < needed {
         return Err(Error::BufferTooShort {
             what: "image",

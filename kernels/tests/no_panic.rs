@@ -44,6 +44,11 @@ proptest! {
         let mut dst16 = vec![0i16; len2];
         let mut s = vec![0i32; scratch];
         let v = ImageView::interleaved(&src, w, h, st, ch);
+        // The bufferless layout check agrees with the view's own.
+        match fixsight::image::layout_span(w, h, st, ch) {
+            Ok(span) => prop_assert_eq!(v.is_ok(), len >= span),
+            Err(e) => prop_assert_eq!(v.as_ref().err().copied(), Some(e)),
+        }
         if let Ok(v) = &v {
             // Every accepted view can be read row by row without panicking.
             for y in 0..v.height() + 1 {

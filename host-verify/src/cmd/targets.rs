@@ -4,8 +4,8 @@
 use super::vectors_dir;
 use std::path::{Path, PathBuf};
 
-/// Builds and runs the firmware for every core, writes `targets.json` to
-/// `out`.
-pub fn run(out: &Path, vectors: Option<PathBuf>) -> anyhow::Result<bool> {
-    crate::targets::run(out, &vectors_dir(vectors))
+/// Builds and runs the firmware for every core (or only the Rust or only
+/// the C firmware, `lang`), writes `targets.json` to `out`.
+pub fn run(out: &Path, vectors: Option<PathBuf>, lang: Option<&str>) -> anyhow::Result<bool> {
+    crate::targets::run(out, &vectors_dir(vectors), lang)
 }

@@ -1,0 +1,81 @@
+//! # fixsight-c — the C ABI of the fixsight kernels
+//!
+//! A static library (`libfixsight_c.a`) and one C99 header,
+//! `c-abi/include/fixsight.h`, that give C firmware every public kernel
+//! family of the `fixsight` crate with plain C types: pointers, `int32_t`
+//! sizes, strides in elements, caller-provided scratch, `int32_t` status
+//! codes and `fxs_status_message`. No allocation, no global state, no
+//! callbacks.
+//!
+//! The header is the reference for C callers (sizes of every buffer, what
+//! may alias, the status codes, the integer model); the Rust items here are
+//! not a Rust API (Rust code calls `fixsight` directly), so the modules are
+//! private and only the `#[no_mangle]` symbols leave the crate.
+//!
+//! # Layout
+//!
+//! | file | what |
+//! |---|---|
+//! | `status.rs` | status codes, `fxs_status_message` |
+//! | `boundary.rs` | image descriptors, pointer/length/overlap checks, objects in caller storage |
+//! | `<family>.rs` | one file per kernel family, the `fxs_<family>_*` functions |
+//!
+//! Adding a family (say `lines`): `src/lines.rs` with its functions and
+//! storage types, `mod lines;` below, a section `lines` in the header, and
+//! the golden dispatch in `c/golden_run.c`; the header test checks that
+//! header and Rust agree.
+//!
+//! # Safety at the boundary
+//!
+//! `unsafe` lives only in this crate's `extern "C"` functions and in
+//! `boundary.rs`. Every pointer/length pair is checked (NULL, alignment,
+//! negative sizes, the kernel's layout rules including `stride * height`
+//! overflow, stated length too short, address-space wrap, overlap of a
+//! written buffer with any other) before a slice is made; what remains for
+//! the caller is stated at each `unsafe` block: the memory behind a pointer
+//! must really hold the stated number of elements and not be touched by
+//! anyone else during the call (or, for objects, while they are in use).
+//!
+//! # Panics
+//!
+//! The kernels return errors instead of panicking. On bare-metal targets
+//! the library's panic handler, which no input can reach, executes a
+//! permanently undefined instruction so the core's fault handler runs; on
+//! hosted targets the standard library's handler is linked.
+#![no_std]
+#![deny(unsafe_op_in_unsafe_fn)]
+#![warn(missing_docs, clippy::undocumented_unsafe_blocks)]
+
+#[cfg(not(target_os = "none"))]
+extern crate std;
+
+mod boundary;
+mod filter;
+mod gradient;
+mod hysteresis;
+mod nms;
+mod status;
+mod thinning;
+mod warp;
+
+#[cfg(test)]
+mod header_check;
+
+#[cfg(target_os = "none")]
+#[panic_handler]
+fn panic(_: &core::panic::PanicInfo) -> ! {
+    loop {
+        #[cfg(target_arch = "arm")]
+        // SAFETY: `udf` raises an undefined-instruction fault; it touches no
+        // memory. The fault handler of the firmware takes over.
+        unsafe {
+            core::arch::asm!("udf #0xfe", options(noreturn, nomem, nostack))
+        };
+        #[cfg(target_arch = "riscv32")]
+        // SAFETY: `unimp` raises an illegal-instruction exception; it touches
+        // no memory.
+        unsafe {
+            core::arch::asm!("unimp", options(noreturn, nomem, nostack))
+        };
+    }
+}
