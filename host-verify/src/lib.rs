@@ -21,6 +21,7 @@
 //! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
 //! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
 
+pub mod calibrate;
 pub mod canny;
 pub mod contract;
 pub mod families;

@@ -37,6 +37,35 @@ enum Cmd {
         #[arg(long, default_value = "lens_mesh")]
         name: String,
     },
+    /// Calibrate a lens from photographs of a flat checkerboard: writes a
+    /// lens file (`fixsight-lens 1`, its path on the last line), a report
+    /// and a picture per image.
+    Calibrate {
+        /// Folder of .png/.jpg/.jpeg photographs of the board, one sensor size.
+        #[arg(long)]
+        images: PathBuf,
+        /// Inner corners of the board as COLSxROWS (corners where four squares meet), e.g. 9x6.
+        #[arg(long, value_parser = fixsight_verify::calibrate::command::parse_corners)]
+        inner_corners: (usize, usize),
+        /// Side of one square, millimetres.
+        #[arg(long)]
+        square_mm: f64,
+        /// Distortion model: `brown` (radial k1..k3, tangential p1, p2) or `fisheye` (equidistant k1, k2).
+        #[arg(long, default_value = "brown", value_parser = fixsight_verify::calibrate::ModelKind::parse)]
+        model: fixsight_verify::calibrate::ModelKind,
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-calibration")]
+        out: PathBuf,
+        /// Mesh step as log2 of output pixels (2..=6), for the report's mesh error.
+        #[arg(long, default_value_t = 4)]
+        step_log2: u32,
+        /// Fractional bits (2..=10), for the report's mesh error.
+        #[arg(long, default_value_t = 5)]
+        frac_bits: u32,
+        /// Replace existing output files.
+        #[arg(long)]
+        replace: bool,
+    },
     /// Remap precision sweep (fractional bits x mesh step): table and plot.
     Sweep {
         /// Output folder.
@@ -114,6 +143,29 @@ fn run(cmd: Cmd) -> anyhow::Result<bool> {
                 "{}",
                 fixsight_verify::remap::mesh_command(&lens, step_log2, frac_bits, &out, &name)?
             );
+            Ok(true)
+        }
+        Cmd::Calibrate {
+            images,
+            inner_corners: (cols, rows),
+            square_mm,
+            model,
+            out,
+            step_log2,
+            frac_bits,
+            replace,
+        } => {
+            use fixsight_verify::calibrate::{command, Board};
+            let req = command::Request {
+                images,
+                board: Board::new(cols, rows, square_mm)?,
+                model,
+                out,
+                step_log2,
+                frac_bits,
+                replace,
+            };
+            print!("{}", command::run(&req)?);
             Ok(true)
         }
         Cmd::Sweep { out } => {
