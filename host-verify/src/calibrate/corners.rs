@@ -250,7 +250,22 @@ fn candidates(smooth: &Grey, s: f64, corners: usize) -> Vec<Candidate> {
                 }
             }
             if best {
-                peaks.push((x as f64, y as f64, r));
+                // Sub-pixel peak: a parabola through the response and its
+                // two neighbours, per axis.
+                let at = |dx: isize, dy: isize| {
+                    resp[(y as isize + dy) as usize * w + (x as isize + dx) as usize]
+                };
+                let vertex = |a: f64, b: f64, c: f64| {
+                    let den = a - 2.0 * b + c;
+                    if den < 0.0 {
+                        (0.5 * (a - c) / den).clamp(-0.5, 0.5)
+                    } else {
+                        0.0
+                    }
+                };
+                let ox = vertex(at(-1, 0), r, at(1, 0));
+                let oy = vertex(at(0, -1), r, at(0, 1));
+                peaks.push((x as f64 + ox, y as f64 + oy, r));
             }
         }
     }
@@ -476,15 +491,32 @@ fn grow(smooth: &Grey, cands: &[Candidate], grid: &mut Grid, limit: i32, s: f64)
                 let (Some(p1), Some(p2)) = (get(1), get(2)) else {
                     break;
                 };
-                let pred = match get(3) {
-                    Some(p3) => (
-                        3.0 * p1.x - 3.0 * p2.x + p3.x,
-                        3.0 * p1.y - 3.0 * p2.y + p3.y,
-                    ),
-                    None => (2.0 * p1.x - p2.x, 2.0 * p1.y - p2.y),
+                // Next step = last step turned and scaled as the last step
+                // was from the one before (complex ratio), which follows
+                // both the shrinking of perspective and the bend of the lens.
+                let d1 = (p1.x - p2.x, p1.y - p2.y);
+                let d0 = match get(3) {
+                    Some(p3) => {
+                        let d2 = (p2.x - p3.x, p2.y - p3.y);
+                        let n2 = d2.0 * d2.0 + d2.1 * d2.1;
+                        let z = (
+                            (d1.0 * d2.0 + d1.1 * d2.1) / n2,
+                            (d1.1 * d2.0 - d1.0 * d2.1) / n2,
+                        );
+                        (d1.0 * z.0 - d1.1 * z.1, d1.0 * z.1 + d1.1 * z.0)
+                    }
+                    None => d1,
                 };
-                let step = dist((p1.x, p1.y), (p2.x, p2.y));
-                let tol = 0.4 * step;
+                let pred = (p1.x + d0.0, p1.y + d0.1);
+                // Spacing across the line at p1: the nearest of its
+                // neighbours on the previous line.
+                let across = [m - 1, m + 1]
+                    .iter()
+                    .filter_map(|&mm| grid.get(&new_at(mm, 1)))
+                    .map(|q| dist((q.x, q.y), (p1.x, p1.y)))
+                    .fold(f64::INFINITY, f64::min);
+                let step = d0.0.hypot(d0.1).min(d1.0.hypot(d1.1));
+                let tol = 0.4 * step.min(across);
                 let found = cands
                     .iter()
                     .enumerate()

@@ -271,12 +271,25 @@ pub fn refine(
     } else {
         f64::NAN
     };
+    // Columns scaled to unit length before the inversion (the parameters
+    // span many orders of magnitude), scaled back after.
+    let scale: Vec<f64> = (0..np)
+        .map(|c| {
+            let n = j.column(c).norm();
+            if n > 0.0 {
+                1.0 / n
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    let jtj = DMatrix::from_fn(np, np, |a, b| jtj[(a, b)] * scale[a] * scale[b]);
     let cov = jtj.cholesky().map(|c| c.inverse()).ok_or_else(|| {
         CalibError::Degenerate(
             "the parameters are not all determined by these views (singular normal matrix)".into(),
         )
     })?;
-    let sd = |c: usize| (s2 * cov[(c, c)]).max(0.0).sqrt();
+    let sd = |c: usize| (s2 * cov[(c, c)]).max(0.0).sqrt() * scale[c];
     let std_intrinsics = [sd(0), sd(1), sd(2), sd(3)];
     let std_coefficients = (4..ni).map(sd).collect();
     let k = cam.intrinsics;

@@ -30,9 +30,14 @@
 //!
 //! [`poses`] draws views that keep the whole paper inside the image with a
 //! margin of 4 px: tilt `20..50` degrees about a random axis in the board
-//! plane, in-plane turn `-30..30` degrees, board centre on the ray through a
-//! random point in the middle 70 % of the image, at a distance where the
-//! board spans `0.45..0.85` of the image diagonal.
+//! plane, in-plane turn `-30..30` degrees, at a distance where the paper
+//! would span `0.35..0.8` of the image diagonal through a pinhole lens of
+//! the same focal length; its centre is put on the ray through a pixel on
+//! the way from the principal point to a random target pixel, as far
+//! towards the target as the paper stays inside (bisection) and the board
+//! is seen at most 50 degrees off its normal, so that the
+//! views reach into the image's edges and corners where a wide lens
+//! distorts most.
 
 use super::{project, Board, Grey, Pose};
 use crate::lens::{Camera, Intrinsics, LensModel};
@@ -161,28 +166,55 @@ pub fn poses(spec: &SynthSpec, n: usize, seed: u64) -> Option<Vec<Pose>> {
             let axis = Unit::new_normalize(Vector3::new(axis_angle.cos(), axis_angle.sin(), 0.0));
             let r = Rotation3::from_axis_angle(&axis, tilt)
                 * Rotation3::from_axis_angle(&Vector3::z_axis(), turn);
-            let (u, v) = (
-                w * rng.random_range(0.15..0.85),
-                h * rng.random_range(0.15..0.85),
+            let target = (
+                w * rng.random_range(0.0..1.0),
+                h * rng.random_range(0.0..1.0),
             );
-            let span = rng.random_range(0.45..0.85);
-            let (xd, yd) = cam.intrinsics.normalise(u, v);
-            let Ok((x, y)) = cam.lens.undistort(xd, yd) else {
-                continue;
-            };
+            let span = rng.random_range(0.35..0.8);
             // Distance at which the paper's diagonal spans `span` of the
             // image diagonal (pinhole estimate at the focal length).
             let dist = cam.intrinsics.fx * diag_mm / (span * w.hypot(h));
-            let dir = Vector3::new(x, y, 1.0).normalize();
-            let t = dir * dist - r * centre;
-            let pose = Pose {
-                rot: r.scaled_axis().into(),
-                t: t.into(),
+            let mid = (cam.intrinsics.cx, cam.intrinsics.cy);
+            let at = |a: f64| -> Option<Pose> {
+                let (u, v) = (
+                    mid.0 + a * (target.0 - mid.0),
+                    mid.1 + a * (target.1 - mid.1),
+                );
+                let (xd, yd) = cam.intrinsics.normalise(u, v);
+                let (x, y) = cam.lens.undistort(xd, yd).ok()?;
+                let dir = Vector3::new(x, y, 1.0).normalize();
+                let t = dir * dist - r * centre;
+                let pose = Pose {
+                    rot: r.scaled_axis().into(),
+                    t: t.into(),
+                };
+                // Seen at most 50 degrees off the board's normal.
+                let normal = r * Vector3::z();
+                let oblique = normal.dot(&dir).abs() >= 50f64.to_radians().cos();
+                (oblique && paper_inside(spec, &pose, 4.0)).then_some(pose)
             };
-            if paper_inside(spec, &pose, 4.0) {
-                placed = Some(pose);
-                break;
+            // Push the board from the principal point towards the target
+            // as far as it stays inside (bisection on the way).
+            let Some(mut best) = at(0.0) else {
+                continue;
+            };
+            let (mut lo, mut hi) = (0.0, 1.0);
+            if let Some(p) = at(1.0) {
+                best = p;
+            } else {
+                for _ in 0..10 {
+                    let m = 0.5 * (lo + hi);
+                    match at(m) {
+                        Some(p) => {
+                            best = p;
+                            lo = m;
+                        }
+                        None => hi = m,
+                    }
+                }
             }
+            placed = Some(best);
+            break;
         }
         out.push(placed?);
     }
@@ -278,7 +310,8 @@ pub fn render(spec: &SynthSpec, pose: &Pose, seed: u64) -> Grey {
             return 60.0;
         }
         let lambda = rt_t.z / d.z;
-        if lambda <= 0.0 {
+        if lambda <= 0.0 || lambda > 50.0 * size + 20.0 * rt_t.norm() {
+            // Behind the camera, or the table near its horizon.
             return 60.0;
         }
         let p = d * lambda - rt_t;
@@ -389,4 +422,50 @@ pub fn gaussian_blur(g: &Grey, sigma: f64) -> Grey {
         height: h,
         px: out,
     }
+}
+
+/// How far a fitted camera strays from the true one over the image: for
+/// every pixel on a lattice of `step` px within `radius` px of the true
+/// principal point (`f64::INFINITY`: the whole image), the ray the true
+/// camera sees there is projected through `fitted`; returns the largest
+/// and the RMS distance, px. Pixels whose ray the true lens cannot invert
+/// are left out.
+///
+/// ```
+/// use fixsight_verify::calibrate::synth::{map_error, SynthSpec};
+/// let s = SynthSpec::wide_angle(320, 240);
+/// assert_eq!(map_error(&s.camera, &s.camera, 320, 240, 8, f64::INFINITY), (0.0, 0.0));
+/// let mut moved = s.camera;
+/// moved.intrinsics.cx += 0.5;
+/// let (max, rms) = map_error(&s.camera, &moved, 320, 240, 8, f64::INFINITY);
+/// assert!((max - 0.5).abs() < 1e-9 && (rms - 0.5).abs() < 1e-9);
+/// ```
+pub fn map_error(
+    truth: &Camera,
+    fitted: &Camera,
+    w: usize,
+    h: usize,
+    step: usize,
+    radius: f64,
+) -> (f64, f64) {
+    let (mut max, mut s2, mut n) = (0.0f64, 0.0, 0usize);
+    for v in (0..h).step_by(step.max(1)) {
+        for u in (0..w).step_by(step.max(1)) {
+            let k = truth.intrinsics;
+            if (u as f64 - k.cx).hypot(v as f64 - k.cy) > radius {
+                continue;
+            }
+            let (xd, yd) = k.normalise(u as f64, v as f64);
+            let Ok((x, y)) = truth.lens.undistort(xd, yd) else {
+                continue;
+            };
+            let (a, b) = fitted.lens.distort(x, y);
+            let (pu, pv) = fitted.intrinsics.to_pixel(a, b);
+            let d = (pu - u as f64).hypot(pv - v as f64);
+            max = max.max(d);
+            s2 += d * d;
+            n += 1;
+        }
+    }
+    (max, (s2 / n.max(1) as f64).sqrt())
 }

@@ -40,10 +40,13 @@
 //!    Tangential terms and `k3` start at 0.
 //!
 //! For the fisheye model the pinhole homographies of a very wide lens are
-//! poor, so steps 1-4 are run three times, each time on the corners
-//! mapped through the inverse of the ideal equidistant lens (`r -> tan r`,
-//! points beyond 80 degrees off axis left out) with the previous
-//! intrinsics; the fisheye coefficients then start at 0.
+//! too poor for steps 2-3. Instead the start takes the principal point at
+//! the image centre, `fx = fy = f`, and the focal length `f` for which the
+//! corners, mapped through the inverse of the ideal equidistant lens
+//! (`r_d = f theta`, `r = f tan theta`), lie most nearly on a plane seen
+//! by a pinhole camera: the homographies fitted to them leave the smallest
+//! residual. Step 4 then uses those homographies; the fisheye
+//! coefficients start at 0. (Common practice, no source.)
 //!
 //! # Degenerate poses
 //!
@@ -449,6 +452,108 @@ pub fn depth_span(h: &Matrix3<f64>, board: &Board) -> f64 {
     ((hi - lo) / mean).abs()
 }
 
+/// Corners of every view seen through the ideal equidistant lens of focal
+/// length `f` centred in a `size` image, mapped to the pinhole image of
+/// the same focal length; points beyond 85 degrees off axis are `None`.
+fn equidistant_to_pinhole(
+    views: &[Vec<(f64, f64)>],
+    size: (usize, usize),
+    f: f64,
+) -> Vec<Vec<Option<(f64, f64)>>> {
+    let (cx, cy) = ((size.0 as f64 - 1.0) / 2.0, (size.1 as f64 - 1.0) / 2.0);
+    views
+        .iter()
+        .map(|seen| {
+            seen.iter()
+                .map(|&(u, v)| {
+                    let (xd, yd) = ((u - cx) / f, (v - cy) / f);
+                    let theta = xd.hypot(yd);
+                    if theta >= 85f64.to_radians() {
+                        return None;
+                    }
+                    let s = if theta > 0.0 {
+                        theta.tan() / theta
+                    } else {
+                        1.0
+                    };
+                    Some((cx + f * xd * s, cy + f * yd * s))
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// The fisheye start (module docs): the focal length, from `0.1` to `2`
+/// image widths, that makes the boards most nearly flat, i.e. minimises the
+/// RMS residual, in the observed image, of each view's homography fitted
+/// to its corners mapped through the inverse of the ideal equidistant lens
+/// and mapped back through the lens (a 64-point geometric grid, then a
+/// golden-section search around the best); with the homographies at that
+/// focal length. Views losing more than a fifth of their corners beyond 85
+/// degrees make a focal length inadmissible.
+fn fisheye_focal(
+    pts: &[(f64, f64)],
+    views: &[Vec<(f64, f64)>],
+    size: (usize, usize),
+) -> Option<(f64, Vec<Matrix3<f64>>)> {
+    let (cx, cy) = ((size.0 as f64 - 1.0) / 2.0, (size.1 as f64 - 1.0) / 2.0);
+    let cost = |f: f64| -> Option<(f64, Vec<Matrix3<f64>>)> {
+        let mapped = equidistant_to_pinhole(views, size, f);
+        let (mut s2, mut n) = (0.0, 0usize);
+        let mut hs = Vec::with_capacity(views.len());
+        for (m, view) in mapped.iter().zip(views) {
+            let (src, dst): (Vec<_>, Vec<_>) = pts
+                .iter()
+                .zip(m)
+                .filter_map(|(a, b)| b.map(|b| (*a, b)))
+                .unzip();
+            if 5 * src.len() < 4 * pts.len() {
+                return None;
+            }
+            let h = homography(&src, &dst)?;
+            // Residual back in the observed image: the homography's point
+            // through the ideal equidistant lens, against the corner seen.
+            for (a, seen) in pts.iter().zip(view) {
+                let p = h * Vector3::new(a.0, a.1, 1.0);
+                if p.z <= 0.0 {
+                    return None;
+                }
+                let (x, y) = ((p.x / p.z - cx) / f, (p.y / p.z - cy) / f);
+                let r = x.hypot(y);
+                let s = if r > 0.0 { r.atan() / r } else { 1.0 };
+                s2 += (cx + f * x * s - seen.0).powi(2) + (cy + f * y * s - seen.1).powi(2);
+                n += 1;
+            }
+            hs.push(h);
+        }
+        Some(((s2 / n as f64).sqrt(), hs))
+    };
+    let w = size.0 as f64;
+    let (lo, hi) = (0.1 * w, 2.0 * w);
+    let grid: Vec<f64> = (0..64)
+        .map(|i| lo * (hi / lo).powf(i as f64 / 63.0))
+        .collect();
+    let best = grid
+        .iter()
+        .enumerate()
+        .filter_map(|(i, &f)| cost(f).map(|c| (i, c.0)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))?
+        .0;
+    let (mut a, mut b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(63)]);
+    let g = (5f64.sqrt() - 1.0) / 2.0;
+    let val = |f: f64| cost(f).map_or(f64::INFINITY, |c| c.0);
+    for _ in 0..40 {
+        let (c, d) = (b - g * (b - a), a + g * (b - a));
+        if val(c) < val(d) {
+            b = d;
+        } else {
+            a = c;
+        }
+    }
+    let f = 0.5 * (a + b);
+    cost(f).map(|(_, hs)| (f, hs))
+}
+
 /// The starting camera and poses of steps 1-5.
 #[derive(Debug, Clone)]
 pub struct Start {
@@ -546,33 +651,22 @@ pub fn start(
             100.0 * MIN_DEPTH_SPAN
         )));
     }
-    let mut k = closed(&hs)?;
-    if model == ModelKind::Fisheye {
-        for _ in 0..3 {
-            let ideal: Vec<Vec<(f64, f64)>> = views
-                .iter()
-                .map(|seen| {
-                    seen.iter()
-                        .map(|&(u, v)| {
-                            let (xd, yd) = k.normalise(u, v);
-                            let rd = xd.hypot(yd);
-                            if rd == 0.0 {
-                                return (u, v);
-                            }
-                            if rd >= 80f64.to_radians() {
-                                return (f64::NAN, f64::NAN);
-                            }
-                            let f = rd.tan() / rd;
-                            k.to_pixel(xd * f, yd * f)
-                        })
-                        .collect()
-                })
-                .collect();
-            let keep = |v: usize, p: usize| ideal[v][p].0.is_finite();
-            hs = homographies(&ideal, &keep)?;
-            k = closed(&hs)?;
+    let k = if model == ModelKind::Fisheye {
+        let (f, flat) = fisheye_focal(&pts, views, size).ok_or_else(|| {
+            CalibError::Degenerate(
+                "no focal length makes the boards flat through an equidistant lens".into(),
+            )
+        })?;
+        hs = flat;
+        Intrinsics {
+            fx: f,
+            fy: f,
+            cx: (w - 1.0) / 2.0,
+            cy: (h - 1.0) / 2.0,
         }
-    }
+    } else {
+        closed(&hs)?
+    };
     let a = Matrix3::new(k.fx, 0.0, k.cx, 0.0, k.fy, k.cy, 0.0, 0.0, 1.0);
     let poses = hs
         .iter()
@@ -598,4 +692,176 @@ pub fn start(
         poses,
         depth_spans: spans,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::calibrate::project;
+    use crate::lens::LensModel;
+
+    /// Zhang (2000), section 5.1, computer-simulated camera (from memory):
+    /// alpha = 1250, beta = 900, gamma = 1.09083 (89.95 degrees between the
+    /// image axes), u0 = v0 = 255, a 512x512 image, a 10x14 checker pattern
+    /// of 18 cm x 25 cm, and three planes r1 = [20, 0, 0] deg,
+    /// t1 = [-9, -12.5, 500] cm; r2 = [0, 20, 0] deg, t2 = [-9, -12.5, 510];
+    /// r3 = [-30, -30, -15] deg / sqrt 5, t3 = [-10.5, -12.5, 525].
+    fn paper_setup() -> (Matrix3<f64>, Vec<(Rotation3<f64>, Vector3<f64>)>) {
+        let a = Matrix3::new(1250.0, 1.09083, 255.0, 0.0, 900.0, 255.0, 0.0, 0.0, 1.0);
+        let d = |x: f64| x.to_radians();
+        let s5 = 5f64.sqrt();
+        let planes = vec![
+            (
+                Vector3::new(d(20.0), 0.0, 0.0),
+                Vector3::new(-9.0, -12.5, 500.0),
+            ),
+            (
+                Vector3::new(0.0, d(20.0), 0.0),
+                Vector3::new(-9.0, -12.5, 510.0),
+            ),
+            (
+                Vector3::new(d(-30.0) / s5, d(-30.0) / s5, d(-15.0) / s5),
+                Vector3::new(-10.5, -12.5, 525.0),
+            ),
+        ];
+        (
+            a,
+            planes
+                .into_iter()
+                .map(|(r, t)| (Rotation3::from_scaled_axis(r), t))
+                .collect(),
+        )
+    }
+
+    fn h_of(a: &Matrix3<f64>, r: &Rotation3<f64>, t: &Vector3<f64>) -> Matrix3<f64> {
+        let m = r.matrix();
+        a * Matrix3::from_columns(&[m.column(0).into(), m.column(1).into(), *t])
+    }
+
+    #[test]
+    fn closed_form_matches_the_paper_derivation_on_its_simulated_camera() {
+        let (a, planes) = paper_setup();
+        let (al, be, ga, u0, v0): (f64, f64, f64, f64, f64) =
+            (1250.0, 900.0, 1.09083, 255.0, 255.0);
+        // Eq. (5), written out.
+        let want = [
+            1.0 / (al * al),
+            -ga / (al * al * be),
+            ga * ga / (al * al * be * be) + 1.0 / (be * be),
+            (v0 * ga - u0 * be) / (al * al * be),
+            -ga * (v0 * ga - u0 * be) / (al * al * be * be) - v0 / (be * be),
+            (v0 * ga - u0 * be).powi(2) / (al * al * be * be) + v0 * v0 / (be * be) + 1.0,
+        ];
+        let b = b_of(&a).unwrap();
+        for (x, y) in b.iter().zip(want) {
+            assert!((x - y).abs() <= 1e-12 * y.abs().max(1e-9), "{x} vs {y}");
+        }
+        let bm = Matrix3::new(b[0], b[1], b[3], b[1], b[2], b[4], b[3], b[4], b[5]);
+        let hs: Vec<Matrix3<f64>> = planes.iter().map(|(r, t)| h_of(&a, r, t)).collect();
+        for h in &hs {
+            // Eq. (7)-(8): v_ij^T b = h_i^T B h_j for every column pair.
+            for i in 0..3 {
+                for j in 0..3 {
+                    let v = v_ij(h, i, j);
+                    let lhs: f64 = v.iter().zip(&b).map(|(p, q)| p * q).sum();
+                    let rhs = (h.column(i).transpose() * bm * h.column(j))[(0, 0)];
+                    assert!(
+                        (lhs - rhs).abs() <= 1e-9 * rhs.abs().max(1e-3),
+                        "{lhs} {rhs}"
+                    );
+                }
+            }
+            // Eq. (3)-(4): the two constraints of a view hold exactly.
+            let q = |i: usize, j: usize| (h.column(i).transpose() * bm * h.column(j))[(0, 0)];
+            assert!(q(0, 1).abs() < 1e-9 * q(0, 0).abs());
+            assert!((q(0, 0) - q(1, 1)).abs() < 1e-9 * q(0, 0).abs());
+        }
+        // Three views, skew free: b up to scale, then appendix B.
+        let c = intrinsics_from_b(&solve_b(&hs, false).unwrap()).unwrap();
+        for (got, want) in [
+            (c.alpha, al),
+            (c.beta, be),
+            (c.gamma, ga),
+            (c.u0, u0),
+            (c.v0, v0),
+        ] {
+            assert!((got - want).abs() < 1e-6 * want.abs().max(1.0), "{c:?}");
+        }
+        // The same through homographies estimated from the projected
+        // 10x14 corners of the 18 cm x 25 cm pattern, and the poses back.
+        let grid: Vec<(f64, f64)> = (0..14)
+            .flat_map(|j| (0..10).map(move |i| (i as f64 * 2.0, j as f64 * 25.0 / 13.0)))
+            .collect();
+        let mut est = Vec::new();
+        for (r, t) in &planes {
+            let img: Vec<(f64, f64)> = grid
+                .iter()
+                .map(|&(x, y)| {
+                    let p = a * (r * Vector3::new(x, y, 0.0) + t);
+                    (p.x / p.z, p.y / p.z)
+                })
+                .collect();
+            est.push(homography(&grid, &img).unwrap());
+        }
+        let c = intrinsics_from_b(&solve_b(&est, false).unwrap()).unwrap();
+        assert!(
+            (c.alpha - al).abs() < 1e-4 && (c.u0 - u0).abs() < 1e-4,
+            "{c:?}"
+        );
+        let a0 = Matrix3::new(c.alpha, c.gamma, c.u0, 0.0, c.beta, c.v0, 0.0, 0.0, 1.0);
+        for (h, (r, t)) in est.iter().zip(&planes) {
+            let p = pose_from_homography(&a0, h).unwrap();
+            let rv = r.scaled_axis();
+            assert!((Vector3::from(p.rot) - rv).norm() < 1e-7, "{p:?}");
+            assert!((Vector3::from(p.t) - t).norm() < 1e-5, "{p:?}");
+        }
+    }
+
+    #[test]
+    fn boards_parallel_to_the_sensor_are_refused() {
+        let cam = Camera {
+            intrinsics: Intrinsics {
+                fx: 300.0,
+                fy: 300.0,
+                cx: 160.0,
+                cy: 120.0,
+            },
+            lens: LensModel::BrownConrady {
+                k1: -0.1,
+                k2: 0.0,
+                k3: 0.0,
+                p1: 0.0,
+                p2: 0.0,
+            },
+        };
+        let board = Board::new(7, 5, 20.0).unwrap();
+        let views: Vec<Vec<(f64, f64)>> = [(0.0, -60.0), (0.4, -40.0), (-0.3, -80.0), (1.2, -70.0)]
+            .iter()
+            .map(|&(turn, x)| {
+                let pose = Pose {
+                    rot: [0.0, 0.0, turn],
+                    t: [x, -40.0, 300.0],
+                };
+                board
+                    .points()
+                    .iter()
+                    .map(|&(x, y)| project(&cam, &pose, x, y).unwrap())
+                    .collect()
+            })
+            .collect();
+        let e = start(&board, &views, (320, 240), ModelKind::Brown).unwrap_err();
+        let msg = e.to_string();
+        assert!(
+            msg.contains("degenerate poses") && msg.contains("nearly parallel"),
+            "{msg}"
+        );
+    }
+
+    #[test]
+    fn too_few_or_coincident_points_give_no_homography() {
+        let p = [(0.0, 0.0), (1.0, 0.0), (0.0, 1.0)];
+        assert!(homography(&p, &p).is_none());
+        let same = [(1.0, 1.0); 5];
+        assert!(homography(&same, &same).is_none());
+    }
 }
