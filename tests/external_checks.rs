@@ -2,7 +2,8 @@
 //! against sources the project did not write. Each check names its source.
 
 use fixsight::filter::{self, Border};
-use fixsight_verify::filter::{real_taps, reference_real, run_whole};
+use fixsight_verify::filter::reference::{real_taps, reference_real};
+use fixsight_verify::filter::run::run_whole;
 use fixsight_verify::scene::demo_scenes;
 use image::GrayImage;
 
@@ -17,9 +18,9 @@ fn binomial_presets_are_rows_of_pascals_triangle() {
     // e.g. Abramowitz & Stegun 1964, Handbook of Mathematical Functions,
     // Table 24.1 "Binomial coefficients").
     for (f, n) in [
-        (filter::binomial3(Border::Replicate), 2u64),
-        (filter::binomial5(Border::Replicate), 4),
-        (filter::binomial7(Border::Replicate), 6),
+        (filter::binomial3(Border::Clamp), 2u64),
+        (filter::binomial5(Border::Clamp), 4),
+        (filter::binomial7(Border::Clamp), 6),
     ] {
         let row: Vec<i32> = (0..=n).map(|k| choose(n, k) as i32).collect();
         assert_eq!(f.horizontal().coefficients(), &row[..]);
@@ -36,9 +37,9 @@ fn binomial_kernel_variance_is_n_over_4() {
     // = n/4 (Feller 1968, An Introduction to Probability Theory and Its
     // Applications, vol. 1, ch. IX).
     for (f, n) in [
-        (filter::binomial3(Border::Replicate), 2.0),
-        (filter::binomial5(Border::Replicate), 4.0),
-        (filter::binomial7(Border::Replicate), 6.0),
+        (filter::binomial3(Border::Clamp), 2.0),
+        (filter::binomial5(Border::Clamp), 4.0),
+        (filter::binomial7(Border::Clamp), 6.0),
     ] {
         let t = real_taps(f.horizontal());
         let r = (t.len() / 2) as f64;
@@ -72,22 +73,22 @@ fn sobel_and_scharr_coefficients() {
     // reproduced in Gonzalez & Woods, Digital Image Processing, 3rd ed.
     // 2008, Fig. 10.14).
     assert_eq!(
-        kernel3(&filter::sobel_x(Border::Replicate)),
+        kernel3(&filter::sobel_x(Border::Clamp)),
         [[-1, 0, 1], [-2, 0, 2], [-1, 0, 1]]
     );
     assert_eq!(
-        kernel3(&filter::sobel_y(Border::Replicate)),
+        kernel3(&filter::sobel_y(Border::Clamp)),
         [[-1, -2, -1], [0, 0, 0], [1, 2, 1]]
     );
     // Source: Scharr (2000), "Optimale Operatoren in der Digitalen
     // Bildverarbeitung", PhD thesis, Univ. Heidelberg: smoothing [3 10 3]
     // across the derivative direction.
     assert_eq!(
-        kernel3(&filter::scharr_x(Border::Replicate)),
+        kernel3(&filter::scharr_x(Border::Clamp)),
         [[-3, 0, 3], [-10, 0, 10], [-3, 0, 3]]
     );
     assert_eq!(
-        kernel3(&filter::scharr_y(Border::Replicate)),
+        kernel3(&filter::scharr_y(Border::Clamp)),
         [[-3, -10, -3], [0, 0, 0], [3, 10, 3]]
     );
 }
@@ -103,24 +104,24 @@ type OutsideDerivative = fn(&GrayImage) -> image::ImageBuffer<image::Luma<i16>, 
 fn reference_derivatives_match_imageproc_exactly() {
     // Outside reference: the general-purpose `imageproc` crate (0.25),
     // gradients::{horizontal,vertical}_{sobel,scharr}, which pad by
-    // continuity (= our replicate border) and return i16.
+    // continuity (= our clamp border) and return i16.
     for s in demo_scenes().iter().take(2) {
         let img = gray(s);
         let pairs: [(filter::SeparableFilter, OutsideDerivative); 4] = [
             (
-                filter::sobel_x(Border::Replicate),
+                filter::sobel_x(Border::Clamp),
                 imageproc::gradients::horizontal_sobel,
             ),
             (
-                filter::sobel_y(Border::Replicate),
+                filter::sobel_y(Border::Clamp),
                 imageproc::gradients::vertical_sobel,
             ),
             (
-                filter::scharr_x(Border::Replicate),
+                filter::scharr_x(Border::Clamp),
                 imageproc::gradients::horizontal_scharr,
             ),
             (
-                filter::scharr_y(Border::Replicate),
+                filter::scharr_y(Border::Clamp),
                 imageproc::gradients::vertical_scharr,
             ),
         ];
@@ -131,7 +132,7 @@ fn reference_derivatives_match_imageproc_exactly() {
                 s.height,
                 &real_taps(f.horizontal()),
                 &real_taps(f.vertical()),
-                Border::Replicate,
+                Border::Clamp,
             );
             let theirs = outside(&img);
             let mismatches = ours
@@ -155,7 +156,7 @@ fn reference_smoothing_agrees_with_imageproc_within_its_intermediate_rounding() 
     // before the vertical pass and truncates again at the end, so its
     // output lies in (exact - 2, exact]: we require exactly that of our
     // f64 reference, pixel by pixel.
-    let f = filter::binomial5(Border::Replicate);
+    let f = filter::binomial5(Border::Clamp);
     let taps: Vec<f32> = real_taps(f.horizontal())
         .iter()
         .map(|&t| t as f32)
@@ -168,7 +169,7 @@ fn reference_smoothing_agrees_with_imageproc_within_its_intermediate_rounding() 
             s.height,
             &real_taps(f.horizontal()),
             &real_taps(f.vertical()),
-            Border::Replicate,
+            Border::Clamp,
         );
         for (o, t) in ours.iter().zip(theirs.as_raw()) {
             let d = *t as f64 - o;

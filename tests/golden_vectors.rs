@@ -1,6 +1,7 @@
 //! The golden vectors in `golden/` reproduce bit for bit, and every way a
 //! golden folder can be damaged is reported as such.
 
+use fixsight_verify::families::check_golden;
 use fixsight_verify::golden::{self, GoldenError, MANIFEST};
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -36,7 +37,7 @@ fn first_file(dir: &Path, ends: &str) -> PathBuf {
 
 #[test]
 fn repository_vectors_reproduce_bit_for_bit() {
-    let s = golden::check(&repo_golden()).unwrap();
+    let s = check_golden(&repo_golden()).unwrap();
     assert!(s.vectors >= 31, "only {} vectors", s.vectors);
     assert_eq!(s.failures, Vec::<(String, String)>::new());
     assert_eq!(s.passed, s.vectors);
@@ -50,7 +51,7 @@ fn a_single_flipped_bit_fails_its_vector() {
     let mid = b.len() / 2;
     b[mid] ^= 1;
     fs::write(&f, &b).unwrap();
-    let s = golden::check(&dir).unwrap();
+    let s = check_golden(&dir).unwrap();
     assert_eq!(s.failures.len(), 1);
     assert!(s.failures[0].1.contains("SHA-256"), "{}", s.failures[0].1);
     // Same flip with the digest updated: now the recomputation catches it.
@@ -65,7 +66,7 @@ fn a_single_flipped_bit_fails_its_vector() {
         text.replace(&old, &golden::sha256_hex(&b)),
     )
     .unwrap();
-    let s = golden::check(&dir).unwrap();
+    let s = check_golden(&dir).unwrap();
     assert_eq!(s.failures.len(), 1);
     assert!(
         s.failures[0].1.contains("differs at pixel"),
@@ -81,10 +82,10 @@ fn truncated_and_missing_files_are_named() {
     let f = first_file(&dir, ".dst.bin");
     let b = fs::read(&f).unwrap();
     fs::write(&f, &b[..b.len() - 1]).unwrap();
-    let s = golden::check(&dir).unwrap();
+    let s = check_golden(&dir).unwrap();
     assert!(s.failures[0].1.contains("bytes but"), "{}", s.failures[0].1);
     fs::remove_file(&f).unwrap();
-    let s = golden::check(&dir).unwrap();
+    let s = check_golden(&dir).unwrap();
     assert!(
         s.failures[0].1.contains("cannot read"),
         "{}",
@@ -98,18 +99,18 @@ fn bad_manifests_give_typed_errors() {
     let dir = copy_golden("manifest");
     let text = fs::read_to_string(dir.join(MANIFEST)).unwrap();
     fs::write(dir.join(MANIFEST), &text[..text.len() / 2]).unwrap();
-    assert!(matches!(golden::check(&dir), Err(GoldenError::Json { .. })));
+    assert!(matches!(check_golden(&dir), Err(GoldenError::Json { .. })));
     fs::write(
         dir.join(MANIFEST),
         text.replace("\"version\": 1", "\"version\": 9"),
     )
     .unwrap();
-    let e = golden::check(&dir).unwrap_err();
+    let e = check_golden(&dir).unwrap_err();
     assert!(matches!(e, GoldenError::Version { found: 9, .. }));
     assert!(e.to_string().contains("version 9 is not supported"));
     fs::write(dir.join(MANIFEST), text.replace("fixsight-golden", "other")).unwrap();
     assert!(matches!(
-        golden::check(&dir),
+        check_golden(&dir),
         Err(GoldenError::Format { .. })
     ));
     fs::write(
@@ -118,25 +119,25 @@ fn bad_manifests_give_typed_errors() {
     )
     .unwrap();
     assert!(matches!(
-        golden::check(&dir),
+        check_golden(&dir),
         Err(GoldenError::Inconsistent { .. })
     ));
     fs::remove_dir_all(&dir).unwrap();
-    assert!(matches!(golden::check(&dir), Err(GoldenError::Io { .. })));
+    assert!(matches!(check_golden(&dir), Err(GoldenError::Io { .. })));
 }
 
 #[test]
 fn unknown_kernels_and_bad_params_fail_the_vector_not_the_tool() {
     let dir = copy_golden("params");
     let text = fs::read_to_string(dir.join(MANIFEST)).unwrap();
-    let text = text.replacen("\"h_shift\": 2", "\"h_shift\": 99", 1);
+    let text = text.replacen("\"h_shift\": 6", "\"h_shift\": 99", 1);
     let text = text.replacen(
         "\"kernel\": \"gradient.direction\"",
         "\"kernel\": \"nosuch.kernel\"",
         1,
     );
     fs::write(dir.join(MANIFEST), text).unwrap();
-    let s = golden::check(&dir).unwrap();
+    let s = check_golden(&dir).unwrap();
     let all: String = s.failures.iter().map(|f| f.1.clone() + "\n").collect();
     assert!(
         all.contains("shift of one tap set must be at most 16"),

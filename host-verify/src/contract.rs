@@ -14,24 +14,44 @@ use crate::opcount::OpsPerPx;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
-/// Family of a kernel (the `family` field of `report.json`).
+/// Family of a kernel (the `family` field of `report.json`): the stem of
+/// the kernel file `kernels/src/<stem>.rs`, or `chain` for the host-side
+/// composition of the edge chain.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum KernelFamily {
-    /// Separable filters.
+    /// Separable filters (`filter.rs`).
     Filter,
-    /// Gradient magnitude and direction.
+    /// Gradient magnitude and direction (`gradient.rs`).
     Gradient,
-    /// Remap / undistortion.
-    Remap,
-    /// Edge detection steps.
-    Edges,
-    /// Line voting.
-    Lines,
-    /// Streaming pipeline.
+    /// Non-maximum suppression (`nms.rs`).
+    Nms,
+    /// Double threshold and hysteresis (`hysteresis.rs`).
+    Hysteresis,
+    /// Thinning (`thinning.rs`).
+    Thinning,
+    /// Lens-undistortion warp (`warp.rs`).
+    Warp,
+    /// The edge chain composed on the host (`host-verify/src/chain.rs`).
+    Chain,
+    /// The streamed edge stage (`pipeline.rs`).
     Pipeline,
-    /// Tracking.
-    Track,
+}
+
+impl KernelFamily {
+    /// The name as written in `report.json`.
+    pub fn name(self) -> &'static str {
+        match self {
+            KernelFamily::Filter => "filter",
+            KernelFamily::Gradient => "gradient",
+            KernelFamily::Nms => "nms",
+            KernelFamily::Hysteresis => "hysteresis",
+            KernelFamily::Thinning => "thinning",
+            KernelFamily::Warp => "warp",
+            KernelFamily::Chain => "chain",
+            KernelFamily::Pipeline => "pipeline",
+        }
+    }
 }
 
 /// The declared contract.

@@ -1,54 +1,63 @@
-//! The registry of kernel families. Each family module (named like the
-//! kernel file it verifies) exposes one [`Family`]; adding a family is one
-//! line in [`FAMILIES`].
+//! The list of kernel families and kernel ids, and what needs all of them:
+//! recomputing any golden vector, writing all golden cases, checking a
+//! golden folder.
+//!
+//! A kernel id is `<family>.<function or preset>`: the stem of the kernel
+//! file and the name of the public function (or preset constructor, or type
+//! in snake case) it runs, e.g. `filter.binomial5`, `gradient.direction`,
+//! `warp.pixel_map` ([`fixsight::warp::PixelMap`]). The same id names the
+//! golden vectors' `kernel` field, the row of `report.json`, the row of
+//! `targets.json` and the on-target dispatcher. The [`Family`] type lives
+//! in [`crate::family`]; family modules import that, never this list.
 
-use crate::contract::KernelReport;
-use crate::golden::{Blob, GoldenCase};
+use crate::family::Family;
+use crate::golden::{self, Blob, GoldenCase, GoldenError, GoldenSummary};
 use crate::scene::Scene;
+use std::path::Path;
 
-/// Recomputes one golden vector: `(kernel id, params, inputs) -> outputs`,
-/// or a message saying what was wrong with the vector.
-pub type RunVector = fn(&str, &serde_json::Value, &[Blob]) -> Result<Vec<Blob>, String>;
-
-/// What the host tool needs from a kernel family.
-pub struct Family {
-    /// Family name: the part of golden kernel ids before the first `.`.
-    pub name: &'static str,
-    /// Runs every contract check of the family on the demo scenes.
-    pub check: fn(&[Scene]) -> Vec<KernelReport>,
-    /// The family's golden cases (inputs, parameters, expected outputs
-    /// computed by the kernels).
-    pub golden_cases: fn(&[Scene]) -> Vec<GoldenCase>,
-    /// Recomputes one golden vector.
-    pub run_vector: RunVector,
-}
-
-/// Every family, in report order.
+/// Every family, in report order; adding a family is one line here.
 pub const FAMILIES: &[Family] = &[
     crate::filter::FAMILY,
     crate::gradient::FAMILY,
-    crate::canny::FAMILY,
-    crate::remap::FAMILY,
+    crate::nms::FAMILY,
+    crate::hysteresis::FAMILY,
+    crate::thinning::FAMILY,
+    crate::chain::FAMILY,
+    crate::warp::FAMILY,
+    crate::pipeline::FAMILY,
 ];
 
-/// The family a golden kernel id (`<family>.<kernel>`) belongs to.
+/// Every kernel id of every family, in report order.
+pub fn kernel_ids() -> impl Iterator<Item = &'static str> {
+    FAMILIES.iter().flat_map(|f| f.kernels.iter().copied())
+}
+
+/// The family a kernel id (`<family>.<name>`) belongs to.
 pub fn family_of(kernel: &str) -> Option<&'static Family> {
     let prefix = kernel.split('.').next()?;
     FAMILIES.iter().find(|f| f.name == prefix)
 }
 
-/// Parses a family's parameter object, naming the kernel in the error.
-pub fn parse_params<T: serde::de::DeserializeOwned>(
+/// Recomputes one golden vector with the family its kernel id belongs to.
+pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
-) -> Result<T, String> {
-    serde_json::from_value(params.clone()).map_err(|e| format!("params of `{kernel}`: {e}"))
+    inputs: &[Blob],
+) -> Result<Vec<Blob>, String> {
+    let family =
+        family_of(kernel).ok_or_else(|| format!("kernel `{kernel}` belongs to no known family"))?;
+    (family.run_vector)(kernel, params, inputs)
 }
 
-/// Finds the input image called `name`.
-pub fn input<'a>(inputs: &'a [Blob], name: &str) -> Result<&'a Blob, String> {
-    inputs
+/// All golden cases of all families, from the given scenes.
+pub fn all_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
+    FAMILIES
         .iter()
-        .find(|b| b.name == name)
-        .ok_or_else(|| format!("input image `{name}` is missing"))
+        .flat_map(|f| (f.golden_cases)(scenes))
+        .collect()
+}
+
+/// Checks every vector of the golden folder `dir` with [`run_vector`].
+pub fn check_golden(dir: &Path) -> Result<GoldenSummary, GoldenError> {
+    golden::check(dir, run_vector)
 }

@@ -20,6 +20,26 @@
 //! focal length below 1000 px. It reports an error if that is not reached in
 //! 50 iterations or the Jacobian becomes singular (the model is not
 //! invertible there).
+//!
+//! # Lens file (`fixsight-lens 1`)
+//!
+//! Text, one `key = value` per line; `#` starts a comment; blank lines are
+//! ignored; keys are unique. See `host-verify/data/demo-lens.txt`.
+//!
+//! | key | required | range |
+//! |---|---|---|
+//! | `format` | yes | exactly `fixsight-lens 1` |
+//! | `model` | yes | `brown` or `fisheye` |
+//! | `sensor_width`, `sensor_height` | yes | integer `1..=32767` |
+//! | `fx`, `fy` | yes | `0 < f <= 100000` px |
+//! | `cx`, `cy` | yes | within one sensor size of the sensor |
+//! | `k1`, `k2`, `k3`, `p1`, `p2` | brown: all five | `|k| <= 10`, `|p| <= 1` |
+//! | `k1`, `k2` | fisheye: both | `|k| <= 10` |
+//! | `out_width`, `out_height` | no (sensor size) | integer `1..=32767` |
+//! | `view` | no (`fit`) | `fit` or `manual` |
+//! | `view_fx`, `view_fy`, `view_cx`, `view_cy` | when `view = manual` | as `fx`.. relative to the output |
+//!
+//! Every problem is reported with its line number (or "missing") and key.
 
 use std::collections::BTreeMap;
 use thiserror::Error;
@@ -344,7 +364,7 @@ impl Camera {
 }
 
 /// A lens description read from a `fixsight-lens 1` text file (format in
-/// `crate::remap`'s module docs).
+/// `crate::warp`'s module docs).
 #[derive(Debug, Clone, PartialEq)]
 pub struct LensSpec {
     /// Sensor camera.

@@ -8,23 +8,32 @@
 //!
 //! | module | role |
 //! |---|---|
+//! | [`calibrate`] | lens calibration from checkerboard photographs: corners, Zhang's closed form, Levenberg-Marquardt, report (`calibrate` command) |
+//! | [`cmd`] | the body of each command of the `fixsight-verify` tool, one file per command |
+//! | [`family`] | what a kernel family provides ([`family::Family`]) and shared helpers |
+//! | [`families`] | the list of families and kernel ids; recomputing any golden vector |
+//! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | one folder per kernel file `kernels/src/<same name>.rs`: `reference.rs`, `check.rs` (contract), `golden.rs` (golden cases, `run_vector`) |
+//! | [`chain`] | the edge chain composed on the host (`chain.edges`): full-`f64` Canny reference, F1 contract |
+//! | [`edge_chain`] | the fixed-point edge chain run on the host, whose intermediates the edge families check |
+//! | [`pipeline`] | the streamed edge stage (`pipeline.edge_stream`) against the whole-frame kernels and the `f64` Canny |
+//! | [`border`] | the border rule as a golden parameter, the border-extended pixel lookup |
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
-//! | [`lens`] | lens models in `f64` |
+//! | [`lens`] | lens models in `f64`, the lens file format |
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
 //! | [`golden`] | golden-vector format, check and write |
-//! | [`families`] | registry of kernel families |
 //! | [`report`] | the verification report |
-//! | [`targets`] | on-target conformance under QEMU (`targets` subcommand) |
-//! | [`filter`], [`gradient`] | references and contracts, one per kernel file |
-//! | [`nms`], [`hysteresis`], [`thinning`] | integer reference models of the edge kernels |
-//! | [`canny`] | full-`f64` Canny reference and the `edges` family contract |
+//! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 
+pub mod border;
 pub mod calibrate;
-pub mod canny;
+pub mod chain;
+pub mod cmd;
 pub mod contract;
+pub mod edge_chain;
 pub mod families;
+pub mod family;
 pub mod filter;
 pub mod golden;
 pub mod gradient;
@@ -33,26 +42,9 @@ pub mod lens;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
-pub mod remap;
+pub mod pipeline;
 pub mod report;
 pub mod scene;
-pub mod sweep_plot;
 pub mod targets;
 pub mod thinning;
-
-use std::path::PathBuf;
-
-/// The golden folder: `dir` if given; else `golden/` in the current folder
-/// if it has a manifest; else the repository's `golden/` next to this crate.
-pub fn golden_dir(dir: Option<PathBuf>) -> PathBuf {
-    if let Some(d) = dir {
-        return d;
-    }
-    let here = PathBuf::from("golden");
-    if here.join(golden::MANIFEST).exists() {
-        return here;
-    }
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("..")
-        .join("golden")
-}
+pub mod warp;

@@ -1,7 +1,9 @@
-//! `fixsight-verify`: the command-line front of the verification tool.
+//! `fixsight-verify`: the command-line front of the verification tool. It
+//! parses the arguments and calls the command's body in
+//! `fixsight_verify::cmd`.
 
 use clap::{Parser, Subcommand};
-use fixsight_verify::{golden, golden_dir, report, scene};
+use fixsight_verify::cmd;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -18,55 +20,59 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Cmd {
-    /// Build a lens-undistortion mesh table from a lens file and write it as
-    /// Rust source, C header and binary blob.
-    Mesh {
+    /// Build a lens-undistortion control grid from a lens file and write it
+    /// as Rust source, a C header and a CRC-checked blob.
+    Grid {
         /// Lens file (`fixsight-lens 1` text format).
         #[arg(long)]
         lens: PathBuf,
-        /// Mesh step as log2 of output pixels (2..=6).
+        /// Control-point spacing as log2 of output pixels (2..=6).
         #[arg(long, default_value_t = 4)]
-        step_log2: u32,
-        /// Fractional bits of the coordinates (2..=10).
+        grid_log2: u32,
+        /// Fractional bits of the coordinates (2..=10). The default 5 is the
+        /// smallest value at which the project's own `sweep` keeps 99.9 % of
+        /// pixels within 1 LSB (see the `fixsight::warp` module docs).
         #[arg(long, default_value_t = 5)]
         frac_bits: u32,
         /// Output folder.
-        #[arg(long, default_value = "fixsight-mesh")]
+        #[arg(long, default_value = "fixsight-grid")]
         out: PathBuf,
         /// File stem and identifier stem of the outputs.
-        #[arg(long, default_value = "lens_mesh")]
+        #[arg(long, default_value = "lens_grid")]
         name: String,
     },
     /// Calibrate a lens from photographs of a flat checkerboard: writes a
-    /// lens file (`fixsight-lens 1`, its path on the last line), a report
-    /// and a picture per image.
+    /// lens file (`fixsight-lens 1`, its path on the last line) for `grid`,
+    /// a report and a picture per image.
     Calibrate {
         /// Folder of .png/.jpg/.jpeg photographs of the board, one sensor size.
-        #[arg(long)]
+        #[arg(long, value_name = "DIR")]
         images: PathBuf,
-        /// Inner corners of the board as COLSxROWS (corners where four squares meet), e.g. 9x6.
-        #[arg(long, value_parser = fixsight_verify::calibrate::command::parse_corners)]
+        /// Inner corners of the board (where four squares meet), e.g. 9x6.
+        #[arg(long, value_name = "COLSxROWS", value_parser = cmd::calibrate::parse_corners)]
         inner_corners: (usize, usize),
         /// Side of one square, millimetres.
         #[arg(long)]
         square_mm: f64,
-        /// Distortion model: `brown` (radial k1..k3, tangential p1, p2) or `fisheye` (equidistant k1, k2).
+        /// Distortion model: `brown` (radial k1..k3, tangential p1, p2) or
+        /// `fisheye` (equidistant, k1, k2) for very wide lenses.
         #[arg(long, default_value = "brown", value_parser = fixsight_verify::calibrate::ModelKind::parse)]
         model: fixsight_verify::calibrate::ModelKind,
         /// Output folder.
         #[arg(long, default_value = "fixsight-calibration")]
         out: PathBuf,
-        /// Mesh step as log2 of output pixels (2..=6), for the report's mesh error.
+        /// Control-point spacing (log2 px, 2..=6) for the report's grid error.
         #[arg(long, default_value_t = 4)]
-        step_log2: u32,
-        /// Fractional bits (2..=10), for the report's mesh error.
+        grid_log2: u32,
+        /// Fractional bits (2..=10) for the report's grid error.
         #[arg(long, default_value_t = 5)]
         frac_bits: u32,
         /// Replace existing output files.
         #[arg(long)]
         replace: bool,
     },
-    /// Remap precision sweep (fractional bits x mesh step): table and plot.
+    /// Warp precision sweep (fractional bits x pixel map and control-grid
+    /// spacings) on a demo scene: sweep.md, sweep.json and sweep.png.
     Sweep {
         /// Output folder.
         #[arg(long, default_value = "fixsight-sweep")]
@@ -79,8 +85,8 @@ enum Cmd {
         #[arg(long, default_value = "fixsight-report")]
         out: PathBuf,
         /// Golden-vector folder (default: ./golden, else the repository's).
-        #[arg(long)]
-        golden: Option<PathBuf>,
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
     },
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
     /// and RV32 cores (QEMU), write targets.json.
@@ -89,8 +95,8 @@ enum Cmd {
         #[arg(long, default_value = "fixsight-report")]
         out: PathBuf,
         /// Golden-vector folder (default: ./golden, else the repository's).
-        #[arg(long)]
-        golden: Option<PathBuf>,
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
     },
     /// Check or regenerate the golden vectors.
     Golden {
@@ -104,14 +110,14 @@ enum GoldenCmd {
     /// Recompute every vector with the kernels and compare bit for bit.
     Check {
         /// Golden-vector folder (default: ./golden, else the repository's).
-        #[arg(long)]
-        dir: Option<PathBuf>,
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
     },
     /// Regenerate the vectors from the current kernels.
     Write {
         /// Golden-vector folder (default: ./golden, else the repository's).
-        #[arg(long)]
-        dir: Option<PathBuf>,
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
         /// Replace existing vectors (needed when a manifest exists).
         #[arg(long)]
         overwrite: bool,
@@ -130,18 +136,18 @@ fn main() -> ExitCode {
     }
 }
 
-fn run(cmd: Cmd) -> anyhow::Result<bool> {
-    match cmd {
-        Cmd::Mesh {
+fn run(command: Cmd) -> anyhow::Result<bool> {
+    match command {
+        Cmd::Grid {
             lens,
-            step_log2,
+            grid_log2,
             frac_bits,
             out,
             name,
         } => {
             println!(
                 "{}",
-                fixsight_verify::remap::mesh_command(&lens, step_log2, frac_bits, &out, &name)?
+                cmd::grid::run(&lens, grid_log2, frac_bits, &out, &name)?
             );
             Ok(true)
         }
@@ -151,65 +157,34 @@ fn run(cmd: Cmd) -> anyhow::Result<bool> {
             square_mm,
             model,
             out,
-            step_log2,
+            grid_log2,
             frac_bits,
             replace,
         } => {
-            use fixsight_verify::calibrate::{command, Board};
-            let req = command::Request {
+            let req = cmd::calibrate::Request {
                 images,
-                board: Board::new(cols, rows, square_mm)?,
+                board: fixsight_verify::calibrate::Board::new(cols, rows, square_mm)?,
                 model,
                 out,
-                step_log2,
+                grid_log2,
                 frac_bits,
                 replace,
             };
-            print!("{}", command::run(&req)?);
+            print!("{}", cmd::calibrate::run(&req)?);
             Ok(true)
         }
         Cmd::Sweep { out } => {
-            print!("{}", fixsight_verify::remap::sweep_command(&out)?);
+            print!("{}", cmd::sweep::run(&out)?);
             println!("written to {}", out.display());
             Ok(true)
         }
-        Cmd::Report { out, golden } => {
-            let r = report::run(&out, &golden_dir(golden))?;
-            print!("{}", report::table(&r));
-            println!("report written to {}", out.join("report.json").display());
-            Ok(r.pass)
-        }
-        Cmd::Targets { out, golden } => fixsight_verify::targets::run(&out, &golden_dir(golden)),
+        Cmd::Report { out, vectors } => cmd::report::run(&out, vectors),
+        Cmd::Targets { out, vectors } => cmd::targets::run(&out, vectors),
         Cmd::Golden {
-            cmd: GoldenCmd::Check { dir },
-        } => {
-            let dir = golden_dir(dir);
-            let s = golden::check(&dir).map_err(|e| {
-                anyhow::anyhow!("{e}\nhint: regenerate with `fixsight-verify golden write --overwrite` only if the kernels changed on purpose")
-            })?;
-            for (id, why) in &s.failures {
-                println!("FAIL {id}: {why}");
-            }
-            println!(
-                "{}/{} golden vectors reproduced bit for bit ({})",
-                s.passed,
-                s.vectors,
-                dir.display()
-            );
-            Ok(s.failures.is_empty() && s.passed == s.vectors)
-        }
+            cmd: GoldenCmd::Check { vectors },
+        } => cmd::golden::check(vectors),
         Cmd::Golden {
-            cmd: GoldenCmd::Write { dir, overwrite },
-        } => {
-            let dir = golden_dir(dir);
-            let cases = golden::all_cases(&scene::demo_scenes());
-            let m = golden::write(&dir, &cases, overwrite)?;
-            println!(
-                "wrote {} golden vectors to {}",
-                m.vectors.len(),
-                dir.display()
-            );
-            Ok(true)
-        }
+            cmd: GoldenCmd::Write { vectors, overwrite },
+        } => cmd::golden::write(vectors, overwrite),
     }
 }

@@ -18,8 +18,9 @@
 //! ```
 
 use crate::contract::KernelReport;
+use crate::families::check_golden;
 use crate::families::FAMILIES;
-use crate::golden::{self, GoldenSummary};
+use crate::golden::GoldenSummary;
 use crate::scene::{demo_scenes, Scene};
 use anyhow::Context;
 use serde::Serialize;
@@ -92,7 +93,7 @@ pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
         });
     }
     let kernels = check_all(&scenes);
-    let golden = match golden::check(golden_dir) {
+    let golden = match check_golden(golden_dir) {
         Ok(g) => g,
         Err(e) => GoldenSummary {
             vectors: 0,

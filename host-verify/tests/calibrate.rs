@@ -125,7 +125,7 @@ fn rendered_fisheye_views_give_back_the_lens() {
 }
 
 #[test]
-fn command_writes_a_lens_file_the_mesh_builder_takes_and_never_overwrites() {
+fn command_writes_a_lens_file_the_grid_command_takes_and_never_overwrites() {
     let dir = fresh_dir("ok");
     let (images, out) = (dir.join("photos"), dir.join("out"));
     std::fs::create_dir_all(&images).unwrap();
@@ -137,7 +137,7 @@ fn command_writes_a_lens_file_the_mesh_builder_takes_and_never_overwrites() {
     assert!(ok, "{stdout}\n{stderr}");
     let lens = out.join("lens.txt");
     assert_eq!(stdout.lines().last().unwrap(), lens.display().to_string());
-    assert!(stdout.contains("notes.txt") && stdout.contains("Mesh from this lens file"));
+    assert!(stdout.contains("notes.txt") && stdout.contains("Control grid from this lens file"));
     let spec = LensSpec::parse(&std::fs::read_to_string(&lens).unwrap()).unwrap();
     let t = spec_truth();
     assert!((spec.camera.intrinsics.fx / t.fx - 1.0).abs() < 0.01);
@@ -149,12 +149,12 @@ fn command_writes_a_lens_file_the_mesh_builder_takes_and_never_overwrites() {
         serde_json::from_str(&std::fs::read_to_string(out.join("calibration.json")).unwrap())
             .unwrap();
     assert_eq!(json["images"].as_array().unwrap().len(), 5);
-    // The mesh command accepts the lens file.
+    // The grid command accepts the lens file.
     let m = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
-        .args(["mesh", "--lens"])
+        .args(["grid", "--lens"])
         .arg(&lens)
         .arg("--out")
-        .arg(dir.join("mesh"))
+        .arg(dir.join("grid"))
         .output()
         .unwrap();
     assert!(m.status.success(), "{}", String::from_utf8_lossy(&m.stderr));

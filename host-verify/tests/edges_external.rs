@@ -10,7 +10,8 @@
 //! the figure measures agreement between two reasonable Canny set-ups, not
 //! an error.
 
-use fixsight_verify::canny::{agreement, run_chain, DEMO, GRAD_SCALE};
+use fixsight_verify::chain::reference::agreement;
+use fixsight_verify::edge_chain::{run_chain, DEMO, GRAD_SCALE};
 use fixsight_verify::scene::demo_scenes;
 use image::GrayImage;
 

@@ -37,7 +37,7 @@ fn benches(c: &mut Criterion) {
     let mut dst = vec![0u8; W * H];
     g.bench_function("copy", |b| b.iter(|| dst.copy_from_slice(black_box(&src))));
 
-    let f5 = filter::binomial5(Border::Replicate);
+    let f5 = filter::binomial5(Border::Clamp);
     let mut scratch = vec![0i32; W];
     g.bench_function("fixsight_binomial5", |b| {
         b.iter(|| {
@@ -61,8 +61,8 @@ fn benches(c: &mut Criterion) {
     });
 
     let (sx, sy) = (
-        filter::sobel_x(Border::Replicate),
-        filter::sobel_y(Border::Replicate),
+        filter::sobel_x(Border::Clamp),
+        filter::sobel_y(Border::Clamp),
     );
     let mut gx = vec![0i16; W * H];
     let mut gy = vec![0i16; W * H];

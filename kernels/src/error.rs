@@ -119,13 +119,13 @@ pub enum Error {
         reason: &'static str,
     },
 
-    // --- remap (kernels/src/remap.rs) ---
-    /// A map or mesh coordinate lies outside the accepted source range
+    // --- warp (kernels/src/warp.rs) ---
+    /// A map or grid coordinate lies outside the accepted source range
     /// (one source width / height beyond each edge).
     MapOutOfRange {
         /// `"x"` or `"y"`.
         axis: &'static str,
-        /// Index of the coordinate pair (dense map: `y * width + x`; mesh:
+        /// Index of the coordinate pair (pixel map: `y * width + x`; grid:
         /// `row * cols + col`).
         index: usize,
         /// Raw fixed-point value found.
@@ -135,10 +135,10 @@ pub enum Error {
         /// Largest accepted raw value.
         max: i32,
     },
-    /// The incremental mesh accumulator of one cell could exceed `i32`:
+    /// The incremental grid accumulator of one cell could exceed `i32`:
     /// the control points of that cell are too far apart for this step and
     /// number of fractional bits.
-    MeshStepOverflow {
+    GridCellOverflow {
         /// Cell column.
         col: usize,
         /// Cell row.
@@ -148,9 +148,9 @@ pub enum Error {
         /// Largest accepted magnitude (`i32::MAX`).
         limit: u64,
     },
-    /// A mesh grid does not have the control points needed to cover the
+    /// A control grid does not have the control points needed to cover the
     /// output image.
-    MeshCoverage {
+    GridCoverage {
         /// Output width and height.
         output: (usize, usize),
         /// Grid columns and rows given.
@@ -221,6 +221,23 @@ pub enum Error {
         /// The code found.
         value: u8,
     },
+    // --- pipeline (kernels/src/pipeline.rs) ---
+    /// A camera row does not have the length the stream was configured for.
+    RowLength {
+        /// Which row form (luma, YUYV, RGB565, ...).
+        what: &'static str,
+        /// Elements expected.
+        expected: usize,
+        /// Elements given.
+        got: usize,
+    },
+    /// A frame ended with a number of rows other than the declared height.
+    RowCount {
+        /// Rows declared.
+        expected: usize,
+        /// Rows pushed.
+        got: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -283,23 +300,23 @@ impl fmt::Display for Error {
                 f,
                 "map coordinate {axis} of pair {index} is {value} (raw), outside the accepted range {min}..={max}"
             ),
-            Error::MeshStepOverflow {
+            Error::GridCellOverflow {
                 col,
                 row,
                 worst_case,
                 limit,
             } => write!(
                 f,
-                "mesh cell (col {col}, row {row}): worst-case step accumulator {worst_case} exceeds {limit}; \
+                "grid cell (col {col}, row {row}): worst-case step accumulator {worst_case} exceeds {limit}; \
                  use a smaller step or fewer fractional bits"
             ),
-            Error::MeshCoverage {
+            Error::GridCoverage {
                 output,
                 grid,
                 needed,
             } => write!(
                 f,
-                "mesh grid {}x{} does not cover a {}x{} output: {}x{} control points needed",
+                "control grid {}x{} does not cover a {}x{} output: {}x{} control points needed",
                 grid.0, grid.1, output.0, output.1, needed.0, needed.1
             ),
             Error::BlobSize { expected, got } => {
@@ -307,7 +324,7 @@ impl fmt::Display for Error {
             }
             Error::BlobMagic { got } => write!(
                 f,
-                "blob magic is {:02x} {:02x} {:02x} {:02x}, not a fixsight mesh table",
+                "blob magic is {:02x} {:02x} {:02x} {:02x}, not a fixsight control grid",
                 got[0], got[1], got[2], got[3]
             ),
             Error::BlobVersion { got, supported } => write!(
@@ -339,6 +356,16 @@ impl fmt::Display for Error {
             Error::BadEdgeCode { x, y, value } => write!(
                 f,
                 "edge code {value} at ({x}, {y}) is not 0 (none), 1 (weak) or 2 (strong)"
+            ),
+            Error::RowLength {
+                what,
+                expected,
+                got,
+            } => write!(f, "{what} row has {got} elements but {expected} are expected"),
+            Error::RowCount { expected, got } => write!(
+                f,
+                "frame ended after {got} rows but {expected} were declared; \
+                 end it early on purpose with the short-frame call"
             ),
         }
     }

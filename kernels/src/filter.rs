@@ -22,8 +22,8 @@
 //! ([`Error::AccumulatorOverflow`]).
 //!
 //! `P` extends the image past its edges by the [`Border`] rule:
-//! * [`Border::Replicate`]: `P(x, y) = I(clamp(x, 0, w-1), clamp(y, 0, h-1))`;
-//! * [`Border::Constant(c)`](Border::Constant): `P(x, y) = c` outside the image.
+//! * [`Border::Clamp`]: `P(x, y) = I(clamp(x, 0, w-1), clamp(y, 0, h-1))`;
+//! * [`Border::Fill(c)`](Border::Fill): `P(x, y) = c` outside the image.
 //!
 //! The implementation sums each column vertically first (one `i32` row), then
 //! filters that row horizontally; both forms ([`SeparableFilter::apply`] and
@@ -31,7 +31,7 @@
 //! The preset tap sets `[1 2 1]`, `[1 4 6 4 1]`, `[1 6 15 20 15 6 1]`,
 //! `[-1 0 1]` and `[3 10 3]` (recognised by their coefficients, whichever
 //! constructor built them) run as constant shift-and-add forms in both passes
-//! when no row or column of the window lies in a constant border; the
+//! when no row or column of the window lies in a fill border; the
 //! integer sums are regrouped, not approximated, so the output is the same.
 //!
 //! # Memory
@@ -47,7 +47,7 @@
 //! for y in 0..3 { for x in 3..6 { src[y * 6 + x] = 100; } }
 //! let mut gx = [0i16; 6 * 3];
 //! let mut scratch = [0i32; 6];
-//! filter::sobel_x(Border::Replicate).apply(
+//! filter::sobel_x(Border::Clamp).apply(
 //!     &ImageView::new(&src, 6, 3, 6)?, &mut ImageViewMut::new(&mut gx, 6, 3, 6)?, &mut scratch)?;
 //! assert_eq!(&gx[6..12], &[0, 0, 400, 400, 0, 0]);
 //! # Ok::<(), fixsight::Error>(())
@@ -215,15 +215,15 @@ impl Taps {
 /// How pixels outside the image are defined.
 ///
 /// ```
-/// let b = fixsight::filter::Border::Constant(0);
-/// assert_ne!(b, fixsight::filter::Border::Replicate);
+/// let b = fixsight::filter::Border::Fill(0);
+/// assert_ne!(b, fixsight::filter::Border::Clamp);
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Border {
-    /// Nearest edge pixel: coordinates are clamped into the image.
-    Replicate,
-    /// A constant value everywhere outside the image.
-    Constant(u8),
+    /// Coordinates are clamped into the image (the nearest edge pixel).
+    Clamp,
+    /// The fill value everywhere outside the image.
+    Fill(u8),
 }
 
 mod sealed {
@@ -274,11 +274,11 @@ impl FilterOutput for i16 {
 /// ```
 /// use fixsight::filter::{Border, SeparableFilter, Taps};
 /// let box3 = Taps::new(&[1, 1, 1], 0)?;
-/// let f = SeparableFilter::new(box3, box3, Border::Constant(0))?;
+/// let f = SeparableFilter::new(box3, box3, Border::Fill(0))?;
 /// assert_eq!(f.shift(), 0);
 /// // 9-tap sets of 32767 would overflow the 32-bit accumulator:
 /// let big = Taps::new(&[32767; 9], 0)?;
-/// assert!(SeparableFilter::new(big, big, Border::Replicate).is_err());
+/// assert!(SeparableFilter::new(big, big, Border::Clamp).is_err());
 /// # Ok::<(), fixsight::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -295,7 +295,7 @@ impl SeparableFilter {
     /// ```
     /// use fixsight::filter::{Border, SeparableFilter, Taps};
     /// let t = Taps::new(&[1, 2, 1], 2)?;
-    /// assert!(SeparableFilter::new(t, t, Border::Replicate).is_ok());
+    /// assert!(SeparableFilter::new(t, t, Border::Clamp).is_ok());
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn new(h: Taps, v: Taps, border: Border) -> Result<Self> {
@@ -321,7 +321,7 @@ impl SeparableFilter {
     /// rounding offset: `255 * sum|h| * sum|v| + 2^(s-1)`.
     ///
     /// ```
-    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Clamp);
     /// assert_eq!(f.worst_case_acc(), 255 * 16 * 16 + 128);
     /// ```
     pub fn worst_case_acc(&self) -> u64 {
@@ -333,7 +333,7 @@ impl SeparableFilter {
     /// Horizontal tap set.
     ///
     /// ```
-    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Clamp);
     /// assert_eq!(f.horizontal().coefficients(), &[-1, 0, 1]);
     /// ```
     pub fn horizontal(&self) -> &Taps {
@@ -343,7 +343,7 @@ impl SeparableFilter {
     /// Vertical tap set.
     ///
     /// ```
-    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Clamp);
     /// assert_eq!(f.vertical().coefficients(), &[1, 2, 1]);
     /// ```
     pub fn vertical(&self) -> &Taps {
@@ -353,8 +353,8 @@ impl SeparableFilter {
     /// Border rule.
     ///
     /// ```
-    /// let f = fixsight::filter::binomial3(fixsight::filter::Border::Constant(7));
-    /// assert_eq!(f.border(), fixsight::filter::Border::Constant(7));
+    /// let f = fixsight::filter::binomial3(fixsight::filter::Border::Fill(7));
+    /// assert_eq!(f.border(), fixsight::filter::Border::Fill(7));
     /// ```
     pub fn border(&self) -> Border {
         self.border
@@ -363,7 +363,7 @@ impl SeparableFilter {
     /// Combined shift `sh + sv`.
     ///
     /// ```
-    /// assert_eq!(fixsight::filter::binomial7(fixsight::filter::Border::Replicate).shift(), 12);
+    /// assert_eq!(fixsight::filter::binomial7(fixsight::filter::Border::Clamp).shift(), 12);
     /// ```
     pub fn shift(&self) -> u32 {
         self.h.shift() + self.v.shift()
@@ -377,7 +377,7 @@ impl SeparableFilter {
     /// let src = [0u8, 0, 255, 0, 0];
     /// let mut dst = [0u8; 5];
     /// let mut scratch = [0i32; 5];
-    /// filter::binomial3(filter::Border::Replicate)
+    /// filter::binomial3(filter::Border::Clamp)
     ///     .apply(&ImageView::new(&src, 5, 1, 5)?, &mut ImageViewMut::new(&mut dst, 5, 1, 5)?, &mut scratch)?;
     /// // (0 + 2*255 + 0)/4 = 127.5 -> 128 (round half up); neighbours 255/4 = 63.75 -> 64
     /// assert_eq!(dst, [0, 64, 128, 64, 0]);
@@ -421,10 +421,10 @@ impl SeparableFilter {
     ) {
         let r = self.v.radius() as isize;
         // Preset tap sets with every row inside the image (or clamped by
-        // the replicate rule) take a shift-and-add form with constant taps.
+        // the clamp rule) take a shift-and-add form with constant taps.
         if let Some(kind) = FixedTaps::of(self.v.coefficients()) {
             let inside = y as isize >= r && y as isize + r < height as isize;
-            if inside || self.border == Border::Replicate {
+            if inside || self.border == Border::Clamp {
                 let mut rows: [&[u8]; MAX_TAPS] = [&[]; MAX_TAPS];
                 for (j, slot) in rows.iter_mut().enumerate().take(2 * r as usize + 1) {
                     let yy = (y as isize + j as isize - r).clamp(0, height as isize - 1);
@@ -440,9 +440,9 @@ impl SeparableFilter {
                 return;
             }
         }
-        // Constant border rows contribute c * v[j] to every column.
+        // Rows in a fill border contribute c * v[j] to every column.
         let mut bias = 0i32;
-        if let Border::Constant(c) = self.border {
+        if let Border::Fill(c) = self.border {
             for (j, &cv) in self.v.coefficients().iter().enumerate() {
                 let yy = y as isize + j as isize - r;
                 if yy < 0 || yy >= height as isize {
@@ -451,8 +451,8 @@ impl SeparableFilter {
                 }
             }
         }
-        // Gather the contributing rows (clamped for replicate; rows outside
-        // a constant border are already in `bias`) and sum them in one pass.
+        // Gather the contributing rows (clamped for the clamp rule; rows in
+        // a fill border are already in `bias`) and sum them in one pass.
         let mut rows: [&[u8]; MAX_TAPS] = [&[]; MAX_TAPS];
         let mut coefs = [0i32; MAX_TAPS];
         let mut n = 0usize;
@@ -462,8 +462,8 @@ impl SeparableFilter {
                 yy as usize
             } else {
                 match self.border {
-                    Border::Constant(_) => continue,
-                    Border::Replicate => yy.clamp(0, height as isize - 1) as usize,
+                    Border::Fill(_) => continue,
+                    Border::Clamp => yy.clamp(0, height as isize - 1) as usize,
                 }
             };
             if cv == 0 {
@@ -502,8 +502,8 @@ impl SeparableFilter {
         let s = self.shift();
         let taps = self.h.coefficients();
         let outside = match self.border {
-            Border::Constant(c) => Some(c as i32 * self.v.sum() as i32),
-            Border::Replicate => None,
+            Border::Fill(c) => Some(c as i32 * self.v.sum() as i32),
+            Border::Clamp => None,
         };
         let ext = |i: isize| -> i32 {
             if i >= 0 && (i as usize) < w {
@@ -747,7 +747,7 @@ fn column_sum<const N: usize>(
 ///
 /// ```
 /// use fixsight::filter::{self, Border, FilterLines};
-/// let f = filter::binomial3(Border::Replicate);
+/// let f = filter::binomial3(Border::Clamp);
 /// let mut lines = FilterLines::<4, 3>::new();
 /// let mut s = lines.stream(&f, 3)?;
 /// let mut out = [0u8; 4];
@@ -775,7 +775,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// Input rows the ring must hold: `2 * ry + 1`.
     ///
     /// ```
-    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+    /// let f = fixsight::filter::binomial5(fixsight::filter::Border::Clamp);
     /// assert_eq!(fixsight::filter::FilterStream::ring_rows(&f), 5);
     /// ```
     pub fn ring_rows(filter: &SeparableFilter) -> usize {
@@ -787,7 +787,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     ///
     /// ```
     /// use fixsight::filter::{self, Border, FilterStream};
-    /// let f = filter::sobel_y(Border::Replicate);
+    /// let f = filter::sobel_y(Border::Clamp);
     /// let (mut ring, mut acc) = ([0u8; 3 * 10], [0i32; 10]);
     /// let s = FilterStream::new(&f, 10, 4, &mut ring, &mut acc)?;
     /// assert_eq!(s.rows_pushed(), 0);
@@ -835,7 +835,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// Rows pushed so far.
     ///
     /// ```
-    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Clamp);
     /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
     /// let s = l.stream(&f, 2)?;
     /// assert_eq!(s.rows_pushed(), 0);
@@ -848,7 +848,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// Output rows produced so far.
     ///
     /// ```
-    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Clamp);
     /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
     /// let s = l.stream(&f, 2)?;
     /// assert_eq!(s.rows_emitted(), 0);
@@ -866,7 +866,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// `row` or `out` -> [`Error::BufferTooShort`].
     ///
     /// ```
-    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Clamp);
     /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
     /// let mut s = l.stream(&f, 1)?;
     /// let mut out = [0u8; 2];
@@ -911,7 +911,7 @@ impl<'f, 'b> FilterStream<'f, 'b> {
     /// Errors: called before the last row was pushed -> [`Error::StreamOrder`].
     ///
     /// ```
-    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+    /// # let f = fixsight::filter::binomial3(fixsight::filter::Border::Clamp);
     /// # let mut l = fixsight::filter::FilterLines::<2, 3>::new();
     /// let mut s = l.stream(&f, 2)?;
     /// let mut out = [0u8; 2];
@@ -968,8 +968,8 @@ impl<'f, 'b> FilterStream<'f, 'b> {
 /// ```
 /// use fixsight::filter::{self, Border, FilterLines};
 /// let mut lines = FilterLines::<320, 5>::new();       // 320*5 + 4*320 = 2880 bytes
-/// assert!(lines.stream(&filter::binomial5(Border::Replicate), 240).is_ok());
-/// assert!(lines.stream(&filter::binomial7(Border::Replicate), 240).is_err()); // needs 7 rows
+/// assert!(lines.stream(&filter::binomial5(Border::Clamp), 240).is_ok());
+/// assert!(lines.stream(&filter::binomial7(Border::Clamp), 240).is_err()); // needs 7 rows
 /// ```
 #[derive(Debug, Clone)]
 pub struct FilterLines<const WIDTH: usize, const ROWS: usize> {
@@ -1001,7 +1001,7 @@ impl<const WIDTH: usize, const ROWS: usize> FilterLines<WIDTH, ROWS> {
     ///
     /// ```
     /// let mut l = fixsight::filter::FilterLines::<8, 3>::new();
-    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+    /// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Clamp);
     /// assert!(l.stream(&f, 8).is_ok());
     /// ```
     pub fn stream<'f>(
@@ -1019,6 +1019,25 @@ impl<const WIDTH: usize, const ROWS: usize> FilterLines<WIDTH, ROWS> {
     }
 }
 
+/// A filter with caller-chosen tap sets (kernel id `filter.separable`);
+/// the presets below are the other `filter.*` kernel ids. The same checks
+/// as [`SeparableFilter::new`]: combined shift at most 30 and a worst-case
+/// accumulator that fits `i32`, else a typed error.
+///
+/// ```
+/// use fixsight::filter::{self, Border, Taps};
+/// // [1 2 1] / 4 along rows only.
+/// let f = filter::separable(Taps::new(&[1, 2, 1], 2)?, Taps::new(&[1], 0)?, Border::Fill(0))?;
+/// assert_eq!(f.shift(), 2);
+/// // A tap set too large for the i32 accumulator is refused.
+/// let big = Taps::new(&[32767; 9], 0)?;
+/// assert!(filter::separable(big, big, Border::Clamp).is_err());
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn separable(h: Taps, v: Taps, border: Border) -> Result<SeparableFilter> {
+    SeparableFilter::new(h, v, border)
+}
+
 const fn taps3(a: i32, b: i32, c: i32, shift: u8) -> Taps {
     Taps::preset([a, b, c, 0, 0, 0, 0, 0, 0], 3, shift)
 }
@@ -1026,7 +1045,7 @@ const fn taps3(a: i32, b: i32, c: i32, shift: u8) -> Taps {
 /// Binomial smoothing, 3 taps `[1 2 1] / 4` in both directions.
 ///
 /// ```
-/// let f = fixsight::filter::binomial3(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::binomial3(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.horizontal().coefficients(), &[1, 2, 1]);
 /// ```
 pub const fn binomial3(border: Border) -> SeparableFilter {
@@ -1037,7 +1056,7 @@ pub const fn binomial3(border: Border) -> SeparableFilter {
 /// Binomial smoothing, 5 taps `[1 4 6 4 1] / 16` in both directions.
 ///
 /// ```
-/// let f = fixsight::filter::binomial5(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::binomial5(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.vertical().coefficients(), &[1, 4, 6, 4, 1]);
 /// ```
 pub const fn binomial5(border: Border) -> SeparableFilter {
@@ -1048,7 +1067,7 @@ pub const fn binomial5(border: Border) -> SeparableFilter {
 /// Binomial smoothing, 7 taps `[1 6 15 20 15 6 1] / 64` in both directions.
 ///
 /// ```
-/// let f = fixsight::filter::binomial7(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::binomial7(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.horizontal().sum(), 64);
 /// ```
 pub const fn binomial7(border: Border) -> SeparableFilter {
@@ -1061,7 +1080,7 @@ pub const fn binomial7(border: Border) -> SeparableFilter {
 /// intensity grows to the right.
 ///
 /// ```
-/// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::sobel_x(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.shift(), 0);
 /// ```
 pub const fn sobel_x(border: Border) -> SeparableFilter {
@@ -1076,7 +1095,7 @@ pub const fn sobel_x(border: Border) -> SeparableFilter {
 /// positive where intensity grows downwards (row index increasing).
 ///
 /// ```
-/// let f = fixsight::filter::sobel_y(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::sobel_y(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.vertical().coefficients(), &[-1, 0, 1]);
 /// ```
 pub const fn sobel_y(border: Border) -> SeparableFilter {
@@ -1091,7 +1110,7 @@ pub const fn sobel_y(border: Border) -> SeparableFilter {
 /// output range `-4080..=4080`.
 ///
 /// ```
-/// let f = fixsight::filter::scharr_x(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::scharr_x(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.vertical().coefficients(), &[3, 10, 3]);
 /// ```
 pub const fn scharr_x(border: Border) -> SeparableFilter {
@@ -1105,7 +1124,7 @@ pub const fn scharr_x(border: Border) -> SeparableFilter {
 /// Scharr y derivative: `[3 10 3]` horizontally, `[-1 0 1]` vertically.
 ///
 /// ```
-/// let f = fixsight::filter::scharr_y(fixsight::filter::Border::Replicate);
+/// let f = fixsight::filter::scharr_y(fixsight::filter::Border::Clamp);
 /// assert_eq!(f.horizontal().coefficients(), &[3, 10, 3]);
 /// ```
 pub const fn scharr_y(border: Border) -> SeparableFilter {
@@ -1123,13 +1142,13 @@ mod tests {
     #[test]
     fn presets_pass_the_checked_constructor() {
         for f in [
-            binomial3(Border::Replicate),
-            binomial5(Border::Replicate),
-            binomial7(Border::Replicate),
-            sobel_x(Border::Replicate),
-            sobel_y(Border::Replicate),
-            scharr_x(Border::Replicate),
-            scharr_y(Border::Replicate),
+            binomial3(Border::Clamp),
+            binomial5(Border::Clamp),
+            binomial7(Border::Clamp),
+            sobel_x(Border::Clamp),
+            sobel_y(Border::Clamp),
+            scharr_x(Border::Clamp),
+            scharr_y(Border::Clamp),
         ] {
             let h = Taps::new(
                 &f.h.coefficients()
@@ -1171,16 +1190,16 @@ mod tests {
         ));
         let t = Taps::new(&[1], 16).unwrap();
         assert!(matches!(
-            SeparableFilter::new(t, t, Border::Replicate),
+            SeparableFilter::new(t, t, Border::Clamp),
             Err(Error::BadTaps { value: 32, .. })
         ));
         // Largest 9-tap set that fits: 255 * S * S < 2^31 -> S <= 2901.
         let ok = Taps::new(&[322, 322, 322, 322, 322, 322, 322, 322, 325], 0).unwrap();
         assert_eq!(ok.abs_sum(), 2901);
-        assert!(SeparableFilter::new(ok, ok, Border::Replicate).is_ok());
+        assert!(SeparableFilter::new(ok, ok, Border::Clamp).is_ok());
         let bad = Taps::new(&[322, 322, 322, 322, 322, 322, 322, 322, 326], 0).unwrap();
         assert!(matches!(
-            SeparableFilter::new(bad, bad, Border::Replicate),
+            SeparableFilter::new(bad, bad, Border::Clamp),
             Err(Error::AccumulatorOverflow { .. })
         ));
     }
@@ -1239,7 +1258,7 @@ mod tests {
 
     #[test]
     fn stream_misuse_is_an_error_not_a_panic() {
-        let f = binomial5(Border::Replicate);
+        let f = binomial5(Border::Clamp);
         let mut ring = [0u8; 4 * 5];
         let mut acc = [0i32; 4];
         assert!(matches!(

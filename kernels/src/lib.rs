@@ -19,14 +19,15 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
-//! | [`remap`] | lens-undistortion remap: bilinear fixed-point sampling, dense maps, compact meshes, mesh blobs |
+//! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
+//! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
 //! let src = [10u8; 8 * 4];
 //! let mut dst = [0u8; 8 * 4];
 //! let mut scratch = [0i32; 8];
-//! let smooth = filter::binomial5(filter::Border::Replicate);
+//! let smooth = filter::binomial5(filter::Border::Clamp);
 //! smooth.apply(
 //!     &ImageView::new(&src, 8, 4, 8)?,
 //!     &mut ImageViewMut::new(&mut dst, 8, 4, 8)?,
@@ -50,8 +51,9 @@ pub mod hysteresis;
 pub mod image;
 pub mod nms;
 pub mod ops;
-pub mod remap;
+pub mod pipeline;
 pub mod thinning;
+pub mod warp;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};

@@ -117,6 +117,9 @@ pub struct ThinStats {
     pub iterations: u32,
     /// Pixels deleted.
     pub deleted: u32,
+    /// `true` when [`thin_at_most`] stopped at its iteration cap while the
+    /// last iteration still deleted pixels (the map may not be stable).
+    pub capped: bool,
 }
 
 #[inline(always)]
@@ -127,18 +130,44 @@ fn fg(row: Option<&[u8]>, x: isize) -> u8 {
     }
 }
 
+/// A binary map that [`thin_map`] thins: the caller's `u8` image here,
+/// the 2-bit packed map of [`crate::pipeline`].
+pub(crate) trait ThinMap {
+    /// Width and height.
+    fn dims(&self) -> (usize, usize);
+    /// Writes row `y` to `dst` (`width` bytes), nonzero where foreground.
+    fn load_row(&self, y: usize, dst: &mut [u8]);
+    /// Deletes the foreground pixel `(x, y)`.
+    fn delete(&mut self, x: usize, y: usize);
+}
+
+impl ThinMap for ImageViewMut<'_, u8> {
+    #[inline(always)]
+    fn dims(&self) -> (usize, usize) {
+        (self.width(), self.height())
+    }
+    #[inline(always)]
+    fn load_row(&self, y: usize, dst: &mut [u8]) {
+        dst.copy_from_slice(self.as_view().row_at(y));
+    }
+    #[inline(always)]
+    fn delete(&mut self, x: usize, y: usize) {
+        self.row_at_mut(y)[x] = 0;
+    }
+}
+
 /// One sub-iteration; returns the number of pixels deleted.
-fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u32 {
-    let (w, h) = (map.width(), map.height());
+fn sub_iteration<M: ThinMap>(map: &mut M, ring: &mut [u8], bit: u8) -> u32 {
+    let (w, h) = map.dims();
     let slot = |y: usize| (y % 3) * w;
-    ring[..w].copy_from_slice(map.row_at_mut(0));
+    map.load_row(0, &mut ring[..w]);
     tally(Op::Load, w as u32);
     tally(Op::Store, w as u32);
     let mut deleted = 0u32;
     for y in 0..h {
         if y + 1 < h {
             let s = slot(y + 1);
-            ring[s..s + w].copy_from_slice(map.row_at_mut(y + 1));
+            map.load_row(y + 1, &mut ring[s..s + w]);
             tally(Op::Load, w as u32);
             tally(Op::Store, w as u32);
         }
@@ -154,8 +183,8 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
         } else {
             None
         };
-        let out = map.row_at_mut(y);
         let mut fg_count = 0u32;
+        let mut row_deleted = 0u32;
         for x in 0..w {
             if cur[x] == 0 {
                 continue;
@@ -171,10 +200,11 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
                 | fg(Some(cur), xi - 1) << 6
                 | fg(above, xi - 1) << 7;
             if TABLE[mask as usize] & bit != 0 {
-                out[x] = 0;
-                deleted += 1;
+                map.delete(x, y);
+                row_deleted += 1;
             }
         }
+        deleted += row_deleted;
         // Every pixel: load, compare, branch. Foreground pixels: 8 loads,
         // 8 compares, 7 shifts, 7 ors, a table look-up, a test and branch.
         let n = w as u32;
@@ -183,9 +213,41 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
         tally(Op::Shift, 7 * fg_count);
         tally(Op::Table, fg_count);
         tally(Op::Branch, 2 * n + fg_count);
-        tally(Op::Store, deleted);
+        tally(Op::Store, row_deleted);
     }
     deleted
+}
+
+/// Iterations on any [`ThinMap`] with a ring of `3 * width` bytes (the
+/// caller checks it), at most `max_iterations` (at least 1).
+pub(crate) fn thin_map<M: ThinMap>(map: &mut M, ring: &mut [u8], max_iterations: u32) -> ThinStats {
+    let mut st = ThinStats::default();
+    loop {
+        st.iterations += 1;
+        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
+        st.deleted += d;
+        tally(Op::Branch, 1);
+        if d == 0 {
+            return st;
+        }
+        if st.iterations >= max_iterations {
+            st.capped = true;
+            return st;
+        }
+    }
+}
+
+/// Checks a thinning scratch of `3 * width` bytes and returns that span.
+fn ring_of(width: usize, scratch: &mut [u8]) -> Result<&mut [u8]> {
+    let needed = 3 * width;
+    if scratch.len() < needed {
+        return Err(Error::BufferTooShort {
+            what: "thinning row scratch",
+            needed,
+            got: scratch.len(),
+        });
+    }
+    Ok(&mut scratch[..needed])
 }
 
 /// Thins a binary map in place (see the module docs). `scratch` needs
@@ -206,25 +268,43 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
 /// ```
 pub fn thin(map: &mut ImageViewMut<'_, u8>, scratch: &mut [u8]) -> Result<ThinStats> {
     check_single_channel(&map.as_view())?;
-    let needed = 3 * map.width();
-    if scratch.len() < needed {
-        return Err(Error::BufferTooShort {
-            what: "thinning row scratch",
-            needed,
-            got: scratch.len(),
+    let ring = ring_of(map.width(), scratch)?;
+    Ok(thin_map(map, ring, u32::MAX))
+}
+
+/// [`thin`] with a cap on the iterations: stops after `max_iterations`
+/// iterations even when the last one deleted pixels, and then reports
+/// [`ThinStats::capped`]. Each iteration is the same two sub-iterations as
+/// in [`thin`], so a cap at or above the number [`thin`] needs gives the
+/// same map. A cap bounds the time per frame on a real-time core.
+///
+/// Errors: as [`thin`]; `max_iterations = 0` -> [`Error::BadParameter`].
+///
+/// ```
+/// use fixsight::{thinning, ImageViewMut};
+/// // A 5-pixel-thick bar needs more than one iteration.
+/// let mut map = [0u8; 12 * 9];
+/// for y in 2..7 { for x in 1..11 { map[y * 12 + x] = 1; } }
+/// let mut scratch = [0u8; 36];
+/// let st = thinning::thin_at_most(&mut ImageViewMut::new(&mut map, 12, 9, 12)?, &mut scratch, 1)?;
+/// assert!(st.capped && st.iterations == 1);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn thin_at_most(
+    map: &mut ImageViewMut<'_, u8>,
+    scratch: &mut [u8],
+    max_iterations: u32,
+) -> Result<ThinStats> {
+    check_single_channel(&map.as_view())?;
+    if max_iterations == 0 {
+        return Err(Error::BadParameter {
+            name: "thinning iteration cap",
+            expected: "1..",
+            got: 0,
         });
     }
-    let ring = &mut scratch[..needed];
-    let mut st = ThinStats::default();
-    loop {
-        st.iterations += 1;
-        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
-        st.deleted += d;
-        tally(Op::Branch, 1);
-        if d == 0 {
-            return Ok(st);
-        }
-    }
+    let ring = ring_of(map.width(), scratch)?;
+    Ok(thin_map(map, ring, max_iterations))
 }
 
 #[cfg(test)]

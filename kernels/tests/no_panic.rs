@@ -35,7 +35,7 @@ proptest! {
     #[test]
     fn views_and_filters((w, h, st, ch, len) in layout(), (w2, h2, st2, ch2, len2) in layout(),
                          (ht, hs) in taps(), (vt, vs) in taps(), scratch in 0usize..40,
-                         b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+                         b in prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]) {
         let src = vec![7u8; len];
         let mut dst8 = vec![0u8; len2];
         let mut dst16 = vec![0i16; len2];
@@ -49,7 +49,12 @@ proptest! {
             }
         }
         let filters: Vec<SeparableFilter> = match (Taps::new(&ht, hs), Taps::new(&vt, vs)) {
-            (Ok(a), Ok(c)) => SeparableFilter::new(a, c, b).into_iter().collect(),
+            (Ok(a), Ok(c)) => {
+                // Both entry points for custom taps agree and never panic.
+                let f = filter::separable(a, c, b);
+                prop_assert_eq!(f, SeparableFilter::new(a, c, b));
+                f.into_iter().collect()
+            }
             _ => vec![filter::binomial7(b), filter::sobel_x(b)],
         };
         for f in &filters {
@@ -65,7 +70,7 @@ proptest! {
     #[test]
     fn streams_in_any_call_order(w in 0usize..12, h in 0usize..8, ring in 0usize..120, acc in 0usize..14,
                                  calls in prop::collection::vec((any::<bool>(), 0usize..14, 0usize..14), 0..24)) {
-        let f = filter::binomial5(Border::Replicate);
+        let f = filter::binomial5(Border::Clamp);
         let mut r = vec![0u8; ring];
         let mut a = vec![0i32; acc];
         if let Ok(mut st) = FilterStream::new(&f, w, h, &mut r, &mut a) {
@@ -126,16 +131,16 @@ proptest! {
         let ch = map.len() / cw;
         let mut stk = vec![0u32; stack];
         if let Ok(mut mv) = ImageViewMut::new(&mut map, cw, ch, cw) {
-            let _ = hysteresis::hysteresis(&mut mv, &mut stk);
+            let _ = hysteresis::link(&mut mv, &mut stk);
             let mut scratch = vec![0u8; stack * 3];
             let _ = thinning::thin(&mut mv, &mut scratch);
         }
     }
 }
 
-mod remap_apis {
+mod warp_apis {
     use fixsight::filter::Border;
-    use fixsight::remap::{sample_pixel, DenseMap, MeshTable, RemapGeometry};
+    use fixsight::warp::{sample_pixel, ControlGrid, PixelMap, WarpGeometry};
     use fixsight::{ImageView, ImageViewMut};
     use proptest::prelude::*;
 
@@ -143,21 +148,21 @@ mod remap_apis {
         #![proptest_config(ProptestConfig::with_cases(256))]
 
         #[test]
-        fn remap_entry_points(ow in 0usize..10, oh in 0usize..10, sw in 0usize..10, sh in 0usize..10,
+        fn warp_entry_points(ow in 0usize..10, oh in 0usize..10, sw in 0usize..10, sh in 0usize..10,
                               f in 0u32..14, k in 0u32..9, first in 0usize..12,
                               coords in prop::collection::vec(any::<i32>(), 0..260),
                               small in prop::collection::vec(-400i32..400, 0..260),
                               blob in prop::collection::vec(any::<u8>(), 0..120),
                               dst_h in 0usize..12, ch in 0usize..6, sx in any::<i32>(), sy in any::<i32>(),
-                              b in prop_oneof![Just(Border::Replicate), any::<u8>().prop_map(Border::Constant)]) {
+                              b in prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]) {
             let src = vec![9u8; 10 * 10 * 5];
             let mut dst = vec![0u8; 10 * 12 * 5];
             let mut px = [0u8; 5];
             if let Ok(v) = ImageView::interleaved(&src, sw.max(1), sh.max(1), sw.max(1) * ch.max(1), ch) {
                 let _ = sample_pixel(&v, sx, sy, f, b, &mut px[..ch.min(5)]);
             }
-            let _ = MeshTable::from_blob(&blob);
-            if let Ok(g) = RemapGeometry::new(ow, oh, sw, sh, f) {
+            let _ = ControlGrid::from_blob(&blob);
+            if let Ok(g) = WarpGeometry::new(ow, oh, sw, sh, f) {
                 // Exactly the lengths the constructors want, filled from the
                 // random values (so range checks, not length checks, decide).
                 let fit = |n: usize| -> Vec<i32> {
@@ -169,25 +174,130 @@ mod remap_apis {
                 let dense = fit(2 * ow * oh);
                 let pts = fit(2 * cols * rows);
                 let scaled: Vec<i32> = pts.iter().map(|v| v << f.min(10)).collect();
-                let maps: Vec<DenseMap> = [&coords, &dense]
+                let maps: Vec<PixelMap> = [&coords, &dense]
                     .iter()
-                    .filter_map(|c| DenseMap::new(c, g).ok())
+                    .filter_map(|c| PixelMap::new(c, g).ok())
                     .collect();
-                let meshes: Vec<MeshTable> = [&coords, &pts, &scaled]
+                let grids: Vec<ControlGrid> = [&coords, &pts, &scaled]
                     .iter()
-                    .filter_map(|c| MeshTable::new(c, g, k).ok())
+                    .filter_map(|c| ControlGrid::new(c, g, k).ok())
                     .collect();
                 if let (Ok(v), Ok(mut d)) = (
                     ImageView::interleaved(&src, sw, sh, sw * ch.max(1), ch),
                     ImageViewMut::interleaved(&mut dst, ow, dst_h, ow * ch.max(1), ch),
                 ) {
                     for m in &maps {
-                        let _ = m.remap_rows(&v, &mut d, first, b);
+                        let _ = m.warp_rows(&v, &mut d, first, b);
                     }
-                    for m in &meshes {
-                        let _ = m.remap_rows(&v, &mut d, first, b);
+                    for m in &grids {
+                        let _ = m.warp_rows(&v, &mut d, first, b);
                     }
                 }
+            }
+        }
+    }
+}
+
+mod pipeline_apis {
+    use fixsight::pipeline::{
+        map_words, EdgeConfig, EdgeStream, Magnitude, Operator, Smoothing, Thinning, ThresholdRule,
+        DEMO,
+    };
+    use fixsight::thinning;
+    use fixsight::ImageViewMut;
+    use proptest::prelude::*;
+
+    fn config() -> impl Strategy<Value = EdgeConfig> {
+        (
+            0usize..5,
+            any::<bool>(),
+            any::<u8>(),
+            0usize..3,
+            (
+                any::<bool>(),
+                any::<u8>(),
+                any::<u16>(),
+                any::<u16>(),
+                any::<u16>(),
+                any::<u16>(),
+            ),
+            (0usize..3, any::<u16>()),
+        )
+            .prop_map(|(sm, op, fb, mg, (fixed, sh, p, f, lo, hi), (th, cap))| {
+                EdgeConfig {
+                    smoothing: [
+                        Smoothing::None,
+                        Smoothing::Binomial3,
+                        Smoothing::Binomial5,
+                        Smoothing::Binomial7,
+                        Smoothing::Gauss7,
+                    ][sm],
+                    operator: if op {
+                        Operator::Sobel
+                    } else {
+                        Operator::Scharr
+                    },
+                    frac_bits: fb,
+                    magnitude: [Magnitude::L1, Magnitude::L2Approx, Magnitude::L2Round][mg],
+                    thresholds: if fixed {
+                        ThresholdRule::Fixed { low: lo, high: hi }
+                    } else {
+                        ThresholdRule::Auto {
+                            shift: sh,
+                            high_permille: p,
+                            low_fraction_bits: f,
+                            first_low: lo,
+                            first_high: hi,
+                        }
+                    },
+                    thinning: [Thinning::Off, Thinning::UntilStable, Thinning::AtMost(cap)][th],
+                }
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        /// Any configuration, size, row form and call order: `Ok` or a
+        /// typed error.
+        #[test]
+        fn edge_stream_in_any_call_order(cfg in config(), demo in any::<bool>(), w in 0usize..20,
+                                         h in 0usize..14, bits in 0u32..20,
+                                         calls in prop::collection::vec((0usize..11, 0usize..44, any::<u16>()), 0..40)) {
+            let cfg = if demo { DEMO } else { cfg };
+            let _ = cfg.check();
+            let _ = (cfg.max_magnitude(), cfg.bins_needed(), cfg.gradient_taps(), cfg.gradient_filters());
+            let mut s: Box<EdgeStream<16, { map_words(16, 12) }, 600, 32>> = Box::default();
+            let _ = s.configure(&cfg, w, h);
+            for (call, len, v) in calls {
+                let row8 = vec![(v & 255) as u8; len];
+                let row16 = vec![v; len];
+                let _ = match call {
+                    0 => s.push_row(&row8),
+                    1 => s.push_yuyv(&row8),
+                    2 => s.push_uyvy(&row8),
+                    3 => s.push_rgb565(&row16),
+                    4 => s.push_raw(&row16, bits),
+                    5 => s.next_row_slot().map(|r| { r.fill(v as u8); r.len() }),
+                    6 => s.commit_row(),
+                    7 => s.finish().map(|r| r.edge_points as usize),
+                    8 => s.finish_short().map(|r| r.edge_points as usize),
+                    9 => { s.reset(); Ok(0) }
+                    _ => s.edge_row(len, &mut vec![0u8; v as usize % 24]).map(|_| 0),
+                };
+                if let Ok(p) = s.points() {
+                    let _ = p.count();
+                }
+                let _ = (s.report(), s.thresholds(), s.rows_pushed());
+            }
+        }
+
+        #[test]
+        fn capped_thinning(w in 0usize..12, h in 0usize..12, cap in any::<u32>(), scratch in 0usize..40,
+                           bits in prop::collection::vec(any::<bool>(), 0..144)) {
+            let mut map: Vec<u8> = bits.iter().map(|&b| b as u8 * 255).collect();
+            if let Ok(mut v) = ImageViewMut::new(&mut map, w, h, w.max(1)) {
+                let _ = thinning::thin_at_most(&mut v, &mut vec![0u8; scratch], cap);
             }
         }
     }

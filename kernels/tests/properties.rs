@@ -46,10 +46,7 @@ fn image() -> impl Strategy<Value = (usize, usize, Vec<u8>)> {
 }
 
 fn border() -> impl Strategy<Value = Border> {
-    prop_oneof![
-        Just(Border::Replicate),
-        any::<u8>().prop_map(Border::Constant)
-    ]
+    prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]
 }
 
 /// Any tap set the constructor accepts (odd length 1..=9, i16 taps scaled
@@ -79,7 +76,7 @@ proptest! {
     #[test]
     fn constant_image_stays_constant(v in any::<u8>(), w in 1usize..20, h in 1usize..20, which in 0usize..3) {
         let img = vec![v; w * h];
-        for b in [Border::Replicate, Border::Constant(v)] {
+        for b in [Border::Clamp, Border::Fill(v)] {
             let f = presets(b)[which];
             prop_assert!(whole::<u8>(&f, &img, w, h).iter().all(|&p| p == v));
             // Derivatives of a constant image are zero.

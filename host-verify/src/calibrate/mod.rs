@@ -1,5 +1,5 @@
 //! Lens calibration from photographs of a flat checkerboard: from a folder
-//! of images to a `fixsight-lens 1` file that the mesh builder accepts.
+//! of images to a `fixsight-lens 1` file that the `grid` command accepts.
 //!
 //! | module | role |
 //! |---|---|
@@ -8,7 +8,9 @@
 //! | [`refine`] | Levenberg-Marquardt over intrinsics, distortion and every pose; standard deviations |
 //! | [`synth`] | checkerboard views rendered through a known lens (tests and the accuracy study) |
 //! | [`report`] | the calibration report: text, JSON and one picture per image |
-//! | [`command`] | the `calibrate` command: folder in, lens file and report out |
+//!
+//! The `calibrate` command itself (folder in, lens file and report out) is
+//! [`crate::cmd::calibrate`].
 //!
 //! # Conventions
 //!
@@ -28,7 +30,6 @@
 //! * Projection: `(x, y) = (X / Z, Y / Z)`, then the lens model of
 //!   [`crate::lens::LensModel::distort`], then the intrinsics.
 
-pub mod command;
 pub mod corners;
 pub mod refine;
 pub mod report;

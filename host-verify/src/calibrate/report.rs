@@ -17,10 +17,11 @@
 //!   corner was seen, so a warning is given when fewer than half the border
 //!   cells hold a corner or the reach is below 0.8 (common practice, no
 //!   source).
-//! * **Mesh error**: the mesh that the `mesh` command would build from the
-//!   written lens file (fit-to-view corrected view of the sensor's size) at
-//!   the chosen step and fractional bits, measured against the exact lens
-//!   map over every output pixel ([`crate::remap::build_mesh`]).
+//! * **Grid error**: the control grid that the `grid` command would build
+//!   from the written lens file (fit-to-view corrected view of the sensor's
+//!   size) at the chosen spacing and fractional bits, measured against the
+//!   exact lens map over every output pixel
+//!   ([`crate::warp::grid::build_grid`]).
 //!
 //! # Pictures
 //!
@@ -133,9 +134,9 @@ pub struct Estimate {
     pub std: f64,
 }
 
-/// The mesh figures.
+/// The control-grid figures.
 #[derive(Debug, Clone, Copy, Serialize)]
-pub struct MeshError {
+pub struct GridError {
     /// Step, px.
     pub step_px: u32,
     /// Fractional bits.
@@ -177,8 +178,8 @@ pub struct Report {
     pub corners: usize,
     /// Field coverage.
     pub coverage: Coverage,
-    /// Mesh figures.
-    pub mesh: MeshError,
+    /// Control-grid figures.
+    pub grid: GridError,
     /// Warnings.
     pub warnings: Vec<String>,
     /// The lens file written.
@@ -244,13 +245,13 @@ pub fn lens_text(
     s
 }
 
-/// Builds the mesh of a parsed lens file and measures it.
-pub(crate) fn mesh_error(
+/// Builds the control grid of a parsed lens file and measures it.
+pub(crate) fn grid_error(
     spec: &LensSpec,
-    step_log2: u32,
+    grid_log2: u32,
     frac_bits: u32,
-) -> Result<MeshError, String> {
-    let geom = fixsight::remap::RemapGeometry::new(
+) -> Result<GridError, String> {
+    let geom = fixsight::warp::WarpGeometry::new(
         spec.output.0,
         spec.output.1,
         spec.sensor.0,
@@ -258,9 +259,9 @@ pub(crate) fn mesh_error(
         frac_bits,
     )
     .map_err(|e| e.to_string())?;
-    let mb = crate::remap::build_mesh(&spec.camera, &spec.view, geom, step_log2)?;
-    Ok(MeshError {
-        step_px: 1 << step_log2,
+    let mb = crate::warp::grid::build_grid(&spec.camera, &spec.view, geom, grid_log2)?;
+    Ok(GridError {
+        step_px: 1 << grid_log2,
         frac_bits,
         max_px: mb.max_px,
         rms_px: mb.rms_px,
@@ -382,10 +383,10 @@ pub fn text(r: &Report) -> String {
         100.0 * c.edge_cells,
         100.0 * c.reach
     );
-    let m = &r.mesh;
+    let m = &r.grid;
     let _ = writeln!(
         s,
-        "Mesh from this lens file (fit-to-view, step {} px, {} fractional bits, {}x{} points): \
+        "Control grid from this lens file (fit-to-view, spacing {} px, {} fractional bits, {}x{} points): \
          geometric error max {:.5} px, RMS {:.5} px.",
         m.step_px, m.frac_bits, m.grid.0, m.grid.1, m.max_px, m.rms_px
     );

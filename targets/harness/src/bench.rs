@@ -5,29 +5,35 @@
 //! data (the direction kernel's branches depend on it):
 //!
 //! ```text
-//! frame --binomial5--> smooth --sobel_x--> gx --+--magnitude_l1--> mag
-//!                             --sobel_y--> gy --+--magnitude_l2--> mag2
-//!                                               +--direction-----> dir
+//! frame --binomial5--> smooth --sobel_x--> gx --+--magnitude_l1--------> mag
+//!                             --sobel_y--> gy --+--magnitude_l2_approx--> mag2
+//!                                               +--direction-----------> dir
 //! ```
 //!
-//! plus the other presets (binomial3/7, Scharr) for comparison; then the
-//! edge chain of `edges.chain` (`host-verify/src/canny.rs`) on the frame,
-//! with its fused smoothed Sobel (9 taps: the 7-tap Gaussian with Sobel,
-//! gradients 4x Sobel), rounded L2 magnitude and demo threshold rule:
+//! plus the other presets (binomial3/7, Scharr x) for comparison; then the
+//! edge chain of `chain.edges` (`host-verify/src/chain/`) on the frame,
+//! kernel by kernel, with the settings of `fixsight::pipeline::DEMO` (its
+//! fused smoothed Sobel: 9 taps, the 7-tap Gaussian with Sobel, gradients
+//! 4x Sobel; rounded L2 magnitude; its threshold rule):
 //!
 //! ```text
-//! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2--> mag2
-//!                                   --chain_direction-----> dir
-//! (mag2, dir) --nms--> sup --thresholds--> (low, high)
-//! (sup, low, high) --classify--> codes --hysteresis--> edges --thinning--> thin
+//! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2_round--> mag2
+//!                                   --chain_direction-----------> dir
+//! (mag2, dir) --suppress--> sup --thresholds--> (low, high)
+//! (sup, low, high) --classify--> codes --link--> edges --thin--> thin
 //! ```
 //!
-//! (hysteresis and thinning in place on one image), and the two remap
-//! forms on the frame with the integer barrel lens of [`bench_lens`]:
-//! `remap_dense` (a dense map, F = 5) and `remap_mesh` (the same lens as a
-//! step-16 mesh blob, output in strips of 16 rows). Each stage is one
+//! (link and thin in place on one image); then `pipeline_edge_stream`, the
+//! same chain as one streamed stage (`pipeline.edge_stream`:
+//! `fixsight::pipeline::EdgeStream` with `DEMO`, 240 rows pushed, the frame
+//! finished, its points read), what a firmware that streams camera rows
+//! pays per frame; and the two warp forms on the
+//! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
+//! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
+//! grid with points every 16 pixels, as a blob, output in strips of 16
+//! rows). Each stage is one
 //! measured call (instruction window and stack painting, like a golden
-//! vector). Every stage uses replicate borders.
+//! vector). Every stage uses clamp borders.
 //!
 //! The frame is integer-only and deterministic: a ramp `64 + (x + 2y) / 8`,
 //! plus 96 inside a disc of radius 70 centred at (110, 120) and inside the
@@ -38,7 +44,8 @@ use crate::kernels::{Arena, Buf, Img, Param, Params};
 use crate::vectors::Elem;
 use crate::Console;
 use core::fmt::Write;
-use fixsight::remap::{MeshTable, RemapGeometry};
+use fixsight::pipeline::{GradientTaps, ThresholdRule, DEMO};
+use fixsight::warp::{ControlGrid, WarpGeometry};
 
 /// Frame width.
 pub const WIDTH: usize = 320;
@@ -46,7 +53,7 @@ pub const WIDTH: usize = 320;
 pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
-const SLOTS: [(Elem, usize, usize, usize); 14] = [
+const SLOTS: [(Elem, usize, usize, usize); 15] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
     (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
     (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
@@ -59,15 +66,16 @@ const SLOTS: [(Elem, usize, usize, usize); 14] = [
     (Elem::U16, WIDTH, HEIGHT, 1),   // 9 suppressed magnitude
     (Elem::U16, 2, 1, 1),            // 10 thresholds (low, high)
     (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
-    (Elem::I32, WIDTH, HEIGHT, 2),   // 12 dense map, raw (x, y) per pixel
-    (Elem::U8, MESH_BLOB_LEN, 1, 1), // 13 mesh blob
+    (Elem::I32, WIDTH, HEIGHT, 2),   // 12 pixel map, raw (x, y) per pixel
+    (Elem::U8, GRID_BLOB_LEN, 1, 1), // 13 grid blob
+    (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
 ];
 
 /// One measured stage.
 pub struct Stage {
     /// Report name.
     pub name: &'static str,
-    /// Kernel id (dispatched through the generated table).
+    /// Kernel id (dispatched through the table in `src/kernels/mod.rs`).
     pub kernel: &'static str,
     /// Parameters, in the golden-manifest form.
     pub params: &'static [(&'static str, Param)],
@@ -89,65 +97,83 @@ const fn sep(
         ("h_shift", Param::Int(hs)),
         ("v", Param::Ints(v)),
         ("v_shift", Param::Int(vs)),
-        ("border", Param::Str("replicate")),
+        ("border", Param::Str("clamp")),
         ("output", Param::Str(out)),
     ]
 }
 
-const BINOMIAL3: [(&str, Param); 6] = sep(&[1, 2, 1], 2, &[1, 2, 1], 2, "u8");
-const BINOMIAL5: [(&str, Param); 6] = sep(&[1, 4, 6, 4, 1], 4, &[1, 4, 6, 4, 1], 4, "u8");
-const BINOMIAL7: [(&str, Param); 6] = sep(
-    &[1, 6, 15, 20, 15, 6, 1],
-    6,
-    &[1, 6, 15, 20, 15, 6, 1],
-    6,
-    "u8",
-);
-const SOBEL_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[1, 2, 1], 0, "i16");
-const SOBEL_Y: [(&str, Param); 6] = sep(&[1, 2, 1], 0, &[-1, 0, 1], 0, "i16");
-const SCHARR_X: [(&str, Param); 6] = sep(&[-1, 0, 1], 0, &[3, 10, 3], 0, "i16");
-/// The edge chain's smoothed Sobel (`smoothed_sobel` in
-/// `host-verify/src/canny.rs`): the 7-tap Gaussian `[1 14 62 102 62 14 1]/256`
-/// convolved with Sobel's taps, one rounding, gradients 4x Sobel.
+/// Params of the preset stages (`filter.binomial5`, `filter.sobel_x`, ...):
+/// the border rule; taps and output type are the preset's.
+const CLAMP: [(&str, Param); 1] = [("border", Param::Str("clamp"))];
+/// The fused gradient taps of `fixsight::pipeline::DEMO` (the edge chain's
+/// smoothed Sobel, `smoothed_sobel` in `host-verify/src/edge_chain.rs`,
+/// custom taps, so `filter.separable`: the 7-tap Gaussian
+/// `[1 14 62 102 62 14 1]/256` convolved with Sobel's taps, one rounding,
+/// gradients 4x Sobel).
+const DEMO_TAPS: GradientTaps = DEMO.gradient_taps();
+const DEMO_LEN: usize = DEMO_TAPS.deriv().len();
+
+/// `i16` taps widened to the manifest's integers (zero past the end).
+const fn widen(t: &[i16]) -> [i64; 9] {
+    let mut out = [0i64; 9];
+    let mut i = 0;
+    while i < t.len() {
+        out[i] = t[i] as i64;
+        i += 1;
+    }
+    out
+}
+
+const DEMO_DERIV: [i64; 9] = widen(DEMO_TAPS.deriv());
+const DEMO_CROSS: [i64; 9] = widen(DEMO_TAPS.cross());
 const CHAIN_SOBEL_X: [(&str, Param); 6] = sep(
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
 const CHAIN_SOBEL_Y: [(&str, Param); 6] = sep(
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
-/// The edge chain's demo threshold rule (`DEMO` in `host-verify/src/canny.rs`:
-/// 512 bins of width 2, the kernel crate's demo share and ratio).
+/// The threshold rule of `fixsight::pipeline::DEMO`: bins covering its
+/// largest magnitude, its bin width, share and ratio.
+const DEMO_RULE: (i64, i64, i64) = match DEMO.thresholds {
+    ThresholdRule::Auto {
+        shift,
+        high_permille,
+        low_ratio_u0f16,
+        ..
+    } => (shift as i64, high_permille as i64, low_ratio_u0f16 as i64),
+    ThresholdRule::Fixed { .. } => (0, 1, 1),
+};
 const THRESHOLDS: [(&str, Param); 4] = [
-    ("bins", Param::Int(512)),
-    ("shift", Param::Int(1)),
-    (
-        "high_permille",
-        Param::Int(fixsight::hysteresis::DEMO_HIGH_PERMILLE as i64),
-    ),
-    (
-        "low_fraction_bits",
-        Param::Int(fixsight::hysteresis::DEMO_LOW_FRACTION.to_bits() as i64),
-    ),
+    ("bins", Param::Int(DEMO.bins_needed() as i64)),
+    ("shift", Param::Int(DEMO_RULE.0)),
+    ("high_permille", Param::Int(DEMO_RULE.1)),
+    ("low_ratio_u0f16", Param::Int(DEMO_RULE.2)),
+];
+/// The streamed edge stage on one frame with `fixsight::pipeline::DEMO`.
+const PIPELINE: [(&str, Param); 3] = [
+    ("frames", Param::Int(1)),
+    ("height", Param::Int(HEIGHT as i64)),
+    ("last_rows", Param::Int(HEIGHT as i64)),
 ];
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
 
-/// Fractional bits of the bench remap coordinates.
-const REMAP_FRAC_BITS: u32 = 5;
-/// Mesh step of the bench mesh, log2 (16 output pixels).
-const MESH_STEP_LOG2: u32 = 4;
-/// Mesh points along `n` output pixels (the rule in the kernel's `remap`
+/// Fractional bits of the bench warp coordinates.
+const WARP_FRAC_BITS: u32 = 5;
+/// Grid step of the bench grid, log2 (16 output pixels).
+const BENCH_GRID_LOG2: u32 = 4;
+/// Grid points along `n` output pixels (the rule in the kernel's `warp`
 /// docs: `max(2, ceil((n - 1) / S) + 1)`).
-const fn mesh_points(n: usize) -> usize {
-    let s = 1 << MESH_STEP_LOG2;
+const fn grid_points(n: usize) -> usize {
+    let s = 1 << BENCH_GRID_LOG2;
     let c = (n - 1).div_ceil(s) + 1;
     if c < 2 {
         2
@@ -155,38 +181,38 @@ const fn mesh_points(n: usize) -> usize {
         c
     }
 }
-/// Blob bytes of the bench mesh: header and 8 bytes per point.
-const MESH_BLOB_LEN: usize =
-    fixsight::remap::BLOB_HEADER_LEN + 8 * mesh_points(WIDTH) * mesh_points(HEIGHT);
-const DENSE: [(&str, Param); 2] = [
-    ("border", Param::Str("replicate")),
-    ("frac_bits", Param::Int(REMAP_FRAC_BITS as i64)),
+/// Blob bytes of the bench grid: header and 8 bytes per point.
+const GRID_BLOB_LEN: usize =
+    fixsight::warp::BLOB_HEADER_LEN + 8 * grid_points(WIDTH) * grid_points(HEIGHT);
+const PIXEL_MAP: [(&str, Param); 2] = [
+    ("border", Param::Str("clamp")),
+    ("frac_bits", Param::Int(WARP_FRAC_BITS as i64)),
 ];
-const MESH: [(&str, Param); 2] = [
-    ("border", Param::Str("replicate")),
+const CONTROL_GRID: [(&str, Param); 2] = [
+    ("border", Param::Str("clamp")),
     ("strip_rows", Param::Int(16)),
 ];
 
-/// The stages in run order (`kernel:` lines are read by `build.rs`).
+/// The stages in run order.
 pub static STAGES: &[Stage] = &[
     Stage {
         name: "binomial5",
-        kernel: "filter.separable",
-        params: &BINOMIAL5,
+        kernel: "filter.binomial5",
+        params: &CLAMP,
         inputs: &[0],
         outputs: &[1],
     },
     Stage {
         name: "sobel_x",
-        kernel: "filter.separable",
-        params: &SOBEL_X,
+        kernel: "filter.sobel_x",
+        params: &CLAMP,
         inputs: &[1],
         outputs: &[2],
     },
     Stage {
         name: "sobel_y",
-        kernel: "filter.separable",
-        params: &SOBEL_Y,
+        kernel: "filter.sobel_y",
+        params: &CLAMP,
         inputs: &[1],
         outputs: &[3],
     },
@@ -198,8 +224,8 @@ pub static STAGES: &[Stage] = &[
         outputs: &[4],
     },
     Stage {
-        name: "magnitude_l2",
-        kernel: "gradient.magnitude_l2",
+        name: "magnitude_l2_approx",
+        kernel: "gradient.magnitude_l2_approx",
         params: &[],
         inputs: &[2, 3],
         outputs: &[5],
@@ -213,22 +239,22 @@ pub static STAGES: &[Stage] = &[
     },
     Stage {
         name: "binomial3",
-        kernel: "filter.separable",
-        params: &BINOMIAL3,
+        kernel: "filter.binomial3",
+        params: &CLAMP,
         inputs: &[0],
         outputs: &[7],
     },
     Stage {
         name: "binomial7",
-        kernel: "filter.separable",
-        params: &BINOMIAL7,
+        kernel: "filter.binomial7",
+        params: &CLAMP,
         inputs: &[0],
         outputs: &[7],
     },
     Stage {
         name: "scharr_x",
-        kernel: "filter.separable",
-        params: &SCHARR_X,
+        kernel: "filter.scharr_x",
+        params: &CLAMP,
         inputs: &[1],
         outputs: &[8],
     },
@@ -247,7 +273,7 @@ pub static STAGES: &[Stage] = &[
         outputs: &[3],
     },
     Stage {
-        name: "chain_magnitude_l2",
+        name: "chain_magnitude_l2_round",
         kernel: "gradient.magnitude_l2_round",
         params: &[],
         inputs: &[2, 3],
@@ -261,51 +287,58 @@ pub static STAGES: &[Stage] = &[
         outputs: &[6],
     },
     Stage {
-        name: "nms",
-        kernel: "edges.nms",
+        name: "suppress",
+        kernel: "nms.suppress",
         params: &[],
         inputs: &[5, 6],
         outputs: &[9],
     },
     Stage {
         name: "thresholds",
-        kernel: "edges.thresholds",
+        kernel: "hysteresis.thresholds",
         params: &THRESHOLDS,
         inputs: &[9],
         outputs: &[10],
     },
     Stage {
         name: "classify",
-        kernel: "edges.classify",
+        kernel: "hysteresis.classify",
         params: &[],
         inputs: &[9, 10],
         outputs: &[11],
     },
     Stage {
-        name: "hysteresis",
-        kernel: "edges.hysteresis",
+        name: "link",
+        kernel: "hysteresis.link",
         params: &STACK,
         inputs: &[],
         outputs: &[11],
     },
     Stage {
-        name: "thinning",
-        kernel: "edges.thinning",
+        name: "thin",
+        kernel: "thinning.thin",
         params: &[],
         inputs: &[],
         outputs: &[11],
     },
     Stage {
-        name: "remap_dense",
-        kernel: "remap.dense",
-        params: &DENSE,
+        name: "pipeline_edge_stream",
+        kernel: "pipeline.edge_stream",
+        params: &PIPELINE,
+        inputs: &[0],
+        outputs: &[14],
+    },
+    Stage {
+        name: "warp_pixel_map",
+        kernel: "warp.pixel_map",
+        params: &PIXEL_MAP,
         inputs: &[0, 12],
         outputs: &[7],
     },
     Stage {
-        name: "remap_mesh",
-        kernel: "remap.mesh",
-        params: &MESH,
+        name: "warp_control_grid",
+        kernel: "warp.control_grid",
+        params: &CONTROL_GRID,
         inputs: &[0, 13],
         outputs: &[7],
     },
@@ -332,15 +365,15 @@ fn fill_frame(frame: &mut [u8]) {
 }
 
 /// Raw source coordinate of output position `(x, y)` (may lie past the
-/// frame: mesh points do) under the bench lens, a barrel undistortion
+/// frame: grid points do) under the bench lens, a barrel undistortion
 /// `src = c + d * (1 - r^2 / 2^21)` with `d` the offset from the frame
 /// centre `c = (159.5, 119.5)` and `r^2 = |2d|^2` in half-pixel units
 /// (factor 0.924 in the corners, so every sample stays inside the frame).
-/// Integer only, floor of the raw value at `F` = [`REMAP_FRAC_BITS`].
+/// Integer only, floor of the raw value at `F` = [`WARP_FRAC_BITS`].
 fn bench_lens(x: i64, y: i64) -> (i32, i32) {
     let (dx2, dy2) = (2 * x - (WIDTH as i64 - 1), 2 * y - (HEIGHT as i64 - 1));
     let r2 = dx2 * dx2 + dy2 * dy2;
-    let f = REMAP_FRAC_BITS;
+    let f = WARP_FRAC_BITS;
     // d * 2^F = d2 * 2^(F-1); times (2^21 - r^2) / 2^21.
     let scale = (1i64 << 21) - r2;
     let raw = |d2: i64, n: usize| -> i32 {
@@ -350,7 +383,7 @@ fn bench_lens(x: i64, y: i64) -> (i32, i32) {
     (raw(dx2, WIDTH), raw(dy2, HEIGHT))
 }
 
-/// Fills the dense map slot with [`bench_lens`] at every output pixel.
+/// Fills the pixel map slot with [`bench_lens`] at every output pixel.
 fn fill_map(map: &mut [i32]) {
     for (i, p) in map.chunks_exact_mut(2).enumerate() {
         let (x, y) = bench_lens((i % WIDTH) as i64, (i / WIDTH) as i64);
@@ -359,20 +392,20 @@ fn fill_map(map: &mut [i32]) {
     }
 }
 
-/// Writes the mesh blob of [`bench_lens`] at step 16 into `blob`, using
+/// Writes the grid blob of [`bench_lens`] at step 16 into `blob`, using
 /// `points` for the control points.
-fn fill_mesh(points: &mut [i32], blob: &mut [u8]) -> Result<(), fixsight::Error> {
-    let g = RemapGeometry::new(WIDTH, HEIGHT, WIDTH, HEIGHT, REMAP_FRAC_BITS)?;
-    let (cols, _) = MeshTable::grid_size(&g, MESH_STEP_LOG2)?;
+fn fill_grid(points: &mut [i32], blob: &mut [u8]) -> Result<(), fixsight::Error> {
+    let g = WarpGeometry::new(WIDTH, HEIGHT, WIDTH, HEIGHT, WARP_FRAC_BITS)?;
+    let (cols, _) = ControlGrid::grid_size(&g, BENCH_GRID_LOG2)?;
     for (i, p) in points.chunks_exact_mut(2).enumerate() {
         let (x, y) = bench_lens(
-            ((i % cols) << MESH_STEP_LOG2) as i64,
-            ((i / cols) << MESH_STEP_LOG2) as i64,
+            ((i % cols) << BENCH_GRID_LOG2) as i64,
+            ((i / cols) << BENCH_GRID_LOG2) as i64,
         );
         p[0] = x;
         p[1] = y;
     }
-    MeshTable::new(points, g, MESH_STEP_LOG2)?.write_blob(blob)?;
+    ControlGrid::new(points, g, BENCH_GRID_LOG2)?.write_blob(blob)?;
     Ok(())
 }
 
@@ -396,18 +429,18 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
     if let Buf::I32(m) = &mut slots[12].buf {
         fill_map(m);
     }
-    let Some(points) = arena.i32s((MESH_BLOB_LEN - fixsight::remap::BLOB_HEADER_LEN) / 4) else {
+    let Some(points) = arena.i32s((GRID_BLOB_LEN - fixsight::warp::BLOB_HEADER_LEN) / 4) else {
         let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 arena full");
         return;
     };
     if let Buf::U8(blob) = &mut slots[13].buf {
-        if let Err(e) = fill_mesh(points, blob) {
-            let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 bench mesh: {e}");
+        if let Err(e) = fill_grid(points, blob) {
+            let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 bench grid: {e}");
             return;
         }
     }
     for st in STAGES {
-        let Some(run) = crate::vectors::dispatch(st.kernel) else {
+        let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };
         let mut ins: [Img<'_>; 2] = Default::default();

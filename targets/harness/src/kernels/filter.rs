@@ -1,7 +1,10 @@
-//! `filter.*` kernel ids.
+//! `filter.*` kernel ids, as `run_vector` in `host-verify/src/filter.rs`
+//! computes them: one function per preset (`filter::binomial5`, ...;
+//! params: `border`) and `separable` for caller-chosen taps. Input `src`
+//! (u8), output `dst` (u8 for smoothing, i16 for derivatives).
 
 use super::{input, output, Arena, Fail, Img, Params};
-use fixsight::filter::{Border, FilterOutput, SeparableFilter, Taps, MAX_TAPS};
+use fixsight::filter::{self, Border, FilterOutput, SeparableFilter, Taps, MAX_TAPS};
 
 fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, Fail> {
     let list = p.ints(key)?;
@@ -18,11 +21,11 @@ fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, 
 
 pub(super) fn border(p: &Params) -> Result<Border, Fail> {
     match p.get("border") {
-        Some(super::Param::Str("replicate")) => Ok(Border::Replicate),
+        Some(super::Param::Str("clamp")) => Ok(Border::Clamp),
         _ => {
-            let c = p.int("border.constant")?;
-            Ok(Border::Constant(
-                u8::try_from(c).map_err(|_| Fail::Param("border.constant"))?,
+            let c = p.int("border.fill")?;
+            Ok(Border::Fill(
+                u8::try_from(c).map_err(|_| Fail::Param("border.fill"))?,
             ))
         }
     }
@@ -41,7 +44,7 @@ fn apply<T: FilterOutput>(
 }
 
 /// `filter.separable`: params `h`, `h_shift`, `v`, `v_shift`, `border`
-/// (`"replicate"` or `{"constant": c}`), `output` (`"u8"` or `"i16"`);
+/// (`"clamp"` or `{"fill": c}`), `output` (`"u8"` or `"i16"`);
 /// input `src` (u8), output `dst`.
 pub fn separable(
     p: &Params,
@@ -49,7 +52,7 @@ pub fn separable(
     outs: &mut [Img<'_>],
     arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let f = SeparableFilter::new(
+    let f = filter::separable(
         taps(p, "h", "h_shift")?,
         taps(p, "v", "v_shift")?,
         border(p)?,
@@ -62,3 +65,56 @@ pub fn separable(
         _ => Err(Fail::Param("output")),
     }
 }
+
+/// A dispatcher `$name` for the preset `filter::$name`: border from the
+/// params, input `src`, output `dst` through the view accessor `$out`.
+macro_rules! preset {
+    ($(#[$doc:meta])* $name:ident, $out:ident) => {
+        $(#[$doc])*
+        pub fn $name(
+            p: &Params,
+            ins: &[Img<'_>],
+            outs: &mut [Img<'_>],
+            arena: &mut Arena<'_>,
+        ) -> Result<(), Fail> {
+            let f = filter::$name(border(p)?);
+            apply(&f, input(ins, 0)?, output(outs, 0)?.$out()?, arena)
+        }
+    };
+}
+
+preset!(
+    /// `filter.binomial3`: `[1 2 1]/4` both ways, u8 output.
+    binomial3,
+    u8_mut
+);
+preset!(
+    /// `filter.binomial5`: `[1 4 6 4 1]/16` both ways, u8 output.
+    binomial5,
+    u8_mut
+);
+preset!(
+    /// `filter.binomial7`: `[1 6 15 20 15 6 1]/64` both ways, u8 output.
+    binomial7,
+    u8_mut
+);
+preset!(
+    /// `filter.sobel_x`: i16 output.
+    sobel_x,
+    i16_mut
+);
+preset!(
+    /// `filter.sobel_y`: i16 output.
+    sobel_y,
+    i16_mut
+);
+preset!(
+    /// `filter.scharr_x`: i16 output.
+    scharr_x,
+    i16_mut
+);
+preset!(
+    /// `filter.scharr_y`: i16 output.
+    scharr_y,
+    i16_mut
+);

@@ -1,0 +1,186 @@
+//! The full-`f64` Canny reference of the edge chain and the edge agreement
+//! measure (see the family docs).
+
+use crate::edge_chain::GRAD_SCALE;
+use crate::hysteresis::reference::link;
+use serde::Serialize;
+
+/// Separable `f64` Gaussian smoothing with clamped border.
+pub fn gaussian_f64(img: &[f64], w: usize, h: usize, sigma: f64) -> Vec<f64> {
+    let r = (3.0 * sigma).ceil() as i64;
+    let k: Vec<f64> = (-r..=r)
+        .map(|i| (-(i * i) as f64 / (2.0 * sigma * sigma)).exp())
+        .collect();
+    let s: f64 = k.iter().sum();
+    let k: Vec<f64> = k.iter().map(|v| v / s).collect();
+    let cl = |v: i64, n: usize| v.clamp(0, n as i64 - 1) as usize;
+    let mut tmp = vec![0f64; w * h];
+    for y in 0..h {
+        for x in 0..w {
+            tmp[y * w + x] = (-r..=r)
+                .map(|i| k[(i + r) as usize] * img[y * w + cl(x as i64 + i, w)])
+                .sum();
+        }
+    }
+    let mut out = vec![0f64; w * h];
+    for y in 0..h {
+        for x in 0..w {
+            out[y * w + x] = (-r..=r)
+                .map(|i| k[(i + r) as usize] * tmp[cl(y as i64 + i, h) * w + x])
+                .sum();
+        }
+    }
+    out
+}
+
+/// Sobel derivatives in `f64` with clamped border.
+pub fn sobel_f64(img: &[f64], w: usize, h: usize) -> (Vec<f64>, Vec<f64>) {
+    let p = |x: i64, y: i64| {
+        img[y.clamp(0, h as i64 - 1) as usize * w + x.clamp(0, w as i64 - 1) as usize]
+    };
+    let mut gx = vec![0f64; w * h];
+    let mut gy = vec![0f64; w * h];
+    for y in 0..h as i64 {
+        for x in 0..w as i64 {
+            let i = y as usize * w + x as usize;
+            gx[i] = (p(x + 1, y - 1) + 2.0 * p(x + 1, y) + p(x + 1, y + 1))
+                - (p(x - 1, y - 1) + 2.0 * p(x - 1, y) + p(x - 1, y + 1));
+            gy[i] = (p(x - 1, y + 1) + 2.0 * p(x, y + 1) + p(x + 1, y + 1))
+                - (p(x - 1, y - 1) + 2.0 * p(x, y - 1) + p(x + 1, y - 1));
+        }
+    }
+    (gx, gy)
+}
+
+/// Non-maximum suppression along the exact gradient angle with linear
+/// interpolation (see the family docs).
+pub fn nms_f64(gx: &[f64], gy: &[f64], mag: &[f64], w: usize, h: usize) -> Vec<f64> {
+    let m = |x: i64, y: i64| -> f64 {
+        if x < 0 || y < 0 || x >= w as i64 || y >= h as i64 {
+            0.0
+        } else {
+            mag[y as usize * w + x as usize]
+        }
+    };
+    // Magnitude at p + (ux, uy) on the neighbour square (max(|ux|,|uy|) = 1).
+    let ring = |x: i64, y: i64, ux: f64, uy: f64| -> f64 {
+        if ux.abs() >= uy.abs() {
+            let sx = ux.signum() as i64;
+            let t = uy.abs();
+            (1.0 - t) * m(x + sx, y) + t * m(x + sx, y + uy.signum() as i64)
+        } else {
+            let sy = uy.signum() as i64;
+            let t = ux.abs();
+            (1.0 - t) * m(x, y + sy) + t * m(x + ux.signum() as i64, y + sy)
+        }
+    };
+    let mut out = vec![0f64; w * h];
+    for y in 0..h as i64 {
+        for x in 0..w as i64 {
+            let i = y as usize * w + x as usize;
+            let v = mag[i];
+            if v <= 0.0 {
+                continue;
+            }
+            let s = gx[i].abs().max(gy[i].abs());
+            let (mut ux, mut uy) = (gx[i] / s, gy[i] / s);
+            // Orient u towards positive y (or positive x when uy = 0), so
+            // `ring(-u)` is the side of negative y.
+            if uy < 0.0 || (uy == 0.0 && ux < 0.0) {
+                ux = -ux;
+                uy = -uy;
+            }
+            let fwd = ring(x, y, ux, uy);
+            let back = ring(x, y, -ux, -uy);
+            if v > back && v >= fwd {
+                out[i] = v;
+            }
+        }
+    }
+    out
+}
+
+/// The full-`f64` Canny on an 8-bit image with the given thresholds:
+/// returns 0/255.
+pub fn reference_f64(gray: &[u8], w: usize, h: usize, low: f64, high: f64) -> Vec<u8> {
+    let img: Vec<f64> = gray.iter().map(|&v| v as f64).collect();
+    let s = gaussian_f64(&img, w, h, 1.0);
+    let (mut gx, mut gy) = sobel_f64(&s, w, h);
+    for v in gx.iter_mut().chain(gy.iter_mut()) {
+        *v *= GRAD_SCALE;
+    }
+    let mag: Vec<f64> = gx.iter().zip(&gy).map(|(a, b)| a.hypot(*b)).collect();
+    let sup = nms_f64(&gx, &gy, &mag, w, h);
+    let codes: Vec<u8> = sup
+        .iter()
+        .map(|&v| {
+            if v >= high {
+                2
+            } else if v >= low {
+                1
+            } else {
+                0
+            }
+        })
+        .collect();
+    link(&codes, w, h)
+}
+
+/// Edge agreement with a 1-pixel tolerance.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Agreement {
+    /// Share of kernel edge pixels with a reference edge within 1 px.
+    pub precision: f64,
+    /// Share of reference edge pixels with a kernel edge within 1 px.
+    pub recall: f64,
+    /// Harmonic mean of the two.
+    pub f1: f64,
+    /// Kernel edge pixels.
+    pub kernel_px: usize,
+    /// Reference edge pixels.
+    pub reference_px: usize,
+}
+
+/// Precision, recall and F1 of `kernel` against `reference` (nonzero =
+/// edge) with Chebyshev tolerance 1.
+pub fn agreement(kernel: &[u8], reference: &[u8], w: usize, h: usize) -> Agreement {
+    let near = |map: &[u8], i: usize| -> bool {
+        let (x, y) = ((i % w) as i64, (i / w) as i64);
+        (-1..=1).any(|dy| {
+            (-1..=1).any(|dx| {
+                let (nx, ny) = (x + dx, y + dy);
+                nx >= 0
+                    && ny >= 0
+                    && nx < w as i64
+                    && ny < h as i64
+                    && map[ny as usize * w + nx as usize] != 0
+            })
+        })
+    };
+    let k: Vec<usize> = (0..w * h).filter(|&i| kernel[i] != 0).collect();
+    let r: Vec<usize> = (0..w * h).filter(|&i| reference[i] != 0).collect();
+    let tp_k = k.iter().filter(|&&i| near(reference, i)).count();
+    let tp_r = r.iter().filter(|&&i| near(kernel, i)).count();
+    let precision = if k.is_empty() {
+        1.0
+    } else {
+        tp_k as f64 / k.len() as f64
+    };
+    let recall = if r.is_empty() {
+        1.0
+    } else {
+        tp_r as f64 / r.len() as f64
+    };
+    let f1 = if precision + recall > 0.0 {
+        2.0 * precision * recall / (precision + recall)
+    } else {
+        0.0
+    };
+    Agreement {
+        precision,
+        recall,
+        f1,
+        kernel_px: k.len(),
+        reference_px: r.len(),
+    }
+}

@@ -1,0 +1,86 @@
+use super::check::*;
+use super::golden::*;
+use super::reference::*;
+use super::ID;
+use crate::edge_chain::{run_chain, VECTOR_PARAMS};
+
+use crate::scene::demo_scenes;
+
+#[test]
+fn agreement_on_hand_made_maps() {
+    let (w, h) = (6usize, 4usize);
+    let mut a = vec![0u8; w * h];
+    let mut b = vec![0u8; w * h];
+    // Reference: row 1, columns 0..6. Kernel: row 2 (1 px off) plus one
+    // stray pixel at (5, 3)... which is within 1 px of (4..6, 2)? no:
+    // the reference is row 1, so (5,3) is 2 rows away -> false positive.
+    for x in 0..w {
+        b[w + x] = 255;
+        a[2 * w + x] = 255;
+    }
+    a[3 * w + 5] = 255;
+    let ag = agreement(&a, &b, w, h);
+    assert_eq!((ag.kernel_px, ag.reference_px), (7, 6));
+    assert!((ag.precision - 6.0 / 7.0).abs() < 1e-12);
+    assert_eq!(ag.recall, 1.0);
+    assert!((ag.f1 - 2.0 * (6.0 / 7.0) / (1.0 + 6.0 / 7.0)).abs() < 1e-12);
+}
+
+#[test]
+fn f64_canny_finds_a_vertical_step_at_the_step() {
+    let (w, h) = (16usize, 10usize);
+    let img: Vec<u8> = (0..w * h)
+        .map(|i| if i % w >= 8 { 200 } else { 20 })
+        .collect();
+    // The vectors' parameters: their 512 bins of width 2 end at 1024,
+    // below this step's magnitude (about 1840), so `high` is 1024 and the
+    // step is strong. With the demo bins, which cover every magnitude, a
+    // frame whose only edge is one plateau of equal magnitudes gets `high`
+    // just above it (the rule takes the upper end of the quantile's bin)
+    // and has no strong pixel.
+    let c = run_chain(&img, w, h, &VECTOR_PARAMS).unwrap();
+    let (lo, hi) = (c.thresholds.low() as f64, c.thresholds.high() as f64);
+    let e = reference_f64(&img, w, h, lo, hi);
+    for y in 0..h {
+        let cols: Vec<usize> = (0..w).filter(|&x| e[y * w + x] != 0).collect();
+        let kcols: Vec<usize> = (0..w).filter(|&x| c.thin[y * w + x] != 0).collect();
+        assert_eq!(cols, vec![7], "reference row {y} ({lo}, {hi})");
+        assert_eq!(kcols, vec![7], "kernel row {y} ({lo}, {hi})");
+    }
+    assert_eq!(agreement(&c.thin, &e, w, h).f1, 1.0);
+}
+
+#[test]
+fn demo_scenes_meet_the_f1_goal() {
+    let scenes = demo_scenes();
+    let rows = check(&scenes);
+    assert_eq!(rows.len(), 1);
+    let chain = &rows[0];
+    assert_eq!(chain.name, ID);
+    assert!(chain.pass, "{:?}", chain.notes);
+    assert_eq!(chain.metrics["f1_goal_met"], 1.0, "{:?}", chain.metrics);
+    for s in &scenes {
+        let f1 = chain.metrics[&format!("f1.{}", s.name)];
+        // The goal on every scene, and the older regression floor as a
+        // guard (it fails first if the chain drifts badly).
+        assert!(f1 >= F1_FLOOR, "{}: {f1}", s.name);
+        assert!(f1 >= F1_GOAL, "{}: {f1}", s.name);
+    }
+}
+
+#[test]
+fn golden_case_recomputes_and_has_content() {
+    let cases = golden_cases(&demo_scenes());
+    assert_eq!(cases.len(), 1);
+    let c = &cases[0];
+    assert_eq!(
+        run_vector(&c.kernel, &c.params, &c.inputs).unwrap(),
+        c.expected
+    );
+    let edges = c.expected[0].to_u8().unwrap();
+    assert!(
+        edges.iter().filter(|&&v| v != 0).count() > 20,
+        "crop has too few edges"
+    );
+    assert!(run_vector("chain.nothing", &c.params, &c.inputs).is_err());
+}

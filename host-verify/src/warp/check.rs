@@ -1,0 +1,310 @@
+//! The `warp.*` contracts on the demo scenes (see the family docs).
+
+use super::grid::build_grid;
+use super::reference::{bilinear_f64, exact_map, model_sample, neighbour_diffs, pixel_map_coords};
+use super::run::{run_grid, run_pixel_map};
+use crate::contract::{Contract, KernelFamily, KernelReport};
+use crate::lens::Intrinsics;
+use crate::metrics::ErrorStats;
+use crate::opcount::{measure, OpsPerPx};
+use crate::scene::Scene;
+use fixsight::filter::Border;
+use fixsight::warp::{ControlGrid, WarpGeometry};
+use std::collections::BTreeMap;
+
+/// Fractional bits used by the report checks.
+pub const CHECK_FRAC_BITS: u32 = 5;
+
+/// Grid step used by the report checks on the QVGA demo scenes (step 8 at
+/// QVGA covers the view like step 16 at VGA).
+pub const CHECK_GRID_LOG2: u32 = 3;
+
+/// The corrected view of a demo scene: fit-to-view at the scene size.
+pub fn demo_view(s: &Scene) -> Result<Intrinsics, String> {
+    s.camera
+        .fit_view(s.width, s.height, s.width, s.height)
+        .map_err(|e| e.to_string())
+}
+
+/// Results of one warp path on one image.
+struct PathResult {
+    stats_ref: ErrorStats,
+    bound: f64,
+    model_mismatch: usize,
+}
+
+/// Compares kernel output with the model output and with the exact-coordinate
+/// reference.
+#[allow(clippy::too_many_arguments)]
+fn judge(
+    out: &[u8],
+    model_coords: &[i32],
+    exact: &[(f64, f64)],
+    img: &[u8],
+    sw: usize,
+    sh: usize,
+    c: usize,
+    f: u32,
+    b: Border,
+    coord_err: (f64, f64),
+) -> PathResult {
+    let mut mism = 0usize;
+    let mut actual = Vec::with_capacity(out.len());
+    let mut reference = Vec::with_capacity(out.len());
+    for (p, &(ex, ey)) in exact.iter().enumerate() {
+        let m = model_sample(
+            img,
+            sw,
+            sh,
+            c,
+            model_coords[2 * p],
+            model_coords[2 * p + 1],
+            f,
+            b,
+        );
+        for ch in 0..c {
+            if m[ch] != out[p * c + ch] {
+                mism += 1;
+            }
+            actual.push(out[p * c + ch] as f64);
+            reference.push(bilinear_f64(img, sw, sh, c, ch, ex, ey, b));
+        }
+    }
+    let (dx, dy) = neighbour_diffs(img, sw, sh, c, b);
+    PathResult {
+        stats_ref: ErrorStats::compare(&actual, &reference, 255.0),
+        bound: 0.5 + dx * coord_err.0 + dy * coord_err.1,
+        model_mismatch: mism,
+    }
+}
+
+/// Largest `|out - reference|` with the reference at the exact lens map
+/// (informational for the grid: includes the grid's geometric error).
+fn max_err_vs(
+    out: &[u8],
+    exact: &[(f64, f64)],
+    img: &[u8],
+    w: usize,
+    h: usize,
+    c: usize,
+    b: Border,
+) -> f64 {
+    let mut m = 0f64;
+    for (p, &(x, y)) in exact.iter().enumerate() {
+        for ch in 0..c {
+            m = m.max((out[p * c + ch] as f64 - bilinear_f64(img, w, h, c, ch, x, y, b)).abs());
+        }
+    }
+    m
+}
+
+/// Contract checks on the demo scenes.
+pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
+    vec![
+        check_path(scenes, false, &[1, 3]),
+        check_path(scenes, true, &[1]),
+    ]
+}
+
+/// Builds an RGB-like 3-channel image from a grey one (three different
+/// tone curves), for the interleaved path.
+pub fn to_three_channels(g: &[u8]) -> Vec<u8> {
+    g.iter()
+        .flat_map(|&v| [v, 255 - v, ((v as u16 * v as u16) / 255) as u8])
+        .collect()
+}
+
+fn check_path(scenes: &[Scene], grid: bool, channels: &[usize]) -> KernelReport {
+    let f = CHECK_FRAC_BITS;
+    let k = CHECK_GRID_LOG2;
+    let name = if grid {
+        "warp.control_grid"
+    } else {
+        "warp.pixel_map"
+    };
+    let mut problems = Vec::new();
+    let (mut worst_margin, mut bound_max, mut within1, mut samples) =
+        (f64::INFINITY, 0f64, 0usize, 0usize);
+    let mut metrics = BTreeMap::new();
+    let mut ops = OpsPerPx::default();
+    let (mut gmax, mut grms2, mut table_bytes, mut mismatch) = (0f64, 0f64, 0usize, 0usize);
+    let mut lens_err = 0f64;
+    let mut actual_all = Vec::new();
+    let mut ref_all = Vec::new();
+    for &c in channels {
+        for (si, s) in scenes.iter().enumerate() {
+            let view = match demo_view(s) {
+                Ok(v) => v,
+                Err(e) => {
+                    problems.push(format!("{}: {e}", s.name));
+                    continue;
+                }
+            };
+            let (w, h) = (s.width, s.height);
+            let img = if c == 3 {
+                to_three_channels(&s.gray)
+            } else {
+                s.gray.clone()
+            };
+            let geom = match WarpGeometry::new(w, h, w, h, f) {
+                Ok(g) => g,
+                Err(e) => {
+                    problems.push(e.to_string());
+                    continue;
+                }
+            };
+            let exact = exact_map(&s.camera, &view, w, h);
+            for border in [Border::Fill(0), Border::Clamp] {
+                let ref_coords: Vec<(f64, f64)>;
+                let (coords, coord_err, out) = if grid {
+                    let mb = match build_grid(&s.camera, &view, geom, k) {
+                        Ok(m) => m,
+                        Err(e) => {
+                            problems.push(format!("{}: {e}", s.name));
+                            continue;
+                        }
+                    };
+                    gmax = gmax.max(mb.max_px);
+                    grms2 += mb.rms_px * mb.rms_px;
+                    table_bytes = mb.table_bytes;
+                    let table = match ControlGrid::new(&mb.points, geom, k) {
+                        Ok(t) => t,
+                        Err(e) => {
+                            problems.push(e.to_string());
+                            continue;
+                        }
+                    };
+                    let (whole, o) = measure(w * h, || run_grid(&table, &img, c, border, None));
+                    if si == 0 && c == channels[0] {
+                        ops = o;
+                    }
+                    let strips = run_grid(&table, &img, c, border, Some(7));
+                    let whole = match (whole, strips) {
+                        (Ok(a), Ok(b)) => {
+                            if a != b {
+                                problems.push(format!(
+                                    "{}: 7-row strips differ from the frame",
+                                    s.name
+                                ));
+                            }
+                            a
+                        }
+                        (Err(e), _) | (_, Err(e)) => {
+                            problems.push(format!("{}: kernel error: {e}", s.name));
+                            continue;
+                        }
+                    };
+                    let q = 1.0 / (1u64 << f) as f64;
+                    lens_err = lens_err.max(max_err_vs(&whole, &exact, &img, w, h, c, border));
+                    ref_coords = mb.ideal;
+                    (mb.coords, (q, q), whole)
+                } else {
+                    let coords = pixel_map_coords(&exact, f);
+                    let q = 1.0 / (1u64 << (f + 1)) as f64;
+                    let (r, o) = measure(w * h, || run_pixel_map(&coords, geom, &img, c, border));
+                    if si == 0 && c == channels[0] {
+                        ops = o;
+                    }
+                    ref_coords = exact.clone();
+                    match r {
+                        Ok(out) => (coords, (q, q), out),
+                        Err(e) => {
+                            problems.push(format!("{}: kernel error: {e}", s.name));
+                            continue;
+                        }
+                    }
+                };
+                let exact = &ref_coords;
+                let pr = judge(&out, &coords, exact, &img, w, h, c, f, border, coord_err);
+                mismatch += pr.model_mismatch;
+                bound_max = bound_max.max(pr.bound);
+                worst_margin = worst_margin.min(pr.bound - pr.stats_ref.max_abs);
+                if pr.stats_ref.max_abs > pr.bound {
+                    problems.push(format!(
+                        "{} ({border:?}): max error {:.4} exceeds its bound {:.4}",
+                        s.name, pr.stats_ref.max_abs, pr.bound
+                    ));
+                }
+                for (p, &(ex, ey)) in exact.iter().enumerate() {
+                    for ch in 0..c {
+                        let r = bilinear_f64(&img, w, h, c, ch, ex, ey, border);
+                        let a = out[p * c + ch] as f64;
+                        if (a - r).abs() <= 1.0 {
+                            within1 += 1;
+                        }
+                        samples += 1;
+                        actual_all.push(a);
+                        ref_all.push(r);
+                    }
+                }
+            }
+        }
+    }
+    let all = ErrorStats::compare(&actual_all, &ref_all, 255.0);
+    let share1 = within1 as f64 / samples.max(1) as f64;
+    if share1 < 0.999 {
+        problems.push(format!(
+            "only {:.4} % of samples within 1 LSB of the exact-coordinate reference (99.9 % required)",
+            100.0 * share1
+        ));
+    }
+    if mismatch > 0 {
+        problems.push(format!(
+            "{mismatch} samples differ from the transcribed integer model"
+        ));
+    }
+    let mut r = KernelReport::from_stats(
+        name,
+        KernelFamily::Warp,
+        Contract::Tolerance,
+        bound_max,
+        &all,
+        ops,
+    );
+    metrics.insert("frac_bits".into(), f as f64);
+    metrics.insert("share_within_1lsb".into(), share1);
+    metrics.insert("model_mismatches".into(), mismatch as f64);
+    metrics.insert("bound_margin_min".into(), worst_margin);
+    metrics.insert(
+        "bound_worst_case_any_image".into(),
+        0.5 + 255.0 / (1u64 << f) as f64,
+    );
+    if grid {
+        metrics.insert("grid_log2".into(), k as f64);
+        metrics.insert("grid_max_px".into(), gmax);
+        metrics.insert(
+            "grid_rms_px".into(),
+            (grms2 / (2 * scenes.len()).max(1) as f64).sqrt(),
+        );
+        metrics.insert("table_bytes".into(), table_bytes as f64);
+        metrics.insert("max_err_vs_exact_lens_map".into(), lens_err);
+    }
+    r.metrics.extend(metrics);
+    r.notes.push(format!(
+        "{} path, {:?} channel(s), F = {f}{}: bit-exact to the transcribed integer model ({}), \
+         vs f64 bilinear at {}; borders fill(0) and clamp; {} scenes; \
+         bound = 0.5 + Dx ex + Dy ey per scene (largest shown); ops/px of 1 channel",
+        if grid { "control-grid" } else { "pixel-map" },
+        channels,
+        if grid {
+            format!(", grid step 2^{k}")
+        } else {
+            String::new()
+        },
+        if grid {
+            "fed with grid coordinates"
+        } else {
+            "quantised exact map"
+        },
+        if grid {
+            "the unquantised grid (bilinear of exact control points; ex = ey = 2^-F)"
+        } else {
+            "the exact fit-to-view lens coordinates (ex = ey = 2^-(F+1))"
+        },
+        scenes.len()
+    ));
+    for p in problems {
+        r.fail(p);
+    }
+    r
+}

@@ -1,0 +1,52 @@
+//! How the host calls the warp kernels.
+
+use fixsight::filter::Border;
+use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
+use fixsight::{ImageView, ImageViewMut};
+
+/// Runs the pixel-map kernel over a whole frame.
+pub fn run_pixel_map(
+    coords: &[i32],
+    geom: WarpGeometry,
+    img: &[u8],
+    c: usize,
+    border: Border,
+) -> Result<Vec<u8>, fixsight::Error> {
+    let map = PixelMap::new(coords, geom)?;
+    let (w, h) = (geom.out_width(), geom.out_height());
+    let mut out = vec![0u8; w * h * c];
+    let sw = geom.src_width();
+    map.warp_rows(
+        &ImageView::interleaved(img, sw, geom.src_height(), sw * c, c)?,
+        &mut ImageViewMut::interleaved(&mut out, w, h, w * c, c)?,
+        0,
+        border,
+    )?;
+    Ok(out)
+}
+
+/// Runs a grid over a whole frame, or in strips of `strip` rows.
+pub fn run_grid(
+    grid: &ControlGrid<'_>,
+    img: &[u8],
+    c: usize,
+    border: Border,
+    strip: Option<usize>,
+) -> Result<Vec<u8>, fixsight::Error> {
+    let g = grid.geometry();
+    let (w, h) = (g.out_width(), g.out_height());
+    let mut out = vec![0u8; w * h * c];
+    let sw = g.src_width();
+    let src = ImageView::interleaved(img, sw, g.src_height(), sw * c, c)?;
+    let step = strip.unwrap_or(h).max(1);
+    for (n, chunk) in out.chunks_mut(step * w * c).enumerate() {
+        let rows = chunk.len() / (w * c);
+        grid.warp_rows(
+            &src,
+            &mut ImageViewMut::interleaved(chunk, w, rows, w * c, c)?,
+            n * step,
+            border,
+        )?;
+    }
+    Ok(out)
+}

@@ -1,0 +1,112 @@
+//! The README's command table matches the tool's `--help`: the same
+//! subcommands, each with the same options.
+
+use std::collections::BTreeMap;
+use std::process::Command;
+
+/// Runs the tool with `args` and returns its standard output.
+fn help(args: &[&str]) -> String {
+    let out = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
+        .args(args)
+        .output()
+        .expect("the tool runs");
+    assert!(out.status.success(), "{args:?}: {:?}", out.status);
+    String::from_utf8(out.stdout).unwrap()
+}
+
+/// The entries of a section (`Commands:` or `Options:`) of clap's help:
+/// the first word of each indented line.
+fn section(text: &str, title: &str) -> Vec<String> {
+    let mut lines = text.lines().skip_while(|l| l.trim() != title).skip(1);
+    let mut out = Vec::new();
+    for l in lines.by_ref() {
+        if l.trim().is_empty() {
+            break;
+        }
+        if l.starts_with("  ") && !l.starts_with("         ") {
+            let word = l.split_whitespace().find(|w| !w.ends_with(','));
+            if let Some(w) = word {
+                out.push(w.to_string());
+            }
+        }
+    }
+    out
+}
+
+/// `subcommand path -> options` from `--help`, leaves only (`golden` has
+/// subcommands of its own), without `--help` and `--version`.
+fn from_help() -> BTreeMap<String, Vec<String>> {
+    let mut out = BTreeMap::new();
+    let top = help(&["--help"]);
+    for cmd in section(&top, "Commands:") {
+        if cmd == "help" {
+            continue;
+        }
+        let sub = help(&[&cmd, "--help"]);
+        let inner: Vec<String> = section(&sub, "Commands:")
+            .into_iter()
+            .filter(|c| c != "help")
+            .collect();
+        let leaves: Vec<(String, String)> = if inner.is_empty() {
+            vec![(cmd.clone(), sub)]
+        } else {
+            inner
+                .iter()
+                .map(|c| (format!("{cmd} {c}"), help(&[&cmd, c, "--help"])))
+                .collect()
+        };
+        for (path, text) in leaves {
+            let mut opts: Vec<String> = section(&text, "Options:")
+                .into_iter()
+                .filter(|o| o.starts_with("--") && o != "--help" && o != "--version")
+                .collect();
+            opts.sort();
+            out.insert(path, opts);
+        }
+    }
+    out
+}
+
+/// `subcommand path -> options` from the README's table rows
+/// `` | `fixsight-verify <path> [--opt X] ...` | ... | ``.
+fn from_readme() -> BTreeMap<String, Vec<String>> {
+    let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../README.md"))
+        .expect("README.md");
+    let mut out = BTreeMap::new();
+    for l in readme.lines() {
+        let Some(rest) = l.strip_prefix("| `fixsight-verify ") else {
+            continue;
+        };
+        let cell = rest.split('`').next().unwrap();
+        let words: Vec<&str> = cell.split_whitespace().collect();
+        let path: Vec<&str> = words
+            .iter()
+            .take_while(|w| !w.starts_with('-') && !w.starts_with('['))
+            .copied()
+            .collect();
+        let mut opts: Vec<String> = words
+            .iter()
+            .map(|w| w.trim_start_matches('['))
+            .filter(|w| w.starts_with("--"))
+            .map(|w| w.trim_end_matches(']').to_string())
+            .collect();
+        opts.sort();
+        out.insert(path.join(" "), opts);
+    }
+    out
+}
+
+#[test]
+fn readme_command_table_matches_help() {
+    let help = from_help();
+    assert!(help.len() >= 5, "too few subcommands parsed: {help:?}");
+    assert!(
+        help["grid"].contains(&"--grid-log2".to_string()),
+        "{help:?}"
+    );
+    assert_eq!(
+        from_readme(),
+        help,
+        "README command table (left) vs --help (right)"
+    );
+}
