@@ -303,3 +303,91 @@ fn a_missing_folder_is_refused() {
     assert!(!ok && stderr.contains("nowhere"), "{stderr}");
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// Rows `view a b ...` of a fixture file (comments skipped).
+fn fixture_rows(name: &str) -> Vec<Vec<f64>> {
+    let p = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data/calibrate")
+        .join(name);
+    std::fs::read_to_string(&p)
+        .unwrap()
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.trim().is_empty())
+        .map(|l| l.split_whitespace().map(|t| t.parse().unwrap()).collect())
+        .collect()
+}
+
+/// Outside check of the corner positions: scikit-image 0.26.0 (Harris
+/// response, peaks, `corner_subpix`; the fixture script
+/// `tests/data/calibrate/outside_corners.py` names the versions) on the same
+/// rendered views (`--example calibration_fixture`). Every true corner that
+/// the library found within 1.5 px is compared: our corner and the
+/// library's must agree closely, and ours must be at least as close to the
+/// truth.
+#[test]
+fn corners_agree_with_a_general_purpose_library() {
+    let truth = fixture_rows("truth.txt");
+    let outside = fixture_rows("skimage_corners.txt");
+    let board = spec().board;
+    let (mut n, mut agree2, mut agree_max, mut ours2, mut theirs2, mut total) =
+        (0usize, 0.0, 0f64, 0.0, 0.0, 0usize);
+    let (mut ours_max, mut theirs_max) = (0f64, 0f64);
+    for v in 0..3 {
+        let img = image::open(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join(format!("tests/data/calibrate/view{v}.png")),
+        )
+        .unwrap()
+        .to_luma8();
+        let g = fixsight_verify::calibrate::Grey::from_u8(W, H, img.as_raw());
+        let ours = corners::find_board(&g, &board).unwrap();
+        let t: Vec<(f64, f64)> = truth
+            .iter()
+            .filter(|r| r[0] as usize == v)
+            .map(|r| (r[3], r[4]))
+            .collect();
+        assert_eq!(t.len(), board.count());
+        // Our labelling may be the 180-degree turn of the truth's.
+        let d = |a: &(f64, f64), b: &(f64, f64)| (a.0 - b.0).hypot(a.1 - b.1);
+        let straight = d(&ours[0], &t[0]) < 2.0;
+        for (k, tc) in t.iter().enumerate() {
+            let o = if straight {
+                ours[k]
+            } else {
+                ours[t.len() - 1 - k]
+            };
+            total += 1;
+            let nearest = outside
+                .iter()
+                .filter(|r| r[0] as usize == v)
+                .map(|r| (r[1], r[2]))
+                .min_by(|a, b| d(a, tc).total_cmp(&d(b, tc)))
+                .unwrap();
+            if d(&nearest, tc) > 1.5 {
+                continue;
+            }
+            n += 1;
+            let a = d(&o, &nearest);
+            agree2 += a * a;
+            agree_max = agree_max.max(a);
+            ours2 += d(&o, tc).powi(2);
+            theirs2 += d(&nearest, tc).powi(2);
+            ours_max = ours_max.max(d(&o, tc));
+            theirs_max = theirs_max.max(d(&nearest, tc));
+        }
+    }
+    let rms = |s: f64| (s / n as f64).sqrt();
+    println!(
+        "{n} of {total} corners found by both; ours vs library RMS {:.4} px, worst {agree_max:.4} px; \
+         vs truth: ours RMS {:.4} px (worst {ours_max:.4}), library RMS {:.4} px (worst {theirs_max:.4})",
+        rms(agree2),
+        rms(ours2),
+        rms(theirs2)
+    );
+    assert!(n * 10 >= total * 9, "the library found only {n} of {total}");
+    assert!(
+        rms(agree2) < 0.3 && agree_max < 1.5,
+        "{} {agree_max}",
+        rms(agree2)
+    );
+    assert!(rms(ours2) <= rms(theirs2) && ours_max <= theirs_max);
+}
