@@ -12,42 +12,59 @@
 //!    differences, and the saddle strength `Ixy^2 - Ixx Iyy` (positive
 //!    only where the surface curves up one way and down the other, as at a
 //!    point where four squares meet) kept at its local maxima over a
-//!    `(2 ceil(s) + 1)^2` window, at most `8 * corners + 100` of them.
+//!    `(2 ceil(s) + 1)^2` window (ties to the earlier pixel in raster
+//!    order), at most `8 * corners + 100` of them, each placed at the vertex
+//!    of a parabola through the strength and its two neighbours per axis.
 //! 3. **Cross test.** The smoothed image is read on a circle of radius
-//!    `2.5 s + 1` around each candidate (32 bilinear samples). A corner
+//!    `2 s + 1` around each candidate (32 bilinear samples). A corner
 //!    where four squares meet is point-symmetric, so the profile has two
 //!    bright and two dark arcs: its mean crossings number exactly 4, its
 //!    second circular harmonic `A2` (mean of `f e^{-2i phi}`) is at least
 //!    `0.15` of the profile's range and at least 1.5 times the first
 //!    harmonic, and the range is at least 8 grey levels. `arg A2` (the
 //!    "phase") turns by about 180 degrees from a corner to each of its four
-//!    grid neighbours and stays about the same to its diagonal neighbours.
+//!    grid neighbours and stays about the same to its diagonal neighbours;
+//!    "opposite phase" below means `cos(phase difference) < 0`.
 //! 4. **Grid growth.** From a seed candidate, its nearest candidate of
 //!    opposite phase gives one grid step, the nearest opposite-phase
-//!    candidate at 45..135 degrees from it the other, and a same-phase
-//!    candidate must sit near their sum. The grid then grows a whole column
-//!    or row at a time on each side: every new corner is predicted from the
-//!    two or three corners before it on its line (linear or quadratic
-//!    extrapolation, which follows the bend of a distorting lens) and
-//!    taken as the nearest unused candidate of opposite phase to its
-//!    predecessor within 0.4 of the last step; a corner with no candidate
-//!    there is sought by refinement from the prediction (step 5) and kept
-//!    if it passes the cross test. A line is added only when all its
-//!    corners are found. Seeds are tried in decreasing saddle strength
-//!    (at most 40); the first grid of exactly the board's size wins.
+//!    candidate at 45..135 degrees from it (and at most 2.5 steps away) the
+//!    other, and a same-phase candidate must sit within 0.3 of the shorter
+//!    step of their sum. The grid then grows a whole column or row at a
+//!    time on each side. Each new corner is predicted from the last steps
+//!    on its line: the next step is the last step turned and scaled as the
+//!    last step was from the one before (the ratio of the two steps taken
+//!    as complex numbers), which follows the shrinking of perspective and
+//!    the bend of a distorting lens; with only two corners on the line, the
+//!    last step repeats. The nearest unused candidate of opposite phase to
+//!    its predecessor within 0.4 of the smaller of the predicted step, the
+//!    last step and the distance to the predecessor's nearest neighbour
+//!    across the line is taken; a corner with no candidate there is sought
+//!    by refinement from the prediction (step 5, window radius 0.4 of the
+//!    last step, clamped to `3..=25` px) and kept if it stays within 0.4 of
+//!    the last step of the prediction and passes the cross test with the
+//!    opposite phase. A line is added only when all its corners are found.
+//!    Seeds are tried in decreasing saddle strength (at most 160, skipping
+//!    candidates already in a grown grid); the first grid of exactly the
+//!    board's size wins. A grid that grows past the board's size in either
+//!    direction, or holds the board's size with more corners, is reported
+//!    as too large.
 //! 5. **Sub-pixel refinement** on the full image smoothed with a Gaussian
 //!    of standard deviation 0.7 px: around the current estimate `q`, every
-//!    pixel `p` within radius `rho` (0.4 of the distance to the nearest grid
-//!    neighbour, clamped to `3..=25` px) has a gradient `g` (central
-//!    differences) that is perpendicular to `p - q` when `q` is the corner
-//!    (all edges near the corner pass through it). Minimising
-//!    `sum w (g . (p - q))^2` with `w = exp(-|p - q|^2 / (2 (rho/2)^2))`
-//!    gives `q = (sum w g g^T)^-1 sum w g g^T p` (Foerstner & Guelch 1987,
-//!    "A fast operator for detection and precise location of distinct
-//!    points, corners and centres of circular features", ISPRS
-//!    Intercommission Conference, from memory), iterated until the step
-//!    is below `1e-4` px (at most 50 times). A corner that moves more than
-//!    half a grid step is rejected.
+//!    pixel `p` within radius `rho` has a gradient `g` (central differences)
+//!    that is perpendicular to `p - q` when `q` is the corner (all edges
+//!    near the corner pass through it). Minimising `sum w (g . (p - q))^2`
+//!    with `w = exp(-|p - q|^2 / (2 (rho/2)^2))` gives
+//!    `q = (sum w g g^T)^-1 sum w g g^T p` (Foerstner & Guelch 1987, "A
+//!    fast operator for detection and precise location of distinct points,
+//!    corners and centres of circular features", ISPRS Intercommission
+//!    Conference, from memory), iterated until the step is below `1e-4` px
+//!    (at most 50 times). `rho` is 0.45 of the corner's reach, clamped to
+//!    `2.5..=25` px: the reach is the smaller height of the parallelogram
+//!    spanned by the corner's shorter grid steps along the two axes, the
+//!    distance to the nearest edge of a neighbouring square that does not
+//!    pass through the corner (on a board seen at a slant this is much less
+//!    than the step). A corner that moves more than half its reach is
+//!    rejected, and with it the image.
 //! 6. **Labelling.** The grid is transposed if needed so that its first axis
 //!    has the board's `cols` corners, mirrored when the board's axes would
 //!    appear left-handed (the board is seen from its printed side), and of
@@ -68,7 +85,7 @@ pub const SEARCH_MAX_SIDE: usize = 1024;
 /// Smoothing scales (px at the working scale) tried in turn.
 pub const SEARCH_SCALES: [f64; 4] = [0.8, 1.2, 2.0, 3.2];
 /// Seeds tried per scale.
-const MAX_SEEDS: usize = 40;
+const MAX_SEEDS: usize = 160;
 
 /// Why a board was not found in an image.
 #[derive(Debug, Clone, PartialEq)]
@@ -361,7 +378,7 @@ fn grow_best(
     let mut used_by_grids = vec![false; cands.len()];
     let mut largest = (0, 0);
     let mut too_large = None;
-    for &seed in order.iter().take(MAX_SEEDS * 4) {
+    for &seed in order.iter().take(MAX_SEEDS) {
         if used_by_grids[seed] {
             continue;
         }
@@ -464,6 +481,10 @@ fn seed_grid(cands: &[Candidate], seed: usize) -> Option<Grid> {
     Some(g)
 }
 
+/// Label of the new point on line `m` (`k = 0`) or of the `k`-th point
+/// behind it.
+type LabelAt = dyn Fn(i32, i32) -> (i32, i32);
+
 /// Grows the grid line by line (step 4). Returns `false` as soon as a side
 /// exceeds `limit` corners.
 fn grow(smooth: &Grey, cands: &[Candidate], grid: &mut Grid, limit: i32, s: f64) -> bool {
@@ -478,7 +499,7 @@ fn grow(smooth: &Grey, cands: &[Candidate], grid: &mut Grid, limit: i32, s: f64)
             // Line to add: along j for left/right sides, along i for top/bottom.
             // `(new, back)` gives the label of the new point on line `m` and
             // of the k-th point behind it.
-            let (range, new_at): (Vec<i32>, Box<dyn Fn(i32, i32) -> (i32, i32)>) = match side {
+            let (range, new_at): (Vec<i32>, Box<LabelAt>) = match side {
                 0 => ((j0..=j1).collect(), Box::new(move |m, k| (i1 + 1 - k, m))),
                 1 => ((j0..=j1).collect(), Box::new(move |m, k| (i0 - 1 + k, m))),
                 2 => ((i0..=i1).collect(), Box::new(move |m, k| (m, j1 + 1 - k))),
@@ -651,7 +672,7 @@ pub fn refine_point(g: &Grey, start: (f64, f64), rho: f64) -> Option<(f64, f64)>
             }
         }
         let det = a * c - b * b;
-        if !(det > 1e-9 * (a + c) * (a + c)) {
+        if det.is_nan() || det <= 1e-9 * (a + c) * (a + c) {
             return None;
         }
         let n = ((c * bx - b * by) / det, (a * by - b * bx) / det);

@@ -207,7 +207,12 @@ impl ModelKind {
 }
 
 /// Coefficients of a lens in the order of [`ModelKind::names`].
-pub(crate) fn coefficients_of(lens: &LensModel) -> Vec<f64> {
+///
+/// ```
+/// use fixsight_verify::calibrate::{coefficients, ModelKind};
+/// assert_eq!(coefficients(&ModelKind::Fisheye.lens(&[0.1, -0.2])), vec![0.1, -0.2]);
+/// ```
+pub fn coefficients(lens: &LensModel) -> Vec<f64> {
     match *lens {
         LensModel::BrownConrady { k1, k2, k3, p1, p2 } => vec![k1, k2, k3, p1, p2],
         LensModel::Equidistant { k1, k2 } => vec![k1, k2],

@@ -224,7 +224,7 @@ pub fn refine(
 ) -> Result<Fit, CalibError> {
     let k = camera.intrinsics;
     let mut p = vec![k.fx, k.fy, k.cx, k.cy];
-    p.extend(super::coefficients_of(&camera.lens));
+    p.extend(super::coefficients(&camera.lens));
     if p.len() != 4 + model.coefficients() {
         return Err(CalibError::NoConvergence(
             "starting lens of another model".into(),
@@ -300,7 +300,7 @@ pub fn refine(
         )));
     }
     let rel = (std_intrinsics[0] / k.fx).max(std_intrinsics[1] / k.fy);
-    if !(rel <= MAX_FOCAL_REL_STD) {
+    if rel.is_nan() || rel > MAX_FOCAL_REL_STD {
         return Err(CalibError::Degenerate(format!(
             "the views fix the focal length only to +-{:.1} % (at most {:.0} % accepted): tilt \
              the board by 20-45 degrees in several directions and fill more of the image",
@@ -308,7 +308,7 @@ pub fn refine(
             100.0 * MAX_FOCAL_REL_STD
         )));
     }
-    if !(rms_px <= MAX_RMS_PX) {
+    if rms_px.is_nan() || rms_px > MAX_RMS_PX {
         return Err(CalibError::NoConvergence(format!(
             "reprojection RMS {rms_px:.2} px (at most {MAX_RMS_PX} px accepted): the lens model \
              does not fit these corners (try the other --model) or corners were mislabelled"

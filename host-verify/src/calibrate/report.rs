@@ -229,11 +229,7 @@ pub fn lens_text(
     for (name, v) in [("fx", k.fx), ("fy", k.fy), ("cx", k.cx), ("cy", k.cy)] {
         let _ = writeln!(s, "{name} = {v}");
     }
-    for (name, v) in model
-        .names()
-        .iter()
-        .zip(super::coefficients_of(&camera.lens))
-    {
+    for (name, v) in model.names().iter().zip(super::coefficients(&camera.lens)) {
         let _ = writeln!(s, "{name} = {v}");
     }
     let _ = writeln!(

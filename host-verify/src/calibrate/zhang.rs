@@ -309,7 +309,7 @@ pub fn intrinsics_from_b(b: &[f64; 6]) -> Result<ClosedForm, CalibError> {
     }
     let v0 = (b12 * b13 - b11 * b23) / den;
     let lambda = b33 - (b13 * b13 + v0 * (b12 * b13 - b11 * b23)) / b11;
-    if !(lambda / b11 > 0.0) {
+    if (lambda / b11).is_nan() || lambda / b11 <= 0.0 {
         return Err(bad("negative focal length squared"));
     }
     let alpha = (lambda / b11).sqrt();
@@ -419,7 +419,7 @@ pub fn radial_start(
         }
     }
     let det = a11 * a22 - a12 * a12;
-    if !(det.abs() > 1e-300) {
+    if det.is_nan() || det.abs() <= 1e-300 {
         return None;
     }
     Some(((a22 * r1 - a12 * r2) / det, (a11 * r2 - a12 * r1) / det))
@@ -700,13 +700,16 @@ mod tests {
     use crate::calibrate::project;
     use crate::lens::LensModel;
 
+    /// A model plane's orientation and position.
+    type Plane = (Rotation3<f64>, Vector3<f64>);
+
     /// Zhang (2000), section 5.1, computer-simulated camera (from memory):
     /// alpha = 1250, beta = 900, gamma = 1.09083 (89.95 degrees between the
     /// image axes), u0 = v0 = 255, a 512x512 image, a 10x14 checker pattern
     /// of 18 cm x 25 cm, and three planes r1 = [20, 0, 0] deg,
     /// t1 = [-9, -12.5, 500] cm; r2 = [0, 20, 0] deg, t2 = [-9, -12.5, 510];
     /// r3 = [-30, -30, -15] deg / sqrt 5, t3 = [-10.5, -12.5, 525].
-    fn paper_setup() -> (Matrix3<f64>, Vec<(Rotation3<f64>, Vector3<f64>)>) {
+    fn paper_setup() -> (Matrix3<f64>, Vec<Plane>) {
         let a = Matrix3::new(1250.0, 1.09083, 255.0, 0.0, 900.0, 255.0, 0.0, 0.0, 1.0);
         let d = |x: f64| x.to_radians();
         let s5 = 5f64.sqrt();

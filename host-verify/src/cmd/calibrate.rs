@@ -73,6 +73,10 @@ pub fn parse_corners(s: &str) -> Result<(usize, usize), String> {
     Ok((n(a)?, n(b)?))
 }
 
+/// Decoded grey images with their file names, and the names of the files
+/// ignored.
+pub type Folder = (Vec<(String, Grey)>, Vec<String>);
+
 /// The images of a folder (step 1): decoded grey images with their file
 /// names, and the names of ignored files.
 ///
@@ -85,7 +89,7 @@ pub fn parse_corners(s: &str) -> Result<(usize, usize), String> {
 /// assert!(e.to_string().contains("no .png/.jpg/.jpeg image"), "{e}");
 /// std::fs::remove_dir_all(&dir).unwrap();
 /// ```
-pub fn load_folder(dir: &Path) -> Result<(Vec<(String, Grey)>, Vec<String>), CalibError> {
+pub fn load_folder(dir: &Path) -> Result<Folder, CalibError> {
     let entries = std::fs::read_dir(dir)
         .map_err(|e| CalibError::NoImages(format!("cannot list {}: {e}", dir.display())))?;
     let mut names = Vec::new();
@@ -234,13 +238,11 @@ pub fn run(req: &Request) -> Result<String, CalibError> {
             )),
             e => e,
         })?;
-    let mut k = 0;
-    for row in rows.iter_mut().filter(|r| r.used) {
+    for (k, row) in rows.iter_mut().filter(|r| r.used).enumerate() {
         let (rms, worst) = report::rms_worst(&fit.errors[k]);
         row.rms_px = Some(rms);
         row.worst_px = Some(worst);
         row.tilt_deg = Some(fit.poses[k].tilt_deg());
-        k += 1;
     }
     let all: Vec<(f64, f64)> = fit.errors.iter().flatten().copied().collect();
     let (rms_px, worst_px) = report::rms_worst(&all);
@@ -275,7 +277,7 @@ pub fn run(req: &Request) -> Result<String, CalibError> {
         .model
         .names()
         .iter()
-        .zip(crate::calibrate::coefficients_of(&fit.camera.lens))
+        .zip(crate::calibrate::coefficients(&fit.camera.lens))
         .zip(&fit.std_coefficients)
     {
         estimates.push(Estimate {
