@@ -170,20 +170,32 @@ fn put(path: &Path, bytes: &[u8]) -> Result<(), CalibError> {
 /// Runs the command (module docs); returns the report text, whose last
 /// line is the lens file's path.
 ///
-/// ```no_run
-/// use fixsight_verify::calibrate::{Board, ModelKind};
+/// ```
+/// use fixsight_verify::calibrate::{synth, Board, ModelKind};
 /// use fixsight_verify::cmd::calibrate::{run, Request};
-/// let text = run(&Request {
-///     images: "photos".into(),
-///     board: Board::new(9, 6, 25.0).unwrap(),
+/// let dir = std::env::temp_dir().join(format!("fixsight-doc-run-{}", std::process::id()));
+/// let photos = dir.join("photos");
+/// std::fs::create_dir_all(&photos).unwrap();
+/// let spec = synth::SynthSpec::wide_angle(320, 240);
+/// for (k, pose) in synth::poses(&spec, 4, 8).unwrap().iter().enumerate() {
+///     let g = synth::render(&spec, pose, k as u64);
+///     image::GrayImage::from_raw(320, 240, g.to_u8()).unwrap()
+///         .save(photos.join(format!("{k}.png"))).unwrap();
+/// }
+/// let req = Request {
+///     images: photos,
+///     board: Board::new(9, 6, 30.0).unwrap(),
 ///     model: ModelKind::Brown,
-///     out: "calibration".into(),
+///     out: dir.join("out"),
 ///     grid_log2: 4,
 ///     frac_bits: 5,
 ///     replace: false,
-/// })
-/// .unwrap();
+/// };
+/// let text = run(&req).unwrap();
 /// assert!(text.trim_end().ends_with("lens.txt"));
+/// // A second run does not replace the outputs.
+/// assert!(run(&req).unwrap_err().to_string().contains("exists"));
+/// std::fs::remove_dir_all(&dir).unwrap();
 /// ```
 pub fn run(req: &Request) -> Result<String, CalibError> {
     let lens_path = req.out.join(LENS_FILE);
