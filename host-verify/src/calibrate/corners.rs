@@ -414,20 +414,14 @@ fn grow_best(
     Err(NotFound::Partial { largest })
 }
 
+/// Columns and rows the grid spans.
 fn extent(grid: &Grid) -> (usize, usize) {
-    let (mut i0, mut i1, mut j0, mut j1) = (i32::MAX, i32::MIN, i32::MAX, i32::MIN);
-    for &(i, j) in grid.keys() {
-        i0 = i0.min(i);
-        i1 = i1.max(i);
-        j0 = j0.min(j);
-        j1 = j1.max(j);
-    }
+    let (i0, i1, j0, j1) = bounds(grid);
     ((i1 - i0 + 1) as usize, (j1 - j0 + 1) as usize)
 }
 
 fn to_rows(grid: &Grid) -> Vec<Vec<(f64, f64)>> {
-    let i0 = grid.keys().map(|k| k.0).min().unwrap_or(0);
-    let j0 = grid.keys().map(|k| k.1).min().unwrap_or(0);
+    let (i0, _, j0, _) = bounds(grid);
     let (c, r) = extent(grid);
     let mut rows = vec![vec![(0.0, 0.0); c]; r];
     for (&(i, j), p) in grid {
@@ -582,6 +576,7 @@ fn grow(smooth: &Grey, cands: &[Candidate], grid: &mut Grid, limit: i32, s: f64)
     }
 }
 
+/// Smallest and largest labels `(i0, i1, j0, j1)` of a non-empty grid.
 fn bounds(grid: &Grid) -> (i32, i32, i32, i32) {
     let (mut i0, mut i1, mut j0, mut j1) = (i32::MAX, i32::MIN, i32::MAX, i32::MIN);
     for &(i, j) in grid.keys() {
