@@ -8,6 +8,7 @@
 //!
 //! | module | role |
 //! |---|---|
+//! | [`calibrate`] | lens calibration from checkerboard photographs: corners, Zhang's closed form, Levenberg-Marquardt, report (`calibrate` command) |
 //! | [`cmd`] | the body of each command of the `fixsight-verify` tool, one file per command |
 //! | [`family`] | what a kernel family provides ([`family::Family`]) and shared helpers |
 //! | [`families`] | the list of families and kernel ids; recomputing any golden vector |
@@ -33,6 +34,7 @@
 
 pub mod border;
 pub mod c_firmware;
+pub mod calibrate;
 pub mod chain;
 pub mod cmd;
 pub mod contract;

@@ -41,6 +41,36 @@ enum Cmd {
         #[arg(long, default_value = "lens_grid")]
         name: String,
     },
+    /// Calibrate a lens from photographs of a flat checkerboard: writes a
+    /// lens file (`fixsight-lens 1`, its path on the last line) for `grid`,
+    /// a report and a picture per image.
+    Calibrate {
+        /// Folder of .png/.jpg/.jpeg photographs of the board, one sensor size.
+        #[arg(long, value_name = "DIR")]
+        images: PathBuf,
+        /// Inner corners of the board (where four squares meet), e.g. 9x6.
+        #[arg(long, value_name = "COLSxROWS", value_parser = cmd::calibrate::parse_corners)]
+        inner_corners: (usize, usize),
+        /// Side of one square, millimetres.
+        #[arg(long)]
+        square_mm: f64,
+        /// Distortion model: `brown` (radial k1..k3, tangential p1, p2) or
+        /// `fisheye` (equidistant, k1, k2) for very wide lenses.
+        #[arg(long, default_value = "brown", value_parser = fixsight_verify::calibrate::ModelKind::parse)]
+        model: fixsight_verify::calibrate::ModelKind,
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-calibration")]
+        out: PathBuf,
+        /// Control-point spacing (log2 px, 2..=6) for the report's grid error.
+        #[arg(long, default_value_t = 4)]
+        grid_log2: u32,
+        /// Fractional bits (2..=10) for the report's grid error.
+        #[arg(long, default_value_t = 5)]
+        frac_bits: u32,
+        /// Replace existing output files.
+        #[arg(long)]
+        replace: bool,
+    },
     /// Warp precision sweep (fractional bits x pixel map and control-grid
     /// spacings) on a demo scene: sweep.md, sweep.json and sweep.png.
     Sweep {
@@ -131,6 +161,28 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
                 "{}",
                 cmd::grid::run(&lens, grid_log2, frac_bits, &out, &name)?
             );
+            Ok(true)
+        }
+        Cmd::Calibrate {
+            images,
+            inner_corners: (cols, rows),
+            square_mm,
+            model,
+            out,
+            grid_log2,
+            frac_bits,
+            replace,
+        } => {
+            let req = cmd::calibrate::Request {
+                images,
+                board: fixsight_verify::calibrate::Board::new(cols, rows, square_mm)?,
+                model,
+                out,
+                grid_log2,
+                frac_bits,
+                replace,
+            };
+            print!("{}", cmd::calibrate::run(&req)?);
             Ok(true)
         }
         Cmd::Sweep { out } => {
