@@ -79,7 +79,7 @@
 
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 /// The `fixed` type of the low-threshold fraction, re-exported so callers
 /// need not depend on `fixed` themselves.
 ///
@@ -242,13 +242,13 @@ impl Thresholds {
             }
             // Per pixel: load, compare, branch; per counted pixel shift,
             // min, load/add/store of the bin, count add.
-            let w = mag.width() as u32;
-            tally(Op::Load, 2 * w);
-            tally(Op::Logic, 2 * w);
-            tally(Op::Shift, w);
-            tally(Op::AddSub, 2 * w);
-            tally(Op::Store, w);
-            tally(Op::Branch, 2 * w);
+            let w = mag.width();
+            tally_per(Op::Load, 2, w);
+            tally_per(Op::Logic, 2, w);
+            tally_per(Op::Shift, 1, w);
+            tally_per(Op::AddSub, 2, w);
+            tally_per(Op::Store, 1, w);
+            tally_per(Op::Branch, 2, w);
         }
         if n == 0 {
             return Ok(Self {
@@ -316,11 +316,11 @@ pub fn classify_row(mag: &[u16], t: &Thresholds, out: &mut [u8]) -> Result<()> {
         };
     }
     // Per pixel: load, two compares, two selects, store, loop branch.
-    let n = w as u32;
-    tally(Op::Load, n);
-    tally(Op::Logic, 4 * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, n);
+    let n = w;
+    tally_per(Op::Load, 1, n);
+    tally_per(Op::Logic, 4, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
     Ok(())
 }
 
@@ -421,9 +421,9 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                 return Err(Error::BadEdgeCode { x, y, value: v });
             }
         }
-        tally(Op::Load, w as u32);
-        tally(Op::Logic, w as u32);
-        tally(Op::Branch, 2 * w as u32);
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Logic, 1, w);
+        tally_per(Op::Branch, 2, w);
     }
     let mut st = HysteresisStats::default();
     let cap = stack.len();
@@ -487,9 +487,9 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                 }
             }
             // Scan: a load, a compare and two branches per pixel.
-            tally(Op::Load, w as u32);
-            tally(Op::Logic, w as u32);
-            tally(Op::Branch, 2 * w as u32);
+            tally_per(Op::Load, 1, w);
+            tally_per(Op::Logic, 1, w);
+            tally_per(Op::Branch, 2, w);
         }
         if next_r0 == usize::MAX {
             break;
@@ -503,10 +503,10 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                 *v = NONE;
             }
         }
-        tally(Op::Load, w as u32);
-        tally(Op::Logic, w as u32);
-        tally(Op::Store, w as u32);
-        tally(Op::Branch, 2 * w as u32);
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Logic, 1, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 2, w);
     }
     Ok(st)
 }

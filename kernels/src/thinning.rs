@@ -38,6 +38,30 @@
 //! the thickest stroke plus one, and at most the foreground count plus one
 //! (every iteration but the last deletes a pixel).
 //!
+//! Without a cap the time therefore grows with the frame: a solid frame
+//! (every pixel foreground, the thickest stroke it can hold) needs
+//! `min(W, H) / 2 + 1` iterations, each costing `O(W H)`. For a firmware
+//! deadline use [`thin_at_most`]: with a cap of `K` iterations the work is
+//! at most `K` iterations of at most 82 counted operations per pixel (per
+//! sub-iteration: the 2 ring copies, and for a foreground pixel that is
+//! deleted 1 + 8 loads, 1 + 17 compares and ors, 7 shifts, 1 table look-up,
+//! 3 branches, 1 store; see the tallies in the code), whatever the input.
+//! Measured (`cargo run --release -p fixsight --features count-ops
+//! --example thin_worst`, x86-64 host, 2 shared cores):
+//!
+//! | frame | iterations of a solid frame | ops/px, first iteration | host time, uncapped | host time, one iteration |
+//! |---|---|---|---|---|
+//! | 64x64 | 33 | 79.0 | 1 ms | 0.04 ms |
+//! | 160x120 | 61 | 79.5 | 14 ms | 0.20 ms |
+//! | 320x240 | 121 | 79.8 | 112 ms | 0.73 ms |
+//! | 640x480 | 241 | 79.9 | 935 ms | 7.6 ms |
+//! | 1024x1024 | 513 | 79.9 | 7.1 s | 39 ms |
+//!
+//! Edge maps after non-maximum suppression are one or two pixels wide and
+//! need a few iterations; a cap a little above that (for example 8) bounds
+//! the frame time at `8 x` the one-iteration figure and
+//! [`ThinStats::capped`] reports the frames where it bit.
+//!
 //! ```
 //! use fixsight::{thinning, ImageViewMut};
 //! // A 3-pixel-thick bar thins to its centre row.
@@ -53,7 +77,7 @@
 
 use crate::error::{Error, Result};
 use crate::image::{check_single_channel, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 
 /// The Zhang-Suen deletion rule for neighbour bits `mask` (bit 0 = `P2` =
 /// N, then clockwise to bit 7 = `P9` = NW) in sub-iteration `sub` (1 or 2;
@@ -117,6 +141,9 @@ pub struct ThinStats {
     pub iterations: u32,
     /// Pixels deleted.
     pub deleted: u32,
+    /// `true` when [`thin_at_most`] stopped at its iteration cap while the
+    /// last iteration still deleted pixels (the map may not be stable).
+    pub capped: bool,
 }
 
 #[inline(always)]
@@ -127,20 +154,46 @@ fn fg(row: Option<&[u8]>, x: isize) -> u8 {
     }
 }
 
+/// A binary map that [`thin_map`] thins: the caller's `u8` image here,
+/// the 2-bit packed map of [`crate::pipeline`].
+pub(crate) trait ThinMap {
+    /// Width and height.
+    fn dims(&self) -> (usize, usize);
+    /// Writes row `y` to `dst` (`width` bytes), nonzero where foreground.
+    fn load_row(&self, y: usize, dst: &mut [u8]);
+    /// Deletes the foreground pixel `(x, y)`.
+    fn delete(&mut self, x: usize, y: usize);
+}
+
+impl ThinMap for ImageViewMut<'_, u8> {
+    #[inline(always)]
+    fn dims(&self) -> (usize, usize) {
+        (self.width(), self.height())
+    }
+    #[inline(always)]
+    fn load_row(&self, y: usize, dst: &mut [u8]) {
+        dst.copy_from_slice(self.as_view().row_at(y));
+    }
+    #[inline(always)]
+    fn delete(&mut self, x: usize, y: usize) {
+        self.row_at_mut(y)[x] = 0;
+    }
+}
+
 /// One sub-iteration; returns the number of pixels deleted.
-fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u32 {
-    let (w, h) = (map.width(), map.height());
+fn sub_iteration<M: ThinMap>(map: &mut M, ring: &mut [u8], bit: u8) -> u32 {
+    let (w, h) = map.dims();
     let slot = |y: usize| (y % 3) * w;
-    ring[..w].copy_from_slice(map.row_at_mut(0));
-    tally(Op::Load, w as u32);
-    tally(Op::Store, w as u32);
+    map.load_row(0, &mut ring[..w]);
+    tally_per(Op::Load, 1, w);
+    tally_per(Op::Store, 1, w);
     let mut deleted = 0u32;
     for y in 0..h {
         if y + 1 < h {
             let s = slot(y + 1);
-            ring[s..s + w].copy_from_slice(map.row_at_mut(y + 1));
-            tally(Op::Load, w as u32);
-            tally(Op::Store, w as u32);
+            map.load_row(y + 1, &mut ring[s..s + w]);
+            tally_per(Op::Load, 1, w);
+            tally_per(Op::Store, 1, w);
         }
         let ring_ro: &[u8] = ring;
         let above = if y > 0 {
@@ -154,8 +207,8 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
         } else {
             None
         };
-        let out = map.row_at_mut(y);
-        let mut fg_count = 0u32;
+        let mut fg_count = 0usize;
+        let mut row_deleted = 0u32;
         for x in 0..w {
             if cur[x] == 0 {
                 continue;
@@ -171,21 +224,57 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
                 | fg(Some(cur), xi - 1) << 6
                 | fg(above, xi - 1) << 7;
             if TABLE[mask as usize] & bit != 0 {
-                out[x] = 0;
-                deleted += 1;
+                map.delete(x, y);
+                row_deleted += 1;
             }
         }
+        deleted += row_deleted;
         // Every pixel: load, compare, branch. Foreground pixels: 8 loads,
         // 8 compares, 7 shifts, 7 ors, a table look-up, a test and branch.
-        let n = w as u32;
-        tally(Op::Load, n + 8 * fg_count);
-        tally(Op::Logic, n + 17 * fg_count);
-        tally(Op::Shift, 7 * fg_count);
-        tally(Op::Table, fg_count);
-        tally(Op::Branch, 2 * n + fg_count);
-        tally(Op::Store, deleted);
+        let n = w;
+        tally_per(Op::Load, 1, n);
+        tally_per(Op::Load, 8, fg_count);
+        tally_per(Op::Logic, 1, n);
+        tally_per(Op::Logic, 17, fg_count);
+        tally_per(Op::Shift, 7, fg_count);
+        tally_per(Op::Table, 1, fg_count);
+        tally_per(Op::Branch, 2, n);
+        tally_per(Op::Branch, 1, fg_count);
+        tally_per(Op::Store, 1, row_deleted as usize);
     }
     deleted
+}
+
+/// Iterations on any [`ThinMap`] with a ring of `3 * width` bytes (the
+/// caller checks it), at most `max_iterations` (at least 1).
+pub(crate) fn thin_map<M: ThinMap>(map: &mut M, ring: &mut [u8], max_iterations: u32) -> ThinStats {
+    let mut st = ThinStats::default();
+    loop {
+        st.iterations += 1;
+        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
+        st.deleted += d;
+        tally(Op::Branch, 1);
+        if d == 0 {
+            return st;
+        }
+        if st.iterations >= max_iterations {
+            st.capped = true;
+            return st;
+        }
+    }
+}
+
+/// Checks a thinning scratch of `3 * width` bytes and returns that span.
+fn ring_of(width: usize, scratch: &mut [u8]) -> Result<&mut [u8]> {
+    let needed = 3 * width;
+    if scratch.len() < needed {
+        return Err(Error::BufferTooShort {
+            what: "thinning row scratch",
+            needed,
+            got: scratch.len(),
+        });
+    }
+    Ok(&mut scratch[..needed])
 }
 
 /// Thins a binary map in place (see the module docs). `scratch` needs
@@ -206,25 +295,43 @@ fn sub_iteration(map: &mut ImageViewMut<'_, u8>, ring: &mut [u8], bit: u8) -> u3
 /// ```
 pub fn thin(map: &mut ImageViewMut<'_, u8>, scratch: &mut [u8]) -> Result<ThinStats> {
     check_single_channel(&map.as_view())?;
-    let needed = 3 * map.width();
-    if scratch.len() < needed {
-        return Err(Error::BufferTooShort {
-            what: "thinning row scratch",
-            needed,
-            got: scratch.len(),
+    let ring = ring_of(map.width(), scratch)?;
+    Ok(thin_map(map, ring, u32::MAX))
+}
+
+/// [`thin`] with a cap on the iterations: stops after `max_iterations`
+/// iterations even when the last one deleted pixels, and then reports
+/// [`ThinStats::capped`]. Each iteration is the same two sub-iterations as
+/// in [`thin`], so a cap at or above the number [`thin`] needs gives the
+/// same map. A cap bounds the time per frame on a real-time core.
+///
+/// Errors: as [`thin`]; `max_iterations = 0` -> [`Error::BadParameter`].
+///
+/// ```
+/// use fixsight::{thinning, ImageViewMut};
+/// // A 5-pixel-thick bar needs more than one iteration.
+/// let mut map = [0u8; 12 * 9];
+/// for y in 2..7 { for x in 1..11 { map[y * 12 + x] = 1; } }
+/// let mut scratch = [0u8; 36];
+/// let st = thinning::thin_at_most(&mut ImageViewMut::new(&mut map, 12, 9, 12)?, &mut scratch, 1)?;
+/// assert!(st.capped && st.iterations == 1);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn thin_at_most(
+    map: &mut ImageViewMut<'_, u8>,
+    scratch: &mut [u8],
+    max_iterations: u32,
+) -> Result<ThinStats> {
+    check_single_channel(&map.as_view())?;
+    if max_iterations == 0 {
+        return Err(Error::BadParameter {
+            name: "thinning iteration cap",
+            expected: "1..",
+            got: 0,
         });
     }
-    let ring = &mut scratch[..needed];
-    let mut st = ThinStats::default();
-    loop {
-        st.iterations += 1;
-        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
-        st.deleted += d;
-        tally(Op::Branch, 1);
-        if d == 0 {
-            return Ok(st);
-        }
-    }
+    let ring = ring_of(map.width(), scratch)?;
+    Ok(thin_map(map, ring, max_iterations))
 }
 
 #[cfg(test)]
