@@ -13,5 +13,5 @@ fi
 command -v gcc >/dev/null || apt-get install -y --no-install-recommends gcc libc6-dev
 rustup target add thumbv6m-none-eabi thumbv7m-none-eabi thumbv7em-none-eabihf riscv32imc-unknown-none-elf
 rustup component add llvm-tools
-timeout 1200 cargo run -q --release -p fixsight-verify -- targets --out "${FIXSIGHT_REPORT:-fixsight-report}"
+timeout 1200 cargo run -q --release -p fixsight-verify -- targets --overwrite --out "${FIXSIGHT_REPORT:-fixsight-report}"
 echo "targets step took $(( $(date +%s) - start )) s"

@@ -20,6 +20,7 @@
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
+//! | [`files`] | bounded reads of regular files and safe output sets, used by every command |
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
@@ -31,6 +32,7 @@ pub mod contract;
 pub mod edge_chain;
 pub mod families;
 pub mod family;
+pub mod files;
 pub mod filter;
 pub mod golden;
 pub mod gradient;

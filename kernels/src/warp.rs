@@ -924,14 +924,45 @@ impl<'a> ControlGrid<'a> {
                 expected: "0",
             });
         }
+        // Each header field on its own, so that the error names it.
+        for (field, off) in [
+            ("out_width", 8),
+            ("out_height", 10),
+            ("src_width", 12),
+            ("src_height", 14),
+        ] {
+            let v = u16_at(off);
+            if v == 0 || v as usize > crate::image::MAX_DIM {
+                return Err(Error::BlobField {
+                    field,
+                    got: v as u32,
+                    expected: "1..=32767",
+                });
+            }
+        }
+        let k = bytes[16] as u32;
+        if !(MIN_GRID_LOG2..=MAX_GRID_LOG2).contains(&k) {
+            return Err(Error::BlobField {
+                field: "grid_log2",
+                got: k,
+                expected: "2..=6",
+            });
+        }
+        let f = bytes[17] as u32;
+        if !(MIN_FRAC_BITS..=MAX_FRAC_BITS).contains(&f) {
+            return Err(Error::BlobField {
+                field: "frac_bits",
+                got: f,
+                expected: "2..=10",
+            });
+        }
         let geom = WarpGeometry::new(
             u16_at(8) as usize,
             u16_at(10) as usize,
             u16_at(12) as usize,
             u16_at(14) as usize,
-            bytes[17] as u32,
+            f,
         )?;
-        let k = bytes[16] as u32;
         let (cols, rows) = Self::grid_size(&geom, k)?;
         let (gc, gr) = (u16_at(18) as usize, u16_at(20) as usize);
         if (gc, gr) != (cols, rows) {
