@@ -288,7 +288,8 @@ fn unique_suffix() -> String {
 }
 
 impl Outputs {
-    /// Starts a set of outputs in `dir` (created if missing). `names` are
+    /// Starts a set of outputs in `dir` (created at the first write if
+    /// missing). `names` are
     /// the files the command will write, checked now: plain names, and
     /// unless `overwrite`, none exists yet (`flag` is the option named in
     /// the refusal).
@@ -307,7 +308,6 @@ impl Outputs {
         for n in names {
             o.check(n)?;
         }
-        fs::create_dir_all(dir).map_err(io("create the folder", dir))?;
         Ok(o)
     }
 
@@ -351,6 +351,7 @@ impl Outputs {
         fill: impl FnOnce(&Path) -> std::io::Result<()>,
     ) -> Result<(), FileError> {
         let target = self.check(name)?;
+        fs::create_dir_all(&self.dir).map_err(io("create the folder", &self.dir))?;
         // The extension stays last: image writers choose the format by it.
         let tmp = self.dir.join(match name.rsplit_once('.') {
             Some((stem, ext)) => format!(".{stem}.part-{}.{ext}", unique_suffix()),
