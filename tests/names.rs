@@ -167,34 +167,39 @@ fn report_rows_are_the_registry_ids_in_order() {
     fs::remove_dir_all(&out).unwrap();
 }
 
-/// `pub fn <name>(` of the on-target dispatchers, per harness file stem.
-fn harness_functions() -> BTreeSet<String> {
-    let dir = root().join("targets/harness/src/kernels");
-    let mut out = BTreeSet::new();
-    for e in fs::read_dir(&dir).unwrap() {
-        let p = e.unwrap().path();
-        let stem = p.file_stem().unwrap().to_string_lossy().to_string();
-        if stem == "mod" {
-            continue;
-        }
-        for l in fs::read_to_string(&p).unwrap().lines() {
-            if let Some(rest) = l.strip_prefix("pub fn ") {
-                let name: String = rest
-                    .chars()
-                    .take_while(|c| *c != '(' && *c != '<')
-                    .collect();
-                out.insert(format!("{stem}.{name}"));
-            }
-        }
-    }
-    out
+/// The rows `"<id>" => <module>::<function>,` of the harness's kernel
+/// table (`targets/harness/src/kernels/mod.rs`, inside `kernel_table!`).
+fn harness_table() -> Vec<(String, String)> {
+    let text = read("targets/harness/src/kernels/mod.rs");
+    let start = text
+        .find("kernel_table! {")
+        .expect("the harness has its kernel table");
+    let body = &text[start..];
+    let body = &body[..body.find("\n}").expect("the table ends")];
+    body.lines()
+        .filter_map(|l| {
+            let (id, f) = l.trim().trim_end_matches(',').split_once(" => ")?;
+            Some((id.trim_matches('"').to_string(), f.to_string()))
+        })
+        .collect()
 }
 
 #[test]
-fn on_target_dispatchers_and_bench_stages_use_the_registry_ids() {
-    let served = harness_functions();
-    for id in kernel_ids() {
-        assert!(served.contains(id), "no on-target dispatcher for {id}");
+fn on_target_table_and_bench_stages_use_the_registry_ids() {
+    let table = harness_table();
+    let ids: Vec<String> = table.iter().map(|(id, _)| id.clone()).collect();
+    let want: Vec<String> = kernel_ids().map(str::to_string).collect();
+    assert_eq!(
+        ids, want,
+        "harness kernel table (left) vs the registry (right)"
+    );
+    for (id, f) in &table {
+        // `nms.suppress` => `nms::suppress`: the dispatcher has the id's name.
+        assert_eq!(
+            f,
+            &id.replacen('.', "::", 1),
+            "table row {id} points at {f}"
+        );
     }
     let ids: BTreeSet<&str> = kernel_ids().collect();
     for l in read("targets/harness/src/bench.rs").lines() {

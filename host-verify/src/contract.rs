@@ -34,6 +34,8 @@ pub enum KernelFamily {
     Warp,
     /// The edge chain composed on the host (`host-verify/src/chain.rs`).
     Chain,
+    /// The streamed edge stage (`pipeline.rs`).
+    Pipeline,
 }
 
 impl KernelFamily {
@@ -47,6 +49,7 @@ impl KernelFamily {
             KernelFamily::Thinning => "thinning",
             KernelFamily::Warp => "warp",
             KernelFamily::Chain => "chain",
+            KernelFamily::Pipeline => "pipeline",
         }
     }
 }

@@ -1,5 +1,6 @@
 //! The fixed-point edge chain run on the host: 9-tap smoothed Sobel
-//! ([`GAUSS7`] with Sobel's taps), rounded L2 magnitude, 4-sector
+//! ([`fixsight::pipeline::Smoothing::Gauss7`] with Sobel's taps, the
+//! filters of [`fixsight::pipeline::DEMO`]), rounded L2 magnitude, 4-sector
 //! direction, non-maximum suppression, automatic thresholds,
 //! classification, hysteresis and thinning, by the kernel crate's public
 //! functions only, with every intermediate kept ([`Chain`]).
@@ -13,19 +14,14 @@ use crate::filter::run::run_whole;
 use crate::golden::crop;
 use crate::opcount::{measure, OpsPerPx};
 use crate::scene::Scene;
-use fixsight::filter::{self, Border, SeparableFilter, Taps};
+use fixsight::filter::SeparableFilter;
 use fixsight::hysteresis::{self, Thresholds, U0F16};
 use fixsight::nms::{self, NmsStream};
+use fixsight::pipeline::{self, ThresholdRule};
 use fixsight::{gradient, thinning, ImageView, ImageViewMut};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use serde::{Deserialize, Serialize};
-
-/// The chain's smoothing taps: the `sigma = 1` Gaussian sampled at
-/// `-3..=3` and normalised (as in [`gaussian_f64`](crate::chain::reference::gaussian_f64)), times 256, rounded to
-/// the nearest integer: `0.39905, 0.24203, 0.05401, 0.00443` times 256 are
-/// `102.16, 61.96, 13.83, 1.14`. The rounded taps sum to 256 exactly.
-pub const GAUSS7: [i16; 7] = [1, 14, 62, 102, 62, 14, 1];
 
 /// Settings of the fixed-point chain.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -43,10 +39,37 @@ pub struct ChainParams {
     pub stack: usize,
 }
 
-/// The demo settings: 512 bins of width 2 (magnitudes up to 1023 resolved;
-/// the chain's magnitudes are 4x Sobel), the kernel crate's demo share and
-/// ratio, a 1024-entry stack.
-pub const DEMO: ChainParams = ChainParams {
+/// The demo settings: the threshold rule of the kernel crate's
+/// [`fixsight::pipeline::DEMO`] (bins of width 4 covering the chain's
+/// largest magnitude, the demo share and ratio) and a 1024-entry stack.
+pub const DEMO: ChainParams = demo_params();
+
+const fn demo_params() -> ChainParams {
+    let (shift, high_permille, low_ratio_u0f16) = match pipeline::DEMO.thresholds {
+        ThresholdRule::Auto {
+            shift,
+            high_permille,
+            low_ratio_u0f16,
+            ..
+        } => (shift as u32, high_permille, low_ratio_u0f16),
+        ThresholdRule::Fixed { .. } => (0, 0, 0),
+    };
+    ChainParams {
+        bins: pipeline::DEMO.bins_needed(),
+        shift,
+        high_permille,
+        low_ratio_u0f16,
+        stack: 1024,
+    }
+}
+
+/// The parameters the edge golden vectors (`nms.*`, `hysteresis.*`,
+/// `thinning.*`, `chain.*`) were written with: 512 bins of width 2 (they
+/// end at 1023, below the chain's largest magnitude 3697), the same share
+/// and ratio, a 1024-entry stack. They are the vectors' own parameters,
+/// stored in the manifest, and stay as they are so the vectors stay byte
+/// for byte; the report uses [`DEMO`].
+pub const VECTOR_PARAMS: ChainParams = ChainParams {
     bins: 512,
     shift: 1,
     high_permille: hysteresis::DEMO_HIGH_PERMILLE,
@@ -104,30 +127,23 @@ fn e(err: fixsight::Error) -> String {
 /// the smoothed derivative keeps 2 fractional bits.
 pub const GRAD_SCALE: f64 = 4.0;
 
-/// Derivative taps of the chain: [`GAUSS7`] convolved with Sobel's
-/// `[-1 0 1]` (sum of absolute values 328).
-pub const CHAIN_DERIV: [i16; 9] = [-1, -14, -61, -88, 0, 88, 61, 14, 1];
-
-/// Cross taps of the chain: [`GAUSS7`] convolved with Sobel's `[1 2 1]`
-/// (sum 1024).
-pub const CHAIN_CROSS: [i16; 9] = [1, 16, 91, 240, 328, 240, 91, 16, 1];
-
-/// Shift of each of the chain's two tap sets (total 14).
-pub const CHAIN_TAP_SHIFT: u32 = 7;
-
-/// The smoothed Sobel x filter of the chain: [`CHAIN_DERIV`] horizontally
-/// and [`CHAIN_CROSS`] vertically, each shift 7 (9 x 9 support). The taps
-/// are `256` times Sobel's convolved with `GAUSS7 / 256`, so the exact
+/// The smoothed Sobel filter of the chain, `x` or (`vertical`) `y`:
+/// [`fixsight::pipeline::EdgeConfig::gradient_filters`] of
+/// [`fixsight::pipeline::DEMO`], the 7-tap Gaussian `[1 14 62 102 62 14
+/// 1]/256` convolved with Sobel's taps, `[-1 -14 -61 -88 0 88 61 14 1]` by
+/// `[1 16 91 240 328 240 91 16 1]`, each shift 7 (9 x 9 support). The exact
 /// accumulator is `2^16` times Sobel of the smoothed image and the shift 14
-/// leaves Sobel times 4, rounded once, half up. Worst case accumulator
-/// `255 * 328 * 1024 + 2^13` fits `i32`; the output is at most
-/// `(255 * 164 * 1024 + 2^13) >> 14 = 2614` in magnitude (the positive and
-/// the negative taps each sum to `164 * 1024`).
+/// leaves Sobel times 4 ([`GRAD_SCALE`]), rounded once, half up; the output
+/// is at most 2614 in magnitude.
 pub fn smoothed_sobel(vertical: bool) -> SeparableFilter {
-    let d = Taps::new(&CHAIN_DERIV, CHAIN_TAP_SHIFT).expect("valid taps");
-    let s = Taps::new(&CHAIN_CROSS, CHAIN_TAP_SHIFT).expect("valid taps");
-    let (h, v) = if vertical { (s, d) } else { (d, s) };
-    filter::separable(h, v, Border::Clamp).expect("fits the accumulator")
+    let (fx, fy) = pipeline::DEMO
+        .gradient_filters()
+        .expect("the demo configuration is valid");
+    if vertical {
+        fy
+    } else {
+        fx
+    }
 }
 
 /// Integer gradients of an 8-bit image: [`smoothed_sobel`] x and y, one
@@ -338,7 +354,7 @@ pub struct GoldenCrop {
     pub h: usize,
     /// The crop.
     pub img: Vec<u8>,
-    /// The chain with [`DEMO`] settings on the crop.
+    /// The chain with [`VECTOR_PARAMS`] on the crop.
     pub chain: Chain,
     /// Where the crop comes from, for comments.
     pub at: String,
@@ -350,7 +366,7 @@ pub fn golden_crop(scenes: &[Scene]) -> GoldenCrop {
     let (w, h) = (48usize, 32usize);
     let (x0, y0) = (136usize, 180usize);
     let img = crop(s, x0, y0, w, h);
-    let chain = run_chain(&img, w, h, &DEMO).expect("crop sizes are valid");
+    let chain = run_chain(&img, w, h, &VECTOR_PARAMS).expect("crop sizes are valid");
     GoldenCrop {
         w,
         h,

@@ -24,6 +24,7 @@ pub const FAMILIES: &[Family] = &[
     crate::thinning::FAMILY,
     crate::chain::FAMILY,
     crate::warp::FAMILY,
+    crate::pipeline::FAMILY,
 ];
 
 /// Every kernel id of every family, in report order.

@@ -14,6 +14,7 @@
 //! | [`filter`], [`gradient`], [`nms`], [`hysteresis`], [`thinning`], [`warp`] | one folder per kernel file `kernels/src/<same name>.rs`: `reference.rs`, `check.rs` (contract), `golden.rs` (golden cases, `run_vector`) |
 //! | [`chain`] | the edge chain composed on the host (`chain.edges`): full-`f64` Canny reference, F1 contract |
 //! | [`edge_chain`] | the fixed-point edge chain run on the host, whose intermediates the edge families check |
+//! | [`pipeline`] | the streamed edge stage (`pipeline.edge_stream`) against the whole-frame kernels and the `f64` Canny |
 //! | [`border`] | the border rule as a golden parameter, the border-extended pixel lookup |
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
 //! | [`lens`] | lens models in `f64`, the lens file format |
@@ -41,6 +42,7 @@ pub mod lens;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
+pub mod pipeline;
 pub mod report;
 pub mod scene;
 pub mod targets;

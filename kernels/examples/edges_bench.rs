@@ -10,38 +10,10 @@ use fixsight::hysteresis::{self, Thresholds, DEMO_HIGH_PERMILLE, DEMO_LOW_FRACTI
 use fixsight::{gradient, nms, ops, thinning, ImageView, ImageViewMut};
 use std::time::Instant;
 
+mod common;
+
 const W: usize = 640;
 const H: usize = 480;
-
-/// Rectangles, a disc and a ramp with LCG noise (sigma about 3 DN).
-fn frame() -> Vec<u8> {
-    let mut s = 0x1234_5678u64;
-    let mut img = vec![0u8; W * H];
-    for y in 0..H {
-        for x in 0..W {
-            let mut v = 60.0 + 0.1 * x as f64;
-            if (100..300).contains(&x) && (80..220).contains(&y) {
-                v += 80.0;
-            }
-            if (400..560).contains(&x) && (260..420).contains(&y) {
-                v -= 40.0;
-            }
-            let (dx, dy) = (x as f64 - 220.0, y as f64 - 340.0);
-            if dx * dx + dy * dy < 90.0 * 90.0 {
-                v += 60.0;
-            }
-            let mut n = 0.0;
-            for _ in 0..4 {
-                s = s
-                    .wrapping_mul(6364136223846793005)
-                    .wrapping_add(1442695040888963407);
-                n += ((s >> 40) as f64 / (1u64 << 24) as f64) - 0.5;
-            }
-            img[y * W + x] = (v + n * 3.0 * 1.732).clamp(0.0, 255.0) as u8;
-        }
-    }
-    img
-}
 
 fn v(b: &[u8]) -> ImageView<'_, u8> {
     ImageView::new(b, W, H, W).unwrap()
@@ -58,7 +30,7 @@ fn best_of<F: FnMut()>(runs: usize, mut f: F) -> f64 {
 }
 
 fn main() {
-    let img = frame();
+    let img = common::frame(W, H);
     let px = (W * H) as f64;
     // Gradients (outside the timed edge steps).
     let mut smooth = vec![0u8; W * H];

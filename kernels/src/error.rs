@@ -221,6 +221,23 @@ pub enum Error {
         /// The code found.
         value: u8,
     },
+    // --- pipeline (kernels/src/pipeline.rs) ---
+    /// A camera row does not have the length the stream was configured for.
+    RowLength {
+        /// Which row form (luma, YUYV, RGB565, ...).
+        what: &'static str,
+        /// Elements expected.
+        expected: usize,
+        /// Elements given.
+        got: usize,
+    },
+    /// A frame ended with a number of rows other than the declared height.
+    RowCount {
+        /// Rows declared.
+        expected: usize,
+        /// Rows pushed.
+        got: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -339,6 +356,16 @@ impl fmt::Display for Error {
             Error::BadEdgeCode { x, y, value } => write!(
                 f,
                 "edge code {value} at ({x}, {y}) is not 0 (none), 1 (weak) or 2 (strong)"
+            ),
+            Error::RowLength {
+                what,
+                expected,
+                got,
+            } => write!(f, "{what} row has {got} elements but {expected} are expected"),
+            Error::RowCount { expected, got } => write!(
+                f,
+                "frame ended after {got} rows but {expected} were declared; \
+                 end it early on purpose with the short-frame call"
             ),
         }
     }

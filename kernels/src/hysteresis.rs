@@ -131,6 +131,13 @@ pub struct Thresholds {
 }
 
 impl Thresholds {
+    /// `low = high = 65535`: nothing but the largest magnitude is a
+    /// candidate (the automatic rule's result for an empty histogram).
+    pub(crate) const MAX: Thresholds = Thresholds {
+        low: u16::MAX,
+        high: u16::MAX,
+    };
+
     /// Checks and stores `low` and `high`.
     ///
     /// Errors: `low > high` -> [`Error::ThresholdOrder`]; `low = 0` (every
@@ -201,43 +208,14 @@ impl Thresholds {
         low_fraction: U0F16,
     ) -> Result<Self> {
         check_single_channel(mag)?;
-        if hist.is_empty() {
-            return Err(Error::BufferTooShort {
-                what: "threshold histogram",
-                needed: 1,
-                got: 0,
-            });
-        }
-        if shift > 15 {
-            return Err(Error::BadParameter {
-                name: "histogram shift",
-                expected: "0..=15",
-                got: shift as i64,
-            });
-        }
-        if !(1..=999).contains(&high_permille) {
-            return Err(Error::BadParameter {
-                name: "high_permille",
-                expected: "1..=999",
-                got: high_permille as i64,
-            });
-        }
-        if low_fraction.to_bits() == 0 {
-            return Err(Error::BadParameter {
-                name: "low_fraction (U0F16 bits)",
-                expected: "1..=65535",
-                got: 0,
-            });
-        }
+        check_rule(hist.len(), shift, high_permille, low_fraction)?;
         hist.fill(0);
         let last = hist.len() - 1;
-        let mut n: u64 = 0;
         for y in 0..mag.height() {
             for &m in mag.row_at(y) {
                 if m > 0 {
                     let b = ((m >> shift) as usize).min(last);
                     hist[b] += 1;
-                    n += 1;
                 }
             }
             // Per pixel: load, compare, branch; per counted pixel shift,
@@ -250,12 +228,43 @@ impl Thresholds {
             tally_per(Op::Store, 1, w);
             tally_per(Op::Branch, 2, w);
         }
+        Self::from_counts(hist, shift, high_permille, low_fraction)
+    }
+
+    /// Steps 2 to 4 of the automatic rule (module docs) on a histogram
+    /// that is already filled: `hist[b]` counts the nonzero magnitudes `m`
+    /// with `min(m >> shift, hist.len() - 1) = b`, and `n` is the sum of the
+    /// counts. [`Thresholds::from_histogram`] fills `hist` from a frame and
+    /// calls this; [`crate::pipeline`] fills it row by row.
+    ///
+    /// Errors: as [`Thresholds::from_histogram`].
+    ///
+    /// ```
+    /// use fixsight::hysteresis::{Thresholds, DEMO_LOW_FRACTION};
+    /// // The values 10, 20, ..., 90 in bins of width 1.
+    /// let mut hist = [0u32; 128];
+    /// for v in (10..=90).step_by(10) { hist[v] = 1; }
+    /// let t = Thresholds::from_counts(&hist, 0, 800, DEMO_LOW_FRACTION)?;
+    /// assert_eq!((t.low(), t.high()), (39, 81));
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn from_counts(
+        hist: &[u32],
+        shift: u32,
+        high_permille: u16,
+        low_fraction: U0F16,
+    ) -> Result<Self> {
+        check_rule(hist.len(), shift, high_permille, low_fraction)?;
+        let n: u64 = hist.iter().map(|&c| c as u64).sum();
+        tally_per(Op::Load, 1, hist.len());
+        tally_per(Op::AddSub, 1, hist.len());
         if n == 0 {
             return Ok(Self {
                 low: u16::MAX,
                 high: u16::MAX,
             });
         }
+        let last = hist.len() - 1;
         let target = (n * high_permille as u64).div_ceil(1000);
         tally(Op::Mul, 1);
         tally(Op::Div, 1);
@@ -285,6 +294,58 @@ impl Thresholds {
     }
 }
 
+/// Checks the parameters of the automatic rule: at least one bin,
+/// `shift <= 15`, `high_permille` in `1..=999`, nonzero `low_fraction`.
+pub(crate) fn check_rule(
+    bins: usize,
+    shift: u32,
+    high_permille: u16,
+    low_fraction: U0F16,
+) -> Result<()> {
+    if bins == 0 {
+        return Err(Error::BufferTooShort {
+            what: "threshold histogram",
+            needed: 1,
+            got: 0,
+        });
+    }
+    if shift > 15 {
+        return Err(Error::BadParameter {
+            name: "histogram shift",
+            expected: "0..=15",
+            got: shift as i64,
+        });
+    }
+    if !(1..=999).contains(&high_permille) {
+        return Err(Error::BadParameter {
+            name: "high_permille",
+            expected: "1..=999",
+            got: high_permille as i64,
+        });
+    }
+    if low_fraction.to_bits() == 0 {
+        return Err(Error::BadParameter {
+            name: "low_fraction (U0F16 bits)",
+            expected: "1..=65535",
+            got: 0,
+        });
+    }
+    Ok(())
+}
+
+/// The edge code of one suppressed magnitude (module docs): STRONG when
+/// `m >= high`, WEAK when `low <= m < high`, else NONE.
+#[inline(always)]
+pub(crate) fn code_of(m: u16, t: &Thresholds) -> u8 {
+    if m >= t.high {
+        STRONG
+    } else if m >= t.low {
+        WEAK
+    } else {
+        NONE
+    }
+}
+
 /// Classifies one row of suppressed magnitudes (the streaming form of the
 /// double threshold): `out[i]` is STRONG, WEAK or NONE for `mag[i]`.
 ///
@@ -307,13 +368,7 @@ pub fn classify_row(mag: &[u16], t: &Thresholds, out: &mut [u8]) -> Result<()> {
         });
     }
     for (o, &m) in out[..w].iter_mut().zip(mag) {
-        *o = if m >= t.high {
-            STRONG
-        } else if m >= t.low {
-            WEAK
-        } else {
-            NONE
-        };
+        *o = code_of(m, t);
     }
     // Per pixel: load, two compares, two selects, store, loop branch.
     let n = w;
@@ -385,6 +440,73 @@ const NEIGHBOURS: [(i32, i32); 8] = [
     (-1, -1),
 ];
 
+/// A map of edge codes that [`propagate`] walks: the caller's `u8` image
+/// here, the 2-bit packed map of [`crate::pipeline`]. Codes are [`NONE`],
+/// [`WEAK`], [`STRONG`] and the map's own edge marker `EDGE`.
+pub(crate) trait CodeMap {
+    /// Code written for a pixel that became an edge.
+    const EDGE: u8;
+    /// Width and height.
+    fn dims(&self) -> (usize, usize);
+    /// Code at `(x, y)` (in range by the caller's loops).
+    fn code(&self, x: usize, y: usize) -> u8;
+    /// Writes a code at `(x, y)`.
+    fn set_code(&mut self, x: usize, y: usize, v: u8);
+    /// The first column `>= x` of row `y` that may hold STRONG (`width`
+    /// when none does); a map that cannot tell returns `x`.
+    #[inline(always)]
+    fn next_strong(&self, x: usize, _y: usize) -> usize {
+        x
+    }
+}
+
+impl CodeMap for ImageViewMut<'_, u8> {
+    const EDGE: u8 = EDGE;
+    #[inline(always)]
+    fn dims(&self) -> (usize, usize) {
+        (self.width(), self.height())
+    }
+    #[inline(always)]
+    fn code(&self, x: usize, y: usize) -> u8 {
+        self.as_view().row_at(y)[x]
+    }
+    #[inline(always)]
+    fn set_code(&mut self, x: usize, y: usize, v: u8) {
+        self.row_at_mut(y)[x] = v;
+    }
+}
+
+/// A work-stack entry `(y << 16) | x`: `u32` in the public API, a pair of
+/// `i16` where the pipeline lends its gradient row (low half first).
+pub(crate) trait StackWord: Copy {
+    /// Stores an entry.
+    fn pack(e: u32) -> Self;
+    /// Reads it back.
+    fn unpack(self) -> u32;
+}
+
+impl StackWord for u32 {
+    #[inline(always)]
+    fn pack(e: u32) -> Self {
+        e
+    }
+    #[inline(always)]
+    fn unpack(self) -> u32 {
+        self
+    }
+}
+
+impl StackWord for [i16; 2] {
+    #[inline(always)]
+    fn pack(e: u32) -> Self {
+        [e as i16, (e >> 16) as i16]
+    }
+    #[inline(always)]
+    fn unpack(self) -> u32 {
+        (self[0] as u16 as u32) | ((self[1] as u16 as u32) << 16)
+    }
+}
+
 /// Hysteresis in place on an edge-code map (see the module docs for the
 /// algorithm, the result and the memory). `stack` is caller scratch of at
 /// least [`MIN_STACK`] entries; a larger stack means fewer passes, never a
@@ -425,27 +547,54 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
         tally_per(Op::Logic, 1, w);
         tally_per(Op::Branch, 2, w);
     }
+    let st = propagate(map, stack);
+    // 4. Final scan.
+    for y in 0..h {
+        for v in map.row_at_mut(y).iter_mut() {
+            if *v == WEAK {
+                *v = NONE;
+            }
+        }
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Logic, 1, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 2, w);
+    }
+    Ok(st)
+}
+
+/// Steps 2 and 3 of the module docs on any [`CodeMap`] holding only codes
+/// 0, 1 and 2, with a stack of at least [`MIN_STACK`] entries (the caller
+/// checks both). STRONG pixels and the WEAK pixels joined to them become
+/// `M::EDGE`; other WEAK pixels stay WEAK.
+pub(crate) fn propagate<M: CodeMap, S: StackWord>(map: &mut M, stack: &mut [S]) -> HysteresisStats {
+    let (w, h) = map.dims();
     let mut st = HysteresisStats::default();
     let cap = stack.len();
     let mut r0 = 0usize;
-    // 2./3. Seed scans.
     loop {
         st.passes += 1;
         let mut next_r0 = usize::MAX;
         for y in r0..h {
-            for x in 0..w {
-                if map.row_at_mut(y)[x] != STRONG {
+            let mut x = 0;
+            while x < w {
+                x = map.next_strong(x, y);
+                if x >= w {
+                    break;
+                }
+                if map.code(x, y) != STRONG {
+                    x += 1;
                     continue;
                 }
-                map.row_at_mut(y)[x] = EDGE;
+                map.set_code(x, y, M::EDGE);
                 st.edges += 1;
-                stack[0] = ((y as u32) << 16) | x as u32;
+                stack[0] = S::pack(((y as u32) << 16) | x as u32);
                 let mut top = 1usize;
                 st.peak_stack = st.peak_stack.max(1);
                 tally(Op::Store, 2);
                 while top > 0 {
                     top -= 1;
-                    let e = stack[top];
+                    let e = stack[top].unpack();
                     let (px, py) = ((e & 0xFFFF) as i32, (e >> 16) as i32);
                     tally(Op::Load, 1);
                     tally(Op::Logic, 1);
@@ -461,12 +610,12 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                         }
                         let (nxu, nyu) = (nx as usize, ny as usize);
                         tally(Op::Load, 1);
-                        if map.row_at_mut(nyu)[nxu] != WEAK {
+                        if map.code(nxu, nyu) != WEAK {
                             continue;
                         }
                         if top < cap {
-                            map.row_at_mut(nyu)[nxu] = EDGE;
-                            stack[top] = ((ny as u32) << 16) | nx as u32;
+                            map.set_code(nxu, nyu, M::EDGE);
+                            stack[top] = S::pack(((ny as u32) << 16) | nx as u32);
                             top += 1;
                             st.edges += 1;
                             st.peak_stack = st.peak_stack.max(top as u32);
@@ -475,7 +624,7 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                             tally(Op::Logic, 2);
                             tally(Op::AddSub, 1);
                         } else {
-                            map.row_at_mut(nyu)[nxu] = STRONG;
+                            map.set_code(nxu, nyu, STRONG);
                             st.deferred += 1;
                             if nyu < y || (nyu == y && nxu < x) {
                                 next_r0 = next_r0.min(nyu);
@@ -485,6 +634,7 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                         }
                     }
                 }
+                x += 1;
             }
             // Scan: a load, a compare and two branches per pixel.
             tally_per(Op::Load, 1, w);
@@ -496,19 +646,7 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
         }
         r0 = next_r0;
     }
-    // 4. Final scan.
-    for y in 0..h {
-        for v in map.row_at_mut(y).iter_mut() {
-            if *v == WEAK {
-                *v = NONE;
-            }
-        }
-        tally_per(Op::Load, 1, w);
-        tally_per(Op::Logic, 1, w);
-        tally_per(Op::Store, 1, w);
-        tally_per(Op::Branch, 2, w);
-    }
-    Ok(st)
+    st
 }
 
 #[cfg(test)]

@@ -19,6 +19,7 @@
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
+//! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
 //!
 //! ```
@@ -50,6 +51,7 @@ pub mod hysteresis;
 pub mod image;
 pub mod nms;
 pub mod ops;
+pub mod pipeline;
 pub mod thinning;
 pub mod warp;
 

@@ -198,3 +198,108 @@ mod warp_apis {
         }
     }
 }
+
+mod pipeline_apis {
+    use fixsight::pipeline::{
+        map_words, EdgeConfig, EdgeStream, Magnitude, Operator, Smoothing, Thinning, ThresholdRule,
+        DEMO,
+    };
+    use fixsight::thinning;
+    use fixsight::ImageViewMut;
+    use proptest::prelude::*;
+
+    fn config() -> impl Strategy<Value = EdgeConfig> {
+        (
+            0usize..5,
+            any::<bool>(),
+            any::<u8>(),
+            0usize..3,
+            (
+                any::<bool>(),
+                any::<u8>(),
+                any::<u16>(),
+                any::<u16>(),
+                any::<u16>(),
+                any::<u16>(),
+            ),
+            (0usize..3, any::<u16>()),
+        )
+            .prop_map(|(sm, op, fb, mg, (fixed, sh, p, f, lo, hi), (th, cap))| {
+                EdgeConfig {
+                    smoothing: [
+                        Smoothing::None,
+                        Smoothing::Binomial3,
+                        Smoothing::Binomial5,
+                        Smoothing::Binomial7,
+                        Smoothing::Gauss7,
+                    ][sm],
+                    operator: if op {
+                        Operator::Sobel
+                    } else {
+                        Operator::Scharr
+                    },
+                    frac_bits: fb,
+                    magnitude: [Magnitude::L1, Magnitude::L2Approx, Magnitude::L2Round][mg],
+                    thresholds: if fixed {
+                        ThresholdRule::Fixed { low: lo, high: hi }
+                    } else {
+                        ThresholdRule::Auto {
+                            shift: sh,
+                            high_permille: p,
+                            low_ratio_u0f16: f,
+                            first_low: lo,
+                            first_high: hi,
+                        }
+                    },
+                    thinning: [Thinning::Off, Thinning::UntilStable, Thinning::AtMost(cap)][th],
+                }
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        /// Any configuration, size, row form and call order: `Ok` or a
+        /// typed error.
+        #[test]
+        fn edge_stream_in_any_call_order(cfg in config(), demo in any::<bool>(), w in 0usize..20,
+                                         h in 0usize..14, bits in 0u32..20,
+                                         calls in prop::collection::vec((0usize..11, 0usize..44, any::<u16>()), 0..40)) {
+            let cfg = if demo { DEMO } else { cfg };
+            let _ = cfg.check();
+            let _ = (cfg.max_magnitude(), cfg.bins_needed(), cfg.gradient_taps(), cfg.gradient_filters());
+            let mut s: Box<EdgeStream<16, { map_words(16, 12) }, 600, 32>> = Box::default();
+            let _ = s.configure(&cfg, w, h);
+            for (call, len, v) in calls {
+                let row8 = vec![(v & 255) as u8; len];
+                let row16 = vec![v; len];
+                let _ = match call {
+                    0 => s.push_row(&row8),
+                    1 => s.push_yuyv(&row8),
+                    2 => s.push_uyvy(&row8),
+                    3 => s.push_rgb565(&row16),
+                    4 => s.push_raw(&row16, bits),
+                    5 => s.next_row_slot().map(|r| { r.fill(v as u8); r.len() }),
+                    6 => s.commit_row(),
+                    7 => s.finish().map(|r| r.edge_points as usize),
+                    8 => s.finish_short().map(|r| r.edge_points as usize),
+                    9 => { s.reset(); Ok(0) }
+                    _ => s.edge_row(len, &mut vec![0u8; v as usize % 24]).map(|_| 0),
+                };
+                if let Ok(p) = s.points() {
+                    let _ = p.count();
+                }
+                let _ = (s.report(), s.thresholds(), s.rows_pushed());
+            }
+        }
+
+        #[test]
+        fn capped_thinning(w in 0usize..12, h in 0usize..12, cap in any::<u32>(), scratch in 0usize..40,
+                           bits in prop::collection::vec(any::<bool>(), 0..144)) {
+            let mut map: Vec<u8> = bits.iter().map(|&b| b as u8 * 255).collect();
+            if let Ok(mut v) = ImageViewMut::new(&mut map, w, h, w.max(1)) {
+                let _ = thinning::thin_at_most(&mut v, &mut vec![0u8; scratch], cap);
+            }
+        }
+    }
+}

@@ -1,22 +1,28 @@
-//! Turns the golden manifest into static Rust data and a dispatch table.
+//! Turns the golden manifest into static Rust data.
 //!
 //! Input: `$FIXSIGHT_GOLDEN_DIR/manifest.json` (default `../../golden`).
 //! Output: `$OUT_DIR/vectors.rs` with
 //! * `pub static VECTORS: &[Vector]` (files embedded with `include_bytes!`
-//!   after checking their length and SHA-256 against the manifest);
-//! * `pub fn dispatch(kernel: &str) -> Option<RunFn>` over the kernel ids
-//!   this build serves.
+//!   after checking their length and SHA-256 against the manifest; each
+//!   vector's dispatch function is `crate::kernels::lookup("<kernel id>")`,
+//!   evaluated by the compiler);
+//! * `pub const ONLY: Option<&[&str]>`, the kernel ids of a code-size image.
 //!
-//! A kernel id `<family>.<name>` is served when `src/kernels/<family>.rs`
-//! contains `pub fn <name>(`.
+//! Which kernel ids the firmware serves is not decided here, and no source
+//! text is searched: it is the table in `src/kernels/mod.rs`, which the
+//! compiler checks.
 //!
 //! Code-size images: with `FIXSIGHT_ONLY_KERNELS` set (comma-separated
-//! kernel ids, or `none`) every vector and bench stage of any other kernel
-//! is routed to `crate::kernels::noop` instead. The harness code (decoding,
-//! comparing, measuring, printing) is therefore the same in every such
-//! image, and the growth of `.text` of the image for kernel K over the
-//! `none` image is the code K adds: the kernel itself, everything it pulls
-//! in, and its dispatch function. These images are measured, not run.
+//! kernel ids, or `none`) `ONLY` lists them, and the table routes every
+//! vector and bench stage of any other kernel to `crate::kernels::noop`
+//! (decided at compile time, so the other kernels are not linked). The
+//! harness code (decoding, comparing, measuring, printing) is therefore the
+//! same in every such image, and the growth of `.text` of the image for
+//! kernel K over the `none` image is the code K adds: the kernel itself,
+//! everything it pulls in, and its dispatch function. These images are
+//! measured, not run.
+//!
+//! Also passes the target triple to the harness (`FIXSIGHT_TARGET`).
 
 use sha2::{Digest, Sha256};
 use std::collections::BTreeSet;
@@ -34,8 +40,8 @@ fn main() {
     let manifest_path = golden.join("manifest.json");
     println!("cargo:rerun-if-changed={}", manifest_path.display());
     println!(
-        "cargo:rerun-if-changed={}",
-        here.join("src/kernels").display()
+        "cargo:rustc-env=FIXSIGHT_TARGET={}",
+        std::env::var("TARGET").unwrap()
     );
 
     let only: Option<BTreeSet<String>> = std::env::var("FIXSIGHT_ONLY_KERNELS").ok().map(|s| {
@@ -44,7 +50,6 @@ fn main() {
             .filter(|k| !k.is_empty() && k != "none")
             .collect()
     });
-    let wanted = |k: &str| only.as_ref().is_none_or(|o| o.contains(k));
 
     let vectors: Vec<serde_json::Value> = match std::fs::read_to_string(&manifest_path) {
         Ok(text) => {
@@ -74,28 +79,17 @@ fn main() {
     };
 
     let mut out = String::new();
-    let mut kernels = BTreeSet::new();
     out.push_str(
         "/// Every golden vector in manifest order.\npub static VECTORS: &[Vector] = &[\n",
     );
     for v in &vectors {
         let kernel = v["kernel"].as_str().expect("vector without kernel");
         let id = v["id"].as_str().expect("vector without id");
-        let served = serves(&here, kernel);
-        if served && wanted(kernel) {
-            kernels.insert(kernel.to_string());
-        }
         let mut params = Vec::new();
         flatten("", &v["params"], &mut params);
         writeln!(out, "    Vector {{").unwrap();
         writeln!(out, "        id: {id:?},\n        kernel: {kernel:?},").unwrap();
-        if !wanted(kernel) {
-            writeln!(out, "        run: Some(crate::kernels::noop),").unwrap();
-        } else if served {
-            writeln!(out, "        run: Some({}),", path_of(kernel)).unwrap();
-        } else {
-            writeln!(out, "        run: None,").unwrap();
-        }
+        writeln!(out, "        run: crate::kernels::lookup({kernel:?}),").unwrap();
         writeln!(out, "        params: &[{}],", params.join(", ")).unwrap();
         for (field, key) in [("inputs", "inputs"), ("expected", "expected")] {
             writeln!(out, "        {field}: &[").unwrap();
@@ -108,59 +102,25 @@ fn main() {
     }
     out.push_str("];\n\n");
 
-    // Kernels named by the bench table are dispatched too, when served.
-    for k in bench_kernels(&here) {
-        if wanted(&k) && serves(&here, &k) {
-            kernels.insert(k);
+    out.push_str(
+        "/// Kernel ids dispatched by a code-size image (`FIXSIGHT_ONLY_KERNELS`);\n\
+         /// `None` in a conformance image, which dispatches every id.\n",
+    );
+    match &only {
+        None => out.push_str("pub const ONLY: Option<&[&str]> = None;\n"),
+        Some(ids) => {
+            let list: Vec<String> = ids.iter().map(|k| format!("{k:?}")).collect();
+            writeln!(
+                out,
+                "pub const ONLY: Option<&[&str]> = Some(&[{}]);",
+                list.join(", ")
+            )
+            .unwrap();
         }
-    }
-    out.push_str("/// Dispatch function of a kernel id, if this build serves it.\n");
-    out.push_str("pub fn dispatch(kernel: &str) -> Option<RunFn> {\n    match kernel {\n");
-    for k in &kernels {
-        writeln!(out, "        {k:?} => Some({}),", path_of(k)).unwrap();
-    }
-    if only.is_some() {
-        out.push_str("        _ => Some(crate::kernels::noop),\n    }\n}\n");
-    } else {
-        out.push_str("        _ => None,\n    }\n}\n");
     }
 
     let dst = PathBuf::from(std::env::var("OUT_DIR").unwrap()).join("vectors.rs");
     std::fs::write(dst, out).unwrap();
-}
-
-/// `crate::kernels::<family>::<name>` for `<family>.<name>`.
-fn path_of(kernel: &str) -> String {
-    let (fam, name) = kernel
-        .split_once('.')
-        .expect("kernel id is <family>.<name>");
-    format!("crate::kernels::{fam}::{name}")
-}
-
-/// Whether `src/kernels/<family>.rs` defines `pub fn <name>(`.
-fn serves(here: &Path, kernel: &str) -> bool {
-    let Some((fam, name)) = kernel.split_once('.') else {
-        return false;
-    };
-    let ok_ident =
-        |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
-    if !ok_ident(fam) || !ok_ident(name) {
-        return false;
-    }
-    let file = here.join("src/kernels").join(format!("{fam}.rs"));
-    std::fs::read_to_string(file).is_ok_and(|s| s.contains(&format!("pub fn {name}(")))
-}
-
-/// Kernel ids named in `src/bench.rs` (lines `kernel: "<id>",`).
-fn bench_kernels(here: &Path) -> Vec<String> {
-    let p = here.join("src/bench.rs");
-    println!("cargo:rerun-if-changed={}", p.display());
-    let text = std::fs::read_to_string(p).unwrap_or_default();
-    text.lines()
-        .filter_map(|l| l.trim().strip_prefix("kernel: \""))
-        .filter_map(|l| l.split('"').next())
-        .map(str::to_string)
-        .collect()
 }
 
 /// Flattens JSON params into `("key", Param::...)` literals.

@@ -1,7 +1,7 @@
 //! The golden case and vector recomputation of `chain.edges`.
 
 use super::ID;
-use crate::edge_chain::{golden_crop, run_chain, ChainParams, DEMO};
+use crate::edge_chain::{golden_crop, run_chain, ChainParams, VECTOR_PARAMS};
 use crate::family::{case, input, parse_params};
 use crate::golden::{Blob, GoldenCase};
 use crate::scene::Scene;
@@ -40,7 +40,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             g.at
         ),
         ID,
-        serde_json::to_value(DEMO).expect("serialisable"),
+        serde_json::to_value(VECTOR_PARAMS).expect("serialisable"),
         vec![Blob::from_u8("src", g.w, g.h, 1, &g.img)],
     )]
 }

@@ -32,7 +32,7 @@
 //! 1. Gaussian smoothing with `sigma = 1`, sampled to radius
 //!    `ceil(3 sigma)`, normalised, separable, clamped border, no
 //!    rounding (the kernel chain uses these taps rounded to 1/256, see
-//!    [`GAUSS7`](crate::edge_chain::GAUSS7));
+//!    [`fixsight::pipeline::Smoothing::Gauss7`]);
 //! 2. Sobel derivatives in `f64` (same taps, scale and clamped border as
 //!    the kernels), magnitude `sqrt(gx^2 + gy^2)`;
 //! 3. non-maximum suppression along the exact gradient angle: the
@@ -63,7 +63,7 @@
 //! 4-sector NMS 0.920; Gaussian with the exact magnitude and 4-sector NMS
 //! 0.969. Integer rounding of the gradients changed F1 by less than 0.002,
 //! thinning by less than 0.006. Hence the chain now smooths with the
-//! sampled Gaussian rounded to 1/256 ([`GAUSS7`](crate::edge_chain::GAUSS7)) and takes the exact
+//! sampled Gaussian rounded to 1/256 ([`fixsight::pipeline::Smoothing::Gauss7`]) and takes the exact
 //! rounded magnitude (`gradient::magnitude_l2_round`); NMS stays on the 4
 //! sectors.
 //!

@@ -2,7 +2,8 @@
 //! kernel ids.
 
 use crate::edge_chain::{
-    golden_crop, run_classify, run_link, run_thresholds, synthetic_edges, ChainParams, DEMO,
+    golden_crop, run_classify, run_link, run_thresholds, synthetic_edges, ChainParams,
+    VECTOR_PARAMS,
 };
 use crate::family::{case, input, parse_params};
 use crate::golden::{Blob, GoldenCase};
@@ -109,8 +110,8 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let g = golden_crop(scenes);
     let t = synthetic_edges();
     let (w, h, c, at) = (g.w, g.h, &g.chain, &g.at);
-    let tp = json!({"bins": DEMO.bins, "shift": DEMO.shift, "high_permille": DEMO.high_permille,
-                    "low_ratio_u0f16": DEMO.low_ratio_u0f16});
+    let tp = json!({"bins": VECTOR_PARAMS.bins, "shift": VECTOR_PARAMS.shift, "high_permille": VECTOR_PARAMS.high_permille,
+                    "low_ratio_u0f16": VECTOR_PARAMS.low_ratio_u0f16});
     let big: Vec<u16> = (0..64u32).map(|i| (i * i * 16).min(65535) as u16).collect();
     let (hw, hh) = t.codes_size;
     vec![
@@ -144,7 +145,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             "hysteresis.link.floor",
             format!("hysteresis of the edge codes of {at}"),
             "hysteresis.link",
-            json!({"stack": DEMO.stack}),
+            json!({"stack": VECTOR_PARAMS.stack}),
             vec![Blob::from_u8("codes", w, h, 1, &c.codes)],
         ),
         case(

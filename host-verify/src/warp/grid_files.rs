@@ -67,7 +67,7 @@ pub fn grid_files(mb: &GridBuild, name: &str, origin: &str) -> Result<GridFiles,
     };
     let mut rust = String::new();
     let _ = writeln!(rust, "// {header}");
-    let _ = writeln!(rust, "// Load with fixsight::warp::ControlGrid::new(&{ident}_POINTS, WarpGeometry::new({ident}_OUT_WIDTH, {ident}_OUT_HEIGHT, {ident}_SRC_WIDTH, {ident}_SRC_HEIGHT, {ident}_FRAC_BITS)?, {ident}_GRID_LOG2).");
+    let _ = writeln!(rust, "// Load with fixsight::warp::ControlGrid::new(&{ident}_POINTS, WarpGeometry::new({ident}_OUT_WIDTH, {ident}_OUT_HEIGHT, {ident}_SRC_WIDTH, {ident}_SRC_HEIGHT, {ident}_FRAC_BITS)?, {ident}_SPACING_LOG2).");
     for (k, v) in [
         ("OUT_WIDTH", g.out_width()),
         ("OUT_HEIGHT", g.out_height()),
@@ -81,7 +81,7 @@ pub fn grid_files(mb: &GridBuild, name: &str, origin: &str) -> Result<GridFiles,
         "pub const {ident}_FRAC_BITS: u32 = {};",
         g.frac_bits()
     );
-    let _ = writeln!(rust, "pub const {ident}_GRID_LOG2: u32 = {};", mb.k);
+    let _ = writeln!(rust, "pub const {ident}_SPACING_LOG2: u32 = {};", mb.k);
     let _ = writeln!(
         rust,
         "/// {cols} x {rows} control points, interleaved raw (x, y), row-major."
@@ -102,7 +102,7 @@ pub fn grid_files(mb: &GridBuild, name: &str, origin: &str) -> Result<GridFiles,
         ("SRC_WIDTH", g.src_width()),
         ("SRC_HEIGHT", g.src_height()),
         ("FRAC_BITS", g.frac_bits() as usize),
-        ("GRID_LOG2", mb.k as usize),
+        ("SPACING_LOG2", mb.k as usize),
         ("COLS", cols),
         ("ROWS", rows),
     ] {

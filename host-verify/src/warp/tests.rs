@@ -162,11 +162,13 @@ fn grid_files_round_trip_through_the_kernel_loader() {
         mb.points.len()
     )));
     assert!(files.c_header.contains("#define ZHANG_VGA_COLS 21u"));
-    assert!(files.c_header.contains("#define ZHANG_VGA_GRID_LOG2 5u"));
+    assert!(files.c_header.contains("#define ZHANG_VGA_SPACING_LOG2 5u"));
     assert!(files.c_header.contains("#ifndef FIXSIGHT_ZHANG_VGA_H\n"));
     // The default stem gives a guard that names the grid once.
     let default = grid_files(&mb, "lens_grid", "test").unwrap();
     assert!(default.c_header.contains("#ifndef FIXSIGHT_LENS_GRID_H\n"));
+    // ... and constants that do too.
+    assert!(!default.c_header.contains("GRID_GRID") && !default.rust.contains("GRID_GRID"));
     // Every number in the Rust array is the table, in order.
     let body = files.rust.split("= [").nth(1).unwrap();
     let nums: Vec<i32> = body

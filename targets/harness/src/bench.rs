@@ -11,9 +11,10 @@
 //! ```
 //!
 //! plus the other presets (binomial3/7, Scharr x) for comparison; then the
-//! edge chain of `chain.edges` (`host-verify/src/chain.rs`) on the frame,
-//! with its fused smoothed Sobel (9 taps: the 7-tap Gaussian with Sobel,
-//! gradients 4x Sobel), rounded L2 magnitude and demo threshold rule:
+//! edge chain of `chain.edges` (`host-verify/src/chain/`) on the frame,
+//! kernel by kernel, with the settings of `fixsight::pipeline::DEMO` (its
+//! fused smoothed Sobel: 9 taps, the 7-tap Gaussian with Sobel, gradients
+//! 4x Sobel; rounded L2 magnitude; its threshold rule):
 //!
 //! ```text
 //! frame --chain_sobel_x/y--> gx, gy --chain_magnitude_l2_round--> mag2
@@ -22,7 +23,11 @@
 //! (sup, low, high) --classify--> codes --link--> edges --thin--> thin
 //! ```
 //!
-//! (link and thin in place on one image), and the two warp forms on the
+//! (link and thin in place on one image); then `pipeline_edge_stream`, the
+//! same chain as one streamed stage (`pipeline.edge_stream`:
+//! `fixsight::pipeline::EdgeStream` with `DEMO`, 240 rows pushed, the frame
+//! finished, its points read), what a firmware that streams camera rows
+//! pays per frame; and the two warp forms on the
 //! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
 //! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
 //! grid with points every 16 pixels, as a blob, output in strips of 16
@@ -39,6 +44,7 @@ use crate::kernels::{Arena, Buf, Img, Param, Params};
 use crate::vectors::Elem;
 use crate::Console;
 use core::fmt::Write;
+use fixsight::pipeline::{GradientTaps, ThresholdRule, DEMO};
 use fixsight::warp::{ControlGrid, WarpGeometry};
 
 /// Frame width.
@@ -47,7 +53,7 @@ pub const WIDTH: usize = 320;
 pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
-const SLOTS: [(Elem, usize, usize, usize); 14] = [
+const SLOTS: [(Elem, usize, usize, usize); 15] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
     (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
     (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
@@ -62,13 +68,14 @@ const SLOTS: [(Elem, usize, usize, usize); 14] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
     (Elem::I32, WIDTH, HEIGHT, 2),   // 12 pixel map, raw (x, y) per pixel
     (Elem::U8, GRID_BLOB_LEN, 1, 1), // 13 grid blob
+    (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
 ];
 
 /// One measured stage.
 pub struct Stage {
     /// Report name.
     pub name: &'static str,
-    /// Kernel id (dispatched through the generated table).
+    /// Kernel id (dispatched through the table in `src/kernels/mod.rs`).
     pub kernel: &'static str,
     /// Parameters, in the golden-manifest form.
     pub params: &'static [(&'static str, Param)],
@@ -98,36 +105,63 @@ const fn sep(
 /// Params of the preset stages (`filter.binomial5`, `filter.sobel_x`, ...):
 /// the border rule; taps and output type are the preset's.
 const CLAMP: [(&str, Param); 1] = [("border", Param::Str("clamp"))];
-/// The edge chain's smoothed Sobel (`smoothed_sobel` in
-/// `host-verify/src/chain.rs`, custom taps, so `filter.separable`): the 7-tap Gaussian `[1 14 62 102 62 14 1]/256`
-/// convolved with Sobel's taps, one rounding, gradients 4x Sobel.
+/// The fused gradient taps of `fixsight::pipeline::DEMO` (the edge chain's
+/// smoothed Sobel, `smoothed_sobel` in `host-verify/src/edge_chain.rs`,
+/// custom taps, so `filter.separable`: the 7-tap Gaussian
+/// `[1 14 62 102 62 14 1]/256` convolved with Sobel's taps, one rounding,
+/// gradients 4x Sobel).
+const DEMO_TAPS: GradientTaps = DEMO.gradient_taps();
+const DEMO_LEN: usize = DEMO_TAPS.deriv().len();
+
+/// `i16` taps widened to the manifest's integers (zero past the end).
+const fn widen(t: &[i16]) -> [i64; 9] {
+    let mut out = [0i64; 9];
+    let mut i = 0;
+    while i < t.len() {
+        out[i] = t[i] as i64;
+        i += 1;
+    }
+    out
+}
+
+const DEMO_DERIV: [i64; 9] = widen(DEMO_TAPS.deriv());
+const DEMO_CROSS: [i64; 9] = widen(DEMO_TAPS.cross());
 const CHAIN_SOBEL_X: [(&str, Param); 6] = sep(
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
 const CHAIN_SOBEL_Y: [(&str, Param); 6] = sep(
-    &[1, 16, 91, 240, 328, 240, 91, 16, 1],
-    7,
-    &[-1, -14, -61, -88, 0, 88, 61, 14, 1],
-    7,
+    DEMO_CROSS.split_at(DEMO_LEN).0,
+    DEMO_TAPS.h_shift as i64,
+    DEMO_DERIV.split_at(DEMO_LEN).0,
+    DEMO_TAPS.v_shift as i64,
     "i16",
 );
-/// The edge chain's demo threshold rule (`DEMO` in `host-verify/src/chain.rs`:
-/// 512 bins of width 2, the kernel crate's demo share and ratio).
+/// The threshold rule of `fixsight::pipeline::DEMO`: bins covering its
+/// largest magnitude, its bin width, share and ratio.
+const DEMO_RULE: (i64, i64, i64) = match DEMO.thresholds {
+    ThresholdRule::Auto {
+        shift,
+        high_permille,
+        low_ratio_u0f16,
+        ..
+    } => (shift as i64, high_permille as i64, low_ratio_u0f16 as i64),
+    ThresholdRule::Fixed { .. } => (0, 1, 1),
+};
 const THRESHOLDS: [(&str, Param); 4] = [
-    ("bins", Param::Int(512)),
-    ("shift", Param::Int(1)),
-    (
-        "high_permille",
-        Param::Int(fixsight::hysteresis::DEMO_HIGH_PERMILLE as i64),
-    ),
-    (
-        "low_ratio_u0f16",
-        Param::Int(fixsight::hysteresis::DEMO_LOW_FRACTION.to_bits() as i64),
-    ),
+    ("bins", Param::Int(DEMO.bins_needed() as i64)),
+    ("shift", Param::Int(DEMO_RULE.0)),
+    ("high_permille", Param::Int(DEMO_RULE.1)),
+    ("low_ratio_u0f16", Param::Int(DEMO_RULE.2)),
+];
+/// The streamed edge stage on one frame with `fixsight::pipeline::DEMO`.
+const PIPELINE: [(&str, Param); 3] = [
+    ("frames", Param::Int(1)),
+    ("height", Param::Int(HEIGHT as i64)),
+    ("last_rows", Param::Int(HEIGHT as i64)),
 ];
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
@@ -159,7 +193,7 @@ const CONTROL_GRID: [(&str, Param); 2] = [
     ("strip_rows", Param::Int(16)),
 ];
 
-/// The stages in run order (`kernel:` lines are read by `build.rs`).
+/// The stages in run order.
 pub static STAGES: &[Stage] = &[
     Stage {
         name: "binomial5",
@@ -288,6 +322,13 @@ pub static STAGES: &[Stage] = &[
         outputs: &[11],
     },
     Stage {
+        name: "pipeline_edge_stream",
+        kernel: "pipeline.edge_stream",
+        params: &PIPELINE,
+        inputs: &[0],
+        outputs: &[14],
+    },
+    Stage {
         name: "warp_pixel_map",
         kernel: "warp.pixel_map",
         params: &PIXEL_MAP,
@@ -399,7 +440,7 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         }
     }
     for st in STAGES {
-        let Some(run) = crate::vectors::dispatch(st.kernel) else {
+        let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };
         let mut ins: [Img<'_>; 2] = Default::default();

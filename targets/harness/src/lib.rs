@@ -1,12 +1,13 @@
 //! Target-independent part of the fixsight conformance firmware.
 //!
 //! The firmware crates (`targets/cortex-m`, `targets/riscv32`) bring the
-//! core up and call [`run`]. This crate holds everything else:
+//! core up and call [`start`]; their fault handlers call [`fault`]. This
+//! crate holds everything else, the panic handler included:
 //!
 //! * the golden vectors, turned by `build.rs` from `golden/manifest.json`
-//!   into static data (element bytes, dimensions, parameters) and a table of
-//!   dispatch functions, one per kernel id (`<family>.<kernel>` is served by
-//!   `pub fn <kernel>` in `src/kernels/<family>.rs`);
+//!   into static data (element bytes, dimensions, parameters);
+//! * the table of dispatch functions, one per kernel id
+//!   ([`kernels::dispatch`], rows in `src/kernels/mod.rs`);
 //! * the QVGA benchmark frames ([`bench`]);
 //! * the measurement of every call: the instruction-count window markers
 //!   read by the QEMU plugin (`targets/qemu-plugin`), and stack painting for
@@ -26,7 +27,7 @@
 //!
 //! # Exit status (through semihosting SYS_EXIT_EXTENDED)
 //! 0: every vector bit-exact; 1: at least one vector failed or could not
-//! run; 3: panic.
+//! run; 3: panic; 4: fault.
 #![no_std]
 
 pub mod bench;
@@ -167,6 +168,33 @@ impl Write for Console {
 /// golden vector.
 const ARENA_WORDS: usize = 640 * 1024;
 static mut ARENA: [u32; ARENA_WORDS] = [0; ARENA_WORDS];
+
+/// The target triple this harness was built for (set by `build.rs`).
+pub const ARCH: &str = env!("FIXSIGHT_TARGET");
+
+/// The firmware's whole program after start-up: runs every golden vector
+/// and bench stage ([`run`]) and ends the emulation with its status.
+pub fn start() -> ! {
+    let code = run(ARCH);
+    sys::exit(code)
+}
+
+/// Reports a fault (hard fault, trap) on the console and ends the
+/// emulation with status 4.
+pub fn fault(what: fmt::Arguments<'_>) -> ! {
+    let mut con = Console::open();
+    let _ = writeln!(con, "{what}");
+    sys::exit(4)
+}
+
+/// Any panic: report it on the console, end the emulation with status 3.
+#[cfg(target_os = "none")]
+#[panic_handler]
+fn panic(info: &core::panic::PanicInfo) -> ! {
+    let mut con = Console::open();
+    let _ = writeln!(con, "panic {info}");
+    sys::exit(3)
+}
 
 /// Runs every golden vector and every bench frame, prints the report and
 /// returns the exit status (0 = all vectors bit-exact).

@@ -42,9 +42,10 @@ pub struct ImageSpec {
 pub struct Vector {
     /// Unique id.
     pub id: &'static str,
-    /// `<family>.<kernel>`.
+    /// Kernel id.
     pub kernel: &'static str,
-    /// Dispatch function, `None` if no `src/kernels/<family>.rs` serves it.
+    /// Its dispatch function from the table in `src/kernels/mod.rs`
+    /// (`None`: the table has no such id, the vector is UNSUPPORTED).
     pub run: Option<RunFn>,
     /// Parameters, nested objects flattened to dotted keys.
     pub params: &'static [(&'static str, Param)],
@@ -52,6 +53,38 @@ pub struct Vector {
     pub inputs: &'static [ImageSpec],
     /// Expected outputs.
     pub expected: &'static [ImageSpec],
+}
+
+/// Whether this image dispatches `kernel` to its own function (always,
+/// unless it is a code-size image for other kernel ids; see [`ONLY`]).
+pub const fn served(kernel: &str) -> bool {
+    let Some(list) = ONLY else {
+        return true;
+    };
+    let mut i = 0;
+    while i < list.len() {
+        if same(list[i], kernel) {
+            return true;
+        }
+        i += 1;
+    }
+    false
+}
+
+/// `a == b`, usable in constant evaluation.
+pub const fn same(a: &str, b: &str) -> bool {
+    let (a, b) = (a.as_bytes(), b.as_bytes());
+    if a.len() != b.len() {
+        return false;
+    }
+    let mut i = 0;
+    while i < a.len() {
+        if a[i] != b[i] {
+            return false;
+        }
+        i += 1;
+    }
+    true
 }
 
 include!(concat!(env!("OUT_DIR"), "/vectors.rs"));

@@ -7,19 +7,15 @@
 
 use super::hysteresis::thresholds_of;
 use super::{input, int, output, Arena, Fail, Img, Params};
-use fixsight::filter::{self, Border, SeparableFilter, Taps};
+use fixsight::filter::SeparableFilter;
 use fixsight::{gradient, hysteresis, nms, thinning, ImageView, ImageViewMut};
 
-/// The chain's smoothed Sobel (`smoothed_sobel` in `host-verify/src/chain.rs`):
-/// the 7-tap Gaussian `[1 14 62 102 62 14 1]/256` convolved with Sobel's
-/// taps, horizontal `[-1 -14 -61 -88 0 88 61 14 1]` and vertical
-/// `[1 16 91 240 328 240 91 16 1]`, each shift 7, clamped border;
-/// swapped for the vertical derivative.
+/// The chain's smoothed Sobel (`smoothed_sobel` in
+/// `host-verify/src/edge_chain.rs`): the gradient filters of
+/// `fixsight::pipeline::DEMO`, x or (`vertical`) y.
 fn smoothed_sobel(vertical: bool) -> Result<SeparableFilter, Fail> {
-    let d = Taps::new(&[-1, -14, -61, -88, 0, 88, 61, 14, 1], 7)?;
-    let s = Taps::new(&[1, 16, 91, 240, 328, 240, 91, 16, 1], 7)?;
-    let (h, v) = if vertical { (s, d) } else { (d, s) };
-    Ok(filter::separable(h, v, Border::Clamp)?)
+    let (fx, fy) = fixsight::pipeline::DEMO.gradient_filters()?;
+    Ok(if vertical { fy } else { fx })
 }
 
 /// `chain.edges`: smoothed Sobel x and y, `magnitude_l2_round`,

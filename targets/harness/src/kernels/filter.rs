@@ -66,96 +66,55 @@ pub fn separable(
     }
 }
 
-/// A preset with `u8` output on `src`, border from the params.
-fn smooth(
-    make: fn(Border) -> SeparableFilter,
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let f = make(border(p)?);
-    apply(&f, input(ins, 0)?, output(outs, 0)?.u8_mut()?, arena)
+/// A dispatcher `$name` for the preset `filter::$name`: border from the
+/// params, input `src`, output `dst` through the view accessor `$out`.
+macro_rules! preset {
+    ($(#[$doc:meta])* $name:ident, $out:ident) => {
+        $(#[$doc])*
+        pub fn $name(
+            p: &Params,
+            ins: &[Img<'_>],
+            outs: &mut [Img<'_>],
+            arena: &mut Arena<'_>,
+        ) -> Result<(), Fail> {
+            let f = filter::$name(border(p)?);
+            apply(&f, input(ins, 0)?, output(outs, 0)?.$out()?, arena)
+        }
+    };
 }
 
-/// A preset with `i16` output on `src`, border from the params.
-fn derivative(
-    make: fn(Border) -> SeparableFilter,
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let f = make(border(p)?);
-    apply(&f, input(ins, 0)?, output(outs, 0)?.i16_mut()?, arena)
-}
-
-/// `filter.binomial3`: `[1 2 1]/4` both ways, u8 output.
-pub fn binomial3(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    smooth(filter::binomial3, p, ins, outs, arena)
-}
-
-/// `filter.binomial5`: `[1 4 6 4 1]/16` both ways, u8 output.
-pub fn binomial5(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    smooth(filter::binomial5, p, ins, outs, arena)
-}
-
-/// `filter.binomial7`: `[1 6 15 20 15 6 1]/64` both ways, u8 output.
-pub fn binomial7(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    smooth(filter::binomial7, p, ins, outs, arena)
-}
-
-/// `filter.sobel_x`: i16 output.
-pub fn sobel_x(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    derivative(filter::sobel_x, p, ins, outs, arena)
-}
-
-/// `filter.sobel_y`: i16 output.
-pub fn sobel_y(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    derivative(filter::sobel_y, p, ins, outs, arena)
-}
-
-/// `filter.scharr_x`: i16 output.
-pub fn scharr_x(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    derivative(filter::scharr_x, p, ins, outs, arena)
-}
-
-/// `filter.scharr_y`: i16 output.
-pub fn scharr_y(
-    p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    derivative(filter::scharr_y, p, ins, outs, arena)
-}
+preset!(
+    /// `filter.binomial3`: `[1 2 1]/4` both ways, u8 output.
+    binomial3,
+    u8_mut
+);
+preset!(
+    /// `filter.binomial5`: `[1 4 6 4 1]/16` both ways, u8 output.
+    binomial5,
+    u8_mut
+);
+preset!(
+    /// `filter.binomial7`: `[1 6 15 20 15 6 1]/64` both ways, u8 output.
+    binomial7,
+    u8_mut
+);
+preset!(
+    /// `filter.sobel_x`: i16 output.
+    sobel_x,
+    i16_mut
+);
+preset!(
+    /// `filter.sobel_y`: i16 output.
+    sobel_y,
+    i16_mut
+);
+preset!(
+    /// `filter.scharr_x`: i16 output.
+    scharr_x,
+    i16_mut
+);
+preset!(
+    /// `filter.scharr_y`: i16 output.
+    scharr_y,
+    i16_mut
+);

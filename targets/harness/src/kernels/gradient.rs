@@ -1,56 +1,45 @@
-//! `gradient.*` kernel ids: inputs `gx`, `gy` (i16), no params.
-//!
-//! Each dispatcher is written out as `pub fn <name>(` on purpose: the
-//! harness build script finds the served kernel ids by that text.
+//! `gradient.*` kernel ids: inputs `gx`, `gy` (i16), no params, one output.
 
 use super::{input, output, Arena, Fail, Img, Params};
 use fixsight::gradient;
 
-/// `gradient.magnitude_l1`: output `mag` (u16).
-pub fn magnitude_l1(
-    _p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    _arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
-    gradient::magnitude_l1(&gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
-    Ok(())
+/// A dispatcher `$name` running the frame kernel `gradient::$name` on
+/// inputs 0 and 1, writing output 0 through the view accessor `$out`.
+macro_rules! pair_kernel {
+    ($(#[$doc:meta])* $name:ident, $out:ident) => {
+        $(#[$doc])*
+        pub fn $name(
+            _p: &Params,
+            ins: &[Img<'_>],
+            outs: &mut [Img<'_>],
+            _arena: &mut Arena<'_>,
+        ) -> Result<(), Fail> {
+            let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
+            gradient::$name(&gx, &gy, &mut output(outs, 0)?.$out()?)?;
+            Ok(())
+        }
+    };
 }
 
-/// `gradient.magnitude_l2_approx`: output `mag` (u16), alpha-max-plus-beta-min.
-pub fn magnitude_l2_approx(
-    _p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    _arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
-    gradient::magnitude_l2_approx(&gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
-    Ok(())
-}
-
-/// `gradient.magnitude_l2_round`: output `mag` (u16), the nearest integer
-/// to the Euclidean magnitude.
-pub fn magnitude_l2_round(
-    _p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    _arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
-    gradient::magnitude_l2_round(&gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
-    Ok(())
-}
-
-/// `gradient.direction`: output `dir` (u8), sectors 0..=3.
-pub fn direction(
-    _p: &Params,
-    ins: &[Img<'_>],
-    outs: &mut [Img<'_>],
-    _arena: &mut Arena<'_>,
-) -> Result<(), Fail> {
-    let (gx, gy) = (input(ins, 0)?.i16()?, input(ins, 1)?.i16()?);
-    gradient::direction(&gx, &gy, &mut output(outs, 0)?.u8_mut()?)?;
-    Ok(())
-}
+pair_kernel!(
+    /// `gradient.magnitude_l1`: output `mag` (u16).
+    magnitude_l1,
+    u16_mut
+);
+pair_kernel!(
+    /// `gradient.magnitude_l2_approx`: output `mag` (u16),
+    /// alpha-max-plus-beta-min.
+    magnitude_l2_approx,
+    u16_mut
+);
+pair_kernel!(
+    /// `gradient.magnitude_l2_round`: output `mag` (u16), the nearest integer
+    /// to the Euclidean magnitude.
+    magnitude_l2_round,
+    u16_mut
+);
+pair_kernel!(
+    /// `gradient.direction`: output `dir` (u8), sectors 0..=3.
+    direction,
+    u8_mut
+);

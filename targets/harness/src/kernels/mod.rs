@@ -1,22 +1,86 @@
 //! Dispatch from golden-vector kernel ids to the fixsight API.
 //!
-//! A vector whose `kernel` is `<family>.<name>` runs `pub fn <name>` in
-//! `src/kernels/<family>.rs` (`build.rs` finds these functions by name; a
-//! kernel id without one is reported as UNSUPPORTED and fails the run).
+//! The one table of kernel ids and dispatch functions is [`kernel_table!`]
+//! below: `"<family>.<name>" => <family>::<name>`, the function in
+//! `src/kernels/<family>.rs` with the [`RunFn`] signature. The compiler
+//! checks every entry; a vector whose kernel id the table lacks is
+//! reported as UNSUPPORTED and fails the run (and the host test
+//! `tests/names.rs` checks the table against the kernel registry).
 //! Adding a family: create `src/kernels/<family>.rs`, add `pub mod
-//! <family>;` below, write one function per kernel with the [`RunFn`]
-//! signature, and (optionally) a QVGA entry in `src/bench.rs`.
+//! <family>;` and its rows below, and (optionally) a QVGA entry in
+//! `src/bench.rs`.
 
 pub mod chain;
 pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
 pub mod nms;
+pub mod pipeline;
 pub mod thinning;
 pub mod warp;
 
-use crate::vectors::{Elem, ImageSpec};
+use crate::vectors::{same, served, Elem, ImageSpec, ONLY};
 use core::fmt;
+
+/// Defines [`KERNEL_IDS`], [`lookup`] and [`dispatch`] from rows
+/// `"id" => function,`.
+macro_rules! kernel_table {
+    ($($id:literal => $run:path,)*) => {
+        /// Every kernel id the firmware serves, in table order.
+        pub const KERNEL_IDS: &[&str] = &[$($id),*];
+
+        /// The dispatch function of `kernel`, evaluated at compile time for
+        /// the golden vectors (`build.rs` writes `lookup("<id>")` into each
+        /// vector): `None` when the table has no such id. In a code-size
+        /// image (`ONLY`, see `build.rs`) every id outside the image's list
+        /// gets [`noop`], so the other kernels are not linked.
+        pub const fn lookup(kernel: &str) -> Option<RunFn> {
+            $(
+                if same($id, kernel) {
+                    return Some(if served($id) { $run as RunFn } else { noop });
+                }
+            )*
+            if ONLY.is_some() {
+                Some(noop)
+            } else {
+                None
+            }
+        }
+
+        /// [`lookup`] at run time, for the bench stages. The rows of ids a
+        /// code-size image does not serve drop out at compile time.
+        pub fn dispatch(kernel: &str) -> Option<RunFn> {
+            match kernel {
+                $($id if const { served($id) } => Some($run as RunFn),)*
+                _ if ONLY.is_some() => Some(noop),
+                _ => None,
+            }
+        }
+    };
+}
+
+kernel_table! {
+    "filter.binomial3" => filter::binomial3,
+    "filter.binomial5" => filter::binomial5,
+    "filter.binomial7" => filter::binomial7,
+    "filter.sobel_x" => filter::sobel_x,
+    "filter.sobel_y" => filter::sobel_y,
+    "filter.scharr_x" => filter::scharr_x,
+    "filter.scharr_y" => filter::scharr_y,
+    "filter.separable" => filter::separable,
+    "gradient.magnitude_l1" => gradient::magnitude_l1,
+    "gradient.magnitude_l2_approx" => gradient::magnitude_l2_approx,
+    "gradient.magnitude_l2_round" => gradient::magnitude_l2_round,
+    "gradient.direction" => gradient::direction,
+    "nms.suppress" => nms::suppress,
+    "hysteresis.thresholds" => hysteresis::thresholds,
+    "hysteresis.classify" => hysteresis::classify,
+    "hysteresis.link" => hysteresis::link,
+    "thinning.thin" => thinning::thin,
+    "chain.edges" => chain::edges,
+    "warp.pixel_map" => warp::pixel_map,
+    "warp.control_grid" => warp::control_grid,
+}
 
 /// Most input or output images one vector may have.
 pub const MAX_IMAGES: usize = 6;

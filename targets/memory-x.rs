@@ -1,5 +1,6 @@
-//! Puts `memory.x` where riscv-rt's `link.x` looks for it, and passes
-//! the target triple to the program.
+//! Build script shared by the firmware crates (`cortex-m/`, `riscv32/`):
+//! puts the crate's `memory.x` where the start-up crate's `link.x` looks
+//! for it.
 use std::path::PathBuf;
 
 fn main() {
@@ -7,8 +8,4 @@ fn main() {
     std::fs::copy("memory.x", out.join("memory.x")).unwrap();
     println!("cargo:rustc-link-search={}", out.display());
     println!("cargo:rerun-if-changed=memory.x");
-    println!(
-        "cargo:rustc-env=FIXSIGHT_TARGET={}",
-        std::env::var("TARGET").unwrap()
-    );
 }
