@@ -320,7 +320,13 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
     let path = dir.join(MANIFEST);
     let text = files::read_text(&path)?;
-    let m: Manifest = serde_json::from_str(&text).map_err(|source| GoldenError::Json {
+    parse_manifest(&text, &path)
+}
+
+/// Parses and validates a manifest's text; `path` names it in errors.
+pub fn parse_manifest(text: &str, path: &Path) -> Result<Manifest, GoldenError> {
+    let path = path.to_path_buf();
+    let m: Manifest = serde_json::from_str(text).map_err(|source| GoldenError::Json {
         path: path.clone(),
         source,
     })?;
@@ -518,7 +524,11 @@ pub fn compare_outputs(expected: &[Blob], got: &[Blob]) -> Result<(), String> {
 /// problems are errors; per-vector problems are listed in the summary's
 /// `failures`.
 pub fn check(dir: &Path, run: RunVector) -> Result<GoldenSummary, GoldenError> {
-    let m = read_manifest(dir)?;
+    Ok(check_manifest(dir, &read_manifest(dir)?, run))
+}
+
+/// Checks every vector of a parsed manifest against the files of `dir`.
+pub fn check_manifest(dir: &Path, m: &Manifest, run: RunVector) -> GoldenSummary {
     let mut s = GoldenSummary {
         vectors: m.vectors.len(),
         ..Default::default()
@@ -529,7 +539,7 @@ pub fn check(dir: &Path, run: RunVector) -> Result<GoldenSummary, GoldenError> {
             Err(e) => s.failures.push((v.id.clone(), e)),
         }
     }
-    Ok(s)
+    s
 }
 
 /// Refuses to go on when `dir` holds a manifest and `overwrite` is not

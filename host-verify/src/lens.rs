@@ -592,9 +592,28 @@ impl LensSpec {
         let mode = kv.get("view").map(|(l, v)| (*l, v.clone()));
         let (view, fitted) = match mode.as_ref().map(|(l, v)| (*l, v.as_str())) {
             None | Some((_, "fit")) => {
+                let line = mode.as_ref().map_or(0, |m| m.0);
                 let v = camera
                     .fit_view(output.0, output.1, sensor.0, sensor.1)
-                    .map_err(|e| err(mode.as_ref().map_or(0, |m| m.0), "view", e.to_string()))?;
+                    .map_err(|e| err(line, "view", e.to_string()))?;
+                // The fitted view obeys the range of a manual one: a focal
+                // length past it means a view of a few pixels of the sensor.
+                if !(v.fx <= 1e5 && v.fy <= 1e5) {
+                    return Err(err(
+                        line,
+                        "view",
+                        format!(
+                            "the fitted view needs f' = {} px, above the 100000 px a view may \
+                             have: the principal point ({}, {}) leaves almost no sensor on one \
+                             side for a {}x{} output; check cx and cy, or give a manual view",
+                            readable(v.fx.max(v.fy)),
+                            readable(intrinsics.cx),
+                            readable(intrinsics.cy),
+                            output.0,
+                            output.1
+                        ),
+                    ));
+                }
                 (v, true)
             }
             Some((_, "manual")) => {
@@ -780,6 +799,11 @@ mod tests {
                 .starts_with("lens file line 1: `\\u{feff}format`: unknown key (the file starts with a byte-order mark"),
             "{e}"
         );
+        // Found by the campaign: a principal point at the sensor edge made
+        // the fitted view's focal length explode past the manual limit.
+        let e = bad("cx = 79.5", "cx = 0.09");
+        assert_eq!(e.key, "view");
+        assert!(e.problem.contains("above the 100000 px"), "{e}");
         let e = bad("sensor_width = 160", "sensor_width = 0");
         assert_eq!((e.line, e.key.as_str()), (3, "sensor_width"));
         let e = bad("model = brown", "model = ultra");

@@ -21,12 +21,14 @@
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
+//! | [`campaign`] | the seeded hostile-input campaign over every parser and kernel family (smoke run in `cargo test`, long run `--example campaign`) |
 //! | [`files`] | bounded reads of regular files and safe output sets, used by every command |
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 
 pub mod border;
+pub mod campaign;
 pub mod chain;
 pub mod cmd;
 pub mod contract;
