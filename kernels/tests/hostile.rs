@@ -304,3 +304,35 @@ fn thinning_cap_bites_and_reports() {
         Err(Error::BadParameter { .. })
     ));
 }
+
+/// Messages: a grid blob whose header holds a bad value (with a valid CRC)
+/// is rejected with the name of that header field.
+#[test]
+fn blob_errors_name_the_header_field() {
+    use fixsight::warp::{crc32, ControlGrid, WarpGeometry};
+    let g = WarpGeometry::new(4, 4, 4, 4, 2).unwrap();
+    let mut blob = [0u8; 64];
+    ControlGrid::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)
+        .unwrap()
+        .write_blob(&mut blob)
+        .unwrap();
+    for (offset, value, field) in [
+        (8usize, 0u8, "out_width"),
+        (12, 0, "src_width"),
+        (16, 9, "grid_log2"),
+        (17, 0, "frac_bits"),
+    ] {
+        let mut b = blob;
+        b[offset] = value;
+        b[offset + 1] = if offset < 16 { 0 } else { b[offset + 1] };
+        let crc = crc32(&[&b[..28], &b[32..]]);
+        b[28..32].copy_from_slice(&crc.to_le_bytes());
+        match ControlGrid::from_blob(&b) {
+            Err(e @ Error::BlobField { field: f, .. }) => {
+                assert_eq!(f, field);
+                assert!(e.to_string().contains(field));
+            }
+            other => panic!("{field}: {other:?}"),
+        }
+    }
+}
