@@ -58,7 +58,7 @@ fn whole(img: &[u8], w: usize, h: usize, t: &Thresholds) -> usize {
     let sv = ImageView::new(&sup, w, h, w).unwrap();
     hysteresis::classify(&sv, t, &mut ImageViewMut::new(&mut codes, w, h, w).unwrap()).unwrap();
     let mut map = ImageViewMut::new(&mut codes, w, h, w).unwrap();
-    hysteresis::hysteresis(&mut map, &mut vec![0u32; 1024]).unwrap();
+    hysteresis::link(&mut map, &mut vec![0u32; 1024]).unwrap();
     thinning::thin_at_most(&mut map, &mut vec![0u8; 3 * w], 8).unwrap();
     codes.iter().filter(|&&v| v != 0).count()
 }

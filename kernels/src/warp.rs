@@ -1481,8 +1481,9 @@ mod tests {
         reseal(&mut b);
         assert!(matches!(
             ControlGrid::from_blob(&b),
-            Err(Error::BadParameter {
-                name: "grid_log2",
+            Err(Error::BlobField {
+                field: "grid_log2",
+                got: 7,
                 ..
             })
         ));
