@@ -36,6 +36,12 @@ pub enum KernelFamily {
     Chain,
     /// The streamed edge stage (`pipeline.rs`).
     Pipeline,
+    /// Marking selection (`marking.rs`).
+    Marking,
+    /// Tape-edge tracker and drift warning (`track.rs`).
+    Track,
+    /// Line voting (`lines.rs`).
+    Lines,
 }
 
 impl KernelFamily {
@@ -50,6 +56,9 @@ impl KernelFamily {
             KernelFamily::Warp => "warp",
             KernelFamily::Chain => "chain",
             KernelFamily::Pipeline => "pipeline",
+            KernelFamily::Marking => "marking",
+            KernelFamily::Track => "track",
+            KernelFamily::Lines => "lines",
         }
     }
 }

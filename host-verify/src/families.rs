@@ -25,6 +25,9 @@ pub const FAMILIES: &[Family] = &[
     crate::chain::FAMILY,
     crate::warp::FAMILY,
     crate::pipeline::FAMILY,
+    crate::marking::FAMILY,
+    crate::track::FAMILY,
+    crate::lines::FAMILY,
 ];
 
 /// Every kernel id of every family, in report order.

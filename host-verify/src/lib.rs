@@ -17,6 +17,7 @@
 //! | [`pipeline`] | the streamed edge stage (`pipeline.edge_stream`) against the whole-frame kernels and the `f64` Canny |
 //! | [`border`] | the border rule as a golden parameter, the border-extended pixel lookup |
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
+//! | [`sequence`] | the demo sequence (cart drifting along floor tape) and its per-frame truth |
 //! | [`lens`] | lens models in `f64`, the lens file format |
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
@@ -26,6 +27,9 @@
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`report`] | the verification report |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
+//! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
+//! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
+//! | [`lines`] | line voting: integer and `f64` Hough references, known-line cases, lens-correction grids |
 
 pub mod border;
 pub mod campaign;
@@ -41,12 +45,16 @@ pub mod golden;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lens;
+pub mod lines;
+pub mod marking;
 pub mod metrics;
 pub mod nms;
 pub mod opcount;
 pub mod pipeline;
 pub mod report;
 pub mod scene;
+pub mod sequence;
 pub mod targets;
 pub mod thinning;
+pub mod track;
 pub mod warp;

@@ -125,11 +125,13 @@ pub fn demo_camera(width: usize, height: usize) -> Camera {
 }
 
 /// Camera height above the floor, metres.
-const CAMERA_HEIGHT_M: f64 = 0.45;
+pub const CAMERA_HEIGHT_M: f64 = 0.45;
 /// Camera pitch below the horizon, degrees.
-const CAMERA_PITCH_DEG: f64 = 30.0;
+pub const CAMERA_PITCH_DEG: f64 = 30.0;
 /// Tape width, metres.
-const TAPE_WIDTH_M: f64 = 0.05;
+pub const TAPE_WIDTH_M: f64 = 0.05;
+/// Grey level of clean tape before lighting.
+pub const TAPE_ALBEDO: f64 = 228.0;
 
 /// The three built-in demo scenes at QVGA.
 pub fn demo_scenes() -> Vec<Scene> {
@@ -140,17 +142,97 @@ pub fn demo_scenes() -> Vec<Scene> {
 }
 
 /// Smooth step from 0 (at `e0`) to 1 (at `e1`).
-fn smoothstep(e0: f64, e1: f64, x: f64) -> f64 {
+pub fn smoothstep(e0: f64, e1: f64, x: f64) -> f64 {
+    // The two flat ends, exactly as the formula gives them (0 and 1),
+    // without its division.
+    if e0 < e1 && x <= e0 {
+        return 0.0;
+    }
+    if e0 < e1 && x >= e1 {
+        return 1.0;
+    }
     let t = ((x - e0) / (e1 - e0)).clamp(0.0, 1.0);
     t * t * (3.0 - 2.0 * t)
+}
+
+/// Direction of the ray through undistorted normalised camera coordinates
+/// `(x, y)` in the floor frame of the camera (X right, Y forward along the
+/// floor, Z up), for a camera pitched down by the angle whose sine and
+/// cosine are `sp`, `cp`. Not normalised: its camera-axis component is 1.
+pub fn floor_ray(x: f64, y: f64, sp: f64, cp: f64) -> (f64, f64, f64) {
+    (x, -y * sp + cp, -y * cp - sp)
+}
+
+/// Off-axis fall-off of the optics at undistorted normalised coordinates:
+/// a softened cos^4 law, `1/(1 + 0.3 r^2)^2`.
+pub fn vignette(x: f64, y: f64) -> f64 {
+    1.0 / (1.0 + 0.3 * (x * x + y * y)).powi(2)
+}
+
+/// The floor's procedural textures, generated from a seed: concrete
+/// brightness and the pattern of rubbed-off tape.
+pub struct FloorTexture {
+    concrete: Fbm<Perlin>,
+    grit: Perlin,
+    wear: Fbm<Perlin>,
+}
+
+impl FloorTexture {
+    /// The textures of seed `seed`.
+    pub fn new(seed: u64) -> Self {
+        Self {
+            concrete: Fbm::<Perlin>::new(seed as u32).set_octaves(4),
+            grit: Perlin::new(seed as u32 ^ 0x9e37),
+            wear: Fbm::<Perlin>::new(seed as u32 ^ 0x51ed).set_octaves(3),
+        }
+    }
+
+    /// Concrete grey level (before lighting) at floor point `(px, py)`, metres.
+    pub fn concrete(&self, px: f64, py: f64) -> f64 {
+        118.0
+            + 22.0 * self.concrete.get([px * 1.7, py * 1.7])
+            + 7.0 * self.grit.get([px * 40.0, py * 40.0])
+    }
+
+    /// How much of the tape is rubbed off at `(px, py)` (0 intact .. 1
+    /// worn) for a wear level `wear` (share of tape area rubbed off, 0..1).
+    pub fn worn(&self, px: f64, py: f64, wear: f64) -> f64 {
+        smoothstep(
+            1.0 - 2.0 * wear - 0.1,
+            1.0 - 2.0 * wear + 0.1,
+            0.5 + 0.5 * self.wear.get([px * 9.0, py * 9.0]),
+        )
+    }
+}
+
+/// Tape coverage (0..1) of a floor point at distance `dist` (metres,
+/// across the tape) from the centre line of a tape `width` metres wide:
+/// the edge is softened over +-4 mm.
+pub fn tape_cover(dist: f64, width: f64) -> f64 {
+    1.0 - smoothstep(width / 2.0 - 0.004, width / 2.0 + 0.004, dist)
+}
+
+/// Light falling on floor point `(px, py)` from a lamp above floor point
+/// `lamp`, at overall level `light`.
+pub fn lamp_light(light: f64, lamp: (f64, f64), px: f64, py: f64) -> f64 {
+    let (lx, ly) = lamp;
+    let r2 = (px - lx).powi(2) + (py - ly).powi(2);
+    light * (0.8 + 0.5 * (-r2 / (2.0 * 1.6 * 1.6)).exp())
+}
+
+/// One sensor reading of a pixel that receives `val` DN: shot noise
+/// (variance `0.08 val`) plus read noise, rounded and clamped to 8 bits.
+pub fn sensor_reading(mut val: f64, rng: &mut ChaCha8Rng, read: &Normal<f64>) -> u8 {
+    let shot =
+        Normal::new(0.0, (0.08 * val.max(0.0)).sqrt()).expect("shot sigma is finite and >= 0");
+    val += shot.sample(rng) + read.sample(rng);
+    val.round().clamp(0.0, 255.0) as u8
 }
 
 /// Renders a scene at the given size.
 pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
     let camera = demo_camera(width, height);
-    let concrete = Fbm::<Perlin>::new(spec.seed as u32).set_octaves(4);
-    let grit = Perlin::new(spec.seed as u32 ^ 0x9e37);
-    let wear_noise = Fbm::<Perlin>::new(spec.seed as u32 ^ 0x51ed).set_octaves(3);
+    let texture = FloorTexture::new(spec.seed);
     let (sp, cp) = CAMERA_PITCH_DEG.to_radians().sin_cos();
     let shade = |u: f64, v: f64| -> f64 {
         let (xd, yd) = camera.intrinsics.normalise(u, v);
@@ -158,11 +240,8 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
             Ok(p) => p,
             Err(_) => return 40.0,
         };
-        // Ray in world coordinates (camera x right, y down, z forward).
-        let d = (x, -y * sp + cp, -y * cp - sp);
-        // Off-axis fall-off of the optics: a softened cos^4 law,
-        // 1/(1 + 0.3 r^2)^2 in normalised coordinates.
-        let vignette = 1.0 / (1.0 + 0.3 * (x * x + y * y)).powi(2);
+        let d = floor_ray(x, y, sp, cp);
+        let vignette = vignette(x, y);
         if d.2 >= -1e-3 {
             // Racking wall above the horizon.
             let stripes = if (x * 6.0).rem_euclid(1.0) < 0.15 {
@@ -177,23 +256,15 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
         if py > 14.0 {
             return 60.0 * vignette * spec.light;
         }
-        let base = 118.0
-            + 22.0 * concrete.get([px * 1.7, py * 1.7])
-            + 7.0 * grit.get([px * 40.0, py * 40.0]);
+        let base = texture.concrete(px, py);
         let (a, b, c) = spec.tape;
         let centre = a + b * py + c * py * py;
         // Distance to the tape centre line, measured across the tape.
         let slope = b + 2.0 * c * py;
         let dist = (px - centre).abs() / (1.0 + slope * slope).sqrt();
-        let mut tape =
-            1.0 - smoothstep(TAPE_WIDTH_M / 2.0 - 0.004, TAPE_WIDTH_M / 2.0 + 0.004, dist);
+        let mut tape = tape_cover(dist, TAPE_WIDTH_M);
         if let Some(stop) = spec.stop_line_m {
-            let across = 1.0
-                - smoothstep(
-                    TAPE_WIDTH_M / 2.0 - 0.004,
-                    TAPE_WIDTH_M / 2.0 + 0.004,
-                    (py - stop).abs(),
-                );
+            let across = tape_cover((py - stop).abs(), TAPE_WIDTH_M);
             let dashed = if (px * 2.5).rem_euclid(1.0) < 0.6 {
                 1.0
             } else {
@@ -201,17 +272,10 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
             };
             tape = tape.max(across * dashed);
         }
-        let worn = smoothstep(
-            1.0 - 2.0 * spec.wear - 0.1,
-            1.0 - 2.0 * spec.wear + 0.1,
-            0.5 + 0.5 * wear_noise.get([px * 9.0, py * 9.0]),
-        );
+        let worn = texture.worn(px, py, spec.wear);
         let tape = tape * (1.0 - 0.8 * worn);
-        let albedo = base * (1.0 - tape) + 228.0 * tape;
-        let (lx, ly) = spec.lamp;
-        let r2 = (px - lx).powi(2) + (py - ly).powi(2);
-        let light = spec.light * (0.8 + 0.5 * (-r2 / (2.0 * 1.6 * 1.6)).exp());
-        albedo * light * vignette
+        let albedo = base * (1.0 - tape) + TAPE_ALBEDO * tape;
+        albedo * lamp_light(spec.light, spec.lamp, px, py) * vignette
     };
     let mut rng = ChaCha8Rng::seed_from_u64(spec.seed);
     let read = Normal::new(0.0, spec.noise_dn).expect("noise sigma is finite and >= 0");
@@ -234,11 +298,7 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
                 let sigma = 0.06 * width as f64;
                 val += strength * (-(du * du + dv * dv) / (2.0 * sigma * sigma)).exp();
             }
-            // Shot noise (variance proportional to signal) plus read noise.
-            let shot = Normal::new(0.0, (0.08 * val.max(0.0)).sqrt())
-                .expect("shot sigma is finite and >= 0");
-            val += shot.sample(&mut rng) + read.sample(&mut rng);
-            gray[v * width + u] = val.round().clamp(0.0, 255.0) as u8;
+            gray[v * width + u] = sensor_reading(val, &mut rng, &read);
         }
     }
     Scene {
@@ -270,5 +330,24 @@ mod tests {
             / a.gray.len() as f64;
         assert!(mean > 30.0 && mean < 220.0, "mean {mean}");
         assert!(var > 25.0, "variance {var}");
+    }
+
+    /// The demo scenes' pixels are fixed: golden vectors and the report
+    /// depend on them. SHA-256 of each QVGA scene's grey bytes.
+    #[test]
+    fn demo_scene_pixels_are_unchanged() {
+        use sha2::{Digest, Sha256};
+        let want = [
+            "eb052aefcb0f1c4ffe210d43a8eeaf2dfcaaf6605a744c5ad4780956232ce27f",
+            "f2b7a105c6ffbb98279be82c47862ef9d9b6ea871a3e741676db24c9b2b91efa",
+            "800547a477f5102e613037fe374c03b6a0f9cf71b4b5ac4a383e4608f69781bf",
+        ];
+        for (s, w) in demo_scenes().iter().zip(want) {
+            let d: String = Sha256::digest(&s.gray)
+                .iter()
+                .map(|b| format!("{b:02x}"))
+                .collect();
+            assert_eq!(d, w, "scene {}", s.name);
+        }
     }
 }

@@ -238,6 +238,26 @@ pub enum Error {
         /// Rows pushed.
         got: usize,
     },
+    // --- track (kernels/src/track.rs) ---
+    /// A tracker was given a frame number not greater than the last one.
+    FrameOrder {
+        /// Last frame number accepted.
+        last: u32,
+        /// Frame number given.
+        got: u32,
+    },
+    // --- lines (kernels/src/lines.rs) ---
+    /// A point to vote lies outside the voting frame.
+    PointOutside {
+        /// x in Q4 pixels from the top-left pixel centre.
+        x_q4: i32,
+        /// y in Q4 pixels from the top-left pixel centre.
+        y_q4: i32,
+        /// Frame width.
+        width: usize,
+        /// Frame height.
+        height: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -366,6 +386,19 @@ impl fmt::Display for Error {
                 f,
                 "frame ended after {got} rows but {expected} were declared; \
                  end it early on purpose with the short-frame call"
+            ),
+            Error::FrameOrder { last, got } => write!(
+                f,
+                "frame number {got} does not follow the last frame {last}; frame numbers must increase"
+            ),
+            Error::PointOutside {
+                x_q4,
+                y_q4,
+                width,
+                height,
+            } => write!(
+                f,
+                "point ({x_q4}, {y_q4}) (Q4 pixels) lies outside the {width}x{height} voting frame"
             ),
         }
     }

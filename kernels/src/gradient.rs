@@ -58,7 +58,7 @@
 //! assert_eq!(l2_approx(300, 400), 504);     // exact: 500
 //! ```
 
-use crate::arith::{abs_sat_i16, sat_u16};
+use crate::arith::{abs_sat_i16, round_shift, sat_u16};
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally_per, Op};
@@ -430,6 +430,153 @@ pub fn direction(
     out: &mut ImageViewMut<'_, u8>,
 ) -> Result<()> {
     map_pair(gx, gy, out, direction_row)
+}
+
+/// Binary-angle units of a half turn: gradient angles and line angles are
+/// `u16` with `65536` units = 180 degrees (one unit = 0.00274658 degrees).
+pub const ANGLE_UNITS_180: u32 = 1 << 16;
+
+/// `atan(2^-i)` for `i = 0..24` in units of `2^30` per 180 degrees
+/// (`2^28` = 45 degrees), each `round(atan(2^-i) / pi * 2^30)`. The
+/// rotation angles of the shift-and-add (CORDIC) iterations used by
+/// [`angle`] and by `lines::cos_sin`. Generated and checked against `f64`
+/// `atan` by `cordic_table()` in `host-verify/src/lines.rs`.
+pub const CORDIC_ATAN: [i32; 24] = [
+    268435456, 158466703, 83729454, 42502378, 21333666, 10677233, 5339919, 2670123, 1335082,
+    667543, 333772, 166886, 83443, 41722, 20861, 10430, 5215, 2608, 1304, 652, 326, 163, 81, 41,
+];
+
+/// Shift-and-add iterations of [`angle`].
+pub const ANGLE_ITERATIONS: usize = 15;
+
+/// Worst-case error of [`angle`] against the exact folded `atan2`, in
+/// micro-degrees, rounded up (derivation in [`angle`]): residual angle
+/// `atan(2^-14)` = 3497.06, final rounding half a unit = 1373.30, shift
+/// truncation and table rounding together below 10.
+pub const ANGLE_MAX_ERR_MICRODEG: u32 = 4881;
+
+/// Gradient angle as a binary angle: `atan2(gy, gx)` (x to the right, y
+/// down the rows) folded to `[0, 180)` degrees, in `u16` units of
+/// [`ANGLE_UNITS_180`] (`65536` = 180 degrees). `gx = gy = 0` gives 0.
+///
+/// # Integer model (what a port must reproduce)
+///
+/// 1. `(x, y) = (gx, gy)` as `i32`; when `y < 0`, or `y = 0` and `x < 0`,
+///    negate both (fold to the upper half plane). `z = 0`.
+/// 2. When `x < 0`: `(x, y) = (y, -x)` and `z = 2^29` (90 degrees); now
+///    `x >= 0, y >= 0` and the remaining angle is in `[0, 90]` degrees.
+/// 3. Normalise: `m = max(x, y)` (at most 32768), `k = clz32(m) - 3`,
+///    `x <<= k`, `y <<= k`, so `2^28 <= m < 2^29`.
+/// 4. For `i` in `0..15`: with `dx = y >> i`, `dy = x >> i` (arithmetic
+///    shifts of the values before this step): when `y > 0`, `x += dx`,
+///    `y -= dy`, `z += CORDIC_ATAN[i]`; otherwise `x -= dx`, `y += dy`,
+///    `z -= CORDIC_ATAN[i]`. (`|x|, |y| < 1.65 * sqrt 2 * 2^29 < 2^31`.)
+/// 5. Result `round_shift(z, 14)` taken modulo `2^16` (so a result of 180
+///    degrees becomes 0, the same orientation).
+///
+/// Error bound: the iterations leave a residual angle of at most
+/// `atan(2^-14)` (Volder 1959, "The CORDIC trigonometric computing
+/// technique"; convergence range 99.9 degrees covers step 2's `[0, 90]`);
+/// truncating shifts on a vector of length at least `2^28` turn it by less
+/// than `15 * 2^-27` rad, the table's rounding adds at most `15 * 2^-31`
+/// of 180 degrees, and the final rounding half a unit: in total at most
+/// 0.004881 degrees ([`ANGLE_MAX_ERR_MICRODEG`]), measured against `f64`
+/// `atan2` in the host tests.
+///
+/// ```
+/// use fixsight::gradient::angle;
+/// assert_eq!(angle(10, 0), 0);          // gradient along +x
+/// assert_eq!(angle(0, 10), 32768);      // 90 degrees (down the rows)
+/// assert_eq!(angle(10, 10), 16384);     // 45 degrees
+/// assert_eq!(angle(-10, 10), 49152);    // 135 degrees
+/// assert_eq!(angle(-10, -10), 16384);   // folded: same orientation as 45
+/// assert_eq!(angle(0, 0), 0);
+/// ```
+#[inline]
+pub fn angle(gx: i16, gy: i16) -> u16 {
+    let (mut x, mut y) = (gx as i32, gy as i32);
+    if y < 0 || (y == 0 && x < 0) {
+        x = -x;
+        y = -y;
+    }
+    let mut z = 0i32;
+    if x < 0 {
+        let t = x;
+        x = y;
+        y = -t;
+        z = 1 << 29;
+    }
+    let m = x.max(y) as u32;
+    if m == 0 {
+        return 0;
+    }
+    let k = m.leading_zeros() - 3;
+    x <<= k;
+    y <<= k;
+    for (i, &a) in CORDIC_ATAN.iter().enumerate().take(ANGLE_ITERATIONS) {
+        let (dx, dy) = (y >> i, x >> i);
+        if y > 0 {
+            x += dx;
+            y -= dy;
+            z += a;
+        } else {
+            x -= dx;
+            y += dy;
+            z -= a;
+        }
+    }
+    round_shift(z, 14) as u16
+}
+
+/// Gradient angles of one row: `out[i] = angle(gx[i], gy[i])`.
+///
+/// Errors: `gy` or `out` shorter than `gx` -> [`Error::BufferTooShort`].
+///
+/// ```
+/// let mut out = [0u16; 3];
+/// fixsight::gradient::angle_row(&[1, 0, -3], &[0, 5, 3], &mut out)?;
+/// assert_eq!(out, [0, 32768, 49152]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn angle_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
+    let n = row_len(gx, gy, out.len())?;
+    for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
+        *o = angle(a, b);
+    }
+    tally_angles(n as u32);
+    Ok(())
+}
+
+/// Counts the work of `n` calls of [`angle`]: folding and quadrant tests,
+/// normalisation, then per iteration two shifts, two add/subs, the angle
+/// add, a table load, the sign test and the loop branch.
+pub(crate) fn tally_angles(n: u32) {
+    let it = ANGLE_ITERATIONS as u32;
+    tally(Op::Load, 2 * n);
+    tally(Op::Logic, 6 * n + it * n);
+    tally(Op::AddSub, 3 * n + 3 * it * n);
+    tally(Op::Shift, 4 * n + 2 * it * n);
+    tally(Op::Table, it * n);
+    tally(Op::Store, n);
+    tally(Op::Branch, 4 * n + 2 * it * n);
+}
+
+/// Gradient angles of a frame ([`angle`] per pixel).
+///
+/// ```
+/// use fixsight::{gradient, ImageView, ImageViewMut};
+/// let (gx, gy, mut a) = ([5i16, 0], [5i16, -4], [0u16; 2]);
+/// gradient::angles(&ImageView::new(&gx, 2, 1, 2)?, &ImageView::new(&gy, 2, 1, 2)?,
+///     &mut ImageViewMut::new(&mut a, 2, 1, 2)?)?;
+/// assert_eq!(a, [16384, 32768]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn angles(
+    gx: &ImageView<'_, i16>,
+    gy: &ImageView<'_, i16>,
+    out: &mut ImageViewMut<'_, u16>,
+) -> Result<()> {
+    map_pair(gx, gy, out, angle_row)
 }
 
 #[cfg(test)]

@@ -15,12 +15,15 @@
 //! | [`arith`] | the rounding and saturation primitives every kernel uses |
 //! | [`ops`] | operation counting (feature `count-ops`) |
 //! | [`filter`] | separable FIR filters, presets (binomial, Sobel, Scharr), row streaming |
-//! | [`gradient`] | gradient magnitude (L1, approximate L2) and 4-sector direction |
+//! | [`gradient`] | gradient magnitude (L1, approximate L2), 4-sector direction, binary-angle gradient angle |
 //! | [`nms`] | non-maximum suppression along the 4-sector direction, row streaming |
 //! | [`hysteresis`] | double threshold, automatic thresholds, bounded-memory hysteresis |
 //! | [`thinning`] | Zhang-Suen thinning to one-pixel edges |
+//! | [`lines`] | line voting: `(rho, theta)` accumulator, gated streaming votes, lens-corrected points, peaks, segments |
 //! | [`pipeline`] | the streamed edge stage: camera rows in, edge points out, in fixed memory |
+//! | [`marking`] | picks a floor tape's two edges among detected lines (not a safety function) |
 //! | [`warp`] | lens-undistortion warp: bilinear fixed-point sampling, pixel maps, control grids, grid blobs |
+//! | [`track`] | constant-velocity Kalman tracking of tape edges, drift warning (not a safety function) |
 //!
 //! ```
 //! use fixsight::{filter, ImageView, ImageViewMut};
@@ -49,10 +52,13 @@ pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
 pub mod image;
+pub mod lines;
+pub mod marking;
 pub mod nms;
 pub mod ops;
 pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 pub use error::{Error, Result};

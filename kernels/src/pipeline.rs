@@ -647,6 +647,25 @@ pub const fn map_words(width: usize, height: usize) -> usize {
     width.div_ceil(16) * height
 }
 
+/// The [`DEMO`] stage for 320 x 240 frames with `CAP` point gradients.
+///
+/// ```
+/// use fixsight::pipeline::DemoQvga;
+/// // 29 216 bytes without point gradients, 4 more per stored candidate.
+/// assert_eq!(DemoQvga::<0>::ram_bytes(), 29_216);
+/// assert_eq!(DemoQvga::<888>::ram_bytes(), 29_216 + 4 * 888);
+/// ```
+pub type DemoQvga<const CAP: usize> =
+    EdgeStream<320, { map_words(320, 240) }, { DEMO.bins_needed() }, CAP>;
+
+/// The [`DEMO`] stage for 640 x 480 frames with `CAP` point gradients.
+///
+/// ```
+/// assert_eq!(fixsight::pipeline::DemoVga::<0>::ram_bytes(), 92_896);
+/// ```
+pub type DemoVga<const CAP: usize> =
+    EdgeStream<640, { map_words(640, 480) }, { DEMO.bins_needed() }, CAP>;
+
 /// Rows of the camera ring (the longest fused tap set).
 pub const RING_ROWS: usize = MAX_TAPS;
 
@@ -2243,11 +2262,6 @@ mod tests {
 
     #[test]
     fn qvga_and_vga_sizes_from_the_types() {
-        std::println!(
-            "ram_bytes edge stage, no point gradients: qvga {} vga {}",
-            EdgeStream::<320, { map_words(320, 240) }, { DEMO.bins_needed() }, 0>::ram_bytes(),
-            EdgeStream::<640, { map_words(640, 480) }, { DEMO.bins_needed() }, 0>::ram_bytes()
-        );
         type Qvga = EdgeStream<320, { map_words(320, 240) }, { DEMO.bins_needed() }, 0>;
         type Vga = EdgeStream<640, { map_words(640, 480) }, { DEMO.bins_needed() }, 0>;
         // The buffers of the module docs' table, plus a few words of state.

@@ -4,6 +4,9 @@
 
 use fixed::types::U0F16;
 use fixsight::filter::{self, Border, FilterStream, SeparableFilter, Taps};
+use fixsight::marking::{
+    self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast,
+};
 use fixsight::{gradient, hysteresis, nms, thinning};
 use fixsight::{ImageView, ImageViewMut};
 use proptest::prelude::*;
@@ -300,6 +303,294 @@ mod pipeline_apis {
             if let Ok(mut v) = ImageViewMut::new(&mut map, w, h, w.max(1)) {
                 let _ = thinning::thin_at_most(&mut v, &mut vec![0u8; scratch], cap);
             }
+        }
+    }
+}
+
+mod track_apis {
+    use fixsight::track::{cos_q15, sin_q15, AxisNoise, Detection, TrackConfig, Tracker};
+    use proptest::prelude::*;
+
+    fn axis() -> impl Strategy<Value = AxisNoise> {
+        (
+            prop_oneof![Just(0u32), 1u32..100_000, Just(1 << 24), Just(u32::MAX)],
+            prop_oneof![Just(0u32), 0u32..70_000, Just(1 << 24), Just(u32::MAX)],
+            prop_oneof![Just(0u32), 0u32..1_000_000, Just(1 << 28), Just(u32::MAX)],
+        )
+            .prop_map(|(meas_var, accel_index_q16, init_vel_var_q16)| AxisNoise {
+                meas_var,
+                accel_index_q16,
+                init_vel_var_q16,
+            })
+    }
+
+    fn config() -> impl Strategy<Value = TrackConfig> {
+        (
+            axis(),
+            axis(),
+            prop_oneof![Just(0u32), 1u32..5000, Just(u32::MAX)],
+            any::<u8>(),
+            any::<u8>(),
+            0u32..200,
+            (prop_oneof![-3000i32..3000, any::<i32>()], -3000i32..3000),
+            prop_oneof![0u16..100, Just(1024u16), Just(u16::MAX)],
+            prop_oneof![0u16..20, Just(u16::MAX)],
+        )
+            .prop_map(
+                |(
+                    rho,
+                    theta,
+                    gate_q8,
+                    confirm_hits,
+                    max_missed,
+                    birth_weight,
+                    reference_q4,
+                    warn_horizon,
+                    warn_min_hits,
+                )| {
+                    TrackConfig {
+                        rho,
+                        theta,
+                        gate_q8,
+                        confirm_hits,
+                        max_missed,
+                        birth_weight,
+                        reference_q4,
+                        warn_horizon,
+                        warn_min_hits,
+                    }
+                },
+            )
+    }
+
+    fn detection() -> impl Strategy<Value = Detection> {
+        (
+            prop_oneof![
+                -3000i32..3000,
+                any::<i32>(),
+                Just((1 << 17) - 1),
+                Just(-(1 << 17) + 1)
+            ],
+            any::<u16>(),
+            any::<u32>(),
+        )
+            .prop_map(|(rho_q4, theta, weight)| Detection {
+                rho_q4,
+                theta,
+                weight,
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(128))]
+
+        #[test]
+        fn tracker_any_config_frames_and_detections(
+            cfg in config(),
+            calls in prop::collection::vec(
+                (prop_oneof![0u32..4, Just(1000u32), Just(u32::MAX)], prop::collection::vec(detection(), 0..7)),
+                0..40),
+            angles in prop::collection::vec(any::<i32>(), 0..8),
+        ) {
+            for a in angles {
+                let (s, c) = (sin_q15(a), cos_q15(a));
+                prop_assert!(s.abs() <= 32768 && c.abs() <= 32768);
+            }
+            // The same settings brought into range, so every call order is
+            // exercised on a tracker that exists.
+            let mut wide = cfg;
+            for ax in [&mut wide.rho, &mut wide.theta] {
+                ax.meas_var = ax.meas_var.clamp(1, 1 << 24);
+                ax.accel_index_q16 = ax.accel_index_q16.min(1 << 24);
+                ax.init_vel_var_q16 = ax.init_vel_var_q16.min(1 << 28);
+            }
+            wide.confirm_hits = wide.confirm_hits.max(1);
+            wide.gate_q8 = wide.gate_q8.max(1);
+            wide.reference_q4.0 = wide.reference_q4.0.clamp(-(1 << 17) + 1, (1 << 17) - 1);
+            wide.warn_horizon = wide.warn_horizon.min(1024);
+            prop_assert!(Tracker::<3, 5>::new(wide).is_ok());
+            let mut a = Tracker::<3, 5>::new(wide);
+            let mut b = Tracker::<1, 1>::new(cfg);
+            let _ = Tracker::<0, 1>::new(cfg);
+            let _ = Tracker::<1, 0>::new(cfg);
+            let mut frame = 0u32;
+            for (step, dets) in calls {
+                frame = frame.wrapping_add(step);
+                if let Ok(t) = a.as_mut() {
+                    let _ = t.update(frame, &dets);
+                }
+                if let Ok(t) = b.as_mut() {
+                    let _ = t.update(frame, &dets);
+                    let _ = t.tracks().count();
+                }
+            }
+        }
+    }
+}
+
+mod lines_no_panic {
+    //! Line voting and the gradient angle: arbitrary parameters, buffer
+    //! lengths, points, rows and call orders give `Ok` or a typed `Err`.
+
+    use fixsight::gradient;
+    use fixsight::lines::{
+        cos_sin, segments, Accumulator, EdgeRow, Line, Peak, PeakParams, Segment, SegmentParams,
+        VoteParams,
+    };
+    use fixsight::warp::{ControlGrid, WarpGeometry};
+    use fixsight::ImageView;
+    use proptest::prelude::*;
+
+    prop_compose! {
+        fn any_params()(w in prop_oneof![0usize..24, Just(4096usize), Just(4097usize), Just(usize::MAX)],
+                        h in prop_oneof![0usize..24, Just(usize::MAX)],
+                        start in prop_oneof![0u32..(1 << 17), any::<u32>()],
+                        s in 0u32..20, bins in prop_oneof![0usize..70, Just(usize::MAX)],
+                        r in 0u32..12, rho in prop_oneof![0usize..300, Just(usize::MAX)],
+                        q in 0u32..20, gate in prop::option::of(any::<u16>()),
+                        ws in prop::option::of(0u32..40)) -> VoteParams {
+            VoteParams { width: w, height: h, theta_start: start, theta_step_log2: s,
+                theta_bins: bins, rho_step_log2: r, rho_bins: rho, trig_frac_bits: q,
+                gate, weight_shift: ws }
+        }
+    }
+
+    prop_compose! {
+        fn usable_params()(w in 1usize..24, h in 1usize..24, start in 0u32..(1 << 17), s in 8u32..=14,
+                           r in 0u32..=8, half in 0usize..20, q in 8u32..=14,
+                           gate in prop::option::of(1u16..=32767), ws in prop::option::of(0u32..=15))
+                          (bins in 1usize..=(65536usize >> s).min(64), w in Just(w), h in Just(h),
+                           start in Just(start), s in Just(s), r in Just(r), half in Just(half),
+                           q in Just(q), gate in Just(gate), ws in Just(ws)) -> VoteParams {
+            VoteParams { width: w, height: h, theta_start: start, theta_step_log2: s,
+                theta_bins: bins, rho_step_log2: r, rho_bins: 2 * half + 1, trig_frac_bits: q,
+                gate, weight_shift: ws }
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        #[test]
+        fn accumulator_calls(p in prop_oneof![any_params(), usable_params()], ncells in prop_oneof![0usize..3000, Just(70_000usize)], ntrig in prop_oneof![0usize..80, Just(4096usize)],
+                             pts in prop::collection::vec((any::<i32>(), any::<i32>(), any::<Option<u16>>(), any::<u16>()), 0..8),
+                             rows in prop::collection::vec((0usize..30, 0usize..40, 0usize..40, 0usize..40, 0usize..40), 0..6),
+                             thr in any::<u16>(), rt in prop_oneof![0usize..4, Just(usize::MAX)],
+                             rb in prop_oneof![0usize..4, Just(usize::MAX)], k in 0usize..5) {
+            let _ = p.check();
+            let _ = p.bytes();
+            let mut cells = vec![0u16; ncells];
+            let mut trig = vec![[0i16; 2]; ntrig];
+            let Ok(mut acc) = Accumulator::new(p, &mut cells, &mut trig) else { return Ok(()); };
+            for (x, y, a, w) in pts {
+                let _ = acc.vote_point(x, y, a, w);
+            }
+            let g = WarpGeometry::new(8, 6, p.width.clamp(1, 32767), p.height.clamp(1, 32767), 3).unwrap();
+            let grid_pts = vec![5i32; 2 * 3 * 3];
+            let grid = ControlGrid::new(&grid_pts, g, 2).unwrap();
+            for (y, ne, nx, ny, nw) in rows {
+                let e = vec![1u8; ne];
+                let (gx, gy, wt) = (vec![3i16; nx], vec![-4i16; ny], vec![9u16; nw]);
+                let row = EdgeRow { edges: &e, gx: Some(&gx), gy: Some(&gy), weights: Some(&wt) };
+                let _ = acc.vote_row(y, &row);
+                let _ = acc.vote_row(acc.next_row(), &row);
+                let _ = acc.vote_row_corrected(y, &row, &grid);
+            }
+            let mut out = vec![Peak::default(); k];
+            let pp = PeakParams { threshold: thr, radius_theta: rt.min(1 << 20), radius_rho: rb.min(1 << 20) };
+            if let Ok(n) = acc.peaks(&pp, &mut out) {
+                prop_assert!(n <= k);
+            }
+            for t in [0usize, 1, usize::MAX] {
+                let _ = acc.refine(t.min(p.theta_bins - 1), 0);
+            }
+            let e = vec![1u8; p.width.min(24) * p.height.min(24)];
+            let (vw, vh) = (p.width.clamp(1, 24), p.height.clamp(1, 24));
+            let v = ImageView::new(&e, vw, vh, vw);
+            if let Ok(v) = v {
+                let _ = acc.vote_frame(&v, None, None);
+            }
+        }
+
+        #[test]
+        fn segments_and_angles(w in 1usize..30, h in 1usize..30, rho in any::<i32>(), theta in any::<u16>(),
+                               minl in any::<u16>(), gap in any::<u16>(), tol in any::<u8>(), cap in 0usize..4,
+                               gx in prop::collection::vec(any::<i16>(), 0..20),
+                               gy in prop::collection::vec(any::<i16>(), 0..20), no in 0usize..20,
+                               a in any::<u32>(), q in any::<u32>()) {
+            let m = vec![1u8; w * h];
+            let v = ImageView::new(&m, w, h, w).unwrap();
+            let mut out = vec![Segment::default(); cap];
+            let sp = SegmentParams { min_length: minl, max_gap: gap, tolerance: tol };
+            if let Ok(n) = segments(&v, &Line { rho, theta, votes: 0 }, &sp, &mut out) {
+                prop_assert!(n <= cap);
+            }
+            let mut o = vec![0u16; no];
+            let _ = gradient::angle_row(&gx, &gy, &mut o);
+            let _ = cos_sin(a, q);
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn marking_selection_on_any_lines_and_limits(
+        rows in (any::<i32>(), any::<i32>(), any::<i32>()),
+        tilt in any::<u16>(),
+        xs in (any::<i32>(), any::<i32>()),
+        seps in (any::<i32>(), any::<i32>(), any::<i32>(), any::<i32>()),
+        contrast in 0u8..3,
+        raw in prop::collection::vec((any::<i32>(), any::<u16>(), any::<u32>(), 0u8..3), 0..40),
+        near_demo in prop::collection::vec((-4000i32..4000, prop_oneof![0u16..12000, 53536u16..=65535], any::<u32>(), 0u8..3), 0..24),
+    ) {
+        let pol = |p: u8| [Polarity::Unknown, Polarity::Rising, Polarity::Falling][p as usize];
+        let lines: Vec<Candidate> = raw
+            .iter()
+            .chain(near_demo.iter())
+            .map(|&(rho_q4, theta, votes, p)| Candidate { rho_q4, theta, votes, polarity: pol(p) })
+            .collect();
+        let limits = MarkingLimits {
+            near_row_q4: rows.0,
+            far_row_q4: rows.1,
+            horizon_row_q4: rows.2,
+            max_tilt: tilt,
+            near_x_min_q4: xs.0,
+            near_x_max_q4: xs.1,
+            near_sep_min_q4: seps.0,
+            near_sep_nominal_q4: seps.1,
+            near_sep_max_q4: seps.2,
+            converge_tol_q4: seps.3,
+            contrast: [TapeContrast::Brighter, TapeContrast::Darker, TapeContrast::Either][contrast as usize],
+        };
+        if let Ok(c) = MarkingConfig::new(limits) {
+            let _ = marking::select(&lines, &c);
+        }
+        // The widest configuration the checks accept.
+        let wide = MarkingConfig::new(MarkingLimits {
+            near_row_q4: marking::MAX_ROW_Q4,
+            far_row_q4: marking::MAX_ROW_Q4 - 1,
+            horizon_row_q4: -marking::MAX_ROW_Q4,
+            max_tilt: marking::MAX_TILT,
+            near_x_min_q4: -marking::MAX_SPAN_Q4,
+            near_x_max_q4: marking::MAX_SPAN_Q4,
+            near_sep_min_q4: 1,
+            near_sep_nominal_q4: 1,
+            near_sep_max_q4: marking::MAX_SPAN_Q4,
+            converge_tol_q4: marking::MAX_SPAN_Q4,
+            contrast: TapeContrast::Either,
+        })
+        .unwrap();
+        let _ = marking::select(&lines, &wide);
+        let m = marking::select(&lines, &MarkingConfig::DEMO);
+        if let Marking::Found(t) = m {
+            prop_assert!(t.left < lines.len() && t.right < lines.len() && t.left != t.right);
+            prop_assert!(t.near_x_q4[0] < t.near_x_q4[1]);
+        }
+        for c in &lines {
+            let _ = marking::column_at_row(c.rho_q4, c.theta, rows.0);
+            let _ = marking::sin_cos_q15(c.theta);
         }
     }
 }

@@ -146,5 +146,6 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
         |x, y| reference_sector(x, y) as f64,
         3.0,
     ));
+    rows.push(crate::lines::angle_row());
     rows
 }

@@ -70,6 +70,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             "gradient.magnitude_l2_approx",
             "gradient.magnitude_l2_round",
             "gradient.direction",
+            "gradient.angles",
         ] {
             let expected =
                 run_vector(kernel, &json!({}), &inputs).expect("golden inputs are valid");
@@ -130,6 +131,13 @@ pub fn run_vector(
             h,
             1,
             &run_pair(&gx, &gy, w, h, gradient::direction)?,
+        ),
+        "gradient.angles" => Blob::from_u16(
+            "angle",
+            w,
+            h,
+            1,
+            &run_pair(&gx, &gy, w, h, gradient::angles)?,
         ),
         _ => return Err(format!("unknown gradient kernel `{kernel}`")),
     }])

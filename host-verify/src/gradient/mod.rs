@@ -19,8 +19,14 @@
 //! * `gradient.direction` — reference `atan2(gy, gx)` in degrees, folded to
 //!   `[0, 180)`, sector `round(theta / 45) mod 4`. **Bit-exact.**
 //!
+//! * `gradient.angles` — reference `atan2(gy, gx)` folded to `[0, 180)`
+//!   degrees; **tolerance** 0.004881 degrees (derived in the kernel docs);
+//!   the row is built by `crate::lines::angle_row`, beside the line voting
+//!   that gates with it.
+//!
 //! Golden kernel ids: `gradient.magnitude_l1`, `gradient.magnitude_l2_approx`,
-//! `gradient.magnitude_l2_round` (outputs `mag`, u16), `gradient.direction` (output `dir`, u8); inputs
+//! `gradient.magnitude_l2_round` (outputs `mag`, u16), `gradient.direction` (output `dir`, u8),
+//! `gradient.angles` (output `angle`, u16, 65536 = 180 degrees); inputs
 //! `gx`, `gy` (i16); params `{}`.
 
 pub mod check;
@@ -40,6 +46,7 @@ pub const FAMILY: Family = Family {
         "gradient.magnitude_l2_approx",
         "gradient.magnitude_l2_round",
         "gradient.direction",
+        "gradient.angles",
     ],
     composed_on_host: false,
     check: check::check,

@@ -49,8 +49,8 @@ use crate::opcount::measure;
 use crate::scene::Scene;
 use fixsight::hysteresis::{Thresholds, U0F16};
 use fixsight::pipeline::{
-    map_words, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator, Smoothing, Thinning,
-    ThresholdRule, DEMO,
+    map_words, DemoQvga, DemoVga, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator,
+    Smoothing, Thinning, ThresholdRule, DEMO,
 };
 use fixsight::{gradient, hysteresis, thinning, ImageView, ImageViewMut};
 use serde::{Deserialize, Serialize};
@@ -82,9 +82,9 @@ pub const HOST_CAP: usize = 65536;
 pub type HostStream = EdgeStream<HOST_W, { map_words(HOST_W, HOST_H) }, HOST_BINS, HOST_CAP>;
 
 /// The demo stream at 320 x 240 without point gradients.
-pub type QvgaPoints = EdgeStream<320, { map_words(320, 240) }, { DEMO.bins_needed() }, 0>;
+pub type QvgaPoints = DemoQvga<0>;
 /// The demo stream at 640 x 480 without point gradients.
-pub type VgaPoints = EdgeStream<640, { map_words(640, 480) }, { DEMO.bins_needed() }, 0>;
+pub type VgaPoints = DemoVga<0>;
 
 /// Bytes per candidate of the point-gradient store (`gx, gy` as `i16`).
 pub const GRADIENT_BYTES: usize = 4;

@@ -31,7 +31,12 @@
 //! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
 //! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
 //! grid with points every 16 pixels, as a blob, output in strips of 16
-//! rows). Each stage is one
+//! rows); then line voting of the thinned edges with the chain's
+//! gradients in the demo configuration (`VoteParams::DEMO_QVGA`: 32 columns
+//! of 2.8 degrees, 201 rows of 2 px), `vote_gated` (+-15 degree orientation
+//! gate) and `vote_ungated`, whose `px` is the number of edge points times
+//! the 32 columns, so their figure is instructions per edge point per theta
+//! column. Each stage is one
 //! measured call (instruction window and stack painting, like a golden
 //! vector). Every stage uses clamp borders.
 //!
@@ -53,7 +58,7 @@ pub const WIDTH: usize = 320;
 pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
-const SLOTS: [(Elem, usize, usize, usize); 15] = [
+const SLOTS: [(Elem, usize, usize, usize); 16] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
     (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
     (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
@@ -69,6 +74,7 @@ const SLOTS: [(Elem, usize, usize, usize); 15] = [
     (Elem::I32, WIDTH, HEIGHT, 2),   // 12 pixel map, raw (x, y) per pixel
     (Elem::U8, GRID_BLOB_LEN, 1, 1), // 13 grid blob
     (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
+    (Elem::U16, 201, 32, 1),         // 15 line accumulator (demo: 32 columns x 201 rows)
 ];
 
 /// One measured stage.
@@ -192,6 +198,26 @@ const CONTROL_GRID: [(&str, Param); 2] = [
     ("border", Param::Str("clamp")),
     ("strip_rows", Param::Int(16)),
 ];
+
+/// The demo line-voting configuration (`VoteParams::DEMO_QVGA`), gated
+/// (+-15 degrees) or not.
+const fn vote(gate: i64) -> [(&'static str, Param); 10] {
+    let d = fixsight::lines::VoteParams::DEMO_QVGA;
+    [
+        ("width", Param::Int(d.width as i64)),
+        ("height", Param::Int(d.height as i64)),
+        ("theta_start", Param::Int(d.theta_start as i64)),
+        ("theta_step_log2", Param::Int(d.theta_step_log2 as i64)),
+        ("theta_bins", Param::Int(d.theta_bins as i64)),
+        ("rho_step_log2", Param::Int(d.rho_step_log2 as i64)),
+        ("rho_bins", Param::Int(d.rho_bins as i64)),
+        ("trig_frac_bits", Param::Int(d.trig_frac_bits as i64)),
+        ("gate", Param::Int(gate)),
+        ("weight_shift", Param::Int(-1)),
+    ]
+}
+const VOTE_GATED: [(&str, Param); 10] = vote(5461);
+const VOTE_UNGATED: [(&str, Param); 10] = vote(0);
 
 /// The stages in run order.
 pub static STAGES: &[Stage] = &[
@@ -342,6 +368,20 @@ pub static STAGES: &[Stage] = &[
         inputs: &[0, 13],
         outputs: &[7],
     },
+    Stage {
+        name: "vote_gated",
+        kernel: "lines.accumulator",
+        params: &VOTE_GATED,
+        inputs: &[11, 2, 3, 4],
+        outputs: &[15],
+    },
+    Stage {
+        name: "vote_ungated",
+        kernel: "lines.accumulator",
+        params: &VOTE_UNGATED,
+        inputs: &[11, 2, 3, 4],
+        outputs: &[15],
+    },
 ];
 
 /// Fills the synthetic frame (see the module docs).
@@ -443,7 +483,7 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };
-        let mut ins: [Img<'_>; 2] = Default::default();
+        let mut ins: [Img<'_>; 4] = Default::default();
         let mut outs: [Img<'_>; 1] = Default::default();
         for (d, &s) in ins.iter_mut().zip(st.inputs) {
             *d = core::mem::take(&mut slots[s]);
@@ -464,6 +504,17 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         for (d, &s) in outs.iter_mut().zip(st.outputs) {
             slots[s] = core::mem::take(d);
         }
+        // Line voting is figured per edge point per theta column (the
+        // edge points of the input map times the demo's 64 columns).
+        let px = if st.kernel.starts_with("lines.") {
+            let edges = match &slots[st.inputs[0]].buf {
+                Buf::U8(e) => e.iter().filter(|&&v| v != 0).count(),
+                _ => 0,
+            };
+            edges * fixsight::lines::VoteParams::DEMO_QVGA.theta_bins
+        } else {
+            WIDTH * HEIGHT
+        };
         let _ = write!(
             con,
             "bench {} {} {} win {} px {} stack {}",
@@ -471,7 +522,7 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
             st.kernel,
             if m.result.is_ok() { "pass" } else { "ERROR" },
             m.window,
-            WIDTH * HEIGHT,
+            px,
             m.stack
         );
         match m.result {

@@ -43,3 +43,8 @@ pair_kernel!(
     direction,
     u8_mut
 );
+pair_kernel!(
+    /// `gradient.angles`: output `angle` (u16, 65536 = 180 degrees).
+    angles,
+    u16_mut
+);

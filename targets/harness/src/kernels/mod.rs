@@ -14,9 +14,12 @@ pub mod chain;
 pub mod filter;
 pub mod gradient;
 pub mod hysteresis;
+pub mod lines;
+pub mod marking;
 pub mod nms;
 pub mod pipeline;
 pub mod thinning;
+pub mod track;
 pub mod warp;
 
 use crate::vectors::{same, served, Elem, ImageSpec, ONLY};
@@ -72,6 +75,7 @@ kernel_table! {
     "gradient.magnitude_l2_approx" => gradient::magnitude_l2_approx,
     "gradient.magnitude_l2_round" => gradient::magnitude_l2_round,
     "gradient.direction" => gradient::direction,
+    "gradient.angles" => gradient::angles,
     "nms.suppress" => nms::suppress,
     "hysteresis.thresholds" => hysteresis::thresholds,
     "hysteresis.classify" => hysteresis::classify,
@@ -80,6 +84,14 @@ kernel_table! {
     "chain.edges" => chain::edges,
     "warp.pixel_map" => warp::pixel_map,
     "warp.control_grid" => warp::control_grid,
+    "pipeline.edge_stream" => pipeline::edge_stream,
+    "lines.accumulator" => lines::accumulator,
+    "lines.correct_point" => lines::correct_point,
+    "lines.peak" => lines::peak,
+    "lines.segments" => lines::segments,
+    "lines.cos_sin" => lines::cos_sin,
+    "marking.select" => marking::select,
+    "track.tracker" => track::tracker,
 }
 
 /// Most input or output images one vector may have.
