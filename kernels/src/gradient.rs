@@ -543,22 +543,22 @@ pub fn angle_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
     for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
         *o = angle(a, b);
     }
-    tally_angles(n as u32);
+    tally_angles(n);
     Ok(())
 }
 
 /// Counts the work of `n` calls of [`angle`]: folding and quadrant tests,
 /// normalisation, then per iteration two shifts, two add/subs, the angle
 /// add, a table load, the sign test and the loop branch.
-pub(crate) fn tally_angles(n: u32) {
+pub(crate) fn tally_angles(n: usize) {
     let it = ANGLE_ITERATIONS as u32;
-    tally(Op::Load, 2 * n);
-    tally(Op::Logic, 6 * n + it * n);
-    tally(Op::AddSub, 3 * n + 3 * it * n);
-    tally(Op::Shift, 4 * n + 2 * it * n);
-    tally(Op::Table, it * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, 4 * n + 2 * it * n);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 6 + it, n);
+    tally_per(Op::AddSub, 3 + 3 * it, n);
+    tally_per(Op::Shift, 4 + 2 * it, n);
+    tally_per(Op::Table, it, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 4 + 2 * it, n);
 }
 
 /// Gradient angles of a frame ([`angle`] per pixel).
