@@ -58,11 +58,14 @@ enum Cmd {
     },
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
-    ///
-    /// The `track.tracker` row measures a drift warning for a vehicle following floor
-    /// tape. It is not a safety function: a vehicle that can hurt people needs
-    /// safety-rated sensing and control under the applicable standards (for
-    /// example ISO 3691-4, IEC 61508, ISO 13849) and local regulations.
+    // The safety note is `after_help`, so both `-h` and `--help` print it
+    // and the option list keeps its compact form.
+    #[command(
+        after_help = "Not a safety function: the `track.tracker` row measures a drift \
+        warning for a vehicle following floor tape. A vehicle that can hurt people needs \
+        safety-rated sensing and control under the applicable standards (for example ISO \
+        3691-4, IEC 61508, ISO 13849) and local regulations."
+    )]
     Report {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]

@@ -110,3 +110,14 @@ fn readme_command_table_matches_help() {
         "README command table (left) vs --help (right)"
     );
 }
+
+#[test]
+fn report_help_says_the_drift_warning_is_no_safety_function() {
+    for flag in ["-h", "--help"] {
+        let h = help(&["report", flag]);
+        assert!(
+            h.contains("Not a safety function") && h.contains("ISO 3691-4"),
+            "report {flag} lacks the safety note:\n{h}"
+        );
+    }
+}

@@ -175,18 +175,57 @@
 //!
 //! with `cos` and `sin` from [`sin_q15`] / [`cos_q15`] (Q15). At birth the
 //! track stores the side of the reference point, `side = +1` if `d(0) >= 0`
-//! else `-1`. For a confirmed track with at least `warn_min_hits` hits,
-//! after the frame's update:
+//! else `-1`.
+//!
+//! **Prediction.** Every call, after the births, every live track gets its
+//! [`Track::frames_to_cross`]: `None` unless it is confirmed and has at
+//! least `warn_min_hits` hits; otherwise
 //!
 //! * if `side * d(0) <= 0` the point is on the edge or past it: **0 frames**;
 //! * else the first `t` in `1 ..= warn_horizon` with `side * d(t) <= 0`,
 //!   if any: **`t` frames**;
-//! * else no crossing is predicted within the horizon.
+//! * else `None`: no crossing predicted within the horizon.
 //!
-//! The frame's [`DriftWarning`] is raised for the confirmed track with the
-//! fewest frames to the crossing (ties: lowest slot). Tracks that are
-//! coasting (missed this frame) still predict and warn; a dropped track
-//! does not.
+//! **Debounce.** A young track's velocity estimate is noisy, so its
+//! prediction enters and leaves the horizon from one frame to the next. The
+//! warning of a track ([`Track::warning`]) is therefore raised and cleared
+//! with a hysteresis counted in calls (a skipped frame number is not
+//! evaluated: it neither extends nor breaks a run), with the counter
+//! [`Track::warn_streak`]. With `K = warn_raise_frames`,
+//! `K' = warn_clear_frames`, `p` this call's `frames_to_cross` and `gap` the
+//! frame numbers elapsed since the previous call:
+//!
+//! | warning before | `p` | then |
+//! |---|---|---|
+//! | `None` | `Some(f)` | `streak += 1`; if `streak >= K`: warning `Some(f)`, `streak = 0` |
+//! | `None` | `None` | `streak = 0` |
+//! | `Some(_)` | `Some(f)` | warning `Some(f)`, `streak = 0` |
+//! | `Some(w)` | `None` | `streak += 1`; if `streak >= K'`: warning `None`, `streak = 0`; else warning `Some(w - gap)` (saturating at 0: the last prediction counted down) |
+//!
+//! (`streak` saturates at 255.) `K = K' = 1` is the undebounced rule: a
+//! warning exactly while a crossing is predicted. A held warning is visible
+//! as `warning` `Some` with `frames_to_cross` `None`.
+//!
+//! Why [`TrackConfig::DEMO`] has `K = 8`, `K' = 24`: with a measurement
+//! every frame the filter settles to the alpha-beta filter of Kalata's
+//! index (above), whose error obeys `e(k+1) = (I - G H) F e(k)` with the
+//! gains `G = (alpha, beta)`, characteristic polynomial `z^2 - (2 - alpha - beta) z + (1 - alpha)`.
+//! Its slower pole has modulus `r` (for the demo's `q = 66 / 65536` on both
+//! axes: `alpha = 0.2226`, `beta = 0.0280`, complex poles,
+//! `r = sqrt(1 - alpha) = 0.8817`), so an estimation error, and with it a
+//! noise-driven excursion of the prediction, fades with the time constant
+//! `tau = -1 / ln r = 7.94` frames. Raising takes one time constant,
+//! `K = ceil(tau) = 8`: an excursion shorter than the filter's memory does
+//! not raise. Clearing takes the 5 % settling time,
+//! `K' = ceil(tau ln 20) = 24`: the warning goes only once the filter has
+//! had time to settle on a state that predicts no crossing, because a
+//! missed warning costs more than a held one (on- and off-delays against
+//! chattering alarms are common practice in alarm handling, no source).
+//! The host crate recomputes both from the demo's `q`.
+//!
+//! The frame's [`DriftWarning`] is the raised warning with the fewest frames
+//! (ties: lowest slot). Tracks that are coasting (missed this frame) still
+//! predict and warn; a dropped track's warning goes with it.
 //!
 //! # Bad input
 //!
@@ -431,6 +470,11 @@ pub struct TrackConfig {
     /// Hits a confirmed track needs before it may warn (its velocity
     /// estimate has settled), any value.
     pub warn_min_hits: u16,
+    /// Calls in a row with a crossing predicted within the horizon that
+    /// raise a track's warning (`K` of the debounce rule), `1 ..= 255`.
+    pub warn_raise_frames: u8,
+    /// Calls in a row without one that clear it (`K'`), `1 ..= 255`.
+    pub warn_clear_frames: u8,
 }
 
 impl TrackConfig {
@@ -445,10 +489,15 @@ impl TrackConfig {
     ///   `q = 0.001`, new-track velocity sd 0.3 degree/frame (`init = 1`);
     /// * gate 99 % ([`GATE_99_Q8`]); confirmed after 3 hits; 5 missed
     ///   frames survived; births from weight 40 up; warning horizon 90
-    ///   frames (3 s at 30 frames/s), from the 15th hit of a track on.
+    ///   frames (3 s at 30 frames/s), from the 15th hit of a track on;
+    /// * warning raised after 8 calls in a row with a predicted crossing and
+    ///   cleared after 24 without: one time constant and the 5 % settling
+    ///   time of the steady-state filter for this `q` (module docs, "Drift
+    ///   warning").
     ///
-    /// These are design choices for the demo sequence (common practice, no
-    /// source), not measured camera figures.
+    /// Except the two debounce counts, these are design choices for the
+    /// demo sequence (common practice, no source), not measured camera
+    /// figures.
     ///
     /// ```
     /// let c = fixsight::track::TrackConfig::DEMO;
@@ -472,6 +521,8 @@ impl TrackConfig {
         reference_q4: (0, 1912),
         warn_horizon: 90,
         warn_min_hits: 15,
+        warn_raise_frames: 8,
+        warn_clear_frames: 24,
     };
 
     /// Checks every field's range.
@@ -534,6 +585,12 @@ impl TrackConfig {
         }
         if self.warn_horizon > WARN_HORIZON_MAX {
             return bad("warn_horizon", "0 ..= 1024", self.warn_horizon as i64);
+        }
+        if self.warn_raise_frames == 0 {
+            return bad("warn_raise_frames", "1 ..= 255", 0);
+        }
+        if self.warn_clear_frames == 0 {
+            return bad("warn_clear_frames", "1 ..= 255", 0);
         }
         Ok(())
     }
@@ -650,6 +707,12 @@ pub struct Track {
     /// Predicted frames to the crossing after the last call (`None` beyond
     /// the horizon, or when the track may not warn yet).
     pub frames_to_cross: Option<u16>,
+    /// Calls in a row counted toward raising (warning `None`) or clearing
+    /// (warning `Some`) the warning; the debounce rule of the module docs.
+    pub warn_streak: u8,
+    /// The track's raised drift warning: frames to the crossing (the
+    /// current prediction, or while held the last one counted down).
+    pub warning: Option<u16>,
 }
 
 impl Track {
@@ -737,25 +800,68 @@ impl Track {
             side * self.distance_q8(cfg.reference_q4, t as i64) <= 0
         })
     }
+
+    /// This call's prediction and the debounce rule (module docs); `gap`
+    /// frame numbers since the previous call.
+    fn evaluate_warning(&mut self, cfg: &TrackConfig, gap: u32) {
+        self.frames_to_cross = if self.confirmed && self.hits >= cfg.warn_min_hits {
+            self.crossing(cfg)
+        } else {
+            None
+        };
+        tally(Op::Branch, 2);
+        tally(Op::AddSub, 1);
+        (self.warn_streak, self.warning) = debounce(
+            self.warning,
+            self.frames_to_cross,
+            self.warn_streak,
+            cfg,
+            gap,
+        );
+    }
+}
+
+/// One step of the debounce rule: `(streak, warning)` after a call whose
+/// prediction is `p`.
+fn debounce(
+    warning: Option<u16>,
+    p: Option<u16>,
+    streak: u8,
+    cfg: &TrackConfig,
+    gap: u32,
+) -> (u8, Option<u16>) {
+    let next = streak.saturating_add(1);
+    match (warning, p) {
+        (None, Some(f)) if next >= cfg.warn_raise_frames => (0, Some(f)),
+        (None, Some(_)) => (next, None),
+        (None, None) => (0, None),
+        (Some(_), Some(f)) => (0, Some(f)),
+        (Some(_), None) if next >= cfg.warn_clear_frames => (0, None),
+        (Some(w), None) => (
+            next,
+            Some(w.saturating_sub(u16::try_from(gap).unwrap_or(u16::MAX))),
+        ),
+    }
 }
 
 /// Words per track in [`track_words`].
 ///
 /// ```
-/// assert_eq!(fixsight::track::TRACK_WORDS, 16);
+/// assert_eq!(fixsight::track::TRACK_WORDS, 18);
 /// ```
-pub const TRACK_WORDS: usize = 16;
+pub const TRACK_WORDS: usize = 18;
 
-/// A slot as 16 `i32` words (the layout of the tracker's golden vectors and
+/// A slot as 18 `i32` words (the layout of the tracker's golden vectors and
 /// a compact log record): `[id or -1, confirmed, hits, missed, side,
 /// frames_to_cross or -1, rho pos, rho vel, rho p_pos, rho p_cross, rho
-/// p_vel, theta pos, theta vel, theta p_pos, theta p_cross, theta p_vel]`;
-/// an empty slot is `-1` followed by zeros.
+/// p_vel, theta pos, theta vel, theta p_pos, theta p_cross, theta p_vel,
+/// warn_streak, warning or -1]`; an empty slot is `-1` followed by zeros.
 ///
 /// ```
 /// use fixsight::track::{track_words, Track};
 /// assert_eq!(track_words(None)[0], -1);
 /// assert_eq!(track_words(Some(&Track::default()))[5], -1);
+/// assert_eq!(track_words(Some(&Track::default()))[17], -1);
 /// ```
 pub fn track_words(t: Option<&Track>) -> [i32; TRACK_WORDS] {
     let mut w = [0; TRACK_WORDS];
@@ -773,10 +879,13 @@ pub fn track_words(t: Option<&Track>) -> [i32; TRACK_WORDS] {
         let base = 6 + 5 * k;
         w[base..base + 5].copy_from_slice(&[a.pos, a.vel, a.p_pos, a.p_cross, a.p_vel]);
     }
+    w[16] = t.warn_streak as i32;
+    w[17] = t.warning.map_or(-1, |f| f as i32);
     w
 }
 
-/// A predicted crossing of the reference point over a confirmed edge.
+/// A raised drift warning: a predicted crossing of the reference point
+/// over a confirmed edge, after the debounce rule of the module docs.
 ///
 /// ```
 /// let w = fixsight::track::DriftWarning { track_id: 3, slot: 0, frames: 12 };
@@ -789,7 +898,8 @@ pub struct DriftWarning {
     pub track_id: u16,
     /// Its slot.
     pub slot: u8,
-    /// Frames until the predicted crossing (0: on or past the edge).
+    /// Frames until the predicted crossing (0: on or past the edge); while
+    /// the warning is held without a prediction, the last one counted down.
     pub frames: u16,
 }
 
@@ -808,7 +918,8 @@ pub struct FrameReport {
     pub born: u8,
     /// Tracks dropped (misses, including skipped frames).
     pub dropped: u8,
-    /// The most urgent drift warning, if any.
+    /// The most urgent raised drift warning, if any (debounce rule in the
+    /// module docs).
     pub warning: Option<DriftWarning>,
 }
 
@@ -1088,6 +1199,8 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
                 confirmed: cfg.confirm_hits <= 1,
                 side: 1,
                 frames_to_cross: None,
+                warn_streak: 0,
+                warning: None,
             };
             if t.distance_q8(cfg.reference_q4, 0) < 0 {
                 t.side = -1;
@@ -1100,12 +1213,8 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         // Drift warnings.
         for (i, slot) in self.slots.iter_mut().enumerate() {
             let Some(t) = slot else { continue };
-            t.frames_to_cross = if t.confirmed && t.hits >= cfg.warn_min_hits {
-                t.crossing(&cfg)
-            } else {
-                None
-            };
-            if let Some(frames) = t.frames_to_cross {
+            t.evaluate_warning(&cfg, gap);
+            if let Some(frames) = t.warning {
                 if rep.warning.is_none_or(|w| frames < w.frames) {
                     rep.warning = Some(DriftWarning {
                         track_id: t.id,
@@ -1306,6 +1415,67 @@ mod tests {
         let tr = t.tracks().next().unwrap();
         assert_eq!(tr.side, -1, "d = -rho < 0 at birth");
         assert_eq!(tr.frames_to_cross, Some(0));
+    }
+
+    #[test]
+    fn debounce_raises_after_k_holds_with_countdown_and_clears_after_k_prime() {
+        let mut cfg = TrackConfig::DEMO;
+        cfg.warn_raise_frames = 3;
+        cfg.warn_clear_frames = 2;
+        // Raise on the 3rd prediction in a row; a gap breaks nothing.
+        let mut st = (0u8, None);
+        for (p, want) in [
+            (Some(50), (1, None)),
+            (None, (0, None)),
+            (Some(40), (1, None)),
+            (Some(39), (2, None)),
+            (Some(38), (0, Some(38))),
+            (Some(30), (0, Some(30))),
+        ] {
+            st = debounce(st.1, p, st.0, &cfg, 1);
+            assert_eq!(st, want, "p {p:?}");
+        }
+        // Held one call, counted down by the frames elapsed (gap 4), then
+        // cleared on the 2nd call without a prediction.
+        st = debounce(st.1, None, st.0, &cfg, 4);
+        assert_eq!(st, (1, Some(26)));
+        assert_eq!(debounce(st.1, Some(20), st.0, &cfg, 1), (0, Some(20)));
+        assert_eq!(debounce(st.1, None, st.0, &cfg, 1), (0, None));
+        // The countdown saturates at 0, the streak at 255.
+        cfg.warn_clear_frames = 255;
+        assert_eq!(debounce(Some(3), None, 7, &cfg, 100_000), (8, Some(0)));
+        assert_eq!(debounce(Some(3), None, 255, &cfg, 1), (0, None));
+        cfg.warn_raise_frames = 255;
+        assert_eq!(debounce(None, Some(5), 254, &cfg, 1), (0, Some(5)));
+    }
+
+    #[test]
+    fn one_call_debounce_is_the_plain_prediction_and_demo_delays_it_by_k() {
+        // Edge at x = 10 px moving 0.25 px/frame toward the point.
+        let run = |raise: u8, clear: u8| {
+            let mut cfg = TrackConfig::DEMO;
+            cfg.reference_q4 = (0, 0);
+            cfg.warn_raise_frames = raise;
+            cfg.warn_clear_frames = clear;
+            let mut t: Tracker<2, 2> = Tracker::new(cfg).unwrap();
+            let mut out = [(None, None); 45];
+            for (f, o) in out.iter_mut().enumerate() {
+                let r = t.update(f as u32, &[det(160 - 4 * f as i32, 0)]).unwrap();
+                *o = (
+                    t.slot(0).unwrap().frames_to_cross,
+                    r.warning.map(|w| w.frames),
+                );
+            }
+            out
+        };
+        let plain = run(1, 1);
+        assert!(plain.iter().all(|(p, w)| p == w));
+        let first = plain.iter().position(|(p, _)| p.is_some()).unwrap();
+        let demo = run(8, 24);
+        let raised = demo.iter().position(|(_, w)| w.is_some()).unwrap();
+        assert!(plain[first..first + 8].iter().all(|(p, _)| p.is_some()));
+        assert_eq!(raised, first + 7, "raised on the 8th prediction in a row");
+        assert!(demo[raised..].iter().all(|(p, w)| p == w));
     }
 
     #[test]

@@ -335,6 +335,7 @@ mod track_apis {
             (prop_oneof![-3000i32..3000, any::<i32>()], -3000i32..3000),
             prop_oneof![0u16..100, Just(1024u16), Just(u16::MAX)],
             prop_oneof![0u16..20, Just(u16::MAX)],
+            (any::<u8>(), any::<u8>()),
         )
             .prop_map(
                 |(
@@ -347,6 +348,7 @@ mod track_apis {
                     reference_q4,
                     warn_horizon,
                     warn_min_hits,
+                    (warn_raise_frames, warn_clear_frames),
                 )| {
                     TrackConfig {
                         rho,
@@ -358,6 +360,8 @@ mod track_apis {
                         reference_q4,
                         warn_horizon,
                         warn_min_hits,
+                        warn_raise_frames,
+                        warn_clear_frames,
                     }
                 },
             )
@@ -408,6 +412,8 @@ mod track_apis {
             wide.gate_q8 = wide.gate_q8.max(1);
             wide.reference_q4.0 = wide.reference_q4.0.clamp(-(1 << 17) + 1, (1 << 17) - 1);
             wide.warn_horizon = wide.warn_horizon.min(1024);
+            wide.warn_raise_frames = wide.warn_raise_frames.max(1);
+            wide.warn_clear_frames = wide.warn_clear_frames.max(1);
             prop_assert!(Tracker::<3, 5>::new(wide).is_ok());
             let mut a = Tracker::<3, 5>::new(wide);
             let mut b = Tracker::<1, 1>::new(cfg);

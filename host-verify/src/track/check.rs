@@ -2,7 +2,7 @@
 //! sequences, plus the steady-state gains against Kalata (1984).
 
 use super::compare::{compare_etas, compare_states, compare_warnings, truth_figures, TruthFigures};
-use super::reference::{kalata_gains, RefAxis};
+use super::reference::{kalata_gains, settling_time_constant, RefAxis};
 use super::run::{run_fixed, run_reference};
 use super::sequences::{contract_sequences, Sequence};
 use super::ID;
@@ -90,6 +90,9 @@ struct Measured {
     problems: Vec<String>,
     warn_delta: i64,
     warn_mismatch: usize,
+    warn_presence_mismatch: usize,
+    /// Sequences where only one tracker warns at all.
+    warn_first_missing: usize,
     eta_delta: u32,
     etas: Vec<(f64, f64, bool, bool)>,
     truth: TruthFigures,
@@ -121,14 +124,15 @@ fn measure_sequences(cfg: TrackConfig, seqs: &[Sequence]) -> Measured {
         }
         m.decision_mismatches += c.decision_mismatches;
         m.etas.extend(compare_etas(&cfg, &fixed, &reference));
-        let (ff, fr, wm, ed) = compare_warnings(s, &fixed, &reference);
-        match (ff, fr) {
+        let w = compare_warnings(s, &fixed, &reference);
+        match (w.first_fixed, w.first_reference) {
             (Some(a), Some(b)) => m.warn_delta = m.warn_delta.max((a as i64 - b as i64).abs()),
             (None, None) => {}
-            _ => m.warn_mismatch += 1,
+            _ => m.warn_first_missing += 1,
         }
-        m.warn_mismatch += wm;
-        m.eta_delta = m.eta_delta.max(ed);
+        m.warn_mismatch += w.mismatches;
+        m.warn_presence_mismatch += w.presence_mismatches;
+        m.eta_delta = m.eta_delta.max(w.max_delta);
         let t = truth_figures(&cfg, s, &fixed);
         m.truth.rho_err.extend(t.rho_err);
         m.truth.theta_err.extend(t.theta_err);
@@ -176,7 +180,11 @@ fn steady_gain_figures(metrics: &mut BTreeMap<String, f64>) -> Vec<String> {
 
 /// The drift-warning figures of the module docs, into `metrics`; the
 /// failed checks.
-fn warning_figures(m: &Measured, metrics: &mut BTreeMap<String, f64>) -> Vec<String> {
+fn warning_figures(
+    cfg: &TrackConfig,
+    m: &Measured,
+    metrics: &mut BTreeMap<String, f64>,
+) -> Vec<String> {
     let mut problems = Vec::new();
     let pairs: Vec<(f64, f64)> = m.etas.iter().map(|e| (e.0, e.1)).collect();
     let outside = m.etas.iter().filter(|e| !e.2).count();
@@ -185,8 +193,19 @@ fn warning_figures(m: &Measured, metrics: &mut BTreeMap<String, f64>) -> Vec<Str
     let mut put = |k: &str, v: f64| {
         metrics.insert(k.into(), v);
     };
+    put("warn_raise_frames", cfg.warn_raise_frames as f64);
+    put("warn_clear_frames", cfg.warn_clear_frames as f64);
+    put(
+        "settling_tau_frames",
+        settling_time_constant(cfg.rho.accel_index_q16)
+            .max(settling_time_constant(cfg.theta.accel_index_q16)),
+    );
     put("warning_frame_delta", m.warn_delta as f64);
     put("warning_mismatch_frames", m.warn_mismatch as f64);
+    put(
+        "warning_presence_mismatch_frames",
+        m.warn_presence_mismatch as f64,
+    );
     put("warning_frames_to_cross_max_delta", m.eta_delta as f64);
     put("eta_max_abs_err_frames", eta.max_abs);
     put("eta_bound_frames", max_bound(&pairs));
@@ -214,6 +233,12 @@ fn warning_figures(m: &Measured, metrics: &mut BTreeMap<String, f64>) -> Vec<Str
     if outside > 0 {
         problems.push(format!(
             "{outside} frames-to-crossing samples outside their allowed range"
+        ));
+    }
+    if m.warn_first_missing > 0 {
+        problems.push(format!(
+            "{} sequences with a warning from one tracker only",
+            m.warn_first_missing
         ));
     }
     if m.warn_delta != 0 {
@@ -261,7 +286,7 @@ pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
     );
     mt.insert("sequences".into(), seqs.len() as f64);
     problems.extend(steady_gain_figures(mt));
-    problems.extend(warning_figures(&m, mt));
+    problems.extend(warning_figures(&cfg, &m, mt));
     for (axis, r) in [("rho", rho_ratio), ("theta", theta_ratio)] {
         if r > 1.0 {
             problems.push(format!(
@@ -289,8 +314,9 @@ pub fn check(_scenes: &[Scene]) -> Vec<KernelReport> {
     );
     row.notes.push(
         "warning_*, eta_*: per track and frame, fixed vs f64 frames-to-crossing (none = \
-         horizon + 1) within the range the first-order state bound allows; tracking errors \
-         and warning timing vs truth; not a safety function"
+         horizon + 1) within the range the first-order state bound allows; warnings after \
+         the debounce rule (raise after warn_raise_frames calls, clear after \
+         warn_clear_frames), fixed vs f64 and timing vs truth; not a safety function"
             .into(),
     );
     for p in problems {

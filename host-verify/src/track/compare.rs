@@ -108,14 +108,27 @@ pub fn compare_etas(
     out
 }
 
-/// Warning comparison of one sequence: `(first fixed warning frame, first
-/// reference warning frame, frames where presence or count differ, max
-/// |count difference| where both warn)`.
+/// Raised warnings of one sequence, fixed against reference.
+#[derive(Debug, Clone, Default)]
+pub struct WarningComparison {
+    /// First frame with a fixed warning.
+    pub first_fixed: Option<u32>,
+    /// First frame with a reference warning.
+    pub first_reference: Option<u32>,
+    /// Calls whose warnings differ (presence, track or frames).
+    pub mismatches: usize,
+    /// Calls with a warning on one side only.
+    pub presence_mismatches: usize,
+    /// Largest |frames difference| where both warn.
+    pub max_delta: u32,
+}
+
+/// Compares the reported (debounced) warnings of one sequence.
 pub fn compare_warnings(
     seq: &Sequence,
     fixed: &[FixedFrame],
     reference: &[RefFrame],
-) -> (Option<u32>, Option<u32>, usize, u32) {
+) -> WarningComparison {
     let first = |w: &dyn Fn(usize) -> bool| {
         seq.frames
             .iter()
@@ -123,24 +136,28 @@ pub fn compare_warnings(
             .find(|(i, _)| w(*i))
             .map(|(_, f)| f.frame)
     };
-    let ff = first(&|i| fixed[i].report.warning.is_some());
-    let fr = first(&|i| reference[i].report.warning.is_some());
-    let mut mismatches = 0;
-    let mut max_delta = 0u32;
+    let mut out = WarningComparison {
+        first_fixed: first(&|i| fixed[i].report.warning.is_some()),
+        first_reference: first(&|i| reference[i].report.warning.is_some()),
+        ..Default::default()
+    };
     for (a, b) in fixed.iter().zip(reference) {
         match (a.report.warning, b.report.warning) {
             (Some(x), Some(y)) => {
                 let d = (x.frames as i32 - y.frames as i32).unsigned_abs();
-                max_delta = max_delta.max(d);
+                out.max_delta = out.max_delta.max(d);
                 if d != 0 || x.track_id != y.track_id {
-                    mismatches += 1;
+                    out.mismatches += 1;
                 }
             }
             (None, None) => {}
-            _ => mismatches += 1,
+            _ => {
+                out.mismatches += 1;
+                out.presence_mismatches += 1;
+            }
         }
     }
-    (ff, fr, mismatches, max_delta)
+    out
 }
 
 /// Fixed tracker against the truth of one sequence.

@@ -52,6 +52,8 @@ struct Params {
     reference_y_q4: i32,
     warn_horizon: u16,
     warn_min_hits: u16,
+    warn_raise_frames: u8,
+    warn_clear_frames: u8,
     slots: usize,
     max_detections: usize,
 }
@@ -66,7 +68,8 @@ fn params_json(c: &TrackConfig) -> serde_json::Value {
         "confirm_hits": c.confirm_hits, "max_missed": c.max_missed,
         "birth_weight": c.birth_weight, "reference_x_q4": c.reference_q4.0,
         "reference_y_q4": c.reference_q4.1, "warn_horizon": c.warn_horizon,
-        "warn_min_hits": c.warn_min_hits,
+        "warn_min_hits": c.warn_min_hits, "warn_raise_frames": c.warn_raise_frames,
+        "warn_clear_frames": c.warn_clear_frames,
         "slots": SLOTS, "max_detections": MAX_DETECTIONS,
     })
 }
@@ -133,6 +136,8 @@ pub fn run_vector(
         reference_q4: (p.reference_x_q4, p.reference_y_q4),
         warn_horizon: p.warn_horizon,
         warn_min_hits: p.warn_min_hits,
+        warn_raise_frames: p.warn_raise_frames,
+        warn_clear_frames: p.warn_clear_frames,
     };
     let (bf, bd) = (input(inputs, "frames")?, input(inputs, "dets")?);
     if bf.width != 2 || bd.width != 3 {
@@ -175,10 +180,18 @@ fn case(id: &str, comment: &str, cfg: &TrackConfig, frames: &[SeqFrame]) -> Gold
     }
 }
 
-/// Golden cases: a wrapping demo sequence, and a saturating one.
+/// Golden cases: a wrapping demo sequence, a drifting one with short
+/// debounce counts (raise, hold with countdown, clear), and a saturating
+/// one.
 pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     let cfg = TrackConfig::DEMO;
     let demo = synth_sequence(0x7_2AC1, 120, true);
+    let mut flicker = cfg;
+    flicker.warn_horizon = 60;
+    flicker.warn_min_hits = 3;
+    flicker.warn_raise_frames = 3;
+    flicker.warn_clear_frames = 4;
+    let drift = synth_sequence(0x7_2AC5, 160, false);
     let mut extreme = cfg;
     extreme.rho.accel_index_q16 = 1 << 24;
     extreme.theta.accel_index_q16 = 1 << 24;
@@ -191,6 +204,8 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     extreme.reference_q4 = ((1 << 17) - 1, -(1 << 17) + 1);
     extreme.warn_horizon = 1024;
     extreme.warn_min_hits = 0;
+    extreme.warn_raise_frames = 1;
+    extreme.warn_clear_frames = 255;
     let lim = (1 << 17) - 1;
     let mut rng = ChaCha8Rng::seed_from_u64(0x7_2AC2);
     let mut frame = 0u32;
@@ -217,6 +232,15 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
              and clutter",
             &cfg,
             &demo.frames,
+        ),
+        case(
+            "track.tracker.debounce",
+            "160 frames of two tape edges drifting toward the reference point, horizon 60, \
+             warnings from the 3rd hit, raised after 3 calls and cleared after 4: the young \
+             tracks' predictions flicker, so warnings are raised, held with a countdown and \
+             cleared",
+            &flicker,
+            &drift.frames,
         ),
         case(
             "track.tracker.extremes",

@@ -69,18 +69,27 @@
 //! decisions), the fixed frames-to-crossing is compared with the
 //! reference's, "no crossing within the horizon" counted as
 //! `warn_horizon + 1`. The tolerance is derived per sample
-//! ([`RefTrack::eta_range`](reference::RefTrack::eta_range)): the fixed count must lie between the first
-//! `t` at which the reference distance `d(t)` comes within its first-order
-//! error bound ([`RefTrack::distance_bound`](reference::RefTrack::distance_bound): the state bounds carried `t`
-//! frames ahead, the slope of `d` in theta, the table-sine bound of
+//! ([`RefTrack::eta_range`](reference::RefTrack::eta_range)): the fixed
+//! count must lie between the first `t` at which the reference distance
+//! `d(t)` comes within its first-order error bound
+//! ([`RefTrack::distance_bound`](reference::RefTrack::distance_bound): the
+//! state bounds carried `t` frames ahead, the slope of `d` in theta, the table-sine bound of
 //! 1.617 Q15 LSB on `cos` and `sin`, the final half Q8 step) and the first
 //! `t` at which it is past the edge by more than that bound. A sample
-//! outside its range fails the row. `warning_frame_delta` (first frame with
-//! a warning, fixed minus reference; goal 0) must be 0 too. The row also
-//! carries the figures against the truth: tracking errors of the matched
-//! confirmed track, `frames_lost`, warning lead, warnings raised more than
-//! the horizon before the true crossing (`early_warning_frames`) and frames
-//! of the last 30 before it without a warning (`missed_warning_frames`).
+//! outside its range fails the row. Both trackers then apply the debounce
+//! rule of `fixsight::track` (raise after `warn_raise_frames` calls in a
+//! row with a prediction, clear after `warn_clear_frames` without, hold
+//! with a countdown in between; the reference writes it out on its own)
+//! to their own predictions; `warning_frame_delta` (first frame with a
+//! raised warning, fixed minus reference; goal 0) must be 0, and
+//! `warning_mismatch_frames` counts the calls whose reported warnings
+//! (track, frames) differ, `warning_presence_mismatch_frames` those where
+//! only one tracker warns. `settling_tau_frames` is the filter's time
+//! constant the debounce counts derive from. The row also carries the
+//! figures against the truth: tracking errors of the matched confirmed
+//! track, `frames_lost`, warning lead, warnings raised more than the
+//! horizon before the true crossing (`early_warning_frames`) and frames of
+//! the last 30 before it without a warning (`missed_warning_frames`).
 //!
 //! # Steady-state gains (`steady_*`)
 //!
@@ -113,15 +122,17 @@
 //!
 //! Params: `{"rho": {meas_var, accel_index_q16, init_vel_var_q16}, "theta":
 //! {...}, gate_q8, confirm_hits, max_missed, birth_weight, reference_x_q4,
-//! reference_y_q4, warn_horizon, warn_min_hits, slots, max_detections}` (`slots` = 4,
-//! `max_detections` = 8: the const generics of the tracker both sides
-//! build). Inputs: `frames` u32, width 2 (frame number, detection count),
-//! one row per call; `dets` i32, width 3 (`rho_q4`, `theta`, `weight`),
-//! the detections of all calls in order (at least one row: a sequence with
-//! no detection carries one unused zero row). Outputs: `states` i32, width
+//! reference_y_q4, warn_horizon, warn_min_hits, warn_raise_frames,
+//! warn_clear_frames, slots, max_detections}` (`slots` = 4, `max_detections`
+//! = 8: the const generics of the tracker both sides build). Inputs:
+//! `frames` u32, width 2 (frame number, detection count), one row per call;
+//! `dets` i32, width 3 (`rho_q4`, `theta`, `weight`), the detections of all
+//! calls in order (at least one row: a sequence with no detection carries
+//! one unused zero row). Outputs: `states` i32, width
 //! [`STATE_FIELDS`](golden::STATE_FIELDS), one row per call and slot (see
-//! [`state_row`](golden::state_row)); `report` i32, width 5 (associated, born, dropped, warning track id or
-//! -1, warning frames or -1), one row per call.
+//! [`state_row`](golden::state_row)); `report` i32, width 5 (associated,
+//! born, dropped, warning track id or -1, warning frames or -1), one row per
+//! call.
 
 pub mod check;
 pub mod compare;

@@ -149,6 +149,10 @@ pub struct RefTrack {
     pub side: i8,
     /// Frames to the crossing (confirmed tracks).
     pub frames_to_cross: Option<u16>,
+    /// Calls in a row toward raising or clearing the warning.
+    pub warn_streak: u8,
+    /// The raised warning (frames to the crossing).
+    pub warning: Option<u16>,
 }
 
 const RHO_POS_LIMIT: f64 = 131072.0;
@@ -248,6 +252,34 @@ impl RefTrack {
             }
         }
         (eta, lo, hi)
+    }
+
+    /// The debounce rule of `fixsight::track` (module docs, "Drift
+    /// warning"), written out: a run of `warn_raise_frames` calls with a
+    /// prediction raises, a run of `warn_clear_frames` calls without one
+    /// clears, and in between a raised warning holds, counting its last
+    /// prediction down by the frames elapsed.
+    fn debounce(&mut self, cfg: &TrackConfig, gap: u32) {
+        let raised = self.warning.is_some();
+        let predicted = self.frames_to_cross.is_some();
+        if raised == predicted {
+            // Raised and still predicted, or quiet and still quiet.
+            self.warn_streak = 0;
+            self.warning = self.frames_to_cross;
+            return;
+        }
+        self.warn_streak = self.warn_streak.saturating_add(1);
+        let limit = if raised {
+            cfg.warn_clear_frames
+        } else {
+            cfg.warn_raise_frames
+        };
+        if self.warn_streak >= limit {
+            self.warn_streak = 0;
+            self.warning = self.frames_to_cross;
+        } else if let Some(w) = self.warning {
+            self.warning = Some((w as u32).saturating_sub(gap) as u16);
+        }
     }
 
     fn crossing(&self, cfg: &TrackConfig) -> Option<u16> {
@@ -397,6 +429,8 @@ impl RefTracker {
                 confirmed: cfg.confirm_hits <= 1,
                 side: 1,
                 frames_to_cross: None,
+                warn_streak: 0,
+                warning: None,
             };
             if t.distance(cfg.reference_q4, 0.0) < 0.0 {
                 t.side = -1;
@@ -412,7 +446,8 @@ impl RefTracker {
             } else {
                 None
             };
-            if let Some(frames) = t.frames_to_cross {
+            t.debounce(&cfg, gap);
+            if let Some(frames) = t.warning {
                 if rep.warning.is_none_or(|w| frames < w.frames) {
                     rep.warning = Some(fixsight::track::DriftWarning {
                         track_id: t.id,
@@ -433,4 +468,25 @@ pub fn kalata_gains(l: f64) -> (f64, f64) {
         -(l * l + 8.0 * l - (l + 4.0) * r) / 8.0,
         (l * l + 4.0 * l - l * r) / 4.0,
     )
+}
+
+/// Time constant (frames) of the steady-state filter's error decay for
+/// `q = accel_index_q16 / 2^16`: the error of the alpha-beta filter with
+/// Kalata's gains obeys `e(k+1) = (I - G H) F e(k)`, `G = (alpha, beta)`;
+/// with `r` the largest modulus of that matrix's eigenvalues,
+/// `tau = -1 / ln r`. The debounce counts of `TrackConfig::DEMO` are
+/// `ceil(tau)` and `ceil(tau ln 20)` (module docs of `fixsight::track`).
+pub fn settling_time_constant(q_q16: u32) -> f64 {
+    let (alpha, beta) = kalata_gains((q_q16 as f64 / 65536.0).sqrt());
+    // (I - G H) F with F = [[1, 1], [0, 1]], H = [1, 0].
+    let m = [[1.0 - alpha, 1.0 - alpha], [-beta, 1.0 - beta]];
+    let trace = m[0][0] + m[1][1];
+    let det = m[0][0] * m[1][1] - m[0][1] * m[1][0];
+    let disc = trace * trace - 4.0 * det;
+    let r = if disc < 0.0 {
+        det.sqrt()
+    } else {
+        (trace.abs() + disc.sqrt()) / 2.0
+    };
+    -1.0 / r.ln()
 }

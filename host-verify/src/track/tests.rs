@@ -1,7 +1,7 @@
 use super::check::steady_gains;
 use super::compare::{compare_states, truth_figures};
 use super::golden::{golden_cases, run_vector};
-use super::reference::{kalata_gains, RefAxis};
+use super::reference::{kalata_gains, settling_time_constant, RefAxis};
 use super::run::{run_fixed, run_reference};
 use super::sequences::{contract_sequences, synth_sequence};
 use fixsight::track::TrackConfig;
@@ -189,4 +189,47 @@ fn golden_cases_recompute() {
     let mut p = c.params.clone();
     p["slots"] = json!(3);
     assert!(run_vector(&c.kernel, &p, &c.inputs).is_err());
+}
+
+#[test]
+fn demo_debounce_counts_follow_the_filter_settling() {
+    // The steady-state gains and pole of the demo's q = 66 / 65536 (both
+    // axes), the figures the kernel's module docs quote.
+    let cfg = TrackConfig::DEMO;
+    assert_eq!(cfg.rho.accel_index_q16, cfg.theta.accel_index_q16);
+    let q = cfg.rho.accel_index_q16;
+    let (alpha, beta) = kalata_gains((q as f64 / 65536.0).sqrt());
+    assert!((alpha - 0.2226).abs() < 5e-5 && (beta - 0.0280).abs() < 5e-5);
+    let tau = settling_time_constant(q);
+    assert!((tau - 7.94).abs() < 5e-3, "tau {tau}");
+    assert!(((1.0 - alpha).sqrt() - 0.8817).abs() < 5e-5);
+    assert_eq!(cfg.warn_raise_frames as f64, tau.ceil());
+    assert_eq!(cfg.warn_clear_frames as f64, (tau * 20f64.ln()).ceil());
+    // The filter itself has that pole: the reference filter at its steady
+    // state, fed noise-free measurements of a still line, shrinks a state
+    // error like r^k (envelope over one period of the complex pole pair,
+    // about 50 frames here).
+    let step = |r: &mut RefAxis| {
+        r.predict(q, None);
+        r.update(-r.x, None);
+        r.err = Default::default();
+    };
+    let mut r = RefAxis::born(0.0, 4 << 16);
+    for _ in 0..2000 {
+        step(&mut r);
+    }
+    (r.x, r.v) = (1.0, 0.0);
+    let norms: Vec<f64> = (0..400)
+        .map(|_| {
+            step(&mut r);
+            r.x.hypot(r.v)
+        })
+        .collect();
+    let peak = |w: &[f64]| w.iter().cloned().fold(0.0, f64::max).ln();
+    let rate = (peak(&norms[350..400]) - peak(&norms[150..200])) / 200.0;
+    assert!(
+        (rate * tau + 1.0).abs() < 0.02,
+        "decay {rate} per frame, 1/tau {}",
+        1.0 / tau
+    );
 }

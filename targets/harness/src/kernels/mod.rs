@@ -85,13 +85,13 @@ kernel_table! {
     "warp.pixel_map" => warp::pixel_map,
     "warp.control_grid" => warp::control_grid,
     "pipeline.edge_stream" => pipeline::edge_stream,
-    "lines.accumulator" => lines::accumulator,
-    "lines.correct_point" => lines::correct_point,
-    "lines.peak" => lines::peak,
-    "lines.segments" => lines::segments,
-    "lines.cos_sin" => lines::cos_sin,
     "marking.select" => marking::select,
     "track.tracker" => track::tracker,
+    "lines.cos_sin" => lines::cos_sin,
+    "lines.accumulator" => lines::accumulator,
+    "lines.peak" => lines::peak,
+    "lines.correct_point" => lines::correct_point,
+    "lines.segments" => lines::segments,
 }
 
 /// Most input or output images one vector may have.

@@ -3,7 +3,7 @@
 //!
 //! | id | params | inputs | outputs |
 //! |---|---|---|---|
-//! | `track.tracker` | axis noise (`rho.*`, `theta.*`), `gate_q8`, `confirm_hits`, `max_missed`, `birth_weight`, `reference_x_q4`, `reference_y_q4`, `warn_horizon`, `warn_min_hits`, `slots` (4), `max_detections` (8) | `frames` u32 (frame, count), `dets` i32 (rho_q4, theta, weight) | `states` i32 (16 per slot per call), `report` i32 (5 per call) |
+//! | `track.tracker` | axis noise (`rho.*`, `theta.*`), `gate_q8`, `confirm_hits`, `max_missed`, `birth_weight`, `reference_x_q4`, `reference_y_q4`, `warn_horizon`, `warn_min_hits`, `warn_raise_frames`, `warn_clear_frames`, `slots` (4), `max_detections` (8) | `frames` u32 (frame, count), `dets` i32 (rho_q4, theta, weight) | `states` i32 (18 per slot per call), `report` i32 (5 per call) |
 //!
 //! Not a safety function: the drift warning is an aid only (see the
 //! `fixsight::track` module docs).
@@ -63,6 +63,8 @@ pub fn tracker(
         reference_q4: (int(p, "reference_x_q4")?, int(p, "reference_y_q4")?),
         warn_horizon: int(p, "warn_horizon")?,
         warn_min_hits: int(p, "warn_min_hits")?,
+        warn_raise_frames: int(p, "warn_raise_frames")?,
+        warn_clear_frames: int(p, "warn_clear_frames")?,
     };
     let frames = match &input(ins, 0)?.buf {
         Buf::U32(d) => &**d,
