@@ -648,19 +648,6 @@ fn thinning_case(r: &mut ChaCha8Rng) -> Outcome {
 
 // ------------------------------------------------------------------- warp
 
-fn model_pixel(
-    img: &[u8],
-    w: usize,
-    h: usize,
-    c: usize,
-    sx: i32,
-    sy: i32,
-    f: u32,
-    b: Border,
-) -> Vec<u8> {
-    crate::warp::reference::model_sample(img, w, h, c, sx, sy, f, b)
-}
-
 fn warp_case(r: &mut ChaCha8Rng) -> Outcome {
     let (sw, sh) = (r.random_range(1..=12), r.random_range(1..=10));
     let (ow, oh) = (r.random_range(1..=14), r.random_range(1..=12));
@@ -707,7 +694,7 @@ fn warp_case(r: &mut ChaCha8Rng) -> Outcome {
         }
         let want: Vec<u8> = coords
             .chunks(2)
-            .flat_map(|p| model_pixel(&img, sw, sh, c, p[0], p[1], f, b))
+            .flat_map(|p| crate::warp::reference::model_sample(&img, sw, sh, c, p[0], p[1], f, b))
             .collect();
         first_diff("pixel map", &out, &want)
     } else {
@@ -747,7 +734,9 @@ fn warp_case(r: &mut ChaCha8Rng) -> Outcome {
                         grid.coord(x, y)
                     ));
                 }
-                want.extend(model_pixel(&img, sw, sh, c, mx, my, f, b));
+                want.extend(crate::warp::reference::model_sample(
+                    &img, sw, sh, c, mx, my, f, b,
+                ));
             }
         }
         first_diff("control grid", &out, &want)

@@ -234,11 +234,14 @@ pub fn build_grid(
     })
 }
 
+/// `(integer-model coordinates, ideal coordinates)` of every output pixel.
+pub type GridMaps = (Vec<i32>, Vec<(f64, f64)>);
+
 /// Per-pixel maps of a built grid, for the contract checks on small views:
 /// the integer-model coordinate of every output pixel (interleaved raw
 /// pairs) and the ideal one (`f64` bilinear interpolation of the
 /// unquantised control points).
-pub fn grid_maps(mb: &GridBuild) -> Result<(Vec<i32>, Vec<(f64, f64)>), String> {
+pub fn grid_maps(mb: &GridBuild) -> Result<GridMaps, String> {
     let table = ControlGrid::new(&mb.points, mb.geom, mb.k).map_err(|e| e.to_string())?;
     let (cols, rows) = mb.grid;
     let k = mb.k;
