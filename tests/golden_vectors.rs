@@ -123,7 +123,7 @@ fn bad_manifests_give_typed_errors() {
         Err(GoldenError::Inconsistent { .. })
     ));
     fs::remove_dir_all(&dir).unwrap();
-    assert!(matches!(check_golden(&dir), Err(GoldenError::Io { .. })));
+    assert!(matches!(check_golden(&dir), Err(GoldenError::File(_))));
 }
 
 #[test]

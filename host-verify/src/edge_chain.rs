@@ -173,7 +173,7 @@ pub fn run_thresholds(
     h: usize,
     p: &ChainParams,
 ) -> Result<Thresholds, String> {
-    let mut hist = vec![0u32; p.bins];
+    let mut hist = vec![0u32; crate::family::buffer_len("histogram bins", p.bins)?];
     Thresholds::from_histogram(
         &ImageView::new(mag, w, h, w).map_err(e)?,
         &mut hist,
@@ -204,7 +204,7 @@ pub fn run_link(
     stack: usize,
 ) -> Result<(Vec<u8>, hysteresis::HysteresisStats), String> {
     let mut map = codes.to_vec();
-    let mut st = vec![0u32; stack];
+    let mut st = vec![0u32; crate::family::buffer_len("hysteresis stack", stack)?];
     let s = hysteresis::link(
         &mut ImageViewMut::new(&mut map, w, h, w).map_err(e)?,
         &mut st,

@@ -36,6 +36,28 @@ pub fn parse_params<T: serde::de::DeserializeOwned>(
     serde_json::from_value(params.clone()).map_err(|e| format!("params of `{kernel}`: {e}"))
 }
 
+/// Largest buffer, in elements, that a golden parameter may ask for (a
+/// work stack, a histogram): 2^24, far above what any vector needs.
+pub const MAX_PARAM_ELEMS: usize = 1 << 24;
+
+/// Checks a buffer length taken from a golden parameter against
+/// [`MAX_PARAM_ELEMS`] before anything is allocated.
+///
+/// ```
+/// use fixsight_verify::family::buffer_len;
+/// assert_eq!(buffer_len("stack", 64), Ok(64));
+/// assert!(buffer_len("bins", 1 << 61).unwrap_err().contains("bins"));
+/// ```
+pub fn buffer_len(what: &str, n: usize) -> Result<usize, String> {
+    if n > MAX_PARAM_ELEMS {
+        Err(format!(
+            "{what} = {n} is above the {MAX_PARAM_ELEMS} elements the tool allocates for it"
+        ))
+    } else {
+        Ok(n)
+    }
+}
+
 /// Finds the input image called `name`.
 pub fn input<'a>(inputs: &'a [Blob], name: &str) -> Result<&'a Blob, String> {
     inputs

@@ -30,16 +30,34 @@
 //! little-endian; its length is exactly `width * height * channels *
 //! size_of(elem)`.
 //!
+//! Limits (checked with overflow-free arithmetic before anything is read or
+//! allocated; a vector that breaks one fails, with the reason): width and
+//! height `1..=`[`MAX_DIM`], channels `1..=`[`MAX_CHANNELS`], an image's
+//! byte length at most [`crate::files::MAX_IMAGE_BYTES`], the manifest at
+//! most [`crate::files::MAX_TEXT_BYTES`]; a manifest without vectors is an
+//! error. Kernel parameters that size a buffer are limited by each family
+//! ([`crate::family::buffer_len`]).
+//!
 //! `golden check` verifies the manifest, every digest and length, then
 //! recomputes every vector with the kernels and compares the bytes: any
 //! single-bit difference fails that vector. `golden write` refuses to
-//! replace an existing manifest unless told to overwrite.
+//! replace an existing manifest unless told to overwrite, writes every file
+//! to a temporary name first and renames them into place (the manifest
+//! last) only when all were written; it never deletes a file, and lists the
+//! `.bin` files of the folder that the new manifest does not name.
 
+use crate::files::{self, FileError, Outputs};
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use std::fs;
 use std::path::{Path, PathBuf};
 use thiserror::Error;
+
+/// Largest width or height of a golden image (a grid blob is stored as one
+/// row of bytes, hence more than the kernels' 32767).
+pub const MAX_DIM: usize = 1 << 24;
+/// Largest channel count of a golden image.
+pub const MAX_CHANNELS: usize = 16;
 
 /// Value of the `format` field.
 pub const FORMAT: &str = "fixsight-golden";
@@ -141,10 +159,19 @@ impl Blob {
     blob_conv!(from_i32, to_i32, i32, Elem::I32);
     blob_conv!(from_u32, to_u32, u32, Elem::U32);
 
-    /// Expected byte length from the header fields.
-    pub fn expected_len(&self) -> usize {
-        self.width * self.height * self.channels * self.elem.size()
+    /// Expected byte length from the header fields; `None` when it does not
+    /// fit a `usize`.
+    pub fn expected_len(&self) -> Option<usize> {
+        image_len(self.elem, self.width, self.height, self.channels)
     }
+}
+
+/// `width * height * channels * size_of(elem)` without overflow.
+pub fn image_len(elem: Elem, width: usize, height: usize, channels: usize) -> Option<usize> {
+    width
+        .checked_mul(height)?
+        .checked_mul(channels)?
+        .checked_mul(elem.size())
 }
 
 /// One image entry of the manifest.
@@ -218,16 +245,17 @@ pub struct GoldenCase {
 /// Everything that can go wrong reading or writing golden vectors.
 #[derive(Debug, Error)]
 pub enum GoldenError {
-    /// A file could not be read or written.
-    #[error("cannot access {path}: {source}")]
-    Io {
-        /// The file.
+    /// A file could not be read or written (the message names it).
+    #[error(transparent)]
+    File(#[from] FileError),
+    /// The manifest lists no vectors.
+    #[error("{}: the manifest lists no vectors; an empty golden folder proves nothing", files::shown_path(.path))]
+    Empty {
+        /// The manifest.
         path: PathBuf,
-        /// The OS error.
-        source: std::io::Error,
     },
     /// The manifest is not valid JSON of the expected shape.
-    #[error("{path} is not a valid golden manifest: {source}")]
+    #[error("{} is not a valid golden manifest: {source}", files::shown_path(.path))]
     Json {
         /// The manifest.
         path: PathBuf,
@@ -235,7 +263,7 @@ pub enum GoldenError {
         source: serde_json::Error,
     },
     /// Wrong `format` field.
-    #[error("{path}: format is \"{found}\", expected \"{FORMAT}\"")]
+    #[error("{}: format is {}, expected `{FORMAT}`", files::shown_path(.path), files::shown(.found))]
     Format {
         /// The manifest.
         path: PathBuf,
@@ -243,7 +271,7 @@ pub enum GoldenError {
         found: String,
     },
     /// Unsupported version.
-    #[error("{path}: version {found} is not supported (this tool reads version {VERSION})")]
+    #[error("{}: version {found} is not supported (this tool reads version {VERSION})", files::shown_path(.path))]
     Version {
         /// The manifest.
         path: PathBuf,
@@ -251,7 +279,7 @@ pub enum GoldenError {
         found: u32,
     },
     /// A structural problem in the manifest.
-    #[error("{path}: vector `{id}`: {reason}")]
+    #[error("{}: vector {}: {reason}", files::shown_path(.path), files::shown(.id))]
     Inconsistent {
         /// The manifest.
         path: PathBuf,
@@ -261,7 +289,7 @@ pub enum GoldenError {
         reason: String,
     },
     /// `golden write` would replace existing vectors.
-    #[error("{path} already exists; pass --overwrite to replace the golden vectors")]
+    #[error("{} already exists; pass --overwrite to replace the golden vectors", files::shown_path(.path))]
     Exists {
         /// The manifest that exists.
         path: PathBuf,
@@ -288,18 +316,17 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
         .collect()
 }
 
-fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> GoldenError + '_ {
-    move |source| GoldenError::Io {
-        path: path.to_path_buf(),
-        source,
-    }
-}
-
 /// Reads and validates the manifest's structure (not the image files).
 pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
     let path = dir.join(MANIFEST);
-    let text = fs::read_to_string(&path).map_err(io_err(&path))?;
-    let m: Manifest = serde_json::from_str(&text).map_err(|source| GoldenError::Json {
+    let text = files::read_text(&path)?;
+    parse_manifest(&text, &path)
+}
+
+/// Parses and validates a manifest's text; `path` names it in errors.
+pub fn parse_manifest(text: &str, path: &Path) -> Result<Manifest, GoldenError> {
+    let path = path.to_path_buf();
+    let m: Manifest = serde_json::from_str(text).map_err(|source| GoldenError::Json {
         path: path.clone(),
         source,
     })?;
@@ -314,6 +341,9 @@ pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
             path,
             found: m.version,
         });
+    }
+    if m.vectors.is_empty() {
+        return Err(GoldenError::Empty { path });
     }
     let mut seen = std::collections::BTreeSet::new();
     for v in &m.vectors {
@@ -340,9 +370,6 @@ pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
                     img.file
                 )));
             }
-            if img.width == 0 || img.height == 0 || img.channels == 0 {
-                return Err(bad(format!("image `{}` has a zero dimension", img.name)));
-            }
             if img.sha256.len() != 64 || !img.sha256.chars().all(|c| c.is_ascii_hexdigit()) {
                 return Err(bad(format!(
                     "image `{}`: sha256 must be 64 hex digits",
@@ -357,10 +384,46 @@ pub fn read_manifest(dir: &Path) -> Result<Manifest, GoldenError> {
     Ok(m)
 }
 
-/// Loads one image of a vector, checking its length and digest.
+/// Checks an image entry's sizes against the limits in the module docs.
+pub fn check_image_entry(img: &ImageEntry) -> Result<usize, String> {
+    let name = files::shown(&img.name);
+    for (what, v, max) in [
+        ("width", img.width, MAX_DIM),
+        ("height", img.height, MAX_DIM),
+        ("channels", img.channels, MAX_CHANNELS),
+    ] {
+        if v == 0 || v > max {
+            return Err(format!("image {name}: {what} {v} is outside 1..={max}"));
+        }
+    }
+    match image_len(img.elem, img.width, img.height, img.channels) {
+        Some(n) if n as u64 <= files::MAX_IMAGE_BYTES => Ok(n),
+        _ => Err(format!(
+            "image {name}: {}x{}x{} {:?} needs more than the {} bytes allowed per image",
+            img.width,
+            img.height,
+            img.channels,
+            img.elem,
+            files::MAX_IMAGE_BYTES
+        )),
+    }
+}
+
+/// Loads one image of a vector, checking its sizes, length and digest.
 pub fn load_image(dir: &Path, img: &ImageEntry) -> Result<Blob, String> {
-    let path = dir.join(&img.file);
-    let bytes = fs::read(&path).map_err(|e| format!("cannot read {}: {e}", path.display()))?;
+    let len = check_image_entry(img)?;
+    let path = dir.join(files::plain_name(&img.file).map_err(|e| e.to_string())?);
+    let bytes = files::read_bounded(&path, len as u64).map_err(|e| match e {
+        FileError::TooLarge { size, .. } => format!(
+            "{} holds {size} bytes or more but {}x{}x{} {:?} needs {len}",
+            files::shown(&img.file),
+            img.width,
+            img.height,
+            img.channels,
+            img.elem
+        ),
+        e => e.to_string(),
+    })?;
     let blob = Blob {
         name: img.name.clone(),
         elem: img.elem,
@@ -369,23 +432,23 @@ pub fn load_image(dir: &Path, img: &ImageEntry) -> Result<Blob, String> {
         channels: img.channels,
         bytes,
     };
-    if blob.bytes.len() != blob.expected_len() {
+    if blob.bytes.len() != len {
         return Err(format!(
-            "{} holds {} bytes but {}x{}x{} {:?} needs {}",
-            img.file,
+            "{} holds {} bytes but {}x{}x{} {:?} needs {len}",
+            files::shown(&img.file),
             blob.bytes.len(),
             img.width,
             img.height,
             img.channels,
             img.elem,
-            blob.expected_len()
         ));
     }
     let digest = sha256_hex(&blob.bytes);
     if !digest.eq_ignore_ascii_case(&img.sha256) {
         return Err(format!(
             "{} has SHA-256 {digest}, manifest says {} (file changed or corrupted)",
-            img.file, img.sha256
+            files::shown(&img.file),
+            img.sha256
         ));
     }
     Ok(blob)
@@ -461,7 +524,11 @@ pub fn compare_outputs(expected: &[Blob], got: &[Blob]) -> Result<(), String> {
 /// problems are errors; per-vector problems are listed in the summary's
 /// `failures`.
 pub fn check(dir: &Path, run: RunVector) -> Result<GoldenSummary, GoldenError> {
-    let m = read_manifest(dir)?;
+    Ok(check_manifest(dir, &read_manifest(dir)?, run))
+}
+
+/// Checks every vector of a parsed manifest against the files of `dir`.
+pub fn check_manifest(dir: &Path, m: &Manifest, run: RunVector) -> GoldenSummary {
     let mut s = GoldenSummary {
         vectors: m.vectors.len(),
         ..Default::default()
@@ -472,27 +539,41 @@ pub fn check(dir: &Path, run: RunVector) -> Result<GoldenSummary, GoldenError> {
             Err(e) => s.failures.push((v.id.clone(), e)),
         }
     }
-    Ok(s)
+    s
 }
 
-/// Writes `cases` as a golden folder. Refuses to replace an existing
-/// manifest unless `overwrite`; when overwriting, `.bin` files no longer
-/// referenced are removed.
-pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Manifest, GoldenError> {
+/// Refuses to go on when `dir` holds a manifest and `overwrite` is not
+/// set: `golden write` calls this before computing anything.
+pub fn refuse_existing(dir: &Path, overwrite: bool) -> Result<(), GoldenError> {
     let mpath = dir.join(MANIFEST);
-    if mpath.exists() && !overwrite {
+    if !overwrite && fs::symlink_metadata(&mpath).is_ok() {
         return Err(GoldenError::Exists { path: mpath });
     }
-    fs::create_dir_all(dir).map_err(io_err(dir))?;
+    Ok(())
+}
+
+/// What `golden write` did.
+#[derive(Debug, Clone)]
+pub struct Written {
+    /// The manifest written.
+    pub manifest: Manifest,
+    /// `.bin` files of the folder that the new manifest does not name; the
+    /// tool leaves them in place.
+    pub unreferenced: Vec<String>,
+}
+
+/// Writes `cases` as a golden folder (rules in the module docs). Refuses to
+/// replace an existing manifest, or any file it would write, unless
+/// `overwrite`.
+pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Written, GoldenError> {
+    refuse_existing(dir, overwrite)?;
+    let mpath = dir.join(MANIFEST);
     let mut vectors = Vec::new();
-    let mut files = std::collections::BTreeSet::new();
+    let mut images: Vec<(String, &[u8])> = Vec::new();
     for c in cases {
-        let mut entry = |b: &Blob| -> Result<ImageEntry, GoldenError> {
+        let mut entry = |b: &'_ Blob| -> ImageEntry {
             let file = format!("{}.{}.bin", c.id, b.name);
-            let path = dir.join(&file);
-            fs::write(&path, &b.bytes).map_err(io_err(&path))?;
-            files.insert(file.clone());
-            Ok(ImageEntry {
+            ImageEntry {
                 name: b.name.clone(),
                 file,
                 elem: b.elem,
@@ -500,14 +581,17 @@ pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Manife
                 height: b.height,
                 channels: b.channels,
                 sha256: sha256_hex(&b.bytes),
-            })
+            }
         };
-        let inputs = c.inputs.iter().map(&mut entry).collect::<Result<_, _>>()?;
-        let expected = c
-            .expected
+        let inputs: Vec<ImageEntry> = c.inputs.iter().map(&mut entry).collect();
+        let expected: Vec<ImageEntry> = c.expected.iter().map(&mut entry).collect();
+        for (e, b) in inputs
             .iter()
-            .map(&mut entry)
-            .collect::<Result<_, _>>()?;
+            .zip(&c.inputs)
+            .chain(expected.iter().zip(&c.expected))
+        {
+            images.push((e.file.clone(), &b.bytes));
+        }
         vectors.push(VectorEntry {
             id: c.id.clone(),
             comment: c.comment.clone(),
@@ -525,18 +609,33 @@ pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Manife
     let text = serde_json::to_string_pretty(&m).map_err(|source| GoldenError::Json {
         path: mpath.clone(),
         source,
-    })?;
-    fs::write(&mpath, text + "\n").map_err(io_err(&mpath))?;
-    if let Ok(rd) = fs::read_dir(dir) {
-        for e in rd.flatten() {
-            let name = e.file_name().to_string_lossy().to_string();
-            if name.ends_with(".bin") && !files.contains(&name) {
-                let _ = fs::remove_file(e.path());
-            }
-        }
+    })? + "\n";
+    let names: Vec<&str> = images
+        .iter()
+        .map(|(n, _)| n.as_str())
+        .chain([MANIFEST])
+        .collect();
+    let mut out = Outputs::new(dir, names.iter().copied(), overwrite, "--overwrite")?;
+    for (name, bytes) in &images {
+        out.write(name, bytes)?;
     }
+    out.write(MANIFEST, text.as_bytes())?;
+    out.commit()?;
+    let named: std::collections::BTreeSet<&str> = names.into_iter().collect();
+    let mut unreferenced: Vec<String> = fs::read_dir(dir)
+        .map(|rd| {
+            rd.flatten()
+                .map(|e| e.file_name().to_string_lossy().to_string())
+                .filter(|n| n.ends_with(".bin") && !named.contains(n.as_str()))
+                .collect()
+        })
+        .unwrap_or_default();
+    unreferenced.sort();
     // Validate what was written with the same reader `check` uses.
-    read_manifest(dir)
+    Ok(Written {
+        manifest: read_manifest(dir)?,
+        unreferenced,
+    })
 }
 
 /// Crops a `w x h` window at `(x0, y0)` out of a scene (for small golden

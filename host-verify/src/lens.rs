@@ -41,8 +41,43 @@
 //!
 //! Every problem is reported with its line number (or "missing") and key.
 
+use crate::files::shown;
 use std::collections::BTreeMap;
 use thiserror::Error;
+
+/// A number for a message: up to 6 significant digits, scientific notation
+/// outside `1e-4..1e6` (never the hundreds of digits of a tiny `f64`).
+///
+/// ```
+/// use fixsight_verify::lens::readable;
+/// assert_eq!(readable(0.0), "0");
+/// assert_eq!(readable(100000.0), "100000");
+/// assert_eq!(readable(832.5), "832.5");
+/// assert_eq!(readable(f64::MIN_POSITIVE), "2.22507e-308");
+/// ```
+pub fn readable(x: f64) -> String {
+    if x == 0.0 || (1e-4..1e6).contains(&x.abs()) {
+        let t = format!(
+            "{:.*}",
+            (5 - x.abs().log10().floor().max(-5.0) as i32).max(0) as usize,
+            x
+        );
+        if t.contains('.') {
+            t.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            t
+        }
+    } else {
+        let t = format!("{x:.5e}");
+        let (m, e) = t.split_once('e').unwrap_or((&t, "0"));
+        let m = if m.contains('.') {
+            m.trim_end_matches('0').trim_end_matches('.')
+        } else {
+            m
+        };
+        format!("{m}e{e}")
+    }
+}
 
 /// Pinhole intrinsics in pixels.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -381,7 +416,7 @@ pub struct LensSpec {
 
 /// A problem in a lens file: line (0 = whole file / missing) and key.
 #[derive(Debug, Error, PartialEq)]
-#[error("{}: `{key}`: {problem}", if *.line == 0 { "lens file".to_string() } else { format!("lens file line {}", .line) })]
+#[error("{}: {}: {problem}", if *.line == 0 { "lens file".to_string() } else { format!("lens file line {}", .line) }, crate::files::shown(.key))]
 pub struct LensFileError {
     /// 1-based line, or 0 for a missing key or a whole-file problem.
     pub line: usize,
@@ -432,7 +467,13 @@ impl LensSpec {
             };
             let (k, v) = (k.trim(), v.trim());
             if !KEYS.contains(&k) && k != "view_cy" {
-                return Err(err(line, k, "unknown key".into()));
+                let why = if k.starts_with('\u{feff}') {
+                    "unknown key (the file starts with a byte-order mark; save it as UTF-8 \
+                     without one)"
+                } else {
+                    "unknown key"
+                };
+                return Err(err(line, k, why.into()));
             }
             if v.is_empty() {
                 return Err(err(line, k, "empty value".into()));
@@ -455,12 +496,20 @@ impl LensSpec {
             let (line, v) = text_of(k)?;
             let x: f64 = v
                 .parse()
-                .map_err(|_| err(line, k, format!("`{v}` is not a number")))?;
+                .map_err(|_| err(line, k, format!("{} is not a number", shown(&v))))?;
             if !x.is_finite() {
-                return Err(err(line, k, format!("`{v}` is not finite")));
+                return Err(err(line, k, format!("{} is not finite", shown(&v))));
             }
             if x < lo || x > hi {
-                return Err(err(line, k, format!("{x} is outside {lo}..={hi}")));
+                let range = if lo == f64::MIN_POSITIVE {
+                    format!(
+                        "is outside the accepted range (above 0, at most {})",
+                        readable(hi)
+                    )
+                } else {
+                    format!("is outside {}..={}", readable(lo), readable(hi))
+                };
+                return Err(err(line, k, format!("{} {range}", readable(x))));
             }
             Ok(x)
         };
@@ -468,7 +517,7 @@ impl LensSpec {
             let (line, v) = text_of(k)?;
             let x: usize = v
                 .parse()
-                .map_err(|_| err(line, k, format!("`{v}` is not a whole number")))?;
+                .map_err(|_| err(line, k, format!("{} is not a whole number", shown(&v))))?;
             if !(1..=32767).contains(&x) {
                 return Err(err(line, k, format!("{x} is outside 1..=32767")));
             }
@@ -479,7 +528,7 @@ impl LensSpec {
             return Err(err(
                 fl,
                 "format",
-                format!("`{fv}` is not `fixsight-lens 1`"),
+                format!("{} is not `fixsight-lens 1`", shown(&fv)),
             ));
         }
         let sensor = (int("sensor_width")?, int("sensor_height")?);
@@ -498,7 +547,7 @@ impl LensSpec {
                 return Err(err(
                     ml,
                     "model",
-                    format!("`{model}` is not `brown` or `fisheye`"),
+                    format!("{} is not `brown` or `fisheye`", shown(&model)),
                 ))
             }
         };
@@ -543,9 +592,28 @@ impl LensSpec {
         let mode = kv.get("view").map(|(l, v)| (*l, v.clone()));
         let (view, fitted) = match mode.as_ref().map(|(l, v)| (*l, v.as_str())) {
             None | Some((_, "fit")) => {
+                let line = mode.as_ref().map_or(0, |m| m.0);
                 let v = camera
                     .fit_view(output.0, output.1, sensor.0, sensor.1)
-                    .map_err(|e| err(mode.as_ref().map_or(0, |m| m.0), "view", e.to_string()))?;
+                    .map_err(|e| err(line, "view", e.to_string()))?;
+                // The fitted view obeys the range of a manual one: a focal
+                // length past it means a view of a few pixels of the sensor.
+                if !(v.fx <= 1e5 && v.fy <= 1e5) {
+                    return Err(err(
+                        line,
+                        "view",
+                        format!(
+                            "the fitted view needs f' = {} px, above the 100000 px a view may \
+                             have: the principal point ({}, {}) leaves almost no sensor on one \
+                             side for a {}x{} output; check cx and cy, or give a manual view",
+                            readable(v.fx.max(v.fy)),
+                            readable(intrinsics.cx),
+                            readable(intrinsics.cy),
+                            output.0,
+                            output.1
+                        ),
+                    ));
+                }
                 (v, true)
             }
             Some((_, "manual")) => {
@@ -560,7 +628,13 @@ impl LensSpec {
                     false,
                 )
             }
-            Some((l, v)) => return Err(err(l, "view", format!("`{v}` is not `fit` or `manual`"))),
+            Some((l, v)) => {
+                return Err(err(
+                    l,
+                    "view",
+                    format!("{} is not `fit` or `manual`", shown(v)),
+                ))
+            }
         };
         // The map must be finite and stay within one sensor size of the
         // sensor everywhere (the kernel's accepted coordinate range).
@@ -712,6 +786,24 @@ mod tests {
         let e = bad("p1 = 0.0005", "p1 = 3");
         assert_eq!((e.line, e.key.as_str()), (12, "p1"));
         assert!(e.problem.contains("outside"));
+        // Issue 16: a readable number, not the 300 digits of the smallest f64.
+        let e = bad("fx = 130", "fx = 0");
+        assert_eq!(
+            e.problem,
+            "0 is outside the accepted range (above 0, at most 100000)"
+        );
+        // Issue 16: an invisible character is shown as an escape.
+        let e = LensSpec::parse(&format!("\u{feff}{GOOD}")).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("lens file line 1: `\\u{feff}format`: unknown key (the file starts with a byte-order mark"),
+            "{e}"
+        );
+        // Found by the campaign: a principal point at the sensor edge made
+        // the fitted view's focal length explode past the manual limit.
+        let e = bad("cx = 79.5", "cx = 0.09");
+        assert_eq!(e.key, "view");
+        assert!(e.problem.contains("above the 100000 px"), "{e}");
         let e = bad("sensor_width = 160", "sensor_width = 0");
         assert_eq!((e.line, e.key.as_str()), (3, "sensor_width"));
         let e = bad("model = brown", "model = ultra");

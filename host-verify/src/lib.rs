@@ -23,6 +23,8 @@
 //! | [`metrics`] | error statistics |
 //! | [`opcount`] | operations per pixel, weighted |
 //! | [`contract`] | the per-kernel report row |
+//! | [`campaign`] | the seeded hostile-input campaign over every parser and kernel family (smoke run in `cargo test`, long run `--example campaign`) |
+//! | [`files`] | bounded reads of regular files and safe output sets, used by every command |
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
 //! | [`report`] | the verification report |
@@ -35,12 +37,14 @@
 pub mod border;
 pub mod c_firmware;
 pub mod calibrate;
+pub mod campaign;
 pub mod chain;
 pub mod cmd;
 pub mod contract;
 pub mod edge_chain;
 pub mod families;
 pub mod family;
+pub mod files;
 pub mod filter;
 pub mod golden;
 pub mod golden_c;

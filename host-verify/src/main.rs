@@ -37,9 +37,14 @@ enum Cmd {
         /// Output folder.
         #[arg(long, default_value = "fixsight-grid")]
         out: PathBuf,
-        /// File stem and identifier stem of the outputs.
+        /// File stem and identifier stem of the outputs: letters, digits,
+        /// `_`, `-`, `.`; the files go into --out.
         #[arg(long, default_value = "lens_grid")]
         name: String,
+        /// Replace output files that already exist (refused otherwise,
+        /// naming the file, before anything is computed).
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Calibrate a lens from photographs of a flat checkerboard: writes a
     /// lens file (`fixsight-lens 1`, its path on the last line) for `grid`,
@@ -67,9 +72,10 @@ enum Cmd {
         /// Fractional bits (2..=10) for the report's grid error.
         #[arg(long, default_value_t = 5)]
         frac_bits: u32,
-        /// Replace existing output files.
+        /// Replace output files that already exist (refused otherwise,
+        /// naming the file).
         #[arg(long)]
-        replace: bool,
+        overwrite: bool,
     },
     /// Warp precision sweep (fractional bits x pixel map and control-grid
     /// spacings) on a demo scene: sweep.md, sweep.json and sweep.png.
@@ -77,6 +83,9 @@ enum Cmd {
         /// Output folder.
         #[arg(long, default_value = "fixsight-sweep")]
         out: PathBuf,
+        /// Replace output files that already exist.
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
@@ -92,9 +101,12 @@ enum Cmd {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
         out: PathBuf,
-        /// Golden-vector folder (default: ./golden, else the repository's).
+        /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+        /// Replace the report's files (report.json, scene PNGs) if they exist.
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
     /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
@@ -103,12 +115,15 @@ enum Cmd {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
         out: PathBuf,
-        /// Golden-vector folder (default: ./golden, else the repository's).
+        /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
         /// Only the firmware in this language (`rust` or `c`); default both.
         #[arg(long, value_parser = ["rust", "c"])]
         lang: Option<String>,
+        /// Replace targets.json and the files in targets-logs/ if they exist.
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Check or regenerate the golden vectors.
     Golden {
@@ -121,13 +136,13 @@ enum Cmd {
 enum GoldenCmd {
     /// Recompute every vector with the kernels and compare bit for bit.
     Check {
-        /// Golden-vector folder (default: ./golden, else the repository's).
+        /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
     },
     /// Regenerate the vectors from the current kernels.
     Write {
-        /// Golden-vector folder (default: ./golden, else the repository's).
+        /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
         /// Replace existing vectors (needed when a manifest exists).
@@ -156,10 +171,11 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             frac_bits,
             out,
             name,
+            overwrite,
         } => {
             println!(
                 "{}",
-                cmd::grid::run(&lens, grid_log2, frac_bits, &out, &name)?
+                cmd::grid::run(&lens, grid_log2, frac_bits, &out, &name, overwrite)?
             );
             Ok(true)
         }
@@ -171,7 +187,7 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             out,
             grid_log2,
             frac_bits,
-            replace,
+            overwrite,
         } => {
             let req = cmd::calibrate::Request {
                 images,
@@ -180,18 +196,27 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
                 out,
                 grid_log2,
                 frac_bits,
-                replace,
+                overwrite,
             };
             print!("{}", cmd::calibrate::run(&req)?);
             Ok(true)
         }
-        Cmd::Sweep { out } => {
-            print!("{}", cmd::sweep::run(&out)?);
-            println!("written to {}", out.display());
+        Cmd::Sweep { out, overwrite } => {
+            print!("{}", cmd::sweep::run(&out, overwrite)?);
+            println!("written to {}", fixsight_verify::files::shown_path(&out));
             Ok(true)
         }
-        Cmd::Report { out, vectors } => cmd::report::run(&out, vectors),
-        Cmd::Targets { out, vectors, lang } => cmd::targets::run(&out, vectors, lang.as_deref()),
+        Cmd::Report {
+            out,
+            vectors,
+            overwrite,
+        } => cmd::report::run(&out, vectors, overwrite),
+        Cmd::Targets {
+            out,
+            vectors,
+            lang,
+            overwrite,
+        } => cmd::targets::run(&out, vectors, lang.as_deref(), overwrite),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),

@@ -20,6 +20,7 @@
 use crate::contract::KernelReport;
 use crate::families::check_golden;
 use crate::families::FAMILIES;
+use crate::files::Outputs;
 use crate::golden::GoldenSummary;
 use crate::scene::{demo_scenes, Scene};
 use anyhow::Context;
@@ -71,18 +72,26 @@ pub fn check_all(scenes: &[Scene]) -> Vec<KernelReport> {
 
 /// Builds the report: scenes, checks, golden vectors in `golden_dir`, and
 /// `targets.json` from `out_dir` if present. Writes scene PNGs and
-/// `report.json` into `out_dir`.
-pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
-    std::fs::create_dir_all(out_dir)
-        .with_context(|| format!("cannot create output folder {}", out_dir.display()))?;
+/// `report.json` into `out_dir` through [`crate::files::Outputs`]: refused
+/// before anything runs when one of them exists and `overwrite` is not set.
+pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result<Report> {
+    let pngs: Vec<String> = crate::scene::DEMO_SPECS
+        .iter()
+        .map(|s| format!("scene-{}.png", s.name))
+        .collect();
+    let mut outputs = Outputs::new(
+        out_dir,
+        pngs.iter().map(String::as_str).chain(["report.json"]),
+        overwrite,
+        "--overwrite",
+    )?;
     let scenes = demo_scenes();
     let mut infos = Vec::new();
     for s in &scenes {
         let file = format!("scene-{}.png", s.name);
-        image::GrayImage::from_raw(s.width as u32, s.height as u32, s.gray.clone())
-            .context("scene buffer has the scene's size")?
-            .save(out_dir.join(&file))
-            .with_context(|| format!("cannot write {}", out_dir.join(&file).display()))?;
+        let img = image::GrayImage::from_raw(s.width as u32, s.height as u32, s.gray.clone())
+            .context("scene buffer has the scene's size")?;
+        outputs.write_with(&file, |p| img.save(p).map_err(std::io::Error::other))?;
         infos.push(SceneInfo {
             name: s.name.into(),
             description: s.description.into(),
@@ -102,13 +111,14 @@ pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
         },
     };
     let targets_path = out_dir.join("targets.json");
-    let targets = if targets_path.exists() {
-        let text = std::fs::read_to_string(&targets_path)
-            .with_context(|| format!("cannot read {}", targets_path.display()))?;
-        Some(
-            serde_json::from_str(&text)
-                .with_context(|| format!("{} is not valid JSON", targets_path.display()))?,
-        )
+    let targets = if std::fs::symlink_metadata(&targets_path).is_ok() {
+        let text = crate::files::read_text(&targets_path)?;
+        Some(serde_json::from_str(&text).with_context(|| {
+            format!(
+                "{} is not valid JSON",
+                crate::files::shown_path(&targets_path)
+            )
+        })?)
     } else {
         None
     };
@@ -129,9 +139,11 @@ pub fn run(out_dir: &Path, golden_dir: &Path) -> anyhow::Result<Report> {
         kernels,
         targets,
     };
-    let path = out_dir.join("report.json");
-    std::fs::write(&path, serde_json::to_string_pretty(&report)? + "\n")
-        .with_context(|| format!("cannot write {}", path.display()))?;
+    outputs.write(
+        "report.json",
+        (serde_json::to_string_pretty(&report)? + "\n").as_bytes(),
+    )?;
+    outputs.commit()?;
     Ok(report)
 }
 

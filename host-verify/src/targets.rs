@@ -44,6 +44,8 @@ use std::process::Command;
 
 /// File name of the results in the output folder.
 pub const TARGETS_JSON: &str = "targets.json";
+/// Folder of the console and plugin logs, inside the output folder.
+pub const LOGS_DIR: &str = "targets-logs";
 
 /// Every Rust target the firmware needs.
 pub const TRIPLES: [&str; 4] = [
@@ -177,7 +179,7 @@ pub struct KernelFigures {
 /// Reads `targets.json` from `dir` if present and well-formed (for the
 /// report).
 pub fn load_targets_json(dir: &Path) -> Option<TargetsReport> {
-    let text = std::fs::read_to_string(dir.join(TARGETS_JSON)).ok()?;
+    let text = crate::files::read_text(&dir.join(TARGETS_JSON)).ok()?;
     let r: TargetsReport = serde_json::from_str(&text).ok()?;
     (r.schema == 1).then_some(r)
 }
@@ -642,7 +644,7 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
     let root = repo_root();
     let golden = std::fs::canonicalize(golden)
         .with_context(|| format!("golden folder {}", golden.display()))?;
-    let logs = out.join("targets-logs");
+    let logs = out.join(LOGS_DIR);
     std::fs::create_dir_all(&logs)?;
     let plugin = build_plugin(&root)?;
     let mut report = TargetsReport {
@@ -663,10 +665,13 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
         problems.extend(p);
     }
     print!("{}", table(&report));
-    std::fs::write(
-        out.join(TARGETS_JSON),
-        serde_json::to_string_pretty(&report)? + "\n",
+    // The command checked the overwrite rule before the run.
+    let mut o = crate::files::Outputs::new(out, [TARGETS_JSON], true, "--overwrite")?;
+    o.write(
+        TARGETS_JSON,
+        (serde_json::to_string_pretty(&report)? + "\n").as_bytes(),
     )?;
+    o.commit()?;
     println!("targets written to {}", out.join(TARGETS_JSON).display());
     for p in &problems {
         println!("FAIL {p}");

@@ -158,13 +158,13 @@ fn command_writes_a_lens_file_the_grid_command_takes_and_never_overwrites() {
         .output()
         .unwrap();
     assert!(m.status.success(), "{}", String::from_utf8_lossy(&m.stderr));
-    // A second run refuses to replace, naming the file; --replace replaces.
+    // A second run refuses to replace, naming the file; --overwrite replaces.
     let before = std::fs::read(&lens).unwrap();
     let (ok, _, stderr) = run(&images, &out, &[]);
-    assert!(!ok && stderr.contains("exists; pass --replace"), "{stderr}");
+    assert!(!ok && stderr.contains("exists; pass --overwrite"), "{stderr}");
     assert!(stderr.contains(&out.display().to_string()), "{stderr}");
     assert_eq!(std::fs::read(&lens).unwrap(), before);
-    let (ok, stdout, stderr) = run(&images, &out, &["--replace"]);
+    let (ok, stdout, stderr) = run(&images, &out, &["--overwrite"]);
     assert!(ok, "{stdout}\n{stderr}");
     // No temporary file is left behind.
     let left: Vec<_> = std::fs::read_dir(&out)

@@ -53,10 +53,10 @@
 //! # Ok::<(), fixsight::Error>(())
 //! ```
 
-use crate::arith::{round_shift, sat_i16, sat_u8};
+use crate::arith::{round_shift_proven, sat_i16, sat_u8};
 use crate::error::{Error, Result};
 use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 use fixed::types::extra::LeEqU16;
 use fixed::FixedI16;
 
@@ -250,7 +250,7 @@ pub trait FilterOutput: Copy + Default + sealed::Sealed {
 impl FilterOutput for u8 {
     #[inline(always)]
     fn from_acc(acc: i32, shift: u32) -> Self {
-        sat_u8(round_shift(acc, shift))
+        sat_u8(round_shift_proven(acc, shift))
     }
     #[inline(always)]
     fn from_rounded(v: i32) -> Self {
@@ -261,7 +261,7 @@ impl FilterOutput for u8 {
 impl FilterOutput for i16 {
     #[inline(always)]
     fn from_acc(acc: i32, shift: u32) -> Self {
-        sat_i16(round_shift(acc, shift))
+        sat_i16(round_shift_proven(acc, shift))
     }
     #[inline(always)]
     fn from_rounded(v: i32) -> Self {
@@ -433,10 +433,10 @@ impl SeparableFilter {
                 kind.column_sum(&rows, acc);
                 // Per pixel: the form's loads and arithmetic, one store, one
                 // loop branch.
-                let w = acc.len() as u32;
+                let w = acc.len();
                 kind.tally_px(w);
-                tally(Op::Store, w);
-                tally(Op::Branch, w);
+                tally_per(Op::Store, 1, w);
+                tally_per(Op::Branch, 1, w);
                 return;
             }
         }
@@ -487,11 +487,11 @@ impl SeparableFilter {
         }
         // Per pixel: n loads + n MACs (the first is a multiply-add onto the
         // bias), one store, one loop branch.
-        let w = acc.len() as u32;
-        tally(Op::Load, w * n as u32);
-        tally(Op::Mac, w * n as u32);
-        tally(Op::Store, w);
-        tally(Op::Branch, w);
+        let w = acc.len();
+        tally_per(Op::Load, n as u32, w);
+        tally_per(Op::Mac, n as u32, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 1, w);
     }
 
     /// Horizontal pass: `out[x] = from_acc(sum_i h[i] * A(x+i-rx), s)` where
@@ -539,30 +539,30 @@ impl SeparableFilter {
                 (None, _) => dot_row::<T, 9>(taps, acc, interior, s),
             }
             // Border pixels: one load and one MAC per tap.
-            let (nb, ni) = (2 * r as u32, (w - 2 * r) as u32);
-            tally(Op::Load, nb * k);
-            tally(Op::Mac, nb * k);
+            let (nb, ni) = (2 * r, w - 2 * r);
+            tally_per(Op::Load, k, nb);
+            tally_per(Op::Mac, k, nb);
             match fixed {
                 Some(kind) => kind.tally_px(ni),
                 None => {
-                    tally(Op::Load, ni * k);
-                    tally(Op::Mac, ni * k);
+                    tally_per(Op::Load, k, ni);
+                    tally_per(Op::Mac, k, ni);
                 }
             }
         } else {
             for (x, o) in out.iter_mut().enumerate().take(w) {
                 *o = border_px(x);
             }
-            tally(Op::Load, w as u32 * k);
-            tally(Op::Mac, w as u32 * k);
+            tally_per(Op::Load, k, w);
+            tally_per(Op::Mac, k, w);
         }
-        let n = w as u32;
+        let n = w;
         // Rounding offset, shift, two saturation compares, store, loop branch.
-        tally(Op::AddSub, n);
-        tally(Op::Shift, n);
-        tally(Op::Logic, 2 * n);
-        tally(Op::Store, n);
-        tally(Op::Branch, n);
+        tally_per(Op::AddSub, 1, n);
+        tally_per(Op::Shift, 1, n);
+        tally_per(Op::Logic, 2, n);
+        tally_per(Op::Store, 1, n);
+        tally_per(Op::Branch, 1, n);
     }
 }
 
@@ -652,7 +652,7 @@ impl FixedTaps {
     }
 
     /// Tallies `n` evaluations of the form: its loads and arithmetic.
-    fn tally_px(self, n: u32) {
+    fn tally_px(self, n: usize) {
         // (loads, add/sub, shifts, multiplies by a constant)
         let (ld, add, sh, mul) = match self {
             Self::Binomial3 => (3, 2, 1, 0),
@@ -661,10 +661,10 @@ impl FixedTaps {
             Self::Diff3 => (2, 1, 0, 0),
             Self::Scharr3 => (3, 2, 0, 2),
         };
-        tally(Op::Load, n * ld);
-        tally(Op::AddSub, n * add);
-        tally(Op::Shift, n * sh);
-        tally(Op::Mul, n * mul);
+        tally_per(Op::Load, ld, n);
+        tally_per(Op::AddSub, add, n);
+        tally_per(Op::Shift, sh, n);
+        tally_per(Op::Mul, mul, n);
     }
 
     /// `acc[x] = form(rows[0][x], rows[1][x], ...)`, rows `0..len`.
@@ -894,8 +894,8 @@ impl<'f, 'b> FilterStream<'f, 'b> {
         self.check_out(out.len())?;
         let slot = (self.pushed % self.ring_rows) * self.width;
         self.ring[slot..slot + self.width].copy_from_slice(&row[..self.width]);
-        tally(Op::Load, self.width as u32);
-        tally(Op::Store, self.width as u32);
+        tally_per(Op::Load, 1, self.width);
+        tally_per(Op::Store, 1, self.width);
         self.pushed += 1;
         let ry = self.filter.v.radius();
         if self.pushed >= (self.emitted + ry + 1).min(self.height) {

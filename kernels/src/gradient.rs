@@ -61,7 +61,7 @@
 use crate::arith::{abs_sat_i16, round_shift, sat_u16};
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally_per, Op};
 
 /// `alpha` numerator of the L2 estimate (denominator 128).
 pub const L2_ALPHA: i32 = 123;
@@ -250,12 +250,11 @@ pub fn magnitude_l1_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
         *o = l1(a, b);
     }
     // Two loads, two abs (compare + negate), one add, one store, loop branch.
-    let n = n as u32;
-    tally(Op::Load, 2 * n);
-    tally(Op::Logic, 2 * n);
-    tally(Op::AddSub, 3 * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, n);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 2, n);
+    tally_per(Op::AddSub, 3, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
     Ok(())
 }
 
@@ -274,15 +273,14 @@ pub fn magnitude_l2_approx_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Resul
     }
     // Loads 2, abs 2x(compare+negate), max/min compare 1, mul 1 + mac 1,
     // rounding add 1, shift 1, saturation compares 2, store 1, branch 1.
-    let n = n as u32;
-    tally(Op::Load, 2 * n);
-    tally(Op::Logic, 5 * n);
-    tally(Op::AddSub, 3 * n);
-    tally(Op::Mul, n);
-    tally(Op::Mac, n);
-    tally(Op::Shift, n);
-    tally(Op::Store, n);
-    tally(Op::Branch, n);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 5, n);
+    tally_per(Op::AddSub, 3, n);
+    tally_per(Op::Mul, 1, n);
+    tally_per(Op::Mac, 1, n);
+    tally_per(Op::Shift, 1, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
     Ok(())
 }
 
@@ -299,13 +297,13 @@ pub fn magnitude_l2_approx_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Resul
 pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
     let n = row_len(gx, gy, out.len())?;
     // Square-root steps and step-count compares of the row.
-    let (mut k, mut c) = (0u32, 0u32);
+    let (mut k, mut c) = (0usize, 0usize);
     for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
         *o = l2_round(a, b);
         let (ax, ay) = (abs_sat_i16(a) as u32, abs_sat_i16(b) as u32);
         let steps = sqrt_steps(ax * ax + ay * ay);
-        k += steps;
-        c += (steps / 4).min(3);
+        k += steps as usize;
+        c += (steps / 4).min(3) as usize;
     }
     // Per pixel: loads 2, abs 2x(compare+negate), one mul + one mac for the
     // sum of squares, 1 to 3 compares and branches choosing the step count;
@@ -313,15 +311,19 @@ pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result
     // conditional subtract and add (counted as two adds and one select,
     // whichever way it goes), a shift (bit) and the loop branch; then the
     // rounding compare and add, store 1, loop branch 1.
-    let n = n as u32;
-    tally(Op::Load, 2 * n);
-    tally(Op::Logic, 3 * n + c + 2 * k);
-    tally(Op::AddSub, 3 * n + 3 * k);
-    tally(Op::Mul, n);
-    tally(Op::Mac, n);
-    tally(Op::Shift, 2 * k);
-    tally(Op::Store, n);
-    tally(Op::Branch, n + c + k);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 3, n);
+    tally_per(Op::Logic, 1, c);
+    tally_per(Op::Logic, 2, k);
+    tally_per(Op::AddSub, 3, n);
+    tally_per(Op::AddSub, 3, k);
+    tally_per(Op::Mul, 1, n);
+    tally_per(Op::Mac, 1, n);
+    tally_per(Op::Shift, 2, k);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
+    tally_per(Op::Branch, 1, c);
+    tally_per(Op::Branch, 1, k);
     Ok(())
 }
 
@@ -335,22 +337,23 @@ pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result
 /// ```
 pub fn direction_row(gx: &[i16], gy: &[i16], out: &mut [u8]) -> Result<()> {
     let n = row_len(gx, gy, out.len())?;
-    let mut branches = 0u32;
+    let mut branches = 0usize;
     for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
         let d = direction_sector(a, b);
         branches += if d == 0 { 1 } else { 2 };
         *o = d;
     }
-    let n32 = n as u32;
     // Loads 2, abs 2x(compare+negate), add 1, squares: 1 mul + 1 mul,
     // shift (2 ax^2) 1, compare 1 (+ up to 2 more), store 1, loop branch.
-    tally(Op::Load, 2 * n32);
-    tally(Op::Logic, 3 * n32 + branches);
-    tally(Op::AddSub, 3 * n32);
-    tally(Op::Mul, 2 * n32);
-    tally(Op::Shift, n32);
-    tally(Op::Store, n32);
-    tally(Op::Branch, n32 + branches);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 3, n);
+    tally_per(Op::Logic, 1, branches);
+    tally_per(Op::AddSub, 3, n);
+    tally_per(Op::Mul, 2, n);
+    tally_per(Op::Shift, 1, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
+    tally_per(Op::Branch, 1, branches);
     Ok(())
 }
 
@@ -540,22 +543,22 @@ pub fn angle_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
     for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
         *o = angle(a, b);
     }
-    tally_angles(n as u32);
+    tally_angles(n);
     Ok(())
 }
 
 /// Counts the work of `n` calls of [`angle`]: folding and quadrant tests,
 /// normalisation, then per iteration two shifts, two add/subs, the angle
 /// add, a table load, the sign test and the loop branch.
-pub(crate) fn tally_angles(n: u32) {
+pub(crate) fn tally_angles(n: usize) {
     let it = ANGLE_ITERATIONS as u32;
-    tally(Op::Load, 2 * n);
-    tally(Op::Logic, 6 * n + it * n);
-    tally(Op::AddSub, 3 * n + 3 * it * n);
-    tally(Op::Shift, 4 * n + 2 * it * n);
-    tally(Op::Table, it * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, 4 * n + 2 * it * n);
+    tally_per(Op::Load, 2, n);
+    tally_per(Op::Logic, 6 + it, n);
+    tally_per(Op::AddSub, 3 + 3 * it, n);
+    tally_per(Op::Shift, 4 + 2 * it, n);
+    tally_per(Op::Table, it, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 4 + 2 * it, n);
 }
 
 /// Gradient angles of a frame ([`angle`] per pixel).

@@ -79,7 +79,7 @@
 
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 /// The `fixed` type of the low-threshold fraction, re-exported so callers
 /// need not depend on `fixed` themselves.
 ///
@@ -220,13 +220,13 @@ impl Thresholds {
             }
             // Per pixel: load, compare, branch; per counted pixel shift,
             // min, load/add/store of the bin, count add.
-            let w = mag.width() as u32;
-            tally(Op::Load, 2 * w);
-            tally(Op::Logic, 2 * w);
-            tally(Op::Shift, w);
-            tally(Op::AddSub, 2 * w);
-            tally(Op::Store, w);
-            tally(Op::Branch, 2 * w);
+            let w = mag.width();
+            tally_per(Op::Load, 2, w);
+            tally_per(Op::Logic, 2, w);
+            tally_per(Op::Shift, 1, w);
+            tally_per(Op::AddSub, 2, w);
+            tally_per(Op::Store, 1, w);
+            tally_per(Op::Branch, 2, w);
         }
         Self::from_counts(hist, shift, high_permille, low_fraction)
     }
@@ -256,8 +256,8 @@ impl Thresholds {
     ) -> Result<Self> {
         check_rule(hist.len(), shift, high_permille, low_fraction)?;
         let n: u64 = hist.iter().map(|&c| c as u64).sum();
-        tally(Op::Load, hist.len() as u32);
-        tally(Op::AddSub, hist.len() as u32);
+        tally_per(Op::Load, 1, hist.len());
+        tally_per(Op::AddSub, 1, hist.len());
         if n == 0 {
             return Ok(Self {
                 low: u16::MAX,
@@ -371,11 +371,11 @@ pub fn classify_row(mag: &[u16], t: &Thresholds, out: &mut [u8]) -> Result<()> {
         *o = code_of(m, t);
     }
     // Per pixel: load, two compares, two selects, store, loop branch.
-    let n = w as u32;
-    tally(Op::Load, n);
-    tally(Op::Logic, 4 * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, n);
+    let n = w;
+    tally_per(Op::Load, 1, n);
+    tally_per(Op::Logic, 4, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 1, n);
     Ok(())
 }
 
@@ -543,9 +543,9 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                 return Err(Error::BadEdgeCode { x, y, value: v });
             }
         }
-        tally(Op::Load, w as u32);
-        tally(Op::Logic, w as u32);
-        tally(Op::Branch, 2 * w as u32);
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Logic, 1, w);
+        tally_per(Op::Branch, 2, w);
     }
     let st = propagate(map, stack);
     // 4. Final scan.
@@ -555,10 +555,10 @@ pub fn link(map: &mut ImageViewMut<'_, u8>, stack: &mut [u32]) -> Result<Hystere
                 *v = NONE;
             }
         }
-        tally(Op::Load, w as u32);
-        tally(Op::Logic, w as u32);
-        tally(Op::Store, w as u32);
-        tally(Op::Branch, 2 * w as u32);
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Logic, 1, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 2, w);
     }
     Ok(st)
 }
@@ -637,9 +637,9 @@ pub(crate) fn propagate<M: CodeMap, S: StackWord>(map: &mut M, stack: &mut [S]) 
                 x += 1;
             }
             // Scan: a load, a compare and two branches per pixel.
-            tally(Op::Load, w as u32);
-            tally(Op::Logic, w as u32);
-            tally(Op::Branch, 2 * w as u32);
+            tally_per(Op::Load, 1, w);
+            tally_per(Op::Logic, 1, w);
+            tally_per(Op::Branch, 2, w);
         }
         if next_r0 == usize::MAX {
             break;

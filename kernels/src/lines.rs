@@ -1408,7 +1408,7 @@ fn tally_scan(w: u32, points: u32, gated: bool) {
     tally(Op::AddSub, 2 * points);
     tally(Op::Shift, points);
     if gated {
-        gradient::tally_angles(points);
+        gradient::tally_angles(points as usize);
     }
 }
 

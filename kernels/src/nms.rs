@@ -56,7 +56,7 @@
 
 use crate::error::{Error, Result};
 use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 
 /// Neighbour offsets `(before, after)` of each sector, as `(dx, dy)`.
 ///
@@ -150,12 +150,12 @@ pub fn suppress_row(
     // Per pixel: loads m, d and two neighbours; a 4-way dispatch on the
     // sector (one table look-up of the neighbour offsets); two compares;
     // a select; one store; the loop branch.
-    let n = w as u32;
-    tally(Op::Load, 4 * n);
-    tally(Op::Table, n);
-    tally(Op::Logic, 3 * n);
-    tally(Op::Store, n);
-    tally(Op::Branch, 2 * n);
+    let n = w;
+    tally_per(Op::Load, 4, n);
+    tally_per(Op::Table, 1, n);
+    tally_per(Op::Logic, 3, n);
+    tally_per(Op::Store, 1, n);
+    tally_per(Op::Branch, 2, n);
     Ok(())
 }
 
@@ -296,7 +296,10 @@ impl<'b> NmsStream<'b> {
     /// to `out` and returns its index.
     ///
     /// Errors: more than `height` rows -> [`Error::StreamOrder`]; short rows
-    /// -> [`Error::BufferTooShort`]; bad sector -> [`Error::BadParameter`].
+    /// -> [`Error::BufferTooShort`]; a sector outside `0..=3` anywhere in
+    /// the first `width` elements of `dir` -> [`Error::BadParameter`]. Every
+    /// check runs before the row is stored: after an error the stream is
+    /// unchanged, and pushing a good row next continues the frame.
     ///
     /// ```
     /// let mut l = fixsight::nms::NmsLines::<2>::new();
@@ -327,11 +330,20 @@ impl<'b> NmsStream<'b> {
                 });
             }
         }
+        // Validate the whole row before anything is stored: a rejected push
+        // leaves the stream exactly as it was.
+        if let Some(&bad) = dir[..w].iter().find(|&&d| d > 3) {
+            return Err(Error::BadParameter {
+                name: "direction sector",
+                expected: "0..=3",
+                got: bad as i64,
+            });
+        }
         let slot = (self.pushed % RING) * w;
         self.mag[slot..slot + w].copy_from_slice(&mag[..w]);
         self.dir[slot..slot + w].copy_from_slice(&dir[..w]);
-        tally(Op::Load, 2 * w as u32);
-        tally(Op::Store, 2 * w as u32);
+        tally_per(Op::Load, 2, w);
+        tally_per(Op::Store, 2, w);
         self.pushed += 1;
         if self.pushed >= (self.emitted + 2).min(self.height) {
             self.emit(out).map(Some)

@@ -169,21 +169,42 @@ std::thread_local! {
 }
 
 /// Counts `n` operations of kind `op` on the calling thread (feature
-/// `count-ops`); compiles to nothing without the feature.
+/// `count-ops`); compiles to nothing without the feature. For a count that
+/// depends on a length use [`tally_per`], which does the multiplication
+/// itself in a type that cannot overflow.
 ///
 /// ```
 /// fixsight::ops::tally(fixsight::ops::Op::Load, 1);
 /// ```
 #[inline(always)]
 pub fn tally(op: Op, n: u32) {
+    tally_per(op, n, 1);
+}
+
+/// Counts `per_item * items` operations of kind `op` (feature `count-ops`;
+/// nothing without it). The product and the running total are computed
+/// here in `u64` with saturation, so a count for any slice length (a row of
+/// more than `2^32 / per_item` elements included) neither wraps nor panics;
+/// callers pass lengths as they are, never a product of their own.
+///
+/// ```
+/// use fixsight::ops::{self, Op};
+/// let _ = ops::take();
+/// ops::tally_per(Op::Load, 51, 100_000_000); // 5.1e9: more than a u32 holds
+/// # #[cfg(feature = "count-ops")]
+/// assert_eq!(ops::take().get(Op::Load), 5_100_000_000);
+/// ```
+#[inline(always)]
+pub fn tally_per(op: Op, per_item: u32, items: usize) {
     #[cfg(feature = "count-ops")]
     COUNTS.with(|c| {
         let mut v = c.get();
-        v[op as usize] += n as u64;
+        let n = (per_item as u64).saturating_mul(items as u64);
+        v[op as usize] = v[op as usize].saturating_add(n);
         c.set(v);
     });
     #[cfg(not(feature = "count-ops"))]
-    let _ = (op, n);
+    let _ = (op, per_item, items);
 }
 
 /// Returns the counts gathered on this thread since the last call and resets

@@ -175,11 +175,11 @@
 //! # Ok::<(), fixsight::Error>(())
 //! ```
 
-use crate::arith::{round_shift, sat_u8};
+use crate::arith::{round_shift_proven, sat_u8};
 use crate::error::{Error, Result};
 use crate::filter::Border;
 use crate::image::{check_dims, ImageView, ImageViewMut};
-use crate::ops::{tally, Op};
+use crate::ops::{tally, tally_per, Op};
 
 /// Fewest fractional bits of a coordinate.
 pub const MIN_FRAC_BITS: u32 = 2;
@@ -530,7 +530,7 @@ impl<'s, 'a> Sampler<'s, 'a> {
             for (ch, o) in out.iter_mut().enumerate().take(C) {
                 let top = wx0 * a0[ch] as i32 + wx1 * a0[ch + C] as i32;
                 let bot = wx0 * a1[ch] as i32 + wx1 * a1[ch + C] as i32;
-                *o = sat_u8(round_shift(wy0 * top + wy1 * bot, s2));
+                *o = sat_u8(round_shift_proven(wy0 * top + wy1 * bot, s2));
             }
             true
         } else {
@@ -538,7 +538,7 @@ impl<'s, 'a> Sampler<'s, 'a> {
                 let top = wx0 * self.tap::<C>(x0, y0, ch) + wx1 * self.tap::<C>(x0 + 1, y0, ch);
                 let bot =
                     wx0 * self.tap::<C>(x0, y0 + 1, ch) + wx1 * self.tap::<C>(x0 + 1, y0 + 1, ch);
-                *o = sat_u8(round_shift(wy0 * top + wy1 * bot, s2));
+                *o = sat_u8(round_shift_proven(wy0 * top + wy1 * bot, s2));
             }
             false
         }
@@ -548,27 +548,28 @@ impl<'s, 'a> Sampler<'s, 'a> {
 /// Counts the sampling work of one output row: `n` pixels, `fast` of them
 /// on the all-inside path, `c` channels.
 fn tally_samples(n: usize, fast: usize, c: usize) {
-    let (n, fast, c) = (n as u32, fast as u32, c as u32);
     let slow = n - fast;
+    // Per channel and pixel: the counts below times `c` (at most 4).
+    let c = c as u32;
     // Per pixel: two floor shifts, two masks, two weight subtractions, the
     // two bounds compares and their branch, row address (multiply + add).
-    tally(Op::Shift, 2 * n);
-    tally(Op::Logic, 4 * n);
-    tally(Op::AddSub, 3 * n);
-    tally(Op::Mul, n);
-    tally(Op::Branch, n);
+    tally_per(Op::Shift, 2, n);
+    tally_per(Op::Logic, 4, n);
+    tally_per(Op::AddSub, 3, n);
+    tally_per(Op::Mul, 1, n);
+    tally_per(Op::Branch, 1, n);
     // Per channel: 4 loads, 3 multiplies and 3 multiply-adds, rounding add
     // and shift, two saturation compares, one store.
-    tally(Op::Load, 4 * n * c);
-    tally(Op::Mul, 3 * n * c);
-    tally(Op::Mac, 3 * n * c);
-    tally(Op::AddSub, n * c);
-    tally(Op::Shift, n * c);
-    tally(Op::Logic, 2 * n * c);
-    tally(Op::Store, n * c);
+    tally_per(Op::Load, 4 * c, n);
+    tally_per(Op::Mul, 3 * c, n);
+    tally_per(Op::Mac, 3 * c, n);
+    tally_per(Op::AddSub, c, n);
+    tally_per(Op::Shift, c, n);
+    tally_per(Op::Logic, 2 * c, n);
+    tally_per(Op::Store, c, n);
     // Border pixels: four inside tests (4 compares each) and a branch per tap.
-    tally(Op::Logic, 16 * slow * c);
-    tally(Op::Branch, 4 * slow * c);
+    tally_per(Op::Logic, 16 * c, slow);
+    tally_per(Op::Branch, 4 * c, slow);
 }
 
 /// A pixel map: one raw `(x, y)` source coordinate per output pixel,
@@ -682,7 +683,7 @@ impl<'a> PixelMap<'a> {
             for (p, o) in map_row.chunks_exact(2).zip(out.chunks_exact_mut(C)) {
                 fast += s.sample::<C>(p[0], p[1], o) as usize;
             }
-            tally(Op::Load, 2 * w as u32);
+            tally_per(Op::Load, 2, w);
             tally(Op::Branch, 1);
             tally_samples(w, fast, C);
         }
@@ -923,14 +924,45 @@ impl<'a> ControlGrid<'a> {
                 expected: "0",
             });
         }
+        // Each header field on its own, so that the error names it.
+        for (field, off) in [
+            ("out_width", 8),
+            ("out_height", 10),
+            ("src_width", 12),
+            ("src_height", 14),
+        ] {
+            let v = u16_at(off);
+            if v == 0 || v as usize > crate::image::MAX_DIM {
+                return Err(Error::BlobField {
+                    field,
+                    got: v as u32,
+                    expected: "1..=32767",
+                });
+            }
+        }
+        let k = bytes[16] as u32;
+        if !(MIN_GRID_LOG2..=MAX_GRID_LOG2).contains(&k) {
+            return Err(Error::BlobField {
+                field: "grid_log2",
+                got: k,
+                expected: "2..=6",
+            });
+        }
+        let f = bytes[17] as u32;
+        if !(MIN_FRAC_BITS..=MAX_FRAC_BITS).contains(&f) {
+            return Err(Error::BlobField {
+                field: "frac_bits",
+                got: f,
+                expected: "2..=10",
+            });
+        }
         let geom = WarpGeometry::new(
             u16_at(8) as usize,
             u16_at(10) as usize,
             u16_at(12) as usize,
             u16_at(14) as usize,
-            bytes[17] as u32,
+            f,
         )?;
-        let k = bytes[16] as u32;
         let (cols, rows) = Self::grid_size(&geom, k)?;
         let (gc, gr) = (u16_at(18) as usize, u16_at(20) as usize);
         if (gc, gr) != (cols, rows) {
@@ -1112,7 +1144,7 @@ impl<'a> ControlGrid<'a> {
             let (c00, c10, c01, c11) = self.corners(i, j, a);
             // Same bound as the incremental form: fits i32 by construction.
             let acc = u * (s - v) * (c10 - c00) + (s - u) * v * (c01 - c00) + u * v * (c11 - c00);
-            c00 + round_shift(acc, 2 * k)
+            c00 + round_shift_proven(acc, 2 * k)
         };
         Some((axis(0), axis(1)))
     }
@@ -1171,7 +1203,7 @@ impl<'a> ControlGrid<'a> {
             let v = (y - (j << k)) as i32;
             let out = dst.row_at_mut(r);
             let mut fast = 0usize;
-            let mut cells = 0u32;
+            let mut cells = 0usize;
             for i in 0..self.cols - 1 {
                 let x_start = i << k;
                 if x_start >= w {
@@ -1205,16 +1237,17 @@ impl<'a> ControlGrid<'a> {
                 }
             }
             // Per cell: 8 corner loads, 4 multiplies, 12 add/sub, 4 shifts.
-            tally(Op::Load, 8 * cells);
-            tally(Op::Mul, 4 * cells);
-            tally(Op::AddSub, 12 * cells);
-            tally(Op::Shift, 4 * cells);
-            tally(Op::Branch, cells + 1);
+            tally_per(Op::Load, 8, cells);
+            tally_per(Op::Mul, 4, cells);
+            tally_per(Op::AddSub, 12, cells);
+            tally_per(Op::Shift, 4, cells);
+            tally_per(Op::Branch, 1, cells);
+            tally(Op::Branch, 1);
             // Per pixel: 2 accumulator adds, 2 shifts, 2 base adds, loop test.
-            let n = w as u32;
-            tally(Op::AddSub, 4 * n);
-            tally(Op::Shift, 2 * n);
-            tally(Op::Logic, n);
+            let n = w;
+            tally_per(Op::AddSub, 4, n);
+            tally_per(Op::Shift, 2, n);
+            tally_per(Op::Logic, 1, n);
             tally_samples(w, fast, C);
         }
     }
@@ -1448,8 +1481,9 @@ mod tests {
         reseal(&mut b);
         assert!(matches!(
             ControlGrid::from_blob(&b),
-            Err(Error::BadParameter {
-                name: "grid_log2",
+            Err(Error::BlobField {
+                field: "grid_log2",
+                got: 7,
                 ..
             })
         ));

@@ -142,6 +142,7 @@ proptest! {
             let _ = hysteresis::link(&mut mv, &mut stk);
             let mut scratch = vec![0u8; stack * 3];
             let _ = thinning::thin(&mut mv, &mut scratch);
+            let _ = thinning::thin_at_most(&mut mv, &mut scratch, stack as u32);
         }
     }
 }

@@ -327,7 +327,7 @@ pub enum CalibError {
     #[error("the calibrated lens is not usable: {0}")]
     BadLens(String),
     /// An output file exists and replacing was not asked for.
-    #[error("{0} exists; pass --replace to overwrite it")]
+    #[error("{0} exists; pass --overwrite to replace it")]
     Exists(String),
     /// Writing an output failed.
     #[error("cannot write {file}: {reason}")]

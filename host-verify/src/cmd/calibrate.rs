@@ -18,7 +18,7 @@
 //! 4. Outputs, in `--out`: `views/<stem>.png` per used image,
 //!    `calibration.txt`, `calibration.json`, then the lens file
 //!    `lens.txt` last. None of them replaces an existing file unless
-//!    `--replace` is given (the first existing one is named); each is
+//!    `--overwrite` is given (the first existing one is named); each is
 //!    written to a temporary file in its folder and renamed into place.
 //!
 //! No lens file is written on any failure.
@@ -51,7 +51,7 @@ pub struct Request {
     /// Fractional bits for the report's grid figures.
     pub frac_bits: u32,
     /// Replace existing outputs.
-    pub replace: bool,
+    pub overwrite: bool,
 }
 
 /// Parses `CxR` (e.g. `9x6`).
@@ -189,7 +189,7 @@ fn put(path: &Path, bytes: &[u8]) -> Result<(), CalibError> {
 ///     out: dir.join("out"),
 ///     grid_log2: 4,
 ///     frac_bits: 5,
-///     replace: false,
+///     overwrite: false,
 /// };
 /// let text = run(&req).unwrap();
 /// assert!(text.trim_end().ends_with("lens.txt"));
@@ -352,7 +352,7 @@ pub fn run(req: &Request) -> Result<String, CalibError> {
     targets.push((req.out.join("calibration.txt"), text.clone().into_bytes()));
     targets.push((req.out.join("calibration.json"), json.into_bytes()));
     targets.push((lens_path, lens.into_bytes()));
-    if !req.replace {
+    if !req.overwrite {
         if let Some((p, _)) = targets.iter().find(|(p, _)| p.exists()) {
             return Err(CalibError::Exists(p.display().to_string()));
         }

@@ -5,10 +5,14 @@ use super::vectors_dir;
 use crate::report;
 use std::path::{Path, PathBuf};
 
-/// Runs the report into `out` with the golden folder `vectors`.
-pub fn run(out: &Path, vectors: Option<PathBuf>) -> anyhow::Result<bool> {
-    let r = report::run(out, &vectors_dir(vectors))?;
+/// Runs the report into `out` with the golden folder `vectors` (refusing
+/// to replace the report's files unless `overwrite`).
+pub fn run(out: &Path, vectors: Option<PathBuf>, overwrite: bool) -> anyhow::Result<bool> {
+    let r = report::run(out, &vectors_dir(vectors), overwrite)?;
     print!("{}", report::table(&r));
-    println!("report written to {}", out.join("report.json").display());
+    println!(
+        "report written to {}",
+        crate::files::shown_path(&out.join("report.json"))
+    );
     Ok(r.pass)
 }

@@ -1,13 +1,19 @@
 //! `fixsight-verify sweep`: the warp precision sweep on a demo scene,
 //! written as `sweep.md`, `sweep.json` and `sweep.png`.
 
+use crate::files::Outputs;
 use crate::warp::check::demo_view;
 use crate::warp::sweep::{sweep, sweep_table};
 
+/// The files the sweep writes.
+pub const OUTPUTS: [&str; 3] = ["sweep.md", "sweep.json", "sweep.png"];
+
 /// `fixsight-verify sweep`: the precision sweep on the first demo scene,
-/// written as `sweep.md`, `sweep.json` and `sweep.png` into `out`; returns
-/// the table.
-pub fn run(out: &std::path::Path) -> anyhow::Result<String> {
+/// written as `sweep.md`, `sweep.json` and `sweep.png` into `out` (refusing
+/// to replace any of them unless `overwrite`, before the sweep runs);
+/// returns the table.
+pub fn run(out: &std::path::Path, overwrite: bool) -> anyhow::Result<String> {
+    let mut outputs = Outputs::new(out, OUTPUTS, overwrite, "--overwrite")?;
     let spec = &crate::scene::DEMO_SPECS[0];
     let s = crate::scene::render(spec, crate::scene::DEMO_WIDTH, crate::scene::DEMO_HEIGHT);
     let view = demo_view(&s).map_err(anyhow::Error::msg)?;
@@ -15,7 +21,6 @@ pub fn run(out: &std::path::Path) -> anyhow::Result<String> {
     let steps: Vec<u32> = (2..=6).collect();
     let rows = sweep(&s.gray, s.width, s.height, &s.camera, &view, &fb, &steps)
         .map_err(anyhow::Error::msg)?;
-    std::fs::create_dir_all(out)?;
     let table = format!(
         "Precision sweep on demo scene `{}` ({}x{}, fit-to-view undistortion, border fill 0).\n\
          Errors against the f64 bilinear reference at the exact lens coordinates.\n\n{}",
@@ -24,11 +29,14 @@ pub fn run(out: &std::path::Path) -> anyhow::Result<String> {
         s.height,
         sweep_table(&rows)
     );
-    std::fs::write(out.join("sweep.md"), &table)?;
-    std::fs::write(
-        out.join("sweep.json"),
-        serde_json::to_string_pretty(&rows)? + "\n",
+    outputs.write(OUTPUTS[0], table.as_bytes())?;
+    outputs.write(
+        OUTPUTS[1],
+        (serde_json::to_string_pretty(&rows)? + "\n").as_bytes(),
     )?;
-    crate::warp::sweep_plot::draw(&rows, &out.join("sweep.png"))?;
+    outputs.write_with(OUTPUTS[2], |p| {
+        crate::warp::sweep_plot::draw(&rows, p).map_err(|e| std::io::Error::other(e.to_string()))
+    })?;
+    outputs.commit()?;
     Ok(table)
 }

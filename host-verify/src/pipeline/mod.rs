@@ -560,7 +560,15 @@ pub fn run_vector(
     let p: StageParams = parse_params(kernel, params)?;
     let cfg = config_of(&p)?;
     let b = input(inputs, "frames")?;
-    if b.height != p.frames * p.height {
+    // Checked before anything is sized from them (issue 16): the product
+    // must not wrap, and the last frame is no taller than the others.
+    if p.last_rows > p.height {
+        return Err(format!(
+            "last_rows = {} is more than the frame height {}",
+            p.last_rows, p.height
+        ));
+    }
+    if p.frames.checked_mul(p.height) != Some(b.height) {
         return Err(format!(
             "frames input is {} rows high, {} x {} expected",
             b.height, p.frames, p.height

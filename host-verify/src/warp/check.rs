@@ -1,6 +1,6 @@
 //! The `warp.*` contracts on the demo scenes (see the family docs).
 
-use super::grid::build_grid;
+use super::grid::{build_grid, grid_maps};
 use super::reference::{bilinear_f64, exact_map, model_sample, neighbour_diffs, pixel_map_coords};
 use super::run::{run_grid, run_pixel_map};
 use crate::contract::{Contract, KernelFamily, KernelReport};
@@ -196,8 +196,15 @@ fn check_path(scenes: &[Scene], grid: bool, channels: &[usize]) -> KernelReport 
                     };
                     let q = 1.0 / (1u64 << f) as f64;
                     lens_err = lens_err.max(max_err_vs(&whole, &exact, &img, w, h, c, border));
-                    ref_coords = mb.ideal;
-                    (mb.coords, (q, q), whole)
+                    let (coords, ideal) = match grid_maps(&mb) {
+                        Ok(m) => m,
+                        Err(e) => {
+                            problems.push(format!("{}: {e}", s.name));
+                            continue;
+                        }
+                    };
+                    ref_coords = ideal;
+                    (coords, (q, q), whole)
                 } else {
                     let coords = pixel_map_coords(&exact, f);
                     let q = 1.0 / (1u64 << (f + 1)) as f64;

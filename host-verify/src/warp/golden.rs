@@ -252,6 +252,19 @@ pub fn run_vector(
             let blob = input(inputs, "blob")?.to_u8()?;
             let m = ControlGrid::from_blob(&blob).map_err(e)?;
             let g = m.geometry();
+            // The output size comes from the blob header: bound it before
+            // the output is allocated.
+            crate::golden::image_len(crate::golden::Elem::U8, g.out_width(), g.out_height(), c)
+                .filter(|&n| n as u64 <= crate::files::MAX_IMAGE_BYTES)
+                .ok_or_else(|| {
+                    format!(
+                        "the blob's {}x{} output with {c} channel(s) is larger than the {} bytes \
+                         allowed per image",
+                        g.out_width(),
+                        g.out_height(),
+                        crate::files::MAX_IMAGE_BYTES
+                    )
+                })?;
             let out = run_grid(&m, &img, c, p.border.into(), Some(p.strip_rows)).map_err(e)?;
             Ok(vec![Blob::from_u8(
                 "dst",

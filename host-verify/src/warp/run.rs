@@ -38,7 +38,8 @@ pub fn run_grid(
     let mut out = vec![0u8; w * h * c];
     let sw = g.src_width();
     let src = ImageView::interleaved(img, sw, g.src_height(), sw * c, c)?;
-    let step = strip.unwrap_or(h).max(1);
+    // A strip taller than the frame is the whole frame.
+    let step = strip.unwrap_or(h).clamp(1, h);
     for (n, chunk) in out.chunks_mut(step * w * c).enumerate() {
         let rows = chunk.len() / (w * c);
         grid.warp_rows(
