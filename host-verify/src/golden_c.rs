@@ -229,7 +229,7 @@ mod tests {
 
     #[test]
     fn the_repository_vectors_become_c() {
-        let dir = crate::cmd::vectors_dir(None);
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../golden");
         let c = c_source(&dir).unwrap();
         let n = golden::read_manifest(&dir).unwrap().vectors.len();
         assert!(c.contains(&format!("const int32_t GOLDEN_VECTOR_COUNT = {n};")));
