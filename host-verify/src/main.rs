@@ -171,6 +171,28 @@ enum GoldenCmd {
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
     },
+    /// Write chosen vectors as C data with a small runner (golden_check.c)
+    /// for checking a port on your own board: golden_types.h,
+    /// golden_vectors.h, golden_vectors.c, golden_check.c. Your port provides
+    /// golden_port_run() and golden_port_print(), then calls
+    /// golden_check_all().
+    ///
+    /// Example: fixsight-verify golden export-c --select filter.binomial5 --out my-port/golden/
+    #[command(name = "export-c")]
+    ExportC {
+        /// Golden-vector folder (default: `golden` in the current folder).
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
+        /// Kernel id, vector id or family to export (repeatable; default all).
+        #[arg(long, value_name = "NAME")]
+        select: Vec<String>,
+        /// Output folder.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-golden-c")]
+        out: PathBuf,
+        /// Replace the four files if they exist.
+        #[arg(long)]
+        overwrite: bool,
+    },
     /// Regenerate the vectors from the current kernels.
     Write {
         /// Golden-vector folder (default: `golden` in the current folder).
@@ -254,6 +276,15 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             tolerance,
             report,
         } => cmd::port_check::run(vectors, &outputs, tolerance, &report),
+        Cmd::Golden {
+            cmd:
+                GoldenCmd::ExportC {
+                    vectors,
+                    select,
+                    out,
+                    overwrite,
+                },
+        } => cmd::golden::export_c(vectors, &select, &out, overwrite),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),
