@@ -125,6 +125,30 @@ enum Cmd {
         #[arg(long)]
         overwrite: bool,
     },
+    /// Run one kernel on your own image or folder of images: fixed-point and
+    /// f64 outputs, their difference, and the report's figures.
+    ///
+    /// Colour images become luma (--luma bt601, the default, or bt709). Writes
+    /// <stem>.<kernel>.fixed.png, .f64.png, .diff.png and .json per image.
+    ///
+    /// Example: fixsight-verify run --input photos/ --kernel chain.edges --out run-out/
+    Run {
+        /// An image file (PNG, PGM/PPM, JPEG) or a folder of them.
+        #[arg(long, value_name = "PATH")]
+        input: PathBuf,
+        /// Kernel id: a filter preset, a gradient magnitude, or chain.edges.
+        #[arg(long, value_name = "ID")]
+        kernel: String,
+        /// Output folder.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-run")]
+        out: PathBuf,
+        /// Luma formula for colour input: bt601 (ITU-R BT.601) or bt709.
+        #[arg(long, default_value = "bt601", value_parser = cmd::run::Luma::parse)]
+        luma: cmd::run::Luma,
+        /// Replace output files that already exist.
+        #[arg(long)]
+        overwrite: bool,
+    },
     /// Does a pipeline fit a part? Instructions per second of each stage on a
     /// core (from targets.json), load at one instruction per cycle, margin,
     /// dominant stage. Exit status 1 when it does not fit.
@@ -303,6 +327,13 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             lang,
             overwrite,
         } => cmd::targets::run(&out, vectors, lang.as_deref(), overwrite),
+        Cmd::Run {
+            input,
+            kernel,
+            out,
+            luma,
+            overwrite,
+        } => cmd::run::run(&input, &kernel, &out, luma, overwrite),
         Cmd::Budget {
             width,
             height,

@@ -9,6 +9,7 @@ pub mod golden;
 pub mod grid;
 pub mod port_check;
 pub mod report;
+pub mod run;
 pub mod sweep;
 pub mod targets;
 
