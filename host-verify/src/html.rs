@@ -18,18 +18,13 @@
 //! the `dejavu` crate embeds.
 
 use crate::chain::reference::{agreement, reference_f64};
+use crate::cmd::run;
 use crate::contract::{Contract, KernelReport};
 use crate::edge_chain::{run_chain, DEMO};
-use crate::filter::reference::{real_taps, reference_real};
-use crate::filter::run::run_whole;
-use crate::filter::{preset, OutputParam};
-use crate::gradient::reference::{reference_l1, reference_l2, reference_l2_round};
-use crate::gradient::run::{run_pair, sobel_pair, PairKernel};
 use crate::report::Report;
 use crate::scene::Scene;
 use anyhow::{anyhow, Result};
 use base64::Engine as _;
-use fixsight::filter::Border;
 use plotters::prelude::*;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
@@ -191,52 +186,30 @@ fn heat_map(title: &str, err: &[f64], w: usize, h: usize) -> Result<String> {
 }
 
 /// Per-pixel `fixed - f64` of a kernel on every scene, for the kernels
-/// whose family gives a per-pixel reference; `None` for the others.
+/// whose family gives a per-pixel `f64` reference (the filter presets and
+/// the gradient magnitudes, as `run` computes them); `None` for the others.
 pub fn pixel_errors(kernel: &str, scenes: &[Scene]) -> Option<Vec<Vec<f64>>> {
-    if let Some(p) = preset(kernel) {
-        let f = (p.make)(Border::Clamp);
-        let (ht, vt) = (real_taps(f.horizontal()), real_taps(f.vertical()));
-        return scenes
-            .iter()
-            .map(|s| {
-                let real = reference_real(&s.gray, s.width, s.height, &ht, &vt, Border::Clamp);
-                let fixed: Vec<f64> = match p.output {
-                    OutputParam::U8 => run_whole::<u8>(&f, &s.gray, s.width, s.height)
-                        .ok()?
-                        .iter()
-                        .map(|&v| v as f64)
-                        .collect(),
-                    OutputParam::I16 => run_whole::<i16>(&f, &s.gray, s.width, s.height)
-                        .ok()?
-                        .iter()
-                        .map(|&v| v as f64)
-                        .collect(),
-                };
-                Some(fixed.iter().zip(&real).map(|(a, b)| a - b).collect())
-            })
-            .collect();
+    if kernel == "chain.edges" || !run::kernels().contains(&kernel) {
+        return None;
     }
-    let (kernel_fn, reference): (PairKernel<u16>, fn(i16, i16) -> f64) = match kernel {
-        "gradient.magnitude_l1" => (fixsight::gradient::magnitude_l1, reference_l1),
-        "gradient.magnitude_l2_approx" => (fixsight::gradient::magnitude_l2_approx, reference_l2),
-        "gradient.magnitude_l2_round" => {
-            (fixsight::gradient::magnitude_l2_round, reference_l2_round)
-        }
-        _ => return None,
-    };
     scenes
         .iter()
         .map(|s| {
-            let (gx, gy) = sobel_pair(s);
-            let m = run_pair(&gx, &gy, s.width, s.height, kernel_fn).ok()?;
+            let g = run::Grey {
+                w: s.width,
+                h: s.height,
+                px: s.gray.clone(),
+            };
+            let o = run::apply(kernel, &g).ok()?;
             Some(
-                m.iter()
-                    .zip(gx.iter().zip(&gy))
-                    .map(|(&v, (&x, &y))| v as f64 - reference(x, y))
+                o.fixed
+                    .iter()
+                    .zip(&o.reference)
+                    .map(|(a, b)| a - b)
                     .collect(),
             )
         })
-        .collect::<Option<Vec<_>>>()
+        .collect()
 }
 
 fn fmt(v: f64) -> String {

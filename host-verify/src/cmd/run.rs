@@ -111,7 +111,7 @@ pub struct Grey {
 
 /// Decodes an image file into grey (luma for colour images).
 pub fn load_grey(path: &Path, luma: Luma) -> anyhow::Result<Grey> {
-    let bytes = files::read_bounded(path, files::MAX_IMAGE_BYTES as u64)?;
+    let bytes = files::read_bounded(path, files::MAX_IMAGE_BYTES)?;
     let img = image::load_from_memory(&bytes).with_context(|| {
         format!(
             "{} is not an image this tool reads",
@@ -147,6 +147,9 @@ pub fn kernels() -> Vec<&'static str> {
     ]);
     v
 }
+
+/// A gradient magnitude kernel and its `f64` reference.
+type MagnitudePair = (PairKernel<u16>, fn(i16, i16) -> f64);
 
 /// Fixed-point and `f64` outputs of a kernel on one image, and its figures.
 #[derive(Debug, Clone)]
@@ -207,7 +210,7 @@ pub fn apply(kernel: &str, g: &Grey) -> anyhow::Result<Outcome> {
             metrics,
         });
     }
-    let mag: Option<(PairKernel<u16>, fn(i16, i16) -> f64)> = match kernel {
+    let mag: Option<MagnitudePair> = match kernel {
         "gradient.magnitude_l1" => Some((fixsight::gradient::magnitude_l1, reference_l1)),
         "gradient.magnitude_l2_approx" => {
             Some((fixsight::gradient::magnitude_l2_approx, reference_l2))
