@@ -32,15 +32,16 @@
 //!   the same `r` for every `s < 2^31`; the test
 //!   `floor_sqrt_ways_agree_everywhere` runs all of them):
 //!   - with a hardware divide (the host, ARMv7-M and later, RV32 with the
-//!     `M` extension): `s = 0` gives 0; otherwise, with `h = floor(b / 2)`
-//!     for `b` the index of the top set bit of `s`, the start
-//!     `q = ((s >> h) + 2^h) >> 1` (the arithmetic mean of `s / 2^h` and
-//!     `2^h`, within 25 % of `sqrt(s)`), three integer Newton steps
+//!     `M` extension): `s = 0` gives 0; otherwise, with `z` the leading
+//!     zeros of `s`, `u = s << (z & !1)` (top bit at 31 or 30) and
+//!     `t = u >> 26` (in `16..64`), the start is
+//!     `q = ceil(sqrt((t + 1) * 2^26)) >> (z >> 1)` (a 48-entry table,
+//!     within 3.2 % of `sqrt(s)`), then two integer Newton steps
 //!     `q = (q + s / q) >> 1` (floor division), and `r = q - 1` when
 //!     `q^2 > s`, else `q`. After the first step `q >= floor(sqrt(s))`
-//!     (the arithmetic-geometric mean inequality in integers), each step
-//!     squares the relative error (25 %, 2.5 %, 0.03 %, `5e-8`), so the
-//!     third leaves `q` at `r` or `r + 1`;
+//!     (the arithmetic-geometric mean inequality in integers) and each
+//!     step about squares the relative error (3.2 %, `5e-4`, `1.2e-7`), so
+//!     the second leaves `q` at `r` or `r + 1`;
 //!   - without one (ARMv6-M, where a divide is a library call): the
 //!     bit-by-bit square root in `k` steps, where `k = 4, 8, 12, 16` for
 //!     `s` below `2^8, 2^16, 2^24` or above, `bit` running over
@@ -144,16 +145,43 @@ fn sqrt_bits(s: u32, steps: u32) -> u32 {
     root
 }
 
-/// `floor(sqrt(s))` by three integer Newton steps from a start within
-/// 25 % (`s < 2^31`; see the module docs).
+/// Start values of [`sqrt_newton`]: `SQRT_SEED[t - 16] = ceil(sqrt((t + 1)
+/// * 2^26))` for `t` in `16..64`, the root of the top of the interval of
+/// `u32` values whose top six bits (normalised to an even shift) are `t`.
+const SQRT_SEED: [u32; 48] = {
+    let mut out = [0u32; 48];
+    let mut i = 0;
+    while i < 48 {
+        let v = ((i as u64) + 17) << 26;
+        // Smallest r with r^2 >= v (binary search).
+        let (mut lo, mut hi) = (0u64, 1u64 << 17);
+        while hi - lo > 1 {
+            let mid = (lo + hi) / 2;
+            if mid * mid >= v {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        out[i] = hi as u32;
+        i += 1;
+    }
+    out
+};
+
+/// `floor(sqrt(s))` by two integer Newton steps from a table start within
+/// 3.2 % (`s < 2^31`; see the module docs).
 #[inline(always)]
 fn sqrt_newton(s: u32) -> u32 {
     if s == 0 {
         return 0;
     }
-    let h = (31 - s.leading_zeros()) / 2;
-    let mut q = ((s >> h) + (1 << h)) >> 1;
-    for _ in 0..3 {
+    // `u = s * 4^k` with its top bit at 31 or 30; `t` its top six bits.
+    let z = s.leading_zeros();
+    let u = s << (z & !1);
+    let t = (u >> 26) as usize;
+    let mut q = SQRT_SEED.get(t.wrapping_sub(16)).copied().unwrap_or(1) >> (z >> 1);
+    for _ in 0..2 {
         // `q >= 1` for `s >= 1`, so the fallback never applies.
         q = (q + s.checked_div(q).unwrap_or(0)) >> 1;
     }
@@ -351,21 +379,15 @@ pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result
     // Counted for the way with a divide (the host's; see the module docs).
     // Per pixel: loads 2, abs 2x(compare+negate), one mul + one mac for the
     // sum of squares, the zero test and its branch, store 1, loop branch 1.
-    // Per nonzero sum: leading zeros, subtract and shift for `h`, three
-    // shifts and an add for the start, per Newton step a divide, an add
-    // and a shift, then a multiply, compare and subtract for `r`, and a
-    // multiply-subtract, compare and add for the rounding.
-    tally_per(Op::Load, 2, n);
-    tally_per(Op::Logic, 4, n);
-    tally_per(Op::AddSub, 2, n);
-    tally_per(Op::Mul, 1, n);
-    tally_per(Op::Mac, 1, n);
-    tally_per(Op::Store, 1, n);
-    tally_per(Op::Branch, 2, n);
-    tally_per(Op::Logic, 3, nonzero);
-    tally_per(Op::AddSub, 6, nonzero);
-    tally_per(Op::Shift, 7, nonzero);
-    tally_per(Op::Div, 3, nonzero);
+    // Per nonzero sum: leading zeros, a mask, two shifts and a table
+    // look-up for the start, a shift to scale it, per Newton step a divide,
+    // an add and a shift, then a multiply, compare and subtract for `r`, and
+    // a multiply-subtract, compare and add for the rounding.
+    tally_per(Op::Logic, 4, nonzero);
+    tally_per(Op::Table, 1, nonzero);
+    tally_per(Op::AddSub, 4, nonzero);
+    tally_per(Op::Shift, 5, nonzero);
+    tally_per(Op::Div, 2, nonzero);
     tally_per(Op::Mul, 1, nonzero);
     tally_per(Op::Mac, 1, nonzero);
     Ok(())
@@ -648,7 +670,7 @@ mod tests {
     #[test]
     fn floor_sqrt_ways_agree_at_the_steps() {
         let top = 2 * 32767u32 * 32767;
-        let mut check = |s: u32| {
+        let check = |s: u32| {
             let want = floor_sqrt_u64(s);
             assert_eq!(sqrt_newton(s), want, "Newton, s = {s}");
             assert_eq!(sqrt_bits(s, sqrt_steps(s)), want, "bit by bit, s = {s}");
