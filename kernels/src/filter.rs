@@ -57,8 +57,8 @@ use crate::arith::{round_shift_proven, sat_i16, sat_u8};
 use crate::error::{Error, Result};
 use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, tally_per, Op};
-use fixed::types::extra::LeEqU16;
-use fixed::FixedI16;
+#[cfg(feature = "fixed")]
+use fixed::{types::extra::LeEqU16, FixedI16};
 
 /// Longest tap set accepted.
 pub const MAX_TAPS: usize = 9;
@@ -127,17 +127,21 @@ impl Taps {
     }
 
     /// Taps from fixed-point coefficients: the raw bits become the integer
-    /// coefficients and the number of fractional bits becomes the shift.
+    /// coefficients and the number of fractional bits becomes the shift
+    /// (cargo feature `fixed`).
     ///
     /// ```
+    /// # #[cfg(feature = "fixed")] {
     /// use fixed::types::I8F8;
     /// use fixsight::filter::Taps;
     /// let quarter = I8F8::from_bits(64);   // 0.25
     /// let half = I8F8::from_bits(128);     // 0.5
     /// let t = Taps::from_fixed(&[quarter, half, quarter])?;
     /// assert_eq!(t, Taps::new(&[64, 128, 64], 8)?);
+    /// # }
     /// # Ok::<(), fixsight::Error>(())
     /// ```
+    #[cfg(feature = "fixed")]
     pub fn from_fixed<Frac: LeEqU16>(coef: &[FixedI16<Frac>]) -> Result<Self> {
         let mut raw = [0i16; MAX_TAPS];
         let n = coef.len().min(MAX_TAPS);
