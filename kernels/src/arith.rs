@@ -130,18 +130,24 @@ pub const fn sat_u16(x: i32) -> u16 {
 /// ```
 #[inline(always)]
 pub const fn abs_sat_i16(x: i16) -> u16 {
-    if x == i16::MIN {
-        i16::MAX as u16
-    } else if x < 0 {
-        (-x) as u16
-    } else {
-        x as u16
-    }
+    // `|x|` in `i32` is at most 32768; subtracting its bit 15 maps 32768
+    // (only) to 32767, without a compare.
+    let a = (x as i32).abs();
+    (a - (a >> 15)) as u16
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Every `i16`: the magnitude in `i64`, then clipped to 32767.
+    #[test]
+    fn abs_sat_i16_is_the_clipped_magnitude_everywhere() {
+        for x in i16::MIN..=i16::MAX {
+            let want = (x as i64).abs().min(32767) as u16;
+            assert_eq!(abs_sat_i16(x), want, "{x}");
+        }
+    }
 
     /// Exact `floor(x / 2^s + 1/2)` in 128-bit arithmetic.
     fn exact(x: i32, s: u32) -> i32 {

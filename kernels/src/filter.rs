@@ -34,6 +34,12 @@
 //! when no row or column of the window lies in a fill border; the
 //! integer sums are regrouped, not approximated, so the output is the same.
 //!
+//! With the cargo feature `compact-filter` only one generic loop per pass
+//! is compiled (a runtime tap count, no constant-tap forms, no per-count
+//! copies): the outputs are the same bit for bit, the code is several times
+//! smaller and the cost per pixel higher (both measured in
+//! `targets/README.md`).
+//!
 //! # Memory
 //! * whole frame: a caller scratch of `width` `i32`;
 //! * streaming: `(2ry+1) * width` bytes of input rows plus `width` `i32`
@@ -57,8 +63,8 @@ use crate::arith::{round_shift_proven, sat_i16, sat_u8};
 use crate::error::{Error, Result};
 use crate::image::{check_dims, check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, tally_per, Op};
-use fixed::types::extra::LeEqU16;
-use fixed::FixedI16;
+#[cfg(feature = "fixed")]
+use fixed::{types::extra::LeEqU16, FixedI16};
 
 /// Longest tap set accepted.
 pub const MAX_TAPS: usize = 9;
@@ -127,17 +133,21 @@ impl Taps {
     }
 
     /// Taps from fixed-point coefficients: the raw bits become the integer
-    /// coefficients and the number of fractional bits becomes the shift.
+    /// coefficients and the number of fractional bits becomes the shift
+    /// (cargo feature `fixed`).
     ///
     /// ```
+    /// # #[cfg(feature = "fixed")] {
     /// use fixed::types::I8F8;
     /// use fixsight::filter::Taps;
     /// let quarter = I8F8::from_bits(64);   // 0.25
     /// let half = I8F8::from_bits(128);     // 0.5
     /// let t = Taps::from_fixed(&[quarter, half, quarter])?;
     /// assert_eq!(t, Taps::new(&[64, 128, 64], 8)?);
+    /// # }
     /// # Ok::<(), fixsight::Error>(())
     /// ```
+    #[cfg(feature = "fixed")]
     pub fn from_fixed<Frac: LeEqU16>(coef: &[FixedI16<Frac>]) -> Result<Self> {
         let mut raw = [0i16; MAX_TAPS];
         let n = coef.len().min(MAX_TAPS);
@@ -473,17 +483,10 @@ impl SeparableFilter {
             coefs[n] = cv;
             n += 1;
         }
-        match n {
-            0 => acc.fill(bias),
-            1 => column_sum::<1>(&rows, &coefs, bias, acc),
-            2 => column_sum::<2>(&rows, &coefs, bias, acc),
-            3 => column_sum::<3>(&rows, &coefs, bias, acc),
-            4 => column_sum::<4>(&rows, &coefs, bias, acc),
-            5 => column_sum::<5>(&rows, &coefs, bias, acc),
-            6 => column_sum::<6>(&rows, &coefs, bias, acc),
-            7 => column_sum::<7>(&rows, &coefs, bias, acc),
-            8 => column_sum::<8>(&rows, &coefs, bias, acc),
-            _ => column_sum::<9>(&rows, &coefs, bias, acc),
+        if cfg!(feature = "compact-filter") {
+            column_sum_any(&rows[..n], &coefs[..n], bias, acc);
+        } else {
+            column_sum_by_count(&rows, &coefs, n, bias, acc);
         }
         // Per pixel: n loads + n MACs (the first is a multiply-add onto the
         // bias), one store, one loop branch.
@@ -493,7 +496,33 @@ impl SeparableFilter {
         tally_per(Op::Store, 1, w);
         tally_per(Op::Branch, 1, w);
     }
+}
 
+/// [`column_sum`] with the row count `n` as a compile-time constant.
+fn column_sum_by_count(
+    rows: &[&[u8]; MAX_TAPS],
+    coefs: &[i32; MAX_TAPS],
+    n: usize,
+    bias: i32,
+    acc: &mut [i32],
+) {
+    {
+        match n {
+            0 => acc.fill(bias),
+            1 => column_sum::<1>(rows, coefs, bias, acc),
+            2 => column_sum::<2>(rows, coefs, bias, acc),
+            3 => column_sum::<3>(rows, coefs, bias, acc),
+            4 => column_sum::<4>(rows, coefs, bias, acc),
+            5 => column_sum::<5>(rows, coefs, bias, acc),
+            6 => column_sum::<6>(rows, coefs, bias, acc),
+            7 => column_sum::<7>(rows, coefs, bias, acc),
+            8 => column_sum::<8>(rows, coefs, bias, acc),
+            _ => column_sum::<9>(rows, coefs, bias, acc),
+        }
+    }
+}
+
+impl SeparableFilter {
     /// Horizontal pass: `out[x] = from_acc(sum_i h[i] * A(x+i-rx), s)` where
     /// `A` is `acc` extended by the border rule.
     fn horizontal_pass<T: FilterOutput>(&self, acc: &[i32], out: &mut [T]) {
@@ -532,6 +561,9 @@ impl SeparableFilter {
             let fixed = FixedTaps::of(taps);
             match (fixed, taps.len()) {
                 (Some(kind), _) => kind.dot_row(acc, interior, s),
+                (None, _) if cfg!(feature = "compact-filter") => {
+                    dot_row_any(taps, acc, interior, s)
+                }
                 (None, 1) => dot_row::<T, 1>(taps, acc, interior, s),
                 (None, 3) => dot_row::<T, 3>(taps, acc, interior, s),
                 (None, 5) => dot_row::<T, 5>(taps, acc, interior, s),
@@ -589,6 +621,33 @@ fn dot_row<T: FilterOutput, const N: usize>(taps: &[i32], acc: &[i32], out: &mut
     }
 }
 
+/// [`dot_row`] with the tap count known only at run time (the one loop of
+/// the feature `compact-filter`).
+#[inline(never)]
+fn dot_row_any<T: FilterOutput>(taps: &[i32], acc: &[i32], out: &mut [T], s: u32) {
+    let half = if s == 0 { 0 } else { 1i32 << (s - 1) };
+    for (o, win) in out.iter_mut().zip(acc.windows(taps.len())) {
+        let mut sum = 0i32;
+        for (&t, &a) in taps.iter().zip(win) {
+            sum += t * a;
+        }
+        *o = T::from_rounded((sum + half) >> s);
+    }
+}
+
+/// [`column_sum`] with the row count known only at run time (the one loop
+/// of the feature `compact-filter`): `acc[x] = bias + sum_t coefs[t] *
+/// rows[t][x]`, one row at a time.
+#[inline(never)]
+fn column_sum_any(rows: &[&[u8]], coefs: &[i32], bias: i32, acc: &mut [i32]) {
+    acc.fill(bias);
+    for (row, &c) in rows.iter().zip(coefs) {
+        for (a, &p) in acc.iter_mut().zip(row.iter()) {
+            *a += c * p as i32;
+        }
+    }
+}
+
 /// `acc[x] = form(...)` over input rows bound by name: each row is sliced
 /// to `acc.len()` once, so the loop indexes without bounds checks and
 /// keeps every row pointer in a register.
@@ -625,6 +684,7 @@ macro_rules! dot_form {
 /// regrouped, and no partial sum exceeds `sum|c| * max|input|`, which the
 /// construction check bounds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "compact-filter", allow(dead_code))]
 enum FixedTaps {
     /// `[1 2 1]`: `p0 + p2 + (p1 << 1)`.
     Binomial3,
@@ -640,6 +700,13 @@ enum FixedTaps {
 }
 
 impl FixedTaps {
+    /// The form of a tap set; never one with the feature `compact-filter`.
+    #[cfg(feature = "compact-filter")]
+    fn of(_: &[i32]) -> Option<Self> {
+        None
+    }
+
+    #[cfg(not(feature = "compact-filter"))]
     fn of(c: &[i32]) -> Option<Self> {
         match c {
             [1, 2, 1] => Some(Self::Binomial3),
@@ -1204,7 +1271,45 @@ mod tests {
         ));
     }
 
+    /// The loops of the feature `compact-filter` give the sums of the
+    /// per-count loops the default build uses, for every tap count.
     #[test]
+    fn compact_loops_equal_the_per_count_loops() {
+        let w = 23;
+        let data: [[u8; 23]; MAX_TAPS] =
+            core::array::from_fn(|j| core::array::from_fn(|x| ((x * 37 + j * 101) % 256) as u8));
+        let rows: [&[u8]; MAX_TAPS] = core::array::from_fn(|j| &data[j][..]);
+        let coefs = [-3, 17, 255, -128, 9, 0, 77, -1, 64];
+        for n in 0..=MAX_TAPS {
+            let (mut a, mut b) = ([0i32; 23], [0i32; 23]);
+            column_sum_by_count(&rows, &coefs, n, 5, &mut a);
+            column_sum_any(&rows[..n], &coefs[..n], 5, &mut b);
+            assert_eq!(a, b, "{n} rows");
+        }
+        let acc: [i32; 23] = core::array::from_fn(|x| (x as i32 * 7919) % 1000 - 500);
+        for taps in [
+            &coefs[..1],
+            &coefs[..3],
+            &coefs[..5],
+            &coefs[..7],
+            &coefs[..9],
+        ] {
+            let n = w - taps.len() + 1;
+            let (mut a, mut b) = ([0i16; 23], [0i16; 23]);
+            match taps.len() {
+                1 => dot_row::<i16, 1>(taps, &acc, &mut a[..n], 3),
+                3 => dot_row::<i16, 3>(taps, &acc, &mut a[..n], 3),
+                5 => dot_row::<i16, 5>(taps, &acc, &mut a[..n], 3),
+                7 => dot_row::<i16, 7>(taps, &acc, &mut a[..n], 3),
+                _ => dot_row::<i16, 9>(taps, &acc, &mut a[..n], 3),
+            }
+            dot_row_any(taps, &acc, &mut b[..n], 3);
+            assert_eq!(a, b, "{} taps", taps.len());
+        }
+    }
+
+    #[test]
+    #[cfg(not(feature = "compact-filter"))] // no forms in that build
     fn constant_tap_forms_equal_the_tap_by_tap_sums() {
         let sets: [&[i32]; 5] = [
             &[1, 2, 1],

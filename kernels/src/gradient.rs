@@ -22,18 +22,32 @@
 //!   = 4.027 %` (see [`L2_APPROX_REL_ERR_PPM`]); rounding adds at most 0.5 LSB.
 //! * **Rounded L2 magnitude** ([`magnitude_l2_round`]): the integer nearest
 //!   to `sqrt(ax^2 + ay^2)`, exact. `s = ax^2 + ay^2` is a `u32` (at most
-//!   `2 * 32767^2 = 2147352578 < 2^31`); `r = floor(sqrt(s))` by the
-//!   bit-by-bit square root: `k` steps, where `k = 4, 8, 12, 16` for `s`
-//!   below `2^8, 2^16, 2^24` or above (three compares; leading steps on a
-//!   smaller `s` would change nothing), `bit` runs over
-//!   `4^(k-1), ..., 4, 1`; each step forms `t = root + bit`, halves `root`,
-//!   and when `rem >= t` subtracts `t` from `rem` and adds `bit` to `root`;
-//!   at the end `root = r`, `rem = s - r^2`. The result is `r + 1` when
-//!   `rem > r`, else `r`. Only the result is the contract; a port may take
-//!   the square root any exact way. Because `s` is an integer, `sqrt(s)` is never
-//!   exactly `r + 1/2` (that would need `s = r^2 + r + 1/4`), so there is
-//!   no tie and the result is `round(sqrt(s))` under any rounding rule; at
-//!   most 46340, so it fits `u16`.
+//!   `2 * 32767^2 = 2147352578 < 2^31`); `r = floor(sqrt(s))`, and the
+//!   result is `r + 1` when `s - r^2 > r`, else `r`. Only the result is the
+//!   contract; a port may take the square root any exact way. Because `s`
+//!   is an integer, `sqrt(s)` is never exactly `r + 1/2` (that would need
+//!   `s = r^2 + r + 1/4`), so there is no tie and the result is
+//!   `round(sqrt(s))` under any rounding rule; at most 46340, so it fits
+//!   `u16`. How this crate takes `r` depends on the core (both ways give
+//!   the same `r` for every `s < 2^31`; the test
+//!   `floor_sqrt_ways_agree_everywhere` runs all of them):
+//!   - with a hardware divide (the host, ARMv7-M and later, RV32 with the
+//!     `M` extension): `s = 0` gives 0; otherwise, with `z` the leading
+//!     zeros of `s`, `u = s << (z & !1)` (top bit at 31 or 30) and
+//!     `t = u >> 26` (in `16..64`), the start is
+//!     `q = ceil(sqrt((t + 1) * 2^26)) >> (z >> 1)` (a 48-entry table,
+//!     within 3.2 % of `sqrt(s)`), then two integer Newton steps
+//!     `q = (q + s / q) >> 1` (floor division), and `r = q - 1` when
+//!     `q^2 > s`, else `q`. After the first step `q >= floor(sqrt(s))`
+//!     (the arithmetic-geometric mean inequality in integers) and each
+//!     step about squares the relative error (3.2 %, `5e-4`, `1.2e-7`), so
+//!     the second leaves `q` at `r` or `r + 1`;
+//!   - without one (ARMv6-M, where a divide is a library call): the
+//!     bit-by-bit square root in `k` steps, where `k = 4, 8, 12, 16` for
+//!     `s` below `2^8, 2^16, 2^24` or above, `bit` running over
+//!     `4^(k-1), ..., 4, 1`; each step forms `t = root + bit`, halves
+//!     `root`, and when `rem >= t` subtracts `t` from `rem` and adds `bit`
+//!     to `root`; at the end `root = r`.
 //! * **Direction** ([`direction_sector`]): the gradient angle
 //!   `theta = atan2(gy, gx)` (x to the right, y down the rows), folded to
 //!   `[0, 180)` degrees, quantised to the nearest of 0, 45, 90, 135 degrees
@@ -113,10 +127,9 @@ fn sqrt_steps(s: u32) -> u32 {
     }
 }
 
-/// `floor(sqrt(s))` and `s - floor(sqrt(s))^2` in `steps` bit-by-bit steps
-/// (`s < 4^steps`).
+/// `floor(sqrt(s))` in `steps` bit-by-bit steps (`s < 4^steps`).
 #[inline(always)]
-fn sqrt_rem(s: u32, steps: u32) -> (u32, u32) {
+fn sqrt_bits(s: u32, steps: u32) -> u32 {
     let mut rem = s;
     let mut root = 0u32;
     let mut bit = 1u32 << (2 * (steps - 1));
@@ -129,7 +142,69 @@ fn sqrt_rem(s: u32, steps: u32) -> (u32, u32) {
         }
         bit >>= 2;
     }
-    (root, rem)
+    root
+}
+
+/// Start values of [`sqrt_newton`]: `SQRT_SEED[t - 16] = ceil(sqrt((t + 1)
+/// * 2^26))` for `t` in `16..64`, the root of the top of the interval of
+/// `u32` values whose top six bits (normalised to an even shift) are `t`.
+const SQRT_SEED: [u32; 48] = {
+    let mut out = [0u32; 48];
+    let mut i = 0;
+    while i < 48 {
+        let v = ((i as u64) + 17) << 26;
+        // Smallest r with r^2 >= v (binary search).
+        let (mut lo, mut hi) = (0u64, 1u64 << 17);
+        while hi - lo > 1 {
+            let mid = (lo + hi) / 2;
+            if mid * mid >= v {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        out[i] = hi as u32;
+        i += 1;
+    }
+    out
+};
+
+/// `floor(sqrt(s))` by two integer Newton steps from a table start within
+/// 3.2 % (`s < 2^31`; see the module docs).
+#[inline(always)]
+fn sqrt_newton(s: u32) -> u32 {
+    if s == 0 {
+        return 0;
+    }
+    // `u = s * 4^k` with its top bit at 31 or 30; `t` its top six bits.
+    let z = s.leading_zeros();
+    let u = s << (z & !1);
+    let t = (u >> 26) as usize;
+    let mut q = SQRT_SEED.get(t.wrapping_sub(16)).copied().unwrap_or(1) >> (z >> 1);
+    for _ in 0..2 {
+        // `q >= 1` for `s >= 1`, so the fallback never applies.
+        q = (q + s.checked_div(q).unwrap_or(0)) >> 1;
+    }
+    q - u32::from(q * q > s)
+}
+
+/// `true` where a `u32` divide is one instruction (see the module docs).
+/// ARMv6-M is the one supported Arm profile with neither a divide nor
+/// 32-bit compare-and-swap, so the latter tells the profiles apart.
+const HW_DIVIDE: bool = cfg!(any(
+    all(target_arch = "arm", target_has_atomic = "32"),
+    all(target_arch = "riscv32", target_feature = "m"),
+    not(any(target_arch = "arm", target_arch = "riscv32")),
+));
+
+/// `floor(sqrt(s))` for `s < 2^31`, the way that suits the core.
+#[inline(always)]
+fn floor_sqrt(s: u32) -> u32 {
+    if HW_DIVIDE {
+        sqrt_newton(s)
+    } else {
+        sqrt_bits(s, sqrt_steps(s))
+    }
 }
 
 /// The integer nearest to `sqrt(gx^2 + gy^2)` (saturating absolute values;
@@ -148,9 +223,9 @@ pub fn l2_round(gx: i16, gy: i16) -> u16 {
     let ax = abs_sat_i16(gx) as u32;
     let ay = abs_sat_i16(gy) as u32;
     let s = ax * ax + ay * ay;
-    let (root, rem) = sqrt_rem(s, sqrt_steps(s));
-    // root = floor(sqrt(s)) <= 46339, rem = s - root^2; round to nearest.
-    sat_u16((root + u32::from(rem > root)) as i32)
+    let root = floor_sqrt(s);
+    // root = floor(sqrt(s)) <= 46339; round to nearest.
+    sat_u16((root + u32::from(s - root * root > root)) as i32)
 }
 
 /// Gradient direction quantised to 4 sectors: 0 (0 deg), 1 (45 deg),
@@ -296,34 +371,25 @@ pub fn magnitude_l2_approx_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Resul
 /// ```
 pub fn magnitude_l2_round_row(gx: &[i16], gy: &[i16], out: &mut [u16]) -> Result<()> {
     let n = row_len(gx, gy, out.len())?;
-    // Square-root steps and step-count compares of the row.
-    let (mut k, mut c) = (0usize, 0usize);
+    let mut nonzero = 0usize;
     for ((o, &a), &b) in out[..n].iter_mut().zip(gx).zip(gy) {
         *o = l2_round(a, b);
-        let (ax, ay) = (abs_sat_i16(a) as u32, abs_sat_i16(b) as u32);
-        let steps = sqrt_steps(ax * ax + ay * ay);
-        k += steps as usize;
-        c += (steps / 4).min(3) as usize;
+        nonzero += usize::from(a != 0 || b != 0);
     }
+    // Counted for the way with a divide (the host's; see the module docs).
     // Per pixel: loads 2, abs 2x(compare+negate), one mul + one mac for the
-    // sum of squares, 1 to 3 compares and branches choosing the step count;
-    // per square-root step an add (t), a shift (root), a compare, a
-    // conditional subtract and add (counted as two adds and one select,
-    // whichever way it goes), a shift (bit) and the loop branch; then the
-    // rounding compare and add, store 1, loop branch 1.
-    tally_per(Op::Load, 2, n);
-    tally_per(Op::Logic, 3, n);
-    tally_per(Op::Logic, 1, c);
-    tally_per(Op::Logic, 2, k);
-    tally_per(Op::AddSub, 3, n);
-    tally_per(Op::AddSub, 3, k);
-    tally_per(Op::Mul, 1, n);
-    tally_per(Op::Mac, 1, n);
-    tally_per(Op::Shift, 2, k);
-    tally_per(Op::Store, 1, n);
-    tally_per(Op::Branch, 1, n);
-    tally_per(Op::Branch, 1, c);
-    tally_per(Op::Branch, 1, k);
+    // sum of squares, the zero test and its branch, store 1, loop branch 1.
+    // Per nonzero sum: leading zeros, a mask, two shifts and a table
+    // look-up for the start, a shift to scale it, per Newton step a divide,
+    // an add and a shift, then a multiply, compare and subtract for `r`, and
+    // a multiply-subtract, compare and add for the rounding.
+    tally_per(Op::Logic, 4, nonzero);
+    tally_per(Op::Table, 1, nonzero);
+    tally_per(Op::AddSub, 4, nonzero);
+    tally_per(Op::Shift, 5, nonzero);
+    tally_per(Op::Div, 2, nonzero);
+    tally_per(Op::Mul, 1, nonzero);
+    tally_per(Op::Mac, 1, nonzero);
     Ok(())
 }
 
@@ -582,6 +648,57 @@ pub fn angles(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The exact floor root by a binary search in `u64`: the reference for
+    /// both ways.
+    fn floor_sqrt_u64(s: u32) -> u32 {
+        let (mut lo, mut hi) = (0u64, 1u64 << 16);
+        while hi - lo > 1 {
+            let mid = (lo + hi) / 2;
+            if mid * mid <= s as u64 {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        lo as u32
+    }
+
+    /// Both ways of taking the root at every place where `floor(sqrt)` or
+    /// the rounding changes (`r^2 - 1`, `r^2`, `r^2 + r`, `r^2 + r + 1`),
+    /// and at the largest sum `2 * 32767^2`.
+    #[test]
+    fn floor_sqrt_ways_agree_at_the_steps() {
+        let top = 2 * 32767u32 * 32767;
+        let check = |s: u32| {
+            let want = floor_sqrt_u64(s);
+            assert_eq!(sqrt_newton(s), want, "Newton, s = {s}");
+            assert_eq!(sqrt_bits(s, sqrt_steps(s)), want, "bit by bit, s = {s}");
+        };
+        for r in 0u32..=46340 {
+            for s in [r * r, r * r + r, r * r + r + 1, (r * r).saturating_sub(1)] {
+                if s <= top {
+                    check(s);
+                }
+            }
+        }
+        check(top);
+    }
+
+    /// Every `s` below `2^31` (about 2^31 roots; run with `cargo test
+    /// --release -p fixsight --lib floor_sqrt -- --ignored`).
+    #[test]
+    #[ignore = "exhaustive: minutes in release mode"]
+    fn floor_sqrt_ways_agree_everywhere() {
+        let mut r = 0u32;
+        for s in 0u32..1 << 31 {
+            if (r + 1) * (r + 1) <= s {
+                r += 1;
+            }
+            assert_eq!(sqrt_newton(s), r, "Newton, s = {s}");
+            assert_eq!(sqrt_bits(s, sqrt_steps(s)), r, "bit by bit, s = {s}");
+        }
+    }
 
     #[test]
     fn sizes_must_match() {

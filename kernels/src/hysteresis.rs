@@ -80,14 +80,78 @@
 use crate::error::{Error, Result};
 use crate::image::{check_same_size, check_single_channel, ImageView, ImageViewMut};
 use crate::ops::{tally, tally_per, Op};
-/// The `fixed` type of the low-threshold fraction, re-exported so callers
-/// need not depend on `fixed` themselves.
+/// An unsigned fraction in `[0, 1)` with 16 fractional bits (`U0F16` in
+/// the Q notation): the value is `bits / 65536`. The low-threshold
+/// fraction is one. With the cargo feature `fixed` it converts to and from
+/// `fixed::types::U0F16`, bits unchanged.
 ///
 /// ```
-/// let f = fixsight::hysteresis::U0F16::from_bits(32768);
-/// assert_eq!(f, fixsight::hysteresis::U0F16::from_num(0.5));
+/// use fixsight::hysteresis::U0F16;
+/// let half = U0F16::from_bits(32768); // 0.5
+/// assert_eq!(half.to_bits(), 32768);
+/// assert!(U0F16::ZERO < half);
 /// ```
-pub use fixed::types::U0F16;
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, PartialOrd, Ord, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct U0F16(u16);
+
+impl U0F16 {
+    /// Zero.
+    ///
+    /// ```
+    /// assert_eq!(fixsight::hysteresis::U0F16::ZERO.to_bits(), 0);
+    /// ```
+    pub const ZERO: Self = Self(0);
+
+    /// The fraction `bits / 65536`.
+    ///
+    /// ```
+    /// let q = fixsight::hysteresis::U0F16::from_bits(16384); // 0.25
+    /// assert_eq!(q.to_bits(), 16384);
+    /// ```
+    pub const fn from_bits(bits: u16) -> Self {
+        Self(bits)
+    }
+
+    /// The raw bits (the value times 65536).
+    ///
+    /// ```
+    /// assert_eq!(fixsight::hysteresis::DEMO_LOW_FRACTION.to_bits(), 31457);
+    /// ```
+    pub const fn to_bits(self) -> u16 {
+        self.0
+    }
+}
+
+/// Bits unchanged (feature `fixed`).
+///
+/// ```
+/// # #[cfg(feature = "fixed")] {
+/// let f = fixed::types::U0F16::from_num(0.5);
+/// assert_eq!(fixsight::hysteresis::U0F16::from(f).to_bits(), 32768);
+/// # }
+/// ```
+#[cfg(feature = "fixed")]
+impl From<fixed::types::U0F16> for U0F16 {
+    fn from(f: fixed::types::U0F16) -> Self {
+        Self(f.to_bits())
+    }
+}
+
+/// Bits unchanged (feature `fixed`).
+///
+/// ```
+/// # #[cfg(feature = "fixed")] {
+/// let f: fixed::types::U0F16 = fixsight::hysteresis::U0F16::from_bits(32768).into();
+/// assert_eq!(f, fixed::types::U0F16::from_num(0.5));
+/// # }
+/// ```
+#[cfg(feature = "fixed")]
+impl From<U0F16> for fixed::types::U0F16 {
+    fn from(f: U0F16) -> Self {
+        Self::from_bits(f.0)
+    }
+}
 
 /// Code of a pixel that is not an edge (input and output).
 pub const NONE: u8 = 0;

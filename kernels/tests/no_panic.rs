@@ -2,8 +2,8 @@
 //! counts, buffer lengths, thresholds and call orders give `Ok` or a typed
 //! `Err`, never a panic (debug build, overflow checks on).
 
-use fixed::types::U0F16;
 use fixsight::filter::{self, Border, FilterStream, SeparableFilter, Taps};
+use fixsight::hysteresis::U0F16;
 use fixsight::marking::{
     self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast,
 };
