@@ -242,6 +242,16 @@ static void gradients_and_edges(void) {
     }
     expect("gradient.direction_null_output", fxs_gradient_direction(&gx, &gy, 0), FXS_E_NULL_POINTER);
     expect("gradient.direction_ok", fxs_gradient_direction(&gx, &gy, &dir), FXS_OK);
+    expect("gradient.angles_ok", fxs_gradient_angles(&gx, &gy, &m), FXS_OK);
+    expect("gradient.angles_size_mismatch", fxs_gradient_angles(&gx, &gy3, &m), FXS_E_SIZE_MISMATCH);
+    {
+        fxs_u16_view_mut bad = m;
+        bad.data = (uint16_t *)(void *)b16;
+        expect("gradient.angles_output_over_gy", fxs_gradient_angles(&gx, &gy, &bad), FXS_E_OVERLAP);
+        bad = m;
+        bad.len = 15;
+        expect("gradient.angles_output_short", fxs_gradient_angles(&gx, &gy, &bad), FXS_E_BUFFER_TOO_SHORT);
+    }
     a8[5] = 4;
     expect("nms.sector_out_of_range", fxs_nms_suppress(&mv, &dv, &nm), FXS_E_BAD_PARAMETER);
     a8[5] = 0;

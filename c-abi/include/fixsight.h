@@ -282,7 +282,7 @@ fxs_status fxs_filter_stream_flush_i16(fxs_filter_stream *stream, int16_t *out,
                                        uintptr_t out_len, int32_t *out_row);
 
 /* ======================================================================== */
-/* gradient: magnitude and direction (kernel ids gradient.*)               */
+/* gradient: magnitude, direction, angle (kernel ids gradient.*)          */
 /* Integer model: README.md "Gradient magnitude and direction".            */
 /* ======================================================================== */
 
@@ -301,6 +301,12 @@ fxs_status fxs_gradient_magnitude_l2_round(const fxs_i16_view *gx, const fxs_i16
 /* Sector 0..3 (0, 45, 90, 135 degrees; y down the rows). */
 fxs_status fxs_gradient_direction(const fxs_i16_view *gx, const fxs_i16_view *gy,
                                   const fxs_u8_view_mut *dir);
+/* Orientation atan2(gy, gx) folded to [0, 180) degrees as a binary angle
+ * (65536 = 180 degrees; 0 when gx = gy = 0), 15 shift-and-add steps, within
+ * 0.004881 degrees of the exact value. Integer model: kernels/src/gradient.rs,
+ * `angle`. */
+fxs_status fxs_gradient_angles(const fxs_i16_view *gx, const fxs_i16_view *gy,
+                               const fxs_u16_view_mut *angle);
 
 /* ======================================================================== */
 /* nms: non-maximum suppression (kernel id nms.suppress)                   */
