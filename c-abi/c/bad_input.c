@@ -65,14 +65,16 @@ static void statuses(void) {
     expect("storage.sizes",
            (sizeof(fxs_filter) == FXS_FILTER_SIZE && sizeof(fxs_filter_stream) == FXS_FILTER_STREAM_SIZE &&
             sizeof(fxs_nms_stream) == FXS_NMS_STREAM_SIZE && sizeof(fxs_pixel_map) == FXS_PIXEL_MAP_SIZE &&
-            sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE)
+            sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
+            sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
     expect("storage.alignment",
            (ALIGN_OF(fxs_filter) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_filter_stream) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_nms_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_pixel_map) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -385,6 +387,139 @@ static void warps(void) {
     }
 }
 
+static void lines_cases(void) {
+    /* 8 x 6 frame, 4 columns of 16384 units from 0 (0..90 degrees), 5 rows of 1 px. */
+    fxs_vote_params p = {8, 6, 0, 14, 4, 4, 5, 14, 0, -1}, q;
+    fxs_lines_accumulator acc, zero;
+    fxs_vote_counts n;
+    fxs_peak_params pp = {1, 1, 1};
+    fxs_line_peak pk[4];
+    fxs_segment seg[4];
+    fxs_segment_params sp = {1, 0, 0};
+    fxs_line line = {-16, 32768, 0}; /* the row y = 2, one pixel above the origin row */
+    fxs_u8_view e = {a8, 48, 8, 6, 8};
+    fxs_i16_view gx = {a16, 48, 8, 6, 8}, gy = {b16, 48, 8, 6, 8};
+    fxs_control_grid grid;
+    fxs_warp_geometry g = {8, 8, 8, 6, 4};
+    static const int32_t ident[18] = {0, 0, 64, 0, 128, 0, 0, 64, 64, 64, 128, 64, 0, 128, 64, 128, 128, 128};
+    uint16_t *cells = u16a;
+    int16_t c, sn, trig[8];
+    int32_t found, xq, yq;
+    memset(a8w, 0, sizeof a8w);
+    a8[2 * 8 + 3] = 1;
+    expect("lines.cos_sin_ok", fxs_lines_cos_sin(32768, 14, &c, &sn) == FXS_OK && c == 0 && sn == 16384 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.cos_sin_frac_7", fxs_lines_cos_sin(0, 7, &c, &sn), FXS_E_BAD_PARAMETER);
+    expect("lines.cos_sin_frac_15", fxs_lines_cos_sin(0, 15, &c, &sn), FXS_E_BAD_PARAMETER);
+    expect("lines.cos_sin_null", fxs_lines_cos_sin(0, 14, 0, &sn), FXS_E_NULL_POINTER);
+    expect("lines.cos_sin_same_output", fxs_lines_cos_sin(0, 14, &c, &c), FXS_E_OVERLAP);
+    expect("lines.init_ok", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 8), FXS_OK);
+    expect("lines.init_cells_short", fxs_lines_accumulator_init(&acc, &p, cells, 19, trig, 8), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.init_trig_short", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 7), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.init_null_params", fxs_lines_accumulator_init(&acc, 0, cells, 20, trig, 8), FXS_E_NULL_POINTER);
+    expect("lines.init_trig_in_cells",
+           fxs_lines_accumulator_init(&acc, &p, cells, 20, (int16_t *)(void *)(cells + 4), 8), FXS_E_OVERLAP);
+    q = p;
+    q.rho_bins = 4;
+    expect("lines.init_rho_bins_even", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.width = 0;
+    expect("lines.init_zero_width", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_ZERO_SIZE);
+    q = p;
+    q.height = 5000;
+    expect("lines.init_height_5000", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_TOO_LARGE);
+    q = p;
+    q.theta_step_log2 = 3;
+    expect("lines.init_theta_step_3", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.theta_bins = 5;
+    expect("lines.init_window_above_180", fxs_lines_accumulator_init(&acc, &q, cells, 25, trig, 10),
+           FXS_E_BAD_PARAMETER);
+    q = p;
+    q.gate = 40000;
+    expect("lines.init_gate_40000", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.weight_shift = -2;
+    expect("lines.init_weight_shift_-2", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8),
+           FXS_E_BAD_PARAMETER);
+    q = p;
+    q.theta_start = -1;
+    expect("lines.init_negative_theta_start", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8),
+           FXS_E_NEGATIVE);
+    expect("lines.init_again", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 8), FXS_OK);
+    expect("lines.row_out_of_order", fxs_lines_vote_row(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_STREAM_ORDER);
+    expect("lines.row_short", fxs_lines_vote_row(&acc, 0, a8, 7, 0, 0, 0, 0, 0, 0), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.row_negative", fxs_lines_vote_row(&acc, -1, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_NEGATIVE);
+    expect("lines.row_null_edges", fxs_lines_vote_row(&acc, 0, 0, 8, 0, 0, 0, 0, 0, 0), FXS_E_NULL_POINTER);
+    expect("lines.row_in_cells",
+           fxs_lines_vote_row(&acc, 0, (const uint8_t *)(void *)cells, 8, 0, 0, 0, 0, 0, 0), FXS_E_OVERLAP);
+    expect("lines.frame_ok", fxs_lines_vote_frame(&acc, &e, 0, 0, 0), FXS_OK);
+    expect("lines.counts",
+           fxs_lines_accumulator_counts(&acc, &n) == FXS_OK && n.points == 1 && n.next_row == 6 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.row_past_height", fxs_lines_vote_row(&acc, 6, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_ROW_RANGE);
+    expect("lines.frame_twice", fxs_lines_vote_frame(&acc, &e, 0, 0, 0), FXS_E_STREAM_ORDER);
+    expect("lines.reset", fxs_lines_accumulator_reset(&acc), FXS_OK);
+    expect("lines.frame_one_gradient", fxs_lines_vote_frame(&acc, &e, &gx, 0, 0), FXS_E_NULL_POINTER);
+    {
+        fxs_u8_view e2 = e;
+        e2.width = 7;
+        e2.stride = 7;
+        expect("lines.frame_size_mismatch", fxs_lines_vote_frame(&acc, &e2, 0, 0, 0), FXS_E_SIZE_MISMATCH);
+    }
+    expect("lines.point_outside", fxs_lines_vote_point(&acc, 8 * 16, 0, -1, 1), FXS_E_POINT_OUTSIDE);
+    expect("lines.point_angle_65536", fxs_lines_vote_point(&acc, 0, 0, 65536, 1), FXS_E_BAD_PARAMETER);
+    expect("lines.point_ok", fxs_lines_vote_point(&acc, 3 * 16, 2 * 16, -1, 1), FXS_OK);
+    expect("lines.peaks_ok", fxs_lines_peaks(&acc, &pp, pk, 4, &found) == FXS_OK && found >= 1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.peaks_none_wanted", fxs_lines_peaks(&acc, &pp, pk, 0, &found), FXS_E_BAD_PARAMETER);
+    expect("lines.peaks_too_many", fxs_lines_peaks(&acc, &pp, pk, FXS_LINES_MAX_OUT + 1, &found),
+           FXS_E_BAD_PARAMETER);
+    pp.threshold = 0;
+    expect("lines.peaks_threshold_0", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_BAD_PARAMETER);
+    pp.threshold = 1;
+    pp.radius_rho = -1;
+    expect("lines.peaks_negative_radius", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_NEGATIVE);
+    pp.radius_rho = 1;
+    expect("lines.peaks_into_cells", fxs_lines_peaks(&acc, &pp, (fxs_line_peak *)(void *)cells, 2, &found),
+           FXS_E_OVERLAP);
+    memset(&zero, 0, sizeof zero);
+    expect("lines.peaks_not_initialised", fxs_lines_peaks(&zero, &pp, pk, 4, &found), FXS_E_NOT_INITIALISED);
+    expect("lines.grid_init", fxs_warp_control_grid_init(&grid, ident, 18, &g, 2), FXS_OK);
+    expect("lines.correct_point_ok",
+           fxs_lines_correct_point(&grid, 3, 2, &xq, &yq) == FXS_OK && xq == 48 && yq == 32 ? FXS_OK : -1, FXS_OK);
+    expect("lines.correct_point_outside", fxs_lines_correct_point(&grid, 8, 0, &xq, &yq), FXS_E_POINT_OUTSIDE);
+    expect("lines.correct_point_negative", fxs_lines_correct_point(&grid, -1, 0, &xq, &yq), FXS_E_NEGATIVE);
+    expect("lines.reset_again", fxs_lines_accumulator_reset(&acc), FXS_OK);
+    expect("lines.corrected_row_ok", fxs_lines_vote_row_corrected(&acc, 0, a8, 8, 0, 0, 0, 0, 0, 0, &grid), FXS_OK);
+    expect("lines.corrected_row_grid_zeroed",
+           fxs_lines_vote_row_corrected(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0, (const fxs_control_grid *)(void *)&zero),
+           FXS_E_NOT_INITIALISED);
+    g.src_height = 8;
+    expect("lines.grid_init_8x8", fxs_warp_control_grid_init(&grid, ident, 18, &g, 2), FXS_OK);
+    expect("lines.corrected_grid_size_mismatch",
+           fxs_lines_vote_row_corrected(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0, &grid), FXS_E_SIZE_MISMATCH);
+    q = p;
+    q.gate = 100;
+    expect("lines.init_gated", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_OK);
+    expect("lines.gated_row_without_gradient", fxs_lines_vote_row(&acc, 0, a8, 8, 0, 0, 0, 0, 0, 0),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.gated_frame_ok", fxs_lines_vote_frame(&acc, &e, &gx, &gy, 0), FXS_OK);
+    expect("lines.point_gated_without_angle", fxs_lines_vote_point(&acc, 0, 0, -1, 1), FXS_E_BAD_PARAMETER);
+    expect("lines.segments_ok", fxs_lines_segments(&e, &line, &sp, seg, 4, &found) == FXS_OK && found == 1 ? FXS_OK : -1,
+           FXS_OK);
+    sp.tolerance = 4;
+    expect("lines.segments_tolerance_4", fxs_lines_segments(&e, &line, &sp, seg, 4, &found), FXS_E_BAD_PARAMETER);
+    sp.tolerance = 0;
+    sp.min_length = 0;
+    expect("lines.segments_min_length_0", fxs_lines_segments(&e, &line, &sp, seg, 4, &found), FXS_E_BAD_PARAMETER);
+    sp.min_length = 1;
+    expect("lines.segments_null_line", fxs_lines_segments(&e, 0, &sp, seg, 4, &found), FXS_E_NULL_POINTER);
+    expect("lines.segments_into_edges",
+           fxs_lines_segments(&e, &line, &sp, (fxs_segment *)(void *)a8w, 2, &found), FXS_E_OVERLAP);
+    expect("lines.segments_none_wanted", fxs_lines_segments(&e, &line, &sp, seg, 0, &found), FXS_E_BAD_PARAMETER);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -393,6 +528,7 @@ int golden_bad_inputs(int32_t *n) {
     filter_streams();
     gradients_and_edges();
     warps();
+    lines_cases();
     *n = cases;
     return failed;
 }

@@ -463,6 +463,150 @@ static fxs_status run_edges(const golden_vector *v, const img *in, const img *ou
     }
 }
 
+/* --------------------------------------------------------------- lines -- */
+
+static fxs_status run_cos_sin(const golden_vector *v, const img *in, const img *out) {
+    int32_t q;
+    const uint32_t *a = (const uint32_t *)in[0].p;
+    int16_t *cs = (int16_t *)out[0].p;
+    NEED(p_int(v, "frac_bits", &q) == 0, "frac_bits");
+    NEED(in[0].elem == GOLDEN_U32 && out[0].elem == GOLDEN_I16 && out[0].n == 2 * in[0].n, "cos_sin shapes");
+    for (uint32_t i = 0; i < in[0].n; i++) TRY(fxs_lines_cos_sin(a[i], q, &cs[2 * i], &cs[2 * i + 1]));
+    return FXS_OK;
+}
+
+static int vote_params_of(const golden_vector *v, fxs_vote_params *p) {
+    return p_int(v, "width", &p->width) || p_int(v, "height", &p->height) ||
+           p_int(v, "theta_start", &p->theta_start) || p_int(v, "theta_step_log2", &p->theta_step_log2) ||
+           p_int(v, "theta_bins", &p->theta_bins) || p_int(v, "rho_step_log2", &p->rho_step_log2) ||
+           p_int(v, "rho_bins", &p->rho_bins) || p_int(v, "trig_frac_bits", &p->trig_frac_bits) ||
+           p_int(v, "gate", &p->gate) || p_int(v, "weight_shift", &p->weight_shift);
+}
+
+/* Votes inputs 0..3 (edges, gx, gy, weights; gradients only when gating,
+ * weights only when weighting) into `cells`: whole frame (`rows` 0), row by
+ * row (`rows` 1), or row by row through the grid of input 4 (`rows` 2). */
+static fxs_status vote(const golden_vector *v, const img *in, uint16_t *cells, uintptr_t ncells,
+                       fxs_lines_accumulator *acc, int rows) {
+    fxs_vote_params p;
+    int16_t *trig;
+    NEED(vote_params_of(v, &p) == 0, "vote parameters");
+    NEED(p.theta_bins > 0, "theta_bins");
+    trig = alloc(4u * (uint32_t)p.theta_bins);
+    NEED(trig, "arena full");
+    TRY(fxs_lines_accumulator_init(acc, &p, cells, ncells, trig, 2u * (uintptr_t)p.theta_bins));
+    if (rows == 0) {
+        fxs_u8_view e = u8v(&in[0]);
+        fxs_i16_view gx = i16v(&in[1]), gy = i16v(&in[2]);
+        fxs_u16_view wt = u16v(&in[3]);
+        return fxs_lines_vote_frame(acc, &e, p.gate ? &gx : 0, p.gate ? &gy : 0, p.weight_shift >= 0 ? &wt : 0);
+    } else {
+        fxs_control_grid grid;
+        int32_t w = in[0].w, y;
+        if (rows == 2) {
+            fxs_warp_geometry g;
+            int32_t log2;
+            NEED(p_int(v, "frac_bits", &g.frac_bits) == 0 && p_int(v, "grid_log2", &log2) == 0, "grid parameters");
+            NEED(in[4].elem == GOLDEN_I32 && in[4].ch == 2, "grid must be i32 pairs");
+            g.out_width = in[0].w;
+            g.out_height = in[0].h;
+            g.src_width = p.width;
+            g.src_height = p.height;
+            TRY(fxs_warp_control_grid_init(&grid, (const int32_t *)in[4].p, in[4].n, &g, log2));
+        }
+        for (y = 0; y < in[0].h; y++) {
+            const uint8_t *e = (const uint8_t *)in[0].p + y * w;
+            const int16_t *gx = p.gate ? (const int16_t *)in[1].p + y * w : 0;
+            const int16_t *gy = p.gate ? (const int16_t *)in[2].p + y * w : 0;
+            const uint16_t *wt = p.weight_shift >= 0 ? (const uint16_t *)in[3].p + y * w : 0;
+            if (rows == 2)
+                TRY(fxs_lines_vote_row_corrected(acc, y, e, (uintptr_t)w, gx, (uintptr_t)w, gy, (uintptr_t)w, wt,
+                                                 (uintptr_t)w, &grid));
+            else
+                TRY(fxs_lines_vote_row(acc, y, e, (uintptr_t)w, gx, (uintptr_t)w, gy, (uintptr_t)w, wt,
+                                       (uintptr_t)w));
+        }
+        return FXS_OK;
+    }
+}
+
+static fxs_status run_accumulator(const golden_vector *v, const img *in, const img *out) {
+    fxs_lines_accumulator acc;
+    NEED(out[0].elem == GOLDEN_U16, "cells must be u16");
+    return vote(v, in, (uint16_t *)out[0].p, out[0].n, &acc, 0);
+}
+
+/* The same votes row by row. */
+static fxs_status rows_accumulator(const golden_vector *v, const img *in, const img *out) {
+    fxs_lines_accumulator acc;
+    return vote(v, in, (uint16_t *)out[0].p, out[0].n, &acc, 1);
+}
+
+static fxs_status run_correct_point(const golden_vector *v, const img *in, const img *out) {
+    fxs_lines_accumulator acc;
+    NEED(out[0].elem == GOLDEN_U16, "cells must be u16");
+    return vote(v, in, (uint16_t *)out[0].p, out[0].n, &acc, 2);
+}
+
+/* `k` rows of 5 int32_t into output 0 (rows past `found` zero). */
+static int32_t *rows5(const img *out, int32_t k) {
+    if (out[0].elem != GOLDEN_I32 || out[0].n != 5u * (uint32_t)k) return 0;
+    memset(out[0].p, 0, out[0].n * 4u);
+    return (int32_t *)out[0].p;
+}
+
+static fxs_status run_peak(const golden_vector *v, const img *in, const img *out) {
+    fxs_lines_accumulator acc;
+    fxs_peak_params pp;
+    fxs_line_peak pk[FXS_LINES_MAX_OUT];
+    int32_t k, found, t, r, *o;
+    uint16_t *cells;
+    NEED(p_int(v, "k", &k) == 0 && k > 0 && k <= FXS_LINES_MAX_OUT, "k");
+    NEED(p_int(v, "threshold", &pp.threshold) == 0 && p_int(v, "radius_theta", &pp.radius_theta) == 0 &&
+             p_int(v, "radius_rho", &pp.radius_rho) == 0,
+         "peak parameters");
+    NEED(p_int(v, "theta_bins", &t) == 0 && p_int(v, "rho_bins", &r) == 0 && t > 0 && r > 0, "bins");
+    cells = alloc(2u * (uint32_t)(t * r));
+    o = rows5(out, k);
+    NEED(cells && o, "arena full or output not 5 x k i32");
+    TRY(vote(v, in, cells, (uintptr_t)(t * r), &acc, 0));
+    TRY(fxs_lines_peaks(&acc, &pp, pk, (uintptr_t)k, &found));
+    for (int32_t i = 0; i < found; i++) {
+        o[5 * i] = pk[i].theta_bin;
+        o[5 * i + 1] = pk[i].rho_bin;
+        o[5 * i + 2] = pk[i].votes;
+        o[5 * i + 3] = pk[i].line.rho;
+        o[5 * i + 4] = pk[i].line.theta;
+    }
+    return FXS_OK;
+}
+
+static fxs_status run_segments(const golden_vector *v, const img *in, const img *out) {
+    fxs_line line = {0, 0, 0};
+    fxs_segment_params sp;
+    fxs_segment seg[FXS_LINES_MAX_OUT];
+    fxs_u8_view e = u8v(&in[0]);
+    int32_t k, theta, found, *o;
+    NEED(p_int(v, "k", &k) == 0 && k > 0 && k <= FXS_LINES_MAX_OUT, "k");
+    NEED(p_int(v, "rho", &line.rho) == 0 && p_int(v, "theta", &theta) == 0 && theta >= 0 && theta <= 65535,
+         "line");
+    line.theta = (uint16_t)theta;
+    NEED(p_int(v, "min_length", &sp.min_length) == 0 && p_int(v, "max_gap", &sp.max_gap) == 0 &&
+             p_int(v, "tolerance", &sp.tolerance) == 0,
+         "segment parameters");
+    o = rows5(out, k);
+    NEED(o, "output not 5 x k i32");
+    TRY(fxs_lines_segments(&e, &line, &sp, seg, (uintptr_t)k, &found));
+    for (int32_t i = 0; i < found; i++) {
+        o[5 * i] = seg[i].x0;
+        o[5 * i + 1] = seg[i].y0;
+        o[5 * i + 2] = seg[i].x1;
+        o[5 * i + 3] = seg[i].y1;
+        o[5 * i + 4] = (int32_t)seg[i].hits;
+    }
+    return FXS_OK;
+}
+
 /* ---------------------------------------------------------------- warp -- */
 
 static fxs_status pixel_map_strips(const golden_vector *v, const img *in, const img *out,
@@ -555,7 +699,12 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     X(thinning_thin, "thinning.thin", run_thin, 0)                                                \
     X(chain_edges, "chain.edges", run_edges, 0)                                                   \
     X(warp_pixel_map, "warp.pixel_map", run_pixel_map, strips_pixel_map)                          \
-    X(warp_control_grid, "warp.control_grid", run_control_grid, frame_control_grid)
+    X(warp_control_grid, "warp.control_grid", run_control_grid, frame_control_grid)               \
+    X(lines_cos_sin, "lines.cos_sin", run_cos_sin, 0)                                             \
+    X(lines_accumulator, "lines.accumulator", run_accumulator, rows_accumulator)                  \
+    X(lines_correct_point, "lines.correct_point", run_correct_point, 0)                           \
+    X(lines_peak, "lines.peak", run_peak, 0)                                                      \
+    X(lines_segments, "lines.segments", run_segments, 0)
 
 enum {
 #define X(tok, id, run, alt) K_##tok,
@@ -592,7 +741,7 @@ static const struct {
 
 /* Families on main whose C functions are left for later: their vectors
  * are listed ("later" lines) and not counted. */
-static const char *const LATER[] = {"lines.", "marking.", "pipeline.", "track."};
+static const char *const LATER[] = {"marking.", "pipeline.", "track."};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; i < sizeof LATER / sizeof LATER[0]; i++)

@@ -52,7 +52,7 @@
  *   points to `len` elements of memory you own, and no one else reads or
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
- *   fxs_control_grid) live in storage you provide: declare a variable of
+ *   fxs_control_grid, fxs_lines_accumulator) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
@@ -187,18 +187,22 @@ typedef struct fxs_u16_view_mut {
 #define FXS_PIXEL_MAP_SIZE_64 88
 #define FXS_CONTROL_GRID_SIZE_32 64
 #define FXS_CONTROL_GRID_SIZE_64 120
+#define FXS_LINES_ACCUMULATOR_SIZE_32 104
+#define FXS_LINES_ACCUMULATOR_SIZE_64 176
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_64
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_64
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_64
+#define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_32
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_32
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_32
+#define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -472,6 +476,178 @@ fxs_status fxs_warp_control_grid_rows(const fxs_control_grid *grid, const fxs_u8
  * memory it borrows), FXS_E_NOT_INITIALISED. */
 fxs_status fxs_warp_control_grid_write_blob(const fxs_control_grid *grid, uint8_t *out,
                                             uintptr_t out_len, uintptr_t *written);
+
+/* ======================================================================== */
+/* lines: line voting, peaks, segments (kernel ids lines.*)                */
+/* Integer model: README.md "Lines"; kernels/src/lines.rs module docs      */
+/* (units: rho in Q4 pixels from the origin, the centre of pixel           */
+/* (W >> 1, H >> 1); theta 65536 = 180 degrees; column angles 131072 =     */
+/* 360 degrees).                                                           */
+/* NOT A SAFETY FUNCTION: lines found here may steer a vehicle; see the    */
+/* note at the top of this file.                                           */
+/* ======================================================================== */
+
+/* Most peaks or segments one call writes (out_len 1..FXS_LINES_MAX_OUT). */
+#define FXS_LINES_MAX_OUT 32
+
+/* Accumulator geometry: T = theta_bins columns from theta_start (binary
+ * angle 360, 0..131071) in steps of 2^theta_step_log2 (4..14), T * 2^step
+ * <= 65536; R = rho_bins rows (odd, 1..4095) of 2^rho_step_log2 Q4 units
+ * (0..8); trig_frac_bits 8..14; frame 1..4096 each way; gate 0 (none) or
+ * 1..32767; weight_shift -1 (unit votes) or 0..15. */
+typedef struct fxs_vote_params {
+    int32_t width;
+    int32_t height;
+    int32_t theta_start;
+    int32_t theta_step_log2;
+    int32_t theta_bins;
+    int32_t rho_step_log2;
+    int32_t rho_bins;
+    int32_t trig_frac_bits;
+    int32_t gate;
+    int32_t weight_shift;
+} fxs_vote_params;
+
+typedef struct fxs_line {
+    int32_t rho;    /* Q4 pixels, signed */
+    uint16_t theta; /* [0, 180) degrees, 65536 = 180 */
+    uint16_t votes; /* count of the peak cell */
+} fxs_line;
+
+typedef struct fxs_line_peak {
+    uint16_t theta_bin; /* column t */
+    uint16_t rho_bin;   /* row b */
+    uint16_t votes;     /* count of cell (t, b) */
+    uint16_t reserved;  /* 0 */
+    fxs_line line;      /* refined line */
+} fxs_line_peak;
+
+typedef struct fxs_peak_params {
+    int32_t threshold;    /* 1..65535: smallest count of a peak */
+    int32_t radius_theta; /* >= 0: suppression half-width in columns */
+    int32_t radius_rho;   /* >= 0: suppression half-width in rows */
+} fxs_peak_params;
+
+typedef struct fxs_segment_params {
+    int32_t min_length; /* 1..65535 walk steps */
+    int32_t max_gap;    /* 0..65535 walk steps */
+    int32_t tolerance;  /* 0..3 pixels on each side across the walk */
+} fxs_segment_params;
+
+typedef struct fxs_segment {
+    int32_t x0; /* endpoints, Q4 pixels from the centre of the top-left pixel */
+    int32_t y0;
+    int32_t x1;
+    int32_t y1;
+    uint32_t hits; /* walk steps that found an edge pixel */
+} fxs_segment;
+
+typedef struct fxs_vote_counts {
+    uint32_t points;   /* points that voted */
+    uint32_t columns;  /* column votes cast */
+    uint32_t skipped;  /* corrected points outside the frame */
+    uint32_t next_row; /* the row the next row call expects */
+} fxs_vote_counts;
+
+/* An accumulator: borrows its cells and table. */
+typedef union fxs_lines_accumulator {
+    uint8_t bytes[FXS_LINES_ACCUMULATOR_SIZE];
+    uint64_t align_;
+} fxs_lines_accumulator;
+
+/* (cos a, sin a) in Q frac_bits (8..14) of binary angle a (131072 = 360
+ * degrees, modulo a turn); shift-and-add, within 0.5 + 2^(q-22) LSB.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_OVERLAP (both outputs
+ * one int16_t), FXS_E_NEGATIVE, FXS_E_BAD_PARAMETER (frac_bits). */
+fxs_status fxs_lines_cos_sin(uint32_t angle, int32_t frac_bits, int16_t *cos_out,
+                             int16_t *sin_out);
+
+/* Checks params, zeroes cells[cells_len] (cells_len >= T * R; cell (t, b)
+ * is cells[t * R + b], saturating counts) and fills trig[trig_len]
+ * (trig_len >= 2 * T int16_t: cos, sin per column). The accumulator
+ * borrows cells and trig until its last use; you may read the cells
+ * between calls, not write them. cells, trig and acc may not overlap.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_ZERO_SIZE, FXS_E_TOO_LARGE, FXS_E_BAD_PARAMETER (a field out of
+ * range), FXS_E_BUFFER_TOO_SHORT (cells or trig), FXS_E_OVERLAP. */
+fxs_status fxs_lines_accumulator_init(fxs_lines_accumulator *acc, const fxs_vote_params *params,
+                                      uint16_t *cells, uintptr_t cells_len, int16_t *trig,
+                                      uintptr_t trig_len);
+
+/* Zeroes the cells and counters for a new frame (the table stays). */
+fxs_status fxs_lines_accumulator_reset(fxs_lines_accumulator *acc);
+
+/* The counters since init or reset. */
+fxs_status fxs_lines_accumulator_counts(const fxs_lines_accumulator *acc,
+                                        fxs_vote_counts *counts);
+
+/* Votes edge row y (rows 0, 1, ... in order after init or reset; nonzero
+ * edges[x] is an edge point). gx, gy: needed when the params gate, else
+ * may be NULL; weights: needed when they weight, else may be NULL. Every
+ * length >= width. No input may overlap the accumulator or its memory.
+ * Errors: FXS_E_NULL_POINTER (edges, acc), FXS_E_NEGATIVE (y),
+ * FXS_E_ROW_RANGE (y >= height), FXS_E_STREAM_ORDER (y not the next row),
+ * FXS_E_BUFFER_TOO_SHORT (a row shorter than width, or a needed row
+ * NULL), FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_vote_row(fxs_lines_accumulator *acc, int32_t y, const uint8_t *edges,
+                              uintptr_t edges_len, const int16_t *gx, uintptr_t gx_len,
+                              const int16_t *gy, uintptr_t gy_len, const uint16_t *weights,
+                              uintptr_t weights_len);
+
+/* As fxs_lines_vote_row for row y of a raw (distorted) edge map: each
+ * edge pixel goes through grid (output size = the raw frame, row lengths
+ * and y range; source size = the accumulator's frame); corrected points
+ * outside the frame are counted as skipped.
+ * Errors: as fxs_lines_vote_row, FXS_E_SIZE_MISMATCH (grid source size). */
+fxs_status fxs_lines_vote_row_corrected(fxs_lines_accumulator *acc, int32_t y,
+                                        const uint8_t *edges, uintptr_t edges_len,
+                                        const int16_t *gx, uintptr_t gx_len, const int16_t *gy,
+                                        uintptr_t gy_len, const uint16_t *weights,
+                                        uintptr_t weights_len, const fxs_control_grid *grid);
+
+/* Votes a whole W x H edge map (single channel) as rows 0..H-1; gx and gy
+ * both or neither (needed when gating), weights when weighting. Call on a
+ * fresh or reset accumulator.
+ * Errors: the image checks, FXS_E_SIZE_MISMATCH, FXS_E_NULL_POINTER (one
+ * of gx, gy NULL), and as fxs_lines_vote_row. */
+fxs_status fxs_lines_vote_frame(fxs_lines_accumulator *acc, const fxs_u8_view *edges,
+                                const fxs_i16_view *gx, const fxs_i16_view *gy,
+                                const fxs_u16_view *weights);
+
+/* One point (x_q4, y_q4), Q4 pixels from the centre of the top-left pixel,
+ * inside 0..16 (W-1) x 0..16 (H-1); angle 0..65535 (gradient angle, as
+ * fxs_gradient_angles) or -1 (none; not allowed when gating); weight
+ * 0..65535 (raw, scaled by weight_shift).
+ * Errors: FXS_E_POINT_OUTSIDE, FXS_E_BAD_PARAMETER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_lines_vote_point(fxs_lines_accumulator *acc, int32_t x_q4, int32_t y_q4,
+                                int32_t angle, int32_t weight);
+
+/* Up to out_len (1..FXS_LINES_MAX_OUT) peaks: cells >= threshold that are
+ * the maximum of their (2 radius_theta + 1) x (2 radius_rho + 1)
+ * neighbourhood, strongest first, ties in cell order, each refined
+ * (module docs); *found is how many were written (the rest of out is
+ * untouched). out may not overlap the accumulator or its memory.
+ * Errors: FXS_E_BAD_PARAMETER (out_len, threshold 0 or above 65535),
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_peaks(const fxs_lines_accumulator *acc, const fxs_peak_params *params,
+                           fxs_line_peak *out, uintptr_t out_len, int32_t *found);
+
+/* Raw pixel (x, y) through grid into corrected Q4 coordinates.
+ * Errors: FXS_E_POINT_OUTSIDE (pixel outside the grid's output frame),
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_correct_point(const fxs_control_grid *grid, int32_t x, int32_t y,
+                                   int32_t *x_q4, int32_t *y_q4);
+
+/* Walks edges (single channel, origin at pixel (W >> 1, H >> 1)) along
+ * line (its votes ignored) and writes up to out_len (1..FXS_LINES_MAX_OUT)
+ * segments in walk order; *found is how many (the walk stops when out is
+ * full).
+ * Errors: the image checks, FXS_E_BAD_PARAMETER (out_len, min_length 0 or
+ * above 65535, max_gap above 65535, tolerance above 3), FXS_E_NEGATIVE,
+ * FXS_E_NULL_POINTER, FXS_E_OVERLAP. */
+fxs_status fxs_lines_segments(const fxs_u8_view *edges, const fxs_line *line,
+                              const fxs_segment_params *params, fxs_segment *out,
+                              uintptr_t out_len, int32_t *found);
 
 #ifdef __cplusplus
 }

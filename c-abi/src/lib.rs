@@ -53,6 +53,7 @@ mod boundary;
 mod filter;
 mod gradient;
 mod hysteresis;
+mod lines;
 mod nms;
 mod status;
 mod thinning;
