@@ -66,7 +66,8 @@ static void statuses(void) {
            (sizeof(fxs_filter) == FXS_FILTER_SIZE && sizeof(fxs_filter_stream) == FXS_FILTER_STREAM_SIZE &&
             sizeof(fxs_nms_stream) == FXS_NMS_STREAM_SIZE && sizeof(fxs_pixel_map) == FXS_PIXEL_MAP_SIZE &&
             sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
-            sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE)
+            sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE &&
+            sizeof(fxs_tracker) == FXS_TRACKER_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -74,7 +75,8 @@ static void statuses(void) {
            (ALIGN_OF(fxs_filter) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_filter_stream) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_nms_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_pixel_map) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -520,6 +522,111 @@ static void lines_cases(void) {
     expect("lines.segments_none_wanted", fxs_lines_segments(&e, &line, &sp, seg, 0, &found), FXS_E_BAD_PARAMETER);
 }
 
+static void marking_cases(void) {
+    /* The aisle camera's limits of the golden vectors. */
+    const fxs_marking_limits ok = {1912, 461, -990, 10901, -1110, 1110, 114, 279, 459, 45, FXS_CONTRAST_BRIGHTER};
+    fxs_marking_limits l;
+    fxs_marking_line lines[FXS_MARKING_MAX_LINES + 1];
+    fxs_marking_result r;
+    memset(lines, 0, sizeof lines);
+    expect("marking.none_offered",
+           fxs_marking_select(0, 0, &ok, &r) == FXS_OK && r.found == 0 && r.left == -1 && r.candidates == 0 ? FXS_OK
+                                                                                                            : -1,
+           FXS_OK);
+    expect("marking.null_lines", fxs_marking_select(0, 2, &ok, &r), FXS_E_NULL_POINTER);
+    expect("marking.null_limits", fxs_marking_select(lines, 2, 0, &r), FXS_E_NULL_POINTER);
+    expect("marking.null_result", fxs_marking_select(lines, 2, &ok, 0), FXS_E_NULL_POINTER);
+    expect("marking.too_many_lines", fxs_marking_select(lines, FXS_MARKING_MAX_LINES + 1, &ok, &r),
+           FXS_E_BAD_PARAMETER);
+    expect("marking.result_over_lines", fxs_marking_select(lines, 4, &ok, (fxs_marking_result *)(void *)lines),
+           FXS_E_OVERLAP);
+    lines[1].polarity = 2;
+    expect("marking.polarity_2", fxs_marking_select(lines, 2, &ok, &r), FXS_E_BAD_PARAMETER);
+    lines[1].polarity = -1;
+    expect("marking.two_lines_ok", fxs_marking_select(lines, 2, &ok, &r), FXS_OK);
+    l = ok;
+    l.contrast = 3;
+    expect("marking.contrast_3", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.max_tilt = 21846;
+    expect("marking.max_tilt_above_60_degrees", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l.max_tilt = -1;
+    expect("marking.negative_max_tilt", fxs_marking_select(lines, 2, &l, &r), FXS_E_NEGATIVE);
+    l = ok;
+    l.far_row_q4 = l.near_row_q4;
+    expect("marking.far_row_not_above_near", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.near_sep_min_q4 = 0;
+    expect("marking.near_sep_min_0", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.converge_tol_q4 = -1;
+    expect("marking.negative_tolerance", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+}
+
+static void tracker_cases(void) {
+    const fxs_track_config ok = {{64, 66, 262144}, {11881, 66, 65536}, 2358, 3, 5, 40, 0, 1912, 90, 15, 8, 24};
+    fxs_track_config c;
+    fxs_tracker t, zero;
+    fxs_detection d[FXS_TRACK_MAX_DETECTIONS + 1];
+    fxs_frame_report r;
+    int32_t w[FXS_TRACK_WORDS];
+    memset(d, 0, sizeof d);
+    memset(&zero, 0, sizeof zero);
+    d[0].rho_q4 = 160;
+    d[0].weight = 100;
+    expect("track.init_ok", fxs_tracker_init(&t, &ok), FXS_OK);
+    expect("track.init_null_config", fxs_tracker_init(&t, 0), FXS_E_NULL_POINTER);
+    expect("track.init_null_tracker", fxs_tracker_init(0, &ok), FXS_E_NULL_POINTER);
+    expect("track.init_misaligned", fxs_tracker_init((fxs_tracker *)(void *)(a8 + 4), &ok), FXS_E_MISALIGNED);
+    c = ok;
+    c.confirm_hits = 0;
+    expect("track.confirm_hits_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c.confirm_hits = 256;
+    expect("track.confirm_hits_256", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.max_missed = -1;
+    expect("track.negative_max_missed", fxs_tracker_init(&t, &c), FXS_E_NEGATIVE);
+    c = ok;
+    c.warn_horizon = 1025;
+    expect("track.warn_horizon_1025", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.rho.meas_var = 0;
+    expect("track.meas_var_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.gate_q8 = 0;
+    expect("track.gate_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.reference_x_q4 = 1 << 17;
+    expect("track.reference_outside", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    expect("track.init_again", fxs_tracker_init(&t, &ok), FXS_OK);
+    expect("track.update_ok", fxs_tracker_update(&t, 5, d, 1, &r) == FXS_OK && r.born == 1 ? FXS_OK : -1, FXS_OK);
+    expect("track.slot_words", /* the new track: id 0, one hit, rho 160 (state scaled by 256) */
+           fxs_tracker_slot_words(&t, 0, w, FXS_TRACK_WORDS) == FXS_OK && w[0] == 0 && w[2] == 1 && w[6] == 160 * 256
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("track.frame_not_increasing", fxs_tracker_update(&t, 5, d, 1, &r), FXS_E_FRAME_ORDER);
+    expect("track.too_many_detections", fxs_tracker_update(&t, 6, d, FXS_TRACK_MAX_DETECTIONS + 1, &r),
+           FXS_E_BAD_PARAMETER);
+    d[1].rho_q4 = 1 << 17;
+    expect("track.rho_outside", fxs_tracker_update(&t, 6, d, 2, &r), FXS_E_BAD_PARAMETER);
+    d[1].rho_q4 = 0;
+    expect("track.null_detections", fxs_tracker_update(&t, 6, 0, 1, &r), FXS_E_NULL_POINTER);
+    expect("track.no_detections_no_report", fxs_tracker_update(&t, 6, 0, 0, 0), FXS_OK);
+    expect("track.report_over_detections", fxs_tracker_update(&t, 7, d, 2, (fxs_frame_report *)(void *)d),
+           FXS_E_OVERLAP);
+    expect("track.report_over_tracker", fxs_tracker_update(&t, 7, d, 1, (fxs_frame_report *)(void *)&t),
+           FXS_E_OVERLAP);
+    expect("track.empty_slot", fxs_tracker_slot_words(&t, 3, w, FXS_TRACK_WORDS) == FXS_OK && w[0] == -1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("track.slot_4", fxs_tracker_slot_words(&t, FXS_TRACK_SLOTS, w, FXS_TRACK_WORDS), FXS_E_BAD_PARAMETER);
+    expect("track.negative_slot", fxs_tracker_slot_words(&t, -1, w, FXS_TRACK_WORDS), FXS_E_NEGATIVE);
+    expect("track.words_short", fxs_tracker_slot_words(&t, 0, w, FXS_TRACK_WORDS - 1), FXS_E_BUFFER_TOO_SHORT);
+    expect("track.not_initialised", fxs_tracker_update(&zero, 1, d, 1, &r), FXS_E_NOT_INITIALISED);
+    expect("track.reset", fxs_tracker_reset(&t), FXS_OK);
+    expect("track.after_reset_any_frame", fxs_tracker_update(&t, 1, d, 1, &r), FXS_OK);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -529,6 +636,8 @@ int golden_bad_inputs(int32_t *n) {
     gradients_and_edges();
     warps();
     lines_cases();
+    marking_cases();
+    tracker_cases();
     *n = cases;
     return failed;
 }

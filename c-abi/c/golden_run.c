@@ -80,6 +80,16 @@ static int p_int(const golden_vector *v, const char *key, int32_t *out) {
     return 0;
 }
 
+static int p_u32(const golden_vector *v, const char *key, uint32_t *out) {
+    const golden_param *p = param(v, key);
+    if (!p || p->kind != GOLDEN_INT || p->value < 0 || p->value > (int64_t)UINT32_MAX) {
+        why = key;
+        return -1;
+    }
+    *out = (uint32_t)p->value;
+    return 0;
+}
+
 /* The border rule: "clamp" or {"fill": c}. */
 static int p_border(const golden_vector *v, int32_t *out) {
     const golden_param *p = param(v, "border");
@@ -607,6 +617,113 @@ static fxs_status run_segments(const golden_vector *v, const img *in, const img 
     return FXS_OK;
 }
 
+/* ------------------------------------------------------------- marking -- */
+
+static fxs_status run_select(const golden_vector *v, const img *in, const img *out) {
+    fxs_marking_limits l;
+    fxs_marking_line lines[FXS_MARKING_MAX_LINES];
+    fxs_marking_result r;
+    const golden_param *c = param(v, "contrast");
+    const int32_t *raw = (const int32_t *)in[0].p;
+    int32_t *o = (int32_t *)out[0].p;
+    NEED(c && c->kind == GOLDEN_STR, "contrast");
+    l.contrast = strcmp(c->str, "brighter") == 0 ? FXS_CONTRAST_BRIGHTER
+                 : strcmp(c->str, "darker") == 0 ? FXS_CONTRAST_DARKER
+                 : strcmp(c->str, "either") == 0 ? FXS_CONTRAST_EITHER
+                                                 : -1;
+    NEED(l.contrast >= 0, "contrast");
+    NEED(p_int(v, "near_row_q4", &l.near_row_q4) == 0 && p_int(v, "far_row_q4", &l.far_row_q4) == 0 &&
+             p_int(v, "horizon_row_q4", &l.horizon_row_q4) == 0 && p_int(v, "max_tilt", &l.max_tilt) == 0 &&
+             p_int(v, "near_x_min_q4", &l.near_x_min_q4) == 0 && p_int(v, "near_x_max_q4", &l.near_x_max_q4) == 0 &&
+             p_int(v, "near_sep_min_q4", &l.near_sep_min_q4) == 0 &&
+             p_int(v, "near_sep_nominal_q4", &l.near_sep_nominal_q4) == 0 &&
+             p_int(v, "near_sep_max_q4", &l.near_sep_max_q4) == 0 &&
+             p_int(v, "converge_tol_q4", &l.converge_tol_q4) == 0,
+         "marking limits");
+    NEED(in[0].elem == GOLDEN_I32 && in[0].w == 4 && in[0].h <= FXS_MARKING_MAX_LINES, "lines: i32, 4 wide");
+    NEED(out[0].elem == GOLDEN_I32 && out[0].n == 10, "marking output: 10 i32");
+    for (int32_t i = 0; i < in[0].h; i++) {
+        const int32_t *w = raw + 4 * i;
+        NEED(w[1] >= 0 && w[1] <= 65535, "theta");
+        lines[i].rho_q4 = w[0];
+        lines[i].theta = (uint16_t)w[1];
+        lines[i].votes = (uint32_t)w[2];
+        lines[i].polarity = (int16_t)w[3];
+    }
+    TRY(fxs_marking_select(lines, (uintptr_t)in[0].h, &l, &r));
+    o[0] = r.found;
+    o[1] = r.left;
+    o[2] = r.right;
+    o[3] = r.near_left_q4;
+    o[4] = r.near_right_q4;
+    o[5] = r.far_left_q4;
+    o[6] = r.far_right_q4;
+    o[7] = (int32_t)r.votes_lo;
+    o[8] = (int32_t)r.votes_hi;
+    o[9] = r.candidates;
+    return FXS_OK;
+}
+
+/* --------------------------------------------------------------- track -- */
+
+static int axis_of(const golden_vector *v, const char *a, const char *b, const char *c, fxs_track_axis_noise *n) {
+    return p_u32(v, a, &n->meas_var) || p_u32(v, b, &n->accel_index_q16) || p_u32(v, c, &n->init_vel_var_q16);
+}
+
+static fxs_status run_tracker(const golden_vector *v, const img *in, const img *out) {
+    fxs_track_config c;
+    fxs_tracker t;
+    fxs_detection batch[FXS_TRACK_MAX_DETECTIONS];
+    fxs_frame_report r;
+    int32_t slots, maxd;
+    uint32_t at = 0, calls;
+    const uint32_t *frames = (const uint32_t *)in[0].p;
+    const int32_t *dets = (const int32_t *)in[1].p;
+    int32_t *states = (int32_t *)out[0].p, *report = (int32_t *)out[1].p;
+    NEED(p_int(v, "slots", &slots) == 0 && slots == FXS_TRACK_SLOTS, "slots");
+    NEED(p_int(v, "max_detections", &maxd) == 0 && maxd == FXS_TRACK_MAX_DETECTIONS, "max_detections");
+    NEED(axis_of(v, "rho.meas_var", "rho.accel_index_q16", "rho.init_vel_var_q16", &c.rho) == 0 &&
+             axis_of(v, "theta.meas_var", "theta.accel_index_q16", "theta.init_vel_var_q16", &c.theta) == 0,
+         "axis noise");
+    NEED(p_u32(v, "gate_q8", &c.gate_q8) == 0 && p_int(v, "confirm_hits", &c.confirm_hits) == 0 &&
+             p_int(v, "max_missed", &c.max_missed) == 0 && p_u32(v, "birth_weight", &c.birth_weight) == 0 &&
+             p_int(v, "reference_x_q4", &c.reference_x_q4) == 0 &&
+             p_int(v, "reference_y_q4", &c.reference_y_q4) == 0 && p_int(v, "warn_horizon", &c.warn_horizon) == 0 &&
+             p_int(v, "warn_min_hits", &c.warn_min_hits) == 0 &&
+             p_int(v, "warn_raise_frames", &c.warn_raise_frames) == 0 &&
+             p_int(v, "warn_clear_frames", &c.warn_clear_frames) == 0,
+         "tracker settings");
+    NEED(in[0].elem == GOLDEN_U32 && in[1].elem == GOLDEN_I32 && out[0].elem == GOLDEN_I32 &&
+             out[1].elem == GOLDEN_I32,
+         "tracker element types");
+    calls = in[0].n / 2u;
+    NEED(out[1].n == 5u * calls && out[0].n == (uint32_t)(FXS_TRACK_SLOTS * FXS_TRACK_WORDS) * calls,
+         "tracker output sizes");
+    TRY(fxs_tracker_init(&t, &c));
+    for (uint32_t k = 0; k < calls; k++) {
+        uint32_t n = frames[2 * k + 1];
+        NEED(n <= FXS_TRACK_MAX_DETECTIONS && 3u * (at + n) <= in[1].n, "detections of a call");
+        for (uint32_t i = 0; i < n; i++) {
+            const int32_t *d = dets + 3u * (at + i);
+            batch[i].rho_q4 = d[0];
+            batch[i].theta = (uint16_t)d[1];
+            batch[i].reserved = 0;
+            batch[i].weight = (uint32_t)d[2];
+        }
+        at += n;
+        TRY(fxs_tracker_update(&t, frames[2 * k], batch, n, &r));
+        report[5 * k] = (int32_t)r.associated;
+        report[5 * k + 1] = (int32_t)r.born;
+        report[5 * k + 2] = (int32_t)r.dropped;
+        report[5 * k + 3] = r.warning_track;
+        report[5 * k + 4] = r.warning_frames;
+        for (int32_t s = 0; s < FXS_TRACK_SLOTS; s++)
+            TRY(fxs_tracker_slot_words(&t, s, states + (k * FXS_TRACK_SLOTS + (uint32_t)s) * FXS_TRACK_WORDS,
+                                       FXS_TRACK_WORDS));
+    }
+    return FXS_OK;
+}
+
 /* ---------------------------------------------------------------- warp -- */
 
 static fxs_status pixel_map_strips(const golden_vector *v, const img *in, const img *out,
@@ -704,7 +821,9 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     X(lines_accumulator, "lines.accumulator", run_accumulator, rows_accumulator)                  \
     X(lines_correct_point, "lines.correct_point", run_correct_point, 0)                           \
     X(lines_peak, "lines.peak", run_peak, 0)                                                      \
-    X(lines_segments, "lines.segments", run_segments, 0)
+    X(lines_segments, "lines.segments", run_segments, 0)                                          \
+    X(marking_select, "marking.select", run_select, 0)                                            \
+    X(track_tracker, "track.tracker", run_tracker, 0)
 
 enum {
 #define X(tok, id, run, alt) K_##tok,
@@ -741,7 +860,7 @@ static const struct {
 
 /* Families on main whose C functions are left for later: their vectors
  * are listed ("later" lines) and not counted. */
-static const char *const LATER[] = {"marking.", "pipeline.", "track."};
+static const char *const LATER[] = {"pipeline."};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; i < sizeof LATER / sizeof LATER[0]; i++)

@@ -52,7 +52,7 @@
  *   points to `len` elements of memory you own, and no one else reads or
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
- *   fxs_control_grid, fxs_lines_accumulator) live in storage you provide: declare a variable of
+ *   fxs_control_grid, fxs_lines_accumulator, fxs_tracker) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
@@ -189,6 +189,8 @@ typedef struct fxs_u16_view_mut {
 #define FXS_CONTROL_GRID_SIZE_64 120
 #define FXS_LINES_ACCUMULATOR_SIZE_32 104
 #define FXS_LINES_ACCUMULATOR_SIZE_64 176
+#define FXS_TRACKER_SIZE_32 416
+#define FXS_TRACKER_SIZE_64 416
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
@@ -196,6 +198,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_64
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_64
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_64
+#define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
@@ -203,6 +206,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_32
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_32
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_32
+#define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -648,6 +652,152 @@ fxs_status fxs_lines_correct_point(const fxs_control_grid *grid, int32_t x, int3
 fxs_status fxs_lines_segments(const fxs_u8_view *edges, const fxs_line *line,
                               const fxs_segment_params *params, fxs_segment *out,
                               uintptr_t out_len, int32_t *found);
+
+/* ======================================================================== */
+/* marking: the two edges of a floor tape (kernel id marking.select)       */
+/* Rules and integer model: README.md "Marking selection"; marking.rs.   */
+/* Units: rho Q4 pixels from the image centre ((W-1)/2, (H-1)/2) of the    */
+/* corrected view, theta 65536 = 180 degrees, rows/columns Q4.             */
+/* NOT A SAFETY FUNCTION: see the note at the top of this file.            */
+/* ======================================================================== */
+
+#define FXS_MARKING_MAX_LINES 64 /* most lines one call takes */
+#define FXS_CONTRAST_BRIGHTER 0  /* light tape on a darker floor */
+#define FXS_CONTRAST_DARKER 1    /* dark tape on a lighter floor */
+#define FXS_CONTRAST_EITHER 2    /* contrast rule off */
+
+typedef struct fxs_marking_line {
+    int32_t rho_q4;
+    uint16_t theta;
+    int16_t polarity; /* 1 brighter along the normal, -1 darker, 0 unknown */
+    uint32_t votes;
+} fxs_marking_line;
+
+/* Checked on every call (MarkingConfig::new in kernels/src/marking.rs):
+ * rows within +-MAX_ROW_Q4 with horizon_row < far_row < near_row;
+ * near_x_min <= near_x_max, 1 <= near_sep_min <= near_sep_nominal <=
+ * near_sep_max, 0 <= converge_tol, each within MAX_SPAN_Q4; max_tilt
+ * 0..21845 (60 degrees); contrast FXS_CONTRAST_*. */
+typedef struct fxs_marking_limits {
+    int32_t near_row_q4;
+    int32_t far_row_q4;
+    int32_t horizon_row_q4;
+    int32_t max_tilt;
+    int32_t near_x_min_q4;
+    int32_t near_x_max_q4;
+    int32_t near_sep_min_q4;
+    int32_t near_sep_nominal_q4;
+    int32_t near_sep_max_q4;
+    int32_t converge_tol_q4;
+    int32_t contrast;
+} fxs_marking_limits;
+
+/* The kernel's 10-word record. */
+typedef struct fxs_marking_result {
+    int32_t found;         /* 1 found, 0 not */
+    int32_t left;          /* index of the left edge in lines, -1 when not found */
+    int32_t right;         /* index of the right edge, -1 when not found */
+    int32_t near_left_q4;  /* near-row columns (0 when not found) */
+    int32_t near_right_q4;
+    int32_t far_left_q4;   /* far-row columns (0 when not found) */
+    int32_t far_right_q4;
+    uint32_t votes_lo;     /* vote sum of the pair, low and high 32 bits */
+    uint32_t votes_hi;
+    int32_t candidates;    /* not found: lines that passed tilt and near position; else 0 */
+} fxs_marking_result;
+
+/* The tape's two edges among lines[count] (count 0..FXS_MARKING_MAX_LINES;
+ * lines may be NULL when count is 0), into *result. result may not overlap
+ * lines or limits.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE (max_tilt),
+ * FXS_E_BAD_PARAMETER (count, a limit, contrast, a polarity other than
+ * -1, 0, 1), FXS_E_OVERLAP. */
+fxs_status fxs_marking_select(const fxs_marking_line *lines, uintptr_t count,
+                              const fxs_marking_limits *limits, fxs_marking_result *result);
+
+/* ======================================================================== */
+/* track: line tracker with drift warning (kernel id track.tracker)        */
+/* Integer model: README.md "Tracker and drift warning"; track.rs (a     */
+/* constant-velocity Kalman filter per axis, gating, births, drops).      */
+/* NOT A SAFETY FUNCTION: the drift warning is an aid only; see the note   */
+/* at the top of this file.                                                */
+/* ======================================================================== */
+
+#define FXS_TRACK_SLOTS 4          /* tracks one fxs_tracker holds */
+#define FXS_TRACK_MAX_DETECTIONS 8 /* most detections per update */
+#define FXS_TRACK_WORDS 18         /* words of one slot's state */
+
+/* A tracker (Tracker<4, 8>), held by value: FXS_TRACKER_SIZE bytes,
+ * aligned to FXS_OBJECT_ALIGN, borrows nothing. */
+typedef union fxs_tracker {
+    uint8_t bytes[FXS_TRACKER_SIZE];
+    uint64_t align_;
+} fxs_tracker;
+
+typedef struct fxs_track_axis_noise {
+    uint32_t meas_var;         /* measurement variance R, 1..2^24 units^2 */
+    uint32_t accel_index_q16;  /* tracking index squared, Q16, 0..2^24 */
+    uint32_t init_vel_var_q16; /* new-track velocity variance / R, Q16, 0..2^28 */
+} fxs_track_axis_noise;
+
+typedef struct fxs_track_config {
+    fxs_track_axis_noise rho;   /* units of 1/16 px */
+    fxs_track_axis_noise theta; /* binary-angle units */
+    uint32_t gate_q8;           /* gate on the summed normalised innovation squared, Q8, >= 1 */
+    int32_t confirm_hits;       /* 1..255 */
+    int32_t max_missed;         /* 0..255 */
+    uint32_t birth_weight;      /* smallest weight that starts a track */
+    int32_t reference_x_q4;     /* reference point, Q4, |.| < 2^17 */
+    int32_t reference_y_q4;
+    int32_t warn_horizon;       /* 0..1024 frames */
+    int32_t warn_min_hits;      /* 0..65535 */
+    int32_t warn_raise_frames;  /* 1..255 */
+    int32_t warn_clear_frames;  /* 1..255 */
+} fxs_track_config;
+
+typedef struct fxs_detection {
+    int32_t rho_q4;    /* |rho_q4| < 2^17 */
+    uint16_t theta;    /* 65536 = 180 degrees */
+    uint16_t reserved; /* ignored */
+    uint32_t weight;   /* decides births only */
+} fxs_detection;
+
+typedef struct fxs_frame_report {
+    uint32_t associated;    /* tracks updated by a detection */
+    uint32_t born;          /* tracks started */
+    uint32_t dropped;       /* tracks dropped */
+    int32_t warning_track;  /* id of the warning track, -1 when none */
+    int32_t warning_slot;   /* its slot, -1 when none */
+    int32_t warning_frames; /* frames to the predicted crossing, -1 when none */
+} fxs_frame_report;
+
+/* A tracker with no tracks after checking config (no allocation, no
+ * global state: the whole tracker is in *tracker).
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_BAD_PARAMETER (a setting out of range), FXS_E_OVERLAP. */
+fxs_status fxs_tracker_init(fxs_tracker *tracker, const fxs_track_config *config);
+
+/* Drops every track and the last frame number (the config stays). */
+fxs_status fxs_tracker_reset(fxs_tracker *tracker);
+
+/* One call per frame: frame greater than the last one accepted,
+ * dets[count] with count 0..FXS_TRACK_MAX_DETECTIONS (dets may be NULL
+ * when count is 0); report may be NULL. On an error the tracker is
+ * unchanged.
+ * Errors: FXS_E_FRAME_ORDER, FXS_E_BAD_PARAMETER (count, |rho_q4| >= 2^17),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_tracker_update(fxs_tracker *tracker, uint32_t frame, const fxs_detection *dets,
+                              uintptr_t count, fxs_frame_report *report);
+
+/* The state of slot 0..FXS_TRACK_SLOTS-1 as FXS_TRACK_WORDS int32_t into
+ * words[words_len]: id (-1 for an empty slot, then all 0), confirmed, hits,
+ * missed, side, frames to crossing (-1 none), rho pos, vel, p_pos, p_cross,
+ * p_vel, the same for theta, warn streak, warning frames (-1 none).
+ * Errors: FXS_E_BAD_PARAMETER (slot), FXS_E_NEGATIVE,
+ * FXS_E_BUFFER_TOO_SHORT, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED,
+ * FXS_E_OVERLAP. */
+fxs_status fxs_tracker_slot_words(const fxs_tracker *tracker, int32_t slot, int32_t *words,
+                                  uintptr_t words_len);
 
 #ifdef __cplusplus
 }

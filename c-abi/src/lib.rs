@@ -54,9 +54,11 @@ mod filter;
 mod gradient;
 mod hysteresis;
 mod lines;
+mod marking;
 mod nms;
 mod status;
 mod thinning;
+mod track;
 mod warp;
 
 #[cfg(test)]
