@@ -67,7 +67,7 @@ static void statuses(void) {
             sizeof(fxs_nms_stream) == FXS_NMS_STREAM_SIZE && sizeof(fxs_pixel_map) == FXS_PIXEL_MAP_SIZE &&
             sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
             sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE &&
-            sizeof(fxs_tracker) == FXS_TRACKER_SIZE)
+            sizeof(fxs_tracker) == FXS_TRACKER_SIZE && sizeof(fxs_edge_stream) == FXS_EDGE_STREAM_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -76,7 +76,7 @@ static void statuses(void) {
             ALIGN_OF(fxs_nms_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_pixel_map) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_edge_stream) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -627,6 +627,82 @@ static void tracker_cases(void) {
     expect("track.after_reset_any_frame", fxs_tracker_update(&t, 1, d, 1, &r), FXS_OK);
 }
 
+static fxs_edge_stream es, es_zero;
+
+static void edge_stream_cases(void) {
+    fxs_edge_config demo, c;
+    fxs_edge_report r;
+    fxs_edge_point pts[4];
+    uintptr_t got;
+    int32_t n;
+    uint8_t row[16];
+    memset(row, 0, sizeof row);
+    expect("edge_stream.demo_config", fxs_edge_stream_demo_config(&demo), FXS_OK);
+    expect("edge_stream.demo_config_null", fxs_edge_stream_demo_config(0), FXS_E_NULL_POINTER);
+    expect("edge_stream.init_ok", fxs_edge_stream_init(&es, &demo, 16, 2), FXS_OK);
+    expect("edge_stream.points_before_finish", fxs_edge_stream_points(&es, 0, pts, 4, &got), FXS_E_STREAM_ORDER);
+    expect("edge_stream.finish_before_rows", fxs_edge_stream_finish(&es, &r), FXS_E_ROW_COUNT);
+    expect("edge_stream.finish_short_without_rows", fxs_edge_stream_finish_short(&es, &r), FXS_E_STREAM_ORDER);
+    expect("edge_stream.row_too_short", fxs_edge_stream_push_row(&es, row, 15, &n), FXS_E_ROW_LENGTH);
+    expect("edge_stream.first_row_no_count", fxs_edge_stream_push_row(&es, row, 16, 0),
+           FXS_OK);
+    expect("edge_stream.row_null", fxs_edge_stream_push_row(&es, 0, 16, &n), FXS_E_NULL_POINTER);
+    expect("edge_stream.count_over_row", fxs_edge_stream_push_row(&es, row, 16, (int32_t *)(void *)row),
+           FXS_E_OVERLAP);
+    expect("edge_stream.second_row",
+           fxs_edge_stream_push_row(&es, row, 16, &n) == FXS_OK && n == 2 ? FXS_OK : -1, FXS_OK);
+    expect("edge_stream.row_past_height", fxs_edge_stream_push_row(&es, row, 16, &n), FXS_E_STREAM_ORDER);
+    expect("edge_stream.finish",
+           fxs_edge_stream_finish(&es, &r) == FXS_OK && r.width == 16 && r.height == 2 && r.edge_points == 0 ? FXS_OK
+                                                                                                               : -1,
+           FXS_OK);
+    expect("edge_stream.points_none",
+           fxs_edge_stream_points(&es, 0, pts, 4, &got) == FXS_OK && got == 0 ? FXS_OK : -1, FXS_OK);
+    expect("edge_stream.edge_row_short", fxs_edge_stream_edge_row(&es, 0, row, 15), FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.edge_row_past_height", fxs_edge_stream_edge_row(&es, 2, row, 16), FXS_E_ROW_RANGE);
+    expect("edge_stream.edge_row_negative", fxs_edge_stream_edge_row(&es, -1, row, 16), FXS_E_NEGATIVE);
+    expect("edge_stream.edge_row_into_stream", fxs_edge_stream_edge_row(&es, 0, es.bytes + 64, 16), FXS_E_OVERLAP);
+    expect("edge_stream.reset", fxs_edge_stream_reset(&es), FXS_OK);
+    expect("edge_stream.not_initialised", fxs_edge_stream_push_row(&es_zero, row, 16, &n), FXS_E_NOT_INITIALISED);
+    expect("edge_stream.width_above_capacity", fxs_edge_stream_init(&es, &demo, FXS_EDGE_STREAM_MAX_WIDTH + 1, 2),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.failed_init_leaves_uninitialised", fxs_edge_stream_reset(&es), FXS_E_NOT_INITIALISED);
+    expect("edge_stream.map_above_capacity", fxs_edge_stream_init(&es, &demo, 320, 241), FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.zero_height", fxs_edge_stream_init(&es, &demo, 16, 0), FXS_E_ZERO_SIZE);
+    expect("edge_stream.negative_width", fxs_edge_stream_init(&es, &demo, -16, 2), FXS_E_NEGATIVE);
+    expect("edge_stream.null_config", fxs_edge_stream_init(&es, 0, 16, 2), FXS_E_NULL_POINTER);
+    c = demo;
+    c.smoothing = 5;
+    expect("edge_stream.smoothing_5", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.gradient_operator = 2;
+    expect("edge_stream.operator_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.magnitude = -1;
+    expect("edge_stream.magnitude_-1", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.frac_bits = 17;
+    expect("edge_stream.frac_bits_above_twice_shift", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.low = 200;
+    c.high = 100;
+    expect("edge_stream.low_above_high", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_THRESHOLD_ORDER);
+    c = demo;
+    c.high_permille = 1000;
+    expect("edge_stream.permille_1000", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.thinning = FXS_THINNING_AT_MOST;
+    c.thinning_cap = 0;
+    expect("edge_stream.thinning_cap_0", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.thinning_cap = 65536;
+    expect("edge_stream.thinning_cap_65536", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.threshold_rule = 2;
+    expect("edge_stream.rule_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.threshold_rule = FXS_THRESHOLDS_FIXED;
+    expect("edge_stream.fixed_ok", fxs_edge_stream_init(&es, &c, 16, 2), FXS_OK);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -638,6 +714,7 @@ int golden_bad_inputs(int32_t *n) {
     lines_cases();
     marking_cases();
     tracker_cases();
+    edge_stream_cases();
     *n = cases;
     return failed;
 }

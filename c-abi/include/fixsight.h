@@ -52,7 +52,7 @@
  *   points to `len` elements of memory you own, and no one else reads or
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
- *   fxs_control_grid, fxs_lines_accumulator, fxs_tracker) live in storage you provide: declare a variable of
+ *   fxs_control_grid, fxs_lines_accumulator, fxs_tracker, fxs_edge_stream) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
@@ -191,6 +191,8 @@ typedef struct fxs_u16_view_mut {
 #define FXS_LINES_ACCUMULATOR_SIZE_64 176
 #define FXS_TRACKER_SIZE_32 416
 #define FXS_TRACKER_SIZE_64 416
+#define FXS_EDGE_STREAM_SIZE_32 45968
+#define FXS_EDGE_STREAM_SIZE_64 46008
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
@@ -199,6 +201,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_64
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_64
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_64
+#define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
@@ -207,6 +210,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_32
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_32
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_32
+#define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -798,6 +802,132 @@ fxs_status fxs_tracker_update(fxs_tracker *tracker, uint32_t frame, const fxs_de
  * FXS_E_OVERLAP. */
 fxs_status fxs_tracker_slot_words(const fxs_tracker *tracker, int32_t slot, int32_t *words,
                                   uintptr_t words_len);
+
+/* ======================================================================== */
+/* pipeline: the streamed edge stage (kernel id pipeline.edge_stream)      */
+/* Integer model: README.md "Streamed edge stage"; kernels/src/pipeline.rs */
+/* (fused smoothing + derivative, magnitude, suppression, hysteresis,      */
+/* thinning, one row at a time, bit-identical to the frame kernels).       */
+/* ======================================================================== */
+
+/* Capacities of fxs_edge_stream (EdgeStream<320, 4800, 1024, 4096>). */
+#define FXS_EDGE_STREAM_MAX_WIDTH 320         /* widest frame */
+#define FXS_EDGE_STREAM_MAP_WORDS 4800        /* ceil(width / 16) * height at most this (320 x 240) */
+#define FXS_EDGE_STREAM_BINS 1024             /* histogram bins of the automatic rule */
+#define FXS_EDGE_STREAM_POINT_GRADIENTS 4096  /* candidate gradients stored per frame */
+
+#define FXS_SMOOTHING_NONE 0      /* [1] */
+#define FXS_SMOOTHING_BINOMIAL3 1 /* [1 2 1] / 4 */
+#define FXS_SMOOTHING_BINOMIAL5 2 /* [1 4 6 4 1] / 16 */
+#define FXS_SMOOTHING_BINOMIAL7 3 /* [1 6 15 20 15 6 1] / 64 */
+#define FXS_SMOOTHING_GAUSS7 4    /* [1 14 62 102 62 14 1] / 256 */
+#define FXS_OPERATOR_SOBEL 0
+#define FXS_OPERATOR_SCHARR 1
+#define FXS_MAGNITUDE_L1 0
+#define FXS_MAGNITUDE_L2_APPROX 1
+#define FXS_MAGNITUDE_L2_ROUND 2
+#define FXS_THRESHOLDS_FIXED 0 /* low, high for every frame */
+#define FXS_THRESHOLDS_AUTO 1  /* from each frame's histogram, used for the next */
+#define FXS_THINNING_OFF 0
+#define FXS_THINNING_UNTIL_STABLE 1
+#define FXS_THINNING_AT_MOST 2 /* at most thinning_cap iterations */
+
+/* The whole stream, held by value (FXS_EDGE_STREAM_SIZE bytes, aligned to
+ * FXS_OBJECT_ALIGN; a static is the usual place), borrows nothing. */
+typedef union fxs_edge_stream {
+    uint8_t bytes[FXS_EDGE_STREAM_SIZE];
+    uint64_t align_;
+} fxs_edge_stream;
+
+typedef struct fxs_edge_config {
+    int32_t smoothing;       /* FXS_SMOOTHING_* */
+    int32_t gradient_operator; /* FXS_OPERATOR_* */
+    int32_t frac_bits;       /* fractional bits of gx, gy; at most twice the smoothing shift */
+    int32_t magnitude;       /* FXS_MAGNITUDE_* */
+    int32_t threshold_rule;  /* FXS_THRESHOLDS_* */
+    int32_t low;             /* fixed low, or the first frame's (auto); 1..65535 */
+    int32_t high;            /* fixed high, or the first frame's (auto); low..65535 */
+    int32_t shift;           /* auto: bin width 2^shift, 0..15 */
+    int32_t high_permille;   /* auto: share below high, 1..999 */
+    int32_t low_ratio_u0f16; /* auto: low / high as U0F16 bits, 1..65535 */
+    int32_t thinning;        /* FXS_THINNING_* */
+    int32_t thinning_cap;    /* FXS_THINNING_AT_MOST: 1..65535 */
+} fxs_edge_config;
+
+typedef struct fxs_edge_report {
+    uint32_t width;
+    uint32_t height;             /* rows (fewer than declared for a short frame) */
+    uint16_t low;                /* thresholds used for this frame */
+    uint16_t high;
+    uint16_t next_low;           /* thresholds carried to the next frame */
+    uint16_t next_high;
+    uint32_t threshold_at_limit; /* 1: automatic rule hit a limit */
+    uint32_t candidates;         /* suppressed magnitudes >= low */
+    uint32_t edge_points;        /* after hysteresis and thinning */
+    uint32_t gradients_dropped;  /* candidates beyond FXS_EDGE_STREAM_POINT_GRADIENTS */
+    uint32_t link_edges;         /* hysteresis statistics (fxs_link_stats) */
+    uint32_t link_passes;
+    uint32_t link_deferred;
+    uint32_t link_peak_stack;
+    uint32_t thin_iterations;    /* thinning statistics */
+    uint32_t thin_deleted;
+    uint32_t thin_capped;
+} fxs_edge_report;
+
+typedef struct fxs_edge_point {
+    uint16_t x;
+    uint16_t y;
+    int16_t gx;            /* gradient times 2^frac_bits (0 when not stored) */
+    int16_t gy;
+    uint32_t has_gradient; /* 0 when the frame had more candidates than stored */
+} fxs_edge_point;
+
+/* The demo configuration (fixsight::pipeline::DEMO) into *config. */
+fxs_status fxs_edge_stream_demo_config(fxs_edge_config *config);
+
+/* A stream for width x height frames (width 4..FXS_EDGE_STREAM_MAX_WIDTH,
+ * ceil(width / 16) * height <= FXS_EDGE_STREAM_MAP_WORDS, bins needed by
+ * config <= FXS_EDGE_STREAM_BINS). On an error *stream is left not
+ * initialised.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_ZERO_SIZE, FXS_E_TOO_LARGE, FXS_E_BAD_PARAMETER (a setting),
+ * FXS_E_BAD_TAPS, FXS_E_THRESHOLD_ORDER, FXS_E_BUFFER_TOO_SHORT (a
+ * capacity), FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_init(fxs_edge_stream *stream, const fxs_edge_config *config,
+                                int32_t width, int32_t height);
+
+/* Drops the frame in progress (carried thresholds stay). */
+fxs_status fxs_edge_stream_reset(fxs_edge_stream *stream);
+
+/* Pushes the next camera row: row_len == width bytes of 8-bit luma.
+ * *rows_pushed (may be NULL): rows of this frame so far. A push after
+ * finish starts the next frame.
+ * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (all declared rows came),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_push_row(fxs_edge_stream *stream, const uint8_t *row,
+                                    uintptr_t row_len, int32_t *rows_pushed);
+
+/* Ends a frame after all `height` rows; report may be NULL. Points and
+ * edge rows can then be read until the next push.
+ * Errors: FXS_E_ROW_COUNT, FXS_E_STREAM_ORDER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_edge_stream_finish(fxs_edge_stream *stream, fxs_edge_report *report);
+
+/* Ends a frame after fewer rows (at least 1) than declared. */
+fxs_status fxs_edge_stream_finish_short(fxs_edge_stream *stream, fxs_edge_report *report);
+
+/* The finished frame's edge points in raster order, skipping the first
+ * `first`, up to out_len into out; *written is how many.
+ * Errors: FXS_E_STREAM_ORDER (frame not finished), FXS_E_NULL_POINTER,
+ * FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_points(const fxs_edge_stream *stream, uintptr_t first,
+                                  fxs_edge_point *out, uintptr_t out_len, uintptr_t *written);
+
+/* Row y of the finished frame's edge map (255 edge, 0 not) into
+ * out[out_len], out_len >= width.
+ * Errors: FXS_E_STREAM_ORDER, FXS_E_ROW_RANGE, FXS_E_BUFFER_TOO_SHORT,
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_edge_stream_edge_row(const fxs_edge_stream *stream, int32_t y, uint8_t *out,
+                                    uintptr_t out_len);
 
 #ifdef __cplusplus
 }

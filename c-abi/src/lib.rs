@@ -56,6 +56,7 @@ mod hysteresis;
 mod lines;
 mod marking;
 mod nms;
+mod pipeline;
 mod status;
 mod thinning;
 mod track;
