@@ -389,6 +389,12 @@ static void warps(void) {
     }
 }
 
+/* fxs_lines_accumulator_init of the lines cases with cells and table long enough. */
+static fxs_status init_acc(fxs_lines_accumulator *acc, const fxs_vote_params *q) {
+    static int16_t trig[16];
+    return fxs_lines_accumulator_init(acc, q, u16a, 32, trig, 16);
+}
+
 static void lines_cases(void) {
     /* 8 x 6 frame, 4 columns of 16384 units from 0 (0..90 degrees), 5 rows of 1 px. */
     fxs_vote_params p = {8, 6, 0, 14, 4, 4, 5, 14, 0, -1}, q;
@@ -423,31 +429,30 @@ static void lines_cases(void) {
            fxs_lines_accumulator_init(&acc, &p, cells, 20, (int16_t *)(void *)(cells + 4), 8), FXS_E_OVERLAP);
     q = p;
     q.rho_bins = 4;
-    expect("lines.init_rho_bins_even", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    expect("lines.init_rho_bins_even", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
     q = p;
     q.width = 0;
-    expect("lines.init_zero_width", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_ZERO_SIZE);
+    expect("lines.init_zero_width", init_acc(&acc, &q), FXS_E_ZERO_SIZE);
     q = p;
     q.height = 5000;
-    expect("lines.init_height_5000", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_TOO_LARGE);
+    expect("lines.init_height_5000", init_acc(&acc, &q), FXS_E_TOO_LARGE);
     q = p;
     q.theta_step_log2 = 3;
-    expect("lines.init_theta_step_3", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    expect("lines.init_theta_step_3", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
     q = p;
     q.theta_bins = 5;
     expect("lines.init_window_above_180", fxs_lines_accumulator_init(&acc, &q, cells, 25, trig, 10),
            FXS_E_BAD_PARAMETER);
     q = p;
     q.gate = 40000;
-    expect("lines.init_gate_40000", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_E_BAD_PARAMETER);
+    expect("lines.init_gate_40000", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
     q = p;
     q.weight_shift = -2;
     expect("lines.init_weight_shift_-2", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8),
            FXS_E_BAD_PARAMETER);
     q = p;
     q.theta_start = -1;
-    expect("lines.init_negative_theta_start", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8),
-           FXS_E_NEGATIVE);
+    expect("lines.init_negative_theta_start", init_acc(&acc, &q), FXS_E_NEGATIVE);
     expect("lines.init_again", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 8), FXS_OK);
     expect("lines.row_out_of_order", fxs_lines_vote_row(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_STREAM_ORDER);
     expect("lines.row_short", fxs_lines_vote_row(&acc, 0, a8, 7, 0, 0, 0, 0, 0, 0), FXS_E_BUFFER_TOO_SHORT);

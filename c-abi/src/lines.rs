@@ -202,18 +202,34 @@ pub unsafe extern "C" fn fxs_lines_cos_sin(
     cos_out: *mut i16,
     sin_out: *mut i16,
 ) -> FxsStatus {
-    // SAFETY: forwarded to the caller; both pointers checked first.
+    // SAFETY: forwarded to the caller.
     finish(unsafe {
-        (|| {
-            let (c, s) = (buf(cos_out, 1, true)?, buf(sin_out, 1, true)?);
-            disjoint(&[c.span(), s.span()])?;
-            let q = ranged(frac_bits, 8, 14)? as u32;
-            let (cv, sv) = lines::cos_sin(angle, q);
-            c.slice_mut()[0] = cv;
-            s.slice_mut()[0] = sv;
-            Ok(())
-        })()
+        two_outputs(cos_out, sin_out, [Span::EMPTY; 2], || {
+            Ok(lines::cos_sin(angle, ranged(frac_bits, 8, 14)? as u32))
+        })
     })
+}
+
+/// Checks two single outputs (NULL, alignment, no overlap with each other
+/// or with `other`), then writes the pair `f` gives.
+///
+/// # Safety
+/// `a`, `b` each point to one writable `T` when not NULL.
+unsafe fn two_outputs<T>(
+    a: *mut T,
+    b: *mut T,
+    other: [Span; 2],
+    f: impl FnOnce() -> Checked<(T, T)>,
+) -> Checked<()> {
+    let (ab, bb) = (buf(a, 1, true)?, buf(b, 1, true)?);
+    disjoint(&[ab.span(), bb.span(), other[0], other[1]])?;
+    let (x, y) = f()?;
+    // SAFETY: checked, writable by the caller's guarantee, disjoint.
+    unsafe {
+        ab.slice_mut()[0] = x;
+        bb.slice_mut()[0] = y;
+    }
+    Ok(())
 }
 
 /// `fxs_lines_accumulator_init`: checks `params`, zeroes the cells
@@ -447,8 +463,16 @@ pub unsafe extern "C" fn fxs_lines_vote_frame(
         (|| {
             let own = Span::object(acc, true);
             let e = image(edges, 1)?;
-            let gxi = if gx.is_null() { None } else { Some(image(gx, 1)?) };
-            let gyi = if gy.is_null() { None } else { Some(image(gy, 1)?) };
+            let gxi = if gx.is_null() {
+                None
+            } else {
+                Some(image(gx, 1)?)
+            };
+            let gyi = if gy.is_null() {
+                None
+            } else {
+                Some(image(gy, 1)?)
+            };
             let wi = if weights.is_null() {
                 None
             } else {
@@ -519,11 +543,7 @@ fn line_of(l: Line) -> FxsLine {
 }
 
 /// The checked output array and count of a peaks or segments call.
-fn outputs<T>(
-    out: *mut T,
-    out_len: usize,
-    found: *mut i32,
-) -> Checked<(Buf<T>, Buf<i32>, usize)> {
+fn outputs<T>(out: *mut T, out_len: usize, found: *mut i32) -> Checked<(Buf<T>, Buf<i32>, usize)> {
     let o = buf(out, out_len, true)?;
     let f = buf(found, 1, true)?;
     if out_len == 0 || out_len > FXS_LINES_MAX_OUT {
@@ -598,21 +618,12 @@ pub unsafe extern "C" fn fxs_lines_correct_point(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     finish(unsafe {
-        (|| {
-            let g = load::<GridObj>(grid)?;
-            let (xb, yb) = (buf(x_q4, 1, true)?, buf(y_q4, 1, true)?);
-            disjoint(&[
-                Span::object(grid, false),
-                g.borrowed(),
-                xb.span(),
-                yb.span(),
-            ])?;
-            let (cx, cy) = lines::correct_point(g.grid(), size(x)?, size(y)?)
-                .ok_or(FXS_E_POINT_OUTSIDE)?;
-            xb.slice_mut()[0] = cx;
-            yb.slice_mut()[0] = cy;
-            Ok(())
-        })()
+        load::<GridObj>(grid).and_then(|g| {
+            let spans = [Span::object(grid, false), g.borrowed()];
+            two_outputs(x_q4, y_q4, spans, || {
+                lines::correct_point(g.grid(), size(x)?, size(y)?).ok_or(FXS_E_POINT_OUTSIDE)
+            })
+        })
     })
 }
 

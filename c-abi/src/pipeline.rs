@@ -11,11 +11,13 @@
 //! Camera rows are pushed as 8-bit luma; the other pixel formats of the
 //! kernel (YUYV, UYVY, RGB565, raw) are not wrapped yet.
 
-use crate::boundary::{buf, disjoint, load, load_mut, optional, size, storage, store, Checked, Span};
+use crate::boundary::{
+    buf, disjoint, load, load_mut, optional, size, storage, store, Checked, Span,
+};
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
 use fixsight::pipeline::{
-    self, map_words, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator, Smoothing,
-    ThresholdRule, Thinning,
+    self, map_words, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator, Smoothing, Thinning,
+    ThresholdRule,
 };
 
 /// `FXS_EDGE_STREAM_MAX_WIDTH`: widest frame.
