@@ -28,6 +28,7 @@
 //! | [`golden`] | golden-vector format, check and write |
 //! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
 //! | [`report`] | the verification report |
+//! | [`html`] | the report as one self-contained HTML file for a review (`report.html`) |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
 //! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
@@ -49,6 +50,7 @@ pub mod filter;
 pub mod golden;
 pub mod golden_c;
 pub mod gradient;
+pub mod html;
 pub mod hysteresis;
 pub mod lens;
 pub mod lines;

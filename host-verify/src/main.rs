@@ -125,6 +125,39 @@ enum Cmd {
         #[arg(long)]
         overwrite: bool,
     },
+    /// Does a pipeline fit a part? Instructions per second of each stage on a
+    /// core (from targets.json), load at one instruction per cycle, margin,
+    /// dominant stage. Exit status 1 when it does not fit.
+    ///
+    /// Example: fixsight-verify budget --width 320 --height 240 --fps 30 --clock-mhz 168
+    ///
+    /// Not a safety function: a budget of the software's cycles says nothing
+    /// about whether a vehicle is safe; that needs safety-rated sensing and
+    /// control under the applicable standards (ISO 3691-4, IEC 61508) and
+    /// local rules.
+    Budget {
+        /// Frame width, pixels.
+        #[arg(long)]
+        width: u32,
+        /// Frame height, pixels.
+        #[arg(long)]
+        height: u32,
+        /// Frames per second.
+        #[arg(long)]
+        fps: f64,
+        /// Core clock, MHz.
+        #[arg(long)]
+        clock_mhz: f64,
+        /// Core, as named in targets.json (cortex-m4, cortex-m3, cortex-m0, rv32imc).
+        #[arg(long, default_value = "cortex-m4")]
+        core: String,
+        /// Kernel id of a stage (repeatable; default: the pipeline's whole job).
+        #[arg(long, value_name = "ID")]
+        kernel: Vec<String>,
+        /// Folder with targets.json (and report.json for the host operation counts).
+        #[arg(long, value_name = "DIR", default_value = "fixsight-report")]
+        report: PathBuf,
+    },
     /// Compare a port's outputs for the golden inputs with the golden
     /// expected outputs, bit for bit: per vector pass, FAIL (first differing
     /// element x, y, channel, expected, got, and the count) or not claimed.
@@ -170,6 +203,28 @@ enum GoldenCmd {
         /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+    },
+    /// Write chosen vectors as C data with a small runner (golden_check.c)
+    /// for checking a port on your own board: golden_types.h,
+    /// golden_vectors.h, golden_vectors.c, golden_check.c. Your port provides
+    /// golden_port_run() and golden_port_print(), then calls
+    /// golden_check_all().
+    ///
+    /// Example: fixsight-verify golden export-c --select filter.binomial5 --out my-port/golden/
+    #[command(name = "export-c")]
+    ExportC {
+        /// Golden-vector folder (default: `golden` in the current folder).
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
+        /// Kernel id, vector id or family to export (repeatable; default all).
+        #[arg(long, value_name = "NAME")]
+        select: Vec<String>,
+        /// Output folder.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-golden-c")]
+        out: PathBuf,
+        /// Replace the four files if they exist.
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Regenerate the vectors from the current kernels.
     Write {
@@ -248,12 +303,30 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             lang,
             overwrite,
         } => cmd::targets::run(&out, vectors, lang.as_deref(), overwrite),
+        Cmd::Budget {
+            width,
+            height,
+            fps,
+            clock_mhz,
+            core,
+            kernel,
+            report,
+        } => cmd::budget::run(&report, &core, &kernel, width, height, fps, clock_mhz),
         Cmd::PortCheck {
             vectors,
             outputs,
             tolerance,
             report,
         } => cmd::port_check::run(vectors, &outputs, tolerance, &report),
+        Cmd::Golden {
+            cmd:
+                GoldenCmd::ExportC {
+                    vectors,
+                    select,
+                    out,
+                    overwrite,
+                },
+        } => cmd::golden::export_c(vectors, &select, &out, overwrite),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),

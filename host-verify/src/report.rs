@@ -1,7 +1,8 @@
 //! The verification report: every family's contract checks on the demo
 //! scenes, the golden-vector check, and (when `targets.json` is in the
 //! output folder) the on-target figures; printed as a table and written as
-//! `report.json`.
+//! `report.json` and as one self-contained HTML file, `report.html`
+//! ([`crate::html`]).
 //!
 //! `report.json`, schema 1 (fields are only ever added):
 //!
@@ -81,7 +82,9 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
         .collect();
     let mut outputs = Outputs::new(
         out_dir,
-        pngs.iter().map(String::as_str).chain(["report.json"]),
+        pngs.iter()
+            .map(String::as_str)
+            .chain(["report.json", crate::html::HTML_FILE]),
         overwrite,
         "--overwrite",
     )?;
@@ -142,6 +145,10 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
     outputs.write(
         "report.json",
         (serde_json::to_string_pretty(&report)? + "\n").as_bytes(),
+    )?;
+    outputs.write(
+        crate::html::HTML_FILE,
+        crate::html::render(&report, &scenes)?.as_bytes(),
     )?;
     outputs.commit()?;
     Ok(report)

@@ -3,6 +3,7 @@
 //! `Ok(true)` on success, `Ok(false)` when a check failed, `Err` when it
 //! could not run.
 
+pub mod budget;
 pub mod calibrate;
 pub mod golden;
 pub mod grid;
