@@ -65,14 +65,18 @@ static void statuses(void) {
     expect("storage.sizes",
            (sizeof(fxs_filter) == FXS_FILTER_SIZE && sizeof(fxs_filter_stream) == FXS_FILTER_STREAM_SIZE &&
             sizeof(fxs_nms_stream) == FXS_NMS_STREAM_SIZE && sizeof(fxs_pixel_map) == FXS_PIXEL_MAP_SIZE &&
-            sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE)
+            sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
+            sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE &&
+            sizeof(fxs_tracker) == FXS_TRACKER_SIZE && sizeof(fxs_edge_stream) == FXS_EDGE_STREAM_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
     expect("storage.alignment",
            (ALIGN_OF(fxs_filter) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_filter_stream) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_nms_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_pixel_map) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_edge_stream) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -242,6 +246,16 @@ static void gradients_and_edges(void) {
     }
     expect("gradient.direction_null_output", fxs_gradient_direction(&gx, &gy, 0), FXS_E_NULL_POINTER);
     expect("gradient.direction_ok", fxs_gradient_direction(&gx, &gy, &dir), FXS_OK);
+    expect("gradient.angles_ok", fxs_gradient_angles(&gx, &gy, &m), FXS_OK);
+    expect("gradient.angles_size_mismatch", fxs_gradient_angles(&gx, &gy3, &m), FXS_E_SIZE_MISMATCH);
+    {
+        fxs_u16_view_mut bad = m;
+        bad.data = (uint16_t *)(void *)b16;
+        expect("gradient.angles_output_over_gy", fxs_gradient_angles(&gx, &gy, &bad), FXS_E_OVERLAP);
+        bad = m;
+        bad.len = 15;
+        expect("gradient.angles_output_short", fxs_gradient_angles(&gx, &gy, &bad), FXS_E_BUFFER_TOO_SHORT);
+    }
     a8[5] = 4;
     expect("nms.sector_out_of_range", fxs_nms_suppress(&mv, &dv, &nm), FXS_E_BAD_PARAMETER);
     a8[5] = 0;
@@ -375,6 +389,325 @@ static void warps(void) {
     }
 }
 
+/* fxs_lines_accumulator_init of the lines cases with cells and table long enough. */
+static fxs_status init_acc(fxs_lines_accumulator *acc, const fxs_vote_params *q) {
+    static int16_t trig[16];
+    return fxs_lines_accumulator_init(acc, q, u16a, 32, trig, 16);
+}
+
+static void lines_cases(void) {
+    /* 8 x 6 frame, 4 columns of 16384 units from 0 (0..90 degrees), 5 rows of 1 px. */
+    fxs_vote_params p = {8, 6, 0, 14, 4, 4, 5, 14, 0, -1}, q;
+    fxs_lines_accumulator acc, zero;
+    fxs_vote_counts n;
+    fxs_peak_params pp = {1, 1, 1};
+    fxs_line_peak pk[4];
+    fxs_segment seg[4];
+    fxs_segment_params sp = {1, 0, 0};
+    fxs_line line = {-16, 32768, 0}; /* the row y = 2, one pixel above the origin row */
+    fxs_u8_view e = {a8, 48, 8, 6, 8};
+    fxs_i16_view gx = {a16, 48, 8, 6, 8}, gy = {b16, 48, 8, 6, 8};
+    fxs_control_grid grid;
+    fxs_warp_geometry g = {8, 8, 8, 6, 4};
+    static const int32_t ident[18] = {0, 0, 64, 0, 128, 0, 0, 64, 64, 64, 128, 64, 0, 128, 64, 128, 128, 128};
+    uint16_t *cells = u16a;
+    int16_t c, sn, trig[8];
+    int32_t found, xq, yq;
+    memset(a8w, 0, sizeof a8w);
+    a8[2 * 8 + 3] = 1;
+    expect("lines.cos_sin_ok", fxs_lines_cos_sin(32768, 14, &c, &sn) == FXS_OK && c == 0 && sn == 16384 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.cos_sin_frac_7", fxs_lines_cos_sin(0, 7, &c, &sn), FXS_E_BAD_PARAMETER);
+    expect("lines.cos_sin_frac_15", fxs_lines_cos_sin(0, 15, &c, &sn), FXS_E_BAD_PARAMETER);
+    expect("lines.cos_sin_null", fxs_lines_cos_sin(0, 14, 0, &sn), FXS_E_NULL_POINTER);
+    expect("lines.cos_sin_same_output", fxs_lines_cos_sin(0, 14, &c, &c), FXS_E_OVERLAP);
+    expect("lines.init_ok", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 8), FXS_OK);
+    expect("lines.init_cells_short", fxs_lines_accumulator_init(&acc, &p, cells, 19, trig, 8), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.init_trig_short", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 7), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.init_null_params", fxs_lines_accumulator_init(&acc, 0, cells, 20, trig, 8), FXS_E_NULL_POINTER);
+    expect("lines.init_trig_in_cells",
+           fxs_lines_accumulator_init(&acc, &p, cells, 20, (int16_t *)(void *)(cells + 4), 8), FXS_E_OVERLAP);
+    q = p;
+    q.rho_bins = 4;
+    expect("lines.init_rho_bins_even", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.width = 0;
+    expect("lines.init_zero_width", init_acc(&acc, &q), FXS_E_ZERO_SIZE);
+    q = p;
+    q.height = 5000;
+    expect("lines.init_height_5000", init_acc(&acc, &q), FXS_E_TOO_LARGE);
+    q = p;
+    q.theta_step_log2 = 3;
+    expect("lines.init_theta_step_3", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.theta_bins = 5;
+    expect("lines.init_window_above_180", fxs_lines_accumulator_init(&acc, &q, cells, 25, trig, 10),
+           FXS_E_BAD_PARAMETER);
+    q = p;
+    q.gate = 40000;
+    expect("lines.init_gate_40000", init_acc(&acc, &q), FXS_E_BAD_PARAMETER);
+    q = p;
+    q.weight_shift = -2;
+    expect("lines.init_weight_shift_-2", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8),
+           FXS_E_BAD_PARAMETER);
+    q = p;
+    q.theta_start = -1;
+    expect("lines.init_negative_theta_start", init_acc(&acc, &q), FXS_E_NEGATIVE);
+    expect("lines.init_again", fxs_lines_accumulator_init(&acc, &p, cells, 20, trig, 8), FXS_OK);
+    expect("lines.row_out_of_order", fxs_lines_vote_row(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_STREAM_ORDER);
+    expect("lines.row_short", fxs_lines_vote_row(&acc, 0, a8, 7, 0, 0, 0, 0, 0, 0), FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.row_negative", fxs_lines_vote_row(&acc, -1, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_NEGATIVE);
+    expect("lines.row_null_edges", fxs_lines_vote_row(&acc, 0, 0, 8, 0, 0, 0, 0, 0, 0), FXS_E_NULL_POINTER);
+    expect("lines.row_in_cells",
+           fxs_lines_vote_row(&acc, 0, (const uint8_t *)(void *)cells, 8, 0, 0, 0, 0, 0, 0), FXS_E_OVERLAP);
+    expect("lines.frame_ok", fxs_lines_vote_frame(&acc, &e, 0, 0, 0), FXS_OK);
+    expect("lines.counts",
+           fxs_lines_accumulator_counts(&acc, &n) == FXS_OK && n.points == 1 && n.next_row == 6 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.row_past_height", fxs_lines_vote_row(&acc, 6, a8, 8, 0, 0, 0, 0, 0, 0), FXS_E_ROW_RANGE);
+    expect("lines.frame_twice", fxs_lines_vote_frame(&acc, &e, 0, 0, 0), FXS_E_STREAM_ORDER);
+    expect("lines.reset", fxs_lines_accumulator_reset(&acc), FXS_OK);
+    expect("lines.frame_one_gradient", fxs_lines_vote_frame(&acc, &e, &gx, 0, 0), FXS_E_NULL_POINTER);
+    {
+        fxs_u8_view e2 = e;
+        e2.width = 7;
+        e2.stride = 7;
+        expect("lines.frame_size_mismatch", fxs_lines_vote_frame(&acc, &e2, 0, 0, 0), FXS_E_SIZE_MISMATCH);
+    }
+    expect("lines.point_outside", fxs_lines_vote_point(&acc, 8 * 16, 0, -1, 1), FXS_E_POINT_OUTSIDE);
+    expect("lines.point_angle_65536", fxs_lines_vote_point(&acc, 0, 0, 65536, 1), FXS_E_BAD_PARAMETER);
+    expect("lines.point_ok", fxs_lines_vote_point(&acc, 3 * 16, 2 * 16, -1, 1), FXS_OK);
+    expect("lines.peaks_ok", fxs_lines_peaks(&acc, &pp, pk, 4, &found) == FXS_OK && found >= 1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("lines.peaks_none_wanted", fxs_lines_peaks(&acc, &pp, pk, 0, &found), FXS_E_BAD_PARAMETER);
+    expect("lines.peaks_too_many", fxs_lines_peaks(&acc, &pp, pk, FXS_LINES_MAX_OUT + 1, &found),
+           FXS_E_BAD_PARAMETER);
+    pp.threshold = 0;
+    expect("lines.peaks_threshold_0", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_BAD_PARAMETER);
+    pp.threshold = 1;
+    pp.radius_rho = -1;
+    expect("lines.peaks_negative_radius", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_NEGATIVE);
+    pp.radius_rho = 1;
+    expect("lines.peaks_into_cells", fxs_lines_peaks(&acc, &pp, (fxs_line_peak *)(void *)cells, 2, &found),
+           FXS_E_OVERLAP);
+    memset(&zero, 0, sizeof zero);
+    expect("lines.peaks_not_initialised", fxs_lines_peaks(&zero, &pp, pk, 4, &found), FXS_E_NOT_INITIALISED);
+    expect("lines.grid_init", fxs_warp_control_grid_init(&grid, ident, 18, &g, 2), FXS_OK);
+    expect("lines.correct_point_ok",
+           fxs_lines_correct_point(&grid, 3, 2, &xq, &yq) == FXS_OK && xq == 48 && yq == 32 ? FXS_OK : -1, FXS_OK);
+    expect("lines.correct_point_outside", fxs_lines_correct_point(&grid, 8, 0, &xq, &yq), FXS_E_POINT_OUTSIDE);
+    expect("lines.correct_point_negative", fxs_lines_correct_point(&grid, -1, 0, &xq, &yq), FXS_E_NEGATIVE);
+    expect("lines.reset_again", fxs_lines_accumulator_reset(&acc), FXS_OK);
+    expect("lines.corrected_row_ok", fxs_lines_vote_row_corrected(&acc, 0, a8, 8, 0, 0, 0, 0, 0, 0, &grid), FXS_OK);
+    expect("lines.corrected_row_grid_zeroed",
+           fxs_lines_vote_row_corrected(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0, (const fxs_control_grid *)(void *)&zero),
+           FXS_E_NOT_INITIALISED);
+    g.src_height = 8;
+    expect("lines.grid_init_8x8", fxs_warp_control_grid_init(&grid, ident, 18, &g, 2), FXS_OK);
+    expect("lines.corrected_grid_size_mismatch",
+           fxs_lines_vote_row_corrected(&acc, 1, a8, 8, 0, 0, 0, 0, 0, 0, &grid), FXS_E_SIZE_MISMATCH);
+    q = p;
+    q.gate = 100;
+    expect("lines.init_gated", fxs_lines_accumulator_init(&acc, &q, cells, 20, trig, 8), FXS_OK);
+    expect("lines.gated_row_without_gradient", fxs_lines_vote_row(&acc, 0, a8, 8, 0, 0, 0, 0, 0, 0),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("lines.gated_frame_ok", fxs_lines_vote_frame(&acc, &e, &gx, &gy, 0), FXS_OK);
+    expect("lines.point_gated_without_angle", fxs_lines_vote_point(&acc, 0, 0, -1, 1), FXS_E_BAD_PARAMETER);
+    expect("lines.segments_ok", fxs_lines_segments(&e, &line, &sp, seg, 4, &found) == FXS_OK && found == 1 ? FXS_OK : -1,
+           FXS_OK);
+    sp.tolerance = 4;
+    expect("lines.segments_tolerance_4", fxs_lines_segments(&e, &line, &sp, seg, 4, &found), FXS_E_BAD_PARAMETER);
+    sp.tolerance = 0;
+    sp.min_length = 0;
+    expect("lines.segments_min_length_0", fxs_lines_segments(&e, &line, &sp, seg, 4, &found), FXS_E_BAD_PARAMETER);
+    sp.min_length = 1;
+    expect("lines.segments_null_line", fxs_lines_segments(&e, 0, &sp, seg, 4, &found), FXS_E_NULL_POINTER);
+    expect("lines.segments_into_edges",
+           fxs_lines_segments(&e, &line, &sp, (fxs_segment *)(void *)a8w, 2, &found), FXS_E_OVERLAP);
+    expect("lines.segments_none_wanted", fxs_lines_segments(&e, &line, &sp, seg, 0, &found), FXS_E_BAD_PARAMETER);
+}
+
+static void marking_cases(void) {
+    /* The aisle camera's limits of the golden vectors. */
+    const fxs_marking_limits ok = {1912, 461, -990, 10901, -1110, 1110, 114, 279, 459, 45, FXS_CONTRAST_BRIGHTER};
+    fxs_marking_limits l;
+    fxs_marking_line lines[FXS_MARKING_MAX_LINES + 1];
+    fxs_marking_result r;
+    memset(lines, 0, sizeof lines);
+    expect("marking.none_offered",
+           fxs_marking_select(0, 0, &ok, &r) == FXS_OK && r.found == 0 && r.left == -1 && r.candidates == 0 ? FXS_OK
+                                                                                                            : -1,
+           FXS_OK);
+    expect("marking.null_lines", fxs_marking_select(0, 2, &ok, &r), FXS_E_NULL_POINTER);
+    expect("marking.null_limits", fxs_marking_select(lines, 2, 0, &r), FXS_E_NULL_POINTER);
+    expect("marking.null_result", fxs_marking_select(lines, 2, &ok, 0), FXS_E_NULL_POINTER);
+    expect("marking.too_many_lines", fxs_marking_select(lines, FXS_MARKING_MAX_LINES + 1, &ok, &r),
+           FXS_E_BAD_PARAMETER);
+    expect("marking.result_over_lines", fxs_marking_select(lines, 4, &ok, (fxs_marking_result *)(void *)lines),
+           FXS_E_OVERLAP);
+    lines[1].polarity = 2;
+    expect("marking.polarity_2", fxs_marking_select(lines, 2, &ok, &r), FXS_E_BAD_PARAMETER);
+    lines[1].polarity = -1;
+    expect("marking.two_lines_ok", fxs_marking_select(lines, 2, &ok, &r), FXS_OK);
+    l = ok;
+    l.contrast = 3;
+    expect("marking.contrast_3", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.max_tilt = 21846;
+    expect("marking.max_tilt_above_60_degrees", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l.max_tilt = -1;
+    expect("marking.negative_max_tilt", fxs_marking_select(lines, 2, &l, &r), FXS_E_NEGATIVE);
+    l = ok;
+    l.far_row_q4 = l.near_row_q4;
+    expect("marking.far_row_not_above_near", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.near_sep_min_q4 = 0;
+    expect("marking.near_sep_min_0", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+    l = ok;
+    l.converge_tol_q4 = -1;
+    expect("marking.negative_tolerance", fxs_marking_select(lines, 2, &l, &r), FXS_E_BAD_PARAMETER);
+}
+
+static void tracker_cases(void) {
+    const fxs_track_config ok = {{64, 66, 262144}, {11881, 66, 65536}, 2358, 3, 5, 40, 0, 1912, 90, 15, 8, 24};
+    fxs_track_config c;
+    fxs_tracker t, zero;
+    fxs_detection d[FXS_TRACK_MAX_DETECTIONS + 1];
+    fxs_frame_report r;
+    int32_t w[FXS_TRACK_WORDS];
+    memset(d, 0, sizeof d);
+    memset(&zero, 0, sizeof zero);
+    d[0].rho_q4 = 160;
+    d[0].weight = 100;
+    expect("track.init_ok", fxs_tracker_init(&t, &ok), FXS_OK);
+    expect("track.init_null_config", fxs_tracker_init(&t, 0), FXS_E_NULL_POINTER);
+    expect("track.init_null_tracker", fxs_tracker_init(0, &ok), FXS_E_NULL_POINTER);
+    expect("track.init_misaligned", fxs_tracker_init((fxs_tracker *)(void *)(a8 + 4), &ok), FXS_E_MISALIGNED);
+    c = ok;
+    c.confirm_hits = 0;
+    expect("track.confirm_hits_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c.confirm_hits = 256;
+    expect("track.confirm_hits_256", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.max_missed = -1;
+    expect("track.negative_max_missed", fxs_tracker_init(&t, &c), FXS_E_NEGATIVE);
+    c = ok;
+    c.warn_horizon = 1025;
+    expect("track.warn_horizon_1025", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.rho.meas_var = 0;
+    expect("track.meas_var_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.gate_q8 = 0;
+    expect("track.gate_0", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    c = ok;
+    c.reference_x_q4 = 1 << 17;
+    expect("track.reference_outside", fxs_tracker_init(&t, &c), FXS_E_BAD_PARAMETER);
+    expect("track.init_again", fxs_tracker_init(&t, &ok), FXS_OK);
+    expect("track.update_ok", fxs_tracker_update(&t, 5, d, 1, &r) == FXS_OK && r.born == 1 ? FXS_OK : -1, FXS_OK);
+    expect("track.slot_words", /* the new track: id 0, one hit, rho 160 (state scaled by 256) */
+           fxs_tracker_slot_words(&t, 0, w, FXS_TRACK_WORDS) == FXS_OK && w[0] == 0 && w[2] == 1 && w[6] == 160 * 256
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("track.frame_not_increasing", fxs_tracker_update(&t, 5, d, 1, &r), FXS_E_FRAME_ORDER);
+    expect("track.too_many_detections", fxs_tracker_update(&t, 6, d, FXS_TRACK_MAX_DETECTIONS + 1, &r),
+           FXS_E_BAD_PARAMETER);
+    d[1].rho_q4 = 1 << 17;
+    expect("track.rho_outside", fxs_tracker_update(&t, 6, d, 2, &r), FXS_E_BAD_PARAMETER);
+    d[1].rho_q4 = 0;
+    expect("track.null_detections", fxs_tracker_update(&t, 6, 0, 1, &r), FXS_E_NULL_POINTER);
+    expect("track.no_detections_no_report", fxs_tracker_update(&t, 6, 0, 0, 0), FXS_OK);
+    expect("track.report_over_detections", fxs_tracker_update(&t, 7, d, 2, (fxs_frame_report *)(void *)d),
+           FXS_E_OVERLAP);
+    expect("track.report_over_tracker", fxs_tracker_update(&t, 7, d, 1, (fxs_frame_report *)(void *)&t),
+           FXS_E_OVERLAP);
+    expect("track.empty_slot", fxs_tracker_slot_words(&t, 3, w, FXS_TRACK_WORDS) == FXS_OK && w[0] == -1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("track.slot_4", fxs_tracker_slot_words(&t, FXS_TRACK_SLOTS, w, FXS_TRACK_WORDS), FXS_E_BAD_PARAMETER);
+    expect("track.negative_slot", fxs_tracker_slot_words(&t, -1, w, FXS_TRACK_WORDS), FXS_E_NEGATIVE);
+    expect("track.words_short", fxs_tracker_slot_words(&t, 0, w, FXS_TRACK_WORDS - 1), FXS_E_BUFFER_TOO_SHORT);
+    expect("track.not_initialised", fxs_tracker_update(&zero, 1, d, 1, &r), FXS_E_NOT_INITIALISED);
+    expect("track.reset", fxs_tracker_reset(&t), FXS_OK);
+    expect("track.after_reset_any_frame", fxs_tracker_update(&t, 1, d, 1, &r), FXS_OK);
+}
+
+static fxs_edge_stream es, es_zero;
+
+static void edge_stream_cases(void) {
+    fxs_edge_config demo, c;
+    fxs_edge_report r;
+    fxs_edge_point pts[4];
+    uintptr_t got;
+    int32_t n;
+    uint8_t row[16];
+    memset(row, 0, sizeof row);
+    expect("edge_stream.demo_config", fxs_edge_stream_demo_config(&demo), FXS_OK);
+    expect("edge_stream.demo_config_null", fxs_edge_stream_demo_config(0), FXS_E_NULL_POINTER);
+    expect("edge_stream.init_ok", fxs_edge_stream_init(&es, &demo, 16, 2), FXS_OK);
+    expect("edge_stream.points_before_finish", fxs_edge_stream_points(&es, 0, pts, 4, &got), FXS_E_STREAM_ORDER);
+    expect("edge_stream.finish_before_rows", fxs_edge_stream_finish(&es, &r), FXS_E_ROW_COUNT);
+    expect("edge_stream.finish_short_without_rows", fxs_edge_stream_finish_short(&es, &r), FXS_E_STREAM_ORDER);
+    expect("edge_stream.row_too_short", fxs_edge_stream_push_row(&es, row, 15, &n), FXS_E_ROW_LENGTH);
+    expect("edge_stream.first_row_no_count", fxs_edge_stream_push_row(&es, row, 16, 0),
+           FXS_OK);
+    expect("edge_stream.row_null", fxs_edge_stream_push_row(&es, 0, 16, &n), FXS_E_NULL_POINTER);
+    expect("edge_stream.count_over_row", fxs_edge_stream_push_row(&es, row, 16, (int32_t *)(void *)row),
+           FXS_E_OVERLAP);
+    expect("edge_stream.second_row",
+           fxs_edge_stream_push_row(&es, row, 16, &n) == FXS_OK && n == 2 ? FXS_OK : -1, FXS_OK);
+    expect("edge_stream.row_past_height", fxs_edge_stream_push_row(&es, row, 16, &n), FXS_E_STREAM_ORDER);
+    expect("edge_stream.finish",
+           fxs_edge_stream_finish(&es, &r) == FXS_OK && r.width == 16 && r.height == 2 && r.edge_points == 0 ? FXS_OK
+                                                                                                               : -1,
+           FXS_OK);
+    expect("edge_stream.points_none",
+           fxs_edge_stream_points(&es, 0, pts, 4, &got) == FXS_OK && got == 0 ? FXS_OK : -1, FXS_OK);
+    expect("edge_stream.edge_row_short", fxs_edge_stream_edge_row(&es, 0, row, 15), FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.edge_row_past_height", fxs_edge_stream_edge_row(&es, 2, row, 16), FXS_E_ROW_RANGE);
+    expect("edge_stream.edge_row_negative", fxs_edge_stream_edge_row(&es, -1, row, 16), FXS_E_NEGATIVE);
+    expect("edge_stream.edge_row_into_stream", fxs_edge_stream_edge_row(&es, 0, es.bytes + 64, 16), FXS_E_OVERLAP);
+    expect("edge_stream.reset", fxs_edge_stream_reset(&es), FXS_OK);
+    expect("edge_stream.not_initialised", fxs_edge_stream_push_row(&es_zero, row, 16, &n), FXS_E_NOT_INITIALISED);
+    expect("edge_stream.width_above_capacity", fxs_edge_stream_init(&es, &demo, FXS_EDGE_STREAM_MAX_WIDTH + 1, 2),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.failed_init_leaves_uninitialised", fxs_edge_stream_reset(&es), FXS_E_NOT_INITIALISED);
+    expect("edge_stream.map_above_capacity", fxs_edge_stream_init(&es, &demo, 320, 241), FXS_E_BUFFER_TOO_SHORT);
+    expect("edge_stream.zero_height", fxs_edge_stream_init(&es, &demo, 16, 0), FXS_E_ZERO_SIZE);
+    expect("edge_stream.negative_width", fxs_edge_stream_init(&es, &demo, -16, 2), FXS_E_NEGATIVE);
+    expect("edge_stream.null_config", fxs_edge_stream_init(&es, 0, 16, 2), FXS_E_NULL_POINTER);
+    c = demo;
+    c.smoothing = 5;
+    expect("edge_stream.smoothing_5", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.gradient_operator = 2;
+    expect("edge_stream.operator_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.magnitude = -1;
+    expect("edge_stream.magnitude_-1", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.frac_bits = 17;
+    expect("edge_stream.frac_bits_above_twice_shift", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.low = 200;
+    c.high = 100;
+    expect("edge_stream.low_above_high", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_THRESHOLD_ORDER);
+    c = demo;
+    c.high_permille = 1000;
+    expect("edge_stream.permille_1000", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.thinning = FXS_THINNING_AT_MOST;
+    c.thinning_cap = 0;
+    expect("edge_stream.thinning_cap_0", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.thinning_cap = 65536;
+    expect("edge_stream.thinning_cap_65536", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c = demo;
+    c.threshold_rule = 2;
+    expect("edge_stream.rule_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.threshold_rule = FXS_THRESHOLDS_FIXED;
+    expect("edge_stream.fixed_ok", fxs_edge_stream_init(&es, &c, 16, 2), FXS_OK);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -383,6 +716,10 @@ int golden_bad_inputs(int32_t *n) {
     filter_streams();
     gradients_and_edges();
     warps();
+    lines_cases();
+    marking_cases();
+    tracker_cases();
+    edge_stream_cases();
     *n = cases;
     return failed;
 }

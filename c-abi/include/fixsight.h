@@ -52,7 +52,7 @@
  *   points to `len` elements of memory you own, and no one else reads or
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
- *   fxs_control_grid) live in storage you provide: declare a variable of
+ *   fxs_control_grid, fxs_lines_accumulator, fxs_tracker, fxs_edge_stream) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
@@ -187,18 +187,30 @@ typedef struct fxs_u16_view_mut {
 #define FXS_PIXEL_MAP_SIZE_64 88
 #define FXS_CONTROL_GRID_SIZE_32 64
 #define FXS_CONTROL_GRID_SIZE_64 120
+#define FXS_LINES_ACCUMULATOR_SIZE_32 104
+#define FXS_LINES_ACCUMULATOR_SIZE_64 176
+#define FXS_TRACKER_SIZE_32 416
+#define FXS_TRACKER_SIZE_64 416
+#define FXS_EDGE_STREAM_SIZE_32 45968
+#define FXS_EDGE_STREAM_SIZE_64 46008
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_64
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_64
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_64
+#define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_64
+#define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_64
+#define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_32
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_32
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_32
+#define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_32
+#define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_32
+#define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -282,7 +294,7 @@ fxs_status fxs_filter_stream_flush_i16(fxs_filter_stream *stream, int16_t *out,
                                        uintptr_t out_len, int32_t *out_row);
 
 /* ======================================================================== */
-/* gradient: magnitude and direction (kernel ids gradient.*)               */
+/* gradient: magnitude, direction, angle (kernel ids gradient.*)          */
 /* Integer model: README.md "Gradient magnitude and direction".            */
 /* ======================================================================== */
 
@@ -301,6 +313,12 @@ fxs_status fxs_gradient_magnitude_l2_round(const fxs_i16_view *gx, const fxs_i16
 /* Sector 0..3 (0, 45, 90, 135 degrees; y down the rows). */
 fxs_status fxs_gradient_direction(const fxs_i16_view *gx, const fxs_i16_view *gy,
                                   const fxs_u8_view_mut *dir);
+/* Orientation atan2(gy, gx) folded to [0, 180) degrees as a binary angle
+ * (65536 = 180 degrees; 0 when gx = gy = 0), 15 shift-and-add steps, within
+ * 0.004881 degrees of the exact value. Integer model: kernels/src/gradient.rs,
+ * `angle`. */
+fxs_status fxs_gradient_angles(const fxs_i16_view *gx, const fxs_i16_view *gy,
+                               const fxs_u16_view_mut *angle);
 
 /* ======================================================================== */
 /* nms: non-maximum suppression (kernel id nms.suppress)                   */
@@ -466,6 +484,450 @@ fxs_status fxs_warp_control_grid_rows(const fxs_control_grid *grid, const fxs_u8
  * memory it borrows), FXS_E_NOT_INITIALISED. */
 fxs_status fxs_warp_control_grid_write_blob(const fxs_control_grid *grid, uint8_t *out,
                                             uintptr_t out_len, uintptr_t *written);
+
+/* ======================================================================== */
+/* lines: line voting, peaks, segments (kernel ids lines.*)                */
+/* Integer model: README.md "Lines"; kernels/src/lines.rs module docs      */
+/* (units: rho in Q4 pixels from the origin, the centre of pixel           */
+/* (W >> 1, H >> 1); theta 65536 = 180 degrees; column angles 131072 =     */
+/* 360 degrees).                                                           */
+/* NOT A SAFETY FUNCTION: lines found here may steer a vehicle; see the    */
+/* note at the top of this file.                                           */
+/* ======================================================================== */
+
+/* Most peaks or segments one call writes (out_len 1..FXS_LINES_MAX_OUT). */
+#define FXS_LINES_MAX_OUT 32
+
+/* Accumulator geometry: T = theta_bins columns from theta_start (binary
+ * angle 360, 0..131071) in steps of 2^theta_step_log2 (4..14), T * 2^step
+ * <= 65536; R = rho_bins rows (odd, 1..4095) of 2^rho_step_log2 Q4 units
+ * (0..8); trig_frac_bits 8..14; frame 1..4096 each way; gate 0 (none) or
+ * 1..32767; weight_shift -1 (unit votes) or 0..15. */
+typedef struct fxs_vote_params {
+    int32_t width;
+    int32_t height;
+    int32_t theta_start;
+    int32_t theta_step_log2;
+    int32_t theta_bins;
+    int32_t rho_step_log2;
+    int32_t rho_bins;
+    int32_t trig_frac_bits;
+    int32_t gate;
+    int32_t weight_shift;
+} fxs_vote_params;
+
+typedef struct fxs_line {
+    int32_t rho;    /* Q4 pixels, signed */
+    uint16_t theta; /* [0, 180) degrees, 65536 = 180 */
+    uint16_t votes; /* count of the peak cell */
+} fxs_line;
+
+typedef struct fxs_line_peak {
+    uint16_t theta_bin; /* column t */
+    uint16_t rho_bin;   /* row b */
+    uint16_t votes;     /* count of cell (t, b) */
+    uint16_t reserved;  /* 0 */
+    fxs_line line;      /* refined line */
+} fxs_line_peak;
+
+typedef struct fxs_peak_params {
+    int32_t threshold;    /* 1..65535: smallest count of a peak */
+    int32_t radius_theta; /* >= 0: suppression half-width in columns */
+    int32_t radius_rho;   /* >= 0: suppression half-width in rows */
+} fxs_peak_params;
+
+typedef struct fxs_segment_params {
+    int32_t min_length; /* 1..65535 walk steps */
+    int32_t max_gap;    /* 0..65535 walk steps */
+    int32_t tolerance;  /* 0..3 pixels on each side across the walk */
+} fxs_segment_params;
+
+typedef struct fxs_segment {
+    int32_t x0; /* endpoints, Q4 pixels from the centre of the top-left pixel */
+    int32_t y0;
+    int32_t x1;
+    int32_t y1;
+    uint32_t hits; /* walk steps that found an edge pixel */
+} fxs_segment;
+
+typedef struct fxs_vote_counts {
+    uint32_t points;   /* points that voted */
+    uint32_t columns;  /* column votes cast */
+    uint32_t skipped;  /* corrected points outside the frame */
+    uint32_t next_row; /* the row the next row call expects */
+} fxs_vote_counts;
+
+/* An accumulator: borrows its cells and table. */
+typedef union fxs_lines_accumulator {
+    uint8_t bytes[FXS_LINES_ACCUMULATOR_SIZE];
+    uint64_t align_;
+} fxs_lines_accumulator;
+
+/* (cos a, sin a) in Q frac_bits (8..14) of binary angle a (131072 = 360
+ * degrees, modulo a turn); shift-and-add, within 0.5 + 2^(q-22) LSB.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_OVERLAP (both outputs
+ * one int16_t), FXS_E_NEGATIVE, FXS_E_BAD_PARAMETER (frac_bits). */
+fxs_status fxs_lines_cos_sin(uint32_t angle, int32_t frac_bits, int16_t *cos_out,
+                             int16_t *sin_out);
+
+/* Checks params, zeroes cells[cells_len] (cells_len >= T * R; cell (t, b)
+ * is cells[t * R + b], saturating counts) and fills trig[trig_len]
+ * (trig_len >= 2 * T int16_t: cos, sin per column). The accumulator
+ * borrows cells and trig until its last use; you may read the cells
+ * between calls, not write them. cells, trig and acc may not overlap.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_ZERO_SIZE, FXS_E_TOO_LARGE, FXS_E_BAD_PARAMETER (a field out of
+ * range), FXS_E_BUFFER_TOO_SHORT (cells or trig), FXS_E_OVERLAP. */
+fxs_status fxs_lines_accumulator_init(fxs_lines_accumulator *acc, const fxs_vote_params *params,
+                                      uint16_t *cells, uintptr_t cells_len, int16_t *trig,
+                                      uintptr_t trig_len);
+
+/* Zeroes the cells and counters for a new frame (the table stays). */
+fxs_status fxs_lines_accumulator_reset(fxs_lines_accumulator *acc);
+
+/* The counters since init or reset. */
+fxs_status fxs_lines_accumulator_counts(const fxs_lines_accumulator *acc,
+                                        fxs_vote_counts *counts);
+
+/* Votes edge row y (rows 0, 1, ... in order after init or reset; nonzero
+ * edges[x] is an edge point). gx, gy: needed when the params gate, else
+ * may be NULL; weights: needed when they weight, else may be NULL. Every
+ * length >= width. No input may overlap the accumulator or its memory.
+ * Errors: FXS_E_NULL_POINTER (edges, acc), FXS_E_NEGATIVE (y),
+ * FXS_E_ROW_RANGE (y >= height), FXS_E_STREAM_ORDER (y not the next row),
+ * FXS_E_BUFFER_TOO_SHORT (a row shorter than width, or a needed row
+ * NULL), FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_vote_row(fxs_lines_accumulator *acc, int32_t y, const uint8_t *edges,
+                              uintptr_t edges_len, const int16_t *gx, uintptr_t gx_len,
+                              const int16_t *gy, uintptr_t gy_len, const uint16_t *weights,
+                              uintptr_t weights_len);
+
+/* As fxs_lines_vote_row for row y of a raw (distorted) edge map: each
+ * edge pixel goes through grid (output size = the raw frame, row lengths
+ * and y range; source size = the accumulator's frame); corrected points
+ * outside the frame are counted as skipped.
+ * Errors: as fxs_lines_vote_row, FXS_E_SIZE_MISMATCH (grid source size). */
+fxs_status fxs_lines_vote_row_corrected(fxs_lines_accumulator *acc, int32_t y,
+                                        const uint8_t *edges, uintptr_t edges_len,
+                                        const int16_t *gx, uintptr_t gx_len, const int16_t *gy,
+                                        uintptr_t gy_len, const uint16_t *weights,
+                                        uintptr_t weights_len, const fxs_control_grid *grid);
+
+/* Votes a whole W x H edge map (single channel) as rows 0..H-1; gx and gy
+ * both or neither (needed when gating), weights when weighting. Call on a
+ * fresh or reset accumulator.
+ * Errors: the image checks, FXS_E_SIZE_MISMATCH, FXS_E_NULL_POINTER (one
+ * of gx, gy NULL), and as fxs_lines_vote_row. */
+fxs_status fxs_lines_vote_frame(fxs_lines_accumulator *acc, const fxs_u8_view *edges,
+                                const fxs_i16_view *gx, const fxs_i16_view *gy,
+                                const fxs_u16_view *weights);
+
+/* One point (x_q4, y_q4), Q4 pixels from the centre of the top-left pixel,
+ * inside 0..16 (W-1) x 0..16 (H-1); angle 0..65535 (gradient angle, as
+ * fxs_gradient_angles) or -1 (none; not allowed when gating); weight
+ * 0..65535 (raw, scaled by weight_shift).
+ * Errors: FXS_E_POINT_OUTSIDE, FXS_E_BAD_PARAMETER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_lines_vote_point(fxs_lines_accumulator *acc, int32_t x_q4, int32_t y_q4,
+                                int32_t angle, int32_t weight);
+
+/* Up to out_len (1..FXS_LINES_MAX_OUT) peaks: cells >= threshold that are
+ * the maximum of their (2 radius_theta + 1) x (2 radius_rho + 1)
+ * neighbourhood, strongest first, ties in cell order, each refined
+ * (module docs); *found is how many were written (the rest of out is
+ * untouched). out may not overlap the accumulator or its memory.
+ * Errors: FXS_E_BAD_PARAMETER (out_len, threshold 0 or above 65535),
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_peaks(const fxs_lines_accumulator *acc, const fxs_peak_params *params,
+                           fxs_line_peak *out, uintptr_t out_len, int32_t *found);
+
+/* Raw pixel (x, y) through grid into corrected Q4 coordinates.
+ * Errors: FXS_E_POINT_OUTSIDE (pixel outside the grid's output frame),
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_lines_correct_point(const fxs_control_grid *grid, int32_t x, int32_t y,
+                                   int32_t *x_q4, int32_t *y_q4);
+
+/* Walks edges (single channel, origin at pixel (W >> 1, H >> 1)) along
+ * line (its votes ignored) and writes up to out_len (1..FXS_LINES_MAX_OUT)
+ * segments in walk order; *found is how many (the walk stops when out is
+ * full).
+ * Errors: the image checks, FXS_E_BAD_PARAMETER (out_len, min_length 0 or
+ * above 65535, max_gap above 65535, tolerance above 3), FXS_E_NEGATIVE,
+ * FXS_E_NULL_POINTER, FXS_E_OVERLAP. */
+fxs_status fxs_lines_segments(const fxs_u8_view *edges, const fxs_line *line,
+                              const fxs_segment_params *params, fxs_segment *out,
+                              uintptr_t out_len, int32_t *found);
+
+/* ======================================================================== */
+/* marking: the two edges of a floor tape (kernel id marking.select)       */
+/* Rules and integer model: README.md "Marking selection"; marking.rs.   */
+/* Units: rho Q4 pixels from the image centre ((W-1)/2, (H-1)/2) of the    */
+/* corrected view, theta 65536 = 180 degrees, rows/columns Q4.             */
+/* NOT A SAFETY FUNCTION: see the note at the top of this file.            */
+/* ======================================================================== */
+
+#define FXS_MARKING_MAX_LINES 64 /* most lines one call takes */
+#define FXS_CONTRAST_BRIGHTER 0  /* light tape on a darker floor */
+#define FXS_CONTRAST_DARKER 1    /* dark tape on a lighter floor */
+#define FXS_CONTRAST_EITHER 2    /* contrast rule off */
+
+typedef struct fxs_marking_line {
+    int32_t rho_q4;
+    uint16_t theta;
+    int16_t polarity; /* 1 brighter along the normal, -1 darker, 0 unknown */
+    uint32_t votes;
+} fxs_marking_line;
+
+/* Checked on every call (MarkingConfig::new in kernels/src/marking.rs):
+ * rows within +-MAX_ROW_Q4 with horizon_row < far_row < near_row;
+ * near_x_min <= near_x_max, 1 <= near_sep_min <= near_sep_nominal <=
+ * near_sep_max, 0 <= converge_tol, each within MAX_SPAN_Q4; max_tilt
+ * 0..21845 (60 degrees); contrast FXS_CONTRAST_*. */
+typedef struct fxs_marking_limits {
+    int32_t near_row_q4;
+    int32_t far_row_q4;
+    int32_t horizon_row_q4;
+    int32_t max_tilt;
+    int32_t near_x_min_q4;
+    int32_t near_x_max_q4;
+    int32_t near_sep_min_q4;
+    int32_t near_sep_nominal_q4;
+    int32_t near_sep_max_q4;
+    int32_t converge_tol_q4;
+    int32_t contrast;
+} fxs_marking_limits;
+
+/* The kernel's 10-word record. */
+typedef struct fxs_marking_result {
+    int32_t found;         /* 1 found, 0 not */
+    int32_t left;          /* index of the left edge in lines, -1 when not found */
+    int32_t right;         /* index of the right edge, -1 when not found */
+    int32_t near_left_q4;  /* near-row columns (0 when not found) */
+    int32_t near_right_q4;
+    int32_t far_left_q4;   /* far-row columns (0 when not found) */
+    int32_t far_right_q4;
+    uint32_t votes_lo;     /* vote sum of the pair, low and high 32 bits */
+    uint32_t votes_hi;
+    int32_t candidates;    /* not found: lines that passed tilt and near position; else 0 */
+} fxs_marking_result;
+
+/* The tape's two edges among lines[count] (count 0..FXS_MARKING_MAX_LINES;
+ * lines may be NULL when count is 0), into *result. result may not overlap
+ * lines or limits.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE (max_tilt),
+ * FXS_E_BAD_PARAMETER (count, a limit, contrast, a polarity other than
+ * -1, 0, 1), FXS_E_OVERLAP. */
+fxs_status fxs_marking_select(const fxs_marking_line *lines, uintptr_t count,
+                              const fxs_marking_limits *limits, fxs_marking_result *result);
+
+/* ======================================================================== */
+/* track: line tracker with drift warning (kernel id track.tracker)        */
+/* Integer model: README.md "Tracker and drift warning"; track.rs (a     */
+/* constant-velocity Kalman filter per axis, gating, births, drops).      */
+/* NOT A SAFETY FUNCTION: the drift warning is an aid only; see the note   */
+/* at the top of this file.                                                */
+/* ======================================================================== */
+
+#define FXS_TRACK_SLOTS 4          /* tracks one fxs_tracker holds */
+#define FXS_TRACK_MAX_DETECTIONS 8 /* most detections per update */
+#define FXS_TRACK_WORDS 18         /* words of one slot's state */
+
+/* A tracker (Tracker<4, 8>), held by value: FXS_TRACKER_SIZE bytes,
+ * aligned to FXS_OBJECT_ALIGN, borrows nothing. */
+typedef union fxs_tracker {
+    uint8_t bytes[FXS_TRACKER_SIZE];
+    uint64_t align_;
+} fxs_tracker;
+
+typedef struct fxs_track_axis_noise {
+    uint32_t meas_var;         /* measurement variance R, 1..2^24 units^2 */
+    uint32_t accel_index_q16;  /* tracking index squared, Q16, 0..2^24 */
+    uint32_t init_vel_var_q16; /* new-track velocity variance / R, Q16, 0..2^28 */
+} fxs_track_axis_noise;
+
+typedef struct fxs_track_config {
+    fxs_track_axis_noise rho;   /* units of 1/16 px */
+    fxs_track_axis_noise theta; /* binary-angle units */
+    uint32_t gate_q8;           /* gate on the summed normalised innovation squared, Q8, >= 1 */
+    int32_t confirm_hits;       /* 1..255 */
+    int32_t max_missed;         /* 0..255 */
+    uint32_t birth_weight;      /* smallest weight that starts a track */
+    int32_t reference_x_q4;     /* reference point, Q4, |.| < 2^17 */
+    int32_t reference_y_q4;
+    int32_t warn_horizon;       /* 0..1024 frames */
+    int32_t warn_min_hits;      /* 0..65535 */
+    int32_t warn_raise_frames;  /* 1..255 */
+    int32_t warn_clear_frames;  /* 1..255 */
+} fxs_track_config;
+
+typedef struct fxs_detection {
+    int32_t rho_q4;    /* |rho_q4| < 2^17 */
+    uint16_t theta;    /* 65536 = 180 degrees */
+    uint16_t reserved; /* ignored */
+    uint32_t weight;   /* decides births only */
+} fxs_detection;
+
+typedef struct fxs_frame_report {
+    uint32_t associated;    /* tracks updated by a detection */
+    uint32_t born;          /* tracks started */
+    uint32_t dropped;       /* tracks dropped */
+    int32_t warning_track;  /* id of the warning track, -1 when none */
+    int32_t warning_slot;   /* its slot, -1 when none */
+    int32_t warning_frames; /* frames to the predicted crossing, -1 when none */
+} fxs_frame_report;
+
+/* A tracker with no tracks after checking config (no allocation, no
+ * global state: the whole tracker is in *tracker).
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_BAD_PARAMETER (a setting out of range), FXS_E_OVERLAP. */
+fxs_status fxs_tracker_init(fxs_tracker *tracker, const fxs_track_config *config);
+
+/* Drops every track and the last frame number (the config stays). */
+fxs_status fxs_tracker_reset(fxs_tracker *tracker);
+
+/* One call per frame: frame greater than the last one accepted,
+ * dets[count] with count 0..FXS_TRACK_MAX_DETECTIONS (dets may be NULL
+ * when count is 0); report may be NULL. On an error the tracker is
+ * unchanged.
+ * Errors: FXS_E_FRAME_ORDER, FXS_E_BAD_PARAMETER (count, |rho_q4| >= 2^17),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_tracker_update(fxs_tracker *tracker, uint32_t frame, const fxs_detection *dets,
+                              uintptr_t count, fxs_frame_report *report);
+
+/* The state of slot 0..FXS_TRACK_SLOTS-1 as FXS_TRACK_WORDS int32_t into
+ * words[words_len]: id (-1 for an empty slot, then all 0), confirmed, hits,
+ * missed, side, frames to crossing (-1 none), rho pos, vel, p_pos, p_cross,
+ * p_vel, the same for theta, warn streak, warning frames (-1 none).
+ * Errors: FXS_E_BAD_PARAMETER (slot), FXS_E_NEGATIVE,
+ * FXS_E_BUFFER_TOO_SHORT, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED,
+ * FXS_E_OVERLAP. */
+fxs_status fxs_tracker_slot_words(const fxs_tracker *tracker, int32_t slot, int32_t *words,
+                                  uintptr_t words_len);
+
+/* ======================================================================== */
+/* pipeline: the streamed edge stage (kernel id pipeline.edge_stream)      */
+/* Integer model: README.md "Streamed edge stage"; kernels/src/pipeline.rs */
+/* (fused smoothing + derivative, magnitude, suppression, hysteresis,      */
+/* thinning, one row at a time, bit-identical to the frame kernels).       */
+/* ======================================================================== */
+
+/* Capacities of fxs_edge_stream (EdgeStream<320, 4800, 1024, 4096>). */
+#define FXS_EDGE_STREAM_MAX_WIDTH 320         /* widest frame */
+#define FXS_EDGE_STREAM_MAP_WORDS 4800        /* ceil(width / 16) * height at most this (320 x 240) */
+#define FXS_EDGE_STREAM_BINS 1024             /* histogram bins of the automatic rule */
+#define FXS_EDGE_STREAM_POINT_GRADIENTS 4096  /* candidate gradients stored per frame */
+
+#define FXS_SMOOTHING_NONE 0      /* [1] */
+#define FXS_SMOOTHING_BINOMIAL3 1 /* [1 2 1] / 4 */
+#define FXS_SMOOTHING_BINOMIAL5 2 /* [1 4 6 4 1] / 16 */
+#define FXS_SMOOTHING_BINOMIAL7 3 /* [1 6 15 20 15 6 1] / 64 */
+#define FXS_SMOOTHING_GAUSS7 4    /* [1 14 62 102 62 14 1] / 256 */
+#define FXS_OPERATOR_SOBEL 0
+#define FXS_OPERATOR_SCHARR 1
+#define FXS_MAGNITUDE_L1 0
+#define FXS_MAGNITUDE_L2_APPROX 1
+#define FXS_MAGNITUDE_L2_ROUND 2
+#define FXS_THRESHOLDS_FIXED 0 /* low, high for every frame */
+#define FXS_THRESHOLDS_AUTO 1  /* from each frame's histogram, used for the next */
+#define FXS_THINNING_OFF 0
+#define FXS_THINNING_UNTIL_STABLE 1
+#define FXS_THINNING_AT_MOST 2 /* at most thinning_cap iterations */
+
+/* The whole stream, held by value (FXS_EDGE_STREAM_SIZE bytes, aligned to
+ * FXS_OBJECT_ALIGN; a static is the usual place), borrows nothing. */
+typedef union fxs_edge_stream {
+    uint8_t bytes[FXS_EDGE_STREAM_SIZE];
+    uint64_t align_;
+} fxs_edge_stream;
+
+typedef struct fxs_edge_config {
+    int32_t smoothing;       /* FXS_SMOOTHING_* */
+    int32_t gradient_operator; /* FXS_OPERATOR_* */
+    int32_t frac_bits;       /* fractional bits of gx, gy; at most twice the smoothing shift */
+    int32_t magnitude;       /* FXS_MAGNITUDE_* */
+    int32_t threshold_rule;  /* FXS_THRESHOLDS_* */
+    int32_t low;             /* fixed low, or the first frame's (auto); 1..65535 */
+    int32_t high;            /* fixed high, or the first frame's (auto); low..65535 */
+    int32_t shift;           /* auto: bin width 2^shift, 0..15 */
+    int32_t high_permille;   /* auto: share below high, 1..999 */
+    int32_t low_ratio_u0f16; /* auto: low / high as U0F16 bits, 1..65535 */
+    int32_t thinning;        /* FXS_THINNING_* */
+    int32_t thinning_cap;    /* FXS_THINNING_AT_MOST: 1..65535 */
+} fxs_edge_config;
+
+typedef struct fxs_edge_report {
+    uint32_t width;
+    uint32_t height;             /* rows (fewer than declared for a short frame) */
+    uint16_t low;                /* thresholds used for this frame */
+    uint16_t high;
+    uint16_t next_low;           /* thresholds carried to the next frame */
+    uint16_t next_high;
+    uint32_t threshold_at_limit; /* 1: automatic rule hit a limit */
+    uint32_t candidates;         /* suppressed magnitudes >= low */
+    uint32_t edge_points;        /* after hysteresis and thinning */
+    uint32_t gradients_dropped;  /* candidates beyond FXS_EDGE_STREAM_POINT_GRADIENTS */
+    uint32_t link_edges;         /* hysteresis statistics (fxs_link_stats) */
+    uint32_t link_passes;
+    uint32_t link_deferred;
+    uint32_t link_peak_stack;
+    uint32_t thin_iterations;    /* thinning statistics */
+    uint32_t thin_deleted;
+    uint32_t thin_capped;
+} fxs_edge_report;
+
+typedef struct fxs_edge_point {
+    uint16_t x;
+    uint16_t y;
+    int16_t gx;            /* gradient times 2^frac_bits (0 when not stored) */
+    int16_t gy;
+    uint32_t has_gradient; /* 0 when the frame had more candidates than stored */
+} fxs_edge_point;
+
+/* The demo configuration (fixsight::pipeline::DEMO) into *config. */
+fxs_status fxs_edge_stream_demo_config(fxs_edge_config *config);
+
+/* A stream for width x height frames (width 4..FXS_EDGE_STREAM_MAX_WIDTH,
+ * ceil(width / 16) * height <= FXS_EDGE_STREAM_MAP_WORDS, bins needed by
+ * config <= FXS_EDGE_STREAM_BINS). On an error *stream is left not
+ * initialised.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NEGATIVE,
+ * FXS_E_ZERO_SIZE, FXS_E_TOO_LARGE, FXS_E_BAD_PARAMETER (a setting),
+ * FXS_E_BAD_TAPS, FXS_E_THRESHOLD_ORDER, FXS_E_BUFFER_TOO_SHORT (a
+ * capacity), FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_init(fxs_edge_stream *stream, const fxs_edge_config *config,
+                                int32_t width, int32_t height);
+
+/* Drops the frame in progress (carried thresholds stay). */
+fxs_status fxs_edge_stream_reset(fxs_edge_stream *stream);
+
+/* Pushes the next camera row: row_len == width bytes of 8-bit luma.
+ * *rows_pushed (may be NULL): rows of this frame so far. A push after
+ * finish starts the next frame.
+ * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (all declared rows came),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_push_row(fxs_edge_stream *stream, const uint8_t *row,
+                                    uintptr_t row_len, int32_t *rows_pushed);
+
+/* Ends a frame after all `height` rows; report may be NULL. Points and
+ * edge rows can then be read until the next push.
+ * Errors: FXS_E_ROW_COUNT, FXS_E_STREAM_ORDER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_edge_stream_finish(fxs_edge_stream *stream, fxs_edge_report *report);
+
+/* Ends a frame after fewer rows (at least 1) than declared. */
+fxs_status fxs_edge_stream_finish_short(fxs_edge_stream *stream, fxs_edge_report *report);
+
+/* The finished frame's edge points in raster order, skipping the first
+ * `first`, up to out_len into out; *written is how many.
+ * Errors: FXS_E_STREAM_ORDER (frame not finished), FXS_E_NULL_POINTER,
+ * FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_edge_stream_points(const fxs_edge_stream *stream, uintptr_t first,
+                                  fxs_edge_point *out, uintptr_t out_len, uintptr_t *written);
+
+/* Row y of the finished frame's edge map (255 edge, 0 not) into
+ * out[out_len], out_len >= width.
+ * Errors: FXS_E_STREAM_ORDER, FXS_E_ROW_RANGE, FXS_E_BUFFER_TOO_SHORT,
+ * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_edge_stream_edge_row(const fxs_edge_stream *stream, int32_t y, uint8_t *out,
+                                    uintptr_t out_len);
 
 #ifdef __cplusplus
 }

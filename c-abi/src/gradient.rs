@@ -1,5 +1,5 @@
-//! `fxs_gradient_*`: magnitude and direction of a derivative pair (kernel
-//! ids `gradient.*`), over `fixsight::gradient`. A view of height 1 is the
+//! `fxs_gradient_*`: magnitude, direction and angle of a derivative pair
+//! (kernel ids `gradient.*`), over `fixsight::gradient`. A view of height 1 is the
 //! row form.
 
 use crate::boundary::{disjoint, image, Checked, Desc, FxsI16View, FxsU16ViewMut, FxsU8ViewMut};
@@ -83,4 +83,19 @@ pub unsafe extern "C" fn fxs_gradient_direction(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     finish(unsafe { pair(gx, gy, dir, gradient::direction) })
+}
+
+/// `fxs_gradient_angles`: the angle of each gradient, `uint16_t` binary
+/// angle (65536 = 180 degrees; kernel id `gradient.angles`).
+///
+/// # Safety
+/// See `pair`.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_gradient_angles(
+    gx: *const FxsI16View,
+    gy: *const FxsI16View,
+    angle: *const FxsU16ViewMut,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe { pair(gx, gy, angle, gradient::angles) })
 }

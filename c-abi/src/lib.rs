@@ -20,10 +20,10 @@
 //! | `boundary.rs` | image descriptors, pointer/length/overlap checks, objects in caller storage |
 //! | `<family>.rs` | one file per kernel family, the `fxs_<family>_*` functions |
 //!
-//! Adding a family (say `lines`): `src/lines.rs` with its functions and
-//! storage types, `mod lines;` below, a section `lines` in the header, and
-//! the golden dispatch in `c/golden_run.c`; the header test checks that
-//! header and Rust agree.
+//! Adding a family (say `blobs`): `src/blobs.rs` with its functions and
+//! storage types, `mod blobs;` below, a section `blobs` in the header, the
+//! golden dispatch in `c/golden_run.c` and its bad inputs in
+//! `c/bad_input.c`; the header test checks that header and Rust agree.
 //!
 //! # Safety at the boundary
 //!
@@ -53,9 +53,13 @@ mod boundary;
 mod filter;
 mod gradient;
 mod hysteresis;
+mod lines;
+mod marking;
 mod nms;
+mod pipeline;
 mod status;
 mod thinning;
+mod track;
 mod warp;
 
 #[cfg(test)]

@@ -59,6 +59,18 @@ pub(crate) struct GridObj {
     borrowed: Span,
 }
 
+impl GridObj {
+    /// The checked grid.
+    pub(crate) fn grid(&self) -> &ControlGrid<'static> {
+        &self.grid
+    }
+
+    /// The points or blob the grid borrows.
+    pub(crate) fn borrowed(&self) -> Span {
+        self.borrowed
+    }
+}
+
 crate::boundary::object_storage!(
     /// `fxs_control_grid`: storage for a checked control grid.
     FxsControlGrid for GridObj, tag 0x4658_5732,
