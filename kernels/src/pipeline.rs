@@ -1978,7 +1978,7 @@ fn fused_row<const R: usize, const CAP: usize>(
 }
 
 mod point_job;
-pub use point_job::{centre_line, JobReport, PointJobConfig, EDGES_PER_FRAME};
+pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME};
 
 /// The whole job in point mode: camera rows in; at the end of the frame
 /// edge points corrected through the lens grid, line votes, peaks, the

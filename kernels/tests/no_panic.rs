@@ -339,7 +339,7 @@ mod pipeline_apis {
                 Box::default();
             let _ = j.configure(&job_cfg, w, h);
             // A grid of any size with any points (rejected or accepted).
-            let grid_pts: Vec<i32> = (0..2 * 9 * 9).map(|i| (i as i32).wrapping_mul(amp) >> 20).collect();
+            let grid_pts: Vec<i32> = (0..2 * 9 * 9i32).map(|i| i.wrapping_mul(amp) >> 20).collect();
             let geom = WarpGeometry::new(gw, gh, vw.max(1), vh.max(1), 4);
             let grid = geom.ok().and_then(|g| ControlGrid::new(&grid_pts, g, k).ok());
             for (call, len, v) in calls {

@@ -67,10 +67,10 @@ use crate::opcount::{measure, OpsPerPx};
 use crate::sequence::{Sequence, SequenceSpec, TruthLine, DEMO_SEQUENCE};
 use crate::track::reference::RefTracker;
 use fixsight::lines::{Accumulator, EdgeRow, Peak, VoteParams};
-use fixsight::marking::{self, Candidate, Marking, Polarity};
+use fixsight::marking::{self, Candidate, Polarity};
 use fixsight::pipeline::{
-    centre_line, map_words, DemoPointJobQvga, DemoPointJobVga, EdgeStream, FrameReport, JobReport,
-    PointJobConfig, EDGES_PER_FRAME,
+    centre_line, map_words, tape_detections, DemoPointJobQvga, DemoPointJobVga, EdgeStream,
+    FrameReport, JobReport, PointJobConfig, EDGES_PER_FRAME,
 };
 use fixsight::track::{track_words, Detection, Tracker, TRACK_WORDS};
 use fixsight::warp::ControlGrid;
@@ -109,18 +109,22 @@ fn to_px(c: &Candidate) -> (f64, f64) {
     (c.rho_q4 as f64 / 16.0, c.theta as f64 / 65536.0 * PI)
 }
 
+/// One frame of the fixed run at the bit level: the report, the peaks,
+/// the lines and every track slot's words.
+pub type FrameRecord = (
+    JobReport,
+    Vec<Peak>,
+    Vec<Candidate>,
+    Vec<[i32; TRACK_WORDS]>,
+);
+
 /// The fixed run's frame and its bit-level record.
 pub struct FixedRun {
     /// Per frame.
     pub frames: Vec<JobFrame>,
     /// Per frame: the report, peaks, lines, track words (for the
     /// composition check).
-    pub records: Vec<(
-        JobReport,
-        Vec<Peak>,
-        Vec<Candidate>,
-        Vec<[i32; TRACK_WORDS]>,
-    )>,
+    pub records: Vec<FrameRecord>,
     /// Operations per pixel per frame (mean over the sequence).
     pub ops: OpsPerPx,
 }
@@ -213,18 +217,8 @@ pub fn composed_differences(
         peaks.truncate(n);
         let lines: Vec<Candidate> = peaks.iter().map(|pk| centre_line(&pk.line, w, h)).collect();
         let m = marking::select(&lines, &cfg.marking);
-        let dets: Vec<Detection> = match m {
-            Marking::Found(t) => [t.left, t.right]
-                .iter()
-                .map(|&i| Detection {
-                    rho_q4: lines[i].rho_q4,
-                    theta: lines[i].theta,
-                    weight: lines[i].votes,
-                })
-                .collect(),
-            Marking::NotFound { .. } => vec![],
-        };
-        let tr = tracker.update(k as u32, &dets).map_err(e)?;
+        let (dets, nd) = tape_detections(&m, &lines);
+        let tr = tracker.update(k as u32, &dets[..nd]).map_err(e)?;
         let words: Vec<_> = (0..DEMO_TRACKS)
             .map(|i| track_words(tracker.slot(i)))
             .collect();

@@ -171,6 +171,41 @@ pub fn centre_line(l: &Line, width: usize, height: usize) -> Candidate {
     }
 }
 
+/// The tracker's detections of a frame (rule 6 of [`PointJob`]): the
+/// found tape's left then right edge, `(rho, theta, votes)` of `lines`, in
+/// that order; none when no tape was found. An edge with `|rho| >=`
+/// [`RHO_LIMIT_Q4`] (the tracker's range; a line of points inside a frame
+/// of at most 4096 px never has one) is left out. Returns the array and
+/// how many of it are used.
+///
+/// ```
+/// use fixsight::marking::{Candidate, Marking, Polarity, TapeEdges};
+/// use fixsight::pipeline::tape_detections;
+/// let c = |rho_q4| Candidate { rho_q4, theta: 0, votes: 50, polarity: Polarity::Unknown };
+/// let t = TapeEdges { left: 1, right: 0, near_x_q4: [0, 0], far_x_q4: [0, 0], votes: 100 };
+/// let (d, n) = tape_detections(&Marking::Found(t), &[c(80), c(-80)]);
+/// assert_eq!((n, d[0].rho_q4, d[1].rho_q4), (2, -80, 80));
+/// ```
+pub fn tape_detections(m: &Marking, lines: &[Candidate]) -> ([Detection; EDGES_PER_FRAME], usize) {
+    let mut dets = [Detection::default(); EDGES_PER_FRAME];
+    let mut n = 0;
+    if let Marking::Found(t) = m {
+        for i in [t.left, t.right] {
+            if let Some(c) = lines.get(i) {
+                if c.rho_q4.unsigned_abs() < RHO_LIMIT_Q4 as u32 {
+                    dets[n] = Detection {
+                        rho_q4: c.rho_q4,
+                        theta: c.theta,
+                        weight: c.votes,
+                    };
+                    n += 1;
+                }
+            }
+        }
+    }
+    (dets, n)
+}
+
 impl<
         const W: usize,
         const MAP_WORDS: usize,
@@ -537,22 +572,7 @@ impl<
         }
         self.found = found;
         let marking = marking::select(&self.lines[..found], &self.cfg.marking);
-        let mut dets = [Detection::default(); EDGES_PER_FRAME];
-        let mut n = 0;
-        if let Marking::Found(t) = marking {
-            for i in [t.left, t.right] {
-                if let Some(c) = self.lines.get(i) {
-                    if c.rho_q4.unsigned_abs() < RHO_LIMIT_Q4 as u32 {
-                        dets[n] = Detection {
-                            rho_q4: c.rho_q4,
-                            theta: c.theta,
-                            weight: c.votes,
-                        };
-                        n += 1;
-                    }
-                }
-            }
-        }
+        let (dets, n) = tape_detections(&marking, &self.lines[..found]);
         let frame = self.frame;
         self.frame = self.frame.saturating_add(1);
         let tracker = self.tracker.as_mut().ok_or(Error::StreamOrder {
@@ -682,7 +702,7 @@ mod tests {
     //! The job against the kernels it composes, run one after another.
     extern crate std;
     use super::*;
-    use crate::lines::{Accumulator, EdgeRow, VoteStore};
+    use crate::lines::{EdgeRow, VoteStore};
     use crate::pipeline::{map_words, EdgeConfig, ThresholdRule};
     use crate::warp::WarpGeometry;
     use proptest::prelude::*;
@@ -803,18 +823,8 @@ mod tests {
         peaks.truncate(n);
         let lines: Vec<Candidate> = peaks.iter().map(|p| centre_line(&p.line, vw, vh)).collect();
         let m = marking::select(&lines, &cfg.marking);
-        let dets: Vec<Detection> = match m {
-            Marking::Found(t) => [t.left, t.right]
-                .iter()
-                .map(|&i| Detection {
-                    rho_q4: lines[i].rho_q4,
-                    theta: lines[i].theta,
-                    weight: lines[i].votes,
-                })
-                .collect(),
-            Marking::NotFound { .. } => vec![],
-        };
-        let tr = tracker.update(frame, &dets).unwrap();
+        let (dets, nd) = tape_detections(&m, &lines);
+        let tr = tracker.update(frame, &dets[..nd]).unwrap();
         (acc.points(), acc.skipped(), ungated, peaks, lines, m, tr)
     }
 
