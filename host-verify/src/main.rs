@@ -92,8 +92,8 @@ enum Cmd {
     // The safety note is `after_help`, so both `-h` and `--help` print it
     // and the option list keeps its compact form.
     #[command(
-        after_help = "Not a safety function: the `track.tracker` row measures a drift \
-        warning for a vehicle following floor tape. A vehicle that can hurt people needs \
+        after_help = "Not a safety function: the `track.tracker` and `pipeline.point_job` \
+        rows measure a drift warning for a vehicle following floor tape. A vehicle that can hurt people needs \
         safety-rated sensing and control under the applicable standards (for example ISO \
         3691-4, IEC 61508, ISO 13849) and local regulations."
     )]

@@ -453,6 +453,77 @@ impl VoteParams {
         Ok(())
     }
 
+    /// The gate of a point with gradient angle `angle` (module docs,
+    /// "Orientation gate"), half-width `g`, as a run of **unwrapped**
+    /// columns `(first, count)`: with `o = (angle - g - theta_start) mod
+    /// 2^16`, `first = ceil(o / 2^s)` and `count = floor((o + 2g) / 2^s) + 1
+    /// - first` (the multiples of `2^s` in `[o, o + 2g]`). Unwrapped column
+    /// `j` is column `j mod (65536 >> s)` when that is below `T`.
+    ///
+    /// ```
+    /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
+    /// // Angle 0 (an edge across x): 180 degrees is column 16 of [135, 225).
+    /// let (first, count) = p.gate_run(0, 5461);
+    /// assert_eq!((first, count), (11, 11)); // columns 11..=21: 166 to 194 degrees
+    /// ```
+    pub fn gate_run(&self, angle: u16, g: u16) -> (u32, u32) {
+        let s = self.theta_step_log2.clamp(4, 14);
+        let o = (angle as u32)
+            .wrapping_sub(g as u32)
+            .wrapping_sub(self.theta_start)
+            & (UNITS_180 - 1);
+        let end = o + 2 * g as u32; // inclusive, may pass 2^16
+        let first = (o + (1 << s) - 1) >> s;
+        let last = (end >> s) + 1; // exclusive
+        (first, last - first)
+    }
+
+    /// The gate of `angle` as one byte, for storing per point: bits 7..1
+    /// hold `first mod (65536 >> s)`, bit 0 is `count - floor(2g / 2^s)`
+    /// (0 or 1), with `(first, count)` of [`VoteParams::gate_run`]. Voting
+    /// with the code ([`VoteParams::gate_of_code`]) casts exactly the votes
+    /// of the angle: a run that starts at `65536 >> s` is the run that
+    /// starts at 0, and the run holds either `floor(2g / 2^s)` or one more
+    /// multiples of `2^s`. `None` without a gate, or when
+    /// `theta_step_log2 < 9` (then `first` needs more than 7 bits).
+    ///
+    /// ```
+    /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
+    /// let code = p.gate_code(0).unwrap();
+    /// assert_eq!(p.gate_of_code(code), p.gate_run(0, 5461));
+    /// ```
+    pub fn gate_code(&self, angle: u16) -> Option<u8> {
+        let g = self.gate?;
+        if self.theta_step_log2 < 9 || self.theta_step_log2 > 14 {
+            return None;
+        }
+        let s = self.theta_step_log2;
+        let period = UNITS_180 >> s;
+        let (first, count) = self.gate_run(angle, g);
+        let long = count - ((2 * g as u32) >> s);
+        Some((((first % period) << 1) | (long & 1)) as u8)
+    }
+
+    /// The run `(first, count)` of a [`VoteParams::gate_code`] byte
+    /// (`(0, 0)` without a gate).
+    ///
+    /// ```
+    /// let p = fixsight::lines::VoteParams::DEMO_QVGA;
+    /// assert_eq!(p.gate_of_code(0b0001_0111), (11, 11)); // first 11, long run
+    /// ```
+    pub fn gate_of_code(&self, code: u8) -> (u32, u32) {
+        match self.gate {
+            None => (0, 0),
+            Some(g) => {
+                let s = self.theta_step_log2.clamp(4, 14);
+                (
+                    (code >> 1) as u32,
+                    ((2 * g as u32) >> s) + (code & 1) as u32,
+                )
+            }
+        }
+    }
+
     /// Angle of column `t`, binary angle 360.
     fn column_angle(&self, t: usize) -> u32 {
         (self.theta_start + ((t as u32) << self.theta_step_log2)) & (UNITS_360 - 1)
@@ -1080,26 +1151,16 @@ impl<'a> Accumulator<'a> {
             });
         }
         self.check_row(y, row, w)?;
-        let (ox, oy) = self.origin_q4();
-        let (xm, ym) = (
-            (self.p.width as i32 - 1) * 16,
-            (self.p.height as i32 - 1) * 16,
-        );
         let mut seen = 0u32;
         for x in 0..w {
             if row.edges[x] == 0 {
                 continue;
             }
             seen += 1;
-            let Some((x4, y4)) = correct_point(grid, x, y) else {
-                continue;
-            };
-            if !(0..=xm).contains(&x4) || !(0..=ym).contains(&y4) {
-                self.skipped = self.skipped.saturating_add(1);
-                continue;
+            if let Some((x4, y4)) = self.corrected_q4(grid, x, y) {
+                let (a, wt) = self.angle_weight(row, x);
+                self.vote_q4(x4, y4, a, wt);
             }
-            let (a, wt) = self.angle_weight(row, x);
-            self.vote_q4(x4 - ox, y4 - oy, a, wt);
         }
         tally_scan(w as u32, seen, self.p.gate.is_some());
         // Grid point: 8 multiplies, 10 add/subs, 2 rounding shifts, cell
@@ -1115,6 +1176,35 @@ impl<'a> Accumulator<'a> {
         Ok(())
     }
 
+    /// Raw pixel `(x, y)` through `grid`, in Q4 relative to the origin
+    /// (module docs, "Lens-corrected points"); `None` when the grid has no
+    /// coordinate for it, or when the corrected point lies outside the
+    /// frame (then counted in [`skipped`](Self::skipped)).
+    pub(crate) fn corrected_q4(
+        &mut self,
+        grid: &ControlGrid<'_>,
+        x: usize,
+        y: usize,
+    ) -> Option<(i32, i32)> {
+        let (ox, oy) = self.origin_q4();
+        let (xm, ym) = (
+            (self.p.width as i32 - 1) * 16,
+            (self.p.height as i32 - 1) * 16,
+        );
+        let (x4, y4) = correct_point(grid, x, y)?;
+        if !(0..=xm).contains(&x4) || !(0..=ym).contains(&y4) {
+            self.skipped = self.skipped.saturating_add(1);
+            return None;
+        }
+        Some((x4 - ox, y4 - oy))
+    }
+
+    /// Pixel `(x, y)` in Q4 relative to the origin (no lens correction).
+    pub(crate) fn plain_q4(&self, x: usize, y: usize) -> (i32, i32) {
+        let (ox, oy) = self.origin_q4();
+        ((x as i32) * 16 - ox, (y as i32) * 16 - oy)
+    }
+
     /// Votes a point relative to the origin in every column of its gate.
     #[inline]
     fn vote_q4(&mut self, x4: i32, y4: i32, angle: u16, w: u32) {
@@ -1127,26 +1217,52 @@ impl<'a> Accumulator<'a> {
         match p.gate {
             None => self.vote_columns(0, t_max, x4, y4, w),
             Some(g) => {
-                let s = p.theta_step_log2;
-                // Gate start, counted from the window start, modulo 180 deg.
-                let o = (angle as u32)
-                    .wrapping_sub(g as u32)
-                    .wrapping_sub(p.theta_start)
-                    & (UNITS_180 - 1);
-                let end = o + 2 * g as u32; // inclusive, may pass 2^16
-                let first = |lo: u32| ((lo + (1 << s) - 1) >> s) as usize;
-                let last = |hi: u32| (hi >> s) as usize + 1; // exclusive
-                if end < UNITS_180 {
-                    self.vote_columns(first(o), last(end).min(t_max), x4, y4, w);
-                } else {
-                    self.vote_columns(first(o), last(UNITS_180 - 1).min(t_max), x4, y4, w);
-                    self.vote_columns(0, last(end - UNITS_180).min(t_max), x4, y4, w);
-                }
+                let (first, count) = p.gate_run(angle, g);
+                self.vote_run(first, count, x4, y4, w);
                 // Gate arithmetic: 4 add/subs, 2 masks, 4 shifts, 3 compares.
                 tally(Op::AddSub, 4);
                 tally(Op::Logic, 5);
                 tally(Op::Shift, 4);
                 tally(Op::Branch, 2);
+            }
+        }
+    }
+
+    /// Votes the gate run `first .. first + count` of unwrapped columns
+    /// ([`VoteParams::gate_run`]): column `j` for `j < P`, column `j - P`
+    /// past it (`P = 65536 >> s`, the columns of a half turn), each only
+    /// when below `T`. This is the rule of the module docs: the run
+    /// `[o, o + 2g]` taken modulo `2^16`.
+    #[inline]
+    fn vote_run(&mut self, first: u32, count: u32, x4: i32, y4: i32, w: u32) {
+        let t_max = self.p.theta_bins;
+        let period = UNITS_180 >> self.p.theta_step_log2;
+        let end = first + count;
+        if end <= period {
+            self.vote_columns(first as usize, (end as usize).min(t_max), x4, y4, w);
+        } else {
+            self.vote_columns(first as usize, (period as usize).min(t_max), x4, y4, w);
+            self.vote_columns(0, ((end - period) as usize).min(t_max), x4, y4, w);
+        }
+    }
+
+    /// Votes a point (Q4, relative to the origin) with unit weight through
+    /// a gate code of [`VoteParams::gate_code`]: equal to voting the point
+    /// with any angle of that code. Parameters without a gate vote every
+    /// column whatever the code; gated parameters with no code vote
+    /// nothing.
+    pub(crate) fn vote_coded(&mut self, x4: i32, y4: i32, code: Option<u8>) {
+        match (self.p.gate, code) {
+            (None, _) => self.vote_q4(x4, y4, 0, 1),
+            (Some(_), None) => {}
+            (Some(_), Some(c)) => {
+                self.points = self.points.saturating_add(1);
+                let (first, count) = self.p.gate_of_code(c);
+                self.vote_run(first, count, x4, y4, 1);
+                // Code decoding: 2 shifts, a mask, an add.
+                tally(Op::Shift, 2);
+                tally(Op::Logic, 1);
+                tally(Op::AddSub, 1);
             }
         }
     }
@@ -1424,7 +1540,7 @@ fn tally_scan(w: u32, points: u32, gated: bool) {
 /// assert_eq!(acc.cells().len(), 6432);
 /// # Ok::<(), fixsight::Error>(())
 /// ```
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct VoteStore<const T: usize, const R: usize> {
     cells: [[u16; R]; T],
     trig: [[i16; 2]; T],

@@ -669,6 +669,20 @@ pub type DemoQvga<const CAP: usize> =
 pub type DemoVga<const CAP: usize> =
     EdgeStream<640, { map_words(640, 480) }, { DEMO.bins_needed() }, CAP>;
 
+/// A row step of [`EdgeStream`], as seen by a hook of the crate (the
+/// point-mode job keeps the gradient of each candidate this way).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Stepped {
+    /// Gradient row `y` was formed (it is in the gradient row now) and,
+    /// when `y >= 1`, row `y - 1` was suppressed and classified.
+    Formed(usize),
+    /// The last row `y` was suppressed and classified.
+    LastClassified(usize),
+}
+
+/// A hook called after each row step.
+pub(crate) type StepHook<'h, S> = dyn FnMut(&S, Stepped) + 'h;
+
 /// Rows of the camera ring (the longest fused tap set).
 pub const RING_ROWS: usize = MAX_TAPS;
 
@@ -1139,6 +1153,12 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn commit_row(&mut self) -> Result<usize> {
+        self.commit_row_then(&mut |_, _| {})
+    }
+
+    /// [`EdgeStream::commit_row`], calling `after` once per row step
+    /// ([`Stepped`]) as it happens.
+    pub(crate) fn commit_row_then(&mut self, after: &mut StepHook<'_, Self>) -> Result<usize> {
         self.check_room()?;
         if self.phase == Phase::Done {
             self.phase = Phase::Streaming;
@@ -1148,7 +1168,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             self.hist[..self.bins].fill(0);
         }
         self.pushed += 1;
-        self.advance(self.height);
+        self.advance(self.height, after);
         Ok(self.pushed)
     }
 
@@ -1299,14 +1319,16 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
 
     /// Forms every gradient row and classifies every row that the first
     /// `height` rows allow (all of them when `pushed == height`).
-    fn advance(&mut self, height: usize) {
+    fn advance(&mut self, height: usize, after: &mut StepHook<'_, Self>) {
         let r = self.radius;
         while self.formed < height && self.pushed >= (self.formed + r + 1).min(height) {
             self.step(self.formed, height);
+            after(self, Stepped::Formed(self.formed));
             self.formed += 1;
         }
         if self.pushed == height && self.formed == height && self.classified < height {
             self.classify_last(height);
+            after(self, Stepped::LastClassified(height - 1));
         }
     }
 
@@ -1462,6 +1484,12 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn finish(&mut self) -> Result<FrameReport> {
+        self.finish_then(&mut |_, _| {})
+    }
+
+    /// [`EdgeStream::finish`] with a step hook (see
+    /// [`EdgeStream::commit_row_then`]).
+    pub(crate) fn finish_then(&mut self, after: &mut StepHook<'_, Self>) -> Result<FrameReport> {
         self.check_streaming()?;
         if self.pushed != self.height {
             return Err(Error::RowCount {
@@ -1469,7 +1497,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
                 got: self.pushed,
             });
         }
-        Ok(self.end_frame(self.height))
+        Ok(self.end_frame(self.height, after))
     }
 
     /// Ends the frame after the rows that came (at least one): the result
@@ -1488,13 +1516,21 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn finish_short(&mut self) -> Result<FrameReport> {
+        self.finish_short_then(&mut |_, _| {})
+    }
+
+    /// [`EdgeStream::finish_short`] with a step hook.
+    pub(crate) fn finish_short_then(
+        &mut self,
+        after: &mut StepHook<'_, Self>,
+    ) -> Result<FrameReport> {
         self.check_streaming()?;
         if self.pushed == 0 {
             return Err(Error::StreamOrder {
                 reason: "a frame needs at least one row",
             });
         }
-        Ok(self.end_frame(self.pushed))
+        Ok(self.end_frame(self.pushed, after))
     }
 
     fn check_streaming(&self) -> Result<()> {
@@ -1506,9 +1542,9 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         Ok(())
     }
 
-    fn end_frame(&mut self, h: usize) -> FrameReport {
+    fn end_frame(&mut self, h: usize, after: &mut StepHook<'_, Self>) -> FrameReport {
         // Rows past the last one clamp to it: form and classify the rest.
-        self.advance(h);
+        self.advance(h, after);
         let w = self.width;
         let (mut at_limit, mut next) = (false, self.carried);
         if let ThresholdRule::Auto {
@@ -2032,6 +2068,170 @@ fn fused_row<const R: usize, const CAP: usize>(
     }
 }
 
+mod point_job;
+pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME};
+
+/// The whole job in point mode: camera rows in; at the end of the frame
+/// edge points corrected through the lens grid, line votes, peaks, the
+/// tape's two edges, tracks and the drift warning out; in memory fixed by
+/// the type.
+///
+/// > **Not a safety function.** The drift warning is an aid for a vehicle
+/// > that follows floor tape. It is not developed, assessed or certified
+/// > as a safety function; a vehicle that can hurt people needs
+/// > safety-rated sensing and control under the standards that apply to it
+/// > (for example ISO 3691-4 for driverless industrial trucks, IEC 61508,
+/// > ISO 13849) and local rules, with protective measures that do not
+/// > depend on this software.
+///
+/// * `W`, `MAP_WORDS`, `BINS`: the edge stage's ([`EdgeStream`], which
+///   the job owns with no point gradients);
+/// * `CAP`: candidates per frame whose gate byte is kept (below);
+/// * `T`, `R`: vote columns and rows ([`crate::lines::VoteStore`]);
+/// * `K`: peaks kept per frame (the lines offered to the marking);
+/// * `N`: track slots of the tracker ([`crate::track::Tracker`], fed with
+///   at most [`EDGES_PER_FRAME`] detections per frame).
+///
+/// # What a frame computes, bit for bit
+///
+/// Rows go in as for [`EdgeStream`] ([`PointJob::push_row`], or
+/// [`PointJob::next_row_slot`] and [`PointJob::commit_row`] for a DMA).
+/// [`PointJob::finish`] then gives exactly what these kernels give when run
+/// one after another on the whole frame (a property test checks it on
+/// random frames):
+///
+/// 1. the edge stage: the edge map and each point's `gx, gy` (module docs);
+/// 2. [`crate::lines::Accumulator::vote_row_corrected`] on every row of the
+///    edge map with those gradients, through the correction grid (or
+///    [`crate::lines::Accumulator::vote_row`] without a grid), on an
+///    accumulator fresh for the frame, parameters `vote`;
+/// 3. [`crate::lines::Accumulator::peaks`] with `peaks` and `K` slots;
+/// 4. [`centre_line`] of each peak's line, in peak order: the lines move
+///    from the vote frame's origin to the image centre, the origin of the
+///    marking and the tracker;
+/// 5. [`crate::marking::select`] on those lines with `marking` (no polarity
+///    is known in point mode: the contrast rule is skipped);
+/// 6. [`crate::track::Tracker::update`] with the frame number and, when a
+///    marking was found, its left then its right edge as detections
+///    (`rho`, `theta`, weight = votes); none otherwise, so the tracks
+///    coast. Its report carries the drift warning.
+///
+/// # Point gradients in one byte
+///
+/// Whether a candidate pixel becomes an edge point is known only at the
+/// end of the frame, and the gated vote needs its gradient angle. The job
+/// keeps, for each of the first `CAP` candidates of the frame (raster
+/// order), one byte: the gate code of its angle
+/// ([`crate::lines::VoteParams::gate_code`] of
+/// [`crate::gradient::angle`]`(gx, gy)`), which names the run of columns
+/// the point votes in exactly; the gradient row is held for one row step
+/// (`4 W` bytes) until the row's classes are known. An edge point whose
+/// candidate came past the `CAP`-th casts no vote and is counted
+/// ([`JobReport::ungated`]); only then does the job differ from the
+/// composition above. Without a gate, nothing is kept and `CAP` may be 0.
+///
+/// # Frames
+///
+/// Frame numbers count from 0 at [`PointJob::configure`] and
+/// [`PointJob::reset`], one per finished frame and one per
+/// [`PointJob::drop_frame`] (a skipped number: the tracks coast through
+/// it).
+///
+/// # Memory (counted from the type)
+///
+/// [`PointJob::ram_bytes`] is `size_of::<Self>()`: the edge stage, the
+/// held gradient row `4 W`, the gate bytes `CAP`, the accumulator and its
+/// table `2 T R + 4 T`, `K` peaks and lines, the tracker. For the demo at
+/// 320 x 240 ([`DemoPointJobQvga`]) it is 48 488 bytes, within 48 KiB
+/// (49 152); at 640 x 480 ([`DemoPointJobVga`]) 138 536. The correction
+/// grid is read only and not counted (it can stay in flash: 41 x 31 points
+/// of 8 bytes, 10 168 bytes, for the demo lens at 320 x 240 with step 8).
+///
+/// ```
+/// use fixsight::pipeline::{DemoPointJobQvga, EdgeConfig, PointJobConfig, ThresholdRule, DEMO};
+/// // Fixed thresholds: the synthetic frame below has no noise for the
+/// // automatic rule to work on.
+/// let cfg = PointJobConfig {
+///     edges: EdgeConfig { thresholds: ThresholdRule::Fixed { low: 60, high: 125 }, ..DEMO },
+///     ..PointJobConfig::DEMO_QVGA
+/// };
+/// let mut job: Box<DemoPointJobQvga> = Box::default();
+/// job.configure(&cfg, 320, 240)?;
+/// // A bright tape 20 px wide at the bottom row, its edges meeting on the
+/// // demo horizon (61.875 px above the image centre), on a darker floor.
+/// let px = |x: usize, y: usize| {
+///     let half = 10.0 * (y as f64 - 119.5 + 61.875) / 181.375;
+///     if (x as f64 - 159.5).abs() < half { 220u8 } else { 60 }
+/// };
+/// for frame in 0..3 {
+///     for y in 0..240 {
+///         let row: [u8; 320] = core::array::from_fn(|x| px(x, y));
+///         job.push_row(&row)?;
+///     }
+///     let r = job.finish(None)?;
+///     assert_eq!(r.frame, frame);
+///     let tape = r.marking.found().expect("the tape");
+///     assert!((280..=360).contains(&tape.near_width_q4())); // about 20 px
+/// }
+/// assert_eq!(job.tracker().unwrap().tracks().count(), 2);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug, Clone)]
+pub struct PointJob<
+    const W: usize,
+    const MAP_WORDS: usize,
+    const BINS: usize,
+    const CAP: usize,
+    const T: usize,
+    const R: usize,
+    const K: usize,
+    const N: usize,
+> {
+    cfg: PointJobConfig,
+    configured: bool,
+    stream: EdgeStream<W, MAP_WORDS, BINS, 0>,
+    held: [[i16; 2]; W],
+    codes: [u8; CAP],
+    coded: usize,
+    votes: crate::lines::VoteStore<T, R>,
+    peaks: [crate::lines::Peak; K],
+    lines: [crate::marking::Candidate; K],
+    found: usize,
+    tracker: Option<crate::track::Tracker<N, EDGES_PER_FRAME>>,
+    frame: u32,
+    report: Option<JobReport>,
+}
+
+/// Gate bytes of [`DemoPointJobQvga`]: the demo sequence's frames have up
+/// to about 2 300 candidates once the automatic thresholds settle.
+pub const DEMO_QVGA_CAP: usize = 4096;
+
+/// The demo job at 320 x 240: [`PointJobConfig::DEMO_QVGA`], 32 x 201 vote
+/// cells, 8 peaks, 4 tracks.
+///
+/// ```
+/// assert!(fixsight::pipeline::DemoPointJobQvga::ram_bytes() <= 48 * 1024);
+/// ```
+pub type DemoPointJobQvga =
+    PointJob<320, { map_words(320, 240) }, { DEMO.bins_needed() }, DEMO_QVGA_CAP, 32, 201, 8, 4>;
+
+/// The demo job's types at 640 x 480: four times the gate bytes, vote rows
+/// of 2 px over the half diagonal (`-400..=400` px, 401 rows).
+///
+/// ```
+/// assert!(fixsight::pipeline::DemoPointJobVga::ram_bytes() > 100_000);
+/// ```
+pub type DemoPointJobVga = PointJob<
+    640,
+    { map_words(640, 480) },
+    { DEMO.bins_needed() },
+    { 4 * DEMO_QVGA_CAP },
+    32,
+    401,
+    8,
+    4,
+>;
+
 /// Luma of an RGB565 pixel by the ITU-R BT.601 weights
 /// `Y = 0.299 R + 0.587 G + 0.114 B` in integers:
 ///
@@ -2103,7 +2303,58 @@ mod tests {
 
     const TW: usize = 40;
     const TH: usize = 30;
-    const TBINS: usize = 21_000;
+    /// Histogram bins for every configuration [`config`] draws: the most
+    /// any smoothing, operator, magnitude and `frac_bits <= 2` needs with
+    /// bins of width 1 (the Scharr, L1, 2-bit case needs 24 481; a fixed
+    /// guess of 21 000 once made `configure` refuse a drawn case).
+    const TBINS: usize = most_bins();
+
+    const fn most_bins() -> usize {
+        let sm = [
+            Smoothing::None,
+            Smoothing::Binomial3,
+            Smoothing::Binomial5,
+            Smoothing::Binomial7,
+            Smoothing::Gauss7,
+        ];
+        let ops = [Operator::Sobel, Operator::Scharr];
+        let mags = [Magnitude::L1, Magnitude::L2Approx, Magnitude::L2Round];
+        let mut most = 0;
+        let (mut i, mut j, mut k, mut fb) = (0, 0, 0, 0u8);
+        while i < sm.len() {
+            while j < ops.len() {
+                while k < mags.len() {
+                    while fb <= 2 {
+                        let c = EdgeConfig {
+                            smoothing: sm[i],
+                            operator: ops[j],
+                            frac_bits: fb,
+                            magnitude: mags[k],
+                            thresholds: ThresholdRule::Auto {
+                                shift: 0,
+                                high_permille: 500,
+                                low_ratio_u0f16: 1,
+                                first_low: 1,
+                                first_high: 1,
+                            },
+                            thinning: Thinning::Off,
+                        };
+                        if c.bins_needed() > most {
+                            most = c.bins_needed();
+                        }
+                        fb += 1;
+                    }
+                    fb = 0;
+                    k += 1;
+                }
+                k = 0;
+                j += 1;
+            }
+            j = 0;
+            i += 1;
+        }
+        most
+    }
     type Test<const CAP: usize> = EdgeStream<TW, { map_words(TW, TH) }, TBINS, CAP>;
 
     /// What the whole-frame kernels give, one after another.

@@ -208,11 +208,13 @@ mod warp_apis {
 }
 
 mod pipeline_apis {
+    use fixsight::lines::{PeakParams, VoteParams};
     use fixsight::pipeline::{
-        map_words, EdgeConfig, EdgeStream, Magnitude, Operator, Smoothing, Thinning, ThresholdRule,
-        DEMO,
+        map_words, EdgeConfig, EdgeStream, Magnitude, Operator, PointJob, PointJobConfig,
+        Smoothing, Thinning, ThresholdRule, DEMO,
     };
     use fixsight::thinning;
+    use fixsight::warp::{ControlGrid, WarpGeometry};
     use fixsight::ImageViewMut;
     use proptest::prelude::*;
 
@@ -298,6 +300,64 @@ mod pipeline_apis {
                     let _ = p.count();
                 }
                 let _ = (s.report(), s.thresholds(), s.rows_pushed());
+            }
+        }
+
+        /// The point-mode job: any configuration (edge stage, vote and peak
+        /// settings), size, grid, row form and call order: `Ok` or a typed
+        /// error.
+        #[test]
+        fn point_job_in_any_call_order(cfg in config(), demo in any::<bool>(), w in 0usize..20,
+                                       h in 0usize..14, vw in 0usize..24, vh in 0usize..16,
+                                       start in any::<u32>(), step in 0u32..16, bins in 0usize..80,
+                                       rstep in 0u32..10, rbins in 0usize..40,
+                                       gate in prop::option::of(any::<u16>()),
+                                       weight in prop::option::of(0u32..20), threshold in any::<u16>(),
+                                       gw in 1usize..24, gh in 1usize..16, k in 0u32..8, amp in any::<i32>(),
+                                       calls in prop::collection::vec((0usize..9, 0usize..44, any::<u8>()), 0..40)) {
+            let mut job_cfg = PointJobConfig::DEMO_QVGA;
+            // The demo settings on a vote frame that fits the buffers below.
+            job_cfg.vote = VoteParams { width: w.max(1), height: h.max(1), rho_bins: 41, ..job_cfg.vote };
+            if !demo {
+                job_cfg.edges = cfg;
+                job_cfg.vote = VoteParams {
+                    width: vw,
+                    height: vh,
+                    theta_start: start,
+                    theta_step_log2: step,
+                    theta_bins: bins,
+                    rho_step_log2: rstep,
+                    rho_bins: rbins,
+                    trig_frac_bits: 14,
+                    gate,
+                    weight_shift: weight,
+                };
+                job_cfg.peaks = PeakParams { threshold, radius_theta: 1, radius_rho: 1 };
+            }
+            let _ = job_cfg.check();
+            let mut j: Box<PointJob<16, { map_words(16, 12) }, 600, 32, 64, 41, 4, 2>> =
+                Box::default();
+            let _ = j.configure(&job_cfg, w, h);
+            // A grid of any size with any points (rejected or accepted).
+            let grid_pts: Vec<i32> = (0..2 * 9 * 9i32).map(|i| i.wrapping_mul(amp) >> 20).collect();
+            let geom = WarpGeometry::new(gw, gh, vw.max(1), vh.max(1), 4);
+            let grid = geom.ok().and_then(|g| ControlGrid::new(&grid_pts, g, k).ok());
+            for (call, len, v) in calls {
+                let _ = match call {
+                    0 | 1 => j.push_row(&vec![v; len]),
+                    2 => j.next_row_slot().map(|r| { r.fill(v); r.len() }),
+                    3 => j.commit_row(),
+                    4 => j.finish(grid.as_ref()).map(|r| r.voted as usize),
+                    5 => j.finish_short(grid.as_ref()).map(|r| r.voted as usize),
+                    6 => j.finish(None).map(|r| r.voted as usize),
+                    7 => { j.drop_frame(); Ok(0) }
+                    _ => { j.reset(); Ok(0) }
+                };
+                let _ = (j.report(), j.peaks().len(), j.lines().len(), j.rows_pushed());
+                let _ = j.tracker().map(|t| t.tracks().count());
+                if let Ok(p) = j.edge_stage().points() {
+                    let _ = p.count();
+                }
             }
         }
 

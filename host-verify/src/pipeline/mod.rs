@@ -37,6 +37,8 @@
 //! points, 0 elsewhere), `thresholds` u16 `4 x 1` (low and high used, low
 //! and high carried to the next frame).
 
+pub mod job;
+
 use crate::chain::check::F1_GOAL;
 use crate::chain::reference::{agreement, reference_f64};
 use crate::contract::{Contract, KernelFamily, KernelReport};
@@ -58,7 +60,7 @@ use serde::{Deserialize, Serialize};
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "pipeline",
-    kernels: &[KERNEL],
+    kernels: &[KERNEL, job::JOB_KERNEL],
     composed_on_host: false,
     check,
     golden_cases,
@@ -545,7 +547,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     for p in pr {
         row.fail(p);
     }
-    vec![row]
+    vec![row, job::check_job()]
 }
 
 /// Recomputes a pipeline vector.
@@ -554,6 +556,9 @@ pub fn run_vector(
     params: &serde_json::Value,
     inputs: &[Blob],
 ) -> Result<Vec<Blob>, String> {
+    if kernel == job::JOB_KERNEL {
+        return job::run_job_vector(params, inputs);
+    }
     if kernel != KERNEL {
         return Err(format!("unknown pipeline kernel `{kernel}`"));
     }
@@ -671,6 +676,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         tiny,
         3,
     ));
+    v.extend(job::job_golden_cases());
     v
 }
 
@@ -695,6 +701,15 @@ mod tests {
                 s.name
             );
         }
+        // The whole job on the demo sequence: equal to the kernels composed
+        // in every frame, in 48 KiB, the same first warning as the f64 job.
+        let j = &rows[1];
+        assert_eq!(j.name, job::JOB_KERNEL);
+        assert!(j.pass, "{:?}", j.notes);
+        assert!(j.metrics["ram_bytes_qvga"] <= 48.0 * 1024.0);
+        assert_eq!(j.metrics["warning_frame_delta"], 0.0);
+        assert!(j.metrics["first_warning_fixed"] >= 0.0);
+        assert!(j.metrics["lost_frames_fixed"] < 10.0);
     }
 
     #[test]
@@ -703,6 +718,11 @@ mod tests {
         for c in &cases {
             let got = run_vector(&c.kernel, &c.params, &c.inputs).unwrap();
             assert_eq!(got, c.expected, "{}", c.id);
+            if c.kernel == job::JOB_KERNEL {
+                let p: job::JobParams = serde_json::from_value(c.params.clone()).unwrap();
+                assert_eq!(serde_json::to_value(&p).unwrap(), c.params);
+                continue;
+            }
             let p: StageParams = serde_json::from_value(c.params.clone()).unwrap();
             let cfg = config_of(&p).unwrap();
             assert_eq!(stage_params(&cfg, p.frames, p.height, p.last_rows), p);
@@ -714,5 +734,22 @@ mod tests {
         assert!(run_vector(KERNEL, &bad, &cases[0].inputs)
             .unwrap_err()
             .contains("gauss9"));
+        // The job's vectors: the tape found in the first frame through the
+        // lens; a bad marking limit is named.
+        let lens = cases
+            .iter()
+            .find(|c| c.id.ends_with("aisle-quarter-lens"))
+            .unwrap();
+        let rec = lens.expected[0].to_i32().unwrap();
+        assert_eq!(rec.len(), 4 * job::RECORD_WORDS_PER_FRAME);
+        assert_eq!(
+            rec[9 + 5 * job::VECTOR_PEAKS],
+            1,
+            "marking found in frame 0"
+        );
+        let mut bad = lens.params.clone();
+        bad["marking"][6] = 0.into();
+        let err = run_vector(job::JOB_KERNEL, &bad, &lens.inputs).unwrap_err();
+        assert!(err.contains("near_sep_min_q4"), "{err}");
     }
 }

@@ -85,6 +85,7 @@ kernel_table! {
     "warp.pixel_map" => warp::pixel_map,
     "warp.control_grid" => warp::control_grid,
     "pipeline.edge_stream" => pipeline::edge_stream,
+    "pipeline.point_job" => pipeline::point_job,
     "marking.select" => marking::select,
     "track.tracker" => track::tracker,
     "lines.cos_sin" => lines::cos_sin,

@@ -4,6 +4,7 @@
 //! | id | params | inputs | outputs |
 //! |---|---|---|---|
 //! | `pipeline.edge_stream` | the configuration, `frames`, `height`, `last_rows` | `frames` u8 | `edges` u8, `grad` i16 x2, `thresholds` u16 4x1 |
+//! | `pipeline.point_job` | `PointJobConfig::DEMO_QVGA` with the vote, peak, marking and reference fields of `JobParams` (`host-verify/src/pipeline/job.rs`), `frames`, `height`, `grid_log2`, `grid_frac_bits` | `frames` u8, `grid` i32 x2 (with a grid) | `record` i32 |
 //!
 //! The stream lives in a `static` (its buffers are sized by its type, about
 //! 46 KiB here), configured once per call. Bench form (`src/bench.rs`): no
@@ -12,10 +13,14 @@
 //! gradients summed) so the window holds the whole stage per frame.
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
+use fixsight::lines::{PeakParams, VoteParams};
+use fixsight::marking::{MarkingConfig, MarkingLimits, TapeContrast};
 use fixsight::pipeline::{
-    map_words, EdgeConfig, EdgeStream, Magnitude, Operator, Smoothing, ThresholdRule, Thinning,
-    DEMO,
+    map_words, EdgeConfig, EdgeStream, Magnitude, Operator, PointJob, PointJobConfig, Smoothing,
+    Thinning, ThresholdRule, DEMO,
 };
+use fixsight::track::track_words;
+use fixsight::warp::{ControlGrid, WarpGeometry};
 
 /// The stream the harness runs: QVGA, histogram bins for every
 /// configuration of the vectors, 4096 point gradients.
@@ -101,7 +106,9 @@ pub fn edge_stream(
         _ => return Err(Fail::Harness("frames must be u8")),
     };
     if frames == 0 || last_rows == 0 || last_rows > height || src.height != frames * height {
-        return Err(Fail::Harness("frames, height and last_rows do not fit the input"));
+        return Err(Fail::Harness(
+            "frames, height and last_rows do not fit the input",
+        ));
     }
     s.configure(&cfg, w, height)?;
     let mut report = None;
@@ -154,18 +161,196 @@ pub fn edge_stream(
             o.fill(0);
             for pt in s.points()? {
                 let i = 2 * (pt.y as usize * w + pt.x as usize);
-                let (gx, gy) = pt.gradient.ok_or(Fail::Harness("point gradient not stored"))?;
+                let (gx, gy) = pt
+                    .gradient
+                    .ok_or(Fail::Harness("point gradient not stored"))?;
                 o[i] = gx;
                 o[i + 1] = gy;
             }
         }
-        _ => return Err(Fail::Harness("grad output must be i16 x2, width x last_rows")),
+        _ => {
+            return Err(Fail::Harness(
+                "grad output must be i16 x2, width x last_rows",
+            ))
+        }
     }
     match &mut output(outs, 2)?.buf {
         Buf::U16(o) if o.len() == 4 => {
             o.copy_from_slice(&t);
             Ok(())
         }
-        _ => Err(Fail::Harness("thresholds output must be u16 with 4 elements")),
+        _ => Err(Fail::Harness(
+            "thresholds output must be u16 with 4 elements",
+        )),
     }
+}
+
+/// The job the harness runs (as `VectorJob` of the host): frames up to
+/// QVGA, 1024 histogram bins, 4096 gate bytes, 32 x 255 vote cells, 8 peak
+/// and 4 track slots.
+type HarnessJob = PointJob<320, { map_words(320, 240) }, 1024, 4096, 32, 255, 8, 4>;
+
+static mut JOB: HarnessJob = HarnessJob::new();
+
+/// Peak slots of [`HarnessJob`].
+const PEAKS: usize = 8;
+/// Track slots of [`HarnessJob`].
+const TRACKS: usize = 4;
+/// Words per frame of the `record` output.
+const WORDS: usize =
+    9 + 5 * PEAKS + fixsight::marking::RECORD_WORDS + 6 + TRACKS * fixsight::track::TRACK_WORDS;
+
+/// The configuration a `pipeline.point_job` vector names.
+fn job_config(p: &Params, width: usize, height: usize) -> Result<PointJobConfig, Fail> {
+    let mut c = PointJobConfig::DEMO_QVGA;
+    let gate: u16 = int(p, "gate")?;
+    c.vote = VoteParams {
+        width,
+        height,
+        theta_start: int(p, "theta_start")?,
+        theta_step_log2: int(p, "theta_step_log2")?,
+        theta_bins: int(p, "theta_bins")?,
+        rho_step_log2: int(p, "rho_step_log2")?,
+        rho_bins: int(p, "rho_bins")?,
+        gate: (gate != 0).then_some(gate),
+        ..c.vote
+    };
+    let r: usize = int(p, "peak_radius")?;
+    c.peaks = PeakParams {
+        threshold: int(p, "peak_threshold")?,
+        radius_theta: r,
+        radius_rho: r,
+    };
+    let m = p.ints("marking")?;
+    let q = |i: usize| -> Result<i32, Fail> {
+        m.get(i)
+            .and_then(|&v| i32::try_from(v).ok())
+            .ok_or(Fail::Param("marking"))
+    };
+    c.marking = MarkingConfig::new(MarkingLimits {
+        near_row_q4: q(0)?,
+        far_row_q4: q(1)?,
+        horizon_row_q4: q(2)?,
+        max_tilt: u16::try_from(q(3)?).map_err(|_| Fail::Param("marking"))?,
+        near_x_min_q4: q(4)?,
+        near_x_max_q4: q(5)?,
+        near_sep_min_q4: q(6)?,
+        near_sep_nominal_q4: q(7)?,
+        near_sep_max_q4: q(8)?,
+        converge_tol_q4: q(9)?,
+        contrast: TapeContrast::Brighter,
+    })?;
+    let rf = p.ints("reference")?;
+    let (Some(&rx), Some(&ry)) = (rf.first(), rf.get(1)) else {
+        return Err(Fail::Param("reference"));
+    };
+    c.track.reference_q4 = (
+        i32::try_from(rx).map_err(|_| Fail::Param("reference"))?,
+        i32::try_from(ry).map_err(|_| Fail::Param("reference"))?,
+    );
+    c.track.rho.meas_var = int(p, "rho_meas_var")?;
+    Ok(c)
+}
+
+/// `pipeline.point_job`: every frame of the input through the job, one
+/// record per frame (layout in `host-verify/src/pipeline/job.rs`).
+pub fn point_job(
+    p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    _arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    // SAFETY: the firmware is single-threaded and no other code touches
+    // JOB; this is its only reference while the call runs.
+    let job: &mut HarnessJob = unsafe { &mut *core::ptr::addr_of_mut!(JOB) };
+    let src = input(ins, 0)?;
+    let frames: usize = int(p, "frames")?;
+    let height: usize = int(p, "height")?;
+    let w = src.width;
+    let data = match &src.buf {
+        Buf::U8(d) => &**d,
+        _ => return Err(Fail::Harness("frames must be u8")),
+    };
+    if frames == 0 || src.height != frames * height {
+        return Err(Fail::Harness("frames and height do not fit the input"));
+    }
+    let cfg = job_config(p, w, height)?;
+    let grid_log2: u32 = int(p, "grid_log2")?;
+    let grid = if grid_log2 == 0 {
+        None
+    } else {
+        let g = input(ins, 1)?;
+        let pts = match &g.buf {
+            Buf::I32(d) => &d[..],
+            _ => return Err(Fail::Harness("grid must be i32")),
+        };
+        let geom = WarpGeometry::new(w, height, w, height, int(p, "grid_frac_bits")?)?;
+        Some(ControlGrid::new(pts, geom, grid_log2)?)
+    };
+    job.configure(&cfg, w, height)?;
+    let out = match &mut output(outs, 0)?.buf {
+        Buf::I32(o) if o.len() == WORDS * frames => o,
+        _ => return Err(Fail::Harness("record output must be i32, words x frames")),
+    };
+    for (f, rec) in out.chunks_exact_mut(WORDS).enumerate() {
+        for y in 0..height {
+            let o = (f * height + y) * w;
+            job.push_row(&data[o..o + w])?;
+        }
+        let r = job.finish(grid.as_ref())?;
+        let mut v = rec.iter_mut();
+        let mut put = |x: i32| {
+            if let Some(d) = v.next() {
+                *d = x;
+            }
+        };
+        for x in [
+            r.frame as i32,
+            r.edges.edge_points as i32,
+            r.edges.candidates as i32,
+            r.edges.thresholds.0 as i32,
+            r.edges.thresholds.1 as i32,
+            r.voted as i32,
+            r.outside as i32,
+            r.ungated as i32,
+            r.peaks as i32,
+        ] {
+            put(x);
+        }
+        for i in 0..PEAKS {
+            let pk = job.peaks().get(i);
+            for x in pk.map_or([0; 5], |p| {
+                [
+                    p.theta_bin as i32,
+                    p.rho_bin as i32,
+                    p.votes as i32,
+                    p.line.rho,
+                    p.line.theta as i32,
+                ]
+            }) {
+                put(x);
+            }
+        }
+        for x in r.marking.record() {
+            put(x);
+        }
+        let wn = r.track.warning;
+        for x in [
+            r.track.associated as i32,
+            r.track.born as i32,
+            r.track.dropped as i32,
+            wn.is_some() as i32,
+            wn.map_or(0, |w| w.track_id as i32),
+            wn.map_or(0, |w| w.frames as i32),
+        ] {
+            put(x);
+        }
+        let t = job.tracker().ok_or(Fail::Harness("no tracker"))?;
+        for i in 0..TRACKS {
+            for x in track_words(t.slot(i)) {
+                put(x);
+            }
+        }
+    }
+    Ok(())
 }

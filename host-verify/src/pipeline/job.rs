@@ -1,0 +1,905 @@
+//! The whole job in point mode (`pipeline.point_job`,
+//! [`fixsight::pipeline::PointJob`]) over the demo sequence: the kernel
+//! against the kernels composed on the host (bit-exact), against an `f64`
+//! reference of the same job, and both against the sequence's truth.
+//!
+//! > **Not a safety function.** The drift warning measured here is an aid;
+//! > a vehicle that can hurt people needs safety-rated sensing and control
+//! > (ISO 3691-4, IEC 61508, ISO 13849) and local rules.
+//!
+//! # The three runs, per frame of "aisle-drift" (96 QVGA frames)
+//!
+//! * **fixed**: [`DemoPointJobQvga`] with [`PointJobConfig::DEMO_QVGA`],
+//!   rows pushed one by one, the demo lens's correction grid
+//!   ([`crate::lines::demo_grid`]: step 8, 5 fractional bits).
+//! * **composed**: the edge stream keeping the gradients of the first
+//!   `DEMO_QVGA_CAP` candidates (the points past them vote in neither), then
+//!   `Accumulator::vote_row_corrected` on every row of its edge map with
+//!   the gradient rows, `peaks`, `centre_line`, `marking::select`,
+//!   `Tracker::update`, one after another. The fixed run must equal it bit
+//!   for bit in every frame (edge report, peaks, lines, marking, tracker
+//!   report and every track's words); a difference fails the row.
+//! * **f64**: the same job in `f64`: the full-`f64` Canny of
+//!   [`crate::chain::reference`] with the thresholds the fixed stage used
+//!   in that frame (so the threshold rule is not what is compared); each
+//!   edge pixel corrected by the lens model itself
+//!   ([`crate::lines::corrected_of`]), gated by the `f64` gradient angle
+//!   `atan2(gy, gx)` of the `f64` Sobel; the `f64` Hough of
+//!   [`crate::lines::hough_f64`] (same bins, continuous gate); peaks by the
+//!   kernel's rule ([`crate::lines::peaks_of`]) refined by the kernel's
+//!   formulas in `f64` without rounding; the centre shift exact; the
+//!   lines rounded to Q4 and binary angle for the `f64` marking
+//!   selection ([`crate::marking::reference::select_f64`]) and the `f64`
+//!   tracker ([`crate::track::reference::RefTracker`]), which take the
+//!   integer line type.
+//!
+//! # Metrics
+//!
+//! * `line_rho_err_px_*`, `line_theta_err_deg_*`: the selected tape edges
+//!   against the truth edges (centre origin), `fixed_` and `f64_` over the
+//!   frames where each found the tape, `fixed_vs_f64_` over the frames
+//!   where both did (max and mean).
+//! * `tracking_err_px_*`: per truth edge, the nearest confirmed track's
+//!   `rho` (its state after the frame), over the frames with a confirmed
+//!   track on both edges: `fixed_` and `f64_`, max and mean.
+//! * `lost_frames_fixed`, `lost_frames_f64`: frames without a marking;
+//!   `occluded_frames`: frames the truth calls occluded.
+//! * `first_warning_fixed`, `first_warning_f64`: first frame with a raised
+//!   drift warning (-1: none); `warning_frame_delta`: their difference in
+//!   frames, the goal is 0; `warning_frames_differ`: frames where one run
+//!   warns and the other does not; `truth_crossing_frame`.
+//! * `ram_bytes_qvga`, `ram_bytes_vga`: [`DemoPointJobQvga::ram_bytes`],
+//!   [`DemoPointJobVga::ram_bytes`] (`size_of` of the types, all the
+//!   working memory the caller provides; the grid stays in flash);
+//!   `grid_bytes`: the correction grid's table.
+//! * `ungated_points_max`: edge points past the gate-byte capacity in the
+//!   worst frame; `candidates_max`.
+
+use crate::chain::reference::{gaussian_f64, reference_f64, sobel_f64};
+use crate::contract::{Contract, KernelFamily, KernelReport};
+use crate::golden::{Blob, GoldenCase};
+use crate::lines::{
+    build_correction_grid, corrected_of, hough_f64, peaks_of, GRID_FRAC_BITS, GRID_LOG2,
+};
+use crate::marking::reference::select_f64;
+use crate::metrics::ErrorStats;
+use crate::opcount::{measure, OpsPerPx};
+use crate::sequence::{Sequence, SequenceSpec, TruthLine, DEMO_SEQUENCE};
+use crate::track::reference::RefTracker;
+use fixsight::lines::{Accumulator, EdgeRow, Peak, VoteParams};
+use fixsight::marking::{self, Candidate, Polarity};
+use fixsight::pipeline::{
+    centre_line, map_words, tape_detections, DemoPointJobQvga, DemoPointJobVga, EdgeStream,
+    FrameReport, JobReport, PointJobConfig, EDGES_PER_FRAME,
+};
+use fixsight::track::{track_words, Detection, Tracker, TRACK_WORDS};
+use fixsight::warp::ControlGrid;
+use std::f64::consts::PI;
+
+/// The kernel id: the job type [`fixsight::pipeline::PointJob`].
+pub const JOB_KERNEL: &str = "pipeline.point_job";
+
+/// Track slots of the demo job ([`DemoPointJobQvga`]).
+pub const DEMO_TRACKS: usize = 4;
+/// Peak slots of the demo job.
+pub const DEMO_PEAKS: usize = 8;
+
+/// The edge stream of the composition: the demo QVGA stage keeping the
+/// gradients of as many candidates as the job keeps gate bytes (a point
+/// past them casts no vote in either).
+type CapStage = EdgeStream<320, { map_words(320, 240) }, 925, DEMO_CAP>;
+
+/// One frame's outcome, in the units every run can give: lines about the
+/// image centre in pixels and radians.
+#[derive(Debug, Clone, Default)]
+pub struct JobFrame {
+    /// The tape's left and right edge `(rho px, theta rad)`, if found.
+    pub tape: Option<[(f64, f64); 2]>,
+    /// Confirmed tracks `(rho px, theta rad)`.
+    pub tracks: Vec<(f64, f64)>,
+    /// The raised drift warning (frames to the crossing).
+    pub warning: Option<u16>,
+}
+
+fn e(err: fixsight::Error) -> String {
+    err.to_string()
+}
+
+fn to_px(c: &Candidate) -> (f64, f64) {
+    (c.rho_q4 as f64 / 16.0, c.theta as f64 / 65536.0 * PI)
+}
+
+/// One frame of the fixed run at the bit level: the report, the peaks,
+/// the lines and every track slot's words.
+pub type FrameRecord = (
+    JobReport,
+    Vec<Peak>,
+    Vec<Candidate>,
+    Vec<[i32; TRACK_WORDS]>,
+);
+
+/// The fixed run's frame and its bit-level record.
+pub struct FixedRun {
+    /// Per frame.
+    pub frames: Vec<JobFrame>,
+    /// Per frame: the report, peaks, lines, track words (for the
+    /// composition check).
+    pub records: Vec<FrameRecord>,
+    /// Operations per pixel per frame (mean over the sequence).
+    pub ops: OpsPerPx,
+}
+
+/// Runs the kernel job over `frames` (rendered frames of `w x h`).
+pub fn run_fixed(frames: &[Vec<u8>], grid: &ControlGrid<'_>) -> Result<FixedRun, String> {
+    let cfg = PointJobConfig::DEMO_QVGA;
+    let mut job: Box<DemoPointJobQvga> = Box::default();
+    let (w, h) = (cfg.vote.width, cfg.vote.height);
+    job.configure(&cfg, w, h).map_err(e)?;
+    let mut out = Vec::new();
+    let mut records = Vec::new();
+    let (res, ops) = measure(w * h * frames.len(), || -> Result<(), String> {
+        for img in frames {
+            for r in img.chunks_exact(w) {
+                job.push_row(r).map_err(e)?;
+            }
+            let rep = job.finish(Some(grid)).map_err(e)?;
+            let tape = rep
+                .marking
+                .found()
+                .map(|t| [to_px(&job.lines()[t.left]), to_px(&job.lines()[t.right])]);
+            let tr = job.tracker().ok_or("no tracker")?;
+            let tracks = tr
+                .tracks()
+                .filter(|t| t.confirmed)
+                .map(|t| {
+                    (
+                        t.rho.pos as f64 / 256.0 / 16.0,
+                        t.theta.pos as f64 / 256.0 / 65536.0 * PI,
+                    )
+                })
+                .collect();
+            let words = (0..DEMO_TRACKS).map(|i| track_words(tr.slot(i))).collect();
+            out.push(JobFrame {
+                tape,
+                tracks,
+                warning: rep.track.warning.map(|w| w.frames),
+            });
+            records.push((rep, job.peaks().to_vec(), job.lines().to_vec(), words));
+        }
+        Ok(())
+    });
+    res?;
+    Ok(FixedRun {
+        frames: out,
+        records,
+        ops,
+    })
+}
+
+/// The kernels composed one after another (module docs); returns the
+/// differences from the fixed run's records.
+pub fn composed_differences(
+    frames: &[Vec<u8>],
+    grid: &ControlGrid<'_>,
+    fixed: &FixedRun,
+) -> Result<Vec<String>, String> {
+    let cfg = PointJobConfig::DEMO_QVGA;
+    let (w, h) = (cfg.vote.width, cfg.vote.height);
+    let mut stage: Box<CapStage> = Box::default();
+    stage.configure(&cfg.edges, w, h).map_err(e)?;
+    let mut tracker = Tracker::<DEMO_TRACKS, EDGES_PER_FRAME>::new(cfg.track).map_err(e)?;
+    let p = cfg.vote;
+    let mut cells = vec![0u16; p.cells()];
+    let mut trig = vec![[0i16; 2]; p.theta_bins];
+    let mut diffs = Vec::new();
+    for (k, (img, rec)) in frames.iter().zip(&fixed.records).enumerate() {
+        for r in img.chunks_exact(w) {
+            stage.push_row(r).map_err(e)?;
+        }
+        let edges_rep: FrameReport = stage.finish().map_err(e)?;
+        let mut edges = vec![0u8; w * h];
+        let (mut gx, mut gy) = (vec![0i16; w * h], vec![0i16; w * h]);
+        for pt in stage.points().map_err(e)? {
+            let i = pt.y as usize * w + pt.x as usize;
+            let Some((a, b)) = pt.gradient else { continue };
+            edges[i] = 255;
+            gx[i] = a;
+            gy[i] = b;
+        }
+        let mut acc = Accumulator::new(p, &mut cells, &mut trig).map_err(e)?;
+        for y in 0..h {
+            let rr = y * w..(y + 1) * w;
+            let row = EdgeRow::with_gradient(&edges[rr.clone()], &gx[rr.clone()], &gy[rr]);
+            acc.vote_row_corrected(y, &row, grid).map_err(e)?;
+        }
+        let mut peaks = vec![Peak::default(); DEMO_PEAKS];
+        let n = acc.peaks(&cfg.peaks, &mut peaks).map_err(e)?;
+        peaks.truncate(n);
+        let lines: Vec<Candidate> = peaks.iter().map(|pk| centre_line(&pk.line, w, h)).collect();
+        let m = marking::select(&lines, &cfg.marking);
+        let (dets, nd) = tape_detections(&m, &lines);
+        let tr = tracker.update(k as u32, &dets[..nd]).map_err(e)?;
+        let words: Vec<_> = (0..DEMO_TRACKS)
+            .map(|i| track_words(tracker.slot(i)))
+            .collect();
+        let (rep, fpeaks, flines, fwords) = rec;
+        let same = rep.edges == edges_rep
+            && rep.voted == acc.points()
+            && rep.outside == acc.skipped()
+            && *fpeaks == peaks
+            && *flines == lines
+            && rep.marking == m
+            && rep.track == tr
+            && *fwords == words;
+        if !same {
+            diffs.push(format!(
+                "frame {k}: the job differs from the kernels composed"
+            ));
+        }
+    }
+    Ok(diffs)
+}
+
+/// Gate bytes of the demo job.
+pub const DEMO_CAP: usize = fixsight::pipeline::DEMO_QVGA_CAP;
+
+/// The refined line of `f64` peak `(t, b)` by the kernel's refinement
+/// formulas (module docs of `fixsight::lines`) without rounding: binary
+/// angle 360 and `rho` in px, in the vote frame.
+fn refine_f64(p: &VoteParams, cells: &[f64], t: usize, b: usize) -> (f64, f64) {
+    let (tn, r) = (p.theta_bins as i64, p.rho_bins as i64);
+    let wraps = (p.theta_bins << p.theta_step_log2) == 65536;
+    let at = |t: i64, b: i64| -> f64 {
+        let (t, b) = if (0..tn).contains(&t) || !wraps {
+            (t, b)
+        } else {
+            (t.rem_euclid(tn), r - 1 - b)
+        };
+        if (0..tn).contains(&t) && (0..r).contains(&b) {
+            cells[(t * r + b) as usize]
+        } else {
+            0.0
+        }
+    };
+    let step = (1u32 << p.rho_step_log2) as f64 / 16.0;
+    let (ti, bi) = (t as i64, b as i64);
+    let rho_b = (b as f64 - (r as f64 - 1.0) / 2.0) * step;
+    let mass = |u: i64| at(u, bi - 1) + at(u, bi) + at(u, bi + 1);
+    let centroid = |u: i64| {
+        let m = mass(u);
+        if m == 0.0 {
+            rho_b
+        } else {
+            rho_b + (at(u, bi + 1) - at(u, bi - 1)) * step / m
+        }
+    };
+    let (ml, m0, mr) = (mass(ti - 1), mass(ti), mass(ti + 1));
+    let den = 2.0 * (2.0 * m0 - ml - mr);
+    let s = (1u32 << p.theta_step_log2) as f64;
+    let off = if den <= 0.0 {
+        0.0
+    } else {
+        ((mr - ml) * s / den).clamp(-s / 2.0, s / 2.0)
+    };
+    let c0 = centroid(ti);
+    let u = if off > 0.0 { ti + 1 } else { ti - 1 };
+    let rho = if off != 0.0 && u >= 0 && u < tn && mass(u) > 0.0 {
+        c0 + (centroid(u) - c0) * off.abs() / s
+    } else {
+        c0
+    };
+    let a = p.theta_start as f64 + t as f64 * s + off;
+    (a.rem_euclid(131072.0), rho)
+}
+
+/// The `f64` job over `frames` with the thresholds the fixed stage used
+/// per frame (module docs).
+pub fn run_f64(seq: &Sequence, frames: &[Vec<u8>], thresholds: &[(u16, u16)]) -> Vec<JobFrame> {
+    let cfg = PointJobConfig::DEMO_QVGA;
+    let p = cfg.vote;
+    let (w, h) = (p.width, p.height);
+    let (ox, oy) = ((w >> 1) as f64, (h >> 1) as f64);
+    let mut tracker = RefTracker::new(cfg.track, DEMO_TRACKS);
+    let mut out = Vec::new();
+    for (k, (img, &(lo, hi))) in frames.iter().zip(thresholds).enumerate() {
+        let edges = reference_f64(img, w, h, lo as f64, hi as f64);
+        let f: Vec<f64> = img.iter().map(|&v| v as f64).collect();
+        let (gx, gy) = sobel_f64(&gaussian_f64(&f, w, h, 1.0), w, h);
+        let mut pts = Vec::new();
+        for y in 0..h {
+            for x in 0..w {
+                let i = y * w + x;
+                if edges[i] == 0 {
+                    continue;
+                }
+                let Some((cx, cy)) = corrected_of(seq.camera(), seq.view(), x as f64, y as f64)
+                else {
+                    continue;
+                };
+                if !(0.0..=(w - 1) as f64).contains(&cx) || !(0.0..=(h - 1) as f64).contains(&cy) {
+                    continue;
+                }
+                let phi = (gy[i].atan2(gx[i]) / PI * 65536.0).rem_euclid(65536.0);
+                pts.push((cx - ox, cy - oy, phi));
+            }
+        }
+        let cells = hough_f64(&p, &pts);
+        let peaks = peaks_of(&p, &cells, &cfg.peaks, DEMO_PEAKS);
+        let lines: Vec<(f64, f64, f64)> = peaks
+            .iter()
+            .map(|&(t, b, v)| {
+                let (a, rho) = refine_f64(&p, &cells, t, b);
+                let (a, rho) = if a >= 65536.0 {
+                    (a - 65536.0, -rho)
+                } else {
+                    (a, rho)
+                };
+                let th = a / 65536.0 * PI;
+                // From the vote frame's origin to the image centre.
+                let (dx, dy) = (ox - (w as f64 - 1.0) / 2.0, oy - (h as f64 - 1.0) / 2.0);
+                (rho + dx * th.cos() + dy * th.sin(), th, v)
+            })
+            .collect();
+        let cands: Vec<Candidate> = lines
+            .iter()
+            .map(|&(rho, th, v)| {
+                let t = (th / PI * 65536.0).round() as u32;
+                let (t, rho) = if t >= 65536 {
+                    (t - 65536, -rho)
+                } else {
+                    (t, rho)
+                };
+                Candidate {
+                    rho_q4: (rho * 16.0).round() as i32,
+                    theta: t as u16,
+                    votes: v.round() as u32,
+                    polarity: Polarity::Unknown,
+                }
+            })
+            .collect();
+        let m = select_f64(&cands, cfg.marking.limits());
+        let (tape, dets) = match m.pick {
+            Some((l, r)) => (
+                Some([(lines[l].0, lines[l].1), (lines[r].0, lines[r].1)]),
+                [l, r]
+                    .iter()
+                    .map(|&i| Detection {
+                        rho_q4: cands[i].rho_q4,
+                        theta: cands[i].theta,
+                        weight: cands[i].votes,
+                    })
+                    .collect(),
+            ),
+            None => (None, vec![]),
+        };
+        let rep = tracker.update(k as u32, &dets);
+        let tracks = tracker
+            .slots
+            .iter()
+            .flatten()
+            .filter(|t| t.confirmed)
+            .map(|t| (t.rho.x / 16.0, t.theta.x / 65536.0 * PI))
+            .collect();
+        out.push(JobFrame {
+            tape,
+            tracks,
+            warning: rep.warning.map(|w| w.frames),
+        });
+    }
+    out
+}
+
+/// `(|d rho| px, |d theta| deg)` between two lines `(rho px, theta rad)`
+/// with `theta` in `[0, pi)`, taking `(rho, theta)` and `(-rho, theta +-
+/// pi)` as the same line.
+pub fn line_err(a: (f64, f64), b: (f64, f64)) -> (f64, f64) {
+    let mut d = a.1 - b.1;
+    let mut rho_b = b.0;
+    if d > PI / 2.0 {
+        d -= PI;
+        rho_b = -rho_b;
+    } else if d < -PI / 2.0 {
+        d += PI;
+        rho_b = -rho_b;
+    }
+    ((a.0 - rho_b).abs(), d.abs().to_degrees())
+}
+
+fn truth_px(t: &TruthLine) -> (f64, f64) {
+    (t.rho, t.theta)
+}
+
+/// Max and mean, `(0, 0)` when empty.
+fn max_mean(v: &[f64]) -> (f64, f64) {
+    if v.is_empty() {
+        return (0.0, 0.0);
+    }
+    (
+        v.iter().copied().fold(0.0, f64::max),
+        v.iter().sum::<f64>() / v.len() as f64,
+    )
+}
+
+/// The whole comparison over a sequence spec (the demo's in the report).
+pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
+    let seq = Sequence::new(spec)?;
+    let (w, h) = (spec.width, spec.height);
+    let cg = build_correction_grid(
+        seq.camera(),
+        seq.view(),
+        (w, h),
+        (w, h),
+        GRID_LOG2,
+        GRID_FRAC_BITS,
+    )?;
+    let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).map_err(e)?;
+    let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
+    let fixed = run_fixed(&frames, &grid)?;
+    let mut pr = composed_differences(&frames, &grid, &fixed)?;
+    let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
+    let reference = run_f64(&seq, &frames, &thresholds);
+    let origin = ((w as f64 - 1.0) / 2.0, (h as f64 - 1.0) / 2.0);
+    let truth: Vec<_> = (0..spec.frames).map(|k| seq.truth(k, origin)).collect();
+    let (mut fr, mut ft, mut rr, mut rt, mut xr, mut xt) =
+        (vec![], vec![], vec![], vec![], vec![], vec![]);
+    let (mut track_f, mut track_r) = (vec![], vec![]);
+    let (mut lost_f, mut lost_r, mut occluded, mut differ) = (0, 0, 0, 0);
+    let (mut first_f, mut first_r) = (None, None);
+    for (k, ((a, b), t)) in fixed.frames.iter().zip(&reference).zip(&truth).enumerate() {
+        occluded += t.occluded() as usize;
+        let tl = [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
+        for (run, rho, th, lost) in [
+            (a, &mut fr, &mut ft, &mut lost_f),
+            (b, &mut rr, &mut rt, &mut lost_r),
+        ] {
+            match run.tape {
+                Some(tape) => {
+                    for i in 0..2 {
+                        let (dr, dt) = line_err(tape[i], tl[i]);
+                        rho.push(dr);
+                        th.push(dt);
+                    }
+                }
+                None => *lost += 1,
+            }
+        }
+        if let (Some(ta), Some(tb)) = (a.tape, b.tape) {
+            for i in 0..2 {
+                let (dr, dt) = line_err(ta[i], tb[i]);
+                xr.push(dr);
+                xt.push(dt);
+            }
+        }
+        for (run, errs) in [(a, &mut track_f), (b, &mut track_r)] {
+            let near: Vec<f64> = tl
+                .iter()
+                .filter_map(|&edge| {
+                    run.tracks
+                        .iter()
+                        .map(|&tr| line_err(tr, edge))
+                        .filter(|&(_, dt)| dt < 10.0)
+                        .map(|(dr, _)| dr)
+                        .min_by(f64::total_cmp)
+                })
+                .collect();
+            if near.len() == 2 {
+                errs.extend(near);
+            }
+        }
+        if a.warning.is_some() != b.warning.is_some() {
+            differ += 1;
+        }
+        if a.warning.is_some() && first_f.is_none() {
+            first_f = Some(k);
+        }
+        if b.warning.is_some() && first_r.is_none() {
+            first_r = Some(k);
+        }
+    }
+    let crossing = crate::sequence::SequenceTruth {
+        frames: truth.clone(),
+    }
+    .crossing();
+    let delta = match (first_f, first_r) {
+        (Some(a), Some(b)) => a.abs_diff(b) as f64,
+        (None, None) => 0.0,
+        _ => spec.frames as f64,
+    };
+    // The row's contract: the job equals the kernels composed, bit for bit
+    // (the samples are the frames; a differing frame counts 1).
+    let flags: Vec<f64> = (0..spec.frames)
+        .map(|k| pr.iter().any(|d| d.starts_with(&format!("frame {k}:"))) as u8 as f64)
+        .collect();
+    let stats = ErrorStats::compare(&flags, &vec![0.0; flags.len()], 1.0);
+    let mut row = KernelReport::from_stats(
+        JOB_KERNEL,
+        KernelFamily::Pipeline,
+        Contract::BitExact,
+        0.0,
+        &stats,
+        fixed.ops,
+    );
+    row.notes.push(format!(
+        "whole job in point mode over the {} sequence ({} frames {}x{}): the kernel vs the kernels composed, frame by frame; f64 and truth figures in metrics",
+        spec.name, spec.frames, w, h
+    ));
+    row.notes.push("ops per pixel per frame: the whole job (edge stage, gate bytes, votes, peaks, marking, tracker)".into());
+    if delta != 0.0 {
+        row.notes.push(format!(
+            "GOAL NOT MET: warning_frame_delta {delta} (goal 0)"
+        ));
+    }
+    let m = &mut row.metrics;
+    let mut put = |k: &str, v: f64| {
+        m.insert(k.into(), v);
+    };
+    for (name, v) in [
+        ("line_rho_err_px_fixed", &fr),
+        ("line_theta_err_deg_fixed", &ft),
+        ("line_rho_err_px_f64", &rr),
+        ("line_theta_err_deg_f64", &rt),
+        ("line_rho_err_px_fixed_vs_f64", &xr),
+        ("line_theta_err_deg_fixed_vs_f64", &xt),
+        ("tracking_err_px_fixed", &track_f),
+        ("tracking_err_px_f64", &track_r),
+    ] {
+        let (mx, mean) = max_mean(v);
+        put(&format!("{name}_max"), mx);
+        put(&format!("{name}_mean"), mean);
+    }
+    let first = |f: Option<usize>| f.map_or(-1.0, |v| v as f64);
+    put("lost_frames_fixed", lost_f as f64);
+    put("lost_frames_f64", lost_r as f64);
+    put("occluded_frames", occluded as f64);
+    put("first_warning_fixed", first(first_f));
+    put("first_warning_f64", first(first_r));
+    put("warning_frame_delta", delta);
+    put("warning_frames_differ", differ as f64);
+    put("truth_crossing_frame", first(crossing.map(|c| c.frame)));
+    put("ram_bytes_qvga", DemoPointJobQvga::ram_bytes() as f64);
+    put("ram_bytes_vga", DemoPointJobVga::ram_bytes() as f64);
+    put("grid_bytes", (cg.points.len() * 4) as f64);
+    put("gate_bytes", DEMO_CAP as f64);
+    let cands = fixed
+        .records
+        .iter()
+        .map(|r| r.0.edges.candidates)
+        .max()
+        .unwrap_or(0);
+    let ungated = fixed.records.iter().map(|r| r.0.ungated).max().unwrap_or(0);
+    put("candidates_max", cands as f64);
+    put("ungated_points_max", ungated as f64);
+    put("frames", spec.frames as f64);
+    for p in pr.drain(..) {
+        row.fail(p);
+    }
+    Ok(row)
+}
+
+/// The report row on the demo sequence.
+pub fn check_job() -> KernelReport {
+    match job_row(&DEMO_SEQUENCE) {
+        Ok(r) => r,
+        Err(why) => {
+            let mut r = KernelReport::from_stats(
+                JOB_KERNEL,
+                KernelFamily::Pipeline,
+                Contract::BitExact,
+                0.0,
+                &ErrorStats::compare(&[1.0], &[0.0], 1.0),
+                OpsPerPx::default(),
+            );
+            r.fail(why);
+            r
+        }
+    }
+}
+
+/// Peak slots of the golden vectors' job (and of the harness's).
+pub const VECTOR_PEAKS: usize = 8;
+/// Track slots of the golden vectors' job.
+pub const VECTOR_TRACKS: usize = 4;
+/// Words per frame of the `record` output (module docs of
+/// [`JobParams`]).
+pub const RECORD_WORDS_PER_FRAME: usize =
+    9 + 5 * VECTOR_PEAKS + marking::RECORD_WORDS + 6 + VECTOR_TRACKS * TRACK_WORDS;
+
+/// Parameters of a `pipeline.point_job` vector. The configuration is
+/// [`PointJobConfig::DEMO_QVGA`] with these fields replaced: the vote
+/// frame `width x height` (the input's width, `height`), `theta_start`,
+/// `theta_step_log2`, `theta_bins`, `rho_step_log2`, `rho_bins`, `gate`
+/// (0: none); the peak `peak_threshold` and `peak_radius` (both radii);
+/// the marking limits `marking` (`near_row`, `far_row`, `horizon_row`,
+/// `max_tilt`, `near_x_min`, `near_x_max`, `near_sep_min`,
+/// `near_sep_nominal`, `near_sep_max`, `converge_tol`, Q4; a brighter
+/// tape); the tracker's `reference` point (Q4) and `rho_meas_var`. The
+/// frames pass the demo lens's correction grid, input `grid` (i32, 2
+/// channels, `cols x rows`, `grid_log2`, `grid_frac_bits`), or none when
+/// `grid_log2` is 0. The job has 8 peak slots and 4 track slots.
+///
+/// Inputs: `frames` u8, `width x (frames * height)`; `grid`. Output
+/// `record` i32, `RECORD_WORDS_PER_FRAME x frames`, per frame: frame
+/// number, edge points, candidates, thresholds low and high, voted,
+/// outside, ungated, peaks found; 8 peaks `(theta_bin, rho_bin, votes,
+/// rho, theta)` (zeros past the found ones); the marking record
+/// ([`Marking::record`]); the tracker's report `(associated, born,
+/// dropped, warning present, warning track id, warning frames)`; the 4
+/// slots' [`track_words`].
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct JobParams {
+    /// Frames stacked in the input.
+    pub frames: usize,
+    /// Height of one frame.
+    pub height: usize,
+    /// Vote column 0, binary angle 360.
+    pub theta_start: u32,
+    /// Column step log2.
+    pub theta_step_log2: u32,
+    /// Columns.
+    pub theta_bins: usize,
+    /// Row step log2.
+    pub rho_step_log2: u32,
+    /// Rows (odd).
+    pub rho_bins: usize,
+    /// Gate half-width, 0 for none.
+    pub gate: u16,
+    /// Peak threshold.
+    pub peak_threshold: u16,
+    /// Peak suppression radius (both axes).
+    pub peak_radius: usize,
+    /// Marking limits, Q4 (see above).
+    pub marking: Vec<i32>,
+    /// Tracker reference point, Q4.
+    pub reference: Vec<i32>,
+    /// Tracker rho measurement variance.
+    pub rho_meas_var: u32,
+    /// Grid step log2, 0 without a grid.
+    pub grid_log2: u32,
+    /// Grid fractional bits.
+    pub grid_frac_bits: u32,
+}
+
+/// The configuration a vector names.
+pub fn job_config(p: &JobParams, width: usize) -> Result<PointJobConfig, String> {
+    let mut c = PointJobConfig::DEMO_QVGA;
+    c.vote = VoteParams {
+        width,
+        height: p.height,
+        theta_start: p.theta_start,
+        theta_step_log2: p.theta_step_log2,
+        theta_bins: p.theta_bins,
+        rho_step_log2: p.rho_step_log2,
+        rho_bins: p.rho_bins,
+        gate: (p.gate != 0).then_some(p.gate),
+        ..c.vote
+    };
+    c.peaks = fixsight::lines::PeakParams {
+        threshold: p.peak_threshold,
+        radius_theta: p.peak_radius,
+        radius_rho: p.peak_radius,
+    };
+    let m: [i32; 10] = p
+        .marking
+        .as_slice()
+        .try_into()
+        .map_err(|_| "marking needs 10 limits".to_string())?;
+    c.marking = fixsight::marking::MarkingConfig::new(fixsight::marking::MarkingLimits {
+        near_row_q4: m[0],
+        far_row_q4: m[1],
+        horizon_row_q4: m[2],
+        max_tilt: u16::try_from(m[3]).map_err(|_| "max_tilt out of range")?,
+        near_x_min_q4: m[4],
+        near_x_max_q4: m[5],
+        near_sep_min_q4: m[6],
+        near_sep_nominal_q4: m[7],
+        near_sep_max_q4: m[8],
+        converge_tol_q4: m[9],
+        contrast: fixsight::marking::TapeContrast::Brighter,
+    })
+    .map_err(e)?;
+    let r: [i32; 2] = p
+        .reference
+        .as_slice()
+        .try_into()
+        .map_err(|_| "reference needs 2 values".to_string())?;
+    c.track.reference_q4 = (r[0], r[1]);
+    c.track.rho.meas_var = p.rho_meas_var;
+    c.check().map_err(e)?;
+    Ok(c)
+}
+
+/// The golden vectors' job type (as the harness's).
+pub type VectorJob = fixsight::pipeline::PointJob<
+    320,
+    { map_words(320, 240) },
+    1024,
+    4096,
+    32,
+    255,
+    VECTOR_PEAKS,
+    VECTOR_TRACKS,
+>;
+
+/// The record of one frame (see [`JobParams`]).
+pub fn frame_record(job: &VectorJob, r: &JobReport) -> Vec<i32> {
+    let mut v = vec![
+        r.frame as i32,
+        r.edges.edge_points as i32,
+        r.edges.candidates as i32,
+        r.edges.thresholds.0 as i32,
+        r.edges.thresholds.1 as i32,
+        r.voted as i32,
+        r.outside as i32,
+        r.ungated as i32,
+        r.peaks as i32,
+    ];
+    for i in 0..VECTOR_PEAKS {
+        match job.peaks().get(i) {
+            Some(p) => v.extend([
+                p.theta_bin as i32,
+                p.rho_bin as i32,
+                p.votes as i32,
+                p.line.rho,
+                p.line.theta as i32,
+            ]),
+            None => v.extend([0; 5]),
+        }
+    }
+    v.extend(r.marking.record());
+    let w = r.track.warning;
+    v.extend([
+        r.track.associated as i32,
+        r.track.born as i32,
+        r.track.dropped as i32,
+        w.is_some() as i32,
+        w.map_or(0, |w| w.track_id as i32),
+        w.map_or(0, |w| w.frames as i32),
+    ]);
+    if let Some(t) = job.tracker() {
+        for i in 0..VECTOR_TRACKS {
+            v.extend(track_words(t.slot(i)));
+        }
+    }
+    v
+}
+
+/// Recomputes a `pipeline.point_job` vector.
+pub fn run_job_vector(params: &serde_json::Value, inputs: &[Blob]) -> Result<Vec<Blob>, String> {
+    let p: JobParams = crate::family::parse_params(JOB_KERNEL, params)?;
+    let b = crate::family::input(inputs, "frames")?;
+    if p.frames.checked_mul(p.height) != Some(b.height) || p.frames == 0 {
+        return Err(format!(
+            "frames input is {} rows high, {} x {} expected",
+            b.height, p.frames, p.height
+        ));
+    }
+    let w = b.width;
+    let cfg = job_config(&p, w)?;
+    let pts;
+    let grid = if p.grid_log2 == 0 {
+        None
+    } else {
+        let g = crate::family::input(inputs, "grid")?;
+        pts = g.to_i32()?;
+        let geom = fixsight::warp::WarpGeometry::new(w, p.height, w, p.height, p.grid_frac_bits)
+            .map_err(e)?;
+        Some(ControlGrid::new(&pts, geom, p.grid_log2).map_err(e)?)
+    };
+    let mut job: Box<VectorJob> = Box::default();
+    job.configure(&cfg, w, p.height).map_err(e)?;
+    let data = b.to_u8()?;
+    let mut rec = Vec::new();
+    for f in 0..p.frames {
+        for y in 0..p.height {
+            let o = (f * p.height + y) * w;
+            job.push_row(&data[o..o + w]).map_err(e)?;
+        }
+        let r = job.finish(grid.as_ref()).map_err(e)?;
+        rec.extend(frame_record(&job, &r));
+    }
+    Ok(vec![Blob::from_i32(
+        "record",
+        RECORD_WORDS_PER_FRAME,
+        p.frames,
+        1,
+        &rec,
+    )])
+}
+
+/// `v / d` rounded half away from zero.
+fn div_round(v: i32, d: i32) -> i32 {
+    let q = (v.abs() + d / 2) / d;
+    if v < 0 {
+        -q
+    } else {
+        q
+    }
+}
+
+/// The golden cases: four consecutive frames of the demo sequence rendered
+/// at a quarter of its size (80 x 60, frames 52..56 of "aisle-drift", the
+/// reference point nearing the right edge) through the demo lens's grid
+/// at that size, with the demo configuration scaled to it (vote rows
+/// `-50..=50` px, peak threshold 160 = 640 / 4, marking limits and
+/// reference point divided by 4, rho variance by 16); and the same frames
+/// without a grid and without a gate.
+pub fn job_golden_cases() -> Vec<GoldenCase> {
+    let (w, h, first, n) = (80usize, 60usize, 52usize, 4usize);
+    let spec = SequenceSpec {
+        width: w,
+        height: h,
+        ..DEMO_SEQUENCE
+    };
+    let seq = Sequence::new(&spec).expect("the demo sequence at 80 x 60");
+    let frames: Vec<u8> = (first..first + n).flat_map(|k| seq.render(k)).collect();
+    let cg = build_correction_grid(seq.camera(), seq.view(), (w, h), (w, h), 2, GRID_FRAC_BITS)
+        .expect("a grid for the demo lens at 80 x 60");
+    let l = PointJobConfig::DEMO_QVGA.marking;
+    let l = l.limits();
+    // Rows, columns and separations scale with the image; the tilt does not.
+    let q = |v: i32| div_round(v, 4);
+    let marking = vec![
+        q(l.near_row_q4),
+        q(l.far_row_q4),
+        q(l.horizon_row_q4),
+        l.max_tilt as i32,
+        q(l.near_x_min_q4),
+        q(l.near_x_max_q4),
+        q(l.near_sep_min_q4),
+        q(l.near_sep_nominal_q4),
+        q(l.near_sep_max_q4),
+        q(l.converge_tol_q4),
+    ];
+    let d = PointJobConfig::DEMO_QVGA;
+    let base = JobParams {
+        frames: n,
+        height: h,
+        theta_start: d.vote.theta_start,
+        theta_step_log2: d.vote.theta_step_log2,
+        theta_bins: d.vote.theta_bins,
+        rho_step_log2: d.vote.rho_step_log2,
+        rho_bins: 51,
+        gate: d.vote.gate.unwrap_or(0),
+        peak_threshold: d.peaks.threshold / 4,
+        peak_radius: 1,
+        marking,
+        reference: vec![
+            div_round(d.track.reference_q4.0, 4),
+            div_round(d.track.reference_q4.1, 4),
+        ],
+        rho_meas_var: d.track.rho.meas_var / 16,
+        grid_log2: 2,
+        grid_frac_bits: GRID_FRAC_BITS,
+    };
+    let frames_blob = Blob::from_u8("frames", w, n * h, 1, &frames);
+    let grid_blob = Blob::from_i32("grid", cg.grid.0, cg.grid.1, 2, &cg.points);
+    let plain = JobParams {
+        grid_log2: 0,
+        gate: 0,
+        ..base.clone()
+    };
+    let run = |_: &str, p: &serde_json::Value, i: &[Blob]| run_job_vector(p, i);
+    vec![
+        crate::family::case(
+            run,
+            "pipeline.point_job.aisle-quarter-lens",
+            format!(
+                "frames {first}..{} of the demo sequence at {w}x{h}, through the demo lens's grid \
+                 (step 4, F = {GRID_FRAC_BITS}); the demo configuration scaled to a quarter",
+                first + n
+            ),
+            JOB_KERNEL,
+            serde_json::to_value(&base).expect("serialisable"),
+            vec![frames_blob.clone(), grid_blob],
+        ),
+        crate::family::case(
+            run,
+            "pipeline.point_job.aisle-quarter-raw",
+            "the same frames voted at their raw positions (no grid), every column (no gate)".into(),
+            JOB_KERNEL,
+            serde_json::to_value(&plain).expect("serialisable"),
+            vec![frames_blob],
+        ),
+    ]
+}

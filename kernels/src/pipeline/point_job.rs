@@ -1,0 +1,983 @@
+//! The whole job in point mode ([`PointJob`]): its configuration, its
+//! frame report and its rules. The rules are documented on [`PointJob`].
+
+use super::{EdgeStream, FrameReport, PointJob, Stepped, DEMO};
+use crate::arith::round_shift;
+use crate::error::{Error, Result};
+use crate::gradient;
+use crate::hysteresis::NONE;
+use crate::lines::{Line, Peak, PeakParams, VoteParams};
+use crate::marking::{self, sin_cos_q15, Candidate, Marking, MarkingConfig, Polarity};
+use crate::ops::{tally, Op};
+use crate::track::{self, Detection, TrackConfig, Tracker, RHO_LIMIT_Q4};
+use crate::warp::ControlGrid;
+
+/// Every setting of the point-mode job, composed of the settings of its
+/// stages (nothing is repeated: each stage reads its own part).
+///
+/// ```
+/// use fixsight::pipeline::{PointJobConfig, DEMO};
+/// let c = PointJobConfig::DEMO_QVGA;
+/// assert_eq!(c.edges, DEMO);
+/// assert!(c.check().is_ok());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PointJobConfig {
+    /// The edge stage ([`super::EdgeConfig`]).
+    pub edges: super::EdgeConfig,
+    /// Line voting ([`VoteParams`]); its frame is the corrected view.
+    /// Point mode casts unit votes (`weight_shift` must be `None`).
+    pub vote: VoteParams,
+    /// Peak selection ([`PeakParams`]).
+    pub peaks: PeakParams,
+    /// Marking selection ([`MarkingConfig`]).
+    pub marking: MarkingConfig,
+    /// Tracker and drift warning ([`TrackConfig`]).
+    pub track: TrackConfig,
+}
+
+impl PointJobConfig {
+    /// The demo configuration at 320 x 240: the demo constants of every
+    /// stage ([`DEMO`], [`VoteParams::DEMO_QVGA`], [`PeakParams::DEMO`],
+    /// [`MarkingConfig::DEMO`], [`TrackConfig::DEMO`]). The host tool's
+    /// report, the golden vectors and the on-target harness all use this
+    /// constant.
+    ///
+    /// ```
+    /// use fixsight::pipeline::PointJobConfig;
+    /// assert_eq!(PointJobConfig::DEMO_QVGA.vote.width, 320);
+    /// ```
+    pub const DEMO_QVGA: PointJobConfig = PointJobConfig {
+        edges: DEMO,
+        vote: VoteParams::DEMO_QVGA,
+        peaks: PeakParams::DEMO,
+        marking: MarkingConfig::DEMO,
+        track: TrackConfig::DEMO,
+    };
+
+    /// Checks every stage's settings and what point mode adds: unit votes
+    /// (`vote.weight_shift` `None`), a gate code that fits a byte
+    /// (`vote.theta_step_log2 >= 9` when the votes are gated, see
+    /// [`VoteParams::gate_code`]), a peak threshold of at least 1.
+    ///
+    /// ```
+    /// use fixsight::pipeline::PointJobConfig;
+    /// let mut c = PointJobConfig::DEMO_QVGA;
+    /// c.vote.weight_shift = Some(2);
+    /// assert!(c.check().is_err());
+    /// ```
+    pub fn check(&self) -> Result<()> {
+        self.edges.check()?;
+        self.vote.check()?;
+        self.track.validate()?;
+        if let Some(k) = self.vote.weight_shift {
+            return Err(Error::BadParameter {
+                name: "vote.weight_shift",
+                expected: "None (point mode casts unit votes)",
+                got: k as i64,
+            });
+        }
+        if self.vote.gate.is_some() && self.vote.theta_step_log2 < 9 {
+            return Err(Error::BadParameter {
+                name: "vote.theta_step_log2",
+                expected: "9..=14 when the votes are gated (one gate byte per candidate)",
+                got: self.vote.theta_step_log2 as i64,
+            });
+        }
+        if self.peaks.threshold == 0 {
+            return Err(Error::BadParameter {
+                name: "peaks.threshold",
+                expected: "1..=65535",
+                got: 0,
+            });
+        }
+        Ok(())
+    }
+}
+
+/// What one frame of the job gave ([`PointJob::finish`]).
+///
+/// ```
+/// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+/// let mut job: Box<DemoPointJobQvga> = Box::default();
+/// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+/// for _ in 0..240 { job.push_row(&[90u8; 320])?; }
+/// let r = job.finish(None)?;
+/// assert_eq!((r.frame, r.peaks, r.voted), (0, 0, 0)); // a flat frame has no edge
+/// assert!(r.marking.found().is_none() && r.track.warning.is_none());
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct JobReport {
+    /// Frame number given to the tracker (counts finished and dropped
+    /// frames since [`PointJob::configure`] or [`PointJob::reset`]).
+    pub frame: u32,
+    /// The edge stage's report. The gate bytes stand for the point
+    /// gradients: with gated votes `gradients_dropped` counts the
+    /// candidates whose gate byte was not kept (past the `CAP`-th), as an
+    /// [`EdgeStream`] with `CAP` point gradients would; without a gate it
+    /// counts every candidate (nothing is kept).
+    pub edges: FrameReport,
+    /// Edge points that cast votes.
+    pub voted: u32,
+    /// Edge points whose corrected position fell outside the vote frame
+    /// (no vote; ungated points are not corrected, so not counted here).
+    pub outside: u32,
+    /// Edge points whose candidate came after the first `CAP` of the frame
+    /// when the votes are gated: no gate byte was kept, no vote.
+    pub ungated: u32,
+    /// Peaks found (at most `K`), in [`PointJob::peaks`] and
+    /// [`PointJob::lines`].
+    pub peaks: u8,
+    /// The marking selected from the lines.
+    pub marking: Marking,
+    /// The tracker's report, with the drift warning. **Not a safety
+    /// function** (see [`PointJob`]).
+    pub track: track::FrameReport,
+}
+
+/// Number of detections the job hands the tracker per frame: the two
+/// tape edges.
+pub const EDGES_PER_FRAME: usize = 2;
+
+/// A line of the vote frame (origin at pixel `(W >> 1, H >> 1)`, the rule
+/// of [`crate::lines`]) moved to the image-centre origin `((W - 1) / 2,
+/// (H - 1) / 2)` of [`crate::marking`] and [`crate::track`]: with `dx =
+/// 16 (W >> 1) - 8 (W - 1)` and `dy` alike (8 for an even size, 0 for an
+/// odd one, Q4) and `(sin, cos)` of [`sin_cos_q15`], `rho' = rho +
+/// round_shift(dx cos + dy sin, 15)`; `theta` and the votes stay.
+///
+/// ```
+/// use fixsight::lines::Line;
+/// use fixsight::pipeline::centre_line;
+/// // A vertical line 3 px left of pixel 160 is 2.5 px left of 159.5.
+/// let l = Line { rho: -48, theta: 0, votes: 70 };
+/// assert_eq!(centre_line(&l, 320, 240).rho_q4, -40);
+/// ```
+pub fn centre_line(l: &Line, width: usize, height: usize) -> Candidate {
+    let half = |n: usize| -> i32 { (16 * (n >> 1)) as i32 - (8 * n.saturating_sub(1)) as i32 };
+    let (s, c) = sin_cos_q15(l.theta);
+    let shift = round_shift(half(width) * c + half(height) * s, 15);
+    tally(Op::Mul, 2);
+    tally(Op::AddSub, 3);
+    tally(Op::Shift, 1);
+    Candidate {
+        rho_q4: l.rho.saturating_add(shift),
+        theta: l.theta,
+        votes: l.votes as u32,
+        polarity: Polarity::Unknown,
+    }
+}
+
+/// The tracker's detections of a frame (rule 6 of [`PointJob`]): the
+/// found tape's left then right edge, `(rho, theta, votes)` of `lines`, in
+/// that order; none when no tape was found. An edge with `|rho| >=`
+/// [`RHO_LIMIT_Q4`] (the tracker's range; a line of points inside a frame
+/// of at most 4096 px never has one) is left out. Returns the array and
+/// how many of it are used.
+///
+/// ```
+/// use fixsight::marking::{Candidate, Marking, Polarity, TapeEdges};
+/// use fixsight::pipeline::tape_detections;
+/// let c = |rho_q4| Candidate { rho_q4, theta: 0, votes: 50, polarity: Polarity::Unknown };
+/// let t = TapeEdges { left: 1, right: 0, near_x_q4: [0, 0], far_x_q4: [0, 0], votes: 100 };
+/// let (d, n) = tape_detections(&Marking::Found(t), &[c(80), c(-80)]);
+/// assert_eq!((n, d[0].rho_q4, d[1].rho_q4), (2, -80, 80));
+/// ```
+pub fn tape_detections(m: &Marking, lines: &[Candidate]) -> ([Detection; EDGES_PER_FRAME], usize) {
+    let mut dets = [Detection::default(); EDGES_PER_FRAME];
+    let mut n = 0;
+    if let Marking::Found(t) = m {
+        for i in [t.left, t.right] {
+            if let Some(c) = lines.get(i) {
+                if c.rho_q4.unsigned_abs() < RHO_LIMIT_Q4 as u32 {
+                    dets[n] = Detection {
+                        rho_q4: c.rho_q4,
+                        theta: c.theta,
+                        weight: c.votes,
+                    };
+                    n += 1;
+                }
+            }
+        }
+    }
+    (dets, n)
+}
+
+impl<
+        const W: usize,
+        const MAP_WORDS: usize,
+        const BINS: usize,
+        const CAP: usize,
+        const T: usize,
+        const R: usize,
+        const K: usize,
+        const N: usize,
+    > Default for PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>
+{
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl<
+        const W: usize,
+        const MAP_WORDS: usize,
+        const BINS: usize,
+        const CAP: usize,
+        const T: usize,
+        const R: usize,
+        const K: usize,
+        const N: usize,
+    > PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>
+{
+    /// An unconfigured job with zeroed buffers (`const`, for statics).
+    ///
+    /// ```
+    /// use fixsight::pipeline::PointJob;
+    /// static _J: PointJob<16, 16, 64, 32, 8, 9, 2, 2> = PointJob::new();
+    /// ```
+    pub const fn new() -> Self {
+        const EMPTY: Peak = Peak {
+            theta_bin: 0,
+            rho_bin: 0,
+            votes: 0,
+            line: Line {
+                rho: 0,
+                theta: 0,
+                votes: 0,
+            },
+        };
+        const NO_LINE: Candidate = Candidate {
+            rho_q4: 0,
+            theta: 0,
+            votes: 0,
+            polarity: Polarity::Unknown,
+        };
+        Self {
+            cfg: PointJobConfig::DEMO_QVGA,
+            configured: false,
+            stream: EdgeStream::new(),
+            held: [[0; 2]; W],
+            codes: [0; CAP],
+            coded: 0,
+            votes: crate::lines::VoteStore::new(),
+            peaks: [EMPTY; K],
+            lines: [NO_LINE; K],
+            found: 0,
+            tracker: None,
+            frame: 0,
+            report: None,
+        }
+    }
+
+    /// Bytes of this type: all the working memory of the job
+    /// (`core::mem::size_of::<Self>()`). The correction grid is not in it:
+    /// it is read only and can stay in flash.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, DemoPointJobVga};
+    /// assert!(DemoPointJobQvga::ram_bytes() <= 48 * 1024);
+    /// assert_eq!(DemoPointJobQvga::ram_bytes(), 48_488);
+    /// assert_eq!(DemoPointJobVga::ram_bytes(), 138_536);
+    /// ```
+    pub const fn ram_bytes() -> usize {
+        core::mem::size_of::<Self>()
+    }
+
+    /// Sets the configuration and the raw frame size, checks that every
+    /// buffer fits and starts afresh: the edge stream as
+    /// [`EdgeStream::configure`], no track, frame number 0. Nothing changes
+    /// when it fails.
+    ///
+    /// Errors: a bad configuration ([`PointJobConfig::check`]); as
+    /// [`EdgeStream::configure`]; `T < vote.theta_bins`, `T * R <
+    /// vote.cells()` or `K = 0` -> [`Error::BufferTooShort`]; `N` outside
+    /// `1..=255` -> [`Error::BadParameter`].
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// assert!(job.configure(&PointJobConfig::DEMO_QVGA, 321, 240).is_err()); // wider than W
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn configure(&mut self, cfg: &PointJobConfig, width: usize, height: usize) -> Result<()> {
+        cfg.check()?;
+        for (what, needed, got) in [
+            ("point job vote columns (T)", cfg.vote.theta_bins, T),
+            (
+                "point job vote cells (T * R)",
+                cfg.vote.cells(),
+                T.saturating_mul(R),
+            ),
+            ("point job peak slots (K)", 1, K),
+        ] {
+            if got < needed {
+                return Err(Error::BufferTooShort { what, needed, got });
+            }
+        }
+        let tracker = Tracker::<N, EDGES_PER_FRAME>::new(cfg.track)?;
+        self.stream.configure(&cfg.edges, width, height)?;
+        self.cfg = *cfg;
+        self.configured = true;
+        self.tracker = Some(tracker);
+        self.coded = 0;
+        self.found = 0;
+        self.frame = 0;
+        self.report = None;
+        Ok(())
+    }
+
+    /// Drops the frame in progress ([`EdgeStream::reset`]) and counts it
+    /// as a frame without a measurement: the next finished frame has the
+    /// next frame number, so every track coasts through the dropped one
+    /// (a miss, the tracker's rule for skipped frame numbers).
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// job.push_row(&[0; 320])?;
+    /// job.drop_frame();
+    /// for _ in 0..240 { job.push_row(&[0; 320])?; }
+    /// assert_eq!(job.finish(None)?.frame, 1);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn drop_frame(&mut self) {
+        if self.configured {
+            self.stream.reset();
+            self.coded = 0;
+            self.frame = self.frame.saturating_add(1);
+        }
+    }
+
+    /// Starts over with the same configuration: the frame in progress is
+    /// dropped, every track forgotten, frame numbers start again from 0.
+    /// The automatic thresholds carried to the next frame stay.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// job.drop_frame();
+    /// job.reset();
+    /// for _ in 0..240 { job.push_row(&[0; 320])?; }
+    /// assert_eq!(job.finish(None)?.frame, 0);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn reset(&mut self) {
+        if self.configured {
+            self.stream.reset();
+            self.coded = 0;
+            self.frame = 0;
+            if let Some(t) = self.tracker.as_mut() {
+                t.reset();
+            }
+        }
+    }
+
+    /// Rows committed to the frame in progress.
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert_eq!(j.rows_pushed(), 0);
+    /// ```
+    pub fn rows_pushed(&self) -> usize {
+        self.stream.rows_pushed()
+    }
+
+    /// Pushes one row of 8-bit luma (`width` bytes exactly).
+    ///
+    /// Errors: as [`EdgeStream::push_row`]; the job is unchanged.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// assert!(job.push_row(&[0; 319]).is_err());
+    /// assert_eq!(job.push_row(&[0; 320])?, 1);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn push_row(&mut self, row: &[u8]) -> Result<usize> {
+        self.stream.check_len("luma", row.len(), 1)?;
+        self.stream.next_row_slot()?.copy_from_slice(row);
+        tally(Op::Load, row.len() as u32);
+        tally(Op::Store, row.len() as u32);
+        self.commit_row()
+    }
+
+    /// The ring slot the next row goes to ([`EdgeStream::next_row_slot`]):
+    /// let the camera DMA write there, then call [`PointJob::commit_row`].
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// job.next_row_slot()?.fill(7);
+    /// assert_eq!(job.commit_row()?, 1);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn next_row_slot(&mut self) -> Result<&mut [u8]> {
+        self.stream.next_row_slot()
+    }
+
+    /// Takes the row in the slot as the next camera row; returns the rows
+    /// committed so far. Errors: as [`EdgeStream::commit_row`].
+    ///
+    /// ```
+    /// let mut j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.commit_row().is_err()); // not configured
+    /// ```
+    pub fn commit_row(&mut self) -> Result<usize> {
+        self.stream.check_room()?;
+        if self.stream.rows_pushed() == 0 {
+            // The first row of a frame: the gate bytes start again.
+            self.coded = 0;
+        }
+        let (held, codes, coded, vote) = (
+            &mut self.held,
+            &mut self.codes,
+            &mut self.coded,
+            &self.cfg.vote,
+        );
+        self.stream
+            .commit_row_then(&mut |s, step| keep_gates(s, step, vote, held, codes, coded))
+    }
+
+    /// Ends a frame of the declared height and runs the rest of the job
+    /// (see [`PointJob`]): lens correction through `grid` (`None`: the raw
+    /// frame is the vote frame), votes, peaks, marking, tracker.
+    ///
+    /// Errors (the job unchanged): a grid whose output size is not the raw
+    /// frame or whose source size is not the vote frame, or no grid and a
+    /// vote frame of another size -> [`Error::SizeMismatch`]; as
+    /// [`EdgeStream::finish`]. The tracker's errors (a frame number past
+    /// `u32::MAX`) come after the frame was used.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// // Two parallel vertical edges: lines, but no tape (a tape's edges
+    /// // meet on the horizon).
+    /// let row: [u8; 320] = core::array::from_fn(|x| if (150..170).contains(&x) { 220 } else { 60 });
+    /// for _ in 0..240 { job.push_row(&row)?; }
+    /// let r = job.finish(None)?;
+    /// assert_eq!(r.peaks, 2);
+    /// assert!(r.marking.found().is_none());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn finish(&mut self, grid: Option<&ControlGrid<'_>>) -> Result<JobReport> {
+        self.end(grid, false)
+    }
+
+    /// [`PointJob::finish`] for a frame that ended early
+    /// ([`EdgeStream::finish_short`]): the vote frame is still the declared
+    /// one (a grid covers the declared raw frame).
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// for _ in 0..100 { job.push_row(&[50; 320])?; }
+    /// assert_eq!(job.finish_short(None)?.edges.height, 100);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn finish_short(&mut self, grid: Option<&ControlGrid<'_>>) -> Result<JobReport> {
+        self.end(grid, true)
+    }
+
+    fn check_grid(&self, grid: Option<&ControlGrid<'_>>) -> Result<()> {
+        let raw = (self.stream.width, self.stream.height);
+        let vote = (self.cfg.vote.width, self.cfg.vote.height);
+        let (what, expected, got) = match grid {
+            Some(g) => {
+                let geo = g.geometry();
+                let out = (geo.out_width(), geo.out_height());
+                if out != raw {
+                    ("correction grid output vs raw frame", raw, out)
+                } else {
+                    (
+                        "correction grid source vs vote frame",
+                        vote,
+                        (geo.src_width(), geo.src_height()),
+                    )
+                }
+            }
+            None => ("vote frame vs raw frame (no correction grid)", raw, vote),
+        };
+        if expected != got {
+            return Err(Error::SizeMismatch {
+                what,
+                expected,
+                got,
+            });
+        }
+        Ok(())
+    }
+
+    fn end(&mut self, grid: Option<&ControlGrid<'_>>, short: bool) -> Result<JobReport> {
+        self.stream.check_streaming()?;
+        self.check_grid(grid)?;
+        let (held, codes, coded, vote) = (
+            &mut self.held,
+            &mut self.codes,
+            &mut self.coded,
+            &self.cfg.vote,
+        );
+        let mut hook = |s: &EdgeStream<W, MAP_WORDS, BINS, 0>, step| {
+            keep_gates(s, step, vote, held, codes, coded)
+        };
+        let mut edges = if short {
+            self.stream.finish_short_then(&mut hook)?
+        } else {
+            self.stream.finish_then(&mut hook)?
+        };
+        let gated = self.cfg.vote.gate.is_some();
+        if gated {
+            edges.gradients_dropped = edges.candidates.saturating_sub(self.coded as u32);
+        }
+        let mut acc = self.votes.accumulator(self.cfg.vote)?;
+        let (mut voted, mut ungated) = (0u32, 0u32);
+        let mut points = self.stream.points()?;
+        while let Some(p) = points.next() {
+            // `candidate` has moved past this point's candidate.
+            let k = points.candidate - 1;
+            let code = if k < self.coded {
+                self.codes.get(k).copied()
+            } else {
+                None
+            };
+            if gated && code.is_none() {
+                ungated += 1;
+                continue;
+            }
+            let (x, y) = (p.x as usize, p.y as usize);
+            let q = match grid {
+                Some(g) => acc.corrected_q4(g, x, y),
+                None => Some(acc.plain_q4(x, y)),
+            };
+            let Some((x4, y4)) = q else { continue };
+            acc.vote_coded(x4, y4, code);
+            voted += 1;
+        }
+        let outside = acc.skipped();
+        let found = acc.peaks(&self.cfg.peaks, &mut self.peaks)?;
+        let (vw, vh) = (self.cfg.vote.width, self.cfg.vote.height);
+        for (c, pk) in self.lines.iter_mut().zip(&self.peaks[..found]) {
+            *c = centre_line(&pk.line, vw, vh);
+        }
+        self.found = found;
+        let marking = marking::select(&self.lines[..found], &self.cfg.marking);
+        let (dets, n) = tape_detections(&marking, &self.lines[..found]);
+        let frame = self.frame;
+        self.frame = self.frame.saturating_add(1);
+        let tracker = self.tracker.as_mut().ok_or(Error::StreamOrder {
+            reason: "point job used before configure",
+        })?;
+        let track = tracker.update(frame, &dets[..n])?;
+        let report = JobReport {
+            frame,
+            edges,
+            voted,
+            outside,
+            ungated,
+            peaks: found as u8,
+            marking,
+            track,
+        };
+        self.report = Some(report);
+        Ok(report)
+    }
+
+    /// The report of the last finished frame.
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.report().is_none());
+    /// ```
+    pub fn report(&self) -> Option<JobReport> {
+        self.report
+    }
+
+    /// The peaks of the last finished frame (vote-frame lines, strongest
+    /// first).
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.peaks().is_empty());
+    /// ```
+    pub fn peaks(&self) -> &[Peak] {
+        &self.peaks[..self.found]
+    }
+
+    /// The peaks' lines about the image centre ([`centre_line`]), as handed
+    /// to the marking selection; [`Marking`] indices point into this slice.
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.lines().is_empty());
+    /// ```
+    pub fn lines(&self) -> &[Candidate] {
+        &self.lines[..self.found]
+    }
+
+    /// The tracker (its tracks after the last finished frame); `None`
+    /// before [`PointJob::configure`].
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.tracker().is_none());
+    /// ```
+    pub fn tracker(&self) -> Option<&Tracker<N, EDGES_PER_FRAME>> {
+        self.tracker.as_ref()
+    }
+
+    /// The edge stage (its points and edge rows of the last finished frame).
+    ///
+    /// ```
+    /// let j = fixsight::pipeline::PointJob::<8, 8, 8, 8, 8, 9, 2, 2>::new();
+    /// assert!(j.edge_stage().report().is_none());
+    /// ```
+    pub fn edge_stage(&self) -> &EdgeStream<W, MAP_WORDS, BINS, 0> {
+        &self.stream
+    }
+}
+
+/// The step hook of the job: when a row has been classified, keep the gate
+/// byte of each of its candidates (raster order, up to `CAP`), from the
+/// gradient row held since that row was formed; when a row is formed, hold
+/// its gradients.
+fn keep_gates<const W: usize, const MW: usize, const B: usize, const CAP: usize>(
+    s: &EdgeStream<W, MW, B, 0>,
+    step: Stepped,
+    vote: &VoteParams,
+    held: &mut [[i16; 2]; W],
+    codes: &mut [u8; CAP],
+    coded: &mut usize,
+) {
+    if vote.gate.is_none() {
+        return;
+    }
+    let w = s.width;
+    let done = match step {
+        Stepped::Formed(y) => y.checked_sub(1),
+        Stepped::LastClassified(y) => Some(y),
+    };
+    if let Some(y) = done {
+        let stride = w.div_ceil(16);
+        let words = s.map.get(y * stride..(y + 1) * stride).unwrap_or(&[]);
+        let mut n = 0u32;
+        for (i, &word) in words.iter().enumerate() {
+            let mut v = word;
+            let mut x = 16 * i;
+            while v != 0 && x < w {
+                if (v & 3) as u8 != NONE {
+                    if let (Some(slot), Some(g)) = (codes.get_mut(*coded), held.get(x)) {
+                        *slot = vote.gate_code(gradient::angle(g[0], g[1])).unwrap_or(0);
+                        *coded += 1;
+                        n += 1;
+                    }
+                }
+                v >>= 2;
+                x += 1;
+            }
+        }
+        gradient::tally_angles(n as usize);
+        tally(Op::Load, words.len() as u32 + 2 * n);
+        tally(Op::Store, n);
+    }
+    if let Stepped::Formed(_) = step {
+        held[..w].copy_from_slice(&s.grad[..w]);
+        tally(Op::Load, 2 * w as u32);
+        tally(Op::Store, 2 * w as u32);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    //! The job against the kernels it composes, run one after another.
+    extern crate std;
+    use super::*;
+    use crate::lines::{EdgeRow, VoteStore};
+    use crate::pipeline::{map_words, EdgeConfig, ThresholdRule};
+    use crate::warp::WarpGeometry;
+    use proptest::prelude::*;
+    use std::boxed::Box;
+    use std::vec;
+    use std::vec::Vec;
+
+    const TW: usize = 40;
+    const TH: usize = 30;
+    const TBINS: usize = DEMO.bins_needed();
+    const TCAP: usize = 96;
+    const TT: usize = 128;
+    const TR: usize = 61;
+    const TK: usize = 6;
+    type Job = PointJob<TW, { map_words(TW, TH) }, TBINS, TCAP, TT, TR, TK, 4>;
+    /// The edge stage alone, with as many point gradients as the job keeps
+    /// gate bytes.
+    type Stage = EdgeStream<TW, { map_words(TW, TH) }, TBINS, TCAP>;
+
+    /// A frame: a tape-like bright band whose edges lean, on a ramp, with
+    /// noise, from a seed.
+    fn frame(seed: u64, w: usize, h: usize) -> Vec<u8> {
+        let mut s = seed | 1;
+        let mut next = || {
+            s = s
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (s >> 33) as u32
+        };
+        let (x0, lean, width) = (next() % 40, next() % 9, 2 + next() % 9);
+        let amp = 40 + next() % 180;
+        let noise = 1 + next() % 30;
+        (0..w * h)
+            .map(|i| {
+                let (x, y) = ((i % w) as u32, (i / w) as u32);
+                let left = x0 + y * lean / 8;
+                let mut v = 20 + x / 2 + y;
+                if (left..left + width).contains(&x) {
+                    v += amp;
+                }
+                v += next() % noise;
+                v.min(255) as u8
+            })
+            .collect()
+    }
+
+    /// A correction grid close to the identity over a `w x h` frame:
+    /// every control point moved by up to `amp / 2^f` px, `f = 4`.
+    fn grid_points(w: usize, h: usize, k: u32, seed: u64, amp: i32) -> (WarpGeometry, Vec<i32>) {
+        let geom = WarpGeometry::new(w, h, w, h, 4).unwrap();
+        let (cols, rows) = ControlGrid::grid_size(&geom, k).unwrap();
+        let mut s = seed | 1;
+        let mut pts = Vec::new();
+        for j in 0..rows {
+            for i in 0..cols {
+                for base in [(i << k) as i32, (j << k) as i32] {
+                    s = s.wrapping_mul(6364136223846793005).wrapping_add(1);
+                    let d = ((s >> 40) % (2 * amp as u64 + 1)) as i32 - amp;
+                    pts.push(base * 16 + d);
+                }
+            }
+        }
+        (geom, pts)
+    }
+
+    /// The composition: the edge stage, then the line kernels on the
+    /// frame's edge rows and gradient rows, peaks, [`centre_line`],
+    /// [`marking::select`], the tracker. Returns the report fields the job
+    /// gives.
+    #[allow(clippy::type_complexity)]
+    fn composed(
+        stage: &Stage,
+        cfg: &PointJobConfig,
+        grid: Option<&ControlGrid<'_>>,
+        tracker: &mut Tracker<4, EDGES_PER_FRAME>,
+        frame: u32,
+    ) -> (
+        u32,
+        u32,
+        u32,
+        Vec<Peak>,
+        Vec<Candidate>,
+        Marking,
+        track::FrameReport,
+    ) {
+        let rep = stage.report().unwrap();
+        let (w, h) = (rep.width as usize, rep.height as usize);
+        let (vw, vh) = (cfg.vote.width, cfg.vote.height);
+        // Edge rows without the points that have no gradient (past CAP).
+        let mut edges = vec![0u8; w * vh];
+        let (mut gx, mut gy) = (vec![0i16; w * vh], vec![0i16; w * vh]);
+        let mut ungated = 0;
+        for p in stage.points().unwrap() {
+            let i = p.y as usize * w + p.x as usize;
+            match p.gradient {
+                Some((a, b)) => {
+                    edges[i] = 255;
+                    gx[i] = a;
+                    gy[i] = b;
+                }
+                None if cfg.vote.gate.is_some() => ungated += 1,
+                None => edges[i] = 255,
+            }
+        }
+        let mut store: Box<VoteStore<TT, TR>> = Box::default();
+        let mut acc = store.accumulator(cfg.vote).unwrap();
+        for y in 0..vh {
+            let r = y * w..(y + 1) * w;
+            let row = EdgeRow::with_gradient(&edges[r.clone()], &gx[r.clone()], &gy[r]);
+            match grid {
+                Some(g) => acc.vote_row_corrected(y, &row, g).unwrap(),
+                None => acc.vote_row(y, &row).unwrap(),
+            }
+        }
+        let _ = h;
+        let mut peaks = vec![Peak::default(); TK];
+        let n = acc.peaks(&cfg.peaks, &mut peaks).unwrap();
+        peaks.truncate(n);
+        let lines: Vec<Candidate> = peaks.iter().map(|p| centre_line(&p.line, vw, vh)).collect();
+        let m = marking::select(&lines, &cfg.marking);
+        let (dets, nd) = tape_detections(&m, &lines);
+        let tr = tracker.update(frame, &dets[..nd]).unwrap();
+        (acc.points(), acc.skipped(), ungated, peaks, lines, m, tr)
+    }
+
+    fn vote_params() -> impl Strategy<Value = VoteParams> {
+        (
+            0u32..(1 << 17),
+            9u32..=12,
+            1usize..=TT,
+            2u32..=5,
+            0usize..30,
+            prop_oneof![Just(None), (1u16..=32767).prop_map(Some)],
+        )
+            .prop_map(|(start, s, t, r, rb, gate)| VoteParams {
+                width: TW,
+                height: TH,
+                theta_start: start,
+                theta_step_log2: s,
+                theta_bins: t.min(65536 >> s),
+                rho_step_log2: r,
+                rho_bins: 2 * rb + 1,
+                trig_frac_bits: 14,
+                gate,
+                weight_shift: None,
+            })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// Frame after frame, with or without a grid, fixed or automatic
+        /// thresholds: the job equals the kernels composed.
+        #[test]
+        fn job_equals_the_kernels_composed(
+            vote in vote_params(), threshold in 1u16..400, radius in 0usize..3,
+            fixed in any::<bool>(), lens in any::<bool>(), k in 2u32..=4, amp in 0i32..40,
+            seeds in proptest::collection::vec(any::<u64>(), 1..4), short in 0usize..TH,
+        ) {
+            let edges = if fixed {
+                EdgeConfig { thresholds: ThresholdRule::Fixed { low: 20, high: 60 }, ..DEMO }
+            } else {
+                DEMO
+            };
+            let cfg = PointJobConfig {
+                edges,
+                vote,
+                peaks: PeakParams { threshold, radius_theta: radius, radius_rho: radius },
+                ..PointJobConfig::DEMO_QVGA
+            };
+            let (geom, pts) = grid_points(TW, TH, k, seeds[0], amp);
+            let grid = ControlGrid::new(&pts, geom, k).unwrap();
+            let grid = lens.then_some(&grid);
+            let mut job: Box<Job> = Box::default();
+            job.configure(&cfg, TW, TH).unwrap();
+            let mut stage: Box<Stage> = Box::default();
+            stage.configure(&cfg.edges, TW, TH).unwrap();
+            let mut tracker = Tracker::<4, EDGES_PER_FRAME>::new(cfg.track).unwrap();
+            for (f, &sd) in seeds.iter().enumerate() {
+                let img = frame(sd, TW, TH);
+                // The last frame of a case may end early.
+                let rows = if f + 1 == seeds.len() && short > 0 { short } else { TH };
+                for r in img.chunks_exact(TW).take(rows) {
+                    job.push_row(r).unwrap();
+                    stage.push_row(r).unwrap();
+                }
+                let got = if rows < TH {
+                    stage.finish_short().unwrap();
+                    job.finish_short(grid).unwrap()
+                } else {
+                    stage.finish().unwrap();
+                    job.finish(grid).unwrap()
+                };
+                let (voted, outside, ungated, peaks, lines, m, tr) =
+                    composed(&stage, &cfg, grid, &mut tracker, f as u32);
+                let mut want = stage.report().unwrap();
+                if cfg.vote.gate.is_none() {
+                    want.gradients_dropped = want.candidates;
+                }
+                prop_assert_eq!(got.edges, want);
+                prop_assert_eq!((got.voted, got.outside, got.ungated), (voted, outside, ungated));
+                prop_assert_eq!(job.peaks(), &peaks[..]);
+                prop_assert_eq!(job.lines(), &lines[..]);
+                prop_assert_eq!(got.marking, m);
+                prop_assert_eq!(got.track, tr);
+                prop_assert_eq!(got.frame, f as u32);
+            }
+        }
+    }
+
+    #[test]
+    fn a_bad_grid_or_size_changes_nothing() {
+        let cfg = PointJobConfig {
+            vote: VoteParams {
+                width: TW,
+                height: TH,
+                rho_bins: 51,
+                theta_bins: 32,
+                ..VoteParams::DEMO_QVGA
+            },
+            ..PointJobConfig::DEMO_QVGA
+        };
+        let mut job: Box<Job> = Box::default();
+        job.configure(&cfg, TW, TH).unwrap();
+        for r in frame(7, TW, TH).chunks_exact(TW) {
+            job.push_row(r).unwrap();
+        }
+        let (geom, pts) = grid_points(TW + 1, TH, 3, 1, 0);
+        let wrong = ControlGrid::new(&pts, geom, 3).unwrap();
+        assert!(matches!(
+            job.finish(Some(&wrong)),
+            Err(Error::SizeMismatch { .. })
+        ));
+        // The frame is still there to finish.
+        assert_eq!(job.finish(None).unwrap().frame, 0);
+        assert!(job.finish(None).is_err()); // already finished
+        let mut other = cfg;
+        other.vote.width = TW + 2;
+        job.configure(&other, TW, TH).unwrap();
+        for r in frame(7, TW, TH).chunks_exact(TW) {
+            job.push_row(r).unwrap();
+        }
+        assert!(matches!(job.finish(None), Err(Error::SizeMismatch { .. })));
+        // Buffers too small for the configuration.
+        let mut small: Box<PointJob<TW, { map_words(TW, TH) }, TBINS, 8, 8, 9, 1, 1>> =
+            Box::default();
+        assert!(matches!(
+            small.configure(&cfg, TW, TH),
+            Err(Error::BufferTooShort { .. })
+        ));
+    }
+
+    #[test]
+    fn gate_codes_vote_as_the_angles() {
+        // Every angle of a few parameter sets: the code's run is the angle's
+        // run folded to the first half turn.
+        for (start, s, g) in [
+            (49152u32, 10u32, 5461u16),
+            (0, 9, 1),
+            (100_000, 12, 32767),
+            (7, 14, 300),
+        ] {
+            let p = VoteParams {
+                theta_start: start,
+                theta_step_log2: s,
+                theta_bins: 65536 >> s,
+                gate: Some(g),
+                ..VoteParams::DEMO_QVGA
+            };
+            let period = 65536u32 >> s;
+            for a in 0..=u16::MAX {
+                let (f, c) = p.gate_run(a, g);
+                let code = p.gate_code(a).unwrap();
+                assert_eq!(p.gate_of_code(code), (f % period, c), "angle {a}");
+            }
+        }
+    }
+}
