@@ -5,7 +5,8 @@
 //! multi-channel `u8` images, one strip of output rows at a time.
 //!
 //! Kernel ids (golden vectors, `report.json`, on-target figures):
-//! `warp.pixel_map` and `warp.control_grid`.
+//! `warp.pixel_map`, `warp.control_grid` and `warp.grid_stream` (the
+//! control grid fed row by row, [`GridStream`]).
 //!
 //! # Coordinates
 //!
@@ -150,6 +151,69 @@
 //! 32, magic, version, header length, total length equal to `32 + payload`,
 //! CRC, then every field and control point as [`ControlGrid::new`] does. The
 //! parsed table borrows the blob; nothing is copied.
+//!
+//! # Bands of source rows and the row stream (image mode)
+//!
+//! A grid can be run from a **band** of source rows instead of a whole
+//! source frame, for firmware that receives camera rows one at a time and
+//! cannot hold a frame:
+//!
+//! * [`ControlGrid::source_rows`]`(first_row, rows)` says which source rows
+//!   an output strip reads: the hull of the tap rows `y0` and `y0 + 1` of
+//!   all its pixels (weight-zero taps included), clamped into
+//!   `0..=src_height - 1`. It is exact, not a bound: along one output row of
+//!   one cell the grid coordinate `c(u) = C00 + ((A0 + u * D) >> 2k)` is the
+//!   floor of a linear function of `u`, hence monotonic, so its extremes are
+//!   at the cell's first and last pixel; the function evaluates those two
+//!   per row and cell.
+//! * [`ControlGrid::band_rows`]`(strip_rows)` is the ring height a stream
+//!   needs when output is made in strips of `strip_rows` rows, each as soon
+//!   as its rows are in: `max over strips s of T(s) - first(s) + 1`, where
+//!   `first(s)` is the first row strip `s` reads and `T(s)` the largest last
+//!   row of strips `0..=s` (strips come out in order, so strip `s` waits for
+//!   every earlier strip's rows too).
+//! * [`ControlGrid::warp_band`] warps a strip from a [`SourceBand`] (caller
+//!   rows, in order or as a ring) and refuses a band that lacks a row the
+//!   strip reads ([`Error::BandRows`]).
+//! * [`GridStream`] owns the order: the caller pushes source rows (or lets a
+//!   DMA write into [`GridStream::row_slot`]) into a caller ring of at
+//!   least `band_rows(strip_rows)` rows (row `y` in ring row `y % ring_rows`)
+//!   and takes each strip with [`GridStream::next_strip`] as soon as it is
+//!   ready. A ready strip must be taken before the next row is pushed;
+//!   with that rule a ring of `band_rows` rows never loses a row a later
+//!   strip reads (for any later strip `s'`, `T(s') >= ` the row being pushed,
+//!   so `first(s') >= T(s') - band + 1 >` the row it overwrites).
+//!
+//! The band path runs the same row loop as [`ControlGrid::warp_rows`], with
+//! source row `y` read from its slot in the band, so the output is
+//! bit-identical to the whole-frame warp (property tests on random grids,
+//! frames, sizes, strips and ring positions).
+//!
+//! Ring the demo lens needs (the demo camera of the host tool, wide angle
+//! with barrel distortion, fit-to-view undistortion to the same size, grid
+//! step 16, `F = 5`, grey; `fixsight-verify report`, row
+//! `warp.grid_stream`, and the host test `demo_lens_band_rows`):
+//!
+//! | frame | strips of 1 row | strips of 16 rows |
+//! |---|---|---|
+//! | 320 x 240 | 19 rows, 6 080 bytes | 32 rows, 10 240 bytes |
+//! | 640 x 480 | 35 rows, 22 400 bytes | 48 rows, 30 720 bytes |
+//!
+//! # The all-inside grey loop
+//!
+//! For one-channel images, an output row of one cell whose taps all lie
+//! inside the image (`0 <= x0 <= W-2`, `0 <= y0 <= H-2` at both ends of
+//! the row, which covers every pixel between, the coordinate being
+//! monotonic) runs a loop without border tests. It computes the same
+//! numbers by exact integer identities: the cell accumulator is rescaled to
+//! 12 fraction bits with the base coordinate folded in,
+//! `X = (C00 << 12) + (A << (12 - 2k))`, so `X >> 12` is the grid
+//! coordinate, `x0 = X >> (12 + F)`, `fx = (X >> 12) & (2^F - 1)` (likewise
+//! y); then `top = (a << F) + (b - a) * fx`, `bot = (c << F) + (d - c) * fx`,
+//! `acc = (top << F) + (bot - top) * fy`, `out = (acc + 2^(2F-1)) >> 2F`,
+//! which equal the sampling model's weighted sums term for term. A port
+//! needs none of this to match the golden vectors; it is how the loop
+//! reaches its cost (see `targets/README.md`).
 //!
 //! # Memory and strips
 //!
@@ -768,6 +832,26 @@ enum Points<'a> {
 }
 
 impl Points<'_> {
+    /// Point `p` as its raw `(x, y)` pair; in range by construction.
+    #[inline(always)]
+    fn pair(&self, p: usize) -> (i32, i32) {
+        match *self {
+            Points::Words(w) => match w.get(2 * p..2 * p + 2) {
+                Some(&[x, y]) => (x, y),
+                // Not reached: construction checked the length.
+                _ => (0, 0),
+            },
+            Points::Bytes(b) => match b.get(8 * p..8 * p + 8) {
+                Some(&[a0, a1, a2, a3, b0, b1, b2, b3]) => (
+                    i32::from_le_bytes([a0, a1, a2, a3]),
+                    i32::from_le_bytes([b0, b1, b2, b3]),
+                ),
+                // Not reached: construction checked the payload length.
+                _ => (0, 0),
+            },
+        }
+    }
+
     /// Raw value `k` (`2 * point + axis`); in range by construction.
     #[inline(always)]
     fn get(&self, k: usize) -> i32 {
@@ -1528,15 +1612,7 @@ impl<'a> ControlGrid<'a> {
     /// offset `v` of cell `(i, j)`.
     #[inline(always)]
     fn axis(&self, i: usize, j: usize, v: i32, axis: usize) -> Axis {
-        let k = self.k;
-        let (c00, c10, c01, c11) = self.corners(i, j, axis);
-        let l = v * (c01 - c00);
-        let r = ((c10 - c00) << k) + v * (c11 - c10);
-        Axis {
-            c00,
-            a0: (l << k) + (1 << (2 * k - 1)),
-            d: r - l,
-        }
+        Axis::new(self.corners(i, j, axis), v, self.k)
     }
 
     fn rows<const C: usize, const RING: bool>(
@@ -1549,41 +1625,14 @@ impl<'a> ControlGrid<'a> {
     ) {
         let g = &self.geom;
         let s = Sampler::<RING>::new(src, g.src_width, g.src_height, g.frac_bits, border);
-        let sh = 2 * self.k;
         let w = g.out_width;
         for r in 0..count {
             let (j, v) = self.cell_row(first_row + r);
-            let out = dst.row_at_mut(r);
-            let mut fast = 0usize;
-            let mut cells = 0usize;
-            let mut runs = 0usize;
-            for i in 0..self.cols - 1 {
-                let Some((x_start, x_end)) = self.cell_span(i) else {
-                    break;
-                };
-                cells += 1;
-                let ax = self.axis(i, j, v, 0);
-                let ay = self.axis(i, j, v, 1);
-                let seg = &mut out[x_start * C..x_end * C];
-                if C == 1 && grey_inside(&s, &ax, &ay, sh, seg) {
-                    fast += seg.len();
-                    runs += 1;
-                    continue;
-                }
-                let n = x_end - x_start;
-                let (mut a_x, mut a_y) = (ax.a0, ay.a0);
-                for (u, o) in seg.chunks_exact_mut(C).enumerate() {
-                    fast += s.sample::<C>(ax.c00 + (a_x >> sh), ay.c00 + (a_y >> sh), o) as usize;
-                    // The accumulator is advanced only while another pixel of
-                    // this cell follows, so it never leaves the proven range.
-                    if u + 1 < n {
-                        a_x += ax.d;
-                        a_y += ay.d;
-                    }
-                }
-            }
-            // Per cell: 8 corner loads, 4 multiplies, 12 add/sub, 4 shifts.
-            tally_per(Op::Load, 8, cells);
+            let (fast, runs, cells) = self.row_cells::<C, RING>(&s, dst.row_at_mut(r), j, v);
+            // Per cell: 4 corner loads (the left ones are the previous
+            // cell's right ones), 4 multiplies, 12 add/sub, 4 shifts.
+            tally_per(Op::Load, 4, cells);
+            tally(Op::Load, 4);
             tally_per(Op::Mul, 4, cells);
             tally_per(Op::AddSub, 12, cells);
             tally_per(Op::Shift, 4, cells);
@@ -1604,6 +1653,76 @@ impl<'a> ControlGrid<'a> {
     }
 }
 
+impl ControlGrid<'_> {
+    /// One output row (`out`, cell row `j`, offset `v`), cell by cell.
+    /// Returns `(pixels on the all-inside path, grey runs, cells)`. Kept out
+    /// of line so that its loop has the registers to itself.
+    #[inline(never)]
+    fn row_cells<const C: usize, const RING: bool>(
+        &self,
+        s: &Sampler<'_, RING>,
+        out: &mut [u8],
+        j: usize,
+        v: i32,
+    ) -> (usize, usize, usize) {
+        let sh = 2 * self.k;
+        let (mut fast, mut runs, mut cells) = (0usize, 0usize, 0usize);
+        // The left corners of cell `i` are the right ones of cell `i - 1`.
+        let (top, bottom) = (j * self.cols, (j + 1) * self.cols);
+        let (mut l0, mut l1) = (self.points.pair(top), self.points.pair(bottom));
+        for i in 0..self.cols - 1 {
+            let Some((x_start, x_end)) = self.cell_span(i) else {
+                break;
+            };
+            cells += 1;
+            let (r0, r1) = (
+                self.points.pair(top + i + 1),
+                self.points.pair(bottom + i + 1),
+            );
+            let ax = Axis::new((l0.0, r0.0, l1.0, r1.0), v, self.k);
+            let ay = Axis::new((l0.1, r0.1, l1.1, r1.1), v, self.k);
+            (l0, l1) = (r0, r1);
+            let Some(seg) = out.get_mut(x_start * C..x_end * C) else {
+                break;
+            };
+            if C == 1 && grey_inside(s, &ax, &ay, sh, seg) {
+                fast += seg.len();
+                runs += 1;
+            } else {
+                fast += cell_pixels::<C, RING>(s, &ax, &ay, sh, seg);
+            }
+        }
+        (fast, runs, cells)
+    }
+}
+
+/// The general per-pixel loop over one output row of one cell (any
+/// channels, any border): the incremental coordinates of the module docs
+/// fed to the sampling model. Returns the pixels that took the sampler's
+/// all-inside path.
+#[inline(never)]
+fn cell_pixels<const C: usize, const RING: bool>(
+    s: &Sampler<'_, RING>,
+    ax: &Axis,
+    ay: &Axis,
+    sh: u32,
+    seg: &mut [u8],
+) -> usize {
+    let n = seg.len() / C;
+    let (mut a_x, mut a_y) = (ax.a0, ay.a0);
+    let mut fast = 0usize;
+    for (u, o) in seg.chunks_exact_mut(C).enumerate() {
+        fast += s.sample::<C>(ax.c00 + (a_x >> sh), ay.c00 + (a_y >> sh), o) as usize;
+        // The accumulator is advanced only while another pixel of this cell
+        // follows, so it never leaves the proven range.
+        if u + 1 < n {
+            a_x += ax.d;
+            a_y += ay.d;
+        }
+    }
+    fast
+}
+
 /// One axis of the incremental grid form along one output row of one
 /// cell: the coordinate at offset `u` is `c00 + ((a0 + u * d) >> 2k)`.
 #[derive(Clone, Copy)]
@@ -1614,6 +1733,19 @@ struct Axis {
 }
 
 impl Axis {
+    /// From the cell corners `(C00, C10, C01, C11)` of one axis, output row
+    /// offset `v` and step `2^k` (module docs: `L`, `R`, `D`, `A`).
+    #[inline(always)]
+    fn new((c00, c10, c01, c11): (i32, i32, i32, i32), v: i32, k: u32) -> Self {
+        let l = v * (c01 - c00);
+        let r = ((c10 - c00) << k) + v * (c11 - c10);
+        Axis {
+            c00,
+            a0: (l << k) + (1 << (2 * k - 1)),
+            d: r - l,
+        }
+    }
+
     /// The raw coordinate at offset `u` (`0..=S`). `a0 + u * d` and
     /// `u * d` stay within the bound construction proved for the cell
     /// (module docs), so the `i32` arithmetic is exact.
@@ -1683,7 +1815,11 @@ fn grey_inside<const RING: bool>(s: &Sampler<'_, RING>, ax: &Axis, ay: &Axis, sh
     let dx = (ax.d as u32).wrapping_shl(up);
     let dy = (ay.d as u32).wrapping_shl(up);
     let base = s.rows.view.rows_from(slot);
-    let stride = s.rows.view.stride();
+    // A stride below 2^16 lets the compiler see that the tap index cannot
+    // overflow (one bounds test per pixel instead of two).
+    let Ok(stride) = u16::try_from(s.rows.view.stride()) else {
+        return false;
+    };
     let acc = (x, y, dx, dy);
     match f {
         2 => grey_run::<2>(base, stride, acc, seg),
@@ -1717,19 +1853,29 @@ fn grey_inside<const RING: bool>(s: &Sampler<'_, RING>, ax: &Axis, ay: &Axis, sh
 #[inline(never)]
 fn grey_run<const F: u32>(
     base: &[u8],
-    stride: usize,
+    stride: u16,
     (mut x, mut y, dx, dy): (u32, u32, u32, u32),
     seg: &mut [u8],
 ) {
     let mask = (1u32 << F) - 1;
     let half = 1i32 << (2 * F - 1);
+    let stride = stride as usize;
     let span = stride + 2;
+    // Taps at `i .. i + span` with `i <= last`; `grey_inside` proved every
+    // pixel's `i` is, so the early returns are never taken.
+    let Some(last) = base.len().checked_sub(span) else {
+        return;
+    };
     for o in seg.iter_mut() {
         let x0 = (x >> (12 + F)) as usize;
         let fx = ((x >> 12) & mask) as i32;
-        let y0 = (y >> (12 + F)) as usize;
+        // `y0 <= H - 2 < 2^15`: the mask loses nothing and bounds the index.
+        let y0 = ((y >> (12 + F)) & 0x7fff) as usize;
         let fy = ((y >> 12) & mask) as i32;
         let i = y0 * stride + x0;
+        if i > last {
+            return;
+        }
         let q = &base[i..i + span];
         let (a, b) = (q[0] as i32, q[1] as i32);
         let (c, d) = (q[stride] as i32, q[stride + 1] as i32);
