@@ -532,7 +532,13 @@ pub fn sample_pixel(
     let sx = sx.clamp(lo, hi);
     let (lo, hi) = range(src.height(), frac_bits);
     let sy = sy.clamp(lo, hi);
-    let s = Sampler::<false>::new(Rows::frame(src), src.width(), src.height(), frac_bits, border);
+    let s = Sampler::<false>::new(
+        Rows::frame(src),
+        src.width(),
+        src.height(),
+        frac_bits,
+        border,
+    );
     match c {
         1 => {
             s.sample::<1>(sx, sy, &mut out[..1]);
@@ -806,7 +812,13 @@ impl<'a> PixelMap<'a> {
         border: Border,
     ) {
         let g = &self.geom;
-        let s = Sampler::<false>::new(Rows::frame(src), g.src_width, g.src_height, g.frac_bits, border);
+        let s = Sampler::<false>::new(
+            Rows::frame(src),
+            g.src_width,
+            g.src_height,
+            g.frac_bits,
+            border,
+        );
         let w = g.out_width;
         for r in 0..dst.height() {
             let y = first_row + r;
@@ -1526,16 +1538,18 @@ impl<'a> ControlGrid<'a> {
         border: Border,
     ) -> Result<()> {
         let rows = dst.height();
-        self.band_strip(band, dst, first_row, rows, border)
+        self.band_strip(band, dst, first_row, rows, None, border)
     }
 
-    /// [`warp_band`](Self::warp_band) into the first `count` rows of `dst`.
+    /// [`warp_band`](Self::warp_band) into the first `count` rows of `dst`;
+    /// `known` is `source_rows(first_row, count)` when the caller has it.
     fn band_strip(
         &self,
         band: &SourceBand<'_>,
         dst: &mut ImageViewMut<'_, u8>,
         first_row: usize,
         count: usize,
+        known: Option<SourceRows>,
         border: Border,
     ) -> Result<()> {
         let g = &self.geom;
@@ -1548,7 +1562,10 @@ impl<'a> ControlGrid<'a> {
             });
         }
         g.check_strip(v.channels(), dst, first_row, count)?;
-        let need = self.source_rows(first_row, count)?;
+        let need = match known {
+            Some(n) => n,
+            None => self.source_rows(first_row, count)?,
+        };
         let held = band.rows();
         if need.first < held.first || need.last > held.last {
             return Err(Error::BandRows {
@@ -1773,7 +1790,13 @@ const RUN_COORD_LIMIT: i32 = 1 << 20;
 /// `fx = (X >> 12) & (2^F - 1)`. The y accumulator counts from the band's
 /// first tap row.
 #[inline(always)]
-fn grey_inside<const RING: bool>(s: &Sampler<'_, RING>, ax: &Axis, ay: &Axis, sh: u32, seg: &mut [u8]) -> bool {
+fn grey_inside<const RING: bool>(
+    s: &Sampler<'_, RING>,
+    ax: &Axis,
+    ay: &Axis,
+    sh: u32,
+    seg: &mut [u8],
+) -> bool {
     let Some(last) = seg.len().checked_sub(1) else {
         return true;
     };
@@ -2302,7 +2325,9 @@ impl<'g, 'r> GridStream<'g, 'r> {
     /// ```
     pub fn next_strip(&mut self, dst: &mut ImageViewMut<'_, u8>) -> Result<Option<StripDone>> {
         let g = self.grid.geom;
-        let rows = self.strip_rows.min(g.out_height - self.next_row.min(g.out_height));
+        let rows = self
+            .strip_rows
+            .min(g.out_height - self.next_row.min(g.out_height));
         if dst.width() != g.out_width || dst.height() < rows {
             return Err(Error::SizeMismatch {
                 what: "grid stream strip vs output width and strip rows",
@@ -2332,7 +2357,7 @@ impl<'g, 'r> GridStream<'g, 'r> {
         let band = SourceBand::new(view, first, first % self.ring_rows)?;
         let first_row = self.next_row;
         self.grid
-            .band_strip(&band, dst, first_row, rows, self.border)?;
+            .band_strip(&band, dst, first_row, rows, Some(self.pending), self.border)?;
         self.next_row += rows;
         if !self.finished() {
             let n = self.strip_rows.min(g.out_height - self.next_row);
@@ -2641,6 +2666,44 @@ mod tests {
         ));
     }
 
+    /// A xorshift64 generator seeded with `seed` (never zero).
+    fn xorshift(seed: u64) -> impl FnMut() -> u64 {
+        let mut st = seed | 1;
+        move || {
+            st ^= st << 13;
+            st ^= st >> 7;
+            st ^= st << 17;
+            st
+        }
+    }
+
+    /// `n` raw `(x, y)` pairs drawn uniformly from the ranges `xr`, `yr`.
+    fn random_points(
+        n: usize,
+        (xl, xh): (i32, i32),
+        (yl, yh): (i32, i32),
+        next: &mut impl FnMut() -> u64,
+    ) -> Vec<i32> {
+        (0..n)
+            .flat_map(|_| {
+                [
+                    xl + (next() % (xh - xl + 1) as u64) as i32,
+                    yl + (next() % (yh - yl + 1) as u64) as i32,
+                ]
+            })
+            .collect()
+    }
+
+    /// The grid over `pts`, or `None` when a cell could overflow (a case
+    /// the property tests skip); any other error fails the test.
+    fn grid_or_skip(pts: &[i32], g: WarpGeometry, k: u32) -> Option<ControlGrid<'_>> {
+        match ControlGrid::new(pts, g, k) {
+            Ok(m) => Some(m),
+            Err(Error::GridCellOverflow { .. }) => None,
+            Err(e) => panic!("{e}"),
+        }
+    }
+
     fn arb_border() -> impl Strategy<Value = Border> {
         prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]
     }
@@ -2660,8 +2723,7 @@ mod tests {
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (xl, xh) = g.coord_range_x();
             let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
+            let mut next = xorshift(seed);
             let src: Vec<u8> = (0..w * h * c).map(|_| next() as u8).collect();
             let coords: Vec<i32> = (0..ow * oh).flat_map(|_| {
                 let x = xl + (next() % (xh - xl + 1) as u64) as i32;
@@ -2703,19 +2765,9 @@ mod tests {
         ) {
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
-            let (xl, xh) = g.coord_range_x();
-            let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
-            let pts: Vec<i32> = (0..cols * rows).flat_map(|_| {
-                [xl + (next() % (xh - xl + 1) as u64) as i32,
-                 yl + (next() % (yh - yl + 1) as u64) as i32]
-            }).collect();
-            let grid = match ControlGrid::new(&pts, g, k) {
-                Ok(m) => m,
-                Err(Error::GridCellOverflow { .. }) => return Ok(()),
-                Err(e) => panic!("{e}"),
-            };
+            let mut next = xorshift(seed);
+            let pts = random_points(cols * rows, g.coord_range_x(), g.coord_range_y(), &mut next);
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
             let s = 1i128 << k;
             let mut coords = vec![0i32; 2 * ow * oh];
             for y in 0..oh {
@@ -2770,8 +2822,7 @@ mod tests {
             let (w, h) = (ow + extra_w, oh + extra_h);
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
+            let mut next = xorshift(seed);
             // Points at (x, y) + 0.5 px + jitter of up to +-0.45 px, clamped
             // so that every tap stays inside.
             let one = 1i64 << f;
@@ -2785,11 +2836,7 @@ mod tests {
                 let x = c(i, w);
                 [x, c(j, h)]
             }).collect();
-            let grid = match ControlGrid::new(&pts, g, k) {
-                Ok(m) => m,
-                Err(Error::GridCellOverflow { .. }) => return Ok(()),
-                Err(e) => panic!("{e}"),
-            };
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
             let coords: Vec<i32> = (0..ow * oh).flat_map(|p| {
                 let (x, y) = grid.coord(p % ow, p / ow).unwrap();
                 [x, y]
@@ -2822,25 +2869,15 @@ mod tests {
         ) {
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
-            let (xl, xh) = g.coord_range_x();
-            let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
+            let mut next = xorshift(seed);
             // Wild points over the accepted range, or tame ones inside the image.
-            let (xl, xh, yl, yh) = if tame {
-                (0, ((w as i32 - 1) << f).max(0), 0, ((h as i32 - 1) << f).max(0))
+            let (xr, yr) = if tame {
+                ((0, ((w as i32 - 1) << f).max(0)), (0, ((h as i32 - 1) << f).max(0)))
             } else {
-                (xl, xh, yl, yh)
+                (g.coord_range_x(), g.coord_range_y())
             };
-            let pts: Vec<i32> = (0..cols * rows).flat_map(|_| {
-                [xl + (next() % (xh - xl + 1) as u64) as i32,
-                 yl + (next() % (yh - yl + 1) as u64) as i32]
-            }).collect();
-            let grid = match ControlGrid::new(&pts, g, k) {
-                Ok(m) => m,
-                Err(Error::GridCellOverflow { .. }) => return Ok(()),
-                Err(e) => panic!("{e}"),
-            };
+            let pts = random_points(cols * rows, xr, yr, &mut next);
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
             let first = first.min(oh - 1);
             let n = len.min(oh - first);
             let (mut lo, mut hi) = (i64::MAX, i64::MIN);
@@ -2905,8 +2942,7 @@ mod tests {
             let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
             let (xl, xh) = g.coord_range_x();
             let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
+            let mut next = xorshift(seed);
             let pts: Vec<i32> = (0..cols * rows).flat_map(|p| {
                 if tame {
                     // A smooth map: a scaled identity with jitter.
@@ -2917,15 +2953,10 @@ mod tests {
                     let jy = (next() % (1 << f)) as i64;
                     [(x + jx).clamp(xl as i64, xh as i64) as i32, (y + jy).clamp(yl as i64, yh as i64) as i32]
                 } else {
-                    [xl + (next() % (xh - xl + 1) as u64) as i32,
-                     yl + (next() % (yh - yl + 1) as u64) as i32]
+                    random_points(1, (xl, xh), (yl, yh), &mut next).try_into().unwrap()
                 }
             }).collect();
-            let grid = match ControlGrid::new(&pts, g, k) {
-                Ok(m) => m,
-                Err(Error::GridCellOverflow { .. }) => return Ok(()),
-                Err(e) => panic!("{e}"),
-            };
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
             let src: Vec<u8> = (0..w * h * c).map(|_| next() as u8).collect();
             let sv = ImageView::interleaved(&src, w, h, w * c, c).unwrap();
             let mut want = vec![0u8; ow * oh * c];

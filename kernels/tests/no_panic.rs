@@ -149,7 +149,9 @@ proptest! {
 
 mod warp_apis {
     use fixsight::filter::Border;
-    use fixsight::warp::{sample_pixel, ControlGrid, GridStream, PixelMap, SourceBand, WarpGeometry};
+    use fixsight::warp::{
+        sample_pixel, ControlGrid, GridStream, PixelMap, SourceBand, WarpGeometry,
+    };
     use fixsight::{ImageView, ImageViewMut};
     use proptest::prelude::*;
 

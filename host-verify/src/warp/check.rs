@@ -175,9 +175,7 @@ fn check_stream(scenes: &[Scene]) -> KernelReport {
         for border in [Border::Fill(0), Border::Clamp] {
             for strip in [1usize, 8] {
                 band_max = band_max.max(grid.band_rows(strip).unwrap_or(usize::MAX));
-                let (r, o) = measure(w * h, || {
-                    run_grid_stream(&grid, &s.gray, 1, border, strip)
-                });
+                let (r, o) = measure(w * h, || run_grid_stream(&grid, &s.gray, 1, border, strip));
                 if si == 0 && strip == 1 && border == Border::Clamp {
                     ops = o;
                 }
@@ -189,7 +187,16 @@ fn check_stream(scenes: &[Scene]) -> KernelReport {
                     }
                 };
                 for (p, &v) in out.iter().enumerate() {
-                    let m = model_sample(&s.gray, w, h, 1, coords[2 * p], coords[2 * p + 1], f, border);
+                    let m = model_sample(
+                        &s.gray,
+                        w,
+                        h,
+                        1,
+                        coords[2 * p],
+                        coords[2 * p + 1],
+                        f,
+                        border,
+                    );
                     actual.push(v as f64);
                     reference.push(m[0] as f64);
                 }
@@ -205,11 +212,17 @@ fn check_stream(scenes: &[Scene]) -> KernelReport {
         &stats,
         ops,
     );
-    let mismatches = actual.iter().zip(&reference).filter(|(a, b)| a != b).count();
-    r.metrics.insert("model_mismatches".into(), mismatches as f64);
+    let mismatches = actual
+        .iter()
+        .zip(&reference)
+        .filter(|(a, b)| a != b)
+        .count();
+    r.metrics
+        .insert("model_mismatches".into(), mismatches as f64);
     r.metrics.insert("frac_bits".into(), f as f64);
     r.metrics.insert("grid_log2".into(), k as f64);
-    r.metrics.insert("band_rows_scenes_max".into(), band_max as f64);
+    r.metrics
+        .insert("band_rows_scenes_max".into(), band_max as f64);
     match band_figures() {
         Ok(v) => r.metrics.extend(v),
         Err(e) => problems.push(format!("band figures: {e}")),

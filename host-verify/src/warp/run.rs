@@ -71,9 +71,13 @@ pub fn run_grid_stream(
     let mut out = vec![0u8; w * h * c];
     let mut buf = vec![0u8; strip * w * c];
     for y in 0..=g.src_height() {
-        while let Some(d) =
-            st.next_strip(&mut ImageViewMut::interleaved(&mut buf, w, strip, w * c, c)?)?
-        {
+        while let Some(d) = st.next_strip(&mut ImageViewMut::interleaved(
+            &mut buf,
+            w,
+            strip,
+            w * c,
+            c,
+        )?)? {
             let n = d.rows * w * c;
             let at = d.first_row * w * c;
             out[at..at + n].copy_from_slice(&buf[..n]);
