@@ -109,6 +109,7 @@ typedef int32_t fxs_status;
 #define FXS_E_ROW_COUNT (-24)           /* frame ended with the wrong row count (pipeline) */
 #define FXS_E_FRAME_ORDER (-25)         /* frame number not increasing (track) */
 #define FXS_E_POINT_OUTSIDE (-26)       /* point outside the accepted area (lines) */
+#define FXS_E_BAND_ROWS (-27)           /* band of source rows lacks a row the strip reads (warp) */
 #define FXS_E_KERNEL_OTHER (-99)        /* kernel error of a newer kernel crate */
 /* Found at the C boundary. */
 #define FXS_E_NULL_POINTER (-101)    /* a required pointer is NULL */

@@ -67,6 +67,8 @@ pub const FXS_E_ROW_COUNT: FxsStatus = -24;
 pub const FXS_E_FRAME_ORDER: FxsStatus = -25;
 /// `Error::PointOutside`.
 pub const FXS_E_POINT_OUTSIDE: FxsStatus = -26;
+/// `Error::BandRows`.
+pub const FXS_E_BAND_ROWS: FxsStatus = -27;
 /// A kernel error this build of the C ABI has no code for (a newer kernel
 /// crate); never returned while the header test passes.
 pub const FXS_E_KERNEL_OTHER: FxsStatus = -99;
@@ -221,6 +223,11 @@ pub const STATUSES: &[(FxsStatus, &str, &CStr)] = &[
         c"a point lies outside the area the kernel accepts",
     ),
     (
+        FXS_E_BAND_ROWS,
+        "FXS_E_BAND_ROWS",
+        c"a band of source rows lacks a row the output strip reads",
+    ),
+    (
         FXS_E_KERNEL_OTHER,
         "FXS_E_KERNEL_OTHER",
         c"kernel error without a C status code in this build",
@@ -289,6 +296,7 @@ pub(crate) fn status_of(e: Error) -> FxsStatus {
         Error::RowCount { .. } => FXS_E_ROW_COUNT,
         Error::FrameOrder { .. } => FXS_E_FRAME_ORDER,
         Error::PointOutside { .. } => FXS_E_POINT_OUTSIDE,
+        Error::BandRows { .. } => FXS_E_BAND_ROWS,
         _ => FXS_E_KERNEL_OTHER,
     }
 }

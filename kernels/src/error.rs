@@ -203,6 +203,18 @@ pub enum Error {
         /// Output height.
         height: usize,
     },
+    /// A band of source rows does not hold every source row an output strip
+    /// reads (`warp::ControlGrid::source_rows`).
+    BandRows {
+        /// First source row the strip reads.
+        needed_first: usize,
+        /// Last source row the strip reads.
+        needed_last: usize,
+        /// First source row the band holds.
+        held_first: usize,
+        /// Last source row the band holds.
+        held_last: usize,
+    },
     // --- edges (kernels/src/nms.rs, hysteresis.rs, thinning.rs) ---
     /// The low hysteresis threshold is above the high one.
     ThresholdOrder {
@@ -368,6 +380,16 @@ impl fmt::Display for Error {
                 f,
                 "output rows {first_row}..{} do not fit an output of height {height}",
                 first_row.saturating_add(rows)
+            ),
+            Error::BandRows {
+                needed_first,
+                needed_last,
+                held_first,
+                held_last,
+            } => write!(
+                f,
+                "the strip reads source rows {needed_first}..={needed_last} but the band holds \
+                 rows {held_first}..={held_last}"
             ),
             Error::ThresholdOrder { low, high } => write!(
                 f,

@@ -236,6 +236,12 @@ impl<'a, T: Copy> ImageView<'a, T> {
         &self.data[start..start + self.width * self.channels]
     }
 
+    /// The elements from the start of row `y` to the end of the buffer
+    /// (`y < height`), for kernels that index several rows from one base.
+    pub(crate) fn rows_from(&self, y: usize) -> &'a [T] {
+        &self.data[y * self.stride..]
+    }
+
     /// `true` when `other` has the same width and height.
     pub(crate) fn same_size<U: Copy>(&self, other: &ImageViewMut<'_, U>) -> bool {
         self.width == other.width && self.height == other.height

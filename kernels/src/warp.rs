@@ -5,7 +5,8 @@
 //! multi-channel `u8` images, one strip of output rows at a time.
 //!
 //! Kernel ids (golden vectors, `report.json`, on-target figures):
-//! `warp.pixel_map` and `warp.control_grid`.
+//! `warp.pixel_map`, `warp.control_grid` and `warp.grid_stream` (the
+//! control grid fed row by row, [`GridStream`]).
 //!
 //! # Coordinates
 //!
@@ -150,6 +151,69 @@
 //! 32, magic, version, header length, total length equal to `32 + payload`,
 //! CRC, then every field and control point as [`ControlGrid::new`] does. The
 //! parsed table borrows the blob; nothing is copied.
+//!
+//! # Bands of source rows and the row stream (image mode)
+//!
+//! A grid can be run from a **band** of source rows instead of a whole
+//! source frame, for firmware that receives camera rows one at a time and
+//! cannot hold a frame:
+//!
+//! * [`ControlGrid::source_rows`]`(first_row, rows)` says which source rows
+//!   an output strip reads: the hull of the tap rows `y0` and `y0 + 1` of
+//!   all its pixels (weight-zero taps included), clamped into
+//!   `0..=src_height - 1`. It is exact, not a bound: along one output row of
+//!   one cell the grid coordinate `c(u) = C00 + ((A0 + u * D) >> 2k)` is the
+//!   floor of a linear function of `u`, hence monotonic, so its extremes are
+//!   at the cell's first and last pixel; the function evaluates those two
+//!   per row and cell.
+//! * [`ControlGrid::band_rows`]`(strip_rows)` is the ring height a stream
+//!   needs when output is made in strips of `strip_rows` rows, each as soon
+//!   as its rows are in: `max over strips s of T(s) - first(s) + 1`, where
+//!   `first(s)` is the first row strip `s` reads and `T(s)` the largest last
+//!   row of strips `0..=s` (strips come out in order, so strip `s` waits for
+//!   every earlier strip's rows too).
+//! * [`ControlGrid::warp_band`] warps a strip from a [`SourceBand`] (caller
+//!   rows, in order or as a ring) and refuses a band that lacks a row the
+//!   strip reads ([`Error::BandRows`]).
+//! * [`GridStream`] owns the order: the caller pushes source rows (or lets a
+//!   DMA write into [`GridStream::row_slot`]) into a caller ring of at
+//!   least `band_rows(strip_rows)` rows (row `y` in ring row `y % ring_rows`)
+//!   and takes each strip with [`GridStream::next_strip`] as soon as it is
+//!   ready. A ready strip must be taken before the next row is pushed;
+//!   with that rule a ring of `band_rows` rows never loses a row a later
+//!   strip reads (for any later strip `s'`, `T(s') >= ` the row being pushed,
+//!   so `first(s') >= T(s') - band + 1 >` the row it overwrites).
+//!
+//! The band path runs the same row loop as [`ControlGrid::warp_rows`], with
+//! source row `y` read from its slot in the band, so the output is
+//! bit-identical to the whole-frame warp (property tests on random grids,
+//! frames, sizes, strips and ring positions).
+//!
+//! Ring the demo lens needs (the demo camera of the host tool, wide angle
+//! with barrel distortion, fit-to-view undistortion to the same size, grid
+//! step 16, `F = 5`, grey; `fixsight-verify report`, row
+//! `warp.grid_stream`, and the host test `demo_lens_band_rows`):
+//!
+//! | frame | strips of 1 row | strips of 16 rows |
+//! |---|---|---|
+//! | 320 x 240 | 19 rows, 6 080 bytes | 32 rows, 10 240 bytes |
+//! | 640 x 480 | 35 rows, 22 400 bytes | 48 rows, 30 720 bytes |
+//!
+//! # The all-inside grey loop
+//!
+//! For one-channel images, an output row of one cell whose taps all lie
+//! inside the image (`0 <= x0 <= W-2`, `0 <= y0 <= H-2` at both ends of
+//! the row, which covers every pixel between, the coordinate being
+//! monotonic) runs a loop without border tests. It computes the same
+//! numbers by exact integer identities: the cell accumulator is rescaled to
+//! 12 fraction bits with the base coordinate folded in,
+//! `X = (C00 << 12) + (A << (12 - 2k))`, so `X >> 12` is the grid
+//! coordinate, `x0 = X >> (12 + F)`, `fx = (X >> 12) & (2^F - 1)` (likewise
+//! y); then `top = (a << F) + (b - a) * fx`, `bot = (c << F) + (d - c) * fx`,
+//! `acc = (top << F) + (bot - top) * fy`, `out = (acc + 2^(2F-1)) >> 2F`,
+//! which equal the sampling model's weighted sums term for term. A port
+//! needs none of this to match the golden vectors; it is how the loop
+//! reaches its cost (see `targets/README.md`).
 //!
 //! # Memory and strips
 //!
@@ -373,6 +437,19 @@ impl WarpGeometry {
                 got: (src.width(), src.height()),
             });
         }
+        self.check_strip(src.channels(), dst, first_row, dst.height())
+    }
+
+    /// Checks an output strip of `rows` rows written into the first rows of
+    /// `dst` (width, row range, channels) against this geometry and a source
+    /// of `channels` channels.
+    fn check_strip(
+        &self,
+        channels: usize,
+        dst: &ImageViewMut<'_, u8>,
+        first_row: usize,
+        rows: usize,
+    ) -> Result<()> {
         if dst.width() != self.out_width {
             return Err(Error::SizeMismatch {
                 what: "warp output strip vs map geometry",
@@ -380,14 +457,21 @@ impl WarpGeometry {
                 got: (dst.width(), dst.height()),
             });
         }
-        if first_row > self.out_height || dst.height() > self.out_height - first_row {
+        if first_row > self.out_height || rows > self.out_height - first_row {
             return Err(Error::RowRange {
                 first_row,
-                rows: dst.height(),
+                rows,
                 height: self.out_height,
             });
         }
-        if dst.channels() != src.channels() {
+        if rows > dst.height() {
+            return Err(Error::SizeMismatch {
+                what: "warp output strip rows",
+                expected: (self.out_width, rows),
+                got: (dst.width(), dst.height()),
+            });
+        }
+        if dst.channels() != channels {
             return Err(Error::UnsupportedChannels {
                 channels: dst.channels(),
                 accepted: "the same number of channels as the source",
@@ -448,7 +532,13 @@ pub fn sample_pixel(
     let sx = sx.clamp(lo, hi);
     let (lo, hi) = range(src.height(), frac_bits);
     let sy = sy.clamp(lo, hi);
-    let s = Sampler::new(src, frac_bits, border);
+    let s = Sampler::<false>::new(
+        Rows::frame(src),
+        src.width(),
+        src.height(),
+        frac_bits,
+        border,
+    );
     match c {
         1 => {
             s.sample::<1>(sx, sy, &mut out[..1]);
@@ -466,28 +556,76 @@ pub fn sample_pixel(
     Ok(())
 }
 
-/// The sampling model bound to one source view.
-struct Sampler<'s, 'a> {
-    src: &'s ImageView<'a, u8>,
+/// Where the sampler finds the source rows: source row `y` is row
+/// `slot(y)` of `view`, `slot(y) = y + shift` (wrapping), minus `cap` once
+/// that reaches `cap`. A whole frame is `shift = 0`, `cap = height`; a ring
+/// band of `cap` rows holding source rows `f .. f + cap` with row `f` at slot
+/// `s` is `shift = s - f` (wrapping). Callers read only rows the band holds
+/// (proved by [`ControlGrid::source_rows`] for grids).
+#[derive(Clone, Copy)]
+struct Rows<'s> {
+    view: ImageView<'s, u8>,
+    shift: usize,
+    cap: usize,
+}
+
+impl<'s> Rows<'s> {
+    /// A whole source frame.
+    fn frame(view: &ImageView<'s, u8>) -> Self {
+        Self {
+            view: *view,
+            shift: 0,
+            cap: view.height(),
+        }
+    }
+
+    /// Slot of source row `y` (a row the band holds).
+    #[inline(always)]
+    fn slot(&self, y: usize) -> usize {
+        let s = y.wrapping_add(self.shift);
+        if s >= self.cap {
+            s.wrapping_sub(self.cap)
+        } else {
+            s
+        }
+    }
+
+    /// Source row `y` (a row the band holds); without `RING` the rows are
+    /// a whole frame (`shift = 0`, no wrap) and the slot test is left out.
+    #[inline(always)]
+    fn row<const RING: bool>(&self, y: usize) -> &'s [u8] {
+        if RING {
+            self.view.row_at(self.slot(y))
+        } else {
+            self.view.row_at(y)
+        }
+    }
+}
+
+/// The sampling model bound to one source: a whole frame, or with `RING`
+/// a band of rows in a ring.
+struct Sampler<'s, const RING: bool> {
+    rows: Rows<'s>,
     f: u32,
     mask: i32,
     one: i32,
     border: Border,
-    /// `width - 1` and `height - 1`: the fast path needs `x0 < wm1`, `y0 < hm1`.
+    /// `width - 1` and `height - 1` of the source image: the fast path
+    /// needs `x0 < wm1`, `y0 < hm1`.
     wm1: u32,
     hm1: u32,
 }
 
-impl<'s, 'a> Sampler<'s, 'a> {
-    fn new(src: &'s ImageView<'a, u8>, f: u32, border: Border) -> Self {
+impl<'s, const RING: bool> Sampler<'s, RING> {
+    fn new(rows: Rows<'s>, width: usize, height: usize, f: u32, border: Border) -> Self {
         Self {
-            src,
+            rows,
             f,
             mask: (1 << f) - 1,
             one: 1 << f,
             border,
-            wm1: (src.width() - 1) as u32,
-            hm1: (src.height() - 1) as u32,
+            wm1: (width - 1) as u32,
+            hm1: (height - 1) as u32,
         }
     }
 
@@ -496,14 +634,14 @@ impl<'s, 'a> Sampler<'s, 'a> {
     fn tap<const C: usize>(&self, x: i32, y: i32, ch: usize) -> i32 {
         let inside = x >= 0 && (x as u32) <= self.wm1 && y >= 0 && (y as u32) <= self.hm1;
         if inside {
-            self.src.row_at(y as usize)[x as usize * C + ch] as i32
+            self.rows.row::<RING>(y as usize)[x as usize * C + ch] as i32
         } else {
             match self.border {
                 Border::Fill(c) => c as i32,
                 Border::Clamp => {
                     let xc = x.clamp(0, self.wm1 as i32) as usize;
                     let yc = y.clamp(0, self.hm1 as i32) as usize;
-                    self.src.row_at(yc)[xc * C + ch] as i32
+                    self.rows.row::<RING>(yc)[xc * C + ch] as i32
                 }
             }
         }
@@ -523,8 +661,8 @@ impl<'s, 'a> Sampler<'s, 'a> {
         let s2 = 2 * self.f;
         // Negative x0 wraps to a large u32 and fails the test.
         if (x0 as u32) < self.wm1 && (y0 as u32) < self.hm1 {
-            let r0 = self.src.row_at(y0 as usize);
-            let r1 = self.src.row_at(y0 as usize + 1);
+            let r0 = self.rows.row::<RING>(y0 as usize);
+            let r1 = self.rows.row::<RING>(y0 as usize + 1);
             let i = x0 as usize * C;
             let (a0, a1) = (&r0[i..i + 2 * C], &r1[i..i + 2 * C]);
             for (ch, o) in out.iter_mut().enumerate().take(C) {
@@ -673,8 +811,15 @@ impl<'a> PixelMap<'a> {
         first_row: usize,
         border: Border,
     ) {
-        let s = Sampler::new(src, self.geom.frac_bits, border);
-        let w = self.geom.out_width;
+        let g = &self.geom;
+        let s = Sampler::<false>::new(
+            Rows::frame(src),
+            g.src_width,
+            g.src_height,
+            g.frac_bits,
+            border,
+        );
+        let w = g.out_width;
         for r in 0..dst.height() {
             let y = first_row + r;
             let map_row = &self.coords[2 * y * w..2 * (y + 1) * w];
@@ -699,15 +844,36 @@ enum Points<'a> {
 }
 
 impl Points<'_> {
+    /// Point `p` as its raw `(x, y)` pair; in range by construction.
+    #[inline(always)]
+    fn pair(&self, p: usize) -> (i32, i32) {
+        match *self {
+            Points::Words(w) => match w.get(2 * p..2 * p + 2) {
+                Some(&[x, y]) => (x, y),
+                // Not reached: construction checked the length.
+                _ => (0, 0),
+            },
+            Points::Bytes(b) => match b.get(8 * p..8 * p + 8) {
+                Some(&[a0, a1, a2, a3, b0, b1, b2, b3]) => (
+                    i32::from_le_bytes([a0, a1, a2, a3]),
+                    i32::from_le_bytes([b0, b1, b2, b3]),
+                ),
+                // Not reached: construction checked the payload length.
+                _ => (0, 0),
+            },
+        }
+    }
+
     /// Raw value `k` (`2 * point + axis`); in range by construction.
     #[inline(always)]
     fn get(&self, k: usize) -> i32 {
         match *self {
             Points::Words(w) => w[k],
-            Points::Bytes(b) => {
-                let i = 4 * k;
-                i32::from_le_bytes([b[i], b[i + 1], b[i + 2], b[i + 3]])
-            }
+            Points::Bytes(b) => match b.get(4 * k..4 * k + 4) {
+                Some(&[b0, b1, b2, b3]) => i32::from_le_bytes([b0, b1, b2, b3]),
+                // Not reached: construction checked the payload length.
+                _ => 0,
+            },
         }
     }
 }
@@ -1175,80 +1341,1053 @@ impl<'a> ControlGrid<'a> {
         border: Border,
     ) -> Result<()> {
         self.geom.check_views(src, dst, first_row)?;
-        match src.channels() {
-            1 => self.rows::<1>(src, dst, first_row, border),
-            2 => self.rows::<2>(src, dst, first_row, border),
-            3 => self.rows::<3>(src, dst, first_row, border),
-            _ => self.rows::<4>(src, dst, first_row, border),
-        }
+        let n = dst.height();
+        self.dispatch::<false>(Rows::frame(src), dst, first_row, n, border);
         Ok(())
     }
 
-    fn rows<const C: usize>(
+    /// [`warp_rows`](Self::warp_rows) for grey (one-channel) images only:
+    /// the same output, but a firmware that calls only this links the grey
+    /// loop and none of the 2..4-channel ones. A source with another
+    /// channel count is [`Error::UnsupportedChannels`].
+    ///
+    /// ```
+    /// use fixsight::filter::Border;
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// use fixsight::{Error, ImageView, ImageViewMut};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// let m = ControlGrid::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?; // identity
+    /// let src: [u8; 16] = core::array::from_fn(|i| 3 * i as u8);
+    /// let mut out = [0u8; 16];
+    /// m.warp_rows_grey(&ImageView::new(&src, 4, 4, 4)?, &mut ImageViewMut::new(&mut out, 4, 4, 4)?,
+    ///                  0, Border::Clamp)?;
+    /// assert_eq!(out, src);
+    /// let rgb = [0u8; 48];
+    /// let mut o3 = [0u8; 48];
+    /// assert!(matches!(
+    ///     m.warp_rows_grey(&ImageView::interleaved(&rgb, 4, 4, 12, 3)?,
+    ///                      &mut ImageViewMut::interleaved(&mut o3, 4, 4, 12, 3)?, 0, Border::Clamp),
+    ///     Err(Error::UnsupportedChannels { channels: 3, .. })));
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn warp_rows_grey(
         &self,
         src: &ImageView<'_, u8>,
         dst: &mut ImageViewMut<'_, u8>,
         first_row: usize,
         border: Border,
-    ) {
-        let s = Sampler::new(src, self.geom.frac_bits, border);
-        let k = self.k;
-        let step = 1usize << k;
-        let sh = 2 * k;
-        let half = 1i32 << (sh - 1);
-        let w = self.geom.out_width;
-        for r in 0..dst.height() {
-            let y = first_row + r;
-            let j = (y >> k).min(self.rows - 2);
-            let v = (y - (j << k)) as i32;
-            let out = dst.row_at_mut(r);
-            let mut fast = 0usize;
-            let mut cells = 0usize;
+    ) -> Result<()> {
+        if src.channels() != 1 {
+            return Err(Error::UnsupportedChannels {
+                channels: src.channels(),
+                accepted: "1 (grey)",
+            });
+        }
+        self.geom.check_views(src, dst, first_row)?;
+        let n = dst.height();
+        self.rows::<1, false>(Rows::frame(src), dst, first_row, n, border);
+        Ok(())
+    }
+
+    /// The source rows output rows `first_row .. first_row + rows` read:
+    /// every tap row `y0` and `y0 + 1` of every output pixel of the strip
+    /// (also taps of weight zero), clamped into `0 ..= src_height - 1`. With
+    /// [`Border::Fill`] a tap row outside the image is not read at all, so
+    /// the range is then the clamped hull (never narrower than what is
+    /// read). Exact, not an estimate: along one output row of one cell the
+    /// grid coordinate is monotonic (the floor of a linear function of `u`),
+    /// so its extremes are at the cell's first and last output pixel, and
+    /// this function evaluates the coordinate there, per row and cell of
+    /// the strip. Cost: two coordinate evaluations per row and cell.
+    ///
+    /// A strip of out-of-range rows is [`Error::RowRange`].
+    ///
+    /// ```
+    /// use fixsight::warp::{ControlGrid, SourceRows, WarpGeometry};
+    /// // 8x8 output from an 8x8 source, F = 2, step 4; the middle row of
+    /// // points is pulled up by 1.5 source rows (raw 6 = 1.5 px).
+    /// let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// let mut pts = [0i32; 18];
+    /// for j in 0..3 {
+    ///     for i in 0..3 {
+    ///         pts[2 * (3 * j + i)] = 16 * i as i32;
+    ///         pts[2 * (3 * j + i) + 1] = 16 * j as i32 - if j == 1 { 6 } else { 0 };
+    ///     }
+    /// }
+    /// let m = ControlGrid::new(&pts, g, 2)?;
+    /// // Output row 4 samples source y = 2.5: rows 2 and 3.
+    /// assert_eq!(m.source_rows(4, 1)?, SourceRows { first: 2, last: 3 });
+    /// // Rows 0..4 sample y from 0 up to 3/4 of 2.5 px (raw 7.5, rounded
+    /// // half up to 8 = 2.0 px): tap rows 0..=3.
+    /// assert_eq!(m.source_rows(0, 4)?, SourceRows { first: 0, last: 3 });
+    /// assert!(m.source_rows(6, 3).is_err()); // past the output
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn source_rows(&self, first_row: usize, rows: usize) -> Result<SourceRows> {
+        let g = &self.geom;
+        if rows == 0 || first_row >= g.out_height || rows > g.out_height - first_row {
+            return Err(Error::RowRange {
+                first_row,
+                rows,
+                height: g.out_height,
+            });
+        }
+        let sh = 2 * self.k;
+        let (mut lo, mut hi) = (i32::MAX, i32::MIN);
+        for y in first_row..first_row + rows {
+            let (j, v) = self.cell_row(y);
             for i in 0..self.cols - 1 {
-                let x_start = i << k;
-                if x_start >= w {
+                let Some((xs, xe)) = self.cell_span(i) else {
                     break;
-                }
-                let x_end = if i == self.cols - 2 {
-                    w
-                } else {
-                    (x_start + step).min(w)
                 };
-                cells += 1;
-                let (x00, x10, x01, x11) = self.corners(i, j, 0);
-                let (y00, y10, y01, y11) = self.corners(i, j, 1);
-                let lx = v * (x01 - x00);
-                let rx = ((x10 - x00) << k) + v * (x11 - x10);
-                let ly = v * (y01 - y00);
-                let ry = ((y10 - y00) << k) + v * (y11 - y10);
-                let (dx, dy) = (rx - lx, ry - ly);
-                let mut ax = (lx << k) + half;
-                let mut ay = (ly << k) + half;
-                let seg = &mut out[x_start * C..x_end * C];
-                let n = x_end - x_start;
-                for (u, o) in seg.chunks_exact_mut(C).enumerate() {
-                    fast += s.sample::<C>(x00 + (ax >> sh), y00 + (ay >> sh), o) as usize;
-                    // The accumulator is advanced only while another pixel of
-                    // this cell follows, so it never leaves the proven range.
-                    if u + 1 < n {
-                        ax += dx;
-                        ay += dy;
-                    }
+                let a = self.axis(i, j, v, 1);
+                for c in [a.at(0, sh), a.at((xe - xs - 1) as i32, sh)] {
+                    lo = lo.min(c);
+                    hi = hi.max(c);
                 }
             }
-            // Per cell: 8 corner loads, 4 multiplies, 12 add/sub, 4 shifts.
-            tally_per(Op::Load, 8, cells);
+        }
+        let f = g.frac_bits;
+        let hm1 = g.src_height as i32 - 1;
+        Ok(SourceRows {
+            first: (lo >> f).clamp(0, hm1) as usize,
+            last: ((hi >> f) + 1).clamp(0, hm1) as usize,
+        })
+    }
+
+    /// Rows a ring of source rows must hold for output made in strips of
+    /// `strip_rows` rows (the last strip shorter) as soon as the source
+    /// rows each strip reads are in: with `T(s)` the largest last row
+    /// ([`source_rows`](Self::source_rows)) of strips `0..=s` (strip `s`
+    /// can be made once row `T(s)` is in, not before any earlier strip)
+    /// and `first(s)` the first row strip `s` reads, the band is
+    /// `max over s of T(s) - first(s) + 1`. A ring of that many rows never
+    /// overwrites a row a strip still needs when each ready strip is taken
+    /// before the next row is pushed ([`GridStream`] enforces this).
+    ///
+    /// `strip_rows = 0` is [`Error::BadParameter`]; more rows than the output
+    /// height mean one strip.
+    ///
+    /// ```
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// // Identity 16x16 grid, step 4: strips of 4 rows read 5 source rows
+    /// // (4 + the zero-weight tap below), strips of 1 row read 2.
+    /// let g = WarpGeometry::new(16, 16, 16, 16, 2)?;
+    /// let pts: Vec<i32> = (0..25).flat_map(|p| [16 * (p % 5), 16 * (p / 5)]).collect();
+    /// let m = ControlGrid::new(&pts, g, 2)?;
+    /// assert_eq!(m.band_rows(4)?, 5);
+    /// assert_eq!(m.band_rows(1)?, 2);
+    /// assert!(m.band_rows(0).is_err());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn band_rows(&self, strip_rows: usize) -> Result<usize> {
+        if strip_rows == 0 {
+            return Err(Error::BadParameter {
+                name: "strip_rows",
+                expected: "at least 1",
+                got: 0,
+            });
+        }
+        let h = self.geom.out_height;
+        let (mut reach, mut band, mut y) = (0usize, 1usize, 0usize);
+        while y < h {
+            let n = strip_rows.min(h - y);
+            let r = self.source_rows(y, n)?;
+            reach = reach.max(r.last);
+            band = band.max(reach - r.first + 1);
+            y += n;
+        }
+        Ok(band)
+    }
+
+    /// Warps output rows `first_row .. first_row + dst.height()` from a
+    /// band of source rows instead of a whole frame: bit-identical to
+    /// [`warp_rows`](Self::warp_rows) on the full source whenever the band
+    /// holds every row the strip reads ([`source_rows`](Self::source_rows));
+    /// otherwise [`Error::BandRows`] naming both ranges. The band's width and
+    /// channels must match the grid's source (`SizeMismatch`,
+    /// `UnsupportedChannels`), the strip as for `warp_rows`.
+    ///
+    /// ```
+    /// use fixsight::filter::Border;
+    /// use fixsight::warp::{ControlGrid, SourceBand, WarpGeometry};
+    /// use fixsight::{Error, ImageView, ImageViewMut};
+    /// let g = WarpGeometry::new(4, 4, 4, 4, 2)?;
+    /// let m = ControlGrid::new(&[0, 0, 16, 0, 0, 16, 16, 16], g, 2)?; // identity
+    /// let src: [u8; 16] = core::array::from_fn(|i| 5 * i as u8);
+    /// // A 3-row ring holding source rows 1, 2, 3: row 3 sits in slot 0.
+    /// let mut ring = [0u8; 12];
+    /// for y in 1..4 {
+    ///     ring[(y % 3) * 4..(y % 3) * 4 + 4].copy_from_slice(&src[y * 4..y * 4 + 4]);
+    /// }
+    /// let band = SourceBand::new(ImageView::new(&ring, 4, 3, 4)?, 1, 1)?;
+    /// let mut row = [0u8; 4];
+    /// m.warp_band(&band, &mut ImageViewMut::new(&mut row, 4, 1, 4)?, 2, Border::Clamp)?;
+    /// assert_eq!(row, src[8..12]);
+    /// // Output row 0 reads source rows 0 and 1; row 0 is not in the band.
+    /// assert!(matches!(
+    ///     m.warp_band(&band, &mut ImageViewMut::new(&mut row, 4, 1, 4)?, 0, Border::Clamp),
+    ///     Err(Error::BandRows { needed_first: 0, held_first: 1, .. })));
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn warp_band(
+        &self,
+        band: &SourceBand<'_>,
+        dst: &mut ImageViewMut<'_, u8>,
+        first_row: usize,
+        border: Border,
+    ) -> Result<()> {
+        let rows = dst.height();
+        self.band_strip(band, dst, first_row, rows, None, border)
+    }
+
+    /// [`warp_band`](Self::warp_band) into the first `count` rows of `dst`;
+    /// `known` is `source_rows(first_row, count)` when the caller has it.
+    fn band_strip(
+        &self,
+        band: &SourceBand<'_>,
+        dst: &mut ImageViewMut<'_, u8>,
+        first_row: usize,
+        count: usize,
+        known: Option<SourceRows>,
+        border: Border,
+    ) -> Result<()> {
+        let g = &self.geom;
+        let v = &band.view;
+        if v.width() != g.src_width {
+            return Err(Error::SizeMismatch {
+                what: "warp band width vs grid source width",
+                expected: (g.src_width, v.height()),
+                got: (v.width(), v.height()),
+            });
+        }
+        g.check_strip(v.channels(), dst, first_row, count)?;
+        let need = match known {
+            Some(n) => n,
+            None => self.source_rows(first_row, count)?,
+        };
+        let held = band.rows();
+        if need.first < held.first || need.last > held.last {
+            return Err(Error::BandRows {
+                needed_first: need.first,
+                needed_last: need.last,
+                held_first: held.first,
+                held_last: held.last,
+            });
+        }
+        let rows = Rows {
+            view: *v,
+            shift: band.first_slot.wrapping_sub(band.first_row),
+            cap: v.height(),
+        };
+        self.dispatch::<true>(rows, dst, first_row, count, border);
+        Ok(())
+    }
+
+    /// The channel dispatch of the checked entry points.
+    fn dispatch<const RING: bool>(
+        &self,
+        src: Rows<'_>,
+        dst: &mut ImageViewMut<'_, u8>,
+        first_row: usize,
+        n: usize,
+        border: Border,
+    ) {
+        match src.view.channels() {
+            1 => self.rows::<1, RING>(src, dst, first_row, n, border),
+            2 => self.rows::<2, RING>(src, dst, first_row, n, border),
+            3 => self.rows::<3, RING>(src, dst, first_row, n, border),
+            _ => self.rows::<4, RING>(src, dst, first_row, n, border),
+        }
+    }
+
+    /// Cell row `j` and offset `v` of output row `y`.
+    #[inline(always)]
+    fn cell_row(&self, y: usize) -> (usize, i32) {
+        let j = (y >> self.k).min(self.rows - 2);
+        (j, (y - (j << self.k)) as i32)
+    }
+
+    /// Output columns `x_start .. x_end` of cell column `i`, or `None` when
+    /// the cell starts past the output (extra points of a short last cell).
+    #[inline(always)]
+    fn cell_span(&self, i: usize) -> Option<(usize, usize)> {
+        let w = self.geom.out_width;
+        let x_start = i << self.k;
+        if x_start >= w {
+            return None;
+        }
+        let x_end = if i == self.cols - 2 {
+            w
+        } else {
+            (x_start + (1 << self.k)).min(w)
+        };
+        Some((x_start, x_end))
+    }
+
+    /// The incremental form (module docs) of one axis along output row
+    /// offset `v` of cell `(i, j)`.
+    #[inline(always)]
+    fn axis(&self, i: usize, j: usize, v: i32, axis: usize) -> Axis {
+        Axis::new(self.corners(i, j, axis), v, self.k)
+    }
+
+    fn rows<const C: usize, const RING: bool>(
+        &self,
+        src: Rows<'_>,
+        dst: &mut ImageViewMut<'_, u8>,
+        first_row: usize,
+        count: usize,
+        border: Border,
+    ) {
+        let g = &self.geom;
+        let s = Sampler::<RING>::new(src, g.src_width, g.src_height, g.frac_bits, border);
+        let w = g.out_width;
+        for r in 0..count {
+            let (j, v) = self.cell_row(first_row + r);
+            let (fast, runs, cells) = self.row_cells::<C, RING>(&s, dst.row_at_mut(r), j, v);
+            // Per cell: 4 corner loads (the left ones are the previous
+            // cell's right ones), 4 multiplies, 12 add/sub, 4 shifts.
+            tally_per(Op::Load, 4, cells);
+            tally(Op::Load, 4);
             tally_per(Op::Mul, 4, cells);
             tally_per(Op::AddSub, 12, cells);
             tally_per(Op::Shift, 4, cells);
             tally_per(Op::Branch, 1, cells);
             tally(Op::Branch, 1);
+            // Per all-inside grey run: the range test (4 coordinate
+            // evaluations, 8 compares) and the scaled accumulators.
+            tally_per(Op::Mul, 4, runs);
+            tally_per(Op::Logic, 8, runs);
+            tally_per(Op::Shift, 8, runs);
+            tally_per(Op::AddSub, 8, runs);
             // Per pixel: 2 accumulator adds, 2 shifts, 2 base adds, loop test.
-            let n = w;
-            tally_per(Op::AddSub, 4, n);
-            tally_per(Op::Shift, 2, n);
-            tally_per(Op::Logic, 1, n);
+            tally_per(Op::AddSub, 4, w);
+            tally_per(Op::Shift, 2, w);
+            tally_per(Op::Logic, 1, w);
             tally_samples(w, fast, C);
+        }
+    }
+}
+
+impl ControlGrid<'_> {
+    /// One output row (`out`, cell row `j`, offset `v`), cell by cell.
+    /// Returns `(pixels on the all-inside path, grey runs, cells)`. Kept out
+    /// of line so that its loop has the registers to itself.
+    #[inline(never)]
+    fn row_cells<const C: usize, const RING: bool>(
+        &self,
+        s: &Sampler<'_, RING>,
+        out: &mut [u8],
+        j: usize,
+        v: i32,
+    ) -> (usize, usize, usize) {
+        let sh = 2 * self.k;
+        let (mut fast, mut runs, mut cells) = (0usize, 0usize, 0usize);
+        // The left corners of cell `i` are the right ones of cell `i - 1`.
+        let (top, bottom) = (j * self.cols, (j + 1) * self.cols);
+        let (mut l0, mut l1) = (self.points.pair(top), self.points.pair(bottom));
+        for i in 0..self.cols - 1 {
+            let Some((x_start, x_end)) = self.cell_span(i) else {
+                break;
+            };
+            cells += 1;
+            let (r0, r1) = (
+                self.points.pair(top + i + 1),
+                self.points.pair(bottom + i + 1),
+            );
+            let ax = Axis::new((l0.0, r0.0, l1.0, r1.0), v, self.k);
+            let ay = Axis::new((l0.1, r0.1, l1.1, r1.1), v, self.k);
+            (l0, l1) = (r0, r1);
+            let Some(seg) = out.get_mut(x_start * C..x_end * C) else {
+                break;
+            };
+            if C == 1 && grey_inside(s, &ax, &ay, sh, seg) {
+                fast += seg.len();
+                runs += 1;
+            } else {
+                fast += cell_pixels::<C, RING>(s, &ax, &ay, sh, seg);
+            }
+        }
+        (fast, runs, cells)
+    }
+}
+
+/// The general per-pixel loop over one output row of one cell (any
+/// channels, any border): the incremental coordinates of the module docs
+/// fed to the sampling model. Returns the pixels that took the sampler's
+/// all-inside path.
+#[inline(never)]
+fn cell_pixels<const C: usize, const RING: bool>(
+    s: &Sampler<'_, RING>,
+    ax: &Axis,
+    ay: &Axis,
+    sh: u32,
+    seg: &mut [u8],
+) -> usize {
+    let n = seg.len() / C;
+    let (mut a_x, mut a_y) = (ax.a0, ay.a0);
+    let mut fast = 0usize;
+    for (u, o) in seg.chunks_exact_mut(C).enumerate() {
+        fast += s.sample::<C>(ax.c00 + (a_x >> sh), ay.c00 + (a_y >> sh), o) as usize;
+        // The accumulator is advanced only while another pixel of this cell
+        // follows, so it never leaves the proven range.
+        if u + 1 < n {
+            a_x += ax.d;
+            a_y += ay.d;
+        }
+    }
+    fast
+}
+
+/// One axis of the incremental grid form along one output row of one
+/// cell: the coordinate at offset `u` is `c00 + ((a0 + u * d) >> 2k)`.
+#[derive(Clone, Copy)]
+struct Axis {
+    c00: i32,
+    a0: i32,
+    d: i32,
+}
+
+impl Axis {
+    /// From the cell corners `(C00, C10, C01, C11)` of one axis, output row
+    /// offset `v` and step `2^k` (module docs: `L`, `R`, `D`, `A`).
+    #[inline(always)]
+    fn new((c00, c10, c01, c11): (i32, i32, i32, i32), v: i32, k: u32) -> Self {
+        let l = v * (c01 - c00);
+        let r = ((c10 - c00) << k) + v * (c11 - c10);
+        Axis {
+            c00,
+            a0: (l << k) + (1 << (2 * k - 1)),
+            d: r - l,
+        }
+    }
+
+    /// The raw coordinate at offset `u` (`0..=S`). `a0 + u * d` and
+    /// `u * d` stay within the bound construction proved for the cell
+    /// (module docs), so the `i32` arithmetic is exact.
+    #[inline(always)]
+    fn at(&self, u: i32, sh: u32) -> i32 {
+        self.c00 + ((self.a0 + u * self.d) >> sh)
+    }
+}
+
+/// Largest raw coordinate (exclusive) of the all-inside grey loop: its
+/// accumulators hold `coordinate << 12` plus 12 fraction bits in a `u32`.
+const RUN_COORD_LIMIT: i32 = 1 << 20;
+
+/// The all-inside grey fast path of one output row of one cell: when every
+/// tap of every pixel of `seg` lies inside the image (`0 <= x0 <= W-2`,
+/// `0 <= y0 <= H-2`, tested at the segment's two ends, between which the
+/// coordinate is monotonic), the tap rows sit in the band without wrapping,
+/// and the coordinates stay below [`RUN_COORD_LIMIT`], runs [`grey_run`] and
+/// returns `true`; otherwise touches nothing and returns `false`.
+///
+/// The run's accumulators are the cell's `A` scaled to 12 fraction bits
+/// (`A << (12 - 2k)`, exact since `2k <= 12`) with the coordinate base
+/// folded in: `X = (c00 << 12) + (A << (12 - 2k))`, so `X >> 12` is the
+/// grid coordinate `c00 + (A >> 2k)` itself, `x0 = X >> (12 + F)` and
+/// `fx = (X >> 12) & (2^F - 1)`. The y accumulator counts from the band's
+/// first tap row.
+#[inline(always)]
+fn grey_inside<const RING: bool>(
+    s: &Sampler<'_, RING>,
+    ax: &Axis,
+    ay: &Axis,
+    sh: u32,
+    seg: &mut [u8],
+) -> bool {
+    let Some(last) = seg.len().checked_sub(1) else {
+        return true;
+    };
+    let last = last as i32;
+    let f = s.f;
+    let (x_a, x_b) = (ax.at(0, sh), ax.at(last, sh));
+    let (y_a, y_b) = (ay.at(0, sh), ay.at(last, sh));
+    let (xlo, xhi) = (x_a.min(x_b), x_a.max(x_b));
+    let (ylo, yhi) = (y_a.min(y_b), y_a.max(y_b));
+    // Coordinates are below 2^27 in magnitude and `wm1, hm1 < 2^15`, `F <= 10`.
+    if xlo < 0
+        || ylo < 0
+        || xhi >= (s.wm1 << f) as i32
+        || yhi >= (s.hm1 << f) as i32
+        || xhi >= RUN_COORD_LIMIT
+    {
+        return false;
+    }
+    let y_first = (ylo >> f) as usize;
+    let y_last = (yhi >> f) as usize + 1;
+    let slot = if RING { s.rows.slot(y_first) } else { y_first };
+    if RING && slot + (y_last - y_first) >= s.rows.cap {
+        return false;
+    }
+    let y_base = (y_first as i32) << f;
+    if yhi - y_base >= RUN_COORD_LIMIT {
+        return false;
+    }
+    let up = 12 - sh;
+    // The true values are in 0..2^32 by the tests above, so the wrapping
+    // `u32` arithmetic gives them exactly; the steps keep their
+    // two's-complement bits and the loop adds them wrapping.
+    let x = (ax.c00 as u32)
+        .wrapping_shl(12)
+        .wrapping_add((ax.a0 as u32).wrapping_shl(up));
+    let y = ((ay.c00 - y_base) as u32)
+        .wrapping_shl(12)
+        .wrapping_add((ay.a0 as u32).wrapping_shl(up));
+    let dx = (ax.d as u32).wrapping_shl(up);
+    let dy = (ay.d as u32).wrapping_shl(up);
+    let base = s.rows.view.rows_from(slot);
+    // A stride below 2^16 lets the compiler see that the tap index cannot
+    // overflow (one bounds test per pixel instead of two).
+    let Ok(stride) = u16::try_from(s.rows.view.stride()) else {
+        return false;
+    };
+    let acc = (x, y, dx, dy);
+    match f {
+        2 => grey_run::<2>(base, stride, acc, seg),
+        3 => grey_run::<3>(base, stride, acc, seg),
+        4 => grey_run::<4>(base, stride, acc, seg),
+        5 => grey_run::<5>(base, stride, acc, seg),
+        6 => grey_run::<6>(base, stride, acc, seg),
+        7 => grey_run::<7>(base, stride, acc, seg),
+        8 => grey_run::<8>(base, stride, acc, seg),
+        9 => grey_run::<9>(base, stride, acc, seg),
+        _ => grey_run::<10>(base, stride, acc, seg),
+    }
+    true
+}
+
+/// The grey inner loop with all four taps inside (see [`grey_inside`]),
+/// `F` fractional bits. Per pixel, with the accumulators `(x, y)` of
+/// [`grey_inside`]: the taps `a b / c d` at `base[y0 * stride + x0 ..]` and
+///
+/// ```text
+/// top = (a << F) + (b - a) * fx          = a * (2^F - fx) + b * fx
+/// bot = (c << F) + (d - c) * fx          = c * (2^F - fx) + d * fx
+/// acc = (top << F) + (bot - top) * fy    = top * (2^F - fy) + bot * fy
+/// out = (acc + 2^(2F-1)) >> 2F
+/// ```
+///
+/// which is the sampling model term for term (exact integer identities;
+/// `0 <= acc <= 255 * 2^2F`, so the saturation of the model never acts).
+// Not inlined: each `F` gets a small function of its own, with the loop's
+// values in registers.
+#[inline(never)]
+fn grey_run<const F: u32>(
+    base: &[u8],
+    stride: u16,
+    (mut x, mut y, dx, dy): (u32, u32, u32, u32),
+    seg: &mut [u8],
+) {
+    let mask = (1u32 << F) - 1;
+    let half = 1i32 << (2 * F - 1);
+    let stride = stride as usize;
+    let span = stride + 2;
+    // Taps at `i .. i + span` with `i <= last`; `grey_inside` proved every
+    // pixel's `i` is, so the early returns are never taken.
+    let Some(last) = base.len().checked_sub(span) else {
+        return;
+    };
+    for o in seg.iter_mut() {
+        let x0 = (x >> (12 + F)) as usize;
+        let fx = ((x >> 12) & mask) as i32;
+        // `y0 <= H - 2 < 2^15`: the mask loses nothing and bounds the index.
+        let y0 = ((y >> (12 + F)) & 0x7fff) as usize;
+        let fy = ((y >> 12) & mask) as i32;
+        let i = y0 * stride + x0;
+        if i > last {
+            return;
+        }
+        let q = &base[i..i + span];
+        let (a, b) = (q[0] as i32, q[1] as i32);
+        let (c, d) = (q[stride] as i32, q[stride + 1] as i32);
+        let top = (a << F) + (b - a) * fx;
+        let bot = (c << F) + (d - c) * fx;
+        let acc = (top << F) + (bot - top) * fy;
+        *o = ((acc + half) >> (2 * F)) as u8;
+        x = x.wrapping_add(dx);
+        y = y.wrapping_add(dy);
+    }
+}
+
+/// The source rows an output strip reads, `first ..= last` (see
+/// [`ControlGrid::source_rows`]), or the rows a band holds.
+///
+/// ```
+/// use fixsight::warp::SourceRows;
+/// let r = SourceRows { first: 3, last: 9 };
+/// assert_eq!(r.count(), 7);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SourceRows {
+    /// First source row.
+    pub first: usize,
+    /// Last source row (inclusive).
+    pub last: usize,
+}
+
+impl SourceRows {
+    /// Number of rows, `last - first + 1` (0 if `last < first`).
+    ///
+    /// ```
+    /// assert_eq!(fixsight::warp::SourceRows { first: 0, last: 0 }.count(), 1);
+    /// ```
+    pub fn count(&self) -> usize {
+        (self.last + 1).saturating_sub(self.first)
+    }
+}
+
+/// A band of consecutive source rows in caller memory, for
+/// [`ControlGrid::warp_band`]: `view` is `src_width` wide and `h` rows high
+/// and holds source rows `first_row .. first_row + h`, source row
+/// `first_row + t` in view row `(first_slot + t) % h`. A plain band (rows in
+/// order) has `first_slot = 0`; a ring filled row after row (row `y` in slot
+/// `y % h`) has `first_slot = first_row % h`.
+///
+/// ```
+/// use fixsight::warp::{SourceBand, SourceRows};
+/// use fixsight::ImageView;
+/// let ring = [0u8; 5 * 8];
+/// let band = SourceBand::new(ImageView::new(&ring, 8, 5, 8)?, 12, 12 % 5)?;
+/// assert_eq!(band.rows(), SourceRows { first: 12, last: 16 });
+/// assert!(SourceBand::new(ImageView::new(&ring, 8, 5, 8)?, 12, 5).is_err());
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy)]
+pub struct SourceBand<'a> {
+    view: ImageView<'a, u8>,
+    first_row: usize,
+    first_slot: usize,
+}
+
+impl<'a> SourceBand<'a> {
+    /// A band holding source rows `first_row ..` with `first_row` in view
+    /// row `first_slot` (`< view.height()`, else [`Error::BadParameter`]);
+    /// `first_row` up to [`crate::image::MAX_DIM`].
+    ///
+    /// ```
+    /// use fixsight::warp::SourceBand;
+    /// use fixsight::ImageView;
+    /// let rows = [0u8; 3 * 4];
+    /// assert!(SourceBand::new(ImageView::new(&rows, 4, 3, 4)?, 0, 0).is_ok());
+    /// assert!(SourceBand::new(ImageView::new(&rows, 4, 3, 4)?, 40_000, 0).is_err());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn new(view: ImageView<'a, u8>, first_row: usize, first_slot: usize) -> Result<Self> {
+        if first_slot >= view.height() {
+            return Err(Error::BadParameter {
+                name: "first_slot",
+                expected: "below the band height",
+                got: first_slot as i64,
+            });
+        }
+        if first_row > crate::image::MAX_DIM {
+            return Err(Error::BadParameter {
+                name: "first_row",
+                expected: "0..=32767",
+                got: first_row as i64,
+            });
+        }
+        Ok(Self {
+            view,
+            first_row,
+            first_slot,
+        })
+    }
+
+    /// The source rows the band holds.
+    ///
+    /// ```
+    /// use fixsight::warp::{SourceBand, SourceRows};
+    /// use fixsight::ImageView;
+    /// let rows = [0u8; 2 * 4];
+    /// let b = SourceBand::new(ImageView::new(&rows, 4, 2, 4)?, 7, 1)?;
+    /// assert_eq!(b.rows(), SourceRows { first: 7, last: 8 });
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn rows(&self) -> SourceRows {
+        SourceRows {
+            first: self.first_row,
+            last: self.first_row + self.view.height() - 1,
+        }
+    }
+}
+
+/// One strip a [`GridStream`] wrote: output rows `first_row .. first_row +
+/// rows`, in rows `0 .. rows` of the caller's strip view.
+///
+/// ```
+/// let s = fixsight::warp::StripDone { first_row: 16, rows: 8 };
+/// assert_eq!(s.first_row + s.rows, 24);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct StripDone {
+    /// First output row of the strip.
+    pub first_row: usize,
+    /// Rows in the strip (`strip_rows`, fewer for the last strip).
+    pub rows: usize,
+}
+
+/// The control-grid warp fed row by row: the caller pushes source rows in
+/// order (a copy with [`push_row`](Self::push_row), or straight into the
+/// ring with [`row_slot`](Self::row_slot) and
+/// [`commit_row`](Self::commit_row), e.g. by a camera DMA) and takes each
+/// output strip of `strip_rows` rows with [`next_strip`](Self::next_strip)
+/// as soon as the source rows it reads are in. Output is bit-identical to
+/// [`ControlGrid::warp_rows`] on the whole frame (the same row loop, reading
+/// the ring through [`ControlGrid::warp_band`]).
+///
+/// Memory: a caller ring of at least
+/// [`ControlGrid::band_rows`]`(strip_rows)` source rows of
+/// `src_width * channels` bytes; source row `y` lives in ring row
+/// `y % ring_rows`. No other buffer.
+///
+/// Order rules (else [`Error::StreamOrder`]): a strip that is ready must be
+/// taken before the next row is pushed (this is what keeps a ring of
+/// `band_rows` rows from overwriting a row a later strip reads); no more
+/// than `src_height` rows per frame. [`reset`](Self::reset) starts the next
+/// frame (also after a short or dropped one). Once every source row is in,
+/// every remaining strip is ready.
+///
+/// ```
+/// use fixsight::filter::Border;
+/// use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+/// use fixsight::{ImageView, ImageViewMut};
+/// // Identity grid, 8x8, step 4, F = 2; strips of 4 rows.
+/// let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+/// let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+/// let grid = ControlGrid::new(&pts, g, 2)?;
+/// assert_eq!(grid.band_rows(4)?, 5);
+/// let mut ring = [0u8; 5 * 8];
+/// let mut st = GridStream::new(grid, &mut ring, 1, 4, Border::Clamp)?;
+/// let src: Vec<u8> = (0..64).map(|i| i as u8).collect();
+/// let (mut out, mut strip) = ([0u8; 64], [0u8; 32]);
+/// for y in 0..=8 {
+///     // Take every ready strip, then push the next row (if any).
+///     while let Some(d) = st.next_strip(&mut ImageViewMut::new(&mut strip, 8, 4, 8)?)? {
+///         out[d.first_row * 8..(d.first_row + d.rows) * 8].copy_from_slice(&strip[..d.rows * 8]);
+///     }
+///     if y < 8 {
+///         st.push_row(&src[y * 8..y * 8 + 8])?;
+///     }
+/// }
+/// assert!(st.finished());
+/// assert_eq!(&out[..], &src[..]);
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug)]
+pub struct GridStream<'g, 'r> {
+    grid: ControlGrid<'g>,
+    ring: &'r mut [u8],
+    ring_rows: usize,
+    row_len: usize,
+    channels: usize,
+    strip_rows: usize,
+    band_rows: usize,
+    border: Border,
+    pushed: usize,
+    next_row: usize,
+    /// Source rows the strip starting at `next_row` reads.
+    pending: SourceRows,
+}
+
+impl<'g, 'r> GridStream<'g, 'r> {
+    /// A stream over `grid` for sources of `channels` (1..=4) interleaved
+    /// channels, output in strips of `strip_rows` (>= 1) rows, with the
+    /// caller's `ring` (its first `ring_rows * src_width * channels` bytes
+    /// are used, `ring_rows = min(ring.len() / (src_width * channels),
+    /// src_height)`, which must be at least `grid.band_rows(strip_rows)`,
+    /// else [`Error::BufferTooShort`] with the bytes needed).
+    ///
+    /// ```
+    /// use fixsight::filter::Border;
+    /// use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// use fixsight::Error;
+    /// let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut small = [0u8; 4 * 8];
+    /// assert!(matches!(GridStream::new(grid, &mut small, 1, 4, Border::Clamp),
+    ///                  Err(Error::BufferTooShort { needed: 40, .. })));
+    /// assert!(GridStream::new(grid, &mut small, 5, 1, Border::Clamp).is_err());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn new(
+        grid: ControlGrid<'g>,
+        ring: &'r mut [u8],
+        channels: usize,
+        strip_rows: usize,
+        border: Border,
+    ) -> Result<Self> {
+        if !(1..=4).contains(&channels) {
+            return Err(Error::UnsupportedChannels {
+                channels,
+                accepted: "1 to 4",
+            });
+        }
+        let g = grid.geometry();
+        let band_rows = grid.band_rows(strip_rows)?;
+        let row_len = g.src_width * channels;
+        let ring_rows = (ring.len() / row_len).min(g.src_height);
+        if ring_rows < band_rows {
+            return Err(Error::BufferTooShort {
+                what: "grid stream ring",
+                needed: band_rows * row_len,
+                got: ring.len(),
+            });
+        }
+        let strip_rows = strip_rows.min(g.out_height);
+        let pending = grid.source_rows(0, strip_rows)?;
+        Ok(Self {
+            grid,
+            ring,
+            ring_rows,
+            row_len,
+            channels,
+            strip_rows,
+            band_rows,
+            border,
+            pushed: 0,
+            next_row: 0,
+            pending,
+        })
+    }
+
+    /// Ring rows the grid needs at this strip height
+    /// ([`ControlGrid::band_rows`]).
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// assert_eq!(st.band_rows(), 2);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn band_rows(&self) -> usize {
+        self.band_rows
+    }
+
+    /// Source rows pushed in this frame.
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// st.push_row(&[0; 8])?;
+    /// assert_eq!(st.rows_pushed(), 1);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn rows_pushed(&self) -> usize {
+        self.pushed
+    }
+
+    /// `true` once every output row of the frame was written.
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// assert!(!st.finished());
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn finished(&self) -> bool {
+        self.next_row >= self.grid.geom.out_height
+    }
+
+    /// Whether the next strip's source rows are all in.
+    fn ready(&self) -> bool {
+        !self.finished() && self.pending.last < self.pushed
+    }
+
+    /// Checks that one more row may be pushed now.
+    fn check_push(&self) -> Result<()> {
+        if self.pushed >= self.grid.geom.src_height {
+            return Err(Error::StreamOrder {
+                reason: "every source row of the frame is in; reset for the next frame",
+            });
+        }
+        if self.ready() {
+            return Err(Error::StreamOrder {
+                reason: "a strip is ready: take it with next_strip before pushing the next row",
+            });
+        }
+        Ok(())
+    }
+
+    /// Copies source row `rows_pushed()` into the ring. `row` must be
+    /// `src_width * channels` bytes ([`Error::RowLength`]).
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// assert!(st.push_row(&[0; 7]).is_err());
+    /// st.push_row(&[0; 8])?;
+    /// st.push_row(&[0; 8])?;
+    /// assert!(st.push_row(&[0; 8]).is_err()); // output row 0 is ready: take it first
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn push_row(&mut self, row: &[u8]) -> Result<()> {
+        if row.len() != self.row_len {
+            return Err(Error::RowLength {
+                what: "grid stream source row",
+                expected: self.row_len,
+                got: row.len(),
+            });
+        }
+        self.row_slot()?.copy_from_slice(row);
+        self.commit_row()
+    }
+
+    /// The ring row where source row `rows_pushed()` goes, for a camera
+    /// DMA (or any writer) to fill in place; [`commit_row`](Self::commit_row)
+    /// then counts it in. Same order rules as [`push_row`](Self::push_row).
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// st.row_slot()?.fill(7);
+    /// st.commit_row()?;
+    /// assert_eq!(st.rows_pushed(), 1);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn row_slot(&mut self) -> Result<&mut [u8]> {
+        self.check_push()?;
+        let at = (self.pushed % self.ring_rows) * self.row_len;
+        Ok(&mut self.ring[at..at + self.row_len])
+    }
+
+    /// Counts in the row written through [`row_slot`](Self::row_slot).
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// st.commit_row()?;
+    /// st.commit_row()?;
+    /// assert!(st.commit_row().is_err()); // output row 0 is ready
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn commit_row(&mut self) -> Result<()> {
+        self.check_push()?;
+        self.pushed += 1;
+        Ok(())
+    }
+
+    /// Writes the next strip into rows `0..rows` of `dst` (width
+    /// `out_width`, the stream's channels, at least `rows` rows) if every
+    /// source row it reads is in, and returns which rows it wrote; `None`
+    /// when the strip waits for rows, or the frame is finished.
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # use fixsight::ImageViewMut;
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// let mut row = [0u8; 8];
+    /// st.push_row(&[9; 8])?;
+    /// assert_eq!(st.next_strip(&mut ImageViewMut::new(&mut row, 8, 1, 8)?)?, None);
+    /// st.push_row(&[9; 8])?;
+    /// let done = st.next_strip(&mut ImageViewMut::new(&mut row, 8, 1, 8)?)?;
+    /// assert_eq!(done, Some(fixsight::warp::StripDone { first_row: 0, rows: 1 }));
+    /// assert_eq!(row, [9; 8]);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn next_strip(&mut self, dst: &mut ImageViewMut<'_, u8>) -> Result<Option<StripDone>> {
+        let g = self.grid.geom;
+        let rows = self
+            .strip_rows
+            .min(g.out_height - self.next_row.min(g.out_height));
+        if dst.width() != g.out_width || dst.height() < rows {
+            return Err(Error::SizeMismatch {
+                what: "grid stream strip vs output width and strip rows",
+                expected: (g.out_width, rows),
+                got: (dst.width(), dst.height()),
+            });
+        }
+        if dst.channels() != self.channels {
+            return Err(Error::UnsupportedChannels {
+                channels: dst.channels(),
+                accepted: "the channel count the stream was made for",
+            });
+        }
+        if !self.ready() {
+            return Ok(None);
+        }
+        // The ring holds the newest `ring_rows` rows pushed.
+        let first = self.pushed.saturating_sub(self.ring_rows);
+        let held = self.pushed.min(self.ring_rows);
+        let view = ImageView::interleaved(
+            &self.ring[..held * self.row_len],
+            g.src_width,
+            held,
+            self.row_len,
+            self.channels,
+        )?;
+        let band = SourceBand::new(view, first, first % self.ring_rows)?;
+        let first_row = self.next_row;
+        self.grid
+            .band_strip(&band, dst, first_row, rows, Some(self.pending), self.border)?;
+        self.next_row += rows;
+        if !self.finished() {
+            let n = self.strip_rows.min(g.out_height - self.next_row);
+            self.pending = self.grid.source_rows(self.next_row, n)?;
+        }
+        Ok(Some(StripDone { first_row, rows }))
+    }
+
+    /// Starts a new frame: no rows in, output from row 0. The ring keeps
+    /// its bytes (they are overwritten as rows come in).
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// st.push_row(&[1; 8])?; // a frame cut short after one row
+    /// st.reset();
+    /// assert_eq!(st.rows_pushed(), 0);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn reset(&mut self) {
+        self.pushed = 0;
+        self.next_row = 0;
+        // Rows 0..strip_rows were valid at construction.
+        if let Ok(p) = self.grid.source_rows(0, self.strip_rows) {
+            self.pending = p;
         }
     }
 }
@@ -1527,6 +2666,44 @@ mod tests {
         ));
     }
 
+    /// A xorshift64 generator seeded with `seed` (never zero).
+    fn xorshift(seed: u64) -> impl FnMut() -> u64 {
+        let mut st = seed | 1;
+        move || {
+            st ^= st << 13;
+            st ^= st >> 7;
+            st ^= st << 17;
+            st
+        }
+    }
+
+    /// `n` raw `(x, y)` pairs drawn uniformly from the ranges `xr`, `yr`.
+    fn random_points(
+        n: usize,
+        (xl, xh): (i32, i32),
+        (yl, yh): (i32, i32),
+        next: &mut impl FnMut() -> u64,
+    ) -> Vec<i32> {
+        (0..n)
+            .flat_map(|_| {
+                [
+                    xl + (next() % (xh - xl + 1) as u64) as i32,
+                    yl + (next() % (yh - yl + 1) as u64) as i32,
+                ]
+            })
+            .collect()
+    }
+
+    /// The grid over `pts`, or `None` when a cell could overflow (a case
+    /// the property tests skip); any other error fails the test.
+    fn grid_or_skip(pts: &[i32], g: WarpGeometry, k: u32) -> Option<ControlGrid<'_>> {
+        match ControlGrid::new(pts, g, k) {
+            Ok(m) => Some(m),
+            Err(Error::GridCellOverflow { .. }) => None,
+            Err(e) => panic!("{e}"),
+        }
+    }
+
     fn arb_border() -> impl Strategy<Value = Border> {
         prop_oneof![Just(Border::Clamp), any::<u8>().prop_map(Border::Fill)]
     }
@@ -1546,8 +2723,7 @@ mod tests {
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (xl, xh) = g.coord_range_x();
             let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
+            let mut next = xorshift(seed);
             let src: Vec<u8> = (0..w * h * c).map(|_| next() as u8).collect();
             let coords: Vec<i32> = (0..ow * oh).flat_map(|_| {
                 let x = xl + (next() % (xh - xl + 1) as u64) as i32;
@@ -1589,19 +2765,9 @@ mod tests {
         ) {
             let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
             let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
-            let (xl, xh) = g.coord_range_x();
-            let (yl, yh) = g.coord_range_y();
-            let mut st = seed | 1;
-            let mut next = || { st ^= st << 13; st ^= st >> 7; st ^= st << 17; st };
-            let pts: Vec<i32> = (0..cols * rows).flat_map(|_| {
-                [xl + (next() % (xh - xl + 1) as u64) as i32,
-                 yl + (next() % (yh - yl + 1) as u64) as i32]
-            }).collect();
-            let grid = match ControlGrid::new(&pts, g, k) {
-                Ok(m) => m,
-                Err(Error::GridCellOverflow { .. }) => return Ok(()),
-                Err(e) => panic!("{e}"),
-            };
+            let mut next = xorshift(seed);
+            let pts = random_points(cols * rows, g.coord_range_x(), g.coord_range_y(), &mut next);
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
             let s = 1i128 << k;
             let mut coords = vec![0i32; 2 * ow * oh];
             for y in 0..oh {
@@ -1642,6 +2808,194 @@ mod tests {
             back.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut d, ow, rows_out, ow * c, c).unwrap(),
                 first, border).unwrap();
             prop_assert_eq!(d, b);
+        }
+
+        /// Near-identity grids (every tap inside, so the grey all-inside
+        /// loop runs) equal the pixel-map path fed with the grid
+        /// coordinates, for every F and step, whole frame and strips.
+        #[test]
+        fn grey_inside_loop_matches_pixel_map_path(
+            ow in 1usize..70, oh in 1usize..40, extra_w in 2usize..9, extra_h in 2usize..9,
+            k in 2u32..=6, f in 2u32..=10, border in arb_border(), seed in any::<u64>(),
+            first in 0usize..40,
+        ) {
+            let (w, h) = (ow + extra_w, oh + extra_h);
+            let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
+            let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
+            let mut next = xorshift(seed);
+            // Points at (x, y) + 0.5 px + jitter of up to +-0.45 px, clamped
+            // so that every tap stays inside.
+            let one = 1i64 << f;
+            let jit = (one * 45 / 100).max(1);
+            let pts: Vec<i32> = (0..cols * rows).flat_map(|p| {
+                let (i, j) = ((p % cols) << k, (p / cols) << k);
+                let mut c = |base: usize, n: usize| {
+                    let v = ((base as i64) << f) + one / 2 + (next() % (2 * jit as u64 + 1)) as i64 - jit;
+                    v.clamp(0, ((n as i64 - 1) << f) - 1) as i32
+                };
+                let x = c(i, w);
+                [x, c(j, h)]
+            }).collect();
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
+            let coords: Vec<i32> = (0..ow * oh).flat_map(|p| {
+                let (x, y) = grid.coord(p % ow, p / ow).unwrap();
+                [x, y]
+            }).collect();
+            let src: Vec<u8> = (0..w * h).map(|_| next() as u8).collect();
+            let sv = ImageView::new(&src, w, h, w).unwrap();
+            let first = first.min(oh - 1);
+            let n = oh - first;
+            let mut a = vec![0u8; ow * n];
+            let mut b = vec![0u8; ow * n];
+            grid.warp_rows(&sv, &mut ImageViewMut::new(&mut a, ow, n, ow).unwrap(), first, border).unwrap();
+            PixelMap::new(&coords, g).unwrap()
+                .warp_rows(&sv, &mut ImageViewMut::new(&mut b, ow, n, ow).unwrap(), first, border).unwrap();
+            prop_assert_eq!(&a, &b);
+            let mut c = vec![0u8; ow * n];
+            grid.warp_rows_grey(&sv, &mut ImageViewMut::new(&mut c, ow, n, ow).unwrap(), first, border).unwrap();
+            prop_assert_eq!(c, b);
+        }
+
+        /// `source_rows` equals the brute-force hull of every tap row, and
+        /// a band holding exactly those rows (at any ring position) gives
+        /// the whole-frame rows, while a band one row short at either end
+        /// is refused.
+        #[test]
+        fn source_rows_is_exact_and_bands_match_frames(
+            ow in 1usize..40, oh in 1usize..30, w in 1usize..20, h in 1usize..24,
+            k in 2u32..=6, f in 2u32..=10, c in prop_oneof![Just(1usize), Just(3usize)],
+            border in arb_border(), seed in any::<u64>(), first in 0usize..30, len in 1usize..30,
+            rot in 0usize..64, tame in any::<bool>(),
+        ) {
+            let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
+            let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
+            let mut next = xorshift(seed);
+            // Wild points over the accepted range, or tame ones inside the image.
+            let (xr, yr) = if tame {
+                ((0, ((w as i32 - 1) << f).max(0)), (0, ((h as i32 - 1) << f).max(0)))
+            } else {
+                (g.coord_range_x(), g.coord_range_y())
+            };
+            let pts = random_points(cols * rows, xr, yr, &mut next);
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
+            let first = first.min(oh - 1);
+            let n = len.min(oh - first);
+            let (mut lo, mut hi) = (i64::MAX, i64::MIN);
+            for y in first..first + n {
+                for x in 0..ow {
+                    let y0 = (grid.coord(x, y).unwrap().1 >> f) as i64;
+                    for t in [y0, y0 + 1] {
+                        let t = t.clamp(0, h as i64 - 1);
+                        lo = lo.min(t);
+                        hi = hi.max(t);
+                    }
+                }
+            }
+            let need = grid.source_rows(first, n).unwrap();
+            prop_assert_eq!(need, SourceRows { first: lo as usize, last: hi as usize });
+
+            let src: Vec<u8> = (0..w * h * c).map(|_| next() as u8).collect();
+            let sv = ImageView::interleaved(&src, w, h, w * c, c).unwrap();
+            let mut want = vec![0u8; ow * n * c];
+            grid.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut want, ow, n, ow * c, c).unwrap(),
+                first, border).unwrap();
+            // The needed rows in a ring of `cap` rows, row y at slot (y + rot) % cap.
+            let cap = need.count() + rot % 3;
+            let mut ring = vec![0u8; cap * w * c];
+            let slot0 = rot % cap;
+            for t in 0..cap.min(h - need.first) {
+                let y = need.first + t;
+                let s = (slot0 + t) % cap;
+                ring[s * w * c..(s + 1) * w * c].copy_from_slice(&src[y * w * c..(y + 1) * w * c]);
+            }
+            let bv = ImageView::interleaved(&ring, w, cap, w * c, c).unwrap();
+            let band = SourceBand::new(bv, need.first, slot0).unwrap();
+            let mut got = vec![0u8; ow * n * c];
+            grid.warp_band(&band, &mut ImageViewMut::interleaved(&mut got, ow, n, ow * c, c).unwrap(),
+                first, border).unwrap();
+            prop_assert_eq!(&got, &want);
+            // One row short at the top or at the bottom.
+            if need.count() >= 2 {
+                let short = ImageView::interleaved(&ring, w, need.count() - 1, w * c, c).unwrap();
+                for (fr, fs) in [(need.first + 1, 0usize), (need.first, 0)] {
+                    let b = SourceBand::new(short, fr, fs).unwrap();
+                    let r = grid.warp_band(&b, &mut ImageViewMut::interleaved(&mut got, ow, n, ow * c, c).unwrap(),
+                        first, border);
+                    let is_band_rows = matches!(r, Err(Error::BandRows { .. }));
+                    prop_assert!(is_band_rows);
+                }
+            }
+        }
+
+        /// The row stream, with rows pushed or written in place and strips
+        /// taken as soon as they are ready, reproduces the whole frame with
+        /// a ring of exactly `band_rows` rows; two frames in a row after a
+        /// reset (the first cut short) give the same bytes.
+        #[test]
+        fn grid_stream_matches_whole_frame(
+            ow in 1usize..40, oh in 1usize..30, w in 1usize..20, h in 1usize..24,
+            k in 2u32..=6, f in 2u32..=10, c in prop_oneof![Just(1usize), Just(2usize)],
+            border in arb_border(), seed in any::<u64>(), strip in 1usize..12, tame in any::<bool>(),
+            cut in 0usize..24,
+        ) {
+            let g = WarpGeometry::new(ow, oh, w, h, f).unwrap();
+            let (cols, rows) = ControlGrid::grid_size(&g, k).unwrap();
+            let (xl, xh) = g.coord_range_x();
+            let (yl, yh) = g.coord_range_y();
+            let mut next = xorshift(seed);
+            let pts: Vec<i32> = (0..cols * rows).flat_map(|p| {
+                if tame {
+                    // A smooth map: a scaled identity with jitter.
+                    let (i, j) = ((p % cols) as i64, (p / cols) as i64);
+                    let x = ((i << k) * w as i64 / ow.max(1) as i64) << f;
+                    let y = ((j << k) * h as i64 / oh.max(1) as i64) << f;
+                    let jx = (next() % (1 << f)) as i64;
+                    let jy = (next() % (1 << f)) as i64;
+                    [(x + jx).clamp(xl as i64, xh as i64) as i32, (y + jy).clamp(yl as i64, yh as i64) as i32]
+                } else {
+                    random_points(1, (xl, xh), (yl, yh), &mut next).try_into().unwrap()
+                }
+            }).collect();
+            let Some(grid) = grid_or_skip(&pts, g, k) else { return Ok(()) };
+            let src: Vec<u8> = (0..w * h * c).map(|_| next() as u8).collect();
+            let sv = ImageView::interleaved(&src, w, h, w * c, c).unwrap();
+            let mut want = vec![0u8; ow * oh * c];
+            grid.warp_rows(&sv, &mut ImageViewMut::interleaved(&mut want, ow, oh, ow * c, c).unwrap(),
+                0, border).unwrap();
+            let band = grid.band_rows(strip).unwrap();
+            prop_assert!(band <= h);
+            let mut ring = vec![0u8; band * w * c];
+            let mut s = GridStream::new(grid, &mut ring, c, strip, border).unwrap();
+            let strip = strip.min(oh);
+            let mut buf = vec![0u8; strip * ow * c];
+            for frame in 0..2 {
+                let mut got = vec![0u8; ow * oh * c];
+                // Frame 0 is cut short after `cut` rows and restarted.
+                let rows_in = if frame == 0 { cut.min(h) } else { h };
+                for y in 0..=rows_in {
+                    while let Some(d) = s.next_strip(
+                        &mut ImageViewMut::interleaved(&mut buf, ow, strip, ow * c, c).unwrap()).unwrap() {
+                        let at = d.first_row * ow * c;
+                        got[at..at + d.rows * ow * c].copy_from_slice(&buf[..d.rows * ow * c]);
+                    }
+                    if y < rows_in {
+                        let row = &src[y * w * c..(y + 1) * w * c];
+                        if y % 2 == 0 {
+                            s.push_row(row).unwrap();
+                        } else {
+                            s.row_slot().unwrap().copy_from_slice(row);
+                            s.commit_row().unwrap();
+                        }
+                    }
+                }
+                if frame == 1 {
+                    prop_assert!(s.finished());
+                    prop_assert_eq!(&got, &want);
+                    let refused = matches!(s.push_row(&src[..w * c]), Err(Error::StreamOrder { .. }));
+                    prop_assert!(refused);
+                }
+                s.reset();
+            }
         }
 
         /// Arbitrary bytes, and arbitrary single-byte corruptions of a valid

@@ -149,7 +149,9 @@ proptest! {
 
 mod warp_apis {
     use fixsight::filter::Border;
-    use fixsight::warp::{sample_pixel, ControlGrid, PixelMap, WarpGeometry};
+    use fixsight::warp::{
+        sample_pixel, ControlGrid, GridStream, PixelMap, SourceBand, WarpGeometry,
+    };
     use fixsight::{ImageView, ImageViewMut};
     use proptest::prelude::*;
 
@@ -200,6 +202,47 @@ mod warp_apis {
                     }
                     for m in &grids {
                         let _ = m.warp_rows(&v, &mut d, first, b);
+                        let _ = m.warp_rows_grey(&v, &mut d, first, b);
+                    }
+                }
+                // Bands of arbitrary position, slot and height, and streams
+                // with arbitrary rings, strips and call orders.
+                for m in &grids {
+                    let _ = m.source_rows(first, dst_h);
+                    let _ = m.band_rows(dst_h);
+                    if let (Ok(v), Ok(mut d)) = (
+                        ImageView::interleaved(&src, sw, dst_h.max(1), sw * ch.max(1), ch),
+                        ImageViewMut::interleaved(&mut dst, ow, dst_h, ow * ch.max(1), ch),
+                    ) {
+                        for (fr, fs) in [(first, sx as usize % 13), (sh.saturating_sub(first), 0), (usize::MAX, 0)] {
+                            if let Ok(band) = SourceBand::new(v, fr, fs) {
+                                let _ = band.rows();
+                                let _ = m.warp_band(&band, &mut d, first, b);
+                            }
+                        }
+                    }
+                    let mut ring = vec![0u8; (sy as usize) % 300];
+                    if let Ok(mut st) = GridStream::new(*m, &mut ring, ch, dst_h, b) {
+                        let row = vec![1u8; sw * ch + (sx as usize % 2)];
+                        for step in 0..(3 * sh + 6) {
+                            if (sx as usize >> (step % 16)) & 1 == 0 {
+                                let _ = st.push_row(&row);
+                            } else if let Ok(mut d) =
+                                ImageViewMut::interleaved(&mut dst, ow, dst_h, ow * ch.max(1), ch)
+                            {
+                                let _ = st.next_strip(&mut d);
+                            }
+                            if step % 7 == 3 {
+                                if let Ok(slot) = st.row_slot() {
+                                    slot.fill(3);
+                                }
+                                let _ = st.commit_row();
+                            }
+                            if step == 2 * sh + 1 && sy % 3 == 0 {
+                                st.reset();
+                            }
+                        }
+                        let _ = (st.finished(), st.rows_pushed(), st.band_rows());
                     }
                 }
             }

@@ -2,7 +2,7 @@
 
 use super::grid::{build_grid, grid_maps};
 use super::reference::{bilinear_f64, exact_map, model_sample, neighbour_diffs, pixel_map_coords};
-use super::run::{run_grid, run_pixel_map};
+use super::run::{run_grid, run_grid_stream, run_pixel_map};
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::lens::Intrinsics;
 use crate::metrics::ErrorStats;
@@ -103,7 +103,141 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     vec![
         check_path(scenes, false, &[1, 3]),
         check_path(scenes, true, &[1]),
+        check_stream(scenes),
     ]
+}
+
+/// Ring rows the demo lens needs for the row stream: the demo camera
+/// ([`crate::scene::demo_camera`]) at `w x h`, fit-to-view undistortion to
+/// the same size, a grid with points every `2^k` px and `F = 5`, output in
+/// strips of `strip` rows. Returns `(band rows, ring bytes for grey)`.
+pub fn band_figure(w: usize, h: usize, k: u32, strip: usize) -> Result<(usize, usize), String> {
+    let cam = crate::scene::demo_camera(w, h);
+    let view = cam.fit_view(w, h, w, h).map_err(|e| e.to_string())?;
+    let geom = WarpGeometry::new(w, h, w, h, CHECK_FRAC_BITS).map_err(|e| e.to_string())?;
+    let mb = build_grid(&cam, &view, geom, k)?;
+    let g = ControlGrid::new(&mb.points, geom, k).map_err(|e| e.to_string())?;
+    let rows = g.band_rows(strip).map_err(|e| e.to_string())?;
+    Ok((rows, rows * w))
+}
+
+/// The band figures of the report (`warp.grid_stream` metrics): the demo
+/// lens at QVGA and VGA, grid step 16, strips of 1 and 16 rows, as
+/// `(metric name, value)`.
+pub fn band_figures() -> Result<Vec<(String, f64)>, String> {
+    let mut v = Vec::new();
+    for (tag, w, h) in [("qvga", 320, 240), ("vga", 640, 480)] {
+        for strip in [1usize, 16] {
+            let (rows, bytes) = band_figure(w, h, 4, strip)?;
+            v.push((format!("band_rows_{tag}_strip{strip}"), rows as f64));
+            v.push((format!("band_bytes_{tag}_strip{strip}"), bytes as f64));
+        }
+    }
+    Ok(v)
+}
+
+/// `warp.grid_stream` on the demo scenes: rows pushed one at a time, strips
+/// of 1 and 8 rows, both borders; bit-exact to the integer model fed with
+/// the grid coordinates.
+fn check_stream(scenes: &[Scene]) -> KernelReport {
+    let (f, k) = (CHECK_FRAC_BITS, CHECK_GRID_LOG2);
+    let mut problems = Vec::new();
+    let mut ops = OpsPerPx::default();
+    let (mut actual, mut reference) = (Vec::new(), Vec::new());
+    let mut band_max = 0usize;
+    for (si, s) in scenes.iter().enumerate() {
+        let (w, h) = (s.width, s.height);
+        let built = demo_view(s).and_then(|view| {
+            let geom = WarpGeometry::new(w, h, w, h, f).map_err(|e| e.to_string())?;
+            build_grid(&s.camera, &view, geom, k).map(|mb| (geom, mb))
+        });
+        let (geom, mb) = match built {
+            Ok(b) => b,
+            Err(e) => {
+                problems.push(format!("{}: {e}", s.name));
+                continue;
+            }
+        };
+        let grid = match ControlGrid::new(&mb.points, geom, k) {
+            Ok(g) => g,
+            Err(e) => {
+                problems.push(format!("{}: {e}", s.name));
+                continue;
+            }
+        };
+        let coords = match grid_maps(&mb) {
+            Ok((c, _)) => c,
+            Err(e) => {
+                problems.push(format!("{}: {e}", s.name));
+                continue;
+            }
+        };
+        for border in [Border::Fill(0), Border::Clamp] {
+            for strip in [1usize, 8] {
+                band_max = band_max.max(grid.band_rows(strip).unwrap_or(usize::MAX));
+                let (r, o) = measure(w * h, || run_grid_stream(&grid, &s.gray, 1, border, strip));
+                if si == 0 && strip == 1 && border == Border::Clamp {
+                    ops = o;
+                }
+                let out = match r {
+                    Ok(out) => out,
+                    Err(e) => {
+                        problems.push(format!("{}: kernel error: {e}", s.name));
+                        continue;
+                    }
+                };
+                for (p, &v) in out.iter().enumerate() {
+                    let m = model_sample(
+                        &s.gray,
+                        w,
+                        h,
+                        1,
+                        coords[2 * p],
+                        coords[2 * p + 1],
+                        f,
+                        border,
+                    );
+                    actual.push(v as f64);
+                    reference.push(m[0] as f64);
+                }
+            }
+        }
+    }
+    let stats = ErrorStats::compare(&actual, &reference, 255.0);
+    let mut r = KernelReport::from_stats(
+        "warp.grid_stream",
+        KernelFamily::Warp,
+        Contract::BitExact,
+        0.0,
+        &stats,
+        ops,
+    );
+    let mismatches = actual
+        .iter()
+        .zip(&reference)
+        .filter(|(a, b)| a != b)
+        .count();
+    r.metrics
+        .insert("model_mismatches".into(), mismatches as f64);
+    r.metrics.insert("frac_bits".into(), f as f64);
+    r.metrics.insert("grid_log2".into(), k as f64);
+    r.metrics
+        .insert("band_rows_scenes_max".into(), band_max as f64);
+    match band_figures() {
+        Ok(v) => r.metrics.extend(v),
+        Err(e) => problems.push(format!("band figures: {e}")),
+    }
+    r.notes.push(format!(
+        "row stream of the control grid (F = {f}, step 2^{k}), rows pushed one at a time into a \
+         ring of band_rows(strip) rows, strips of 1 and 8 rows, borders fill(0) and clamp, {} \
+         scenes: bit-exact to the integer model fed with grid coordinates; band_rows_*/band_bytes_*: \
+         ring the demo lens needs (grid step 16, F = 5, grey)",
+        scenes.len()
+    ));
+    for p in problems {
+        r.fail(p);
+    }
+    r
 }
 
 /// Builds an RGB-like 3-channel image from a grey one (three different

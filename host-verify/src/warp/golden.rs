@@ -4,7 +4,7 @@
 use super::check::to_three_channels;
 use super::grid::build_grid;
 use super::reference::{exact_map, pixel_map_coords};
-use super::run::{run_grid, run_pixel_map};
+use super::run::{run_grid, run_grid_stream, run_pixel_map};
 use crate::border::BorderParam;
 use crate::family::{input, parse_params};
 use crate::golden::{Blob, GoldenCase};
@@ -24,7 +24,8 @@ pub struct PixelMapParams {
     pub border: BorderParam,
 }
 
-/// Golden parameters of `warp.control_grid` (the grid itself is the `blob` input).
+/// Golden parameters of `warp.control_grid` and `warp.grid_stream` (the
+/// grid itself is the `blob` input).
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
 #[serde(deny_unknown_fields)]
 pub struct GridParams {
@@ -84,7 +85,9 @@ fn grid_blob(points: &[i32], geom: WarpGeometry, k: u32) -> Vec<u8> {
     blob
 }
 
+#[allow(clippy::too_many_arguments)]
 fn grid_case(
+    kernel: &str,
     id: &str,
     comment: &str,
     img: Vec<u8>,
@@ -95,11 +98,16 @@ fn grid_case(
 ) -> GoldenCase {
     let m = ControlGrid::from_blob(&blob).expect("golden blob parses");
     let g = m.geometry();
-    let out = run_grid(&m, &img, c, border, Some(strip_rows)).expect("golden grid runs");
+    let out = if kernel == "warp.grid_stream" {
+        run_grid_stream(&m, &img, c, border, strip_rows)
+    } else {
+        run_grid(&m, &img, c, border, Some(strip_rows))
+    }
+    .expect("golden grid runs");
     GoldenCase {
         id: id.into(),
         comment: comment.into(),
-        kernel: "warp.control_grid".into(),
+        kernel: kernel.into(),
         params: serde_json::to_value(GridParams {
             border: border.into(),
             strip_rows,
@@ -208,6 +216,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         let geom = WarpGeometry::new(ow, oh, sw, sh, f).expect("valid");
         let mb = build_grid(&cam, &view, geom, k).expect("golden grid builds");
         v.push(grid_case(
+            "warp.control_grid",
             &format!("warp.control_grid.{tag}"),
             &format!(
                 "grid step {} ({}x{} points) from a blob, F = {f}, {c} channel(s), strips of {strip} rows",
@@ -222,10 +231,37 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             strip,
         ));
     }
+    // The row stream: source rows pushed one at a time into a ring of
+    // `band_rows(strip)` rows; same bytes as the whole-frame grid.
+    for (k, f, c, border, strip, tag) in [
+        (4, 5, 1, Border::Clamp, 1, "k4.f5.strip1.clamp"),
+        (3, 7, 3, Border::Fill(40), 6, "k3.f7.rgb.strip6.fill40"),
+    ] {
+        let geom = WarpGeometry::new(ow, oh, sw, sh, f).expect("valid");
+        let mb = build_grid(&cam, &view, geom, k).expect("golden grid builds");
+        let blob = grid_blob(&mb.points, geom, k);
+        let band = ControlGrid::from_blob(&blob)
+            .and_then(|m| m.band_rows(strip))
+            .expect("golden grid has a band");
+        v.push(grid_case(
+            "warp.grid_stream",
+            &format!("warp.grid_stream.{tag}"),
+            &format!(
+                "row stream, grid step {} from a blob, F = {f}, {c} channel(s), strips of {strip} \
+                 rows, ring of {band} source rows",
+                1 << k
+            ),
+            if c == 3 { rgb.clone() } else { img.clone() },
+            c,
+            blob,
+            border,
+            strip,
+        ));
+    }
     v
 }
 
-/// Recomputes a `warp.pixel_map` or `warp.control_grid` vector.
+/// Recomputes a `warp.pixel_map`, `warp.control_grid` or `warp.grid_stream` vector.
 pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
@@ -247,7 +283,7 @@ pub fn run_vector(
             let out = run_pixel_map(&map.to_i32()?, geom, &img, c, p.border.into()).map_err(e)?;
             Ok(vec![Blob::from_u8("dst", map.width, map.height, c, &out)])
         }
-        "warp.control_grid" => {
+        "warp.control_grid" | "warp.grid_stream" => {
             let p: GridParams = parse_params(kernel, params)?;
             let blob = input(inputs, "blob")?.to_u8()?;
             let m = ControlGrid::from_blob(&blob).map_err(e)?;
@@ -265,7 +301,12 @@ pub fn run_vector(
                         crate::files::MAX_IMAGE_BYTES
                     )
                 })?;
-            let out = run_grid(&m, &img, c, p.border.into(), Some(p.strip_rows)).map_err(e)?;
+            let out = if kernel == "warp.grid_stream" {
+                run_grid_stream(&m, &img, c, p.border.into(), p.strip_rows)
+            } else {
+                run_grid(&m, &img, c, p.border.into(), Some(p.strip_rows))
+            }
+            .map_err(e)?;
             Ok(vec![Blob::from_u8(
                 "dst",
                 g.out_width(),

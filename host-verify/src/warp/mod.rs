@@ -41,6 +41,12 @@
 //!   99.9 %. The grid's own approximation of the lens is reported apart as
 //!   geometric error (`grid_max_px`, `grid_rms_px`) and as
 //!   `max_err_vs_exact_lens_map`.
+//! * `warp.grid_stream`: bit-exact to the integer model fed with the
+//!   grid-interpolated coordinates (the same model as `warp.control_grid`),
+//!   with source rows pushed one at a time into a ring of exactly
+//!   `band_rows(strip_rows)` rows and strips taken as soon as ready. Its
+//!   metrics give the ring the demo lens needs ([`check::band_figures`]):
+//!   `band_rows_*` and `band_bytes_*` (grey) at QVGA and VGA.
 //!
 //! # Golden kernel ids
 //!
@@ -48,6 +54,7 @@
 //! |---|---|---|---|---|
 //! | `warp.pixel_map` | `PixelMap::warp_rows` | `src` u8 (any channels), `map` i32 2 channels (raw x, y per output pixel) | `{"frac_bits": 2..=10, "border": "clamp" \| {"fill": u8}}` | `dst` u8, map size, channels of `src` |
 //! | `warp.control_grid` | `ControlGrid::from_blob`, `ControlGrid::warp_rows` | `src` u8, `blob` u8 (the grid blob as one row) | `{"border": ..., "strip_rows": rows per call}` | `dst` u8, the blob's output size |
+//! | `warp.grid_stream` | `ControlGrid::from_blob`, `GridStream` (`push_row`, `next_strip`) | as `warp.control_grid` | as `warp.control_grid`; the ring holds `band_rows(strip_rows)` source rows | as `warp.control_grid` (the same bytes) |
 
 pub mod check;
 pub mod golden;
@@ -65,7 +72,7 @@ use crate::family::Family;
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "warp",
-    kernels: &["warp.pixel_map", "warp.control_grid"],
+    kernels: &["warp.pixel_map", "warp.control_grid", "warp.grid_stream"],
     composed_on_host: false,
     check: check::check,
     golden_cases: golden::golden_cases,

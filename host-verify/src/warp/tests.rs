@@ -189,3 +189,34 @@ fn golden_cases_recompute() {
     }
     assert!(run_vector("warp.nothing", &serde_json::json!({}), &[]).is_err());
 }
+
+/// The ring the demo lens needs (figures quoted in the kernel docs and the
+/// README), and the stream with exactly that ring reproduces the frame while
+/// one row less is refused.
+#[test]
+fn demo_lens_band_rows() {
+    let mut got = Vec::new();
+    for (w, h) in [(320usize, 240usize), (640, 480)] {
+        for strip in [1usize, 16] {
+            let (rows, bytes) = band_figure(w, h, 4, strip).unwrap();
+            println!("demo lens {w}x{h}, step 16, strips of {strip}: {rows} rows, {bytes} bytes");
+            assert!(rows > strip && rows < h, "{rows}");
+            assert_eq!(bytes, rows * w);
+            got.push(rows);
+        }
+    }
+    let s = crate::scene::render(&crate::scene::DEMO_SPECS[0], 320, 240);
+    let view = demo_view(&s).unwrap();
+    let geom = WarpGeometry::new(320, 240, 320, 240, 5).unwrap();
+    let mb = build_grid(&s.camera, &view, geom, 4).unwrap();
+    let grid = ControlGrid::new(&mb.points, geom, 4).unwrap();
+    assert_eq!(grid.band_rows(1).unwrap(), got[0]);
+    let whole = super::run::run_grid(&grid, &s.gray, 1, Border::Clamp, None).unwrap();
+    let streamed = super::run::run_grid_stream(&grid, &s.gray, 1, Border::Clamp, 1).unwrap();
+    assert!(whole == streamed, "stream differs from the frame");
+    let mut ring = vec![0u8; (got[0] - 1) * 320];
+    assert!(matches!(
+        fixsight::warp::GridStream::new(grid, &mut ring, 1, 1, Border::Clamp),
+        Err(fixsight::Error::BufferTooShort { .. })
+    ));
+}

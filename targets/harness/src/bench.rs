@@ -31,7 +31,9 @@
 //! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
 //! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
 //! grid with points every 16 pixels, as a blob, output in strips of 16
-//! rows); then line voting of the thinned edges with the chain's
+//! rows) and `warp_grid_stream` (the same grid fed one source row at a
+//! time through `GridStream`, output row by row, ring of `band_rows(1)`
+//! rows: image mode without a frame buffer); then line voting of the thinned edges with the chain's
 //! gradients in the demo configuration (`VoteParams::DEMO_QVGA`: 32 columns
 //! of 2.8 degrees, 201 rows of 2 px), `vote_gated` (+-15 degree orientation
 //! gate) and `vote_ungated`, whose `px` is the number of edge points times
@@ -197,6 +199,10 @@ const PIXEL_MAP: [(&str, Param); 2] = [
 const CONTROL_GRID: [(&str, Param); 2] = [
     ("border", Param::Str("clamp")),
     ("strip_rows", Param::Int(16)),
+];
+const GRID_STREAM: [(&str, Param); 2] = [
+    ("border", Param::Str("clamp")),
+    ("strip_rows", Param::Int(1)),
 ];
 
 /// The demo line-voting configuration (`VoteParams::DEMO_QVGA`), gated
@@ -365,6 +371,13 @@ pub static STAGES: &[Stage] = &[
         name: "warp_control_grid",
         kernel: "warp.control_grid",
         params: &CONTROL_GRID,
+        inputs: &[0, 13],
+        outputs: &[7],
+    },
+    Stage {
+        name: "warp_grid_stream",
+        kernel: "warp.grid_stream",
+        params: &GRID_STREAM,
         inputs: &[0, 13],
         outputs: &[7],
     },

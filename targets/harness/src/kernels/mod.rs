@@ -84,6 +84,7 @@ kernel_table! {
     "chain.edges" => chain::edges,
     "warp.pixel_map" => warp::pixel_map,
     "warp.control_grid" => warp::control_grid,
+    "warp.grid_stream" => warp::grid_stream,
     "pipeline.edge_stream" => pipeline::edge_stream,
     "pipeline.point_job" => pipeline::point_job,
     "marking.select" => marking::select,
