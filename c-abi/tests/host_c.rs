@@ -132,6 +132,7 @@ fn golden_vectors_and_bad_inputs_through_the_c_api() {
         assert!(
             [
                 "gradient.angles",
+                "nms.suppress_interpolated",
                 "lines.",
                 "marking.",
                 "pipeline.",
