@@ -533,7 +533,10 @@ pub fn suppress_interpolated(
     check_single_channel(gx)?;
     check_single_channel(gy)?;
     check_single_channel(&out.as_view())?;
-    for (what, v) in [("gradient x vs magnitude", gx), ("gradient y vs magnitude", gy)] {
+    for (what, v) in [
+        ("gradient x vs magnitude", gx),
+        ("gradient y vs magnitude", gy),
+    ] {
         if v.width() != mag.width() || v.height() != mag.height() {
             return Err(Error::SizeMismatch {
                 what,
