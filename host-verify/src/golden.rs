@@ -10,6 +10,7 @@
 //! {
 //!   "format": "fixsight-golden",
 //!   "version": 1,
+//!   "generator": "fixsight 0.1.0",                 the kernels that computed "expected"
 //!   "vectors": [
 //!     {
 //!       "id": "filter.binomial5.clamp.floor",         unique, [a-z0-9._-], starts with the kernel id
@@ -65,6 +66,16 @@ pub const FORMAT: &str = "fixsight-golden";
 pub const VERSION: u32 = 1;
 /// Manifest file name.
 pub const MANIFEST: &str = "manifest.json";
+
+/// The `generator` field this build writes: `fixsight` and the kernel
+/// crate's version.
+///
+/// ```
+/// assert!(fixsight_verify::golden::generator().starts_with("fixsight "));
+/// ```
+pub fn generator() -> String {
+    format!("fixsight {}", fixsight::VERSION)
+}
 
 /// Element type of an image file.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -220,6 +231,11 @@ pub struct Manifest {
     pub format: String,
     /// Always [`VERSION`].
     pub version: u32,
+    /// The kernels that generated the expected outputs: `fixsight <crate
+    /// version>` ([`generator`]); empty in manifests written before the
+    /// field existed.
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub generator: String,
     /// The vectors.
     pub vectors: Vec<VectorEntry>,
 }
@@ -604,6 +620,7 @@ pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Writte
     let m = Manifest {
         format: FORMAT.into(),
         version: VERSION,
+        generator: generator(),
         vectors,
     };
     let text = serde_json::to_string_pretty(&m).map_err(|source| GoldenError::Json {

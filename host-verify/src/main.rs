@@ -128,6 +128,37 @@ enum Cmd {
         #[arg(long)]
         overwrite: bool,
     },
+    /// Compare a port's outputs for the golden inputs with the golden
+    /// expected outputs, bit for bit: per vector pass, FAIL (first differing
+    /// element x, y, channel, expected, got, and the count) or not claimed.
+    ///
+    /// The port writes, into --outputs, one file per expected image, named as
+    /// that image's `file` in manifest.json, in the golden layout
+    /// (golden/README.md); an optional claims.txt there lists the kernel ids
+    /// or vector ids it implements (default: all). Exit status 1 when a
+    /// claimed vector fails or nothing is claimed.
+    ///
+    /// Example: fixsight-verify port-check --vectors golden --outputs my-port-out/
+    #[command(name = "port-check")]
+    PortCheck {
+        /// Golden-vector folder (default: `golden` in the current folder).
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
+        /// Folder with the port's output files (and optionally claims.txt).
+        #[arg(long, value_name = "DIR")]
+        outputs: PathBuf,
+        /// Judge kernels whose contract is `tolerance` within their declared
+        /// bound of our output instead of bit for bit (contracts from --report).
+        #[arg(long)]
+        tolerance: bool,
+        /// report.json giving the contracts for --tolerance.
+        #[arg(
+            long,
+            value_name = "FILE",
+            default_value = "fixsight-report/report.json"
+        )]
+        report: PathBuf,
+    },
     /// Check or regenerate the golden vectors.
     Golden {
         #[command(subcommand)]
@@ -142,6 +173,28 @@ enum GoldenCmd {
         /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+    },
+    /// Write chosen vectors as C data with a small runner (golden_check.c)
+    /// for checking a port on your own board: golden_types.h,
+    /// golden_vectors.h, golden_vectors.c, golden_check.c. Your port provides
+    /// golden_port_run() and golden_port_print(), then calls
+    /// golden_check_all().
+    ///
+    /// Example: fixsight-verify golden export-c --select filter.binomial5 --out my-port/golden/
+    #[command(name = "export-c")]
+    ExportC {
+        /// Golden-vector folder (default: `golden` in the current folder).
+        #[arg(long, value_name = "DIR")]
+        vectors: Option<PathBuf>,
+        /// Kernel id, vector id or family to export (repeatable; default all).
+        #[arg(long, value_name = "NAME")]
+        select: Vec<String>,
+        /// Output folder.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-golden-c")]
+        out: PathBuf,
+        /// Replace the four files if they exist.
+        #[arg(long)]
+        overwrite: bool,
     },
     /// Regenerate the vectors from the current kernels.
     Write {
@@ -220,6 +273,21 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             lang,
             overwrite,
         } => cmd::targets::run(&out, vectors, lang.as_deref(), overwrite),
+        Cmd::PortCheck {
+            vectors,
+            outputs,
+            tolerance,
+            report,
+        } => cmd::port_check::run(vectors, &outputs, tolerance, &report),
+        Cmd::Golden {
+            cmd:
+                GoldenCmd::ExportC {
+                    vectors,
+                    select,
+                    out,
+                    overwrite,
+                },
+        } => cmd::golden::export_c(vectors, &select, &out, overwrite),
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),

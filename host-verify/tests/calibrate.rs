@@ -161,7 +161,10 @@ fn command_writes_a_lens_file_the_grid_command_takes_and_never_overwrites() {
     // A second run refuses to replace, naming the file; --overwrite replaces.
     let before = std::fs::read(&lens).unwrap();
     let (ok, _, stderr) = run(&images, &out, &[]);
-    assert!(!ok && stderr.contains("exists; pass --overwrite"), "{stderr}");
+    assert!(
+        !ok && stderr.contains("exists; pass --overwrite"),
+        "{stderr}"
+    );
     assert!(stderr.contains(&out.display().to_string()), "{stderr}");
     assert_eq!(std::fs::read(&lens).unwrap(), before);
     let (ok, stdout, stderr) = run(&images, &out, &["--overwrite"]);

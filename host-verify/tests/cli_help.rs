@@ -20,7 +20,12 @@ fn section(text: &str, title: &str) -> Vec<String> {
     let mut lines = text.lines().skip_while(|l| l.trim() != title).skip(1);
     let mut out = Vec::new();
     for l in lines.by_ref() {
+        // Long help puts a blank line between entries; the section ends
+        // at the first line that is not indented.
         if l.trim().is_empty() {
+            continue;
+        }
+        if !l.starts_with(' ') {
             break;
         }
         if l.starts_with("  ") && !l.starts_with("         ") {

@@ -63,3 +63,11 @@ pub mod warp;
 
 pub use error::{Error, Result};
 pub use image::{ImageView, ImageViewMut};
+
+/// Version of this crate (its `Cargo.toml` version). Golden manifests
+/// record the version of the kernels that generated them.
+///
+/// ```
+/// assert_eq!(fixsight::VERSION.split('.').count(), 3);
+/// ```
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");

@@ -6,6 +6,7 @@
 pub mod calibrate;
 pub mod golden;
 pub mod grid;
+pub mod port_check;
 pub mod report;
 pub mod sweep;
 pub mod targets;
