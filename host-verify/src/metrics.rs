@@ -192,21 +192,7 @@ pub fn matched_agreement(
         .iter()
         .filter(|m| m.is_some())
         .count();
-    let precision = if d.is_empty() {
-        1.0
-    } else {
-        matched as f64 / d.len() as f64
-    };
-    let recall = if r_count == 0 {
-        1.0
-    } else {
-        matched as f64 / r_count as f64
-    };
-    let f1 = if precision + recall > 0.0 {
-        2.0 * precision * recall / (precision + recall)
-    } else {
-        0.0
-    };
+    let (precision, recall, f1) = precision_recall_f1(matched, d.len(), matched, r_count);
     MatchedAgreement {
         precision,
         recall,
@@ -215,6 +201,27 @@ pub fn matched_agreement(
         detected_px: d.len(),
         reference_px: r_count,
     }
+}
+
+/// `(precision, recall, F1)` from `hit_d` of `n_d` detected pixels and
+/// `hit_r` of `n_r` reference pixels that found a partner: an empty set
+/// counts as fully precise (or fully recalled), and F1 is 0 when precision
+/// and recall are both 0.
+///
+/// ```
+/// let (p, r, f1) = fixsight_verify::metrics::precision_recall_f1(3, 4, 3, 3);
+/// assert_eq!((p, r), (0.75, 1.0));
+/// assert!((f1 - 6.0 / 7.0).abs() < 1e-12);
+/// ```
+pub fn precision_recall_f1(hit_d: usize, n_d: usize, hit_r: usize, n_r: usize) -> (f64, f64, f64) {
+    let share = |hit: usize, n: usize| if n == 0 { 1.0 } else { hit as f64 / n as f64 };
+    let (precision, recall) = (share(hit_d, n_d), share(hit_r, n_r));
+    let f1 = if precision + recall > 0.0 {
+        2.0 * precision * recall / (precision + recall)
+    } else {
+        0.0
+    };
+    (precision, recall, f1)
 }
 
 /// A maximum-cardinality matching of a bipartite graph by Hopcroft & Karp

@@ -120,21 +120,7 @@ pub fn agreement(kernel: &[u8], reference: &[u8], w: usize, h: usize) -> Agreeme
     let r: Vec<usize> = (0..w * h).filter(|&i| reference[i] != 0).collect();
     let tp_k = k.iter().filter(|&&i| near(reference, i)).count();
     let tp_r = r.iter().filter(|&&i| near(kernel, i)).count();
-    let precision = if k.is_empty() {
-        1.0
-    } else {
-        tp_k as f64 / k.len() as f64
-    };
-    let recall = if r.is_empty() {
-        1.0
-    } else {
-        tp_r as f64 / r.len() as f64
-    };
-    let f1 = if precision + recall > 0.0 {
-        2.0 * precision * recall / (precision + recall)
-    } else {
-        0.0
-    };
+    let (precision, recall, f1) = crate::metrics::precision_recall_f1(tp_k, k.len(), tp_r, r.len());
     Agreement {
         precision,
         recall,
