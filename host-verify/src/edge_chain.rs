@@ -37,6 +37,40 @@ pub struct ChainParams {
     pub low_ratio_u0f16: u16,
     /// Hysteresis work-stack entries.
     pub stack: usize,
+    /// Which non-maximum suppression the chain runs (absent in the
+    /// manifest: the 4-sector `nms.suppress`, as every vector written
+    /// before the choice existed).
+    #[serde(default, skip_serializing_if = "Suppression::is_sectors")]
+    pub suppression: Suppression,
+}
+
+/// The non-maximum suppression of the chain.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Suppression {
+    /// `nms::suppress` on the 4 direction sectors (the cheap option).
+    #[default]
+    Sectors,
+    /// `nms::suppress_interpolated` along the exact gradient direction.
+    Interpolated,
+}
+
+impl Suppression {
+    /// Both kinds, sectors first.
+    pub const ALL: [Suppression; 2] = [Suppression::Sectors, Suppression::Interpolated];
+
+    /// True for [`Suppression::Sectors`].
+    pub fn is_sectors(&self) -> bool {
+        *self == Suppression::Sectors
+    }
+
+    /// Kernel id of the suppression step.
+    pub fn kernel(self) -> &'static str {
+        match self {
+            Suppression::Sectors => "nms.suppress",
+            Suppression::Interpolated => "nms.suppress_interpolated",
+        }
+    }
 }
 
 /// The demo settings: the threshold rule of the kernel crate's
@@ -60,8 +94,15 @@ const fn demo_params() -> ChainParams {
         high_permille,
         low_ratio_u0f16,
         stack: 1024,
+        suppression: Suppression::Sectors,
     }
 }
+
+/// [`DEMO`] with the interpolating suppression.
+pub const DEMO_INTERPOLATED: ChainParams = ChainParams {
+    suppression: Suppression::Interpolated,
+    ..DEMO
+};
 
 /// The parameters the edge golden vectors (`nms.*`, `hysteresis.*`,
 /// `thinning.*`, `chain.*`) were written with: 512 bins of width 2 (they
@@ -75,6 +116,7 @@ pub const VECTOR_PARAMS: ChainParams = ChainParams {
     high_permille: hysteresis::DEMO_HIGH_PERMILLE,
     low_ratio_u0f16: hysteresis::DEMO_LOW_FRACTION.to_bits(),
     stack: 1024,
+    suppression: Suppression::Sectors,
 };
 
 /// Every intermediate of the fixed-point chain on one image.
@@ -110,7 +152,9 @@ pub struct Chain {
     pub ops: [OpsPerPx; 5],
 }
 
-/// The edge steps whose operations [`Chain::ops`] holds, by kernel id.
+/// The edge steps whose operations [`Chain::ops`] holds, by kernel id (the
+/// first is `nms.suppress_interpolated` when the chain runs
+/// [`Suppression::Interpolated`]).
 pub const STEPS: [&str; 5] = [
     "nms.suppress",
     "hysteresis.thresholds",
@@ -160,6 +204,25 @@ pub fn run_nms(mag: &[u16], dir: &[u8], w: usize, h: usize) -> Result<Vec<u16>, 
     nms::suppress(
         &ImageView::new(mag, w, h, w).map_err(e)?,
         &ImageView::new(dir, w, h, w).map_err(e)?,
+        &mut ImageViewMut::new(&mut out, w, h, w).map_err(e)?,
+    )
+    .map_err(e)?;
+    Ok(out)
+}
+
+/// Runs the kernel's interpolating suppression on a frame.
+pub fn run_nms_interpolated(
+    mag: &[u16],
+    gx: &[i16],
+    gy: &[i16],
+    w: usize,
+    h: usize,
+) -> Result<Vec<u16>, String> {
+    let mut out = vec![0u16; w * h];
+    nms::suppress_interpolated(
+        &ImageView::new(mag, w, h, w).map_err(e)?,
+        &ImageView::new(gx, w, h, w).map_err(e)?,
+        &ImageView::new(gy, w, h, w).map_err(e)?,
         &mut ImageViewMut::new(&mut out, w, h, w).map_err(e)?,
     )
     .map_err(e)?;
@@ -251,7 +314,10 @@ pub fn run_chain(gray: &[u8], w: usize, h: usize, p: &ChainParams) -> Result<Cha
         .map_err(e)?;
     }
     let px = w * h;
-    let (nms_out, o_nms) = measure(px, || run_nms(&mag, &dir, w, h));
+    let (nms_out, o_nms) = measure(px, || match p.suppression {
+        Suppression::Sectors => run_nms(&mag, &dir, w, h),
+        Suppression::Interpolated => run_nms_interpolated(&mag, &gx, &gy, w, h),
+    });
     let nms_out = nms_out?;
     let (thresholds, o_thr) = measure(px, || run_thresholds(&nms_out, w, h, p));
     let thresholds = thresholds?;
@@ -326,10 +392,19 @@ pub fn run_stream_codes(
 /// The chain with [`DEMO`] settings on every demo scene, and the scenes on
 /// which it failed (as report problems).
 pub fn demo_chains(scenes: &[Scene]) -> (Vec<(&Scene, Chain)>, Vec<String>) {
+    chains_with(scenes, &DEMO)
+}
+
+/// The chain with the given settings on every scene, and the scenes on
+/// which it failed (as report problems).
+pub fn chains_with<'a>(
+    scenes: &'a [Scene],
+    p: &ChainParams,
+) -> (Vec<(&'a Scene, Chain)>, Vec<String>) {
     let mut chains = Vec::new();
     let mut problems = Vec::new();
     for s in scenes {
-        match run_chain(&s.gray, s.width, s.height, &DEMO) {
+        match run_chain(&s.gray, s.width, s.height, p) {
             Ok(c) => chains.push((s, c)),
             Err(err) => problems.push(format!("{}: kernel error: {err}", s.name)),
         }

@@ -18,6 +18,7 @@
 //! | [`pipeline`] | the streamed edge stage (`pipeline.edge_stream`) against the whole-frame kernels and the `f64` Canny |
 //! | [`border`] | the border rule as a golden parameter, the border-extended pixel lookup |
 //! | [`scene`] | procedural demo world (warehouse floor, tape, wide-angle lens) |
+//! | [`natural`] | openly licensed natural photographs (grey crops shipped in `data/natural/`), run through every accuracy contract beside the demo scenes |
 //! | [`sequence`] | the demo sequence (cart drifting along floor tape) and its per-frame truth |
 //! | [`lens`] | lens models in `f64`, the lens file format |
 //! | [`metrics`] | error statistics |
@@ -56,6 +57,7 @@ pub mod lens;
 pub mod lines;
 pub mod marking;
 pub mod metrics;
+pub mod natural;
 pub mod nms;
 pub mod opcount;
 pub mod pipeline;

@@ -29,10 +29,12 @@ enum Cmd {
         /// Control-point spacing as log2 of output pixels (2..=6).
         #[arg(long, default_value_t = 4)]
         grid_log2: u32,
-        /// Fractional bits of the coordinates (2..=10). The default 5 is the
-        /// smallest value at which the project's own `sweep` keeps 99.9 % of
-        /// pixels within 1 LSB (see the `fixsight::warp` module docs).
-        #[arg(long, default_value_t = 5)]
+        /// Fractional bits of the coordinates (2..=10). The default 7 is the
+        /// smallest value at which the project's sweep over its demo scenes
+        /// and natural photographs keeps 99.9 % of pixels within 1 LSB on
+        /// every image (README, "Natural photographs"; 5 suffices for
+        /// low-contrast floor scenes only).
+        #[arg(long, default_value_t = 7)]
         frac_bits: u32,
         /// Output folder.
         #[arg(long, default_value = "fixsight-grid")]
@@ -69,8 +71,9 @@ enum Cmd {
         /// Control-point spacing (log2 px, 2..=6) for the report's grid error.
         #[arg(long, default_value_t = 4)]
         grid_log2: u32,
-        /// Fractional bits (2..=10) for the report's grid error.
-        #[arg(long, default_value_t = 5)]
+        /// Fractional bits (2..=10) for the report's grid error (default 7,
+        /// as `grid`).
+        #[arg(long, default_value_t = 7)]
         frac_bits: u32,
         /// Replace output files that already exist (refused otherwise,
         /// naming the file).

@@ -1,5 +1,6 @@
 //! The verification report: every family's contract checks on the demo
-//! scenes, the golden-vector check, and (when `targets.json` is in the
+//! scenes and the natural photographs ([`crate::natural`]; rows give
+//! per-image and per-class figures), the golden-vector check, and (when `targets.json` is in the
 //! output folder) the on-target figures; printed as a table and written as
 //! `report.json` and as one self-contained HTML file, `report.html`
 //! ([`crate::html`]).
@@ -9,7 +10,9 @@
 //! ```text
 //! { "schema": 1, "pass": bool,
 //!   "golden": { "vectors": int, "passed": int, "failures"?: [[id, reason]] },
-//!   "scenes": [ { "name", "description", "seed", "width", "height", "image" } ],
+//!   "scenes": [ { "name", "description", "seed", "width", "height", "image",
+//!                 "class": "rendered" | "sharp" | "texture",
+//!                 "source"?, "licence"? } ],
 //!   "kernels": [ { "name", "family", "contract": "bit-exact" | "tolerance",
 //!                  "max_abs_err", "bound", "bit_exact_share",
 //!                  "ops_per_px": { "total", "weighted", "add_sub", "mul", "mac", "shift",
@@ -23,7 +26,8 @@ use crate::families::check_golden;
 use crate::families::FAMILIES;
 use crate::files::Outputs;
 use crate::golden::GoldenSummary;
-use crate::scene::{demo_scenes, Scene};
+use crate::natural::{all_scenes, natural_image, NATURAL, PACKAGE};
+use crate::scene::Scene;
 use anyhow::Context;
 use serde::Serialize;
 use std::path::Path;
@@ -46,6 +50,14 @@ pub struct SceneInfo {
     pub height: usize,
     /// PNG written next to the report.
     pub image: String,
+    /// Image class (`rendered`, `sharp`, `texture`).
+    pub class: String,
+    /// Where a natural photograph comes from (package, version, image).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub source: Option<String>,
+    /// Licence of a natural photograph.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub licence: Option<String>,
 }
 
 /// The whole report.
@@ -57,7 +69,7 @@ pub struct Report {
     pub pass: bool,
     /// Golden-vector summary.
     pub golden: GoldenSummary,
-    /// Demo scenes used.
+    /// Scenes used: the demo scenes, then the natural photographs.
     pub scenes: Vec<SceneInfo>,
     /// One row per kernel.
     pub kernels: Vec<KernelReport>,
@@ -78,7 +90,9 @@ pub fn check_all(scenes: &[Scene]) -> Vec<KernelReport> {
 pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result<Report> {
     let pngs: Vec<String> = crate::scene::DEMO_SPECS
         .iter()
-        .map(|s| format!("scene-{}.png", s.name))
+        .map(|s| s.name)
+        .chain(NATURAL.iter().map(|n| n.name))
+        .map(|n| format!("scene-{n}.png"))
         .collect();
     let mut outputs = Outputs::new(
         out_dir,
@@ -88,7 +102,7 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
         overwrite,
         "--overwrite",
     )?;
-    let scenes = demo_scenes();
+    let scenes = all_scenes();
     let mut infos = Vec::new();
     for s in &scenes {
         let file = format!("scene-{}.png", s.name);
@@ -102,6 +116,9 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
             width: s.width,
             height: s.height,
             image: file,
+            class: s.class.name().into(),
+            source: natural_image(s.name).map(|n| format!("{PACKAGE}{}", n.file)),
+            licence: natural_image(s.name).map(|n| n.licence.to_string()),
         });
     }
     let kernels = check_all(&scenes);

@@ -29,8 +29,39 @@ pub struct Scene {
     pub height: usize,
     /// Grey 8-bit image, row-major, stride = width.
     pub gray: Vec<u8>,
-    /// The camera (intrinsics and lens) that took it.
+    /// The camera (intrinsics and lens) that took it (for the natural
+    /// photographs: the demo camera, whose lens the warp checks undo).
     pub camera: Camera,
+    /// What kind of image it is; the report shows each class separately.
+    pub class: SceneClass,
+}
+
+/// Kind of a test image: the rendered demo floor scenes, or one of the
+/// classes of natural photographs ([`crate::natural`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum SceneClass {
+    /// Rendered warehouse floor (the demo scenes).
+    Rendered,
+    /// Natural photograph with sharp, high-contrast edges (RMS contrast
+    /// above 50 grey levels).
+    Sharp,
+    /// Natural photograph of a low-contrast textured surface (RMS contrast
+    /// below 45 grey levels).
+    Texture,
+}
+
+impl SceneClass {
+    /// Every class, in report order.
+    pub const ALL: [SceneClass; 3] = [SceneClass::Rendered, SceneClass::Sharp, SceneClass::Texture];
+
+    /// The name used in the report.
+    pub fn name(self) -> &'static str {
+        match self {
+            SceneClass::Rendered => "rendered",
+            SceneClass::Sharp => "sharp",
+            SceneClass::Texture => "texture",
+        }
+    }
 }
 
 /// How a scene is set up.
@@ -309,6 +340,7 @@ pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
         height,
         gray,
         camera,
+        class: SceneClass::Rendered,
     }
 }
 

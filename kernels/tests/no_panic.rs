@@ -125,6 +125,9 @@ proptest! {
         if let (Ok(m), Ok(d), Ok(mut o)) = (ImageView::new(&mags, mw, mh, mw), ImageView::new(&dirs, mw, mh, mw),
                                           ImageViewMut::new(&mut out, mw, mh, mw)) {
             let _ = nms::suppress(&m, &d, &mut o);
+            if let (Ok(a), Ok(b)) = (ImageView::new(&gx, w, h, st), ImageView::new(&gy, w, h, st)) {
+                let _ = nms::suppress_interpolated(&m, &a, &b, &mut o);
+            }
             let mut hbuf = vec![0u32; hist];
             let _ = hysteresis::Thresholds::from_histogram(&m, &mut hbuf, shift, permille, U0F16::from_bits(frac));
             if let Ok(t) = hysteresis::Thresholds::new(low, high) {

@@ -53,51 +53,10 @@ pub fn sobel_f64(img: &[f64], w: usize, h: usize) -> (Vec<f64>, Vec<f64>) {
 }
 
 /// Non-maximum suppression along the exact gradient angle with linear
-/// interpolation (see the family docs).
+/// interpolation and the tie rule of
+/// [`crate::nms::reference::suppress_interpolated`] (see the family docs).
 pub fn nms_f64(gx: &[f64], gy: &[f64], mag: &[f64], w: usize, h: usize) -> Vec<f64> {
-    let m = |x: i64, y: i64| -> f64 {
-        if x < 0 || y < 0 || x >= w as i64 || y >= h as i64 {
-            0.0
-        } else {
-            mag[y as usize * w + x as usize]
-        }
-    };
-    // Magnitude at p + (ux, uy) on the neighbour square (max(|ux|,|uy|) = 1).
-    let ring = |x: i64, y: i64, ux: f64, uy: f64| -> f64 {
-        if ux.abs() >= uy.abs() {
-            let sx = ux.signum() as i64;
-            let t = uy.abs();
-            (1.0 - t) * m(x + sx, y) + t * m(x + sx, y + uy.signum() as i64)
-        } else {
-            let sy = uy.signum() as i64;
-            let t = ux.abs();
-            (1.0 - t) * m(x, y + sy) + t * m(x + ux.signum() as i64, y + sy)
-        }
-    };
-    let mut out = vec![0f64; w * h];
-    for y in 0..h as i64 {
-        for x in 0..w as i64 {
-            let i = y as usize * w + x as usize;
-            let v = mag[i];
-            if v <= 0.0 {
-                continue;
-            }
-            let s = gx[i].abs().max(gy[i].abs());
-            let (mut ux, mut uy) = (gx[i] / s, gy[i] / s);
-            // Orient u towards positive y (or positive x when uy = 0), so
-            // `ring(-u)` is the side of negative y.
-            if uy < 0.0 || (uy == 0.0 && ux < 0.0) {
-                ux = -ux;
-                uy = -uy;
-            }
-            let fwd = ring(x, y, ux, uy);
-            let back = ring(x, y, -ux, -uy);
-            if v > back && v >= fwd {
-                out[i] = v;
-            }
-        }
-    }
-    out
+    crate::nms::reference::suppress_interpolated(gx, gy, mag, w, h)
 }
 
 /// The full-`f64` Canny on an 8-bit image with the given thresholds:
@@ -161,21 +120,7 @@ pub fn agreement(kernel: &[u8], reference: &[u8], w: usize, h: usize) -> Agreeme
     let r: Vec<usize> = (0..w * h).filter(|&i| reference[i] != 0).collect();
     let tp_k = k.iter().filter(|&&i| near(reference, i)).count();
     let tp_r = r.iter().filter(|&&i| near(kernel, i)).count();
-    let precision = if k.is_empty() {
-        1.0
-    } else {
-        tp_k as f64 / k.len() as f64
-    };
-    let recall = if r.is_empty() {
-        1.0
-    } else {
-        tp_r as f64 / r.len() as f64
-    };
-    let f1 = if precision + recall > 0.0 {
-        2.0 * precision * recall / (precision + recall)
-    } else {
-        0.0
-    };
+    let (precision, recall, f1) = crate::metrics::precision_recall_f1(tp_k, k.len(), tp_r, r.len());
     Agreement {
         precision,
         recall,

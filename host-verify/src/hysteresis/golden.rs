@@ -64,6 +64,7 @@ pub fn run_vector(
                 high_permille: p.high_permille,
                 low_ratio_u0f16: p.low_ratio_u0f16,
                 stack: MIN_STACK,
+                suppression: Default::default(),
             };
             let t = run_thresholds(&b.to_u16()?, b.width, b.height, &cp)?;
             Ok(vec![Blob::from_u16(

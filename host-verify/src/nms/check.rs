@@ -1,9 +1,10 @@
 //! The `nms.suppress` contract on the edge chain's intermediates.
 
-use super::reference::reference;
+use super::reference::{reference, suppress_interpolated_int};
 use crate::contract::{KernelFamily, KernelReport};
-use crate::edge_chain::{demo_chains, step_ops};
+use crate::edge_chain::{demo_chains, run_nms_interpolated, step_ops};
 use crate::family::{as_f64, bit_exact_row};
+use crate::opcount::measure;
 use crate::scene::Scene;
 
 /// The `nms.suppress` contract: the kernel's suppression of the edge
@@ -39,5 +40,39 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     let px: usize = chains.iter().map(|(_, c)| c.w * c.h).sum();
     row.metrics
         .insert("kept_share".into(), kept as f64 / px.max(1) as f64);
-    vec![row]
+
+    // The interpolating suppression on the same gradients.
+    let (mut a, mut r, mut pr) = (Vec::new(), Vec::new(), Vec::new());
+    let (mut kept, mut ops) = (0usize, None);
+    for (s, c) in &chains {
+        let (got, o) = measure(c.w * c.h, || {
+            run_nms_interpolated(&c.mag, &c.gx, &c.gy, c.w, c.h)
+        });
+        ops.get_or_insert(o);
+        match got {
+            Ok(got) => {
+                kept += got.iter().filter(|&&v| v > 0).count();
+                a.extend(as_f64(&got));
+                r.extend(as_f64(&suppress_interpolated_int(
+                    &c.mag, &c.gx, &c.gy, c.w, c.h,
+                )));
+            }
+            Err(err) => pr.push(format!("{}: kernel error: {err}", s.name)),
+        }
+    }
+    let mut interp = bit_exact_row(
+        "nms.suppress_interpolated",
+        KernelFamily::Nms,
+        &a,
+        &r,
+        65535.0,
+        ops.unwrap_or_default(),
+        pr,
+        "suppressed rounded-L2 magnitudes along the exact gradient direction vs the f64 \
+         interpolating reference with tie tolerance (equal to the exact comparison on integer inputs)",
+    );
+    interp
+        .metrics
+        .insert("kept_share".into(), kept as f64 / px.max(1) as f64);
+    vec![row, interp]
 }

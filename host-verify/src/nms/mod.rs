@@ -12,6 +12,16 @@
 //! suppression inputs of the edge chain on the demo scenes, see
 //! [`crate::edge_chain`]): inputs `mag` u16, `dir` u8, params `{}`, output `nms`
 //! u16.
+//!
+//! Kernel id `nms.suppress_interpolated` (contract **bit-exact**, on the
+//! same intermediates): inputs `mag` u16, `gx` i16, `gy` i16, params `{}`,
+//! output `nms` u16. Reference: [`reference::suppress_interpolated`], the
+//! `f64` suppression along the exact gradient angle (interpolated samples
+//! `(1 - t) M1 + t M2` with `t = min/max` of the gradient's components,
+//! ties within a relative `1e-12` settled by the raster rule), the same
+//! function as step 3 of the chain's full-`f64` Canny. It shares no code
+//! with the kernel's exact integer comparisons; on integer inputs the two
+//! agree (see [`reference::TIE_TOLERANCE`]).
 
 pub mod check;
 pub mod golden;
@@ -22,7 +32,7 @@ use crate::family::Family;
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "nms",
-    kernels: &["nms.suppress"],
+    kernels: &["nms.suppress", "nms.suppress_interpolated"],
     composed_on_host: false,
     check: check::check,
     golden_cases: golden::golden_cases,

@@ -77,6 +77,7 @@ kernel_table! {
     "gradient.direction" => gradient::direction,
     "gradient.angles" => gradient::angles,
     "nms.suppress" => nms::suppress,
+    "nms.suppress_interpolated" => nms::suppress_interpolated,
     "hysteresis.thresholds" => hysteresis::thresholds,
     "hysteresis.classify" => hysteresis::classify,
     "hysteresis.link" => hysteresis::link,
