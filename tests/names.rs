@@ -244,6 +244,10 @@ const RETIRED: [(&str, bool); 9] = [
     ("LENS_MESH_MESH", true),
 ];
 
+/// Method names of the plotting crate (`plotters`) that contain a retired
+/// word; calling them is not using the word.
+const PLOTTING_API: [&str; 2] = ["configure_mesh", "disable_x_mesh"];
+
 /// The section of `targets/README.md` that maps old words to new ones.
 const RENAMED_HEADING: &str = "## Renamed in this version";
 
@@ -314,6 +318,10 @@ fn no_retired_word_is_left() {
                 hits.push(format!("{rel}: file name contains `{word}`"));
             }
             for (n, line) in text.lines().enumerate() {
+                // The plotting crate's own method names are not our words.
+                let line = &PLOTTING_API
+                    .iter()
+                    .fold(line.to_string(), |l, api| l.replace(api, ""));
                 if found(line) {
                     hits.push(format!("{rel}:{}: `{word}`: {}", n + 1, line.trim()));
                 }

@@ -7,6 +7,7 @@
 //! |---|---|---|
 //! | `parse.lens` | the demo lens file with values, lines and bytes replaced, removed, repeated, a byte-order mark | an accepted file satisfies every documented range, and its view's corners map inside one sensor size |
 //! | `parse.grid_blob` | valid blobs of random grids, then bit flips with the CRC recomputed, truncations, random header fields | an accepted blob writes back to the same bytes, and each pixel's coordinate equals the `i128` bilinear model of its points |
+//! | `parse.image` | small grey and colour PNG, PGM and PPM images of random pixels, then bit flips, truncations and header sizes up to 2^32 | an untouched grey image decodes to exactly its pixels; an accepted one has sides within the limit and `width * height` pixels |
 //! | `parse.golden_manifest` | one to three vectors of the repository's manifest, with fields set to extremes, files renamed, kernels swapped, bytes flipped | every untouched vector still reproduces; no panic, no hang |
 //! | `kernel.arith` | any `i32`, any shift | `i128` arithmetic |
 //! | `kernel.filter` | random sizes, borders, presets and custom taps; the row stream with rejected calls in between | the direct 2-D sum on the border-extended image (`f64`, exact here), rounded half up and saturated; the stream equals the frame |
@@ -38,9 +39,10 @@ use std::time::{Duration, Instant};
 pub const SLOW_CASE: Duration = Duration::from_secs(2);
 
 /// Every family of the campaign, in report order.
-pub const FAMILIES: [&str; 10] = [
+pub const FAMILIES: [&str; 11] = [
     "parse.lens",
     "parse.grid_blob",
+    "parse.image",
     "parse.golden_manifest",
     "kernel.arith",
     "kernel.filter",
@@ -133,6 +135,7 @@ pub fn run_family(
         let r = catch_unwind(AssertUnwindSafe(|| match family {
             "parse.lens" => lens_case(&mut rng, &inputs.lens),
             "parse.grid_blob" => blob_case(&mut rng),
+            "parse.image" => image_case(&mut rng),
             "parse.golden_manifest" => manifest_case(&mut rng, inputs),
             "kernel.arith" => arith_case(&mut rng),
             "kernel.filter" => filter_case(&mut rng),
@@ -1060,6 +1063,69 @@ fn manifest_case(r: &mut ChaCha8Rng, inputs: &Inputs) -> Outcome {
         }
     }
     Fine
+}
+
+/// A user image for `run`: encoded here, then perhaps damaged.
+fn image_case(r: &mut ChaCha8Rng) -> Outcome {
+    use crate::cmd::run::{grey_from_bytes, Luma, MAX_SIDE};
+    let (w, h) = (r.random_range(1..40u32), r.random_range(1..30u32));
+    let colour: bool = r.random();
+    let px = bytes(r, (w * h * if colour { 3 } else { 1 }) as usize);
+    let mut file = Vec::new();
+    let format = match r.random_range(0..2) {
+        0 => image::ImageFormat::Png,
+        _ => image::ImageFormat::Pnm,
+    };
+    let written = if colour {
+        image::RgbImage::from_raw(w, h, px.clone()).map(image::DynamicImage::ImageRgb8)
+    } else {
+        image::GrayImage::from_raw(w, h, px.clone()).map(image::DynamicImage::ImageLuma8)
+    };
+    let Some(img) = written else {
+        return Wrong("test image buffer has the wrong size".into());
+    };
+    if img
+        .write_to(&mut std::io::Cursor::new(&mut file), format)
+        .is_err()
+    {
+        return Wrong("encoding the test image failed".into());
+    }
+    let damage = r.random_range(0..4);
+    match damage {
+        0 => {}
+        1 => {
+            for _ in 0..r.random_range(1..8) {
+                let i = r.random_range(0..file.len());
+                file[i] ^= 1 << r.random_range(0..8);
+            }
+        }
+        2 => file.truncate(r.random_range(0..file.len())),
+        _ => {
+            // A Netpbm header claiming any size, followed by a few bytes.
+            let (hw, hh) = (r.random_range(0..=u32::MAX), r.random_range(0..=u32::MAX));
+            file = format!("P5\n{hw} {hh}\n255\n").into_bytes();
+            let n = r.random_range(0..64);
+            file.extend(bytes(r, n));
+        }
+    }
+    match grey_from_bytes(&file, Luma::Bt601) {
+        Err(_) if damage == 0 => Wrong("an undamaged image was refused".into()),
+        Err(_) => Rejected,
+        Ok(g) => {
+            if g.w as u32 > MAX_SIDE || g.h as u32 > MAX_SIDE || g.px.len() != g.w * g.h {
+                return Wrong(format!(
+                    "accepted a {}x{} image of {} pixels",
+                    g.w,
+                    g.h,
+                    g.px.len()
+                ));
+            }
+            if damage == 0 && !colour && (g.w as u32, g.h as u32, &g.px) != (w, h, &px) {
+                return Wrong("an undamaged grey image decoded to other pixels".into());
+            }
+            Fine
+        }
+    }
 }
 
 #[cfg(test)]

@@ -109,21 +109,43 @@ pub struct Grey {
     pub px: Vec<u8>,
 }
 
+/// Largest width or height `run` takes (the kernels' limit).
+pub const MAX_SIDE: u32 = 32767;
+
 /// Decodes an image file into grey (luma for colour images).
 pub fn load_grey(path: &Path, luma: Luma) -> anyhow::Result<Grey> {
     let bytes = files::read_bounded(path, files::MAX_IMAGE_BYTES)?;
-    let img = image::load_from_memory(&bytes).with_context(|| {
+    grey_from_bytes(&bytes, luma).with_context(|| {
         format!(
             "{} is not an image this tool reads",
             files::shown_path(path)
         )
-    })?;
+    })
+}
+
+/// Decodes image bytes (PNG, PGM/PPM, JPEG, told apart by their first
+/// bytes) into grey. The decoder is limited before it allocates: sides up
+/// to [`MAX_SIDE`], at most [`files::MAX_IMAGE_BYTES`] of decoded pixels, so
+/// a header that claims a huge image is refused, not allocated.
+///
+/// ```
+/// use fixsight_verify::cmd::run::{grey_from_bytes, Luma};
+/// let mut pgm = b"P5\n2 1\n255\n".to_vec();
+/// pgm.extend([7, 200]);
+/// assert_eq!(grey_from_bytes(&pgm, Luma::Bt601).unwrap().px, [7, 200]);
+/// assert!(grey_from_bytes(b"P5\n30000 30000\n255\n", Luma::Bt601).is_err());
+/// ```
+pub fn grey_from_bytes(bytes: &[u8], luma: Luma) -> anyhow::Result<Grey> {
+    let mut reader = image::ImageReader::new(std::io::Cursor::new(bytes)).with_guessed_format()?;
+    let mut limits = image::Limits::default();
+    limits.max_image_width = Some(MAX_SIDE);
+    limits.max_image_height = Some(MAX_SIDE);
+    limits.max_alloc = Some(files::MAX_IMAGE_BYTES);
+    reader.limits(limits);
+    let img = reader.decode()?;
     let (w, h) = (img.width() as usize, img.height() as usize);
-    if w > 32767 || h > 32767 {
-        bail!(
-            "{} is {w}x{h}; the kernels take at most 32767 pixels a side",
-            files::shown_path(path)
-        );
+    if w == 0 || h == 0 {
+        bail!("the image is {w}x{h}");
     }
     let px = if img.color().has_color() {
         img.to_rgb8()
