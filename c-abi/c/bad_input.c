@@ -260,6 +260,21 @@ static void gradients_and_edges(void) {
     expect("nms.sector_out_of_range", fxs_nms_suppress(&mv, &dv, &nm), FXS_E_BAD_PARAMETER);
     a8[5] = 0;
     expect("nms.ok", fxs_nms_suppress(&mv, &dv, &nm), FXS_OK);
+    expect("nms.interpolated_ok", fxs_nms_suppress_interpolated(&mv, &gx, &gy, &nm), FXS_OK);
+    expect("nms.interpolated_inputs_may_share", fxs_nms_suppress_interpolated(&mv, &gx, &gx, &nm), FXS_OK);
+    expect("nms.interpolated_size_mismatch", fxs_nms_suppress_interpolated(&mv, &gx, &gy3, &nm),
+           FXS_E_SIZE_MISMATCH);
+    expect("nms.interpolated_null_gradient", fxs_nms_suppress_interpolated(&mv, 0, &gy, &nm), FXS_E_NULL_POINTER);
+    {
+        fxs_u16_view_mut bad = nm;
+        bad.data = u16b;
+        expect("nms.interpolated_output_over_mag", fxs_nms_suppress_interpolated(&mv, &gx, &gy, &bad),
+               FXS_E_OVERLAP);
+        bad = nm;
+        bad.data = (uint16_t *)(void *)a16;
+        expect("nms.interpolated_output_over_gx", fxs_nms_suppress_interpolated(&mv, &gx, &gy, &bad),
+               FXS_E_OVERLAP);
+    }
     {
         fxs_nms_stream st;
         uint16_t mr[12], o[4];

@@ -348,6 +348,15 @@ static fxs_status run_suppress(const golden_vector *v, const img *in, const img 
     return fxs_nms_suppress(&m, &d, &o);
 }
 
+static fxs_status run_suppress_interpolated(const golden_vector *v, const img *in,
+                                            const img *out) {
+    fxs_u16_view m = u16v(&in[0]);
+    fxs_i16_view gx = i16v(&in[1]), gy = i16v(&in[2]);
+    fxs_u16_view_mut o = u16m(&out[0]);
+    (void)v;
+    return fxs_nms_suppress_interpolated(&m, &gx, &gy, &o);
+}
+
 static fxs_status stream_suppress(const golden_vector *v, const img *in, const img *out) {
     fxs_nms_stream st;
     int32_t w = in[0].w, h = in[0].h, y, got = 0, at;
@@ -886,6 +895,7 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     X(gradient_direction, "gradient.direction", run_direction, 0)                                 \
     X(gradient_angles, "gradient.angles", run_angles, 0)                                          \
     X(nms_suppress, "nms.suppress", run_suppress, stream_suppress)                                \
+    X(nms_suppress_interpolated, "nms.suppress_interpolated", run_suppress_interpolated, 0)      \
     X(hysteresis_thresholds, "hysteresis.thresholds", run_thresholds, 0)                          \
     X(hysteresis_classify, "hysteresis.classify", run_classify, 0)                                \
     X(hysteresis_link, "hysteresis.link", run_link, 0)                                            \
@@ -939,7 +949,7 @@ static const struct {
  * are listed ("later" lines) and not counted (the list ends with a NULL);
  * a kernel id that lands on main before its C functions goes here and in
  * LATER of tests/host_c.rs. */
-static const char *const LATER[] = {"nms.suppress_interpolated", "pipeline.point_job", "warp.grid_stream", 0};
+static const char *const LATER[] = {"pipeline.point_job", "warp.grid_stream", 0};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; LATER[i]; i++)

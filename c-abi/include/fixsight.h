@@ -339,6 +339,15 @@ typedef union fxs_nms_stream {
 fxs_status fxs_nms_suppress(const fxs_u16_view *mag, const fxs_u8_view *dir,
                             const fxs_u16_view_mut *out);
 
+/* Whole frame, suppression along the exact gradient direction (kernel id
+ * nms.suppress_interpolated; integer model: kernels/src/nms.rs,
+ * suppress_interpolated): mag (uint16_t), gx, gy (int16_t, the gradients
+ * mag was computed from) and out one size; the inputs may alias each
+ * other, out may overlap none of them.
+ * Errors: the image checks, FXS_E_SIZE_MISMATCH, FXS_E_OVERLAP. */
+fxs_status fxs_nms_suppress_interpolated(const fxs_u16_view *mag, const fxs_i16_view *gx,
+                                         const fxs_i16_view *gy, const fxs_u16_view_mut *out);
+
 /* Row streaming, bit-identical to the whole frame: mag_ring and dir_ring
  * hold >= 3 * width elements each and are borrowed until the last use.
  * Output row y comes out on the push of row y + 1 (*out_row = y, else -1);

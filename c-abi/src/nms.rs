@@ -1,9 +1,10 @@
-//! `fxs_nms_*`: non-maximum suppression (kernel id `nms.suppress`), whole
-//! frame and row streaming, over `fixsight::nms`.
+//! `fxs_nms_*`: non-maximum suppression (kernel ids `nms.suppress`, whole
+//! frame and row streaming, and `nms.suppress_interpolated`), over
+//! `fixsight::nms`.
 
 use crate::boundary::{
-    buf, disjoint, image, load_mut, size, storage, store, Buf, Checked, FxsU16View, FxsU16ViewMut,
-    FxsU8View, Span,
+    buf, disjoint, image, load_mut, size, storage, store, Buf, Checked, FxsI16View, FxsU16View,
+    FxsU16ViewMut, FxsU8View, Span,
 };
 use crate::status::{finish, kernel, FxsStatus};
 use fixsight::nms::{self, NmsStream};
@@ -52,6 +53,45 @@ unsafe fn suppress(
     // SAFETY: checked and disjoint.
     let (mv, dv, mut ov) = unsafe { (m.view()?, d.view()?, o.view_mut()?) };
     kernel(nms::suppress(&mv, &dv, &mut ov))
+}
+
+/// `fxs_nms_suppress_interpolated`: whole frame, suppression along the
+/// exact gradient direction (kernel id `nms.suppress_interpolated`).
+///
+/// # Safety
+/// Readable descriptors whose data hold the stated element counts (`out`
+/// writable), untouched by others during the call.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_nms_suppress_interpolated(
+    mag: *const FxsU16View,
+    gx: *const FxsI16View,
+    gy: *const FxsI16View,
+    out: *const FxsU16ViewMut,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe { suppress_interpolated(mag, gx, gy, out) })
+}
+
+/// The checks and work of `fxs_nms_suppress_interpolated`.
+///
+/// # Safety
+/// As `fxs_nms_suppress_interpolated`.
+unsafe fn suppress_interpolated(
+    mag: *const FxsU16View,
+    gx: *const FxsI16View,
+    gy: *const FxsI16View,
+    out: *const FxsU16ViewMut,
+) -> Checked<()> {
+    // SAFETY: readable descriptors by the caller's guarantee.
+    let (m, x, y, o) = unsafe { (image(mag, 1)?, image(gx, 1)?, image(gy, 1)?, image(out, 1)?) };
+    // The inputs may share memory with each other (they are only read);
+    // the output may overlap none of them.
+    disjoint(&[m.span(), o.span()])?;
+    disjoint(&[x.span(), o.span()])?;
+    disjoint(&[y.span(), o.span()])?;
+    // SAFETY: checked; the output is disjoint from every input.
+    let (mv, xv, yv, mut ov) = unsafe { (m.view()?, x.view()?, y.view()?, o.view_mut()?) };
+    kernel(nms::suppress_interpolated(&mv, &xv, &yv, &mut ov))
 }
 
 /// `fxs_nms_stream_init`: a row stream; each ring needs `3 * width` elements.
