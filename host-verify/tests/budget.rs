@@ -36,7 +36,8 @@ const TARGETS: &str = r#"{"schema": 1, "targets": [
    "kernels": [
      {"name": "pipeline.edge_stream/bench", "instr_per_px": 300.0, "code_bytes": 1, "stack_bytes": 1},
      {"name": "pipeline.whole/bench", "instr_per_px": 350.0, "code_bytes": 1, "stack_bytes": 1},
-     {"name": "filter.binomial5/binomial5", "instr_per_px": 33.0, "code_bytes": 1, "stack_bytes": 1}]},
+     {"name": "filter.binomial5/binomial5", "instr_per_px": 33.0, "code_bytes": 1, "stack_bytes": 1},
+     {"name": "pipeline.per_vector", "instr_per_px": 9000.0, "code_bytes": 1, "stack_bytes": 1}]},
   {"name": "cortex-m4", "triple": "thumbv7em-none-eabihf", "vectors": 1, "passed": 1, "lang": "c",
    "kernels": [{"name": "pipeline.whole/bench", "instr_per_px": 1.0, "code_bytes": 1, "stack_bytes": 1}]}]}"#;
 
@@ -114,6 +115,12 @@ fn bad_input_gives_a_message() {
     );
     let (_, _, err) = budget(&d, &[&base[..], &["--kernel", "lines.peak"]].concat());
     assert!(err.contains("lines.peak"), "{err}");
+    // An entry without a bench stage is not a cost per pixel.
+    let (_, _, err) = budget(
+        &d,
+        &[&base[..], &["--kernel", "pipeline.per_vector"]].concat(),
+    );
+    assert!(err.contains("per output element"), "{err}");
     let (_, _, err) = budget(
         &d,
         &[

@@ -6,8 +6,11 @@
 //!
 //! Rules, stated so a reader can redo the sums:
 //!
-//! * a stage's figure is its `instr_per_px` on the core (instructions per
-//!   pixel of the frame, measured under QEMU by `fixsight-verify targets`),
+//! * a stage's figure is its `instr_per_px` on the core for a bench stage
+//!   (`<kernel id>/<stage>`: instructions per pixel of the QVGA bench frame,
+//!   measured under QEMU by `fixsight-verify targets`; entries without a
+//!   bench stage are per output element of their golden vectors and are
+//!   not used),
 //!   times `width * height * fps`;
 //! * the load is that sum over the clock (`clock_mhz * 10^6` cycles per
 //!   second) **at one instruction per cycle**. Instructions are not cycles:
@@ -119,7 +122,9 @@ pub fn plan(
         .as_array()
         .into_iter()
         .flatten()
-        .filter_map(|k| k["name"].as_str()?.split('/').next())
+        .filter_map(|k| k["name"].as_str())
+        .filter(|n| n.contains('/'))
+        .filter_map(|n| n.split('/').next())
         .collect();
     // Default: the whole-job entries of the pipeline family; the edge
     // stage alone only when no whole-job entry was measured.
@@ -144,7 +149,9 @@ pub fn plan(
     for k in c["kernels"].as_array().into_iter().flatten() {
         let name = k["name"].as_str().unwrap_or_default();
         let id = name.split('/').next().unwrap_or_default();
-        if wanted(id) {
+        // Only bench stages (`<id>/<stage>`) are per pixel of a frame; an
+        // entry without one is per output element of its golden vectors.
+        if wanted(id) && name.contains('/') {
             let instr = k["instr_per_px"]
                 .as_f64()
                 .with_context(|| format!("{name}: no instr_per_px in targets.json"))?;
@@ -161,7 +168,9 @@ pub fn plan(
             .any(|s| s.name.split('/').next() == Some(k.as_str()))
         {
             bail!(
-                "no on-target figure for kernel `{}` on {core} in targets.json",
+                "no per-pixel bench figure for kernel {} on {core} in targets.json (a kernel \
+                 without a bench stage is measured per output element of its golden vectors, \
+                 which is not a cost per pixel)",
                 files::shown(k)
             );
         }
