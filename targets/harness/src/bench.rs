@@ -27,7 +27,13 @@
 //! same chain as one streamed stage (`pipeline.edge_stream`:
 //! `fixsight::pipeline::EdgeStream` with `DEMO`, 240 rows pushed, the frame
 //! finished, its points read), what a firmware that streams camera rows
-//! pays per frame; and the two warp forms on the
+//! pays per frame; then `point_job_qvga`, the whole job in point mode
+//! (`pipeline.point_job`: `PointJobConfig::DEMO_QVGA`, 240 rows pushed, the
+//! edge points corrected through the bench grid below and voted with the
+//! demo gate, peaks, marking selection, tracker update), instructions per
+//! pixel of one frame (the bench frame holds no floor tape, so the marking
+//! and tracker steps see whatever lines the disc and rectangle give); and
+//! the two warp forms on the
 //! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
 //! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
 //! grid with points every 16 pixels, as a blob, output in strips of 16
@@ -60,7 +66,7 @@ pub const WIDTH: usize = 320;
 pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
-const SLOTS: [(Elem, usize, usize, usize); 16] = [
+const SLOTS: [(Elem, usize, usize, usize); 18] = [
     (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
     (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
     (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
@@ -77,6 +83,8 @@ const SLOTS: [(Elem, usize, usize, usize); 16] = [
     (Elem::U8, GRID_BLOB_LEN, 1, 1), // 13 grid blob
     (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
     (Elem::U16, 201, 32, 1),         // 15 line accumulator (demo: 32 columns x 201 rows)
+    (Elem::I32, grid_points(WIDTH), grid_points(HEIGHT), 2), // 16 bench grid points
+    (Elem::I32, JOB_WORDS, 1, 1),    // 17 whole-job record of one frame
 ];
 
 /// One measured stage.
@@ -171,6 +179,56 @@ const PIPELINE: [(&str, Param); 3] = [
     ("height", Param::Int(HEIGHT as i64)),
     ("last_rows", Param::Int(HEIGHT as i64)),
 ];
+/// The whole job in point mode (`pipeline.point_job`) with
+/// `PointJobConfig::DEMO_QVGA` on one frame, edge points corrected through
+/// the bench grid (the warp stages' lens), the demo gate; the fields are
+/// those the dispatcher reads (`targets/harness/src/kernels/pipeline.rs`).
+const JOB: fixsight::pipeline::PointJobConfig = fixsight::pipeline::PointJobConfig::DEMO_QVGA;
+const JOB_LIMITS: &fixsight::marking::MarkingLimits = JOB.marking.limits();
+const JOB_MARKING: [i64; 10] = [
+    JOB_LIMITS.near_row_q4 as i64,
+    JOB_LIMITS.far_row_q4 as i64,
+    JOB_LIMITS.horizon_row_q4 as i64,
+    JOB_LIMITS.max_tilt as i64,
+    JOB_LIMITS.near_x_min_q4 as i64,
+    JOB_LIMITS.near_x_max_q4 as i64,
+    JOB_LIMITS.near_sep_min_q4 as i64,
+    JOB_LIMITS.near_sep_nominal_q4 as i64,
+    JOB_LIMITS.near_sep_max_q4 as i64,
+    JOB_LIMITS.converge_tol_q4 as i64,
+];
+const JOB_REFERENCE: [i64; 2] = [
+    JOB.track.reference_q4.0 as i64,
+    JOB.track.reference_q4.1 as i64,
+];
+/// Words of one frame's record (the dispatcher's layout: 8 peak slots, 4
+/// track slots).
+const JOB_WORDS: usize =
+    9 + 5 * 8 + fixsight::marking::RECORD_WORDS + 6 + 4 * fixsight::track::TRACK_WORDS;
+const POINT_JOB: [(&str, Param); 15] = [
+    ("frames", Param::Int(1)),
+    ("height", Param::Int(HEIGHT as i64)),
+    ("theta_start", Param::Int(JOB.vote.theta_start as i64)),
+    ("theta_step_log2", Param::Int(JOB.vote.theta_step_log2 as i64)),
+    ("theta_bins", Param::Int(JOB.vote.theta_bins as i64)),
+    ("rho_step_log2", Param::Int(JOB.vote.rho_step_log2 as i64)),
+    ("rho_bins", Param::Int(JOB.vote.rho_bins as i64)),
+    (
+        "gate",
+        Param::Int(match JOB.vote.gate {
+            Some(g) => g as i64,
+            None => 0,
+        }),
+    ),
+    ("peak_threshold", Param::Int(JOB.peaks.threshold as i64)),
+    ("peak_radius", Param::Int(JOB.peaks.radius_theta as i64)),
+    ("marking", Param::Ints(&JOB_MARKING)),
+    ("reference", Param::Ints(&JOB_REFERENCE)),
+    ("rho_meas_var", Param::Int(JOB.track.rho.meas_var as i64)),
+    ("grid_log2", Param::Int(BENCH_GRID_LOG2 as i64)),
+    ("grid_frac_bits", Param::Int(WARP_FRAC_BITS as i64)),
+];
+
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
 
@@ -361,6 +419,13 @@ pub static STAGES: &[Stage] = &[
         outputs: &[14],
     },
     Stage {
+        name: "point_job_qvga",
+        kernel: "pipeline.point_job",
+        params: &POINT_JOB,
+        inputs: &[0, 16],
+        outputs: &[17],
+    },
+    Stage {
         name: "warp_pixel_map",
         kernel: "warp.pixel_map",
         params: &PIXEL_MAP,
@@ -491,6 +556,9 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
             let _ = writeln!(con, "bench - - ERROR win - px 0 stack 0 bench grid: {e}");
             return;
         }
+    }
+    if let Buf::I32(p) = &mut slots[16].buf {
+        p.copy_from_slice(points);
     }
     for st in STAGES {
         let Some(run) = crate::kernels::dispatch(st.kernel) else {
