@@ -67,24 +67,24 @@ pub const HEIGHT: usize = 240;
 
 /// Image slots shared by the stages: element type, width, height, channels.
 const SLOTS: [(Elem, usize, usize, usize); 18] = [
-    (Elem::U8, WIDTH, HEIGHT, 1),    // 0 frame
-    (Elem::U8, WIDTH, HEIGHT, 1),    // 1 smooth
-    (Elem::I16, WIDTH, HEIGHT, 1),   // 2 gx
-    (Elem::I16, WIDTH, HEIGHT, 1),   // 3 gy
-    (Elem::U16, WIDTH, HEIGHT, 1),   // 4 mag (L1)
-    (Elem::U16, WIDTH, HEIGHT, 1),   // 5 mag2 (approx L2)
-    (Elem::U8, WIDTH, HEIGHT, 1),    // 6 dir
-    (Elem::U8, WIDTH, HEIGHT, 1),    // 7 scratch u8
-    (Elem::I16, WIDTH, HEIGHT, 1),   // 8 scratch i16
-    (Elem::U16, WIDTH, HEIGHT, 1),   // 9 suppressed magnitude
-    (Elem::U16, 2, 1, 1),            // 10 thresholds (low, high)
-    (Elem::U8, WIDTH, HEIGHT, 1),    // 11 edge codes, then edges, then thinned
-    (Elem::I32, WIDTH, HEIGHT, 2),   // 12 pixel map, raw (x, y) per pixel
-    (Elem::U8, GRID_BLOB_LEN, 1, 1), // 13 grid blob
-    (Elem::U16, 4, 1, 1),            // 14 pipeline thresholds
-    (Elem::U16, 201, 32, 1),         // 15 line accumulator (demo: 32 columns x 201 rows)
-    (Elem::I32, grid_points(WIDTH), grid_points(HEIGHT), 2), // 16 bench grid points
-    (Elem::I32, JOB_WORDS, 1, 1),    // 17 whole-job record of one frame
+    (Elem::U8, WIDTH, HEIGHT, 1),         // 0 frame
+    (Elem::U8, WIDTH, HEIGHT, 1),         // 1 smooth
+    (Elem::I16, WIDTH, HEIGHT, 1),        // 2 gx
+    (Elem::I16, WIDTH, HEIGHT, 1),        // 3 gy
+    (Elem::U16, WIDTH, HEIGHT, 1),        // 4 mag (L1)
+    (Elem::U16, WIDTH, HEIGHT, 1),        // 5 mag2 (approx L2)
+    (Elem::U8, WIDTH, HEIGHT, 1),         // 6 dir
+    (Elem::U8, WIDTH, HEIGHT, 1),         // 7 scratch u8
+    (Elem::I16, WIDTH, HEIGHT, 1),        // 8 scratch i16
+    (Elem::U16, WIDTH, HEIGHT, 1),        // 9 suppressed magnitude
+    (Elem::U16, 2, 1, 1),                 // 10 thresholds (low, high)
+    (Elem::U8, WIDTH, HEIGHT, 1),         // 11 edge codes, then edges, then thinned
+    (Elem::I32, WIDTH, HEIGHT, 2),        // 12 pixel map, raw (x, y) per pixel
+    (Elem::U8, GRID_BLOB_LEN, 1, 1),      // 13 grid blob
+    (Elem::U16, 4, 1, 1),                 // 14 pipeline thresholds
+    (Elem::U16, 201, 32, 1),              // 15 line accumulator (demo: 32 columns x 201 rows)
+    (Elem::I32, GRID_COLS, GRID_ROWS, 2), // 16 bench grid points
+    (Elem::I32, JOB_WORDS, 1, 1),         // 17 whole-job record of one frame
 ];
 
 /// One measured stage.
@@ -209,7 +209,10 @@ const POINT_JOB: [(&str, Param); 15] = [
     ("frames", Param::Int(1)),
     ("height", Param::Int(HEIGHT as i64)),
     ("theta_start", Param::Int(JOB.vote.theta_start as i64)),
-    ("theta_step_log2", Param::Int(JOB.vote.theta_step_log2 as i64)),
+    (
+        "theta_step_log2",
+        Param::Int(JOB.vote.theta_step_log2 as i64),
+    ),
     ("theta_bins", Param::Int(JOB.vote.theta_bins as i64)),
     ("rho_step_log2", Param::Int(JOB.vote.rho_step_log2 as i64)),
     ("rho_bins", Param::Int(JOB.vote.rho_bins as i64)),
@@ -247,6 +250,9 @@ const fn grid_points(n: usize) -> usize {
         c
     }
 }
+/// Control points of the bench grid across and down.
+const GRID_COLS: usize = grid_points(WIDTH);
+const GRID_ROWS: usize = grid_points(HEIGHT);
 /// Blob bytes of the bench grid: header and 8 bytes per point.
 const GRID_BLOB_LEN: usize =
     fixsight::warp::BLOB_HEADER_LEN + 8 * grid_points(WIDTH) * grid_points(HEIGHT);

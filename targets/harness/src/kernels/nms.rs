@@ -25,7 +25,11 @@ pub fn suppress_interpolated(
     outs: &mut [Img<'_>],
     _arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let (mag, gx, gy) = (input(ins, 0)?.u16()?, input(ins, 1)?.i16()?, input(ins, 2)?.i16()?);
+    let (mag, gx, gy) = (
+        input(ins, 0)?.u16()?,
+        input(ins, 1)?.i16()?,
+        input(ins, 2)?.i16()?,
+    );
     nms::suppress_interpolated(&mag, &gx, &gy, &mut output(outs, 0)?.u16_mut()?)?;
     Ok(())
 }
