@@ -95,27 +95,17 @@ impl VectorVerdict {
     }
 }
 
-/// Elements of an image as `i64`, from little-endian bytes.
-fn elements(elem: Elem, bytes: &[u8]) -> Vec<i64> {
-    match elem {
-        Elem::U8 => bytes.iter().map(|&b| b as i64).collect(),
-        Elem::I16 => bytes
-            .chunks_exact(2)
-            .map(|c| i16::from_le_bytes([c[0], c[1]]) as i64)
-            .collect(),
-        Elem::U16 => bytes
-            .chunks_exact(2)
-            .map(|c| u16::from_le_bytes([c[0], c[1]]) as i64)
-            .collect(),
-        Elem::I32 => bytes
-            .chunks_exact(4)
-            .map(|c| i32::from_le_bytes([c[0], c[1], c[2], c[3]]) as i64)
-            .collect(),
-        Elem::U32 => bytes
-            .chunks_exact(4)
-            .map(|c| u32::from_le_bytes([c[0], c[1], c[2], c[3]]) as i64)
-            .collect(),
+/// Elements of an image as `i64`, through the blob's own element
+/// conversions (`Blob::to_u8` ...).
+fn elements(b: &Blob) -> Vec<i64> {
+    match b.elem {
+        Elem::U8 => b.to_u8().map(|v| v.into_iter().map(i64::from).collect()),
+        Elem::I16 => b.to_i16().map(|v| v.into_iter().map(i64::from).collect()),
+        Elem::U16 => b.to_u16().map(|v| v.into_iter().map(i64::from).collect()),
+        Elem::I32 => b.to_i32().map(|v| v.into_iter().map(i64::from).collect()),
+        Elem::U32 => b.to_u32().map(|v| v.into_iter().map(i64::from).collect()),
     }
+    .unwrap_or_default()
 }
 
 /// Compares a port's bytes with an expected image, allowing elements to
@@ -149,8 +139,11 @@ pub fn compare(expected: &Blob, got: &[u8], allowed: i64) -> ImageVerdict {
             expected.bytes.len()
         ));
     }
-    let want = elements(expected.elem, &expected.bytes);
-    let have = elements(expected.elem, got);
+    let want = elements(expected);
+    let have = elements(&Blob {
+        bytes: got.to_vec(),
+        ..expected.clone()
+    });
     let mut first = None;
     let mut count = 0;
     for (i, (&w, &g)) in want.iter().zip(&have).enumerate() {
