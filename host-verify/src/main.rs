@@ -129,19 +129,48 @@ enum Cmd {
         overwrite: bool,
     },
     /// Run one kernel on your own image or folder of images: fixed-point and
-    /// f64 outputs, their difference, and the report's figures.
+    /// f64 outputs, their difference, and the report's figures. Or, with
+    /// --pipeline, the whole job (edges, lines, marking, tracker, drift
+    /// warning) over a folder of 320x240 frames, fixed point against f64.
     ///
-    /// Colour images become luma (--luma bt601, the default, or bt709). Writes
-    /// <stem>.<kernel>.fixed.png, .f64.png, .diff.png and .json per image.
+    /// Colour images become luma (--luma bt601, the default, or bt709). With
+    /// --kernel, writes <stem>.<kernel>.fixed.png, .f64.png, .diff.png and
+    /// .json per image; with --pipeline, <stem>.pipeline.png per frame (the
+    /// tape edges of both runs drawn on the corrected view) and
+    /// pipeline.json.
     ///
-    /// Example: fixsight-verify run --input photos/ --kernel chain.edges --out run-out/
+    /// Examples:
+    ///   fixsight-verify run --input photos/ --kernel chain.edges --out run-out/
+    ///   fixsight-verify run --input frames/ --pipeline --lens my-camera.lens --out job-out/
+    #[command(
+        after_help = "Not a safety function: with --pipeline it prints a drift warning \
+        for a vehicle following floor tape. A vehicle that can hurt people needs safety-rated \
+        sensing and control under the applicable standards (for example ISO 3691-4, IEC 61508, \
+        ISO 13849) and local regulations."
+    )]
     Run {
-        /// An image file (PNG, PGM/PPM, JPEG) or a folder of them.
+        /// An image file (PNG, PGM/PPM, JPEG) or a folder of them (with
+        /// --pipeline: the frames of one sequence, in file-name order).
         #[arg(long, value_name = "PATH")]
         input: PathBuf,
         /// Kernel id: a filter preset, a gradient magnitude, or chain.edges.
-        #[arg(long, value_name = "ID")]
-        kernel: String,
+        #[arg(
+            long,
+            value_name = "ID",
+            required_unless_present = "pipeline",
+            conflicts_with = "pipeline"
+        )]
+        kernel: Option<String>,
+        /// The whole job in point mode (pipeline.point_job, the demo
+        /// configuration for 320x240 frames) instead of one kernel.
+        #[arg(long)]
+        pipeline: bool,
+        /// With --pipeline: a lens file (fixsight-lens 1, as `calibrate`
+        /// writes it) for 320x240 frames; the edge points are corrected
+        /// through it before voting. Without it the frames count as
+        /// undistorted.
+        #[arg(long, value_name = "FILE")]
+        lens: Option<PathBuf>,
         /// Output folder.
         #[arg(long, value_name = "DIR", default_value = "fixsight-run")]
         out: PathBuf,
@@ -333,10 +362,18 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
         Cmd::Run {
             input,
             kernel,
+            pipeline: _,
+            lens,
             out,
             luma,
             overwrite,
-        } => cmd::run::run(&input, &kernel, &out, luma, overwrite),
+        } => match (kernel, lens) {
+            (Some(_), Some(_)) => Err(anyhow::anyhow!(
+                "--lens goes with --pipeline (one kernel runs on the images as they are)"
+            )),
+            (Some(k), None) => cmd::run::run(&input, &k, &out, luma, overwrite),
+            (None, lens) => cmd::run::pipeline::run(&input, lens.as_deref(), &out, luma, overwrite),
+        },
         Cmd::Budget {
             width,
             height,

@@ -73,7 +73,8 @@ fn from_help() -> BTreeMap<String, Vec<String>> {
 }
 
 /// `subcommand path -> options` from the README's table rows
-/// `` | `fixsight-verify <path> [--opt X] ...` | ... | ``.
+/// `` | `fixsight-verify <path> [--opt X] ...` | ... | `` (the union over
+/// the rows of one path).
 fn from_readme() -> BTreeMap<String, Vec<String>> {
     let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../README.md"))
         .expect("README.md");
@@ -89,14 +90,18 @@ fn from_readme() -> BTreeMap<String, Vec<String>> {
             .take_while(|w| !w.starts_with('-') && !w.starts_with('['))
             .copied()
             .collect();
-        let mut opts: Vec<String> = words
-            .iter()
-            .map(|w| w.trim_start_matches('['))
-            .filter(|w| w.starts_with("--"))
-            .map(|w| w.trim_end_matches(']').to_string())
-            .collect();
+        // Rows of the same command (one per form, e.g. `run --kernel` and
+        // `run --pipeline`) add up to its options.
+        let opts: &mut Vec<String> = out.entry(path.join(" ")).or_default();
+        opts.extend(
+            words
+                .iter()
+                .map(|w| w.trim_start_matches('['))
+                .filter(|w| w.starts_with("--"))
+                .map(|w| w.trim_end_matches(']').to_string()),
+        );
         opts.sort();
-        out.insert(path.join(" "), opts);
+        opts.dedup();
     }
     out
 }
@@ -117,12 +122,14 @@ fn readme_command_table_matches_help() {
 }
 
 #[test]
-fn report_help_says_the_drift_warning_is_no_safety_function() {
-    for flag in ["-h", "--help"] {
-        let h = help(&["report", flag]);
-        assert!(
-            h.contains("Not a safety function") && h.contains("ISO 3691-4"),
-            "report {flag} lacks the safety note:\n{h}"
-        );
+fn help_of_commands_with_a_drift_warning_says_it_is_no_safety_function() {
+    for cmd in ["report", "run"] {
+        for flag in ["-h", "--help"] {
+            let h = help(&[cmd, flag]);
+            assert!(
+                h.contains("Not a safety function") && h.contains("ISO 3691-4"),
+                "{cmd} {flag} lacks the safety note:\n{h}"
+            );
+        }
     }
 }

@@ -129,8 +129,9 @@ pub struct FixedRun {
     pub ops: OpsPerPx,
 }
 
-/// Runs the kernel job over `frames` (rendered frames of `w x h`).
-pub fn run_fixed(frames: &[Vec<u8>], grid: &ControlGrid<'_>) -> Result<FixedRun, String> {
+/// Runs the kernel job over `frames` (320 x 240 frames), the edge points
+/// corrected through `grid` when there is one.
+pub fn run_fixed(frames: &[Vec<u8>], grid: Option<&ControlGrid<'_>>) -> Result<FixedRun, String> {
     let cfg = PointJobConfig::DEMO_QVGA;
     let mut job: Box<DemoPointJobQvga> = Box::default();
     let (w, h) = (cfg.vote.width, cfg.vote.height);
@@ -142,7 +143,7 @@ pub fn run_fixed(frames: &[Vec<u8>], grid: &ControlGrid<'_>) -> Result<FixedRun,
             for r in img.chunks_exact(w) {
                 job.push_row(r).map_err(e)?;
             }
-            let rep = job.finish(Some(grid)).map_err(e)?;
+            let rep = job.finish(grid).map_err(e)?;
             let tape = rep
                 .marking
                 .found()
@@ -292,9 +293,17 @@ fn refine_f64(p: &VoteParams, cells: &[f64], t: usize, b: usize) -> (f64, f64) {
     (a.rem_euclid(131072.0), rho)
 }
 
+/// A lens correction in `f64`: sensor pixel to corrected-view pixel, `None`
+/// where the model has no answer.
+pub type Correct<'a> = &'a dyn Fn(f64, f64) -> Option<(f64, f64)>;
+
 /// The `f64` job over `frames` with the thresholds the fixed stage used
-/// per frame (module docs).
-pub fn run_f64(seq: &Sequence, frames: &[Vec<u8>], thresholds: &[(u16, u16)]) -> Vec<JobFrame> {
+/// per frame (module docs), each edge pixel corrected by `correct`.
+pub fn run_f64(
+    correct: Correct<'_>,
+    frames: &[Vec<u8>],
+    thresholds: &[(u16, u16)],
+) -> Vec<JobFrame> {
     let cfg = PointJobConfig::DEMO_QVGA;
     let p = cfg.vote;
     let (w, h) = (p.width, p.height);
@@ -312,8 +321,7 @@ pub fn run_f64(seq: &Sequence, frames: &[Vec<u8>], thresholds: &[(u16, u16)]) ->
                 if edges[i] == 0 {
                     continue;
                 }
-                let Some((cx, cy)) = corrected_of(seq.camera(), seq.view(), x as f64, y as f64)
-                else {
+                let Some((cx, cy)) = correct(x as f64, y as f64) else {
                     continue;
                 };
                 if !(0.0..=(w - 1) as f64).contains(&cx) || !(0.0..=(h - 1) as f64).contains(&cy) {
@@ -420,6 +428,67 @@ fn max_mean(v: &[f64]) -> (f64, f64) {
     )
 }
 
+/// The fixed run against the `f64` run of the same frames.
+#[derive(Debug, Clone, Default)]
+pub struct FixedVsF64 {
+    /// Frames compared.
+    pub frames: usize,
+    /// `|d rho|` px of each tape edge, over the frames where both found the
+    /// tape.
+    pub rho_px: Vec<f64>,
+    /// `|d theta|` degrees, the same pairs.
+    pub theta_deg: Vec<f64>,
+    /// Frames without a marking: fixed, `f64`.
+    pub lost: [usize; 2],
+    /// Frames where one run warns and the other does not.
+    pub warning_frames_differ: usize,
+    /// First frame with a raised drift warning: fixed, `f64`.
+    pub first_warning: [Option<usize>; 2],
+}
+
+impl FixedVsF64 {
+    /// Compares `fixed` and `reference` frame by frame (the shorter length).
+    pub fn of(fixed: &[JobFrame], reference: &[JobFrame]) -> Self {
+        let mut c = FixedVsF64 {
+            frames: fixed.len().min(reference.len()),
+            ..Default::default()
+        };
+        for (k, (a, b)) in fixed.iter().zip(reference).enumerate() {
+            if let (Some(ta), Some(tb)) = (a.tape, b.tape) {
+                for i in 0..2 {
+                    let (dr, dt) = line_err(ta[i], tb[i]);
+                    c.rho_px.push(dr);
+                    c.theta_deg.push(dt);
+                }
+            }
+            for (i, run) in [a, b].into_iter().enumerate() {
+                c.lost[i] += run.tape.is_none() as usize;
+                if run.warning.is_some() && c.first_warning[i].is_none() {
+                    c.first_warning[i] = Some(k);
+                }
+            }
+            c.warning_frames_differ += (a.warning.is_some() != b.warning.is_some()) as usize;
+        }
+        c
+    }
+
+    /// Frames between the first warnings of the two runs: 0 when both warn
+    /// first in the same frame or neither warns, the number of frames when
+    /// only one warns.
+    pub fn warning_frame_delta(&self) -> f64 {
+        match self.first_warning {
+            [Some(a), Some(b)] => a.abs_diff(b) as f64,
+            [None, None] => 0.0,
+            _ => self.frames as f64,
+        }
+    }
+
+    /// `(max, mean)` of [`Self::rho_px`] and of [`Self::theta_deg`].
+    pub fn line_figures(&self) -> ((f64, f64), (f64, f64)) {
+        (max_mean(&self.rho_px), max_mean(&self.theta_deg))
+    }
+}
+
 /// The whole comparison over a sequence spec (the demo's in the report).
 pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let seq = Sequence::new(spec)?;
@@ -434,18 +503,22 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     )?;
     let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).map_err(e)?;
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
-    let fixed = run_fixed(&frames, &grid)?;
+    let fixed = run_fixed(&frames, Some(&grid))?;
     let mut pr = composed_differences(&frames, &grid, &fixed)?;
     let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
-    let reference = run_f64(&seq, &frames, &thresholds);
+    let reference = run_f64(
+        &|x, y| corrected_of(seq.camera(), seq.view(), x, y),
+        &frames,
+        &thresholds,
+    );
     let origin = ((w as f64 - 1.0) / 2.0, (h as f64 - 1.0) / 2.0);
     let truth: Vec<_> = (0..spec.frames).map(|k| seq.truth(k, origin)).collect();
-    let (mut fr, mut ft, mut rr, mut rt, mut xr, mut xt) =
-        (vec![], vec![], vec![], vec![], vec![], vec![]);
+    let cmp = FixedVsF64::of(&fixed.frames, &reference);
+    let (mut fr, mut ft, mut rr, mut rt) = (vec![], vec![], vec![], vec![]);
     let (mut track_f, mut track_r) = (vec![], vec![]);
-    let (mut lost_f, mut lost_r, mut occluded, mut differ) = (0, 0, 0, 0);
-    let (mut first_f, mut first_r) = (None, None);
-    for (k, ((a, b), t)) in fixed.frames.iter().zip(&reference).zip(&truth).enumerate() {
+    let mut occluded = 0;
+    let (mut lost_f, mut lost_r) = (0, 0);
+    for ((a, b), t) in fixed.frames.iter().zip(&reference).zip(&truth) {
         occluded += t.occluded() as usize;
         let tl = [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
         for (run, rho, th, lost) in [
@@ -461,13 +534,6 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
                     }
                 }
                 None => *lost += 1,
-            }
-        }
-        if let (Some(ta), Some(tb)) = (a.tape, b.tape) {
-            for i in 0..2 {
-                let (dr, dt) = line_err(ta[i], tb[i]);
-                xr.push(dr);
-                xt.push(dt);
             }
         }
         for (run, errs) in [(a, &mut track_f), (b, &mut track_r)] {
@@ -486,25 +552,12 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
                 errs.extend(near);
             }
         }
-        if a.warning.is_some() != b.warning.is_some() {
-            differ += 1;
-        }
-        if a.warning.is_some() && first_f.is_none() {
-            first_f = Some(k);
-        }
-        if b.warning.is_some() && first_r.is_none() {
-            first_r = Some(k);
-        }
     }
     let crossing = crate::sequence::SequenceTruth {
         frames: truth.clone(),
     }
     .crossing();
-    let delta = match (first_f, first_r) {
-        (Some(a), Some(b)) => a.abs_diff(b) as f64,
-        (None, None) => 0.0,
-        _ => spec.frames as f64,
-    };
+    let delta = cmp.warning_frame_delta();
     // The row's contract: the job equals the kernels composed, bit for bit
     // (the samples are the frames; a differing frame counts 1).
     let flags: Vec<f64> = (0..spec.frames)
@@ -538,8 +591,8 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
         ("line_theta_err_deg_fixed", &ft),
         ("line_rho_err_px_f64", &rr),
         ("line_theta_err_deg_f64", &rt),
-        ("line_rho_err_px_fixed_vs_f64", &xr),
-        ("line_theta_err_deg_fixed_vs_f64", &xt),
+        ("line_rho_err_px_fixed_vs_f64", &cmp.rho_px),
+        ("line_theta_err_deg_fixed_vs_f64", &cmp.theta_deg),
         ("tracking_err_px_fixed", &track_f),
         ("tracking_err_px_f64", &track_r),
     ] {
@@ -551,10 +604,10 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     put("lost_frames_fixed", lost_f as f64);
     put("lost_frames_f64", lost_r as f64);
     put("occluded_frames", occluded as f64);
-    put("first_warning_fixed", first(first_f));
-    put("first_warning_f64", first(first_r));
+    put("first_warning_fixed", first(cmp.first_warning[0]));
+    put("first_warning_f64", first(cmp.first_warning[1]));
     put("warning_frame_delta", delta);
-    put("warning_frames_differ", differ as f64);
+    put("warning_frames_differ", cmp.warning_frames_differ as f64);
     put("truth_crossing_frame", first(crossing.map(|c| c.frame)));
     put("ram_bytes_qvga", DemoPointJobQvga::ram_bytes() as f64);
     put("ram_bytes_vga", DemoPointJobVga::ram_bytes() as f64);

@@ -1,5 +1,6 @@
 //! `fixsight-verify run`: one kernel on the user's own images, fixed point
-//! against its `f64` reference, with the report's metrics.
+//! against its `f64` reference, with the report's metrics; or, with
+//! `--pipeline`, the whole job over a sequence of frames ([`pipeline`]).
 //!
 //! # Input
 //!
@@ -35,6 +36,8 @@
 //! `<stem>.<kernel>.json` (the figures). Files are written as every command
 //! writes them (`crate::files`): refused when they exist unless
 //! `--overwrite`, temporary names renamed into place at the end.
+
+pub mod pipeline;
 
 use crate::chain::reference::{agreement, reference_f64};
 use crate::edge_chain::{run_chain, DEMO};
