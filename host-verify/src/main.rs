@@ -22,6 +22,8 @@ struct Cli {
 enum Cmd {
     /// Build a lens-undistortion control grid from a lens file and write it
     /// as Rust source, a C header and a CRC-checked blob.
+    ///
+    /// Example: fixsight-verify grid --lens cal/lens.txt --out my-firmware/src/
     Grid {
         /// Lens file (`fixsight-lens 1` text format).
         #[arg(long)]
@@ -51,6 +53,8 @@ enum Cmd {
     /// Calibrate a lens from photographs of a flat checkerboard: writes a
     /// lens file (`fixsight-lens 1`, its path on the last line) for `grid`,
     /// a report and a picture per image.
+    ///
+    /// Example: fixsight-verify calibrate --images photos/ --inner-corners 9x6 --square-mm 25 --out cal/
     Calibrate {
         /// Folder of .png/.jpg/.jpeg photographs of the board, one sensor size.
         #[arg(long, value_name = "DIR")]
@@ -82,6 +86,8 @@ enum Cmd {
     },
     /// Warp precision sweep (fractional bits x pixel map and control-grid
     /// spacings) on a demo scene: sweep.md, sweep.json and sweep.png.
+    ///
+    /// Example: fixsight-verify sweep --out fixsight-sweep
     Sweep {
         /// Output folder.
         #[arg(long, default_value = "fixsight-sweep")]
@@ -92,6 +98,8 @@ enum Cmd {
     },
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
+    ///
+    /// Example: fixsight-verify report --out fixsight-report --overwrite
     // The safety note is `after_help`, so both `-h` and `--help` print it
     // and the option list keeps its compact form.
     #[command(
@@ -114,6 +122,8 @@ enum Cmd {
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
     /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
     /// targets.json.
+    ///
+    /// Example: fixsight-verify targets --lang rust --out fixsight-report
     Targets {
         /// Output folder.
         #[arg(long, default_value = "fixsight-report")]
@@ -255,6 +265,8 @@ enum Cmd {
 #[derive(Subcommand)]
 enum GoldenCmd {
     /// Recompute every vector with the kernels and compare bit for bit.
+    ///
+    /// Example: fixsight-verify golden check --vectors golden
     Check {
         /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
@@ -283,6 +295,8 @@ enum GoldenCmd {
         overwrite: bool,
     },
     /// Regenerate the vectors from the current kernels.
+    ///
+    /// Example: fixsight-verify golden write --vectors my-vectors/
     Write {
         /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]

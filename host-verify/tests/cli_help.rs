@@ -106,6 +106,22 @@ fn from_readme() -> BTreeMap<String, Vec<String>> {
     out
 }
 
+/// Every command's `--help` shows a worked example of itself.
+#[test]
+fn every_help_has_a_worked_example() {
+    for path in from_help().keys() {
+        let args: Vec<&str> = path.split(' ').chain(["--help"]).collect();
+        let h = help(&args);
+        let example = format!("fixsight-verify {path} --");
+        assert!(
+            h.lines()
+                .any(|l| l.contains("xample") && l.contains(&example)
+                    || l.trim_start().starts_with(&example)),
+            "`{path} --help` has no worked example:\n{h}"
+        );
+    }
+}
+
 #[test]
 fn readme_command_table_matches_help() {
     let help = from_help();
