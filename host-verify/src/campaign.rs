@@ -16,6 +16,10 @@
 //! | `kernel.hysteresis` | random magnitudes and thresholds, code maps, stack sizes, histogram rules | the host references (breadth-first flood fill, sorted-histogram thresholds) |
 //! | `kernel.thinning` | random binary maps, caps | the host reference (a direct transcription of the paper's two sub-iterations) |
 //! | `kernel.warp` | random geometries, pixel maps (in and out of range), control grids, 1..=4 channels | the `i128`/`i64` sampling and grid models |
+//! | `kernel.lines` | random vote settings (valid and not), frames of edge points with random gradients and weights, peak settings | the brute-force model of [`crate::lines::model`] (cells and peaks); the row stream equals the frame |
+//! | `kernel.marking` | random candidate lines (extreme `rho`, any angle, duplicates) and the demo limits or random ones | a found pair names two different input lines whose near-row columns and separation lie within the limits; the same input gives the same answer |
+//! | `kernel.track` | random settings (valid and not), zero to three detections (the tracker takes two), `rho` past its range, frame numbers that sometimes step back | exactly the frames that break a documented rule are refused, with a typed error and no change; counts and warnings are consistent with the live tracks; a reset tracker answers as a new one |
+//! | `kernel.pipeline` | random edge-stage settings (valid and not), frame sizes, frames per run, short last frames | the whole-frame kernels one after another ([`crate::pipeline::compare`]) |
 //!
 //! A case that panics, or whose result differs from the oracle, is counted
 //! with its seed and case number, which reproduce it
@@ -39,7 +43,7 @@ use std::time::{Duration, Instant};
 pub const SLOW_CASE: Duration = Duration::from_secs(2);
 
 /// Every family of the campaign, in report order.
-pub const FAMILIES: [&str; 11] = [
+pub const FAMILIES: [&str; 15] = [
     "parse.lens",
     "parse.grid_blob",
     "parse.image",
@@ -51,6 +55,10 @@ pub const FAMILIES: [&str; 11] = [
     "kernel.hysteresis",
     "kernel.thinning",
     "kernel.warp",
+    "kernel.lines",
+    "kernel.marking",
+    "kernel.track",
+    "kernel.pipeline",
 ];
 
 /// What one family's run found.
@@ -144,6 +152,10 @@ pub fn run_family(
             "kernel.hysteresis" => hysteresis_case(&mut rng),
             "kernel.thinning" => thinning_case(&mut rng),
             "kernel.warp" => warp_case(&mut rng),
+            "kernel.lines" => lines_case(&mut rng),
+            "kernel.marking" => marking_case(&mut rng),
+            "kernel.track" => track_case(&mut rng),
+            "kernel.pipeline" => pipeline_case(&mut rng),
             _ => Wrong(format!("unknown family {family}")),
         }));
         let dt = start.elapsed();
@@ -962,6 +974,380 @@ fn lens_case(r: &mut ChaCha8Rng, demo: &str) -> Outcome {
         }
     }
     Fine
+}
+
+// ------------------------------------------------------------------ lines
+
+fn lines_case(r: &mut ChaCha8Rng) -> Outcome {
+    use crate::lines::model::{model_cells, peak_winners};
+    use fixsight::lines::{Accumulator, EdgeRow, Peak, PeakParams, VoteParams};
+    let s = r.random_range(6u32..=15);
+    let max_bins = (65536usize >> s.min(16)).min(48);
+    let p = VoteParams {
+        width: r.random_range(0usize..40),
+        height: r.random_range(0usize..30),
+        theta_start: if r.random_range(0..8) == 0 {
+            r.random()
+        } else {
+            r.random_range(0..1 << 17)
+        },
+        theta_step_log2: s,
+        theta_bins: r.random_range(0..=max_bins + 1),
+        rho_step_log2: r.random_range(0u32..=9),
+        rho_bins: r.random_range(0usize..130),
+        trig_frac_bits: r.random_range(6u32..=16),
+        gate: r.random::<bool>().then(|| r.random()),
+        weight_shift: r.random::<bool>().then(|| r.random_range(0u32..18)),
+    };
+    let n = p.width * p.height;
+    let density = r.random_range(0u32..60);
+    let edges: Vec<u8> = (0..n)
+        .map(|_| u8::from(r.random_range(0..100) < density))
+        .collect();
+    let gx = i16s(r, n);
+    let gy = i16s(r, n);
+    let wts: Vec<u16> = (0..n).map(|_| r.random()).collect();
+    // The caller's buffers are sometimes a cell short.
+    let short = r.random_range(0..10) == 0;
+    let cells_len = Accumulator::cells_needed(&p).saturating_sub(short as usize);
+    let mut cells = vec![0u16; cells_len.min(1 << 20)];
+    let mut trig = vec![[0i16; 2]; p.theta_bins.min(1 << 16)];
+    let mut acc = match Accumulator::new(p, &mut cells, &mut trig) {
+        Ok(a) => a,
+        Err(_) => return Rejected,
+    };
+    if p.check().is_err() || short {
+        return Wrong(format!("accepted invalid settings or buffers: {p:?}"));
+    }
+    let w = p.width;
+    for y in 0..p.height {
+        let rr = y * w..(y + 1) * w;
+        let row = EdgeRow {
+            edges: &edges[rr.clone()],
+            gx: Some(&gx[rr.clone()]),
+            gy: Some(&gy[rr.clone()]),
+            weights: Some(&wts[rr]),
+        };
+        if let Err(e) = acc.vote_row(y, &row) {
+            return Wrong(format!("row {y} refused: {e}"));
+        }
+    }
+    let streamed = acc.cells().to_vec();
+    let want = model_cells(&p, &edges, &gx, &gy, &wts);
+    if streamed != want {
+        return first_diff("streamed cells vs the model", &streamed, &want);
+    }
+    acc.reset();
+    if n > 0 {
+        let (ev, xv, yv, wv) = (
+            ImageView::new(&edges, p.width, p.height, p.width),
+            ImageView::new(&gx, p.width, p.height, p.width),
+            ImageView::new(&gy, p.width, p.height, p.width),
+            ImageView::new(&wts, p.width, p.height, p.width),
+        );
+        let (Ok(ev), Ok(xv), Ok(yv), Ok(wv)) = (ev, xv, yv, wv) else {
+            return Wrong("views of a valid frame refused".into());
+        };
+        if let Err(e) = acc.vote_frame(&ev, Some((&xv, &yv)), Some(&wv)) {
+            return Wrong(format!("whole frame refused: {e}"));
+        }
+        if acc.cells() != &streamed[..] {
+            return first_diff("whole-frame cells vs streamed", acc.cells(), &streamed);
+        }
+    }
+    let pp = PeakParams {
+        threshold: r.random_range(0u16..300),
+        radius_theta: r.random_range(0usize..4),
+        radius_rho: r.random_range(0usize..4),
+    };
+    let k = r.random_range(0usize..7);
+    let mut out = vec![Peak::default(); k];
+    match acc.peaks(&pp, &mut out) {
+        Err(_) => Rejected,
+        Ok(_) if k == 0 || pp.threshold == 0 => Wrong(format!(
+            "peaks accepted k = {k}, threshold {}",
+            pp.threshold
+        )),
+        Ok(got) => {
+            let want = peak_winners(
+                &p,
+                &streamed,
+                pp.threshold,
+                pp.radius_theta,
+                pp.radius_rho,
+                k,
+            );
+            let got: Vec<(u16, usize)> = out[..got.min(k)]
+                .iter()
+                .map(|pk| {
+                    (
+                        pk.votes,
+                        pk.theta_bin as usize * p.rho_bins + pk.rho_bin as usize,
+                    )
+                })
+                .collect();
+            if got == want {
+                Fine
+            } else {
+                Wrong(format!("peaks {got:?}, the model keeps {want:?}"))
+            }
+        }
+    }
+}
+
+// ---------------------------------------------------------------- marking
+
+fn marking_case(r: &mut ChaCha8Rng) -> Outcome {
+    use fixsight::marking::{self, Candidate, MarkingConfig, MarkingLimits, Polarity};
+    let demo = *MarkingConfig::DEMO.limits();
+    let cfg = if r.random_range(0..3) == 0 {
+        let mut v = |base: i32| -> i32 {
+            match r.random_range(0..4) {
+                0 => r.random(),
+                _ => base + r.random_range(-400..400),
+            }
+        };
+        let limits = MarkingLimits {
+            near_row_q4: v(demo.near_row_q4),
+            far_row_q4: v(demo.far_row_q4),
+            horizon_row_q4: v(demo.horizon_row_q4),
+            max_tilt: 0,
+            near_x_min_q4: v(demo.near_x_min_q4),
+            near_x_max_q4: v(demo.near_x_max_q4),
+            near_sep_min_q4: v(demo.near_sep_min_q4),
+            near_sep_nominal_q4: v(demo.near_sep_nominal_q4),
+            near_sep_max_q4: v(demo.near_sep_max_q4),
+            converge_tol_q4: v(demo.converge_tol_q4),
+            contrast: demo.contrast,
+        };
+        let limits = MarkingLimits {
+            max_tilt: r.random(),
+            ..limits
+        };
+        match MarkingConfig::new(limits) {
+            Ok(c) => c,
+            Err(_) => return Rejected,
+        }
+    } else {
+        MarkingConfig::DEMO
+    };
+    let n = r.random_range(0usize..24);
+    let pol = [Polarity::Unknown, Polarity::Rising, Polarity::Falling];
+    let mut lines: Vec<Candidate> = (0..n)
+        .map(|_| Candidate {
+            rho_q4: match r.random_range(0..6) {
+                0 => r.random(),
+                _ => r.random_range(-3000..3000),
+            },
+            theta: match r.random_range(0..3) {
+                0 => r.random(),
+                _ => r.random_range(0..65536u32).min(65535) as u16,
+            },
+            votes: r.random(),
+            polarity: pol[r.random_range(0..3)],
+        })
+        .collect();
+    if n > 1 && r.random() {
+        // A duplicate line.
+        let i = r.random_range(0..n);
+        lines.push(lines[i]);
+    }
+    let m = marking::select(&lines, &cfg);
+    if marking::select(&lines, &cfg) != m {
+        return Wrong("the same lines gave two answers".into());
+    }
+    let Some(t) = m.found() else { return Fine };
+    let l = cfg.limits();
+    let sep = t.near_x_q4[1] as i64 - t.near_x_q4[0] as i64;
+    let inside = |x: i32| (l.near_x_min_q4..=l.near_x_max_q4).contains(&x);
+    if t.left >= lines.len() || t.right >= lines.len() || t.left == t.right {
+        Wrong(format!(
+            "pair ({}, {}) of {} lines",
+            t.left,
+            t.right,
+            lines.len()
+        ))
+    } else if !inside(t.near_x_q4[0]) || !inside(t.near_x_q4[1]) {
+        Wrong(format!("near columns {:?} outside the limits", t.near_x_q4))
+    } else if !(l.near_sep_min_q4 as i64..=l.near_sep_max_q4 as i64).contains(&sep) {
+        Wrong(format!("near separation {sep} outside the limits"))
+    } else {
+        Fine
+    }
+}
+
+// ------------------------------------------------------------------ track
+
+fn track_case(r: &mut ChaCha8Rng) -> Outcome {
+    use fixsight::track::{Detection, TrackConfig, Tracker};
+    let mut cfg = TrackConfig::DEMO;
+    if r.random_range(0..3) == 0 {
+        match r.random_range(0..8) {
+            0 => cfg.rho.meas_var = r.random(),
+            1 => cfg.theta.accel_index_q16 = r.random(),
+            2 => cfg.gate_q8 = r.random(),
+            3 => cfg.confirm_hits = r.random(),
+            4 => cfg.max_missed = r.random(),
+            5 => cfg.reference_q4 = (r.random(), r.random()),
+            6 => cfg.warn_horizon = r.random(),
+            _ => cfg.warn_raise_frames = r.random(),
+        }
+    }
+    let mut t = match Tracker::<4, 2>::new(cfg) {
+        Ok(t) => t,
+        Err(_) => return Rejected,
+    };
+    let fresh = t.clone();
+    let mut steps = Vec::new();
+    let mut frame: u32 = r.random_range(0..1000);
+    let mut base = (r.random_range(-2000..2000), r.random::<u16>());
+    for _ in 0..r.random_range(1usize..40) {
+        let back = r.random_range(0..12) == 0;
+        let next = if back {
+            frame.saturating_sub(r.random_range(0..3))
+        } else {
+            frame.saturating_add(r.random_range(1..3))
+        };
+        base.0 += r.random_range(-20..20);
+        base.1 = base.1.wrapping_add(r.random_range(0..200));
+        let count = if r.random_range(0..10) == 0 {
+            3
+        } else {
+            r.random_range(0usize..3)
+        };
+        let dets: Vec<Detection> = (0..count)
+            .map(|_| Detection {
+                rho_q4: match r.random_range(0..16) {
+                    0 => r.random(),
+                    _ => base.0 + r.random_range(-300..300),
+                },
+                theta: base.1.wrapping_add(r.random_range(0..2000)),
+                weight: r.random(),
+            })
+            .collect();
+        steps.push((next, dets.clone()));
+        let before = t.clone();
+        let stepped_back = t.last_frame().is_some_and(|l| next <= l);
+        let too_many = dets.len() > 2;
+        let too_far = dets.iter().any(|d| d.rho_q4.unsigned_abs() >= 1 << 17);
+        match t.update(next, &dets) {
+            Err(e) => {
+                if format!("{t:?}") != format!("{before:?}") {
+                    return Wrong(format!("a refused frame ({e}) changed the tracker"));
+                }
+                if !(stepped_back || too_many || too_far) {
+                    return Wrong(format!("frame {next} refused: {e}"));
+                }
+            }
+            Ok(_) if stepped_back || too_many || too_far => {
+                return Wrong(format!(
+                    "frame {next} after {:?} with {} detections accepted",
+                    before.last_frame(),
+                    dets.len()
+                ));
+            }
+            Ok(rep) => {
+                frame = next;
+                let live = t.tracks().count();
+                if rep.associated as usize > dets.len() || live > 4 {
+                    return Wrong(format!(
+                        "{rep:?} with {} detections, {live} tracks",
+                        dets.len()
+                    ));
+                }
+                if let Some(w) = rep.warning {
+                    let ok = t
+                        .slot(w.slot as usize)
+                        .is_some_and(|tr| tr.id == w.track_id && tr.confirmed);
+                    if !ok {
+                        return Wrong(format!("warning {w:?} names no confirmed track"));
+                    }
+                }
+            }
+        }
+    }
+    // A reset tracker behaves as a new one: the same frames give the same
+    // reports and tracks (its scratch need not be cleared).
+    t.reset();
+    let mut fresh = fresh;
+    for (frame, dets) in &steps {
+        let (a, b) = (t.update(*frame, dets), fresh.update(*frame, dets));
+        let same_tracks = (0..4).all(|i| t.slot(i) == fresh.slot(i));
+        if format!("{a:?}") != format!("{b:?}") || !same_tracks {
+            return Wrong(format!(
+                "frame {frame}: a reset tracker gave {a:?}, a new one {b:?}"
+            ));
+        }
+    }
+    Fine
+}
+
+// --------------------------------------------------------------- pipeline
+
+fn pipeline_case(r: &mut ChaCha8Rng) -> Outcome {
+    use crate::pipeline::{compare, config_of, run_stream, stage_params};
+    use fixsight::pipeline::DEMO;
+    let (w, h) = (r.random_range(1usize..48), r.random_range(1usize..36));
+    let frames = r.random_range(1usize..4);
+    let last_rows = if r.random_range(0..4) == 0 {
+        r.random_range(1..=h)
+    } else {
+        h
+    };
+    let mut p = stage_params(&DEMO, frames, h, last_rows);
+    const SMOOTH: [&str; 6] = [
+        "none",
+        "binomial3",
+        "binomial5",
+        "binomial7",
+        "gauss7",
+        "box",
+    ];
+    const MAG: [&str; 3] = ["l1", "l2_approx", "l2_round"];
+    const THIN: [&str; 3] = ["off", "until_stable", "at_most"];
+    p.smoothing = SMOOTH[r.random_range(0..SMOOTH.len())].into();
+    p.operator = ["sobel", "scharr"][r.random_range(0..2)].into();
+    p.frac_bits = r.random_range(0..8);
+    p.magnitude = MAG[r.random_range(0..3)].into();
+    p.thresholds = ["fixed", "auto"][r.random_range(0..2)].into();
+    p.low = r.random_range(0..300);
+    p.high = r.random_range(0..600);
+    p.shift = r.random_range(0..6);
+    p.high_permille = r.random_range(0..1100);
+    p.low_ratio_u0f16 = r.random();
+    p.thinning = THIN[r.random_range(0..3)].into();
+    p.thinning_cap = r.random_range(0..5);
+    let cfg = match config_of(&p) {
+        Ok(c) => c,
+        Err(_) => return Rejected,
+    };
+    let stack: Vec<u8> = match r.random_range(0..3) {
+        0 => bytes(r, w * h * frames),
+        // Blocks of two levels: long edges.
+        _ => {
+            let (a, b) = (r.random::<u8>(), r.random::<u8>());
+            let (cx, cy) = (r.random_range(0..w), r.random_range(0..h));
+            (0..w * h * frames)
+                .map(|i| {
+                    let (x, y) = (i % w, (i / w) % h);
+                    let v = if x >= cx && y >= cy { a } else { b };
+                    v.saturating_add(r.random_range(0..4))
+                })
+                .collect()
+        }
+    };
+    let out = match run_stream(&cfg, &stack, w, h, frames, last_rows) {
+        Ok(o) => o,
+        Err(_) => return Rejected,
+    };
+    if last_rows < h {
+        return Fine;
+    }
+    let last = &stack[(frames - 1) * w * h..];
+    match compare(&cfg, last, w, h, &out).first() {
+        None => Fine,
+        Some(p) => Wrong(format!("{w}x{h}, {cfg:?}: {p}")),
+    }
 }
 
 // -------------------------------------------------------- golden manifest

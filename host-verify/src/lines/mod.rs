@@ -1679,5 +1679,7 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     v
 }
 
+pub mod model;
+
 #[cfg(test)]
 mod tests;
