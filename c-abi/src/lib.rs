@@ -57,6 +57,7 @@ mod lines;
 mod marking;
 mod nms;
 mod pipeline;
+mod point_job;
 mod status;
 mod thinning;
 mod track;

@@ -172,7 +172,7 @@ fn narrow<T: TryFrom<usize>>(v: i32) -> Checked<T> {
 
 /// The kernel configuration of a C one (ranges of the kernel's types here,
 /// the rest by `EdgeConfig::check` in `configure`).
-fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
+pub(crate) fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
     let smoothing = match c.smoothing {
         FXS_SMOOTHING_NONE => Smoothing::None,
         FXS_SMOOTHING_BINOMIAL3 => Smoothing::Binomial3,
@@ -260,7 +260,12 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
 /// `config` one writable `fxs_edge_config`.
 #[no_mangle]
 pub unsafe extern "C" fn fxs_edge_stream_demo_config(config: *mut FxsEdgeConfig) -> FxsStatus {
-    let d = pipeline::DEMO;
+    // SAFETY: forwarded to the caller; the pointer is checked first.
+    finish(unsafe { buf(config, 1, true).map(|b| b.slice_mut()[0] = config_of(&pipeline::DEMO)) })
+}
+
+/// The C form of a kernel configuration.
+pub(crate) fn config_of(d: &EdgeConfig) -> FxsEdgeConfig {
     let smoothing = match d.smoothing {
         Smoothing::None => FXS_SMOOTHING_NONE,
         Smoothing::Binomial3 => FXS_SMOOTHING_BINOMIAL3,
@@ -299,25 +304,20 @@ pub unsafe extern "C" fn fxs_edge_stream_demo_config(config: *mut FxsEdgeConfig)
         Thinning::UntilStable => (FXS_THINNING_UNTIL_STABLE, 0),
         Thinning::AtMost(n) => (FXS_THINNING_AT_MOST, n),
     };
-    // SAFETY: forwarded to the caller; the pointer is checked first.
-    finish(unsafe {
-        buf(config, 1, true).map(|b| {
-            b.slice_mut()[0] = FxsEdgeConfig {
-                smoothing,
-                gradient_operator: operator,
-                frac_bits: d.frac_bits as i32,
-                magnitude,
-                threshold_rule: rule,
-                low: low as i32,
-                high: high as i32,
-                shift: shift as i32,
-                high_permille: permille as i32,
-                low_ratio_u0f16: ratio as i32,
-                thinning,
-                thinning_cap: cap as i32,
-            }
-        })
-    })
+    FxsEdgeConfig {
+        smoothing,
+        gradient_operator: operator,
+        frac_bits: d.frac_bits as i32,
+        magnitude,
+        threshold_rule: rule,
+        low: low as i32,
+        high: high as i32,
+        shift: shift as i32,
+        high_permille: permille as i32,
+        low_ratio_u0f16: ratio as i32,
+        thinning,
+        thinning_cap: cap as i32,
+    }
 }
 
 /// `fxs_edge_stream_reset`: drops the frame in progress (the thresholds
@@ -363,7 +363,7 @@ pub unsafe extern "C" fn fxs_edge_stream_push_row(
 }
 
 /// A kernel report as a C one.
-fn report_of(r: &FrameReport) -> FxsEdgeReport {
+pub(crate) fn report_of(r: &FrameReport) -> FxsEdgeReport {
     FxsEdgeReport {
         width: r.width as u32,
         height: r.height as u32,
