@@ -12,7 +12,7 @@
 //! kernel (YUYV, UYVY, RGB565, raw) are not wrapped yet.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, size, storage, store, Checked, Span,
+    buf, disjoint, load, load_mut, optional, size, storage, store_configured, Checked, Span,
 };
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
 use fixsight::pipeline::{
@@ -240,15 +240,11 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
             disjoint(&[own, c.span()])?;
             let cfg = self::config(&c.slice()[0])?;
             let (w, h) = (size(width)?, size(height)?);
-            // Checked on a fresh stream before the storage is written, so
-            // that a failed init leaves an initialised stream untouched.
-            store(stream, StreamObj::new());
-            let s = load_mut::<StreamObj>(stream)?;
-            if let Err(e) = kernel(s.configure(&cfg, w, h)) {
-                core::ptr::write_bytes(stream.cast::<u8>(), 0, 4);
-                return Err(e);
-            }
-            Ok(())
+            // A fresh stream, configured in place: a failed init leaves
+            // the storage not initialised.
+            store_configured(stream, StreamObj::new(), |s| {
+                kernel(s.configure(&cfg, w, h))
+            })
         })()
     })
 }
@@ -347,18 +343,14 @@ pub unsafe extern "C" fn fxs_edge_stream_push_row(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
-        (|| {
-            let own = Span::object(stream, true);
-            let r = buf(row, row_len, false)?;
-            let n = optional(rows_pushed)?;
-            disjoint(&[own, r.span(), n.map_or(Span::EMPTY, |b| b.span())])?;
-            let s = load_mut::<StreamObj>(stream)?;
-            let got = kernel(s.push_row(r.slice()))?;
-            if let Some(n) = n {
-                n.slice_mut()[0] = got as i32;
-            }
-            Ok(())
-        })()
+        crate::boundary::push_row(
+            stream,
+            row,
+            row_len,
+            rows_pushed,
+            |_: &StreamObj| Span::EMPTY,
+            |s, r| kernel(s.push_row(r)),
+        )
     })
 }
 

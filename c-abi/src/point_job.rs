@@ -16,7 +16,8 @@
 //! only.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, size, storage, store, Checked, Span,
+    buf, disjoint, load, load_mut, optional, push_row, size, storage, store_configured, Checked,
+    Span,
 };
 use crate::lines::{outputs, params_c, params_of, peak_c, peak_params, peak_params_c};
 use crate::lines::{FxsLinePeak, FxsPeakParams, FxsVoteParams};
@@ -25,7 +26,7 @@ use crate::pipeline::{config_of, report_of, FxsEdgeConfig, FxsEdgeReport};
 use crate::status::{finish, kernel, FxsStatus};
 use crate::track::{config_c, put_slot_words, FxsFrameReport, FxsTrackConfig};
 use crate::warp::{FxsControlGrid, GridObj};
-use fixsight::marking::Polarity;
+use fixsight::marking::{Candidate, Polarity};
 use fixsight::pipeline::{map_words, JobReport, PointJob, PointJobConfig};
 use fixsight::track::track_words;
 
@@ -165,13 +166,7 @@ pub unsafe extern "C" fn fxs_point_job_init(
             let (w, h) = (size(width)?, size(height)?);
             // As `fxs_edge_stream_init`: a fresh job, configured in place;
             // a failed configuration leaves the storage not initialised.
-            store(job, JobObj::new());
-            let j = load_mut::<JobObj>(job)?;
-            if let Err(e) = kernel(j.configure(&cfg, w, h)) {
-                core::ptr::write_bytes(job.cast::<u8>(), 0, 4);
-                return Err(e);
-            }
-            Ok(())
+            store_configured(job, JobObj::new(), |j| kernel(j.configure(&cfg, w, h)))
         })()
     })
 }
@@ -192,18 +187,14 @@ pub unsafe extern "C" fn fxs_point_job_push_row(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
-        (|| {
-            let r = buf(row, row_len, false)?;
-            let n = optional(rows_pushed)?;
-            let n_span = n.map_or(Span::EMPTY, |b| b.span());
-            disjoint(&[Span::object(job, true), r.span(), n_span])?;
-            let j = load_mut::<JobObj>(job)?;
-            let got = kernel(j.push_row(r.slice()))?;
-            if let Some(n) = n {
-                n.slice_mut()[0] = got as i32;
-            }
-            Ok(())
-        })()
+        push_row(
+            job,
+            row,
+            row_len,
+            rows_pushed,
+            |_: &JobObj| Span::EMPTY,
+            |j, r| kernel(j.push_row(r)),
+        )
     })
 }
 
@@ -318,6 +309,35 @@ pub unsafe extern "C" fn fxs_point_job_reset(job: *mut FxsPointJob) -> FxsStatus
     finish(unsafe { load_mut::<JobObj>(job).map(|j| j.reset()) })
 }
 
+/// Writes the items `list` takes from the job into `out[out_len]`
+/// (1..=FXS_LINES_MAX_OUT, disjoint from the job) and how many into
+/// `*found`.
+///
+/// # Safety
+/// As `fxs_point_job_peaks`, with `out` of type `T`.
+unsafe fn put_list<'a, T, I: Iterator<Item = T>>(
+    job: *const FxsPointJob,
+    out: *mut T,
+    out_len: usize,
+    found: *mut i32,
+    list: impl FnOnce(&'a JobObj) -> I,
+) -> Checked<()> {
+    // SAFETY: initialised and not written during the call by the caller's
+    // guarantee.
+    let j = unsafe { load::<JobObj>(job)? };
+    let (o, f, _) = outputs(out, out_len, found)?;
+    disjoint(&[Span::object(job, false), o.span(), f.span()])?;
+    let mut n = 0;
+    // SAFETY: checked, writable, disjoint from the job and each other.
+    for (d, x) in unsafe { o.slice_mut() }.iter_mut().zip(list(j)) {
+        *d = x;
+        n += 1;
+    }
+    // SAFETY: as above.
+    unsafe { f.slice_mut()[0] = n };
+    Ok(())
+}
+
 /// `fxs_point_job_peaks`: the peaks of the last finished frame (vote-frame
 /// lines, strongest first), up to `out_len` (1..=FXS_LINES_MAX_OUT);
 /// `*found` how many were written.
@@ -332,21 +352,22 @@ pub unsafe extern "C" fn fxs_point_job_peaks(
     out_len: usize,
     found: *mut i32,
 ) -> FxsStatus {
-    // SAFETY: forwarded to the caller; pointers checked first.
-    finish(unsafe {
-        (|| {
-            let j = load::<JobObj>(job)?;
-            let (o, f, _) = outputs(out, out_len, found)?;
-            disjoint(&[Span::object(job, false), o.span(), f.span()])?;
-            let mut n = 0;
-            for (d, p) in o.slice_mut().iter_mut().zip(j.peaks()) {
-                *d = peak_c(p);
-                n += 1;
-            }
-            f.slice_mut()[0] = n;
-            Ok(())
-        })()
-    })
+    // SAFETY: forwarded to the caller.
+    finish(unsafe { put_list(job, out, out_len, found, |j| j.peaks().iter().map(peak_c)) })
+}
+
+/// The C form of a centred line.
+fn line_c(c: &Candidate) -> FxsMarkingLine {
+    FxsMarkingLine {
+        rho_q4: c.rho_q4,
+        theta: c.theta,
+        polarity: match c.polarity {
+            Polarity::Rising => 1,
+            Polarity::Falling => -1,
+            Polarity::Unknown => 0,
+        },
+        votes: c.votes,
+    }
 }
 
 /// `fxs_point_job_lines`: the peaks' lines about the image centre, as the
@@ -363,30 +384,8 @@ pub unsafe extern "C" fn fxs_point_job_lines(
     out_len: usize,
     found: *mut i32,
 ) -> FxsStatus {
-    // SAFETY: forwarded to the caller; pointers checked first.
-    finish(unsafe {
-        (|| {
-            let j = load::<JobObj>(job)?;
-            let (o, f, _) = outputs(out, out_len, found)?;
-            disjoint(&[Span::object(job, false), o.span(), f.span()])?;
-            let mut n = 0;
-            for (d, c) in o.slice_mut().iter_mut().zip(j.lines()) {
-                *d = FxsMarkingLine {
-                    rho_q4: c.rho_q4,
-                    theta: c.theta,
-                    polarity: match c.polarity {
-                        Polarity::Rising => 1,
-                        Polarity::Falling => -1,
-                        Polarity::Unknown => 0,
-                    },
-                    votes: c.votes,
-                };
-                n += 1;
-            }
-            f.slice_mut()[0] = n;
-            Ok(())
-        })()
-    })
+    // SAFETY: forwarded to the caller.
+    finish(unsafe { put_list(job, out, out_len, found, |j| j.lines().iter().map(line_c)) })
 }
 
 /// `fxs_point_job_track_words`: the state of track slot `slot`

@@ -6,8 +6,8 @@
 //! with a caller ring), over `fixsight::warp`.
 
 use crate::boundary::{
-    border, buf, disjoint, image, load, load_mut, optional, size, storage, store, Checked,
-    FxsU8View, FxsU8ViewMut, Span,
+    border, buf, disjoint, image, load, load_mut, size, storage, store, Checked, FxsU8View,
+    FxsU8ViewMut, Span,
 };
 use crate::status::{finish, kernel, FxsStatus, FXS_E_LAYOUT_OVERFLOW, FXS_E_UNSUPPORTED_CHANNELS};
 use fixsight::warp::{ControlGrid, GridStream, PixelMap, WarpGeometry};
@@ -432,19 +432,17 @@ pub unsafe extern "C" fn fxs_warp_grid_stream_push_row(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
-        (|| {
-            let r = buf(row, row_len, false)?;
-            let n = optional(rows_pushed)?;
-            let n_span = n.map_or(Span::EMPTY, |b| b.span());
-            disjoint(&[Span::object(stream, true), r.span(), n_span])?;
-            let o = load_mut::<GridStreamObj>(stream)?;
-            disjoint(&[o.borrowed[1], r.span(), n_span])?;
-            kernel(o.stream.push_row(r.slice()))?;
-            if let Some(n) = n {
-                n.slice_mut()[0] = o.stream.rows_pushed() as i32;
-            }
-            Ok(())
-        })()
+        crate::boundary::push_row(
+            stream,
+            row,
+            row_len,
+            rows_pushed,
+            |o: &GridStreamObj| o.borrowed[1],
+            |o, r| {
+                kernel(o.stream.push_row(r))?;
+                Ok(o.stream.rows_pushed())
+            },
+        )
     })
 }
 
