@@ -411,21 +411,26 @@ pub(crate) unsafe fn load_mut<'a, T: Stored>(p: *mut T::Storage) -> Checked<&'a 
     Ok(unsafe { &mut (*t).value })
 }
 
-/// Writes `fresh` into checked storage `p` and runs `configure` on it in
-/// place (large objects are never moved after that); when `configure`
-/// fails the storage is marked not initialised.
+/// Writes the object `fresh` makes into checked storage `p`, straight
+/// into place (tag first, then the value), and runs `configure` on it in
+/// place; when `configure` fails the storage is marked not initialised.
 ///
 /// # Safety
 /// `p` passed [`storage`], and the caller guarantees the storage is
 /// writable and not in use by anything else.
 pub(crate) unsafe fn store_configured<T: Stored>(
     p: *mut T::Storage,
-    fresh: T,
+    fresh: impl FnOnce() -> T,
     configure: impl FnOnce(&mut T) -> Checked<()>,
 ) -> Checked<()> {
-    // SAFETY: forwarded to the caller.
-    unsafe { store(p, fresh) };
-    // SAFETY: just written by `store`; exclusive by the caller's guarantee.
+    let t: *mut Tagged<T> = p.cast();
+    // SAFETY: aligned, large enough (`fits` is asserted per storage type),
+    // writable by the caller's guarantee; the old contents own nothing.
+    unsafe {
+        core::ptr::addr_of_mut!((*t).value).write(fresh());
+        core::ptr::addr_of_mut!((*t).tag).write(T::TAG);
+    }
+    // SAFETY: just written; exclusive by the caller's guarantee.
     let obj = unsafe { load_mut::<T>(p)? };
     if let Err(e) = configure(obj) {
         // SAFETY: the tag is the first 4 bytes of the checked storage.

@@ -242,9 +242,7 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
             let (w, h) = (size(width)?, size(height)?);
             // A fresh stream, configured in place: a failed init leaves
             // the storage not initialised.
-            store_configured(stream, StreamObj::new(), |s| {
-                kernel(s.configure(&cfg, w, h))
-            })
+            store_configured(stream, StreamObj::new, |s| kernel(s.configure(&cfg, w, h)))
         })()
     })
 }

@@ -166,7 +166,7 @@ pub unsafe extern "C" fn fxs_point_job_init(
             let (w, h) = (size(width)?, size(height)?);
             // As `fxs_edge_stream_init`: a fresh job, configured in place;
             // a failed configuration leaves the storage not initialised.
-            store_configured(job, JobObj::new(), |j| kernel(j.configure(&cfg, w, h)))
+            store_configured(job, JobObj::new, |j| kernel(j.configure(&cfg, w, h)))
         })()
     })
 }
