@@ -1075,7 +1075,9 @@ fxs_status fxs_point_job_demo_config(fxs_point_job_config *config);
 /* A job for raw width x height frames (width 4..FXS_POINT_JOB_MAX_WIDTH,
  * ceil(width / 16) * height <= FXS_POINT_JOB_MAP_WORDS, the capacities
  * above), frame numbers from 0, no tracks. On an error *job is left not
- * initialised.
+ * initialised. Stack: about 23 KiB on a Cortex-M4 (the kernel builds the
+ * fresh job's edge stage on the stack before it is written into *job);
+ * call it once at start-up, where the stack is largest.
  * Errors: as fxs_edge_stream_init, fxs_lines_accumulator_init (vote),
  * fxs_marking_select (marking), fxs_tracker_init (track);
  * FXS_E_BAD_PARAMETER (weight_shift, gate with theta_step_log2 < 9, peak
