@@ -29,7 +29,7 @@ done
 if [ $# -gt 0 ]; then triples=("$@"); else
   triples=("$host" thumbv6m-none-eabi thumbv7m-none-eabi thumbv7em-none-eabihf riscv32imc-unknown-none-elf)
 fi
-families=(filter gradient nms hysteresis thinning warp lines marking tracker edge_stream)
+families=(filter gradient nms hysteresis thinning warp lines marking tracker edge_stream point_job)
 functions=$(grep -o 'fxs_[a-z0-9_]*(' c-abi/include/fixsight.h | tr -d '(' | sort -u)
 work=target/c-abi-sizes
 mkdir -p "$work"

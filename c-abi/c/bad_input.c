@@ -67,7 +67,8 @@ static void statuses(void) {
             sizeof(fxs_nms_stream) == FXS_NMS_STREAM_SIZE && sizeof(fxs_pixel_map) == FXS_PIXEL_MAP_SIZE &&
             sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
             sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE &&
-            sizeof(fxs_tracker) == FXS_TRACKER_SIZE && sizeof(fxs_edge_stream) == FXS_EDGE_STREAM_SIZE)
+            sizeof(fxs_tracker) == FXS_TRACKER_SIZE && sizeof(fxs_edge_stream) == FXS_EDGE_STREAM_SIZE &&
+            sizeof(fxs_grid_stream) == FXS_GRID_STREAM_SIZE && sizeof(fxs_point_job) == FXS_POINT_JOB_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -76,7 +77,8 @@ static void statuses(void) {
             ALIGN_OF(fxs_nms_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_pixel_map) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_edge_stream) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_edge_stream) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_grid_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_point_job) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -723,6 +725,260 @@ static void edge_stream_cases(void) {
     expect("edge_stream.fixed_ok", fxs_edge_stream_init(&es, &c, 16, 2), FXS_OK);
 }
 
+/* An 8 x 8 identity grid, step 4, F = 2 (3 x 3 points), for the grid
+ * stream and the point job. */
+static const int32_t identity8[18] = {0, 0, 16, 0, 32, 0, 0, 16, 16, 16, 32, 16, 0, 32, 16, 32, 32, 32};
+
+static void grid_stream_cases(void) {
+    fxs_warp_geometry g = {8, 8, 8, 8, 2};
+    fxs_control_grid grid, grid_zero;
+    fxs_grid_stream st, st_zero;
+    uintptr_t len = 0;
+    int32_t n = 0, first = 0, rows = 0, fin = -1, done = 0, same = 1;
+    uint8_t ring[64], src[64], out[64];
+    fxs_u8_view_mut one = {out, 8, 8, 1, 8};
+    memset(&grid_zero, 0, sizeof grid_zero);
+    memset(&st_zero, 0, sizeof st_zero);
+    for (int32_t i = 0; i < 64; i++) src[i] = (uint8_t)(3 * i + 1);
+    expect("grid_stream.grid", fxs_warp_control_grid_init(&grid, identity8, 18, &g, 2), FXS_OK);
+    expect("grid_stream.ring_len",
+           fxs_warp_grid_stream_ring_len(&grid, 1, 1, &len) == FXS_OK && len == 16 ? FXS_OK : -1, FXS_OK);
+    expect("grid_stream.ring_len_strip4",
+           fxs_warp_grid_stream_ring_len(&grid, 2, 4, &len) == FXS_OK && len == 80 ? FXS_OK : -1, FXS_OK);
+    expect("grid_stream.ring_len_channels_5", fxs_warp_grid_stream_ring_len(&grid, 5, 1, &len),
+           FXS_E_UNSUPPORTED_CHANNELS);
+    expect("grid_stream.ring_len_negative_channels", fxs_warp_grid_stream_ring_len(&grid, -1, 1, &len), FXS_E_NEGATIVE);
+    expect("grid_stream.ring_len_strip_0", fxs_warp_grid_stream_ring_len(&grid, 1, 0, &len), FXS_E_BAD_PARAMETER);
+    expect("grid_stream.ring_len_null", fxs_warp_grid_stream_ring_len(&grid, 1, 1, 0), FXS_E_NULL_POINTER);
+    expect("grid_stream.ring_len_grid_not_initialised", fxs_warp_grid_stream_ring_len(&grid_zero, 1, 1, &len),
+           FXS_E_NOT_INITIALISED);
+    expect("grid_stream.init_null_stream", fxs_warp_grid_stream_init(0, &grid, ring, 16, 1, 1, 0), FXS_E_NULL_POINTER);
+    expect("grid_stream.init_misaligned",
+           fxs_warp_grid_stream_init((fxs_grid_stream *)(void *)(a8 + 4), &grid, ring, 16, 1, 1, 0), FXS_E_MISALIGNED);
+    expect("grid_stream.init_null_grid", fxs_warp_grid_stream_init(&st, 0, ring, 16, 1, 1, 0), FXS_E_NULL_POINTER);
+    expect("grid_stream.init_grid_not_initialised", fxs_warp_grid_stream_init(&st, &grid_zero, ring, 16, 1, 1, 0),
+           FXS_E_NOT_INITIALISED);
+    expect("grid_stream.init_null_ring", fxs_warp_grid_stream_init(&st, &grid, 0, 16, 1, 1, 0), FXS_E_NULL_POINTER);
+    expect("grid_stream.ring_too_short", fxs_warp_grid_stream_init(&st, &grid, ring, 15, 1, 1, 0),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("grid_stream.ring_too_short_for_strips", fxs_warp_grid_stream_init(&st, &grid, ring, 32, 1, 4, 0),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("grid_stream.channels_0", fxs_warp_grid_stream_init(&st, &grid, ring, 16, 0, 1, 0),
+           FXS_E_UNSUPPORTED_CHANNELS);
+    expect("grid_stream.channels_5", fxs_warp_grid_stream_init(&st, &grid, ring, 64, 5, 1, 0),
+           FXS_E_UNSUPPORTED_CHANNELS);
+    expect("grid_stream.strip_0", fxs_warp_grid_stream_init(&st, &grid, ring, 16, 1, 0, 0), FXS_E_BAD_PARAMETER);
+    expect("grid_stream.negative_strip", fxs_warp_grid_stream_init(&st, &grid, ring, 16, 1, -1, 0), FXS_E_NEGATIVE);
+    expect("grid_stream.border_300", fxs_warp_grid_stream_init(&st, &grid, ring, 16, 1, 1, 300), FXS_E_BAD_PARAMETER);
+    expect("grid_stream.ring_over_points",
+           fxs_warp_grid_stream_init(&st, &grid, (uint8_t *)(uintptr_t)identity8, 16, 1, 1, 0), FXS_E_OVERLAP);
+    expect("grid_stream.ring_over_stream", fxs_warp_grid_stream_init(&st, &grid, st.bytes, 16, 1, 1, 0),
+           FXS_E_OVERLAP);
+    expect("grid_stream.ring_over_grid", fxs_warp_grid_stream_init(&st, &grid, grid.bytes, 16, 1, 1, 0),
+           FXS_E_OVERLAP);
+    expect("grid_stream.init", fxs_warp_grid_stream_init(&st, &grid, ring, 16, 1, 1, FXS_BORDER_CLAMP), FXS_OK);
+    expect("grid_stream.failed_init_keeps_stream",
+           fxs_warp_grid_stream_init(&st, &grid, ring, 15, 1, 1, 0) == FXS_E_BUFFER_TOO_SHORT &&
+                   fxs_warp_grid_stream_finished(&st, &fin) == FXS_OK && fin == 0
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("grid_stream.strip_before_rows",
+           fxs_warp_grid_stream_next_strip(&st, &one, &first, &rows) == FXS_OK && rows == 0 && first == -1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("grid_stream.row_too_short", fxs_warp_grid_stream_push_row(&st, src, 7, &n), FXS_E_ROW_LENGTH);
+    expect("grid_stream.row_too_long", fxs_warp_grid_stream_push_row(&st, src, 9, &n), FXS_E_ROW_LENGTH);
+    expect("grid_stream.row_null", fxs_warp_grid_stream_push_row(&st, 0, 8, &n), FXS_E_NULL_POINTER);
+    expect("grid_stream.row_over_ring", fxs_warp_grid_stream_push_row(&st, ring + 4, 8, &n), FXS_E_OVERLAP);
+    expect("grid_stream.row_over_stream", fxs_warp_grid_stream_push_row(&st, st.bytes, 8, &n), FXS_E_OVERLAP);
+    expect("grid_stream.count_over_row", fxs_warp_grid_stream_push_row(&st, src, 8, (int32_t *)(void *)src),
+           FXS_E_OVERLAP);
+    expect("grid_stream.row_0", fxs_warp_grid_stream_push_row(&st, src, 8, &n) == FXS_OK && n == 1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("grid_stream.row_1_no_count", fxs_warp_grid_stream_push_row(&st, src + 8, 8, 0), FXS_OK);
+    expect("grid_stream.row_while_strip_ready", fxs_warp_grid_stream_push_row(&st, src + 16, 8, &n),
+           FXS_E_STREAM_ORDER);
+    {
+        fxs_u8_view_mut narrow = {out, 8, 7, 1, 8}, tall = {out, 8, 8, 2, 8}, huge = {out, 8, 8, 2, 1 << 30};
+        fxs_u8_view_mut neg = {out, 8, 8, -1, 8}, over_ring = {ring, 8, 8, 1, 8}, over_stream = {st.bytes, 8, 8, 1, 8};
+        fxs_u8_view_mut over_points = {(uint8_t *)(uintptr_t)identity8, 8, 8, 1, 8};
+        expect("grid_stream.strip_wrong_width", fxs_warp_grid_stream_next_strip(&st, &narrow, &first, &rows),
+               FXS_E_SIZE_MISMATCH);
+        expect("grid_stream.strip_short_buffer", fxs_warp_grid_stream_next_strip(&st, &tall, &first, &rows),
+               FXS_E_BUFFER_TOO_SHORT);
+        expect("grid_stream.strip_layout_overflow", fxs_warp_grid_stream_next_strip(&st, &huge, &first, &rows),
+               FXS_E_LAYOUT_OVERFLOW);
+        expect("grid_stream.strip_negative_height", fxs_warp_grid_stream_next_strip(&st, &neg, &first, &rows),
+               FXS_E_NEGATIVE);
+        expect("grid_stream.strip_null", fxs_warp_grid_stream_next_strip(&st, 0, &first, &rows), FXS_E_NULL_POINTER);
+        expect("grid_stream.strip_null_first_row", fxs_warp_grid_stream_next_strip(&st, &one, 0, &rows),
+               FXS_E_NULL_POINTER);
+        expect("grid_stream.strip_null_rows", fxs_warp_grid_stream_next_strip(&st, &one, &first, 0), FXS_E_NULL_POINTER);
+        expect("grid_stream.strip_over_ring", fxs_warp_grid_stream_next_strip(&st, &over_ring, &first, &rows),
+               FXS_E_OVERLAP);
+        expect("grid_stream.strip_over_stream", fxs_warp_grid_stream_next_strip(&st, &over_stream, &first, &rows),
+               FXS_E_OVERLAP);
+        expect("grid_stream.strip_over_points", fxs_warp_grid_stream_next_strip(&st, &over_points, &first, &rows),
+               FXS_E_OVERLAP);
+        expect("grid_stream.rows_over_first_row",
+               fxs_warp_grid_stream_next_strip(&st, &one, &first, &first), FXS_E_OVERLAP);
+    }
+    /* The rest of the frame: an identity grid gives the source back. */
+    for (int32_t y = 2; y <= 8 && same; y++) {
+        for (;;) {
+            fxs_u8_view_mut d = {out + 8 * done, 8, 8, 1, 8};
+            if (done == 8 || fxs_warp_grid_stream_next_strip(&st, &d, &first, &rows) != FXS_OK) break;
+            if (rows == 0) break;
+            same = same && first == done && rows == 1;
+            done += rows;
+        }
+        if (y < 8) same = same && fxs_warp_grid_stream_push_row(&st, src + 8 * y, 8, &n) == FXS_OK && n == y + 1;
+    }
+    expect("grid_stream.identity_frame",
+           same && done == 8 && memcmp(out, src, 64) == 0 && fxs_warp_grid_stream_finished(&st, &fin) == FXS_OK &&
+                   fin == 1
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("grid_stream.strip_after_frame",
+           fxs_warp_grid_stream_next_strip(&st, &one, &first, &rows) == FXS_OK && rows == 0 ? FXS_OK : -1, FXS_OK);
+    expect("grid_stream.row_past_height", fxs_warp_grid_stream_push_row(&st, src, 8, &n), FXS_E_STREAM_ORDER);
+    expect("grid_stream.finished_null", fxs_warp_grid_stream_finished(&st, 0), FXS_E_NULL_POINTER);
+    expect("grid_stream.reset", fxs_warp_grid_stream_reset(&st), FXS_OK);
+    expect("grid_stream.row_after_reset", fxs_warp_grid_stream_push_row(&st, src, 8, &n) == FXS_OK && n == 1 ? FXS_OK : -1,
+           FXS_OK);
+    expect("grid_stream.not_initialised", fxs_warp_grid_stream_push_row(&st_zero, src, 8, &n), FXS_E_NOT_INITIALISED);
+    expect("grid_stream.reset_not_initialised", fxs_warp_grid_stream_reset(&st_zero), FXS_E_NOT_INITIALISED);
+    expect("grid_stream.strip_not_initialised", fxs_warp_grid_stream_next_strip(&st_zero, &one, &first, &rows),
+           FXS_E_NOT_INITIALISED);
+    expect("grid_stream.finished_not_initialised", fxs_warp_grid_stream_finished(&st_zero, &fin),
+           FXS_E_NOT_INITIALISED);
+}
+
+static fxs_point_job pj, pj_zero;
+
+/* fxs_point_job_init of pj for a 16 x 12 frame with one field of `demo` changed. */
+#define JOB_INIT(name, field, value, want)                                                                            \
+    do {                                                                                                          \
+        c = demo;                                                                                                 \
+        c.field = (value);                                                                                        \
+        expect("point_job." name, fxs_point_job_init(&pj, &c, 16, 12), want);                                     \
+    } while (0)
+
+static void point_job_cases(void) {
+    fxs_point_job_config demo, c;
+    fxs_point_job_report r;
+    fxs_warp_geometry g = {8, 8, 8, 8, 2};
+    fxs_control_grid grid, grid_zero;
+    fxs_line_peak pk[FXS_POINT_JOB_PEAKS];
+    fxs_marking_line ln[FXS_POINT_JOB_PEAKS];
+    int32_t n = 0, found = -1, w[FXS_TRACK_WORDS];
+    uint8_t row[16];
+    memset(row, 40, sizeof row);
+    memset(&grid_zero, 0, sizeof grid_zero);
+    expect("point_job.demo_config",
+           fxs_point_job_demo_config(&demo) == FXS_OK && demo.vote.width == 320 && demo.vote.height == 240 &&
+                   demo.vote.weight_shift == -1
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("point_job.demo_config_null", fxs_point_job_demo_config(0), FXS_E_NULL_POINTER);
+    expect("point_job.demo_is_qvga", fxs_point_job_init(&pj, &demo, 320, 240), FXS_OK);
+    demo.vote.width = 16;
+    demo.vote.height = 12;
+    expect("point_job.init", fxs_point_job_init(&pj, &demo, 16, 12), FXS_OK);
+    expect("point_job.init_null_job", fxs_point_job_init(0, &demo, 16, 12), FXS_E_NULL_POINTER);
+    expect("point_job.init_misaligned", fxs_point_job_init((fxs_point_job *)(void *)(a8 + 4), &demo, 16, 12),
+           FXS_E_MISALIGNED);
+    expect("point_job.init_null_config", fxs_point_job_init(&pj, 0, 16, 12), FXS_E_NULL_POINTER);
+    expect("point_job.init_config_in_job", fxs_point_job_init(&pj, (const fxs_point_job_config *)(void *)pj.bytes, 16, 12),
+           FXS_E_OVERLAP);
+    expect("point_job.width_above_capacity", fxs_point_job_init(&pj, &demo, FXS_POINT_JOB_MAX_WIDTH + 1, 12),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("point_job.failed_init_leaves_uninitialised", fxs_point_job_reset(&pj), FXS_E_NOT_INITIALISED);
+    expect("point_job.map_above_capacity", fxs_point_job_init(&pj, &demo, 320, 241), FXS_E_BUFFER_TOO_SHORT);
+    expect("point_job.zero_height", fxs_point_job_init(&pj, &demo, 16, 0), FXS_E_ZERO_SIZE);
+    expect("point_job.negative_width", fxs_point_job_init(&pj, &demo, -16, 12), FXS_E_NEGATIVE);
+    JOB_INIT("weighted_votes", vote.weight_shift, 2, FXS_E_BAD_PARAMETER);
+    JOB_INIT("gate_with_coarse_step", vote.theta_step_log2, 8, FXS_E_BAD_PARAMETER);
+    JOB_INIT("theta_bins_above_capacity", vote.theta_bins, FXS_POINT_JOB_THETA_BINS + 1, FXS_E_BUFFER_TOO_SHORT);
+    JOB_INIT("vote_cells_above_capacity", vote.rho_bins, FXS_POINT_JOB_RHO_BINS + 2, FXS_E_BUFFER_TOO_SHORT);
+    JOB_INIT("rho_bins_even", vote.rho_bins, 200, FXS_E_BAD_PARAMETER);
+    JOB_INIT("negative_gate", vote.gate, -1, FXS_E_NEGATIVE);
+    JOB_INIT("vote_width_0", vote.width, 0, FXS_E_ZERO_SIZE);
+    JOB_INIT("peak_threshold_0", peaks.threshold, 0, FXS_E_BAD_PARAMETER);
+    JOB_INIT("peak_threshold_65536", peaks.threshold, 65536, FXS_E_BAD_PARAMETER);
+    JOB_INIT("negative_peak_radius", peaks.radius_rho, -1, FXS_E_NEGATIVE);
+    JOB_INIT("far_row_below_near_row", marking.far_row_q4, demo.marking.near_row_q4 + 16, FXS_E_BAD_PARAMETER);
+    JOB_INIT("contrast_3", marking.contrast, 3, FXS_E_BAD_PARAMETER);
+    JOB_INIT("confirm_hits_0", track.confirm_hits, 0, FXS_E_BAD_PARAMETER);
+    JOB_INIT("meas_var_0", track.rho.meas_var, 0, FXS_E_BAD_PARAMETER);
+    JOB_INIT("smoothing_5", edges.smoothing, 5, FXS_E_BAD_PARAMETER);
+    JOB_INIT("low_above_high", edges.low, demo.edges.high + 1, FXS_E_THRESHOLD_ORDER);
+    expect("point_job.init_again", fxs_point_job_init(&pj, &demo, 16, 12), FXS_OK);
+    expect("point_job.finish_before_rows", fxs_point_job_finish(&pj, 0, &r), FXS_E_ROW_COUNT);
+    expect("point_job.finish_short_without_rows", fxs_point_job_finish_short(&pj, 0, &r), FXS_E_STREAM_ORDER);
+    expect("point_job.row_too_short", fxs_point_job_push_row(&pj, row, 15, &n), FXS_E_ROW_LENGTH);
+    expect("point_job.row_null", fxs_point_job_push_row(&pj, 0, 16, &n), FXS_E_NULL_POINTER);
+    expect("point_job.row_in_job", fxs_point_job_push_row(&pj, pj.bytes + 64, 16, &n), FXS_E_OVERLAP);
+    expect("point_job.count_over_row", fxs_point_job_push_row(&pj, row, 16, (int32_t *)(void *)row), FXS_E_OVERLAP);
+    for (int32_t y = 0; y < 12; y++) fxs_point_job_push_row(&pj, row, 16, &n);
+    expect("point_job.rows_pushed", n == 12 ? FXS_OK : -1, FXS_OK);
+    expect("point_job.row_past_height", fxs_point_job_push_row(&pj, row, 16, &n), FXS_E_STREAM_ORDER);
+    expect("point_job.grid_init", fxs_warp_control_grid_init(&grid, identity8, 18, &g, 2), FXS_OK);
+    expect("point_job.grid_of_other_size", fxs_point_job_finish(&pj, &grid, &r), FXS_E_SIZE_MISMATCH);
+    expect("point_job.grid_not_initialised", fxs_point_job_finish(&pj, &grid_zero, &r), FXS_E_NOT_INITIALISED);
+    expect("point_job.report_over_job", fxs_point_job_finish(&pj, 0, (fxs_point_job_report *)(void *)pj.bytes),
+           FXS_E_OVERLAP);
+    expect("point_job.report_over_grid", fxs_point_job_finish(&pj, &grid, (fxs_point_job_report *)(void *)grid.bytes),
+           FXS_E_OVERLAP);
+    expect("point_job.finish_flat_frame",
+           fxs_point_job_finish(&pj, 0, &r) == FXS_OK && r.frame == 0 && r.peaks == 0 && r.voted == 0 &&
+                   r.edges.width == 16 && r.edges.height == 12 && r.marking.found == 0 && r.track.warning_track == -1
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("point_job.finish_twice", fxs_point_job_finish(&pj, 0, 0), FXS_E_STREAM_ORDER);
+    expect("point_job.peaks_none",
+           fxs_point_job_peaks(&pj, pk, FXS_POINT_JOB_PEAKS, &found) == FXS_OK && found == 0 ? FXS_OK : -1, FXS_OK);
+    expect("point_job.peaks_out_len_0", fxs_point_job_peaks(&pj, pk, 0, &found), FXS_E_BAD_PARAMETER);
+    expect("point_job.peaks_out_len_33", fxs_point_job_peaks(&pj, pk, FXS_LINES_MAX_OUT + 1, &found),
+           FXS_E_BAD_PARAMETER);
+    expect("point_job.peaks_null_found", fxs_point_job_peaks(&pj, pk, FXS_POINT_JOB_PEAKS, 0), FXS_E_NULL_POINTER);
+    expect("point_job.peaks_into_job",
+           fxs_point_job_peaks(&pj, (fxs_line_peak *)(void *)pj.bytes, FXS_POINT_JOB_PEAKS, &found), FXS_E_OVERLAP);
+    expect("point_job.lines_none",
+           fxs_point_job_lines(&pj, ln, FXS_POINT_JOB_PEAKS, &found) == FXS_OK && found == 0 ? FXS_OK : -1, FXS_OK);
+    expect("point_job.lines_null", fxs_point_job_lines(&pj, 0, FXS_POINT_JOB_PEAKS, &found), FXS_E_NULL_POINTER);
+    expect("point_job.found_over_lines", fxs_point_job_lines(&pj, ln, FXS_POINT_JOB_PEAKS, (int32_t *)(void *)ln),
+           FXS_E_OVERLAP);
+    expect("point_job.track_words_empty",
+           fxs_point_job_track_words(&pj, 0, w, FXS_TRACK_WORDS) == FXS_OK && w[0] == -1 ? FXS_OK : -1, FXS_OK);
+    expect("point_job.track_slot_4", fxs_point_job_track_words(&pj, FXS_POINT_JOB_TRACKS, w, FXS_TRACK_WORDS),
+           FXS_E_BAD_PARAMETER);
+    expect("point_job.track_negative_slot", fxs_point_job_track_words(&pj, -1, w, FXS_TRACK_WORDS), FXS_E_NEGATIVE);
+    expect("point_job.track_words_short", fxs_point_job_track_words(&pj, 0, w, FXS_TRACK_WORDS - 1),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("point_job.track_words_into_job",
+           fxs_point_job_track_words(&pj, 0, (int32_t *)(void *)pj.bytes, FXS_TRACK_WORDS), FXS_E_OVERLAP);
+    fxs_point_job_push_row(&pj, row, 16, &n);
+    expect("point_job.drop_frame", fxs_point_job_drop_frame(&pj), FXS_OK);
+    for (int32_t y = 0; y < 5; y++) fxs_point_job_push_row(&pj, row, 16, &n);
+    expect("point_job.short_frame_after_drop",
+           fxs_point_job_finish_short(&pj, 0, &r) == FXS_OK && r.frame == 2 && r.edges.height == 5 ? FXS_OK : -1,
+           FXS_OK);
+    expect("point_job.reset", fxs_point_job_reset(&pj), FXS_OK);
+    for (int32_t y = 0; y < 12; y++) fxs_point_job_push_row(&pj, row, 16, &n);
+    expect("point_job.frame_0_after_reset", fxs_point_job_finish(&pj, 0, &r) == FXS_OK && r.frame == 0 ? FXS_OK : -1,
+           FXS_OK);
+    expect("point_job.not_initialised", fxs_point_job_push_row(&pj_zero, row, 16, &n), FXS_E_NOT_INITIALISED);
+    expect("point_job.finish_not_initialised", fxs_point_job_finish(&pj_zero, 0, &r), FXS_E_NOT_INITIALISED);
+    expect("point_job.drop_not_initialised", fxs_point_job_drop_frame(&pj_zero), FXS_E_NOT_INITIALISED);
+    expect("point_job.peaks_not_initialised", fxs_point_job_peaks(&pj_zero, pk, 1, &found), FXS_E_NOT_INITIALISED);
+    expect("point_job.storage_of_an_edge_stream", fxs_point_job_reset((fxs_point_job *)(void *)&es),
+           FXS_E_NOT_INITIALISED);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -735,6 +991,8 @@ int golden_bad_inputs(int32_t *n) {
     marking_cases();
     tracker_cases();
     edge_stream_cases();
+    grid_stream_cases();
+    point_job_cases();
     *n = cases;
     return failed;
 }

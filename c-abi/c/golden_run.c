@@ -809,6 +809,106 @@ static fxs_status run_edge_stream(const golden_vector *v, const img *in, const i
     return FXS_OK;
 }
 
+/* ----------------------------------------------------------- point job -- */
+
+static fxs_point_job point_job; /* 51 KiB: a static, as a firmware would keep it */
+
+/* Words per frame of a pipeline.point_job record (host-verify/src/pipeline/job.rs). */
+#define JOB_WORDS                                                                                 \
+    (9 + 5 * FXS_POINT_JOB_PEAKS + (int32_t)(sizeof(fxs_marking_result) / 4) + 6 + FXS_POINT_JOB_TRACKS * FXS_TRACK_WORDS)
+
+/* pipeline.point_job: PointJobConfig::DEMO_QVGA with the vector's fields
+ * replaced (JobParams in host-verify/src/pipeline/job.rs), every frame of
+ * the input through the job, one record per frame. */
+static fxs_status run_point_job(const golden_vector *v, const img *in, const img *out) {
+    fxs_point_job_config c;
+    fxs_point_job_report r;
+    fxs_control_grid grid;
+    fxs_line_peak pk[FXS_POINT_JOB_PEAKS];
+    int32_t frames, height, grid_log2, radius, found, w = in[0].w, *o = (int32_t *)out[0].p;
+    const golden_param *m = param(v, "marking"), *ref = param(v, "reference");
+    TRY(fxs_point_job_demo_config(&c));
+    NEED(p_int(v, "frames", &frames) == 0 && p_int(v, "height", &height) == 0 && p_int(v, "grid_log2", &grid_log2) == 0,
+         "frames, height, grid_log2");
+    NEED(frames > 0 && in[0].elem == GOLDEN_U8 && in[0].h == frames * height, "frames do not fit the input");
+    NEED(out[0].elem == GOLDEN_I32 && out[0].n == (uint32_t)(JOB_WORDS * frames), "record: i32, words x frames");
+    c.vote.width = w;
+    c.vote.height = height;
+    NEED(p_int(v, "theta_start", &c.vote.theta_start) == 0 && p_int(v, "theta_step_log2", &c.vote.theta_step_log2) == 0 &&
+             p_int(v, "theta_bins", &c.vote.theta_bins) == 0 && p_int(v, "rho_step_log2", &c.vote.rho_step_log2) == 0 &&
+             p_int(v, "rho_bins", &c.vote.rho_bins) == 0 && p_int(v, "gate", &c.vote.gate) == 0,
+         "vote parameters");
+    NEED(p_int(v, "peak_threshold", &c.peaks.threshold) == 0 && p_int(v, "peak_radius", &radius) == 0, "peaks");
+    c.peaks.radius_theta = radius;
+    c.peaks.radius_rho = radius;
+    NEED(m && m->kind == GOLDEN_INTS && m->count == 10 && ref && ref->kind == GOLDEN_INTS && ref->count == 2,
+         "marking, reference");
+    c.marking.near_row_q4 = (int32_t)m->ints[0];
+    c.marking.far_row_q4 = (int32_t)m->ints[1];
+    c.marking.horizon_row_q4 = (int32_t)m->ints[2];
+    c.marking.max_tilt = (int32_t)m->ints[3];
+    c.marking.near_x_min_q4 = (int32_t)m->ints[4];
+    c.marking.near_x_max_q4 = (int32_t)m->ints[5];
+    c.marking.near_sep_min_q4 = (int32_t)m->ints[6];
+    c.marking.near_sep_nominal_q4 = (int32_t)m->ints[7];
+    c.marking.near_sep_max_q4 = (int32_t)m->ints[8];
+    c.marking.converge_tol_q4 = (int32_t)m->ints[9];
+    c.marking.contrast = FXS_CONTRAST_BRIGHTER;
+    c.track.reference_x_q4 = (int32_t)ref->ints[0];
+    c.track.reference_y_q4 = (int32_t)ref->ints[1];
+    NEED(p_u32(v, "rho_meas_var", &c.track.rho.meas_var) == 0, "rho_meas_var");
+    if (grid_log2 != 0) {
+        fxs_warp_geometry g = {w, height, w, height, 0};
+        NEED(p_int(v, "grid_frac_bits", &g.frac_bits) == 0, "grid_frac_bits");
+        NEED(in[1].elem == GOLDEN_I32 && in[1].ch == 2, "grid must be i32 pairs");
+        TRY(fxs_warp_control_grid_init(&grid, (const int32_t *)in[1].p, in[1].n, &g, grid_log2));
+    }
+    TRY(fxs_point_job_init(&point_job, &c, w, height));
+    for (int32_t f = 0; f < frames; f++, o += JOB_WORDS) {
+        int32_t *x = o;
+        for (int32_t y = 0; y < height; y++)
+            TRY(fxs_point_job_push_row(&point_job, (const uint8_t *)in[0].p + (f * height + y) * w, (uintptr_t)w, 0));
+        TRY(fxs_point_job_finish(&point_job, grid_log2 != 0 ? &grid : 0, &r));
+        TRY(fxs_point_job_peaks(&point_job, pk, FXS_POINT_JOB_PEAKS, &found));
+        NEED(found == (int32_t)r.peaks, "peaks and report differ");
+        *x++ = (int32_t)r.frame;
+        *x++ = (int32_t)r.edges.edge_points;
+        *x++ = (int32_t)r.edges.candidates;
+        *x++ = r.edges.low;
+        *x++ = r.edges.high;
+        *x++ = (int32_t)r.voted;
+        *x++ = (int32_t)r.outside;
+        *x++ = (int32_t)r.ungated;
+        *x++ = (int32_t)r.peaks;
+        for (int32_t i = 0; i < FXS_POINT_JOB_PEAKS; i++, x += 5) {
+            x[0] = i < found ? pk[i].theta_bin : 0;
+            x[1] = i < found ? pk[i].rho_bin : 0;
+            x[2] = i < found ? pk[i].votes : 0;
+            x[3] = i < found ? pk[i].line.rho : 0;
+            x[4] = i < found ? pk[i].line.theta : 0;
+        }
+        *x++ = r.marking.found;
+        *x++ = r.marking.left;
+        *x++ = r.marking.right;
+        *x++ = r.marking.near_left_q4;
+        *x++ = r.marking.near_right_q4;
+        *x++ = r.marking.far_left_q4;
+        *x++ = r.marking.far_right_q4;
+        *x++ = (int32_t)r.marking.votes_lo;
+        *x++ = (int32_t)r.marking.votes_hi;
+        *x++ = r.marking.candidates;
+        *x++ = (int32_t)r.track.associated;
+        *x++ = (int32_t)r.track.born;
+        *x++ = (int32_t)r.track.dropped;
+        *x++ = r.track.warning_track >= 0;
+        *x++ = r.track.warning_track >= 0 ? r.track.warning_track : 0;
+        *x++ = r.track.warning_track >= 0 ? r.track.warning_frames : 0;
+        for (int32_t s = 0; s < FXS_POINT_JOB_TRACKS; s++, x += FXS_TRACK_WORDS)
+            TRY(fxs_point_job_track_words(&point_job, s, x, FXS_TRACK_WORDS));
+    }
+    return FXS_OK;
+}
+
 /* ---------------------------------------------------------------- warp -- */
 
 static fxs_status pixel_map_strips(const golden_vector *v, const img *in, const img *out,
@@ -877,6 +977,40 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     return grid_strips(v, in, out, out[0].h, 1);
 }
 
+/* warp.grid_stream as host-verify/src/warp/run.rs feeds it: source rows
+ * pushed one at a time into a ring of exactly the smallest size, each strip
+ * taken as soon as it is ready, straight into its rows of the output. */
+static fxs_status run_grid_stream(const golden_vector *v, const img *in, const img *out) {
+    fxs_control_grid grid;
+    fxs_grid_stream st;
+    int32_t border, strip, c = in[0].ch, w = out[0].w, h = out[0].h, row = in[0].w * in[0].ch;
+    int32_t done = 0, first, rows, finished;
+    uintptr_t ring_len;
+    uint8_t *ring;
+    NEED(p_border(v, &border) == 0 && p_int(v, "strip_rows", &strip) == 0, "border, strip_rows");
+    NEED(in[1].elem == GOLDEN_U8, "blob must be bytes");
+    strip = strip < 1 ? 1 : strip > h ? h : strip;
+    TRY(fxs_warp_control_grid_from_blob(&grid, (const uint8_t *)in[1].p, in[1].n));
+    TRY(fxs_warp_grid_stream_ring_len(&grid, c, strip, &ring_len));
+    ring = alloc((uint32_t)ring_len);
+    NEED(ring, "arena full");
+    TRY(fxs_warp_grid_stream_init(&st, &grid, ring, ring_len, c, strip, border));
+    for (int32_t y = 0; y <= in[0].h; y++) {
+        while (done < h) {
+            int32_t left = h - done < strip ? h - done : strip;
+            fxs_u8_view_mut dst = {(uint8_t *)out[0].p + done * w * c, (uintptr_t)(left * w * c), w, left, w * c};
+            TRY(fxs_warp_grid_stream_next_strip(&st, &dst, &first, &rows));
+            if (rows == 0) break;
+            NEED(first == done, "strips out of order");
+            done += rows;
+        }
+        if (y < in[0].h) TRY(fxs_warp_grid_stream_push_row(&st, (const uint8_t *)in[0].p + y * row, (uintptr_t)row, 0));
+    }
+    TRY(fxs_warp_grid_stream_finished(&st, &finished));
+    NEED(done == h && finished == 1, "stream did not finish");
+    return FXS_OK;
+}
+
 /* ------------------------------------------------------------ dispatch -- */
 
 /* X(token, kernel id, dispatcher, second path or 0). */
@@ -903,6 +1037,7 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     X(chain_edges, "chain.edges", run_edges, 0)                                                   \
     X(warp_pixel_map, "warp.pixel_map", run_pixel_map, strips_pixel_map)                          \
     X(warp_control_grid, "warp.control_grid", run_control_grid, frame_control_grid)               \
+    X(warp_grid_stream, "warp.grid_stream", run_grid_stream, frame_control_grid)                  \
     X(lines_cos_sin, "lines.cos_sin", run_cos_sin, 0)                                             \
     X(lines_accumulator, "lines.accumulator", run_accumulator, rows_accumulator)                  \
     X(lines_correct_point, "lines.correct_point", run_correct_point, 0)                           \
@@ -910,7 +1045,8 @@ static fxs_status frame_control_grid(const golden_vector *v, const img *in, cons
     X(lines_segments, "lines.segments", run_segments, 0)                                          \
     X(marking_select, "marking.select", run_select, 0)                                            \
     X(track_tracker, "track.tracker", run_tracker, 0)                                             \
-    X(pipeline_edge_stream, "pipeline.edge_stream", run_edge_stream, 0)
+    X(pipeline_edge_stream, "pipeline.edge_stream", run_edge_stream, 0)                           \
+    X(pipeline_point_job, "pipeline.point_job", run_point_job, 0)
 
 enum {
 #define X(tok, id, run, alt) K_##tok,
@@ -949,7 +1085,7 @@ static const struct {
  * are listed ("later" lines) and not counted (the list ends with a NULL);
  * a kernel id that lands on main before its C functions goes here and in
  * LATER of tests/host_c.rs. */
-static const char *const LATER[] = {"pipeline.point_job", "warp.grid_stream", 0};
+static const char *const LATER[] = {0};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; LATER[i]; i++)

@@ -52,11 +52,13 @@
  *   points to `len` elements of memory you own, and no one else reads or
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
- *   fxs_control_grid, fxs_lines_accumulator, fxs_tracker, fxs_edge_stream) live in storage you provide: declare a variable of
+ *   fxs_control_grid, fxs_grid_stream, fxs_lines_accumulator, fxs_tracker, fxs_edge_stream,
+ *   fxs_point_job) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
- *   a map's coordinates, a grid's points or blob, the filter of a stream)
+ *   a map's coordinates, a grid's points or blob, the filter of a stream,
+ *   a grid stream's ring and its grid's points or blob)
  *   must not outlive it, and that memory must stay unchanged; do not copy
  *   an initialised object, re-initialise it instead. No object needs to be
  *   freed.
@@ -188,30 +190,38 @@ typedef struct fxs_u16_view_mut {
 #define FXS_PIXEL_MAP_SIZE_64 88
 #define FXS_CONTROL_GRID_SIZE_32 64
 #define FXS_CONTROL_GRID_SIZE_64 120
+#define FXS_GRID_STREAM_SIZE_32 128
+#define FXS_GRID_STREAM_SIZE_64 248
 #define FXS_LINES_ACCUMULATOR_SIZE_32 104
 #define FXS_LINES_ACCUMULATOR_SIZE_64 176
 #define FXS_TRACKER_SIZE_32 416
 #define FXS_TRACKER_SIZE_64 416
 #define FXS_EDGE_STREAM_SIZE_32 45968
 #define FXS_EDGE_STREAM_SIZE_64 46008
+#define FXS_POINT_JOB_SIZE_32 52256
+#define FXS_POINT_JOB_SIZE_64 52352
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_64
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_64
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_64
+#define FXS_GRID_STREAM_SIZE FXS_GRID_STREAM_SIZE_64
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_64
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_64
 #define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_64
+#define FXS_POINT_JOB_SIZE FXS_POINT_JOB_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
 #define FXS_NMS_STREAM_SIZE FXS_NMS_STREAM_SIZE_32
 #define FXS_PIXEL_MAP_SIZE FXS_PIXEL_MAP_SIZE_32
 #define FXS_CONTROL_GRID_SIZE FXS_CONTROL_GRID_SIZE_32
+#define FXS_GRID_STREAM_SIZE FXS_GRID_STREAM_SIZE_32
 #define FXS_LINES_ACCUMULATOR_SIZE FXS_LINES_ACCUMULATOR_SIZE_32
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_32
 #define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_32
+#define FXS_POINT_JOB_SIZE FXS_POINT_JOB_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -494,6 +504,72 @@ fxs_status fxs_warp_control_grid_rows(const fxs_control_grid *grid, const fxs_u8
  * memory it borrows), FXS_E_NOT_INITIALISED. */
 fxs_status fxs_warp_control_grid_write_blob(const fxs_control_grid *grid, uint8_t *out,
                                             uintptr_t out_len, uintptr_t *written);
+
+/* A grid fed one source row at a time (kernel id warp.grid_stream),
+ * bit-identical to fxs_warp_control_grid_rows on the whole frame. Holds a
+ * copy of the checked grid (the fxs_control_grid itself may go; its points
+ * or blob stay borrowed) and borrows the ring; FXS_GRID_STREAM_SIZE
+ * bytes, aligned to FXS_OBJECT_ALIGN. */
+typedef union fxs_grid_stream {
+    uint8_t bytes[FXS_GRID_STREAM_SIZE];
+    uint64_t align_;
+} fxs_grid_stream;
+
+/* Bytes of the smallest ring for strips of strip_rows (>= 1) output rows
+ * with `channels` (1..4): band_rows(strip_rows) * src_width * channels,
+ * where band_rows is the most source rows one strip reads (kernels/src/warp.rs,
+ * ControlGrid::band_rows), into *ring_len.
+ * Errors: FXS_E_UNSUPPORTED_CHANNELS, FXS_E_NEGATIVE, FXS_E_BAD_PARAMETER
+ * (strip_rows 0), FXS_E_LAYOUT_OVERFLOW, FXS_E_NULL_POINTER,
+ * FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_warp_grid_stream_ring_len(const fxs_control_grid *grid, int32_t channels,
+                                         int32_t strip_rows, uintptr_t *ring_len);
+
+/* A stream over grid: source rows of src_width * channels bytes go into
+ * ring[ring_len] (source row y in ring row y % ring_rows, ring_rows =
+ * min(ring_len / (src_width * channels), src_height), at least
+ * band_rows(strip_rows); only those whole rows are borrowed), output in
+ * strips of strip_rows rows (a strip taller than the output is the whole
+ * output) with border_rule. ring may overlap neither the stream, the grid
+ * nor its points or blob. On an error *stream is unchanged.
+ * Errors: FXS_E_BUFFER_TOO_SHORT (ring), FXS_E_UNSUPPORTED_CHANNELS,
+ * FXS_E_BAD_PARAMETER (strip_rows 0, border), FXS_E_NEGATIVE,
+ * FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NOT_INITIALISED (grid),
+ * FXS_E_OVERLAP. */
+fxs_status fxs_warp_grid_stream_init(fxs_grid_stream *stream, const fxs_control_grid *grid,
+                                     uint8_t *ring, uintptr_t ring_len, int32_t channels,
+                                     int32_t strip_rows, int32_t border_rule);
+
+/* Copies the next source row (row_len == src_width * channels bytes) into
+ * the ring; *rows_pushed (may be NULL): source rows of this frame so far.
+ * A strip that is ready must be taken (fxs_warp_grid_stream_next_strip)
+ * before the next row goes in. row may overlap neither the stream nor the
+ * ring. On an error nothing changes.
+ * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (a strip is ready, or all
+ * src_height rows are in), FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED,
+ * FXS_E_OVERLAP. */
+fxs_status fxs_warp_grid_stream_push_row(fxs_grid_stream *stream, const uint8_t *row,
+                                         uintptr_t row_len, int32_t *rows_pushed);
+
+/* When every source row the next strip reads is in: writes the strip into
+ * rows 0 .. *rows - 1 of dst (width out_width, the stream's channels,
+ * height at least the strip's rows: strip_rows, fewer for the last) and
+ * sets *first_row to its first output row. Otherwise (rows missing, or the
+ * frame is finished) *rows = 0, *first_row = -1 and dst is not written.
+ * Strips come in order; once every source row is in, every remaining strip
+ * is ready. dst may overlap neither the stream, the ring nor the grid's
+ * points or blob.
+ * Errors: the image checks, FXS_E_SIZE_MISMATCH (width, or too few rows),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_warp_grid_stream_next_strip(fxs_grid_stream *stream, const fxs_u8_view_mut *dst,
+                                           int32_t *first_row, int32_t *rows);
+
+/* *finished = 1 once every output row of the frame was written, else 0. */
+fxs_status fxs_warp_grid_stream_finished(const fxs_grid_stream *stream, int32_t *finished);
+
+/* Starts the next frame (no rows in, output from row 0), also after a
+ * short or dropped one; the ring keeps its bytes until overwritten. */
+fxs_status fxs_warp_grid_stream_reset(fxs_grid_stream *stream);
 
 /* ======================================================================== */
 /* lines: line voting, peaks, segments (kernel ids lines.*)                */
@@ -938,6 +1014,132 @@ fxs_status fxs_edge_stream_points(const fxs_edge_stream *stream, uintptr_t first
  * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED. */
 fxs_status fxs_edge_stream_edge_row(const fxs_edge_stream *stream, int32_t y, uint8_t *out,
                                     uintptr_t out_len);
+
+/* ======================================================================== */
+/* pipeline: the whole job in point mode (kernel id pipeline.point_job)    */
+/* What a frame computes, bit for bit: kernels/src/pipeline.rs, PointJob   */
+/* (the edge stage above; each edge point corrected through an optional   */
+/* control grid and voted, gated by a one-byte code of its gradient angle; */
+/* peaks; their lines moved to the image centre; the marking selection;   */
+/* the tracker fed the tape's left then right edge).                       */
+/* NOT A SAFETY FUNCTION: the drift warning is an aid only; see the note   */
+/* at the top of this file.                                                */
+/* ======================================================================== */
+
+/* Capacities of fxs_point_job (PointJob<320, 4800, 1024, 4096, 32, 255, 8, 4>). */
+#define FXS_POINT_JOB_MAX_WIDTH 320   /* widest raw frame */
+#define FXS_POINT_JOB_MAP_WORDS 4800  /* ceil(width / 16) * height at most this (320 x 240) */
+#define FXS_POINT_JOB_BINS 1024       /* histogram bins of the automatic rule */
+#define FXS_POINT_JOB_GATE_BYTES 4096 /* candidates per frame whose gate byte is kept */
+#define FXS_POINT_JOB_THETA_BINS 32   /* most vote columns */
+#define FXS_POINT_JOB_RHO_BINS 255    /* vote cells: theta_bins * rho_bins <= 32 * 255 */
+#define FXS_POINT_JOB_PEAKS 8         /* peaks (lines) kept per frame */
+#define FXS_POINT_JOB_TRACKS 4        /* track slots */
+
+/* The whole job, held by value (FXS_POINT_JOB_SIZE bytes, aligned to
+ * FXS_OBJECT_ALIGN; a static is the usual place), borrows nothing between
+ * calls. */
+typedef union fxs_point_job {
+    uint8_t bytes[FXS_POINT_JOB_SIZE];
+    uint64_t align_;
+} fxs_point_job;
+
+/* Every setting, one part per stage, each as its own functions check it.
+ * The job adds: vote.weight_shift -1 (unit votes); vote.theta_step_log2
+ * >= 9 when vote.gate is nonzero (the gate code fits a byte);
+ * peaks.threshold >= 1. marking.contrast is not used (no polarity is
+ * known in point mode). */
+typedef struct fxs_point_job_config {
+    fxs_edge_config edges;     /* the edge stage */
+    fxs_vote_params vote;      /* its frame is the corrected view */
+    fxs_peak_params peaks;     /* peak selection */
+    fxs_marking_limits marking; /* marking selection, centre origin of the vote frame */
+    fxs_track_config track;    /* tracker and drift warning */
+} fxs_point_job_config;
+
+typedef struct fxs_point_job_report {
+    uint32_t frame;              /* frame number given to the tracker */
+    uint32_t voted;              /* edge points that cast votes */
+    uint32_t outside;            /* edge points corrected outside the vote frame */
+    uint32_t ungated;            /* edge points past FXS_POINT_JOB_GATE_BYTES candidates (no vote) */
+    uint32_t peaks;              /* peaks found, 0..FXS_POINT_JOB_PEAKS */
+    fxs_edge_report edges;       /* the edge stage; gradients_dropped: candidates without a gate byte */
+    fxs_marking_result marking;  /* indices into fxs_point_job_lines */
+    fxs_frame_report track;      /* the tracker's update, with the drift warning */
+} fxs_point_job_report;
+
+/* The demo configuration at 320 x 240 (PointJobConfig::DEMO_QVGA) into
+ * *config. */
+fxs_status fxs_point_job_demo_config(fxs_point_job_config *config);
+
+/* A job for raw width x height frames (width 4..FXS_POINT_JOB_MAX_WIDTH,
+ * ceil(width / 16) * height <= FXS_POINT_JOB_MAP_WORDS, the capacities
+ * above), frame numbers from 0, no tracks. On an error *job is left not
+ * initialised. Stack: about 23 KiB on a Cortex-M4 (the kernel builds the
+ * fresh job's edge stage on the stack before it is written into *job);
+ * call it once at start-up, where the stack is largest.
+ * Errors: as fxs_edge_stream_init, fxs_lines_accumulator_init (vote),
+ * fxs_marking_select (marking), fxs_tracker_init (track);
+ * FXS_E_BAD_PARAMETER (weight_shift, gate with theta_step_log2 < 9, peak
+ * threshold 0); FXS_E_BUFFER_TOO_SHORT (theta_bins above
+ * FXS_POINT_JOB_THETA_BINS, more vote cells than 32 * 255). */
+fxs_status fxs_point_job_init(fxs_point_job *job, const fxs_point_job_config *config,
+                              int32_t width, int32_t height);
+
+/* Pushes the next camera row: row_len == width bytes of 8-bit luma;
+ * *rows_pushed (may be NULL): rows of this frame so far. A push after
+ * finish starts the next frame. On an error nothing changes.
+ * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (all declared rows came),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_point_job_push_row(fxs_point_job *job, const uint8_t *row, uintptr_t row_len,
+                                  int32_t *rows_pushed);
+
+/* Ends a frame after all `height` rows and runs the rest of the job. grid
+ * (may be NULL: the raw frame is the vote frame) corrects the edge points:
+ * its output size must be the raw frame and its source size the vote frame
+ * (vote.width x vote.height). report may be NULL. Peaks, lines and tracks
+ * can then be read until the next finish.
+ * Errors (the job unchanged): FXS_E_SIZE_MISMATCH (grid sizes, or no grid
+ * and a vote frame other than the raw frame), FXS_E_ROW_COUNT,
+ * FXS_E_STREAM_ORDER, FXS_E_NOT_INITIALISED (job or grid), FXS_E_OVERLAP
+ * (report with the job, the grid or its memory); after the frame was used:
+ * FXS_E_FRAME_ORDER (frame number past 2^32 - 1). */
+fxs_status fxs_point_job_finish(fxs_point_job *job, const fxs_control_grid *grid,
+                                fxs_point_job_report *report);
+
+/* As fxs_point_job_finish after fewer rows (at least 1) than declared;
+ * the vote frame stays the declared one. */
+fxs_status fxs_point_job_finish_short(fxs_point_job *job, const fxs_control_grid *grid,
+                                      fxs_point_job_report *report);
+
+/* Drops the frame in progress and counts it as a frame without a
+ * measurement (the next frame number is skipped: the tracks coast). */
+fxs_status fxs_point_job_drop_frame(fxs_point_job *job);
+
+/* Starts over with the same configuration: frame in progress dropped,
+ * tracks forgotten, frame numbers from 0; the automatic thresholds carried
+ * to the next frame stay. */
+fxs_status fxs_point_job_reset(fxs_point_job *job);
+
+/* The last finished frame's peaks (vote-frame lines, strongest first), up
+ * to out_len (1..FXS_LINES_MAX_OUT) into out; *found is how many.
+ * Errors: FXS_E_BAD_PARAMETER (out_len), FXS_E_NULL_POINTER,
+ * FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_point_job_peaks(const fxs_point_job *job, fxs_line_peak *out, uintptr_t out_len,
+                               int32_t *found);
+
+/* The peaks' lines about the image centre ((W-1)/2, (H-1)/2 of the vote
+ * frame), in peak order, as the marking selection took them (polarity 0),
+ * up to out_len (1..FXS_LINES_MAX_OUT); *found is how many.
+ * Errors: as fxs_point_job_peaks. */
+fxs_status fxs_point_job_lines(const fxs_point_job *job, fxs_marking_line *out, uintptr_t out_len,
+                               int32_t *found);
+
+/* Track slot 0..FXS_POINT_JOB_TRACKS-1 after the last finished frame as
+ * FXS_TRACK_WORDS int32_t (layout of fxs_tracker_slot_words).
+ * Errors: as fxs_tracker_slot_words. */
+fxs_status fxs_point_job_track_words(const fxs_point_job *job, int32_t slot, int32_t *words,
+                                     uintptr_t words_len);
 
 #ifdef __cplusplus
 }

@@ -411,6 +411,68 @@ pub(crate) unsafe fn load_mut<'a, T: Stored>(p: *mut T::Storage) -> Checked<&'a 
     Ok(unsafe { &mut (*t).value })
 }
 
+/// Writes the object `fresh` makes into checked storage `p`, straight
+/// into place (tag first, then the value), and runs `configure` on it in
+/// place; when `configure` fails the storage is marked not initialised.
+///
+/// # Safety
+/// `p` passed [`storage`], and the caller guarantees the storage is
+/// writable and not in use by anything else.
+pub(crate) unsafe fn store_configured<T: Stored>(
+    p: *mut T::Storage,
+    fresh: impl FnOnce() -> T,
+    configure: impl FnOnce(&mut T) -> Checked<()>,
+) -> Checked<()> {
+    let t: *mut Tagged<T> = p.cast();
+    // SAFETY: aligned, large enough (`fits` is asserted per storage type),
+    // writable by the caller's guarantee; the old contents own nothing.
+    unsafe {
+        core::ptr::addr_of_mut!((*t).value).write(fresh());
+        core::ptr::addr_of_mut!((*t).tag).write(T::TAG);
+    }
+    // SAFETY: just written; exclusive by the caller's guarantee.
+    let obj = unsafe { load_mut::<T>(p)? };
+    if let Err(e) = configure(obj) {
+        // SAFETY: the tag is the first 4 bytes of the checked storage.
+        unsafe { core::ptr::write_bytes(p.cast::<u8>(), 0, 4) };
+        return Err(e);
+    }
+    Ok(())
+}
+
+/// A camera row pushed into an object in caller storage: checks
+/// `row[row_len]` and the optional count `rows_pushed` (NULL, alignment,
+/// no overlap with the object or with the memory `borrowed` names), runs
+/// `push`, and writes the rows it returns to `*rows_pushed`.
+///
+/// # Safety
+/// `p` as for [`load_mut`]; `row` `row_len` readable bytes; `rows_pushed`
+/// NULL or one writable `int32_t`; none touched by others during the call.
+pub(crate) unsafe fn push_row<T: Stored>(
+    p: *mut T::Storage,
+    row: *const u8,
+    row_len: usize,
+    rows_pushed: *mut i32,
+    borrowed: impl FnOnce(&T) -> Span,
+    push: impl FnOnce(&mut T, &[u8]) -> Checked<usize>,
+) -> Checked<()> {
+    let r = buf(row, row_len, false)?;
+    let n = optional(rows_pushed)?;
+    let n_span = n.map_or(Span::EMPTY, |b| b.span());
+    disjoint(&[Span::object(p, true), r.span(), n_span])?;
+    // SAFETY: initialised and exclusively used by the caller's guarantee;
+    // disjoint from the row and the count (checked above).
+    let obj = unsafe { load_mut::<T>(p)? };
+    disjoint(&[borrowed(obj), r.span(), n_span])?;
+    // SAFETY: checked, readable, shares no byte with the object's memory.
+    let got = push(obj, unsafe { r.slice() })?;
+    if let Some(n) = n {
+        // SAFETY: checked, writable, disjoint from everything else.
+        unsafe { n.slice_mut()[0] = got as i32 };
+    }
+    Ok(())
+}
+
 /// Defines a C storage type for an object: `#[repr(C, align(8))]` bytes,
 /// sized per pointer width, with a compile-time check that the object fits.
 macro_rules! object_storage {

@@ -360,7 +360,7 @@ fn structs_and_storage_agree() {
             "struct {name} is in the header only"
         );
     }
-    assert_eq!(r.storages.len(), 8);
+    assert_eq!(r.storages.len(), 10);
     for (name, size) in &r.storages {
         assert_eq!(h.unions.get(name), Some(size), "storage {name}");
     }
@@ -419,6 +419,11 @@ fn storage_sizes_are_the_object_sizes() {
     check::<crate::nms::StreamObj>();
     check::<crate::warp::MapObj>();
     check::<crate::warp::GridObj>();
+    check::<crate::warp::GridStreamObj>();
+    check::<crate::lines::AccObj>();
+    check::<crate::track::TrackerObj>();
+    check::<crate::pipeline::StreamObj>();
+    check::<crate::point_job::JobObj>();
 }
 
 #[test]

@@ -19,6 +19,7 @@
 //! | `status.rs` | status codes, `fxs_status_message` |
 //! | `boundary.rs` | image descriptors, pointer/length/overlap checks, objects in caller storage |
 //! | `<family>.rs` | one file per kernel family, the `fxs_<family>_*` functions |
+//! | `point_job.rs` | the whole job of the `pipeline` family (`fxs_point_job_*`), beside its edge stream in `pipeline.rs` |
 //!
 //! Adding a family (say `blobs`): `src/blobs.rs` with its functions and
 //! storage types, `mod blobs;` below, a section `blobs` in the header, the
@@ -57,6 +58,7 @@ mod lines;
 mod marking;
 mod nms;
 mod pipeline;
+mod point_job;
 mod status;
 mod thinning;
 mod track;

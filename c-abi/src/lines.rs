@@ -167,7 +167,12 @@ fn ranged(v: i32, lo: i32, hi: i32) -> Checked<i32> {
 /// `p` is NULL or points to a readable `fxs_vote_params`.
 unsafe fn vote_params(p: *const FxsVoteParams) -> Checked<VoteParams> {
     // SAFETY: forwarded to the caller; null and alignment checked first.
-    let p = unsafe { buf(p, 1, false)?.slice()[0] };
+    params_of(unsafe { &buf(p, 1, false)?.slice()[0] })
+}
+
+/// The checked kernel parameters of a C `fxs_vote_params` (see
+/// `vote_params`).
+pub(crate) fn params_of(p: &FxsVoteParams) -> Checked<VoteParams> {
     let vp = VoteParams {
         width: size(p.width)?,
         height: size(p.height)?,
@@ -188,6 +193,51 @@ unsafe fn vote_params(p: *const FxsVoteParams) -> Checked<VoteParams> {
     };
     kernel(vp.check())?;
     Ok(vp)
+}
+
+/// The C form of checked kernel parameters.
+pub(crate) fn params_c(p: &VoteParams) -> FxsVoteParams {
+    FxsVoteParams {
+        width: p.width as i32,
+        height: p.height as i32,
+        theta_start: p.theta_start as i32,
+        theta_step_log2: p.theta_step_log2 as i32,
+        theta_bins: p.theta_bins as i32,
+        rho_step_log2: p.rho_step_log2 as i32,
+        rho_bins: p.rho_bins as i32,
+        trig_frac_bits: p.trig_frac_bits as i32,
+        gate: p.gate.map_or(0, i32::from),
+        weight_shift: p.weight_shift.map_or(-1, |k| k as i32),
+    }
+}
+
+/// The kernel peak selection of a C one.
+pub(crate) fn peak_params(p: &FxsPeakParams) -> Checked<PeakParams> {
+    Ok(PeakParams {
+        threshold: ranged(p.threshold, 0, 65535)? as u16,
+        radius_theta: size(p.radius_theta)?,
+        radius_rho: size(p.radius_rho)?,
+    })
+}
+
+/// The C form of a kernel peak selection.
+pub(crate) fn peak_params_c(p: &PeakParams) -> FxsPeakParams {
+    FxsPeakParams {
+        threshold: p.threshold as i32,
+        radius_theta: p.radius_theta as i32,
+        radius_rho: p.radius_rho as i32,
+    }
+}
+
+/// The C form of a kernel peak.
+pub(crate) fn peak_c(s: &Peak) -> FxsLinePeak {
+    FxsLinePeak {
+        theta_bin: s.theta_bin,
+        rho_bin: s.rho_bin,
+        votes: s.votes,
+        reserved: 0,
+        line: line_of(s.line),
+    }
 }
 
 /// `fxs_lines_cos_sin`: `(cos a, sin a)` in Q`frac_bits` (8..=14) of a
@@ -543,7 +593,11 @@ fn line_of(l: Line) -> FxsLine {
 }
 
 /// The checked output array and count of a peaks or segments call.
-fn outputs<T>(out: *mut T, out_len: usize, found: *mut i32) -> Checked<(Buf<T>, Buf<i32>, usize)> {
+pub(crate) fn outputs<T>(
+    out: *mut T,
+    out_len: usize,
+    found: *mut i32,
+) -> Checked<(Buf<T>, Buf<i32>, usize)> {
     let o = buf(out, out_len, true)?;
     let f = buf(found, 1, true)?;
     if out_len == 0 || out_len > FXS_LINES_MAX_OUT {
@@ -580,21 +634,11 @@ pub unsafe extern "C" fn fxs_lines_peaks(
                 ob.span(),
                 fb.span(),
             ])?;
-            let pp = PeakParams {
-                threshold: ranged(p.threshold, 0, 65535)? as u16,
-                radius_theta: size(p.radius_theta)?,
-                radius_rho: size(p.radius_rho)?,
-            };
+            let pp = peak_params(&p)?;
             let mut tmp = [Peak::default(); FXS_LINES_MAX_OUT];
             let n = kernel(o.acc.peaks(&pp, &mut tmp[..k]))?;
             for (d, s) in ob.slice_mut().iter_mut().zip(&tmp[..n]) {
-                *d = FxsLinePeak {
-                    theta_bin: s.theta_bin,
-                    rho_bin: s.rho_bin,
-                    votes: s.votes,
-                    reserved: 0,
-                    line: line_of(s.line),
-                };
+                *d = peak_c(s);
             }
             fb.slice_mut()[0] = n as i32;
             Ok(())

@@ -11,7 +11,9 @@
 
 use crate::boundary::{buf, disjoint, size, Checked, Span};
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
-use fixsight::marking::{self, Candidate, MarkingConfig, MarkingLimits, Polarity, TapeContrast};
+use fixsight::marking::{
+    self, Candidate, Marking, MarkingConfig, MarkingLimits, Polarity, TapeContrast,
+};
 
 /// `FXS_MARKING_MAX_LINES`: most lines one call takes.
 pub const FXS_MARKING_MAX_LINES: usize = 64;
@@ -93,7 +95,7 @@ pub struct FxsMarkingResult {
 }
 
 /// The checked kernel configuration of C limits.
-fn config(l: &FxsMarkingLimits) -> Checked<MarkingConfig> {
+pub(crate) fn config(l: &FxsMarkingLimits) -> Checked<MarkingConfig> {
     let contrast = match l.contrast {
         FXS_CONTRAST_BRIGHTER => TapeContrast::Brighter,
         FXS_CONTRAST_DARKER => TapeContrast::Darker,
@@ -159,20 +161,46 @@ pub unsafe extern "C" fn fxs_marking_select(
                     },
                 };
             }
-            let w = marking::select(&cand[..count], &cfg).record();
-            r.slice_mut()[0] = FxsMarkingResult {
-                found: w[0],
-                left: w[1],
-                right: w[2],
-                near_left_q4: w[3],
-                near_right_q4: w[4],
-                far_left_q4: w[5],
-                far_right_q4: w[6],
-                votes_lo: w[7] as u32,
-                votes_hi: w[8] as u32,
-                candidates: w[9],
-            };
+            r.slice_mut()[0] = result_of(&marking::select(&cand[..count], &cfg));
             Ok(())
         })()
     })
+}
+
+/// The C result of a selection: the kernel's record word for word.
+pub(crate) fn result_of(m: &Marking) -> FxsMarkingResult {
+    let w = m.record();
+    FxsMarkingResult {
+        found: w[0],
+        left: w[1],
+        right: w[2],
+        near_left_q4: w[3],
+        near_right_q4: w[4],
+        far_left_q4: w[5],
+        far_right_q4: w[6],
+        votes_lo: w[7] as u32,
+        votes_hi: w[8] as u32,
+        candidates: w[9],
+    }
+}
+
+/// The C form of kernel limits.
+pub(crate) fn limits_c(l: &MarkingLimits) -> FxsMarkingLimits {
+    FxsMarkingLimits {
+        near_row_q4: l.near_row_q4,
+        far_row_q4: l.far_row_q4,
+        horizon_row_q4: l.horizon_row_q4,
+        max_tilt: l.max_tilt as i32,
+        near_x_min_q4: l.near_x_min_q4,
+        near_x_max_q4: l.near_x_max_q4,
+        near_sep_min_q4: l.near_sep_min_q4,
+        near_sep_nominal_q4: l.near_sep_nominal_q4,
+        near_sep_max_q4: l.near_sep_max_q4,
+        converge_tol_q4: l.converge_tol_q4,
+        contrast: match l.contrast {
+            TapeContrast::Brighter => FXS_CONTRAST_BRIGHTER,
+            TapeContrast::Darker => FXS_CONTRAST_DARKER,
+            TapeContrast::Either => FXS_CONTRAST_EITHER,
+        },
+    }
 }

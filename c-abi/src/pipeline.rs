@@ -12,7 +12,7 @@
 //! kernel (YUYV, UYVY, RGB565, raw) are not wrapped yet.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, size, storage, store, Checked, Span,
+    buf, disjoint, load, load_mut, optional, size, storage, store_configured, Checked, Span,
 };
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
 use fixsight::pipeline::{
@@ -172,7 +172,7 @@ fn narrow<T: TryFrom<usize>>(v: i32) -> Checked<T> {
 
 /// The kernel configuration of a C one (ranges of the kernel's types here,
 /// the rest by `EdgeConfig::check` in `configure`).
-fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
+pub(crate) fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
     let smoothing = match c.smoothing {
         FXS_SMOOTHING_NONE => Smoothing::None,
         FXS_SMOOTHING_BINOMIAL3 => Smoothing::Binomial3,
@@ -240,15 +240,9 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
             disjoint(&[own, c.span()])?;
             let cfg = self::config(&c.slice()[0])?;
             let (w, h) = (size(width)?, size(height)?);
-            // Checked on a fresh stream before the storage is written, so
-            // that a failed init leaves an initialised stream untouched.
-            store(stream, StreamObj::new());
-            let s = load_mut::<StreamObj>(stream)?;
-            if let Err(e) = kernel(s.configure(&cfg, w, h)) {
-                core::ptr::write_bytes(stream.cast::<u8>(), 0, 4);
-                return Err(e);
-            }
-            Ok(())
+            // A fresh stream, configured in place: a failed init leaves
+            // the storage not initialised.
+            store_configured(stream, StreamObj::new, |s| kernel(s.configure(&cfg, w, h)))
         })()
     })
 }
@@ -260,7 +254,12 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
 /// `config` one writable `fxs_edge_config`.
 #[no_mangle]
 pub unsafe extern "C" fn fxs_edge_stream_demo_config(config: *mut FxsEdgeConfig) -> FxsStatus {
-    let d = pipeline::DEMO;
+    // SAFETY: forwarded to the caller; the pointer is checked first.
+    finish(unsafe { buf(config, 1, true).map(|b| b.slice_mut()[0] = config_of(&pipeline::DEMO)) })
+}
+
+/// The C form of a kernel configuration.
+pub(crate) fn config_of(d: &EdgeConfig) -> FxsEdgeConfig {
     let smoothing = match d.smoothing {
         Smoothing::None => FXS_SMOOTHING_NONE,
         Smoothing::Binomial3 => FXS_SMOOTHING_BINOMIAL3,
@@ -299,25 +298,20 @@ pub unsafe extern "C" fn fxs_edge_stream_demo_config(config: *mut FxsEdgeConfig)
         Thinning::UntilStable => (FXS_THINNING_UNTIL_STABLE, 0),
         Thinning::AtMost(n) => (FXS_THINNING_AT_MOST, n),
     };
-    // SAFETY: forwarded to the caller; the pointer is checked first.
-    finish(unsafe {
-        buf(config, 1, true).map(|b| {
-            b.slice_mut()[0] = FxsEdgeConfig {
-                smoothing,
-                gradient_operator: operator,
-                frac_bits: d.frac_bits as i32,
-                magnitude,
-                threshold_rule: rule,
-                low: low as i32,
-                high: high as i32,
-                shift: shift as i32,
-                high_permille: permille as i32,
-                low_ratio_u0f16: ratio as i32,
-                thinning,
-                thinning_cap: cap as i32,
-            }
-        })
-    })
+    FxsEdgeConfig {
+        smoothing,
+        gradient_operator: operator,
+        frac_bits: d.frac_bits as i32,
+        magnitude,
+        threshold_rule: rule,
+        low: low as i32,
+        high: high as i32,
+        shift: shift as i32,
+        high_permille: permille as i32,
+        low_ratio_u0f16: ratio as i32,
+        thinning,
+        thinning_cap: cap as i32,
+    }
 }
 
 /// `fxs_edge_stream_reset`: drops the frame in progress (the thresholds
@@ -347,23 +341,19 @@ pub unsafe extern "C" fn fxs_edge_stream_push_row(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
-        (|| {
-            let own = Span::object(stream, true);
-            let r = buf(row, row_len, false)?;
-            let n = optional(rows_pushed)?;
-            disjoint(&[own, r.span(), n.map_or(Span::EMPTY, |b| b.span())])?;
-            let s = load_mut::<StreamObj>(stream)?;
-            let got = kernel(s.push_row(r.slice()))?;
-            if let Some(n) = n {
-                n.slice_mut()[0] = got as i32;
-            }
-            Ok(())
-        })()
+        crate::boundary::push_row(
+            stream,
+            row,
+            row_len,
+            rows_pushed,
+            |_: &StreamObj| Span::EMPTY,
+            |s, r| kernel(s.push_row(r)),
+        )
     })
 }
 
 /// A kernel report as a C one.
-fn report_of(r: &FrameReport) -> FxsEdgeReport {
+pub(crate) fn report_of(r: &FrameReport) -> FxsEdgeReport {
     FxsEdgeReport {
         width: r.width as u32,
         height: r.height as u32,

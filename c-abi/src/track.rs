@@ -109,7 +109,7 @@ fn narrow<T: TryFrom<usize>>(v: i32) -> Checked<T> {
 }
 
 /// The kernel configuration of a C one.
-fn config(c: &FxsTrackConfig) -> Checked<TrackConfig> {
+pub(crate) fn config(c: &FxsTrackConfig) -> Checked<TrackConfig> {
     let axis = |a: &FxsTrackAxisNoise| AxisNoise {
         meas_var: a.meas_var,
         accel_index_q16: a.accel_index_q16,
@@ -207,14 +207,7 @@ pub unsafe extern "C" fn fxs_tracker_update(
             }
             let rep = kernel(t.update(frame, &batch[..n]))?;
             if let Some(r) = r {
-                r.slice_mut()[0] = FxsFrameReport {
-                    associated: rep.associated as u32,
-                    born: rep.born as u32,
-                    dropped: rep.dropped as u32,
-                    warning_track: rep.warning.map_or(-1, |w| w.track_id as i32),
-                    warning_slot: rep.warning.map_or(-1, |w| w.slot as i32),
-                    warning_frames: rep.warning.map_or(-1, |w| w.frames as i32),
-                };
+                r.slice_mut()[0] = report_of(&rep);
             }
             Ok(())
         })()
@@ -236,19 +229,74 @@ pub unsafe extern "C" fn fxs_tracker_slot_words(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller; every pointer is checked first.
     finish(unsafe {
-        (|| {
-            let t = load::<TrackerObj>(tracker)?;
-            let w = buf(words, words_len, true)?.first(FXS_TRACK_WORDS);
-            disjoint(&[Span::object(tracker, false), w.span()])?;
-            let s = size(slot)?;
-            if s >= FXS_TRACK_SLOTS {
-                return Err(FXS_E_BAD_PARAMETER);
-            }
-            if words_len < FXS_TRACK_WORDS {
-                return Err(crate::status::FXS_E_BUFFER_TOO_SHORT);
-            }
-            w.slice_mut().copy_from_slice(&track_words(t.slot(s)));
-            Ok(())
-        })()
+        load::<TrackerObj>(tracker).and_then(|t| {
+            put_slot_words(Span::object(tracker, false), slot, words, words_len, |s| {
+                track_words(t.slot(s))
+            })
+        })
     })
+}
+
+/// Checks `slot` (0..FXS_TRACK_SLOTS) and `words[words_len]` (disjoint
+/// from `obj`, the tracker's bytes), then writes `state(slot)` into the
+/// first FXS_TRACK_WORDS words.
+///
+/// # Safety
+/// `words` NULL or `words_len` writable `int32_t`, untouched by others
+/// during the call.
+pub(crate) unsafe fn put_slot_words(
+    obj: Span,
+    slot: i32,
+    words: *mut i32,
+    words_len: usize,
+    state: impl FnOnce(usize) -> [i32; TRACK_WORDS],
+) -> Checked<()> {
+    let w = buf(words, words_len, true)?.first(FXS_TRACK_WORDS);
+    disjoint(&[obj, w.span()])?;
+    let s = size(slot)?;
+    if s >= FXS_TRACK_SLOTS {
+        return Err(FXS_E_BAD_PARAMETER);
+    }
+    if words_len < FXS_TRACK_WORDS {
+        return Err(crate::status::FXS_E_BUFFER_TOO_SHORT);
+    }
+    // SAFETY: checked, writable by the caller's guarantee, disjoint from
+    // the tracker.
+    unsafe { w.slice_mut().copy_from_slice(&state(s)) };
+    Ok(())
+}
+
+/// The C form of an update's report.
+pub(crate) fn report_of(rep: &fixsight::track::FrameReport) -> FxsFrameReport {
+    FxsFrameReport {
+        associated: rep.associated as u32,
+        born: rep.born as u32,
+        dropped: rep.dropped as u32,
+        warning_track: rep.warning.map_or(-1, |w| w.track_id as i32),
+        warning_slot: rep.warning.map_or(-1, |w| w.slot as i32),
+        warning_frames: rep.warning.map_or(-1, |w| w.frames as i32),
+    }
+}
+
+/// The C form of a kernel configuration.
+pub(crate) fn config_c(c: &TrackConfig) -> FxsTrackConfig {
+    let axis = |a: &AxisNoise| FxsTrackAxisNoise {
+        meas_var: a.meas_var,
+        accel_index_q16: a.accel_index_q16,
+        init_vel_var_q16: a.init_vel_var_q16,
+    };
+    FxsTrackConfig {
+        rho: axis(&c.rho),
+        theta: axis(&c.theta),
+        gate_q8: c.gate_q8,
+        confirm_hits: c.confirm_hits as i32,
+        max_missed: c.max_missed as i32,
+        birth_weight: c.birth_weight,
+        reference_x_q4: c.reference_q4.0,
+        reference_y_q4: c.reference_q4.1,
+        warn_horizon: c.warn_horizon as i32,
+        warn_min_hits: c.warn_min_hits as i32,
+        warn_raise_frames: c.warn_raise_frames as i32,
+        warn_clear_frames: c.warn_clear_frames as i32,
+    }
 }

@@ -1,13 +1,16 @@
 //! `fxs_warp_*`: bilinear lens-undistortion warp driven by a pixel map or a
 //! control grid (kernel ids `warp.pixel_map`, `warp.control_grid`), a strip
-//! of output rows at a time, over `fixsight::warp`.
+//! of output rows at a time, and the control grid fed one source row at a
+//! time (kernel id `warp.grid_stream`, `fxs_warp_grid_stream_*` over
+//! `fixsight::warp::GridStream`, kept in caller storage `fxs_grid_stream`
+//! with a caller ring), over `fixsight::warp`.
 
 use crate::boundary::{
-    border, buf, disjoint, image, load, size, storage, store, Checked, FxsU8View, FxsU8ViewMut,
-    Span,
+    border, buf, disjoint, image, load, load_mut, size, storage, store, Checked, FxsU8View,
+    FxsU8ViewMut, Span,
 };
-use crate::status::{finish, kernel, FxsStatus};
-use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
+use crate::status::{finish, kernel, FxsStatus, FXS_E_LAYOUT_OVERFLOW, FXS_E_UNSUPPORTED_CHANNELS};
+use fixsight::warp::{ControlGrid, GridStream, PixelMap, WarpGeometry};
 
 /// `fxs_warp_geometry`: output and source sizes and fractional bits.
 #[repr(C)]
@@ -309,4 +312,205 @@ pub unsafe extern "C" fn fxs_warp_control_grid_write_blob(
             Ok(())
         })
     })
+}
+
+/// A grid stream: the stream (its own copy of the checked grid, the caller
+/// ring it writes), the channels it was made for, and the caller memory it
+/// uses: the grid's points or blob (read) and the ring (written).
+pub(crate) struct GridStreamObj {
+    stream: GridStream<'static, 'static>,
+    channels: usize,
+    borrowed: [Span; 2],
+}
+
+crate::boundary::object_storage!(
+    /// `fxs_grid_stream`: storage for a control-grid row stream.
+    FxsGridStream for GridStreamObj, tag 0x4658_5733,
+    FXS_GRID_STREAM_SIZE = (FXS_GRID_STREAM_SIZE_32: 128, FXS_GRID_STREAM_SIZE_64: 248)
+);
+
+/// The channels and the bytes of one source row of a grid stream
+/// (`FXS_E_UNSUPPORTED_CHANNELS` outside 1..=4, as the kernel).
+fn source_row(g: &ControlGrid<'_>, channels: i32) -> Checked<(usize, usize)> {
+    let c = size(channels)?;
+    if !(1..=4).contains(&c) {
+        return Err(FXS_E_UNSUPPORTED_CHANNELS);
+    }
+    Ok((c, g.geometry().src_width() * c))
+}
+
+/// `fxs_warp_grid_stream_ring_len`: bytes of the smallest ring a stream
+/// over `grid` with `channels` and strips of `strip_rows` rows takes
+/// (`band_rows(strip_rows) * src_width * channels`).
+///
+/// # Safety
+/// `grid` initialised; `ring_len` one writable `uintptr_t`.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_ring_len(
+    grid: *const FxsControlGrid,
+    channels: i32,
+    strip_rows: i32,
+    ring_len: *mut usize,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        load::<GridObj>(grid).and_then(|m| {
+            let out = buf(ring_len, 1, true)?;
+            disjoint(&[Span::object(grid, false), m.borrowed, out.span()])?;
+            let (_, row) = source_row(&m.grid, channels)?;
+            let band = kernel(m.grid.band_rows(size(strip_rows)?))?;
+            out.slice_mut()[0] = band.checked_mul(row).ok_or(FXS_E_LAYOUT_OVERFLOW)?;
+            Ok(())
+        })
+    })
+}
+
+/// `fxs_warp_grid_stream_init`: a row stream over `grid` (copied; its
+/// points or blob stay borrowed) writing source rows into `ring`, output
+/// in strips of `strip_rows` rows with `channels` (1..=4) interleaved
+/// channels and `border_rule`.
+///
+/// # Safety
+/// `stream` writable storage; `grid` initialised; `ring` `ring_len`
+/// writable bytes that, while the stream is used, nothing else touches;
+/// the grid's points or blob stay valid and unchanged as long.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_init(
+    stream: *mut FxsGridStream,
+    grid: *const FxsControlGrid,
+    ring: *mut u8,
+    ring_len: usize,
+    channels: i32,
+    strip_rows: i32,
+    border_rule: i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        (|| {
+            let own = storage::<GridStreamObj>(stream)?;
+            let m = load::<GridObj>(grid)?;
+            let (channels, row) = source_row(&m.grid, channels)?;
+            let src_h = m.grid.geometry().src_height();
+            // The kernel uses whole rows, at most the source height.
+            let r = buf(ring, ring_len, true)?.first((ring_len / row).min(src_h) * row);
+            disjoint(&[own, Span::object(grid, false), m.borrowed, r.span()])?;
+            let (strip, rule) = (size(strip_rows)?, border(border_rule)?);
+            let s = kernel(GridStream::new(
+                m.grid,
+                r.slice_mut(),
+                channels,
+                strip,
+                rule,
+            ))?;
+            let borrowed = [m.borrowed, r.span()];
+            store(
+                stream,
+                GridStreamObj {
+                    stream: s,
+                    channels,
+                    borrowed,
+                },
+            );
+            Ok(())
+        })()
+    })
+}
+
+/// `fxs_warp_grid_stream_push_row`: copies the next source row (`row_len
+/// == src_width * channels` bytes) into the ring; `*rows_pushed` (may be
+/// NULL) the rows of the frame so far.
+///
+/// # Safety
+/// `stream` initialised and used by no one else; `row` `row_len` readable
+/// bytes; `rows_pushed` NULL or one writable `int32_t`.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_push_row(
+    stream: *mut FxsGridStream,
+    row: *const u8,
+    row_len: usize,
+    rows_pushed: *mut i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        crate::boundary::push_row(
+            stream,
+            row,
+            row_len,
+            rows_pushed,
+            |o: &GridStreamObj| o.borrowed[1],
+            |o, r| {
+                kernel(o.stream.push_row(r))?;
+                Ok(o.stream.rows_pushed())
+            },
+        )
+    })
+}
+
+/// `fxs_warp_grid_stream_next_strip`: when every source row the next strip
+/// reads is in, writes it into rows `0 .. *rows` of `dst` (width
+/// `out_width`, the stream's channels, at least the strip's rows) and sets
+/// `*first_row` to its first output row; else `*rows = 0`, `*first_row =
+/// -1` and nothing is written.
+///
+/// # Safety
+/// `stream` initialised and used by no one else; `dst` a readable
+/// descriptor whose data holds the stated bytes, writable, untouched by
+/// others during the call; `first_row`, `rows` one writable `int32_t` each.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_next_strip(
+    stream: *mut FxsGridStream,
+    dst: *const FxsU8ViewMut,
+    first_row: *mut i32,
+    rows: *mut i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        (|| {
+            let (f, n) = (buf(first_row, 1, true)?, buf(rows, 1, true)?);
+            let d = image(dst, load::<GridStreamObj>(stream)?.channels)?;
+            disjoint(&[Span::object(stream, true), d.span(), f.span(), n.span()])?;
+            let o = load_mut::<GridStreamObj>(stream)?;
+            let spans = [o.borrowed[0], o.borrowed[1], d.span(), f.span(), n.span()];
+            disjoint(&spans)?;
+            let done = kernel(o.stream.next_strip(&mut d.view_mut()?))?;
+            let (a, b) = done.map_or((-1, 0), |s| (s.first_row as i32, s.rows as i32));
+            f.slice_mut()[0] = a;
+            n.slice_mut()[0] = b;
+            Ok(())
+        })()
+    })
+}
+
+/// `fxs_warp_grid_stream_finished`: `*finished` 1 once every output row of
+/// the frame was written, else 0.
+///
+/// # Safety
+/// `stream` initialised, not written during the call; `finished` one
+/// writable `int32_t`.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_finished(
+    stream: *const FxsGridStream,
+    finished: *mut i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        (|| {
+            let o = load::<GridStreamObj>(stream)?;
+            let f = buf(finished, 1, true)?;
+            disjoint(&[Span::object(stream, false), f.span()])?;
+            f.slice_mut()[0] = o.stream.finished() as i32;
+            Ok(())
+        })()
+    })
+}
+
+/// `fxs_warp_grid_stream_reset`: starts a new frame (no rows in, output
+/// from row 0), also after a short or dropped one.
+///
+/// # Safety
+/// `stream` initialised and used by no one else.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_warp_grid_stream_reset(stream: *mut FxsGridStream) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe { load_mut::<GridStreamObj>(stream).map(|o| o.stream.reset()) })
 }

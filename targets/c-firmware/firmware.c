@@ -59,7 +59,8 @@ volatile uint32_t fixsight_windows_opened, fixsight_windows_closed;
 __attribute__((noinline, used)) void fixsight_window_open(void) { fixsight_windows_opened++; }
 __attribute__((noinline, used)) void fixsight_window_close(void) { fixsight_windows_closed += 3u; }
 
-#define STACK_PAINT_SPAN (16u * 1024u)
+/* 64 KiB: fxs_point_job_init alone takes about 23 KiB (see c-abi/src/point_job.rs). */
+#define STACK_PAINT_SPAN (64u * 1024u)
 #define PAINT 0x5AC396E1u
 static uint32_t paint_top;
 
