@@ -1809,7 +1809,7 @@ struct Fused {
 /// taps in memory ([`Fused`]) and with the taps of [`DEMO`] as constants
 /// ([`DemoTaps`]: the multiplies by 1 and 16 become adds and shifts, and
 /// no tap occupies a register). Both give the same integers.
-trait TapSet {
+trait TapSet: SectorRule {
     /// Cross tap `j` (`0..=2R`).
     fn c(&self, j: usize) -> i32;
     /// Derivative tap `j` (`0..=2R`).
@@ -1826,6 +1826,24 @@ trait TapSet {
         self.kind().of(g[0], g[1])
     }
 }
+
+/// How the classifier finds a gradient's sector: [`direction_sector`],
+/// unless a tap set bounds its gradients so that a cheaper exact form
+/// applies ([`DemoTaps`]).
+trait SectorRule {
+    /// [`direction_sector`] of `g`.
+    #[inline(always)]
+    fn sector(&self, g: [i16; 2]) -> u8 {
+        direction_sector(g[0], g[1])
+    }
+}
+
+/// [`direction_sector`] itself (the ends of a row, any tap set).
+struct AnySector;
+
+impl SectorRule for AnySector {}
+
+impl SectorRule for Fused {}
 
 impl TapSet for Fused {
     #[inline(always)]
@@ -1863,6 +1881,9 @@ const fn widen(t: [i16; MAX_TAPS]) -> [i32; MAX_TAPS] {
     }
     out
 }
+
+// The squares and products of [`DemoTaps`] stay below `2^31`.
+const _: () = assert!(4 * (DEMO.max_gradient() as u64).pow(2) < 1 << 31);
 
 /// The taps of [`DEMO`] as constants: a stream whose taps, shift and
 /// magnitude equal these runs [`fused_row`] with them (see
@@ -1904,6 +1925,33 @@ impl TapSet for DemoTaps {
     fn magnitude(&self, g: [i16; 2]) -> u16 {
         let (x, y) = (g[0] as i32, g[1] as i32);
         round_root((x * x + y * y) as u32)
+    }
+}
+
+impl SectorRule for DemoTaps {
+    /// [`direction_sector`] from the signed squares and the product, for
+    /// the same bound: with `p = |gx gy|` (`= |gx| |gy|`), `s = |gx| + |gy|`
+    /// has `s^2 = gx^2 + gy^2 + 2p` and `(|gy| - |gx|)^2 = gx^2 + gy^2 -
+    /// 2p`, so sector 0 (`s^2 < 2 gx^2`) is `gy^2 + 2p < gx^2`, and sector 2
+    /// (`|gy| > |gx|` and `(|gy| - |gx|)^2 > 2 gx^2`) is `gy^2 > gx^2 + 2p`
+    /// (which already implies `|gy| > |gx|`). Otherwise both are nonzero,
+    /// so `gx gy > 0` is `(gx > 0) == (gy > 0)`: sector 1, else 3. A zero
+    /// gradient (`s = 0`) is sector 0, as in `direction_sector`. (The
+    /// products stay below `2^31`: `|gx|, |gy| <= 2614`.)
+    #[inline(always)]
+    fn sector(&self, g: [i16; 2]) -> u8 {
+        let (x, y) = (g[0] as i32, g[1] as i32);
+        let (xx, yy, p) = (x * x, y * y, x * y);
+        let twice = 2 * p.abs();
+        if yy + twice < xx || (x | y) == 0 {
+            0
+        } else if yy > xx + twice {
+            2
+        } else if p > 0 {
+            1
+        } else {
+            3
+        }
     }
 }
 
@@ -1952,7 +2000,8 @@ struct Classifier<'a, const CAP: usize> {
 /// when needed: most pixels stop at the floor).
 #[allow(clippy::too_many_arguments)]
 #[inline(always)]
-fn classify_px<const CAP: usize>(
+fn classify_px<const CAP: usize, T: SectorRule>(
+    f: &T,
     rule: &Rule,
     hist: &mut [u32],
     words: &mut [u32],
@@ -1965,10 +2014,9 @@ fn classify_px<const CAP: usize>(
     let mut code = NONE;
     let mc = c[1];
     if mc >= rule.floor {
-        let [gx, gy] = g;
         // The rule of `nms::suppress` with the sector of
         // `gradient::direction_sector`.
-        let (before, after) = match direction_sector(gx, gy) {
+        let (before, after) = match f.sector(g) {
             0 => (c[0], c[2]),
             1 => (a[0], b[2]),
             2 => (a[1], b[1]),
@@ -2044,6 +2092,7 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
         let near = |row: &[u16]| [at(row, -1), at(row, 0), at(row, 1)];
         let (a, c, b) = (near(r.above), near(r.centre), near(below));
         classify_px(
+            &AnySector,
             &self.rule,
             self.hist,
             self.words,
@@ -2059,9 +2108,11 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
     /// `below` row is complete there, with the counts in locals;
     /// `grad[x]` is the pixel's gradient and is replaced by `fresh[x - lo]`
     /// (the gradient of the row below, which the row loop formed).
+    #[allow(clippy::too_many_arguments)]
     #[inline(always)]
-    fn span(
+    fn span<T: TapSet>(
         &mut self,
+        f: &T,
         r: &Rows3<'_>,
         below: &[u16],
         grad: &mut [[i16; 2]],
@@ -2089,7 +2140,7 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
             let held = core::mem::replace(g, *new);
             // `windows(3)` gives 3 elements: the conversions cannot fail.
             if let (Ok(a), Ok(c), Ok(b)) = (a.try_into(), c.try_into(), b.try_into()) {
-                classify_px(&rule, hist, words, grads, &mut n, x, held, [a, c, b]);
+                classify_px(f, &rule, hist, words, grads, &mut n, x, held, [a, c, b]);
             }
         }
         self.n = n;
@@ -2266,7 +2317,7 @@ fn fused_row<const R: usize, const CAP: usize, T: TapSet>(
                 // Pixels `max(x0 - 1, 1) ..= x0 + n - 2`.
                 let lo = x0.max(2) - 1;
                 let hi = x0 + n - 1;
-                cl.span(r, mag, grad, &fresh[lo + 1 - x0..], lo, hi);
+                cl.span(f, r, mag, grad, &fresh[lo + 1 - x0..], lo, hi);
             }
             None => grad[x0..x0 + n].copy_from_slice(&fresh[1..n + 1]),
         }
@@ -2972,6 +3023,26 @@ mod tests {
                     b.points().unwrap().collect::<Vec<_>>());
             } else {
                 prop_assert!(b.report().is_some());
+            }
+        }
+    }
+
+    /// The demo tap set's sector and magnitude (signed squares) against
+    /// `direction_sector` and `l2_round`: every gradient up to 300 and a
+    /// stride-7 grid up to the bound 2614 with both signs.
+    #[test]
+    fn demo_sector_and_magnitude_are_the_general_ones() {
+        use crate::gradient::{direction_sector, l2_round};
+        let g = DEMO.max_gradient() as i32;
+        let near = (-300..=300).collect::<Vec<i32>>();
+        let far = (-g..=g).step_by(7).chain([-g, g]).collect::<Vec<i32>>();
+        for set in [&near, &far] {
+            for &x in set.iter() {
+                for &y in set.iter() {
+                    let v = [x as i16, y as i16];
+                    assert_eq!(DemoTaps.sector(v), direction_sector(v[0], v[1]), "{v:?}");
+                    assert_eq!(DemoTaps.magnitude(v), l2_round(v[0], v[1]), "{v:?}");
+                }
             }
         }
     }
