@@ -1381,7 +1381,9 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             && taps.shift == DemoTaps.shift()
             && taps.kind == DemoTaps.kind();
         match r {
-            _ if demo => fused_row::<{ DemoTaps::RADIUS }, CAP, _>(&rows, &DemoTaps, grad, below, job),
+            _ if demo => {
+                fused_row::<{ DemoTaps::RADIUS }, CAP, _>(&rows, &DemoTaps, grad, below, job)
+            }
             1 => fused_row::<1, CAP, _>(&rows, &taps, grad, below, job),
             2 => fused_row::<2, CAP, _>(&rows, &taps, grad, below, job),
             3 => fused_row::<3, CAP, _>(&rows, &taps, grad, below, job),
