@@ -222,7 +222,13 @@ fn floor_sqrt(s: u32) -> u32 {
 pub fn l2_round(gx: i16, gy: i16) -> u16 {
     let ax = abs_sat_i16(gx) as u32;
     let ay = abs_sat_i16(gy) as u32;
-    let s = ax * ax + ay * ay;
+    round_root(ax * ax + ay * ay)
+}
+
+/// The integer nearest to `sqrt(s)` for `s <= 2 * 32767^2` (the last step of
+/// [`l2_round`], for callers that form the sum of squares themselves).
+#[inline(always)]
+pub(crate) fn round_root(s: u32) -> u16 {
     let root = floor_sqrt(s);
     // root = floor(sqrt(s)) <= 46339; round to nearest.
     sat_u16((root + u32::from(s - root * root > root)) as i32)

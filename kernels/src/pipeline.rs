@@ -131,7 +131,9 @@
 
 use crate::error::{Error, Result};
 use crate::filter::{self, Border, SeparableFilter, Taps, MAX_TAPS};
-use crate::gradient::{direction_sector, l1, l2_approx, l2_round, L2_ALPHA, L2_BETA, L2_SHIFT};
+use crate::gradient::{
+    direction_sector, l1, l2_approx, l2_round, round_root, L2_ALPHA, L2_BETA, L2_SHIFT,
+};
 use crate::hysteresis::{
     self, check_rule, code_of, CodeMap, HysteresisStats, Thresholds, NONE, U0F16,
 };
@@ -1373,15 +1375,23 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         let below = &mut cur[..w];
         let grad = &mut self.grad[..w];
         let job = classify.then_some((rows3, &mut cl));
+        let demo = r == DemoTaps::RADIUS
+            && taps.c == DemoTaps::C
+            && taps.d == DemoTaps::D
+            && taps.shift == DemoTaps.shift()
+            && taps.kind == DemoTaps.kind();
         match r {
-            1 => fused_row::<1, CAP>(&rows, &taps, grad, below, job),
-            2 => fused_row::<2, CAP>(&rows, &taps, grad, below, job),
-            3 => fused_row::<3, CAP>(&rows, &taps, grad, below, job),
-            _ => fused_row::<4, CAP>(&rows, &taps, grad, below, job),
+            _ if demo => {
+                fused_row::<{ DemoTaps::RADIUS }, CAP, _>(&rows, &DemoTaps, grad, below, job)
+            }
+            1 => fused_row::<1, CAP, _>(&rows, &taps, grad, below, job),
+            2 => fused_row::<2, CAP, _>(&rows, &taps, grad, below, job),
+            3 => fused_row::<3, CAP, _>(&rows, &taps, grad, below, job),
+            _ => fused_row::<4, CAP, _>(&rows, &taps, grad, below, job),
         }
-        self.stored = cl.stored;
-        self.candidates += cl.candidates;
-        let counted = cl.counted;
+        self.stored = cl.n.stored;
+        self.candidates += cl.n.candidates;
+        let counted = cl.n.counted;
         if classify {
             self.classified = y;
         }
@@ -1449,9 +1459,9 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             self.stored,
         );
         cl.row(&rows3, &below[..w], &self.grad[..w]);
-        self.stored = cl.stored;
-        self.candidates += cl.candidates;
-        let counted = cl.counted;
+        self.stored = cl.n.stored;
+        self.candidates += cl.n.candidates;
+        let counted = cl.n.counted;
         self.classified = height;
         tally_classify(w as u32, counted);
     }
@@ -1784,7 +1794,7 @@ fn three<T>(m: &mut [T; 3], r: usize) -> (&mut T, &T, &T) {
     }
 }
 
-/// The fused taps of a row loop.
+/// The fused taps of a row loop, as the configuration gave them.
 struct Fused {
     c: [i32; MAX_TAPS],
     d: [i32; MAX_TAPS],
@@ -1796,6 +1806,157 @@ struct Fused {
     kind: Magnitude,
 }
 
+/// The taps, rounding and magnitude of a fused row loop, read through
+/// methods so that one loop body compiles both with the configuration's
+/// taps in memory ([`Fused`]) and with the taps of [`DEMO`] as constants
+/// ([`DemoTaps`]: the multiplies by 1 and 16 become adds and shifts, and
+/// no tap occupies a register). Both give the same integers.
+trait TapSet: SectorRule {
+    /// Cross tap `j` (`0..=2R`).
+    fn c(&self, j: usize) -> i32;
+    /// Derivative tap `j` (`0..=2R`).
+    fn d(&self, j: usize) -> i32;
+    /// Total rounding shift of both passes.
+    fn shift(&self) -> u32;
+    /// `2^(shift - 1)`, 0 for `shift = 0`.
+    fn half(&self) -> i32;
+    /// Magnitude kind.
+    fn kind(&self) -> Magnitude;
+    /// The magnitude of one gradient ([`Magnitude::of`]).
+    #[inline(always)]
+    fn magnitude(&self, g: [i16; 2]) -> u16 {
+        self.kind().of(g[0], g[1])
+    }
+}
+
+/// How the classifier finds a gradient's sector: [`direction_sector`],
+/// unless a tap set bounds its gradients so that a cheaper exact form
+/// applies ([`DemoTaps`]).
+trait SectorRule {
+    /// [`direction_sector`] of `g`.
+    #[inline(always)]
+    fn sector(&self, g: [i16; 2]) -> u8 {
+        direction_sector(g[0], g[1])
+    }
+}
+
+/// [`direction_sector`] itself (the ends of a row, any tap set).
+struct AnySector;
+
+impl SectorRule for AnySector {}
+
+impl SectorRule for Fused {}
+
+impl TapSet for Fused {
+    #[inline(always)]
+    fn c(&self, j: usize) -> i32 {
+        self.c[j]
+    }
+    #[inline(always)]
+    fn d(&self, j: usize) -> i32 {
+        self.d[j]
+    }
+    #[inline(always)]
+    fn shift(&self) -> u32 {
+        self.shift
+    }
+    #[inline(always)]
+    fn half(&self) -> i32 {
+        self.half
+    }
+    #[inline(always)]
+    fn kind(&self) -> Magnitude {
+        self.kind
+    }
+}
+
+/// The fused taps of [`DEMO`].
+const DEMO_TAPS: GradientTaps = DEMO.gradient_taps();
+
+/// [`DEMO_TAPS`] widened to the stream's `i32` tap arrays.
+const fn widen(t: [i16; MAX_TAPS]) -> [i32; MAX_TAPS] {
+    let mut out = [0i32; MAX_TAPS];
+    let mut i = 0;
+    while i < MAX_TAPS {
+        out[i] = t[i] as i32;
+        i += 1;
+    }
+    out
+}
+
+// The squares and products of [`DemoTaps`] stay below `2^31`.
+const _: () = assert!(4 * (DEMO.max_gradient() as u64).pow(2) < 1 << 31);
+
+/// The taps of [`DEMO`] as constants: a stream whose taps, shift and
+/// magnitude equal these runs [`fused_row`] with them (see
+/// [`EdgeStream::step`]).
+struct DemoTaps;
+
+impl DemoTaps {
+    const C: [i32; MAX_TAPS] = widen(DEMO_TAPS.cross);
+    const D: [i32; MAX_TAPS] = widen(DEMO_TAPS.deriv);
+    const SHIFT: u32 = DEMO_TAPS.h_shift + DEMO_TAPS.v_shift;
+    const RADIUS: usize = DEMO_TAPS.radius();
+}
+
+impl TapSet for DemoTaps {
+    #[inline(always)]
+    fn c(&self, j: usize) -> i32 {
+        Self::C[j]
+    }
+    #[inline(always)]
+    fn d(&self, j: usize) -> i32 {
+        Self::D[j]
+    }
+    #[inline(always)]
+    fn shift(&self) -> u32 {
+        Self::SHIFT
+    }
+    #[inline(always)]
+    fn half(&self) -> i32 {
+        (1i32 << Self::SHIFT) >> 1
+    }
+    #[inline(always)]
+    fn kind(&self) -> Magnitude {
+        DEMO.magnitude
+    }
+    /// [`l2_round`] with the squares of the signed values: these taps
+    /// bound `|gx|, |gy|` by [`EdgeConfig::max_gradient`] (2614), so no
+    /// value is `-32768` and the saturating absolute values change nothing.
+    #[inline(always)]
+    fn magnitude(&self, g: [i16; 2]) -> u16 {
+        let (x, y) = (g[0] as i32, g[1] as i32);
+        round_root((x * x + y * y) as u32)
+    }
+}
+
+impl SectorRule for DemoTaps {
+    /// [`direction_sector`] from the signed squares and the product, for
+    /// the same bound: with `p = |gx gy|` (`= |gx| |gy|`), `s = |gx| + |gy|`
+    /// has `s^2 = gx^2 + gy^2 + 2p` and `(|gy| - |gx|)^2 = gx^2 + gy^2 -
+    /// 2p`, so sector 0 (`s^2 < 2 gx^2`) is `gy^2 + 2p < gx^2`, and sector 2
+    /// (`|gy| > |gx|` and `(|gy| - |gx|)^2 > 2 gx^2`) is `gy^2 > gx^2 + 2p`
+    /// (which already implies `|gy| > |gx|`). Otherwise both are nonzero,
+    /// so `gx gy > 0` is `(gx > 0) == (gy > 0)`: sector 1, else 3. A zero
+    /// gradient (`s = 0`) is sector 0, as in `direction_sector`. (The
+    /// products stay below `2^31`: `|gx|, |gy| <= 2614`.)
+    #[inline(always)]
+    fn sector(&self, g: [i16; 2]) -> u8 {
+        let (x, y) = (g[0] as i32, g[1] as i32);
+        let (xx, yy, p) = (x * x, y * y, x * y);
+        let twice = 2 * p.abs();
+        if yy + twice < xx || (x | y) == 0 {
+            0
+        } else if yy > xx + twice {
+            2
+        } else if p > 0 {
+            1
+        } else {
+            3
+        }
+    }
+}
+
 /// The magnitude rows above a classified row and the row itself (`width`
 /// each; zeros stand for rows outside the image).
 struct Rows3<'a> {
@@ -1803,21 +1964,94 @@ struct Rows3<'a> {
     centre: &'a [u16],
 }
 
+/// What decides a pixel's code: thresholds, the smallest magnitude that
+/// can change anything (1 with a histogram, where every nonzero
+/// suppressed magnitude counts, else `low`), the histogram's bin shift.
+#[derive(Clone, Copy)]
+struct Rule {
+    t: Thresholds,
+    floor: u16,
+    auto: Option<u32>,
+}
+
+/// The running counts of a classified row (kept in locals by the row
+/// loops, stored back after them).
+#[derive(Clone, Copy, Default)]
+struct Counts {
+    /// Point gradients stored so far in the frame.
+    stored: usize,
+    candidates: u32,
+    /// The class word being filled (2 bits per pixel).
+    word: u32,
+    counted: u32,
+}
+
 /// Per-pixel suppression, histogram, classification, packing and point
 /// gradients of one row.
 struct Classifier<'a, const CAP: usize> {
-    t: Thresholds,
-    /// Smallest magnitude that can change anything: 1 with a histogram
-    /// (every nonzero suppressed magnitude counts), else `low`.
-    floor: u16,
-    auto: Option<u32>,
+    rule: Rule,
     hist: &'a mut [u32],
     words: &'a mut [u32],
     grads: &'a mut [[i16; 2]; CAP],
-    stored: usize,
-    candidates: u32,
-    word: u32,
-    counted: u32,
+    n: Counts,
+}
+
+/// Pixel `x` of a row: `g` its gradient; `a`, `c`, `b` the magnitudes at
+/// `x - 1 ..= x + 1` in the rows above, its own and below (`c[1]` its
+/// magnitude; the neighbours along the gradient's sector are read only
+/// when needed: most pixels stop at the floor).
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn classify_px<const CAP: usize, T: SectorRule>(
+    f: &T,
+    rule: &Rule,
+    hist: &mut [u32],
+    words: &mut [u32],
+    grads: &mut [[i16; 2]; CAP],
+    n: &mut Counts,
+    x: usize,
+    g: [i16; 2],
+    [a, c, b]: [&[u16; 3]; 3],
+) {
+    let mut code = NONE;
+    let mc = c[1];
+    if mc >= rule.floor {
+        // The rule of `nms::suppress` with the sector of
+        // `gradient::direction_sector`.
+        let (before, after) = match f.sector(g) {
+            0 => (c[0], c[2]),
+            1 => (a[0], b[2]),
+            2 => (a[1], b[1]),
+            _ => (a[2], b[0]),
+        };
+        if mc > before && mc >= after {
+            if let Some(sh) = rule.auto {
+                // The bins cover the largest magnitude (checked at
+                // configure), so the index never reaches past the last
+                // bin.
+                if let Some(c) = hist.get_mut((mc >> sh) as usize) {
+                    *c += 1;
+                }
+                n.counted += 1;
+            }
+            code = code_of(mc, &rule.t);
+            if code != NONE {
+                if let Some(slot) = grads.get_mut(n.stored) {
+                    *slot = g;
+                    n.stored += 1;
+                }
+                n.candidates += 1;
+            }
+        }
+    }
+    // Pixel `x` at bits `2 (x mod 16)`: shift in from the top, the word
+    // is complete after its 16th pixel.
+    n.word = (n.word >> 2) | ((code as u32) << 30);
+    if x % 16 == 15 {
+        if let Some(wd) = words.get_mut(x / 16) {
+            *wd = n.word;
+        }
+    }
 }
 
 impl<'a, const CAP: usize> Classifier<'a, CAP> {
@@ -1830,57 +2064,18 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
         stored: usize,
     ) -> Self {
         Self {
-            t,
-            floor: if auto.is_some() { 1 } else { t.low() },
-            auto,
+            rule: Rule {
+                t,
+                floor: if auto.is_some() { 1 } else { t.low() },
+                auto,
+            },
             hist,
             words,
             grads,
-            stored,
-            candidates: 0,
-            word: 0,
-            counted: 0,
-        }
-    }
-
-    /// Pixel `x` of the row: `g` its gradient, `mc` its magnitude,
-    /// `before`/`after` its two neighbours along the gradient's sector
-    /// (read by `nb` only when needed: most pixels stop at the floor).
-    #[inline(always)]
-    fn px(&mut self, x: usize, g: [i16; 2], mc: u16, nb: impl FnOnce(u8) -> (u16, u16)) {
-        let mut code = NONE;
-        if mc >= self.floor {
-            let [gx, gy] = g;
-            // The rule of `nms::suppress` with the sector of
-            // `gradient::direction_sector`.
-            let (before, after) = nb(direction_sector(gx, gy));
-            if mc > before && mc >= after {
-                if let Some(sh) = self.auto {
-                    // The bins cover the largest magnitude (checked at
-                    // configure), so the index never reaches past the last
-                    // bin.
-                    if let Some(c) = self.hist.get_mut((mc >> sh) as usize) {
-                        *c += 1;
-                    }
-                    self.counted += 1;
-                }
-                code = code_of(mc, &self.t);
-                if code != NONE {
-                    if let Some(slot) = self.grads.get_mut(self.stored) {
-                        *slot = g;
-                        self.stored += 1;
-                    }
-                    self.candidates += 1;
-                }
-            }
-        }
-        // Pixel `x` at bits `2 (x mod 16)`: shift in from the top, the word
-        // is complete after its 16th pixel.
-        self.word = (self.word >> 2) | ((code as u32) << 30);
-        if x % 16 == 15 {
-            if let Some(wd) = self.words.get_mut(x / 16) {
-                *wd = self.word;
-            }
+            n: Counts {
+                stored,
+                ..Counts::default()
+            },
         }
     }
 
@@ -1896,20 +2091,68 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
                 row.get(xx as usize).copied().unwrap_or(0)
             }
         };
-        let mc = r.centre.get(x).copied().unwrap_or(0);
-        self.px(x, g, mc, |sector| match sector {
-            0 => (at(r.centre, -1), at(r.centre, 1)),
-            1 => (at(r.above, -1), at(below, 1)),
-            2 => (at(r.above, 0), at(below, 0)),
-            _ => (at(r.above, 1), at(below, -1)),
-        });
+        let near = |row: &[u16]| [at(row, -1), at(row, 0), at(row, 1)];
+        let (a, c, b) = (near(r.above), near(r.centre), near(below));
+        classify_px(
+            &AnySector,
+            &self.rule,
+            self.hist,
+            self.words,
+            self.grads,
+            &mut self.n,
+            x,
+            g,
+            [&a, &c, &b],
+        );
+    }
+
+    /// Pixels `lo..hi` (`1 <= lo`, `hi + 1 <= width`) of a row whose
+    /// `below` row is complete there, with the counts in locals;
+    /// `grad[x]` is the pixel's gradient and is replaced by `fresh[x - lo]`
+    /// (the gradient of the row below, which the row loop formed).
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn span<T: TapSet>(
+        &mut self,
+        f: &T,
+        r: &Rows3<'_>,
+        below: &[u16],
+        grad: &mut [[i16; 2]],
+        fresh: &[[i16; 2]],
+        lo: usize,
+        hi: usize,
+    ) {
+        if lo >= hi {
+            return;
+        }
+        let rule = self.rule;
+        let mut n = self.n;
+        let (hist, words, grads) = (&mut *self.hist, &mut *self.words, &mut *self.grads);
+        let (a, c, b) = (
+            &r.above[lo - 1..hi + 1],
+            &r.centre[lo - 1..hi + 1],
+            &below[lo - 1..hi + 1],
+        );
+        let cells = a
+            .windows(3)
+            .zip(c.windows(3))
+            .zip(b.windows(3))
+            .zip(grad[lo..hi].iter_mut().zip(&fresh[..hi - lo]));
+        for (x, (((a, c), b), (g, new))) in (lo..hi).zip(cells) {
+            let held = core::mem::replace(g, *new);
+            // `windows(3)` gives 3 elements: the conversions cannot fail.
+            if let (Ok(a), Ok(c), Ok(b)) = (a.try_into(), c.try_into(), b.try_into()) {
+                classify_px(f, &rule, hist, words, grads, &mut n, x, held, [a, c, b]);
+            }
+        }
+        self.n = n;
     }
 
     /// Stores the last, partial word of a row of `w` pixels.
     fn close(&mut self, w: usize) {
         if w % 16 != 0 {
             if let Some(wd) = self.words.get_mut(w / 16) {
-                *wd = self.word >> (2 * (16 - w % 16));
+                *wd = self.n.word >> (2 * (16 - w % 16));
             }
         }
     }
@@ -1951,13 +2194,13 @@ fn tally_classify(n: u32, counted: u32) {
 /// are regrouped, not changed, so they equal the whole-frame filter's
 /// column sums exactly.
 #[inline(always)]
-fn column<const R: usize>(rows: &[&[u8]; RING_ROWS], f: &Fused, x: usize) -> [i32; 2] {
-    let mut s = f.c[R] * rows[R][x] as i32;
+fn column<const R: usize, T: TapSet>(rows: &[&[u8]; RING_ROWS], f: &T, x: usize) -> [i32; 2] {
+    let mut s = f.c(R) * rows[R][x] as i32;
     let mut d = 0i32;
     for k in 1..=R {
         let (a, b) = (rows[R - k][x] as i32, rows[R + k][x] as i32);
-        s += f.c[R + k] * (a + b);
-        d += f.d[R + k] * (b - a);
+        s += f.c(R + k) * (a + b);
+        d += f.d(R + k) * (b - a);
     }
     [s, d]
 }
@@ -1967,16 +2210,19 @@ fn column<const R: usize>(rows: &[&[u8]; RING_ROWS], f: &Fused, x: usize) -> [i3
 /// derivative sums, each rounded once by `sat_i16(round_shift(acc,
 /// shift))`.
 #[inline(always)]
-fn gradient_at<const R: usize>(win: &[[i32; 2]], f: &Fused) -> [i16; 2] {
-    let (mut ax, mut ay) = (0i32, f.c[R] * win[R][1]);
+fn gradient_at<const R: usize, T: TapSet>(win: &[[i32; 2]], f: &T) -> [i16; 2] {
+    let (mut ax, mut ay) = (0i32, f.c(R) * win[R][1]);
     for k in 1..=R {
-        ax += f.d[R + k] * (win[R + k][0] - win[R - k][0]);
-        ay += f.c[R + k] * (win[R + k][1] + win[R - k][1]);
+        ax += f.d(R + k) * (win[R + k][0] - win[R - k][0]);
+        ay += f.c(R + k) * (win[R + k][1] + win[R - k][1]);
     }
     // `sat_i16` written as a clamp, the form the Arm back end turns into
     // one saturating instruction.
     let sat = |v: i32| v.clamp(i16::MIN as i32, i16::MAX as i32) as i16;
-    [sat((ax + f.half) >> f.shift), sat((ay + f.half) >> f.shift)]
+    [
+        sat((ax + f.half()) >> f.shift()),
+        sat((ay + f.half()) >> f.shift()),
+    ]
 }
 
 /// The row a fused loop classifies: the magnitude rows above it and its
@@ -1986,43 +2232,54 @@ type RowAbove<'a, 'c, const CAP: usize> = (Rows3<'a>, &'a mut Classifier<'c, CAP
 /// Columns whose sums one chunk of a fused row holds (on the stack).
 const CHUNK: usize = 64;
 
-/// The column sums of columns `x0 - R .. x0 + n + R` (clamped into the row)
-/// into `buf`; the whole row is `rows[j].len()` wide.
+/// The column sums of columns `start .. start + buf.len()`, each clamped
+/// into the row (`rows[j].len()` wide, at least 1): the columns inside
+/// the row by a loop without bounds tests (every row sliced to them),
+/// those outside as copies of the first or last column's sums.
 #[inline(always)]
-fn chunk_columns<const R: usize>(
+fn fill_columns<const R: usize, T: TapSet>(
     rows: &[&[u8]; RING_ROWS],
-    f: &Fused,
-    x0: usize,
-    n: usize,
+    f: &T,
+    start: isize,
     buf: &mut [[i32; 2]],
 ) {
-    let last = rows[R].len() - 1;
-    let m = n + 2 * R;
-    let buf = &mut buf[..m];
-    if x0 >= R && x0 + n + R <= last + 1 {
-        for (i, c) in buf.iter_mut().enumerate() {
-            *c = column::<R>(rows, f, x0 - R + i);
+    let w = rows[R].len() as isize;
+    let end = start + buf.len() as isize;
+    // Inside: columns `lo..hi` at `buf[lo - start..hi - start]`.
+    let (lo, hi) = (start.clamp(0, w), end.clamp(0, w));
+    if lo < hi {
+        let (s, m) = (lo as usize, (hi - lo) as usize);
+        let span: [&[u8]; RING_ROWS] = core::array::from_fn(|j| &rows[j][s..s + m]);
+        let at = (lo - start) as usize;
+        for (i, c) in buf[at..at + m].iter_mut().enumerate() {
+            *c = column::<R, T>(&span, f, i);
         }
-    } else {
-        for (i, c) in buf.iter_mut().enumerate() {
-            let xx = (x0 + i).saturating_sub(R).min(last);
-            *c = column::<R>(rows, f, xx);
-        }
+    }
+    let left = ((lo.max(start) - start) as usize).min(buf.len());
+    let right = ((hi.max(start) - start) as usize).min(buf.len());
+    if left > 0 {
+        let first = column::<R, T>(rows, f, 0);
+        buf[..left].fill(first);
+    }
+    if right < buf.len() {
+        let last = column::<R, T>(rows, f, w as usize - 1);
+        buf[right..].fill(last);
     }
 }
 
-/// One fused row, chunk by chunk of [`CHUNK`] columns: first the column
+/// One fused row, chunk by chunk of [`CHUNK`] pixels: first the column
 /// sums of the chunk and `R` columns on either side (columns outside the
-/// row clamp to its ends, the clamped border) into a stack buffer; then,
-/// per pixel, `gx, gy` from the `2R + 1` column sums around it and the
-/// magnitude into `mag`; with `classify`, the row above is suppressed and
-/// classified one pixel behind (its neighbours below are the magnitudes
-/// just formed), reading its gradient from `grad` before the new one
-/// replaces it.
+/// row clamp to its ends, the clamped border) into a stack buffer (the
+/// `2R` columns two chunks share are moved, not summed again); then, per
+/// pixel, `gx, gy` from the `2R + 1` column sums around it into a second
+/// stack buffer and the magnitude into `mag`. With `classify`, the row
+/// above is then suppressed and classified over the chunk one pixel
+/// behind (its neighbours below are the magnitudes just formed), reading
+/// its gradient from `grad` before the new one replaces it.
 #[inline(always)]
-fn fused_row<const R: usize, const CAP: usize>(
+fn fused_row<const R: usize, const CAP: usize, T: TapSet>(
     rows: &[&[u8]; RING_ROWS],
-    f: &Fused,
+    f: &T,
     grad: &mut [[i16; 2]],
     mag: &mut [u16],
     mut classify: Option<RowAbove<'_, '_, CAP>>,
@@ -2034,36 +2291,45 @@ fn fused_row<const R: usize, const CAP: usize>(
     let grad = &mut grad[..w];
     let rows: [&[u8]; RING_ROWS] = core::array::from_fn(|j| &rows[j][..w]);
     let mut buf = [[0i32; 2]; CHUNK + 2 * (MAX_TAPS / 2)];
-    // `held`: the gradient of pixel `x - 1` of the row above.
-    let mut held = [0i16; 2];
-    let mut x0 = 0;
+    // `fresh[0]`: the new gradient of pixel `x0 - 1` (not stored yet: the
+    // row above still needs the old one there); `fresh[1 + i]`: of pixel
+    // `x0 + i`.
+    let mut fresh = [[0i16; 2]; CHUNK + 1];
+    let (mut x0, mut prev) = (0, 0);
     while x0 < w {
         let n = CHUNK.min(w - x0);
-        chunk_columns::<R>(&rows, f, x0, n, &mut buf);
-        for (i, win) in buf[..n + 2 * R].windows(2 * R + 1).enumerate() {
-            let x = x0 + i;
-            let g = gradient_at::<R>(win, f);
-            mag[x] = f.kind.of(g[0], g[1]);
-            let older = core::mem::replace(&mut grad[x], g);
-            if let Some((r, cl)) = classify.as_mut() {
-                if x >= 2 {
-                    let (a, c, b) = (&r.above[x - 2..=x], &r.centre[x - 2..=x], &mag[x - 2..=x]);
-                    cl.px(x - 1, held, c[1], |sector| match sector {
-                        0 => (c[0], c[2]),
-                        1 => (a[0], b[2]),
-                        2 => (a[1], b[1]),
-                        _ => (a[2], b[0]),
-                    });
-                } else if x == 1 {
-                    cl.px_edge(0, held, r, mag);
-                }
-            }
-            held = older;
+        if x0 == 0 {
+            fill_columns::<R, T>(&rows, f, -(R as isize), &mut buf[..n + 2 * R]);
+        } else {
+            buf.copy_within(prev..prev + 2 * R, 0);
+            fill_columns::<R, T>(&rows, f, (x0 + R) as isize, &mut buf[2 * R..n + 2 * R]);
         }
+        let out = mag[x0..x0 + n].iter_mut().zip(&mut fresh[1..n + 1]);
+        for (win, (m, g)) in buf[..n + 2 * R].windows(2 * R + 1).zip(out) {
+            let gg = gradient_at::<R, T>(win, f);
+            *m = f.magnitude(gg);
+            *g = gg;
+        }
+        match classify.as_mut() {
+            Some((r, cl)) => {
+                if x0 == 0 && n >= 2 {
+                    cl.px_edge(0, grad[0], r, mag);
+                    grad[0] = fresh[1];
+                }
+                // Pixels `max(x0 - 1, 1) ..= x0 + n - 2`.
+                let lo = x0.max(2) - 1;
+                let hi = x0 + n - 1;
+                cl.span(f, r, mag, grad, &fresh[lo + 1 - x0..], lo, hi);
+            }
+            None => grad[x0..x0 + n].copy_from_slice(&fresh[1..n + 1]),
+        }
+        fresh[0] = fresh[n];
+        prev = n;
         x0 += n;
     }
     if let Some((r, cl)) = classify {
-        cl.px_edge(w - 1, held, &r, mag);
+        cl.px_edge(w - 1, grad[w - 1], &r, mag);
+        grad[w - 1] = fresh[0];
         cl.close(w);
     }
 }
@@ -2759,6 +3025,26 @@ mod tests {
                     b.points().unwrap().collect::<Vec<_>>());
             } else {
                 prop_assert!(b.report().is_some());
+            }
+        }
+    }
+
+    /// The demo tap set's sector and magnitude (signed squares) against
+    /// `direction_sector` and `l2_round`: every gradient up to 300 and a
+    /// stride-7 grid up to the bound 2614 with both signs.
+    #[test]
+    fn demo_sector_and_magnitude_are_the_general_ones() {
+        use crate::gradient::{direction_sector, l2_round};
+        let g = DEMO.max_gradient() as i32;
+        let near = (-300..=300).collect::<Vec<i32>>();
+        let far = (-g..=g).step_by(7).chain([-g, g]).collect::<Vec<i32>>();
+        for set in [&near, &far] {
+            for &x in set.iter() {
+                for &y in set.iter() {
+                    let v = [x as i16, y as i16];
+                    assert_eq!(DemoTaps.sector(v), direction_sector(v[0], v[1]), "{v:?}");
+                    assert_eq!(DemoTaps.magnitude(v), l2_round(v[0], v[1]), "{v:?}");
+                }
             }
         }
     }
