@@ -981,23 +981,41 @@ fn lens_case(r: &mut ChaCha8Rng, demo: &str) -> Outcome {
 fn lines_case(r: &mut ChaCha8Rng) -> Outcome {
     use crate::lines::model::{model_cells, peak_winners};
     use fixsight::lines::{Accumulator, EdgeRow, Peak, PeakParams, VoteParams};
-    let s = r.random_range(6u32..=15);
-    let max_bins = (65536usize >> s.min(16)).min(48);
-    let p = VoteParams {
-        width: r.random_range(0usize..40),
-        height: r.random_range(0usize..30),
-        theta_start: if r.random_range(0..8) == 0 {
-            r.random()
-        } else {
-            r.random_range(0..1 << 17)
-        },
-        theta_step_log2: s,
-        theta_bins: r.random_range(0..=max_bins + 1),
-        rho_step_log2: r.random_range(0u32..=9),
-        rho_bins: r.random_range(0usize..130),
-        trig_frac_bits: r.random_range(6u32..=16),
-        gate: r.random::<bool>().then(|| r.random()),
-        weight_shift: r.random::<bool>().then(|| r.random_range(0u32..18)),
+    // Three cases in four inside the documented ranges (so that the model
+    // comparison runs), one in four anywhere near or past them.
+    let wide = r.random_range(0..4) == 0;
+    let s = if wide {
+        r.random_range(6u32..=15)
+    } else {
+        r.random_range(7u32..=14)
+    };
+    let max_bins = (65536usize >> s).min(48);
+    let p = if wide {
+        VoteParams {
+            width: r.random_range(0usize..40),
+            height: r.random_range(0usize..30),
+            theta_start: r.random(),
+            theta_step_log2: s,
+            theta_bins: r.random_range(0..=max_bins + 1),
+            rho_step_log2: r.random_range(0u32..=9),
+            rho_bins: r.random_range(0usize..130),
+            trig_frac_bits: r.random_range(6u32..=16),
+            gate: r.random::<bool>().then(|| r.random()),
+            weight_shift: r.random::<bool>().then(|| r.random_range(0u32..18)),
+        }
+    } else {
+        VoteParams {
+            width: r.random_range(1usize..40),
+            height: r.random_range(1usize..30),
+            theta_start: r.random_range(0..1 << 17),
+            theta_step_log2: s,
+            theta_bins: r.random_range(1..=max_bins),
+            rho_step_log2: r.random_range(0u32..=8),
+            rho_bins: 2 * r.random_range(0usize..60) + 1,
+            trig_frac_bits: r.random_range(8u32..=14),
+            gate: r.random::<bool>().then(|| r.random_range(1u16..20000)),
+            weight_shift: r.random::<bool>().then(|| r.random_range(0u32..6)),
+        }
     };
     let n = p.width * p.height;
     let density = r.random_range(0u32..60);
@@ -1305,16 +1323,26 @@ fn pipeline_case(r: &mut ChaCha8Rng) -> Outcome {
     ];
     const MAG: [&str; 3] = ["l1", "l2_approx", "l2_round"];
     const THIN: [&str; 3] = ["off", "until_stable", "at_most"];
-    p.smoothing = SMOOTH[r.random_range(0..SMOOTH.len())].into();
     p.operator = ["sobel", "scharr"][r.random_range(0..2)].into();
-    p.frac_bits = r.random_range(0..8);
     p.magnitude = MAG[r.random_range(0..3)].into();
     p.thresholds = ["fixed", "auto"][r.random_range(0..2)].into();
-    p.low = r.random_range(0..300);
-    p.high = r.random_range(0..600);
-    p.shift = r.random_range(0..6);
-    p.high_permille = r.random_range(0..1100);
     p.low_ratio_u0f16 = r.random();
+    // Three cases in four inside the documented ranges, one anywhere.
+    if r.random_range(0..4) == 0 {
+        p.smoothing = SMOOTH[r.random_range(0..SMOOTH.len())].into();
+        p.frac_bits = r.random_range(0..8);
+        p.low = r.random_range(0..300);
+        p.high = r.random_range(0..600);
+        p.shift = r.random_range(0..6);
+        p.high_permille = r.random_range(0..1100);
+    } else {
+        p.smoothing = SMOOTH[r.random_range(0..SMOOTH.len() - 1)].into();
+        p.frac_bits = r.random_range(0..3);
+        p.low = r.random_range(1..200);
+        p.high = p.low + r.random_range(0..300);
+        p.shift = r.random_range(0..4);
+        p.high_permille = r.random_range(1..1000);
+    }
     p.thinning = THIN[r.random_range(0..3)].into();
     p.thinning_cap = r.random_range(0..5);
     let cfg = match config_of(&p) {
