@@ -2068,7 +2068,9 @@ fn fused_row<const R: usize, const CAP: usize>(
     }
 }
 
+pub mod image_job;
 mod point_job;
+pub use image_job::{DemoImageJobQvga, DemoImageJobVga, ImageJob, ImageJobConfig};
 pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME};
 
 /// The whole job in point mode: camera rows in; at the end of the frame
