@@ -67,7 +67,7 @@
 //! output is wider or higher than the job's buffers or not the vote frame:
 //! each is a typed error, and a rejected call leaves the job as it was.
 
-use super::{JobReport, PointJob, PointJobConfig, EDGES_PER_FRAME};
+use super::{ImageJob, JobReport, PointJob, PointJobConfig, EDGES_PER_FRAME};
 use crate::error::{Error, Result};
 use crate::filter::Border;
 use crate::image::ImageViewMut;
@@ -108,53 +108,6 @@ impl ImageJobConfig {
         job: PointJobConfig::DEMO_QVGA,
         border: Border::Clamp,
     };
-}
-
-/// The whole job in image mode (module docs of
-/// [`crate::pipeline::image_job`](self)): camera rows in, remapped through
-/// the lens grid row by row into the edge stage; at the end of the frame
-/// line votes, peaks, the tape's two edges, tracks and the drift warning
-/// out.
-///
-/// > **Not a safety function** (see the module docs).
-///
-/// The const parameters are [`PointJob`]'s, for the **corrected** frame
-/// (`W` at least the grid's output width). `'a` is the life of the grid's
-/// points and of the caller's ring of source rows.
-///
-/// ```
-/// use fixsight::pipeline::{DemoImageJobQvga, ImageJob, ImageJobConfig};
-/// use fixsight::warp::{ControlGrid, WarpGeometry};
-/// // An identity grid at 320 x 240 (step 16, F = 5) stands in for a lens.
-/// let geom = WarpGeometry::new(320, 240, 320, 240, 5)?;
-/// let pts: Vec<i32> = (0..16).flat_map(|j| (0..21).flat_map(move |i| [i * 512, j * 512])).collect();
-/// let grid = ControlGrid::new(&pts, geom, 4)?;
-/// let mut ring = vec![0u8; DemoImageJobQvga::ring_bytes(&grid)?];
-/// let mut job: Box<DemoImageJobQvga> = Box::default();
-/// job.configure(&ImageJobConfig::DEMO_QVGA, grid, &mut ring)?;
-/// // Two parallel vertical edges: lines, no tape.
-/// let row: [u8; 320] = core::array::from_fn(|x| if (150..170).contains(&x) { 220 } else { 60 });
-/// for _ in 0..240 { job.push_row(&row)?; }
-/// let r = job.finish()?;
-/// assert_eq!((r.frame, r.peaks, r.outside), (0, 2, 0));
-/// # Ok::<(), fixsight::Error>(())
-/// ```
-#[derive(Debug)]
-pub struct ImageJob<
-    'a,
-    const W: usize,
-    const MAP_WORDS: usize,
-    const BINS: usize,
-    const CAP: usize,
-    const T: usize,
-    const R: usize,
-    const K: usize,
-    const N: usize,
-> {
-    remap: Option<GridStream<'a, 'a>>,
-    /// Camera rows per frame (the grid's source height).
-    src_height: usize,
-    job: PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>,
 }
 
 /// The demo job at 320 x 240: [`super::DemoPointJobQvga`]'s stages behind
