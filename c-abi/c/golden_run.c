@@ -949,7 +949,7 @@ static const struct {
  * are listed ("later" lines) and not counted (the list ends with a NULL);
  * a kernel id that lands on main before its C functions goes here and in
  * LATER of tests/host_c.rs. */
-static const char *const LATER[] = {"pipeline.point_job", "warp.grid_stream", 0};
+static const char *const LATER[] = {"pipeline.point_job", "pipeline.image_job", "warp.grid_stream", 0};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; LATER[i]; i++)

@@ -46,13 +46,11 @@
 //! for `pipeline.point_job` (the `outside` word is always 0).
 
 use super::job::{
-    compare_runs, frame_record, job_config, outcome, run_f64_with, FixedRun, JobParams,
+    compare_runs, frame_record, job_config, outcome, run_f64_with, run_frames, FixedRun, JobParams,
     RECORD_WORDS_PER_FRAME, VECTOR_PEAKS, VECTOR_TRACKS,
 };
-use crate::contract::{Contract, KernelFamily, KernelReport};
+use crate::contract::KernelReport;
 use crate::golden::{Blob, GoldenCase};
-use crate::metrics::ErrorStats;
-use crate::opcount::{measure, OpsPerPx};
 use crate::sequence::{Sequence, SequenceSpec, DEMO_SEQUENCE};
 use crate::warp::grid::build_grid;
 use crate::warp::reference::{bilinear_f64, exact_map};
@@ -96,25 +94,13 @@ pub fn run_fixed(frames: &[Vec<u8>], grid: ControlGrid<'_>) -> Result<FixedRun, 
     let mut ring = vec![0u8; DemoImageJobQvga::ring_bytes(&grid).map_err(e)?];
     let mut job: Box<DemoImageJobQvga> = Box::default();
     job.configure(&cfg, grid, &mut ring).map_err(e)?;
-    let (mut out, mut records) = (Vec::new(), Vec::new());
-    let (res, ops) = measure(w * h * frames.len(), || -> Result<(), String> {
-        for img in frames {
-            for r in img.chunks_exact(w) {
-                job.push_row(r).map_err(e)?;
-            }
-            let rep = job.finish().map_err(e)?;
-            let tr = job.tracker().ok_or("no tracker")?;
-            let (frame, record) = outcome(rep, job.peaks(), job.lines(), tr);
-            out.push(frame);
-            records.push(record);
+    run_frames(frames, w * h, &mut |img| {
+        for r in img.chunks_exact(w) {
+            job.push_row(r).map_err(e)?;
         }
-        Ok(())
-    });
-    res?;
-    Ok(FixedRun {
-        frames: out,
-        records,
-        ops,
+        let rep = job.finish().map_err(e)?;
+        let tr = job.tracker().ok_or("no tracker")?;
+        Ok(outcome(rep, job.peaks(), job.lines(), tr))
     })
 }
 
@@ -237,21 +223,7 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
 
 /// The report row on the demo sequence.
 pub fn check_image() -> KernelReport {
-    match image_row(&DEMO_SEQUENCE) {
-        Ok(r) => r,
-        Err(why) => {
-            let mut r = KernelReport::from_stats(
-                IMAGE_KERNEL,
-                KernelFamily::Pipeline,
-                Contract::BitExact,
-                0.0,
-                &ErrorStats::compare(&[1.0], &[0.0], 1.0),
-                OpsPerPx::default(),
-            );
-            r.fail(why);
-            r
-        }
-    }
+    super::job::row_or_failure(IMAGE_KERNEL, image_row(&DEMO_SEQUENCE))
 }
 
 /// The golden vectors' image job (the harness's): [`super::job::VectorJob`]
@@ -308,13 +280,7 @@ pub fn run_image_vector(params: &serde_json::Value, inputs: &[Blob]) -> Result<V
 /// demo gate; and step 8 without a gate.
 pub fn image_golden_cases() -> Vec<GoldenCase> {
     let (w, h) = (80usize, 60usize);
-    let spec = SequenceSpec {
-        width: w,
-        height: h,
-        ..DEMO_SEQUENCE
-    };
-    let seq = Sequence::new(&spec).expect("the demo sequence at 80 x 60");
-    let (base, frames_blob) = super::job::quarter_case();
+    let (seq, base, frames_blob) = super::job::quarter_case();
     let run = |_: &str, p: &serde_json::Value, i: &[Blob]| run_image_vector(p, i);
     let mut v = Vec::new();
     for (k, gated, name) in [
@@ -364,7 +330,7 @@ mod tests {
         assert_eq!(cases.len(), 2);
         for c in &cases {
             let again = run_image_vector(&c.params, &c.inputs).unwrap();
-            assert_eq!(again, c.outputs, "{}", c.id);
+            assert_eq!(again, c.expected, "{}", c.id);
             // Some frame found lines.
             let rec = again[0].to_i32().unwrap();
             assert!(

@@ -166,18 +166,32 @@ pub fn run_fixed(frames: &[Vec<u8>], grid: &ControlGrid<'_>) -> Result<FixedRun,
     let mut job: Box<DemoPointJobQvga> = Box::default();
     let (w, h) = (cfg.vote.width, cfg.vote.height);
     job.configure(&cfg, w, h).map_err(e)?;
-    let mut out = Vec::new();
-    let mut records = Vec::new();
-    let (res, ops) = measure(w * h * frames.len(), || -> Result<(), String> {
+    run_frames(frames, w * h, &mut |img| {
+        for r in img.chunks_exact(w) {
+            job.push_row(r).map_err(e)?;
+        }
+        let rep = job.finish(Some(grid)).map_err(e)?;
+        let tr = job.tracker().ok_or("no tracker")?;
+        Ok(outcome(rep, job.peaks(), job.lines(), tr))
+    })
+}
+
+/// One frame through a job: its outcome and record.
+pub type FrameStep<'a> = dyn FnMut(&[u8]) -> Result<(JobFrame, FrameRecord), String> + 'a;
+
+/// Runs `frame` on every frame (of `px` pixels) inside one operation
+/// count and collects the outcomes and records.
+pub fn run_frames(
+    frames: &[Vec<u8>],
+    px: usize,
+    frame: &mut FrameStep<'_>,
+) -> Result<FixedRun, String> {
+    let (mut out, mut records) = (Vec::new(), Vec::new());
+    let (res, ops) = measure(px * frames.len(), || -> Result<(), String> {
         for img in frames {
-            for r in img.chunks_exact(w) {
-                job.push_row(r).map_err(e)?;
-            }
-            let rep = job.finish(Some(grid)).map_err(e)?;
-            let tr = job.tracker().ok_or("no tracker")?;
-            let (frame, record) = outcome(rep, job.peaks(), job.lines(), tr);
-            out.push(frame);
-            records.push(record);
+            let (f, r) = frame(img)?;
+            out.push(f);
+            records.push(r);
         }
         Ok(())
     });
@@ -641,21 +655,23 @@ pub fn compare_runs(
 
 /// The report row on the demo sequence.
 pub fn check_job() -> KernelReport {
-    match job_row(&DEMO_SEQUENCE) {
-        Ok(r) => r,
-        Err(why) => {
-            let mut r = KernelReport::from_stats(
-                JOB_KERNEL,
-                KernelFamily::Pipeline,
-                Contract::BitExact,
-                0.0,
-                &ErrorStats::compare(&[1.0], &[0.0], 1.0),
-                OpsPerPx::default(),
-            );
-            r.fail(why);
-            r
-        }
-    }
+    row_or_failure(JOB_KERNEL, job_row(&DEMO_SEQUENCE))
+}
+
+/// The row, or a failed row of `kernel` saying why there is none.
+pub fn row_or_failure(kernel: &str, row: Result<KernelReport, String>) -> KernelReport {
+    row.unwrap_or_else(|why| {
+        let mut r = KernelReport::from_stats(
+            kernel,
+            KernelFamily::Pipeline,
+            Contract::BitExact,
+            0.0,
+            &ErrorStats::compare(&[1.0], &[0.0], 1.0),
+            OpsPerPx::default(),
+        );
+        r.fail(why);
+        r
+    })
 }
 
 /// Peak slots of the golden vectors' job (and of the harness's).
@@ -889,15 +905,9 @@ fn div_round(v: i32, d: i32) -> i32 {
 /// without a grid and without a gate.
 pub fn job_golden_cases() -> Vec<GoldenCase> {
     let (w, h, first, n) = (80usize, 60usize, QUARTER_FIRST, QUARTER_FRAMES);
-    let spec = SequenceSpec {
-        width: w,
-        height: h,
-        ..DEMO_SEQUENCE
-    };
-    let seq = Sequence::new(&spec).expect("the demo sequence at 80 x 60");
+    let (seq, base, frames_blob) = quarter_case();
     let cg = build_correction_grid(seq.camera(), seq.view(), (w, h), (w, h), 2, GRID_FRAC_BITS)
         .expect("a grid for the demo lens at 80 x 60");
-    let (base, frames_blob) = quarter_case();
     let grid_blob = Blob::from_i32("grid", cg.grid.0, cg.grid.1, 2, &cg.points);
     let plain = JobParams {
         grid_log2: 0,
@@ -934,9 +944,10 @@ const QUARTER_FIRST: usize = 52;
 /// Frames of the quarter-size golden cases.
 const QUARTER_FRAMES: usize = 4;
 
-/// The params (with a step-4 point-mode grid) and the `frames` input of
-/// the quarter-size golden cases (see [`job_golden_cases`]).
-pub fn quarter_case() -> (JobParams, Blob) {
+/// The sequence at 80 x 60, the params (with a step-4 point-mode grid)
+/// and the `frames` input of the quarter-size golden cases (see
+/// [`job_golden_cases`]).
+pub fn quarter_case() -> (Sequence, JobParams, Blob) {
     let (w, h, first, n) = (80usize, 60usize, QUARTER_FIRST, QUARTER_FRAMES);
     let spec = SequenceSpec {
         width: w,
@@ -983,5 +994,5 @@ pub fn quarter_case() -> (JobParams, Blob) {
         grid_frac_bits: GRID_FRAC_BITS,
     };
     let frames_blob = Blob::from_u8("frames", w, n * h, 1, &frames);
-    (base, frames_blob)
+    (seq, base, frames_blob)
 }

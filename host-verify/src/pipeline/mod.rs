@@ -721,6 +721,14 @@ mod tests {
         assert_eq!(j.metrics["warning_frame_delta"], 0.0);
         assert!(j.metrics["first_warning_fixed"] >= 0.0);
         assert!(j.metrics["lost_frames_fixed"] < 10.0);
+        // Image mode: equal to the whole-frame warp then the point-mode job
+        // in every frame; RAM with the demo lens's ring.
+        let i = &rows[2];
+        assert_eq!(i.name, image::IMAGE_KERNEL);
+        assert!(i.pass, "{:?}", i.notes);
+        assert_eq!(i.metrics["band_rows_qvga"], 19.0);
+        assert_eq!(i.metrics["band_rows_vga"], 35.0);
+        assert!(i.metrics["first_warning_fixed"] >= 0.0);
     }
 
     #[test]
@@ -729,7 +737,7 @@ mod tests {
         for c in &cases {
             let got = run_vector(&c.kernel, &c.params, &c.inputs).unwrap();
             assert_eq!(got, c.expected, "{}", c.id);
-            if c.kernel == job::JOB_KERNEL {
+            if c.kernel == job::JOB_KERNEL || c.kernel == image::IMAGE_KERNEL {
                 let p: job::JobParams = serde_json::from_value(c.params.clone()).unwrap();
                 assert_eq!(serde_json::to_value(&p).unwrap(), c.params);
                 continue;

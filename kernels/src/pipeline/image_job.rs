@@ -519,6 +519,7 @@ mod tests {
     //! whole frames.
     extern crate std;
     use super::*;
+    use crate::pipeline::point_job::tests::frame;
     use crate::pipeline::{map_words, EdgeConfig, ThresholdRule, DEMO};
     use crate::warp::WarpGeometry;
     use crate::ImageView;
@@ -532,32 +533,6 @@ mod tests {
     type Job<'a> =
         ImageJob<'a, TW, { map_words(TW, TH) }, { DEMO.bins_needed() }, 96, 128, 61, 6, 4>;
     type Plain = PointJob<TW, { map_words(TW, TH) }, { DEMO.bins_needed() }, 96, 128, 61, 6, 4>;
-
-    /// A frame from a seed: a bright leaning band on a ramp, with noise.
-    fn frame(seed: u64, w: usize, h: usize) -> Vec<u8> {
-        let mut s = seed | 1;
-        let mut next = || {
-            s = s
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (s >> 33) as u32
-        };
-        let (x0, lean, width) = (next() % w as u32, next() % 9, 2 + next() % 9);
-        let amp = 40 + next() % 180;
-        let noise = 1 + next() % 30;
-        (0..w * h)
-            .map(|i| {
-                let (x, y) = ((i % w) as u32, (i / w) as u32);
-                let left = x0 + y * lean / 8;
-                let mut v = 20 + x / 2 + y;
-                if (left..left + width).contains(&x) {
-                    v += amp;
-                }
-                v += next() % noise;
-                v.min(255) as u8
-            })
-            .collect()
-    }
 
     /// Grid points for an `ow x oh` output over an `sw x sh` source (F =
     /// 4): the scaling between the two sizes, each point moved by up to

@@ -14,9 +14,9 @@
 //! gradients summed) so the window holds the whole stage per frame.
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
+use fixsight::filter::Border;
 use fixsight::lines::{PeakParams, VoteParams};
 use fixsight::marking::{MarkingConfig, MarkingLimits, TapeContrast};
-use fixsight::filter::Border;
 use fixsight::pipeline::{
     map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, JobReport, Magnitude, Operator,
     PointJob, PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO,
@@ -265,17 +265,7 @@ pub fn point_job(
     // SAFETY: the firmware is single-threaded and no other code touches
     // JOB; this is its only reference while the call runs.
     let job: &mut HarnessJob = unsafe { &mut *core::ptr::addr_of_mut!(JOB) };
-    let src = input(ins, 0)?;
-    let frames: usize = int(p, "frames")?;
-    let height: usize = int(p, "height")?;
-    let w = src.width;
-    let data = match &src.buf {
-        Buf::U8(d) => &**d,
-        _ => return Err(Fail::Harness("frames must be u8")),
-    };
-    if frames == 0 || src.height != frames * height {
-        return Err(Fail::Harness("frames and height do not fit the input"));
-    }
+    let (data, w, frames, height) = job_frames(p, ins)?;
     let cfg = job_config(p, w, height)?;
     let grid_log2: u32 = int(p, "grid_log2")?;
     let grid = if grid_log2 == 0 {
@@ -303,6 +293,21 @@ pub fn point_job(
         put_record(job, &r, rec)?;
     }
     Ok(())
+}
+
+/// The stacked frames of a job vector: the bytes, width, frames, height.
+fn job_frames<'a>(p: &Params, ins: &'a [Img<'_>]) -> Result<(&'a [u8], usize, usize, usize), Fail> {
+    let src = input(ins, 0)?;
+    let frames: usize = int(p, "frames")?;
+    let height: usize = int(p, "height")?;
+    let data = match &src.buf {
+        Buf::U8(d) => &**d,
+        _ => return Err(Fail::Harness("frames must be u8")),
+    };
+    if frames == 0 || src.height != frames * height {
+        return Err(Fail::Harness("frames and height do not fit the input"));
+    }
+    Ok((data, src.width, frames, height))
 }
 
 /// One frame's record (layout in `host-verify/src/pipeline/job.rs`).
@@ -395,17 +400,7 @@ pub fn image_job(
     let ring: &'static mut [u8; RING_BYTES] = unsafe { &mut *core::ptr::addr_of_mut!(RING) };
     // SAFETY: see above; the job holds no reference to GRID now.
     let grid_store: &'static mut [i32; GRID_WORDS] = unsafe { &mut *core::ptr::addr_of_mut!(GRID) };
-    let src = input(ins, 0)?;
-    let frames: usize = int(p, "frames")?;
-    let height: usize = int(p, "height")?;
-    let w = src.width;
-    let data = match &src.buf {
-        Buf::U8(d) => &**d,
-        _ => return Err(Fail::Harness("frames must be u8")),
-    };
-    if frames == 0 || src.height != frames * height {
-        return Err(Fail::Harness("frames and height do not fit the input"));
-    }
+    let (data, w, frames, height) = job_frames(p, ins)?;
     let cfg = ImageJobConfig {
         job: job_config(p, w, height)?,
         border: Border::Clamp,
@@ -436,4 +431,3 @@ pub fn image_job(
     }
     Ok(())
 }
-
