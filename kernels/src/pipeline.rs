@@ -2235,7 +2235,7 @@ pub type DemoPointJobVga = PointJob<
 >;
 
 /// The whole job in image mode (rules, integer model and memory in the
-/// module docs of [`image_job`]): camera rows in, remapped through
+/// module docs of [`image_job`]): camera rows in, warped through
 /// the lens grid row by row into the edge stage; at the end of the frame
 /// line votes, peaks, the tape's two edges, tracks and the drift warning
 /// out.
@@ -2275,7 +2275,7 @@ pub struct ImageJob<
     const K: usize,
     const N: usize,
 > {
-    remap: Option<crate::warp::GridStream<'a, 'a>>,
+    warp: Option<crate::warp::GridStream<'a, 'a>>,
     /// Camera rows per frame (the grid's source height).
     src_height: usize,
     job: PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>,

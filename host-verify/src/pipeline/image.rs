@@ -141,10 +141,10 @@ pub fn composed_differences(
     Ok(diffs)
 }
 
-/// The `f64` remap of a camera frame: the bilinear value at the exact
+/// The `f64` warp of a camera frame: the bilinear value at the exact
 /// lens coordinate of every corrected pixel, clamped border, rounded to
 /// 8 bits.
-fn remap_f64(img: &[u8], map: &[(f64, f64)], w: usize, h: usize) -> Vec<u8> {
+fn warp_f64(img: &[u8], map: &[(f64, f64)], w: usize, h: usize) -> Vec<u8> {
     map.iter()
         .map(|&(sx, sy)| {
             bilinear_f64(img, w, h, 1, 0, sx, sy, Border::Clamp)
@@ -179,8 +179,8 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let mut pr = composed_differences(&frames, &grid, &fixed)?;
     let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
     let map = exact_map(seq.camera(), seq.view(), w, h);
-    let remapped: Vec<Vec<u8>> = frames.iter().map(|f| remap_f64(f, &map, w, h)).collect();
-    let reference = run_f64_with(&remapped, &thresholds, &|x, y| Some((x, y)));
+    let warped: Vec<Vec<u8>> = frames.iter().map(|f| warp_f64(f, &map, w, h)).collect();
+    let reference = run_f64_with(&warped, &thresholds, &|x, y| Some((x, y)));
     let mut row = compare_runs(
         IMAGE_KERNEL,
         spec,
@@ -195,7 +195,7 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
                  truth figures in metrics",
                 spec.name, spec.frames, w, h
             ),
-            "ops per pixel per frame: the whole job (row-streamed remap, edge stage, gate bytes, \
+            "ops per pixel per frame: the whole job (row-streamed warp, edge stage, gate bytes, \
              votes, peaks, marking, tracker)"
                 .into(),
         ],
@@ -227,7 +227,7 @@ pub fn check_image() -> KernelReport {
 }
 
 /// The golden vectors' image job (the harness's): [`super::job::VectorJob`]
-/// behind the remap.
+/// behind the warp.
 pub type VectorImageJob<'a> =
     ImageJob<'a, 320, { map_words(320, 240) }, 1024, 4096, 32, 255, VECTOR_PEAKS, VECTOR_TRACKS>;
 
@@ -300,7 +300,7 @@ pub fn image_golden_cases() -> Vec<GoldenCase> {
             run,
             &format!("{IMAGE_KERNEL}.{name}"),
             format!(
-                "the point mode's 80x60 frames remapped row by row through the demo lens's \
+                "the point mode's 80x60 frames warped row by row through the demo lens's \
                  undistortion grid (step {}, F = {IMAGE_GRID_FRAC_BITS}, clamped border); {}",
                 1 << k,
                 if gated {

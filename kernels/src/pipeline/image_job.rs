@@ -1,4 +1,4 @@
-//! The whole job in image mode ([`ImageJob`]): camera rows are remapped
+//! The whole job in image mode ([`ImageJob`]): camera rows are warped
 //! through the lens grid first, row by row, and the corrected rows go
 //! through the same edge and line stages as in point mode.
 //!
@@ -78,7 +78,7 @@ use crate::warp::{ControlGrid, GridStream};
 
 /// Every setting of the image-mode job: the point-mode job's settings
 /// (edge stage, votes, peaks, marking, tracker; its vote frame is the
-/// grid's output frame) and the remap's border rule.
+/// grid's output frame) and the warp's border rule.
 ///
 /// ```
 /// use fixsight::pipeline::{ImageJobConfig, PointJobConfig};
@@ -88,7 +88,7 @@ use crate::warp::{ControlGrid, GridStream};
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct ImageJobConfig {
-    /// The stages after the remap ([`PointJobConfig`]).
+    /// The stages after the warp ([`PointJobConfig`]).
     pub job: PointJobConfig,
     /// Source pixels outside the camera frame ([`Border`], the rule of
     /// [`crate::warp`]).
@@ -111,7 +111,7 @@ impl ImageJobConfig {
 }
 
 /// The demo job at 320 x 240: [`super::DemoPointJobQvga`]'s stages behind
-/// the remap.
+/// the warp.
 ///
 /// ```
 /// assert_eq!(fixsight::pipeline::DemoImageJobQvga::ram_bytes(), 48_680);
@@ -129,7 +129,7 @@ pub type DemoImageJobQvga<'a> = ImageJob<
 >;
 
 /// The demo job at 640 x 480: [`super::DemoPointJobVga`]'s stages behind
-/// the remap.
+/// the warp.
 ///
 /// ```
 /// assert_eq!(fixsight::pipeline::DemoImageJobVga::ram_bytes(), 138_728);
@@ -182,7 +182,7 @@ impl<
     /// ```
     pub const fn new() -> Self {
         Self {
-            remap: None,
+            warp: None,
             src_height: 0,
             job: PointJob::new(),
         }
@@ -259,15 +259,15 @@ impl<
                 got: vote,
             });
         }
-        let remap = GridStream::new(grid, ring, 1, 1, cfg.border)?;
+        let warp = GridStream::new(grid, ring, 1, 1, cfg.border)?;
         self.job.configure(&cfg.job, out.0, out.1)?;
-        self.remap = Some(remap);
+        self.warp = Some(warp);
         self.src_height = g.src_height();
         Ok(())
     }
 
-    fn remap(&mut self) -> Result<&mut GridStream<'a, 'a>> {
-        self.remap.as_mut().ok_or(Error::StreamOrder {
+    fn warp(&mut self) -> Result<&mut GridStream<'a, 'a>> {
+        self.warp.as_mut().ok_or(Error::StreamOrder {
             reason: "image job used before configure",
         })
     }
@@ -279,7 +279,7 @@ impl<
     /// assert_eq!(j.rows_pushed(), 0);
     /// ```
     pub fn rows_pushed(&self) -> usize {
-        self.remap.as_ref().map_or(0, |s| s.rows_pushed())
+        self.warp.as_ref().map_or(0, |s| s.rows_pushed())
     }
 
     /// Corrected rows handed to the edge stage in the frame in progress.
@@ -316,7 +316,7 @@ impl<
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn push_row(&mut self, row: &[u8]) -> Result<usize> {
-        self.remap()?.push_row(row)?;
+        self.warp()?.push_row(row)?;
         self.drain()
     }
 
@@ -329,7 +329,7 @@ impl<
     /// assert!(j.next_row_slot().is_err()); // not configured
     /// ```
     pub fn next_row_slot(&mut self) -> Result<&mut [u8]> {
-        self.remap()?.row_slot()
+        self.warp()?.row_slot()
     }
 
     /// Takes the row in the slot as the next camera row, then as
@@ -340,30 +340,30 @@ impl<
     /// assert!(j.commit_row().is_err()); // not configured
     /// ```
     pub fn commit_row(&mut self) -> Result<usize> {
-        self.remap()?.commit_row()?;
+        self.warp()?.commit_row()?;
         self.drain()
     }
 
-    /// Moves every ready output row from the remap into the edge stage:
+    /// Moves every ready output row from the warp into the edge stage:
     /// the stream writes it straight into the stage's row slot. The
     /// configuration proved the output frame is the stage's frame, so the
     /// stage has room for every row the stream makes.
     fn drain(&mut self) -> Result<usize> {
-        let Some(remap) = self.remap.as_mut() else {
+        let Some(warp) = self.warp.as_mut() else {
             return Err(Error::StreamOrder {
                 reason: "image job used before configure",
             });
         };
-        while !remap.finished() {
+        while !warp.finished() {
             let slot = self.job.next_row_slot()?;
             let w = slot.len();
             let mut dst = ImageViewMut::new(slot, w, 1, w)?;
-            if remap.next_strip(&mut dst)?.is_none() {
+            if warp.next_strip(&mut dst)?.is_none() {
                 break;
             }
             self.job.commit_row()?;
         }
-        Ok(remap.rows_pushed())
+        Ok(warp.rows_pushed())
     }
 
     /// Ends a frame once every camera row is in and runs the line stage
@@ -391,13 +391,13 @@ impl<
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn finish(&mut self) -> Result<JobReport> {
-        let got = self.remap()?.rows_pushed();
+        let got = self.warp()?.rows_pushed();
         let expected = self.src_height;
         if got < expected {
             return Err(Error::RowCount { expected, got });
         }
         let r = self.job.finish(None)?;
-        self.remap()?.reset();
+        self.warp()?.reset();
         Ok(r)
     }
 
@@ -424,9 +424,9 @@ impl<
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn finish_short(&mut self) -> Result<JobReport> {
-        self.remap()?;
+        self.warp()?;
         let r = self.job.finish_short(None)?;
-        self.remap()?.reset();
+        self.warp()?.reset();
         Ok(r)
     }
 
@@ -439,7 +439,7 @@ impl<
     /// assert_eq!(j.rows_pushed(), 0);
     /// ```
     pub fn drop_frame(&mut self) {
-        if let Some(s) = self.remap.as_mut() {
+        if let Some(s) = self.warp.as_mut() {
             s.reset();
             self.job.drop_frame();
         }
@@ -455,7 +455,7 @@ impl<
     /// assert!(j.report().is_none());
     /// ```
     pub fn reset(&mut self) {
-        if let Some(s) = self.remap.as_mut() {
+        if let Some(s) = self.warp.as_mut() {
             s.reset();
             self.job.reset();
         }
@@ -501,7 +501,7 @@ impl<
         self.job.tracker()
     }
 
-    /// The stages after the remap: the point-mode job the corrected rows
+    /// The stages after the warp: the point-mode job the corrected rows
     /// go through (its edge stage, peaks, lines and tracker).
     ///
     /// ```
@@ -607,7 +607,7 @@ mod tests {
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(64))]
 
-        /// Frame after frame: the job equals the whole-frame remap, then
+        /// Frame after frame: the job equals the whole-frame warp, then
         /// the point-mode job (edge stage and line stage, no grid) on the
         /// corrected frame.
         #[test]

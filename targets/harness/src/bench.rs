@@ -34,7 +34,7 @@
 //! pixel of one frame (the bench frame holds no floor tape, so the marking
 //! and tracker steps see whatever lines the disc and rectangle give);
 //! then `image_job_qvga`, the whole job in image mode
-//! (`pipeline.image_job`: the same settings, the 240 camera rows remapped
+//! (`pipeline.image_job`: the same settings, the 240 camera rows warped
 //! row by row through the bench grid as an undistortion grid, clamped
 //! border, ring of `band_rows(1)` rows, each corrected row into the edge
 //! stage, votes at the corrected positions); and

@@ -368,7 +368,7 @@ fn put_record(job: &HarnessJob, r: &JobReport, rec: &mut [i32]) -> Result<(), Fa
     Ok(())
 }
 
-/// The image-mode job of the harness: [`HarnessJob`] behind the remap,
+/// The image-mode job of the harness: [`HarnessJob`] behind the warp,
 /// its grid and ring in statics (the job keeps references to both).
 type HarnessImageJob = ImageJob<'static, 320, { map_words(320, 240) }, 1024, 4096, 32, 255, 8, 4>;
 
