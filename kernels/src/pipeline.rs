@@ -2334,7 +2334,9 @@ fn fused_row<const R: usize, const CAP: usize, T: TapSet>(
     }
 }
 
+pub mod image_job;
 mod point_job;
+pub use image_job::{DemoImageJobQvga, DemoImageJobVga, ImageJobConfig};
 pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME};
 
 /// The whole job in point mode: camera rows in; at the end of the frame
@@ -2497,6 +2499,53 @@ pub type DemoPointJobVga = PointJob<
     8,
     4,
 >;
+
+/// The whole job in image mode (rules, integer model and memory in the
+/// module docs of [`image_job`]): camera rows in, warped through
+/// the lens grid row by row into the edge stage; at the end of the frame
+/// line votes, peaks, the tape's two edges, tracks and the drift warning
+/// out.
+///
+/// > **Not a safety function** (see the module docs).
+///
+/// The const parameters are [`PointJob`]'s, for the **corrected** frame
+/// (`W` at least the grid's output width). `'a` is the life of the grid's
+/// points and of the caller's ring of source rows.
+///
+/// ```
+/// use fixsight::pipeline::{DemoImageJobQvga, ImageJob, ImageJobConfig};
+/// use fixsight::warp::{ControlGrid, WarpGeometry};
+/// // An identity grid at 320 x 240 (step 16, F = 5) stands in for a lens.
+/// let geom = WarpGeometry::new(320, 240, 320, 240, 5)?;
+/// let pts: Vec<i32> = (0..16).flat_map(|j| (0..21).flat_map(move |i| [i * 512, j * 512])).collect();
+/// let grid = ControlGrid::new(&pts, geom, 4)?;
+/// let mut ring = vec![0u8; DemoImageJobQvga::ring_bytes(&grid)?];
+/// let mut job: Box<DemoImageJobQvga> = Box::default();
+/// job.configure(&ImageJobConfig::DEMO_QVGA, grid, &mut ring)?;
+/// // Two parallel vertical edges: lines, no tape.
+/// let row: [u8; 320] = core::array::from_fn(|x| if (150..170).contains(&x) { 220 } else { 60 });
+/// for _ in 0..240 { job.push_row(&row)?; }
+/// let r = job.finish()?;
+/// assert_eq!((r.frame, r.peaks, r.outside), (0, 2, 0));
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+#[derive(Debug)]
+pub struct ImageJob<
+    'a,
+    const W: usize,
+    const MAP_WORDS: usize,
+    const BINS: usize,
+    const CAP: usize,
+    const T: usize,
+    const R: usize,
+    const K: usize,
+    const N: usize,
+> {
+    warp: Option<crate::warp::GridStream<'a, 'a>>,
+    /// Camera rows per frame (the grid's source height).
+    src_height: usize,
+    job: PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>,
+}
 
 /// Luma of an RGB565 pixel by the ITU-R BT.601 weights
 /// `Y = 0.299 R + 0.587 G + 0.114 B` in integers:

@@ -254,10 +254,11 @@ mod warp_apis {
 }
 
 mod pipeline_apis {
+    use fixsight::filter::Border;
     use fixsight::lines::{PeakParams, VoteParams};
     use fixsight::pipeline::{
-        map_words, EdgeConfig, EdgeStream, Magnitude, Operator, PointJob, PointJobConfig,
-        Smoothing, Thinning, ThresholdRule, DEMO,
+        map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, Magnitude, Operator, PointJob,
+        PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO,
     };
     use fixsight::thinning;
     use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -404,6 +405,73 @@ mod pipeline_apis {
                 if let Ok(p) = j.edge_stage().points() {
                     let _ = p.count();
                 }
+            }
+        }
+
+        /// The image-mode job: any configuration, grid (output and source
+        /// sizes, points, step), ring length, border, row form and call
+        /// order, also configure again mid-frame: `Ok` or a typed error.
+        #[test]
+        fn image_job_in_any_call_order(cfg in config(), demo in any::<bool>(), ow in 1usize..20,
+                                       oh in 1usize..14, sw in 1usize..24, sh in 1usize..16,
+                                       k in prop_oneof![2u32..=4, 0u32..8],
+                                       amp in prop_oneof![-(1i32 << 27)..(1 << 27), any::<i32>()],
+                                       ring_len in prop_oneof![0usize..400, Just(4096usize)],
+                                       fill in prop::option::of(any::<u8>()), vw in 0usize..24,
+                                       gate in prop::option::of(any::<u16>()),
+                                       calls in prop::collection::vec((0usize..10, 0usize..44, any::<u8>()), 0..40)) {
+            let mut job = PointJobConfig::DEMO_QVGA;
+            job.vote = VoteParams { width: ow, height: oh, rho_bins: 41, gate, ..job.vote };
+            if !demo {
+                job.edges = cfg;
+                job.vote.width = vw;
+            }
+            let icfg = ImageJobConfig {
+                job,
+                border: fill.map_or(Border::Clamp, Border::Fill),
+            };
+            // An identity moved by noise (large `amp`: points out of range,
+            // refused), as many points as the grid needs.
+            let geom = WarpGeometry::new(ow, oh, sw, sh, 4);
+            let (cols, rows) = geom.ok().and_then(|g| ControlGrid::grid_size(&g, k).ok()).unwrap_or((2, 2));
+            let grid_pts: Vec<i32> = (0..cols * rows)
+                .flat_map(|p| [((p % cols) << k.min(6)) * sw / ow, ((p / cols) << k.min(6)) * sh / oh])
+                .enumerate()
+                .map(|(i, c)| 16 * c as i32 + ((i as i32 % 7).wrapping_mul(amp) >> 27))
+                .collect();
+            let grid = geom.ok().and_then(|g| ControlGrid::new(&grid_pts, g, k).ok());
+            let configured = grid.is_some();
+            let mut rings = [vec![0u8; ring_len], vec![0u8; ring_len]];
+            let [r0, r1] = &mut rings;
+            let mut j: Box<ImageJob<16, { map_words(16, 12) }, { DEMO.bins_needed() }, 32, 64, 41, 4, 2>> =
+                Box::default();
+            if let Some(g) = grid {
+                let _ = ImageJob::<16, 8, 8, 8, 8, 9, 2, 2>::ring_bytes(&g);
+                let _ = j.configure(&icfg, g, r0);
+            }
+            let mut spare = Some(r1);
+            for (call, len, v) in calls {
+                let _ = match call {
+                    0 | 1 => j.push_row(&vec![v; len]),
+                    2 => j.next_row_slot().map(|r| { r.fill(v); r.len() }),
+                    3 => j.commit_row(),
+                    4 | 5 => j.finish().map(|r| r.voted as usize),
+                    6 => j.finish_short().map(|r| r.voted as usize),
+                    7 => { j.drop_frame(); Ok(0) }
+                    8 => { j.reset(); Ok(0) }
+                    _ => match (grid, spare.take()) {
+                        (Some(g), Some(r)) => j.configure(&icfg, g, r).map(|_| 0),
+                        _ => Ok(0),
+                    },
+                };
+                let _ = (j.report(), j.peaks().len(), j.lines().len(), j.rows_pushed(), j.rows_out());
+                let _ = j.tracker().map(|t| t.tracks().count());
+                if let Ok(p) = j.line_stage().edge_stage().points() {
+                    let _ = p.count();
+                }
+            }
+            if configured && j.tracker().is_some() {
+                prop_assert!(j.rows_out() <= 12);
             }
         }
 

@@ -129,6 +129,37 @@ pub struct FixedRun {
     pub ops: OpsPerPx,
 }
 
+/// One finished frame of a demo job (either mode) as its outcome and its
+/// bit-level record.
+pub fn outcome(
+    rep: JobReport,
+    peaks: &[Peak],
+    lines: &[Candidate],
+    tr: &Tracker<DEMO_TRACKS, EDGES_PER_FRAME>,
+) -> (JobFrame, FrameRecord) {
+    let tape = rep
+        .marking
+        .found()
+        .map(|t| [to_px(&lines[t.left]), to_px(&lines[t.right])]);
+    let tracks = tr
+        .tracks()
+        .filter(|t| t.confirmed)
+        .map(|t| {
+            (
+                t.rho.pos as f64 / 256.0 / 16.0,
+                t.theta.pos as f64 / 256.0 / 65536.0 * PI,
+            )
+        })
+        .collect();
+    let words = (0..DEMO_TRACKS).map(|i| track_words(tr.slot(i))).collect();
+    let frame = JobFrame {
+        tape,
+        tracks,
+        warning: rep.track.warning.map(|w| w.frames),
+    };
+    (frame, (rep, peaks.to_vec(), lines.to_vec(), words))
+}
+
 /// Runs the kernel job over `frames` (320 x 240 frames), the edge points
 /// corrected through `grid` when there is one.
 pub fn run_fixed(frames: &[Vec<u8>], grid: Option<&ControlGrid<'_>>) -> Result<FixedRun, String> {
@@ -136,36 +167,32 @@ pub fn run_fixed(frames: &[Vec<u8>], grid: Option<&ControlGrid<'_>>) -> Result<F
     let mut job: Box<DemoPointJobQvga> = Box::default();
     let (w, h) = (cfg.vote.width, cfg.vote.height);
     job.configure(&cfg, w, h).map_err(e)?;
-    let mut out = Vec::new();
-    let mut records = Vec::new();
-    let (res, ops) = measure(w * h * frames.len(), || -> Result<(), String> {
+    run_frames(frames, w * h, &mut |img| {
+        for r in img.chunks_exact(w) {
+            job.push_row(r).map_err(e)?;
+        }
+        let rep = job.finish(grid).map_err(e)?;
+        let tr = job.tracker().ok_or("no tracker")?;
+        Ok(outcome(rep, job.peaks(), job.lines(), tr))
+    })
+}
+
+/// One frame through a job: its outcome and record.
+pub type FrameStep<'a> = dyn FnMut(&[u8]) -> Result<(JobFrame, FrameRecord), String> + 'a;
+
+/// Runs `frame` on every frame (of `px` pixels) inside one operation
+/// count and collects the outcomes and records.
+pub fn run_frames(
+    frames: &[Vec<u8>],
+    px: usize,
+    frame: &mut FrameStep<'_>,
+) -> Result<FixedRun, String> {
+    let (mut out, mut records) = (Vec::new(), Vec::new());
+    let (res, ops) = measure(px * frames.len(), || -> Result<(), String> {
         for img in frames {
-            for r in img.chunks_exact(w) {
-                job.push_row(r).map_err(e)?;
-            }
-            let rep = job.finish(grid).map_err(e)?;
-            let tape = rep
-                .marking
-                .found()
-                .map(|t| [to_px(&job.lines()[t.left]), to_px(&job.lines()[t.right])]);
-            let tr = job.tracker().ok_or("no tracker")?;
-            let tracks = tr
-                .tracks()
-                .filter(|t| t.confirmed)
-                .map(|t| {
-                    (
-                        t.rho.pos as f64 / 256.0 / 16.0,
-                        t.theta.pos as f64 / 256.0 / 65536.0 * PI,
-                    )
-                })
-                .collect();
-            let words = (0..DEMO_TRACKS).map(|i| track_words(tr.slot(i))).collect();
-            out.push(JobFrame {
-                tape,
-                tracks,
-                warning: rep.track.warning.map(|w| w.frames),
-            });
-            records.push((rep, job.peaks().to_vec(), job.lines().to_vec(), words));
+            let (f, r) = frame(img)?;
+            out.push(f);
+            records.push(r);
         }
         Ok(())
     });
@@ -293,16 +320,20 @@ fn refine_f64(p: &VoteParams, cells: &[f64], t: usize, b: usize) -> (f64, f64) {
     (a.rem_euclid(131072.0), rho)
 }
 
-/// A lens correction in `f64`: sensor pixel to corrected-view pixel, `None`
-/// where the model has no answer.
-pub type Correct<'a> = &'a dyn Fn(f64, f64) -> Option<(f64, f64)>;
-
 /// The `f64` job over `frames` with the thresholds the fixed stage used
-/// per frame (module docs), each edge pixel corrected by `correct`.
-pub fn run_f64(
-    correct: Correct<'_>,
+/// per frame (module docs).
+pub fn run_f64(seq: &Sequence, frames: &[Vec<u8>], thresholds: &[(u16, u16)]) -> Vec<JobFrame> {
+    let correct = |x: f64, y: f64| corrected_of(seq.camera(), seq.view(), x, y);
+    run_f64_with(frames, thresholds, &correct)
+}
+
+/// The `f64` job after the edge stage: each edge pixel `(x, y)` of a frame
+/// votes at `correct(x, y)` (none: no vote), then the `f64` lines, marking
+/// and tracker of the module docs.
+pub fn run_f64_with(
     frames: &[Vec<u8>],
     thresholds: &[(u16, u16)],
+    correct: &dyn Fn(f64, f64) -> Option<(f64, f64)>,
 ) -> Vec<JobFrame> {
     let cfg = PointJobConfig::DEMO_QVGA;
     let p = cfg.vote;
@@ -506,19 +537,73 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let fixed = run_fixed(&frames, Some(&grid))?;
     let mut pr = composed_differences(&frames, &grid, &fixed)?;
     let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
-    let reference = run_f64(
-        &|x, y| corrected_of(seq.camera(), seq.view(), x, y),
-        &frames,
-        &thresholds,
+    let reference = run_f64(&seq, &frames, &thresholds);
+    let mut row = compare_runs(
+        JOB_KERNEL,
+        spec,
+        &seq,
+        &fixed,
+        &reference,
+        &mut pr,
+        vec![
+            format!(
+                "whole job in point mode over the {} sequence ({} frames {}x{}): the kernel vs the kernels composed, frame by frame; f64 and truth figures in metrics",
+                spec.name, spec.frames, w, h
+            ),
+            "ops per pixel per frame: the whole job (edge stage, gate bytes, votes, peaks, marking, tracker)".into(),
+        ],
     );
+    let m = &mut row.metrics;
+    let mut put = |k: &str, v: f64| {
+        m.insert(k.into(), v);
+    };
+    put("ram_bytes_qvga", DemoPointJobQvga::ram_bytes() as f64);
+    put("ram_bytes_vga", DemoPointJobVga::ram_bytes() as f64);
+    put("grid_bytes", (cg.points.len() * 4) as f64);
+    put("gate_bytes", DEMO_CAP as f64);
+    put_counts(&mut row, &fixed);
+    for p in pr.drain(..) {
+        row.fail(p);
+    }
+    Ok(row)
+}
+
+/// The candidate and ungated maxima of a fixed run, as metrics.
+pub fn put_counts(row: &mut KernelReport, fixed: &FixedRun) {
+    let cands = fixed
+        .records
+        .iter()
+        .map(|r| r.0.edges.candidates)
+        .max()
+        .unwrap_or(0);
+    let ungated = fixed.records.iter().map(|r| r.0.ungated).max().unwrap_or(0);
+    row.metrics.insert("candidates_max".into(), cands as f64);
+    row.metrics
+        .insert("ungated_points_max".into(), ungated as f64);
+}
+
+/// The row comparing a fixed run with the composition (`diffs`, one entry
+/// per differing frame, prefixed `frame k:`) and with the `f64` run and
+/// the truth (module docs, *Metrics*); the caller adds its mode's figures
+/// and fails the row on `diffs`.
+pub fn compare_runs(
+    kernel: &str,
+    spec: &SequenceSpec,
+    seq: &Sequence,
+    fixed: &FixedRun,
+    reference: &[JobFrame],
+    diffs: &mut [String],
+    notes: Vec<String>,
+) -> KernelReport {
+    let pr = diffs;
+    let (w, h) = (spec.width, spec.height);
     let origin = ((w as f64 - 1.0) / 2.0, (h as f64 - 1.0) / 2.0);
     let truth: Vec<_> = (0..spec.frames).map(|k| seq.truth(k, origin)).collect();
-    let cmp = FixedVsF64::of(&fixed.frames, &reference);
+    let cmp = FixedVsF64::of(&fixed.frames, reference);
     let (mut fr, mut ft, mut rr, mut rt) = (vec![], vec![], vec![], vec![]);
     let (mut track_f, mut track_r) = (vec![], vec![]);
-    let mut occluded = 0;
-    let (mut lost_f, mut lost_r) = (0, 0);
-    for ((a, b), t) in fixed.frames.iter().zip(&reference).zip(&truth) {
+    let (mut lost_f, mut lost_r, mut occluded) = (0, 0, 0);
+    for ((a, b), t) in fixed.frames.iter().zip(reference).zip(&truth) {
         occluded += t.occluded() as usize;
         let tl = [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
         for (run, rho, th, lost) in [
@@ -565,18 +650,14 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
         .collect();
     let stats = ErrorStats::compare(&flags, &vec![0.0; flags.len()], 1.0);
     let mut row = KernelReport::from_stats(
-        JOB_KERNEL,
+        kernel,
         KernelFamily::Pipeline,
         Contract::BitExact,
         0.0,
         &stats,
-        fixed.ops,
+        fixed.ops.clone(),
     );
-    row.notes.push(format!(
-        "whole job in point mode over the {} sequence ({} frames {}x{}): the kernel vs the kernels composed, frame by frame; f64 and truth figures in metrics",
-        spec.name, spec.frames, w, h
-    ));
-    row.notes.push("ops per pixel per frame: the whole job (edge stage, gate bytes, votes, peaks, marking, tracker)".into());
+    row.notes.extend(notes);
     if delta != 0.0 {
         row.notes.push(format!(
             "GOAL NOT MET: warning_frame_delta {delta} (goal 0)"
@@ -609,43 +690,29 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     put("warning_frame_delta", delta);
     put("warning_frames_differ", cmp.warning_frames_differ as f64);
     put("truth_crossing_frame", first(crossing.map(|c| c.frame)));
-    put("ram_bytes_qvga", DemoPointJobQvga::ram_bytes() as f64);
-    put("ram_bytes_vga", DemoPointJobVga::ram_bytes() as f64);
-    put("grid_bytes", (cg.points.len() * 4) as f64);
-    put("gate_bytes", DEMO_CAP as f64);
-    let cands = fixed
-        .records
-        .iter()
-        .map(|r| r.0.edges.candidates)
-        .max()
-        .unwrap_or(0);
-    let ungated = fixed.records.iter().map(|r| r.0.ungated).max().unwrap_or(0);
-    put("candidates_max", cands as f64);
-    put("ungated_points_max", ungated as f64);
     put("frames", spec.frames as f64);
-    for p in pr.drain(..) {
-        row.fail(p);
-    }
-    Ok(row)
+    row
 }
 
 /// The report row on the demo sequence.
 pub fn check_job() -> KernelReport {
-    match job_row(&DEMO_SEQUENCE) {
-        Ok(r) => r,
-        Err(why) => {
-            let mut r = KernelReport::from_stats(
-                JOB_KERNEL,
-                KernelFamily::Pipeline,
-                Contract::BitExact,
-                0.0,
-                &ErrorStats::compare(&[1.0], &[0.0], 1.0),
-                OpsPerPx::default(),
-            );
-            r.fail(why);
-            r
-        }
-    }
+    row_or_failure(JOB_KERNEL, job_row(&DEMO_SEQUENCE))
+}
+
+/// The row, or a failed row of `kernel` saying why there is none.
+pub fn row_or_failure(kernel: &str, row: Result<KernelReport, String>) -> KernelReport {
+    row.unwrap_or_else(|why| {
+        let mut r = KernelReport::from_stats(
+            kernel,
+            KernelFamily::Pipeline,
+            Contract::BitExact,
+            0.0,
+            &ErrorStats::compare(&[1.0], &[0.0], 1.0),
+            OpsPerPx::default(),
+        );
+        r.fail(why);
+        r
+    })
 }
 
 /// Peak slots of the golden vectors' job (and of the harness's).
@@ -878,7 +945,51 @@ fn div_round(v: i32, d: i32) -> i32 {
 /// reference point divided by 4, rho variance by 16); and the same frames
 /// without a grid and without a gate.
 pub fn job_golden_cases() -> Vec<GoldenCase> {
-    let (w, h, first, n) = (80usize, 60usize, 52usize, 4usize);
+    let (w, h, first, n) = (80usize, 60usize, QUARTER_FIRST, QUARTER_FRAMES);
+    let (seq, base, frames_blob) = quarter_case();
+    let cg = build_correction_grid(seq.camera(), seq.view(), (w, h), (w, h), 2, GRID_FRAC_BITS)
+        .expect("a grid for the demo lens at 80 x 60");
+    let grid_blob = Blob::from_i32("grid", cg.grid.0, cg.grid.1, 2, &cg.points);
+    let plain = JobParams {
+        grid_log2: 0,
+        gate: 0,
+        ..base.clone()
+    };
+    let run = |_: &str, p: &serde_json::Value, i: &[Blob]| run_job_vector(p, i);
+    vec![
+        crate::family::case(
+            run,
+            "pipeline.point_job.aisle-quarter-lens",
+            format!(
+                "frames {first}..{} of the demo sequence at {w}x{h}, through the demo lens's grid \
+                 (step 4, F = {GRID_FRAC_BITS}); the demo configuration scaled to a quarter",
+                first + n
+            ),
+            JOB_KERNEL,
+            serde_json::to_value(&base).expect("serialisable"),
+            vec![frames_blob.clone(), grid_blob],
+        ),
+        crate::family::case(
+            run,
+            "pipeline.point_job.aisle-quarter-raw",
+            "the same frames voted at their raw positions (no grid), every column (no gate)".into(),
+            JOB_KERNEL,
+            serde_json::to_value(&plain).expect("serialisable"),
+            vec![frames_blob],
+        ),
+    ]
+}
+
+/// First frame of the quarter-size golden cases.
+const QUARTER_FIRST: usize = 52;
+/// Frames of the quarter-size golden cases.
+const QUARTER_FRAMES: usize = 4;
+
+/// The sequence at 80 x 60, the params (with a step-4 point-mode grid)
+/// and the `frames` input of the quarter-size golden cases (see
+/// [`job_golden_cases`]).
+pub fn quarter_case() -> (Sequence, JobParams, Blob) {
+    let (w, h, first, n) = (80usize, 60usize, QUARTER_FIRST, QUARTER_FRAMES);
     let spec = SequenceSpec {
         width: w,
         height: h,
@@ -886,8 +997,6 @@ pub fn job_golden_cases() -> Vec<GoldenCase> {
     };
     let seq = Sequence::new(&spec).expect("the demo sequence at 80 x 60");
     let frames: Vec<u8> = (first..first + n).flat_map(|k| seq.render(k)).collect();
-    let cg = build_correction_grid(seq.camera(), seq.view(), (w, h), (w, h), 2, GRID_FRAC_BITS)
-        .expect("a grid for the demo lens at 80 x 60");
     let l = PointJobConfig::DEMO_QVGA.marking;
     let l = l.limits();
     // Rows, columns and separations scale with the image; the tilt does not.
@@ -926,33 +1035,5 @@ pub fn job_golden_cases() -> Vec<GoldenCase> {
         grid_frac_bits: GRID_FRAC_BITS,
     };
     let frames_blob = Blob::from_u8("frames", w, n * h, 1, &frames);
-    let grid_blob = Blob::from_i32("grid", cg.grid.0, cg.grid.1, 2, &cg.points);
-    let plain = JobParams {
-        grid_log2: 0,
-        gate: 0,
-        ..base.clone()
-    };
-    let run = |_: &str, p: &serde_json::Value, i: &[Blob]| run_job_vector(p, i);
-    vec![
-        crate::family::case(
-            run,
-            "pipeline.point_job.aisle-quarter-lens",
-            format!(
-                "frames {first}..{} of the demo sequence at {w}x{h}, through the demo lens's grid \
-                 (step 4, F = {GRID_FRAC_BITS}); the demo configuration scaled to a quarter",
-                first + n
-            ),
-            JOB_KERNEL,
-            serde_json::to_value(&base).expect("serialisable"),
-            vec![frames_blob.clone(), grid_blob],
-        ),
-        crate::family::case(
-            run,
-            "pipeline.point_job.aisle-quarter-raw",
-            "the same frames voted at their raw positions (no grid), every column (no gate)".into(),
-            JOB_KERNEL,
-            serde_json::to_value(&plain).expect("serialisable"),
-            vec![frames_blob],
-        ),
-    ]
+    (seq, base, frames_blob)
 }

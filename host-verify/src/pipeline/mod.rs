@@ -37,6 +37,7 @@
 //! points, 0 elsewhere), `thresholds` u16 `4 x 1` (low and high used, low
 //! and high carried to the next frame).
 
+pub mod image;
 pub mod job;
 
 use crate::chain::check::F1_GOAL;
@@ -60,7 +61,7 @@ use serde::{Deserialize, Serialize};
 /// The family entry.
 pub const FAMILY: Family = Family {
     name: "pipeline",
-    kernels: &[KERNEL, job::JOB_KERNEL],
+    kernels: &[KERNEL, job::JOB_KERNEL, image::IMAGE_KERNEL],
     composed_on_host: false,
     check,
     golden_cases,
@@ -553,7 +554,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     for p in pr {
         row.fail(p);
     }
-    vec![row, job::check_job()]
+    vec![row, job::check_job(), image::check_image()]
 }
 
 /// Recomputes a pipeline vector.
@@ -564,6 +565,9 @@ pub fn run_vector(
 ) -> Result<Vec<Blob>, String> {
     if kernel == job::JOB_KERNEL {
         return job::run_job_vector(params, inputs);
+    }
+    if kernel == image::IMAGE_KERNEL {
+        return image::run_image_vector(params, inputs);
     }
     if kernel != KERNEL {
         return Err(format!("unknown pipeline kernel `{kernel}`"));
@@ -683,6 +687,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         3,
     ));
     v.extend(job::job_golden_cases());
+    v.extend(image::image_golden_cases());
     v
 }
 
@@ -716,6 +721,14 @@ mod tests {
         assert_eq!(j.metrics["warning_frame_delta"], 0.0);
         assert!(j.metrics["first_warning_fixed"] >= 0.0);
         assert!(j.metrics["lost_frames_fixed"] < 10.0);
+        // Image mode: equal to the whole-frame warp then the point-mode job
+        // in every frame; RAM with the demo lens's ring.
+        let i = &rows[2];
+        assert_eq!(i.name, image::IMAGE_KERNEL);
+        assert!(i.pass, "{:?}", i.notes);
+        assert_eq!(i.metrics["band_rows_qvga"], 19.0);
+        assert_eq!(i.metrics["band_rows_vga"], 35.0);
+        assert!(i.metrics["first_warning_fixed"] >= 0.0);
     }
 
     #[test]
@@ -724,7 +737,7 @@ mod tests {
         for c in &cases {
             let got = run_vector(&c.kernel, &c.params, &c.inputs).unwrap();
             assert_eq!(got, c.expected, "{}", c.id);
-            if c.kernel == job::JOB_KERNEL {
+            if c.kernel == job::JOB_KERNEL || c.kernel == image::IMAGE_KERNEL {
                 let p: job::JobParams = serde_json::from_value(c.params.clone()).unwrap();
                 assert_eq!(serde_json::to_value(&p).unwrap(), c.params);
                 continue;

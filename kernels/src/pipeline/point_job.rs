@@ -698,7 +698,7 @@ fn keep_gates<const W: usize, const MW: usize, const B: usize, const CAP: usize>
 }
 
 #[cfg(test)]
-mod tests {
+pub(in crate::pipeline) mod tests {
     //! The job against the kernels it composes, run one after another.
     extern crate std;
     use super::*;
@@ -724,7 +724,7 @@ mod tests {
 
     /// A frame: a tape-like bright band whose edges lean, on a ramp, with
     /// noise, from a seed.
-    fn frame(seed: u64, w: usize, h: usize) -> Vec<u8> {
+    pub(in crate::pipeline) fn frame(seed: u64, w: usize, h: usize) -> Vec<u8> {
         let mut s = seed | 1;
         let mut next = || {
             s = s

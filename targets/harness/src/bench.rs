@@ -32,7 +32,12 @@
 //! edge points corrected through the bench grid below and voted with the
 //! demo gate, peaks, marking selection, tracker update), instructions per
 //! pixel of one frame (the bench frame holds no floor tape, so the marking
-//! and tracker steps see whatever lines the disc and rectangle give); and
+//! and tracker steps see whatever lines the disc and rectangle give);
+//! then `image_job_qvga`, the whole job in image mode
+//! (`pipeline.image_job`: the same settings, the 240 camera rows warped
+//! row by row through the bench grid as an undistortion grid, clamped
+//! border, ring of `band_rows(1)` rows, each corrected row into the edge
+//! stage, votes at the corrected positions); and
 //! the two warp forms on the
 //! frame with the integer barrel lens of [`bench_lens`]: `warp_pixel_map`
 //! (a pixel map, F = 5) and `warp_control_grid` (the same lens as a control
@@ -427,6 +432,13 @@ pub static STAGES: &[Stage] = &[
     Stage {
         name: "point_job_qvga",
         kernel: "pipeline.point_job",
+        params: &POINT_JOB,
+        inputs: &[0, 16],
+        outputs: &[17],
+    },
+    Stage {
+        name: "image_job_qvga",
+        kernel: "pipeline.image_job",
         params: &POINT_JOB,
         inputs: &[0, 16],
         outputs: &[17],

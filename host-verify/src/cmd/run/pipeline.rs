@@ -50,7 +50,7 @@ use super::{inputs, load_grey, Luma};
 use crate::files::{self, Outputs};
 use crate::lens::{Camera, Intrinsics, LensSpec};
 use crate::lines::{build_correction_grid, corrected_of, GRID_FRAC_BITS, GRID_LOG2};
-use crate::pipeline::job::{run_f64, run_fixed, FixedVsF64, JobFrame};
+use crate::pipeline::job::{run_f64_with, run_fixed, FixedVsF64, JobFrame};
 use crate::warp::reference::bilinear_f64;
 use anyhow::{bail, Context};
 use fixsight::filter::Border;
@@ -214,12 +214,10 @@ pub fn run(
     let fixed = run_fixed(&frames, grid.as_ref()).map_err(|e| anyhow::anyhow!(e))?;
     let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
     let reference = match &spec {
-        Some(s) => run_f64(
-            &|x, y| corrected_of(&s.camera, &s.view, x, y),
-            &frames,
-            &thresholds,
-        ),
-        None => run_f64(&|x, y| Some((x, y)), &frames, &thresholds),
+        Some(s) => run_f64_with(&frames, &thresholds, &|x, y| {
+            corrected_of(&s.camera, &s.view, x, y)
+        }),
+        None => run_f64_with(&frames, &thresholds, &|x, y| Some((x, y))),
     };
     let cmp = FixedVsF64::of(&fixed.frames, &reference);
     let mut per_frame = Vec::new();

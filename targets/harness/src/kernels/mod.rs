@@ -88,6 +88,7 @@ kernel_table! {
     "warp.grid_stream" => warp::grid_stream,
     "pipeline.edge_stream" => pipeline::edge_stream,
     "pipeline.point_job" => pipeline::point_job,
+    "pipeline.image_job" => pipeline::image_job,
     "marking.select" => marking::select,
     "track.tracker" => track::tracker,
     "lines.cos_sin" => lines::cos_sin,

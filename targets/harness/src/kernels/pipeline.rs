@@ -5,6 +5,7 @@
 //! |---|---|---|---|
 //! | `pipeline.edge_stream` | the configuration, `frames`, `height`, `last_rows` | `frames` u8 | `edges` u8, `grad` i16 x2, `thresholds` u16 4x1 |
 //! | `pipeline.point_job` | `PointJobConfig::DEMO_QVGA` with the vote, peak, marking and reference fields of `JobParams` (`host-verify/src/pipeline/job.rs`), `frames`, `height`, `grid_log2`, `grid_frac_bits` | `frames` u8, `grid` i32 x2 (with a grid) | `record` i32 |
+//! | `pipeline.image_job` | as `pipeline.point_job`, the grid required (an undistortion grid, output and source the frame size, clamped border; `host-verify/src/pipeline/image.rs`) | `frames` u8, `grid` i32 x2 | `record` i32 |
 //!
 //! The stream lives in a `static` (its buffers are sized by its type, about
 //! 46 KiB here), configured once per call. Bench form (`src/bench.rs`): no
@@ -13,11 +14,12 @@
 //! gradients summed) so the window holds the whole stage per frame.
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
+use fixsight::filter::Border;
 use fixsight::lines::{PeakParams, VoteParams};
 use fixsight::marking::{MarkingConfig, MarkingLimits, TapeContrast};
 use fixsight::pipeline::{
-    map_words, EdgeConfig, EdgeStream, Magnitude, Operator, PointJob, PointJobConfig, Smoothing,
-    Thinning, ThresholdRule, DEMO,
+    map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, JobReport, Magnitude, Operator,
+    PointJob, PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO,
 };
 use fixsight::track::track_words;
 use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -263,17 +265,7 @@ pub fn point_job(
     // SAFETY: the firmware is single-threaded and no other code touches
     // JOB; this is its only reference while the call runs.
     let job: &mut HarnessJob = unsafe { &mut *core::ptr::addr_of_mut!(JOB) };
-    let src = input(ins, 0)?;
-    let frames: usize = int(p, "frames")?;
-    let height: usize = int(p, "height")?;
-    let w = src.width;
-    let data = match &src.buf {
-        Buf::U8(d) => &**d,
-        _ => return Err(Fail::Harness("frames must be u8")),
-    };
-    if frames == 0 || src.height != frames * height {
-        return Err(Fail::Harness("frames and height do not fit the input"));
-    }
+    let (data, w, frames, height) = job_frames(p, ins)?;
     let cfg = job_config(p, w, height)?;
     let grid_log2: u32 = int(p, "grid_log2")?;
     let grid = if grid_log2 == 0 {
@@ -298,59 +290,144 @@ pub fn point_job(
             job.push_row(&data[o..o + w])?;
         }
         let r = job.finish(grid.as_ref())?;
-        let mut v = rec.iter_mut();
-        let mut put = |x: i32| {
-            if let Some(d) = v.next() {
-                *d = x;
-            }
-        };
-        for x in [
-            r.frame as i32,
-            r.edges.edge_points as i32,
-            r.edges.candidates as i32,
-            r.edges.thresholds.0 as i32,
-            r.edges.thresholds.1 as i32,
-            r.voted as i32,
-            r.outside as i32,
-            r.ungated as i32,
-            r.peaks as i32,
-        ] {
+        put_record(job, &r, rec)?;
+    }
+    Ok(())
+}
+
+/// The stacked frames of a job vector: the bytes, width, frames, height.
+fn job_frames<'a>(p: &Params, ins: &'a [Img<'_>]) -> Result<(&'a [u8], usize, usize, usize), Fail> {
+    let src = input(ins, 0)?;
+    let frames: usize = int(p, "frames")?;
+    let height: usize = int(p, "height")?;
+    let data = match &src.buf {
+        Buf::U8(d) => &**d,
+        _ => return Err(Fail::Harness("frames must be u8")),
+    };
+    if frames == 0 || src.height != frames * height {
+        return Err(Fail::Harness("frames and height do not fit the input"));
+    }
+    Ok((data, src.width, frames, height))
+}
+
+/// One frame's record (layout in `host-verify/src/pipeline/job.rs`).
+fn put_record(job: &HarnessJob, r: &JobReport, rec: &mut [i32]) -> Result<(), Fail> {
+    let mut v = rec.iter_mut();
+    let mut put = |x: i32| {
+        if let Some(d) = v.next() {
+            *d = x;
+        }
+    };
+    for x in [
+        r.frame as i32,
+        r.edges.edge_points as i32,
+        r.edges.candidates as i32,
+        r.edges.thresholds.0 as i32,
+        r.edges.thresholds.1 as i32,
+        r.voted as i32,
+        r.outside as i32,
+        r.ungated as i32,
+        r.peaks as i32,
+    ] {
+        put(x);
+    }
+    for i in 0..PEAKS {
+        let pk = job.peaks().get(i);
+        for x in pk.map_or([0; 5], |p| {
+            [
+                p.theta_bin as i32,
+                p.rho_bin as i32,
+                p.votes as i32,
+                p.line.rho,
+                p.line.theta as i32,
+            ]
+        }) {
             put(x);
         }
-        for i in 0..PEAKS {
-            let pk = job.peaks().get(i);
-            for x in pk.map_or([0; 5], |p| {
-                [
-                    p.theta_bin as i32,
-                    p.rho_bin as i32,
-                    p.votes as i32,
-                    p.line.rho,
-                    p.line.theta as i32,
-                ]
-            }) {
-                put(x);
-            }
-        }
-        for x in r.marking.record() {
+    }
+    for x in r.marking.record() {
+        put(x);
+    }
+    let wn = r.track.warning;
+    for x in [
+        r.track.associated as i32,
+        r.track.born as i32,
+        r.track.dropped as i32,
+        wn.is_some() as i32,
+        wn.map_or(0, |w| w.track_id as i32),
+        wn.map_or(0, |w| w.frames as i32),
+    ] {
+        put(x);
+    }
+    let t = job.tracker().ok_or(Fail::Harness("no tracker"))?;
+    for i in 0..TRACKS {
+        for x in track_words(t.slot(i)) {
             put(x);
         }
-        let wn = r.track.warning;
-        for x in [
-            r.track.associated as i32,
-            r.track.born as i32,
-            r.track.dropped as i32,
-            wn.is_some() as i32,
-            wn.map_or(0, |w| w.track_id as i32),
-            wn.map_or(0, |w| w.frames as i32),
-        ] {
-            put(x);
+    }
+    Ok(())
+}
+
+/// The image-mode job of the harness: [`HarnessJob`] behind the warp,
+/// its grid and ring in statics (the job keeps references to both).
+type HarnessImageJob = ImageJob<'static, 320, { map_words(320, 240) }, 1024, 4096, 32, 255, 8, 4>;
+
+static mut IMAGE_JOB: HarnessImageJob = HarnessImageJob::new();
+
+/// Ring bytes: 96 rows of 320 (a band of up to 96 source rows).
+const RING_BYTES: usize = 320 * 96;
+static mut RING: [u8; RING_BYTES] = [0; RING_BYTES];
+
+/// Grid words: a grid with points every 8 px over 320 x 240 (41 x 31).
+const GRID_WORDS: usize = 2 * 41 * 31;
+static mut GRID: [i32; GRID_WORDS] = [0; GRID_WORDS];
+
+/// `pipeline.image_job`: every frame of the input through the job, one
+/// record per frame (as `pipeline.point_job`).
+pub fn image_job(
+    p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    _arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    // SAFETY: the firmware is single-threaded and no other code touches
+    // IMAGE_JOB, RING or GRID. The job is first replaced by a fresh one,
+    // which drops the references to RING and GRID it kept from the last
+    // call, so the references made below are the only ones.
+    let job: &mut HarnessImageJob = unsafe { &mut *core::ptr::addr_of_mut!(IMAGE_JOB) };
+    *job = HarnessImageJob::new();
+    // SAFETY: see above; the job holds no reference to RING now.
+    let ring: &'static mut [u8; RING_BYTES] = unsafe { &mut *core::ptr::addr_of_mut!(RING) };
+    // SAFETY: see above; the job holds no reference to GRID now.
+    let grid_store: &'static mut [i32; GRID_WORDS] = unsafe { &mut *core::ptr::addr_of_mut!(GRID) };
+    let (data, w, frames, height) = job_frames(p, ins)?;
+    let cfg = ImageJobConfig {
+        job: job_config(p, w, height)?,
+        border: Border::Clamp,
+    };
+    let pts = match &input(ins, 1)?.buf {
+        Buf::I32(d) => &d[..],
+        _ => return Err(Fail::Harness("grid must be i32")),
+    };
+    let kept = grid_store
+        .get_mut(..pts.len())
+        .ok_or(Fail::Harness("grid larger than the harness's grid store"))?;
+    kept.copy_from_slice(pts);
+    let kept: &'static [i32] = kept;
+    let geom = WarpGeometry::new(w, height, w, height, int(p, "grid_frac_bits")?)?;
+    let grid = ControlGrid::new(kept, geom, int(p, "grid_log2")?)?;
+    job.configure(&cfg, grid, &mut ring[..])?;
+    let out = match &mut output(outs, 0)?.buf {
+        Buf::I32(o) if o.len() == WORDS * frames => o,
+        _ => return Err(Fail::Harness("record output must be i32, words x frames")),
+    };
+    for (f, rec) in out.chunks_exact_mut(WORDS).enumerate() {
+        for y in 0..height {
+            let o = (f * height + y) * w;
+            job.push_row(&data[o..o + w])?;
         }
-        let t = job.tracker().ok_or(Fail::Harness("no tracker"))?;
-        for i in 0..TRACKS {
-            for x in track_words(t.slot(i)) {
-                put(x);
-            }
-        }
+        let r = job.finish()?;
+        put_record(job.line_stage(), &r, rec)?;
     }
     Ok(())
 }
