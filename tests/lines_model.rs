@@ -1,11 +1,11 @@
 //! Line voting against the brute-force transcription of its documented
-//! integer model (`fixsight_verify::lines::model`): streaming rows equals
+//! integer model (`fixsight_verify::lines::model_cells` and `peaks_of`): streaming rows equals
 //! the whole-frame call equals the model, and peaks are the model's
 //! strongest local winners (proptest, overflow checks on).
 
 use fixsight::lines::{Accumulator, EdgeRow, Peak, PeakParams, VoteParams};
 use fixsight::ImageView;
-use fixsight_verify::lines::model::{model_cells, peak_winners};
+use fixsight_verify::lines::{model_cells, peaks_of};
 use proptest::prelude::*;
 
 prop_compose! {
@@ -106,7 +106,11 @@ proptest! {
         let pp = PeakParams { threshold: thr, radius_theta: rt, radius_rho: rb };
         let mut out = vec![Peak::default(); k];
         let n = acc.peaks(&pp, &mut out).unwrap();
-        let all = peak_winners(&p, &cells, thr, rt, rb, k);
+        let real: Vec<f64> = cells.iter().map(|&v| v as f64).collect();
+        let all: Vec<(u16, usize)> = peaks_of(&p, &real, &pp, k)
+            .into_iter()
+            .map(|(t, b, v)| (v as u16, t * p.rho_bins + b))
+            .collect();
         prop_assert_eq!(n, all.len());
         for (pk, (v, i)) in out[..n].iter().zip(&all) {
             prop_assert_eq!(pk.votes, *v);

@@ -16,7 +16,7 @@
 //! | `kernel.hysteresis` | random magnitudes and thresholds, code maps, stack sizes, histogram rules | the host references (breadth-first flood fill, sorted-histogram thresholds) |
 //! | `kernel.thinning` | random binary maps, caps | the host reference (a direct transcription of the paper's two sub-iterations) |
 //! | `kernel.warp` | random geometries, pixel maps (in and out of range), control grids, 1..=4 channels | the `i128`/`i64` sampling and grid models |
-//! | `kernel.lines` | random vote settings (valid and not), frames of edge points with random gradients and weights, peak settings | the brute-force model of [`crate::lines::model`] (cells and peaks); the row stream equals the frame |
+//! | `kernel.lines` | random vote settings (valid and not), frames of edge points with random gradients and weights, peak settings | the brute-force models of the host (`crate::lines::model_cells`, `crate::lines::peaks_of`); the row stream equals the frame |
 //! | `kernel.marking` | random candidate lines (extreme `rho`, any angle, duplicates) and the demo limits or random ones | a found pair names two different input lines whose near-row columns and separation lie within the limits; the same input gives the same answer |
 //! | `kernel.track` | random settings (valid and not), zero to three detections (the tracker takes two), `rho` past its range, frame numbers that sometimes step back | exactly the frames that break a documented rule are refused, with a typed error and no change; counts and warnings are consistent with the live tracks; a reset tracker answers as a new one |
 //! | `kernel.pipeline` | random edge-stage settings (valid and not), frame sizes, frames per run, short last frames | the whole-frame kernels one after another ([`crate::pipeline::compare`]) |
@@ -979,7 +979,7 @@ fn lens_case(r: &mut ChaCha8Rng, demo: &str) -> Outcome {
 // ------------------------------------------------------------------ lines
 
 fn lines_case(r: &mut ChaCha8Rng) -> Outcome {
-    use crate::lines::model::{model_cells, peak_winners};
+    use crate::lines::{model_cells, peaks_of};
     use fixsight::lines::{Accumulator, EdgeRow, Peak, PeakParams, VoteParams};
     // Three cases in four inside the documented ranges (so that the model
     // comparison runs), one in four anywhere near or past them.
@@ -1087,14 +1087,11 @@ fn lines_case(r: &mut ChaCha8Rng) -> Outcome {
             pp.threshold
         )),
         Ok(got) => {
-            let want = peak_winners(
-                &p,
-                &streamed,
-                pp.threshold,
-                pp.radius_theta,
-                pp.radius_rho,
-                k,
-            );
+            let real: Vec<f64> = streamed.iter().map(|&v| v as f64).collect();
+            let want: Vec<(u16, usize)> = peaks_of(&p, &real, &pp, k)
+                .into_iter()
+                .map(|(t, b, v)| (v as u16, t * p.rho_bins + b))
+                .collect();
             let got: Vec<(u16, usize)> = out[..got.min(k)]
                 .iter()
                 .map(|pk| {

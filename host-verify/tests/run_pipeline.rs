@@ -12,28 +12,15 @@ use fixsight_verify::pipeline::job::{run_f64, run_fixed};
 use fixsight_verify::sequence::{Sequence, DEMO_SEQUENCE};
 use std::fs;
 use std::path::PathBuf;
-use std::process::Command;
+
+mod common;
 
 fn dir(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("fixsight-job-{name}-{}", std::process::id()));
-    let _ = fs::remove_dir_all(&d);
-    fs::create_dir_all(&d).unwrap();
-    d
+    common::fresh_dir(&format!("job-{name}"))
 }
 
 fn run(args: &[&str]) -> (bool, String, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
-        .arg("run")
-        .args(args)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&o.stderr).to_string();
-    assert!(!err.contains("panicked"), "{err}");
-    (
-        o.status.success(),
-        String::from_utf8_lossy(&o.stdout).to_string(),
-        err,
-    )
+    common::tool("run", args)
 }
 
 /// Frames 10..18 of the demo sequence (the tape in view, no occlusion) as

@@ -1679,7 +1679,5 @@ pub fn golden_cases(_scenes: &[Scene]) -> Vec<GoldenCase> {
     v
 }
 
-pub mod model;
-
 #[cfg(test)]
 mod tests;
