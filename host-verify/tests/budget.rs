@@ -35,17 +35,19 @@ const TARGETS: &str = r#"{"schema": 1, "targets": [
   {"name": "cortex-m4", "triple": "thumbv7em-none-eabihf", "vectors": 1, "passed": 1, "lang": "rust",
    "kernels": [
      {"name": "pipeline.edge_stream/bench", "instr_per_px": 300.0, "code_bytes": 1, "stack_bytes": 1},
-     {"name": "pipeline.whole/bench", "instr_per_px": 350.0, "code_bytes": 1, "stack_bytes": 1},
+     {"name": "pipeline.point_job/bench", "instr_per_px": 350.0, "code_bytes": 1, "stack_bytes": 1},
+     {"name": "pipeline.image_job/bench", "instr_per_px": 400.0, "code_bytes": 1, "stack_bytes": 1},
      {"name": "filter.binomial5/binomial5", "instr_per_px": 33.0, "code_bytes": 1, "stack_bytes": 1},
      {"name": "pipeline.per_vector", "instr_per_px": 9000.0, "code_bytes": 1, "stack_bytes": 1}]},
   {"name": "cortex-m4", "triple": "thumbv7em-none-eabihf", "vectors": 1, "passed": 1, "lang": "c",
-   "kernels": [{"name": "pipeline.whole/bench", "instr_per_px": 1.0, "code_bytes": 1, "stack_bytes": 1}]}]}"#;
+   "kernels": [{"name": "pipeline.point_job/bench", "instr_per_px": 1.0, "code_bytes": 1, "stack_bytes": 1}]}]}"#;
 
 #[test]
 fn sums_verdicts_and_default_stages() {
     let d = dir("sums");
     fs::write(d.join("targets.json"), TARGETS).unwrap();
-    // Default: the whole job only (the edge stage is inside it), Rust entry.
+    // Default: one whole job, point mode (the edge stage is inside it; the
+    // image mode is another whole job, not added), Rust entry.
     // 350 * 320 * 240 * 30 = 806.4 M instr/s > 168 MHz.
     let (code, out, _) = budget(
         &d,
@@ -62,7 +64,9 @@ fn sums_verdicts_and_default_stages() {
     );
     assert_eq!(code, Some(1), "{out}");
     assert!(
-        out.contains("pipeline.whole/bench") && !out.contains("pipeline.edge_stream"),
+        out.contains("pipeline.point_job/bench")
+            && !out.contains("pipeline.edge_stream")
+            && !out.contains("pipeline.image_job"),
         "{out}"
     );
     assert!(

@@ -17,10 +17,11 @@
 //!   on a real part, flash wait states, multi-cycle loads and taken branches
 //!   cost more (common practice, no source), so keep a margin;
 //! * the stages are the entries of the core whose kernel id is given with
-//!   `--kernel` (every bench of that id), by default the whole-job entries
-//!   of the `pipeline` family (every `pipeline.*` id but the edge stage,
-//!   which they contain), or the edge stage `pipeline.edge_stream` when no
-//!   whole-job entry was measured;
+//!   `--kernel` (every bench of that id), by default one whole job: the
+//!   point mode `pipeline.point_job` when it was measured, else the image
+//!   mode `pipeline.image_job`, else the edge stage `pipeline.edge_stream`
+//!   (each job contains the edge stage, so they are never summed by
+//!   default);
 //! * `weighted ops/px` is the report row's host count for the id, when
 //!   `report.json` is in the same folder.
 //!
@@ -36,6 +37,10 @@ use std::path::Path;
 
 /// The edge stage's id (contained in the whole-job entries).
 const EDGE_STAGE: &str = "pipeline.edge_stream";
+
+/// The default stage, in order of preference: the whole job in point mode
+/// (no frame buffer), in image mode, the edge stage alone.
+const DEFAULT_JOBS: [&str; 3] = ["pipeline.point_job", "pipeline.image_job", EDGE_STAGE];
 
 /// One stage of the budget.
 #[derive(Debug, Clone, PartialEq)]
@@ -126,14 +131,12 @@ pub fn plan(
         .filter(|n| n.contains('/'))
         .filter_map(|n| n.split('/').next())
         .collect();
-    // Default: the whole-job entries of the pipeline family; the edge
-    // stage alone only when no whole-job entry was measured.
-    let whole_job = ids
-        .iter()
-        .any(|id| id.starts_with("pipeline.") && *id != EDGE_STAGE);
+    // Default: one whole job, the first of DEFAULT_JOBS that was measured
+    // (each contains the edge stage; two of them would count it twice).
+    let default_job = DEFAULT_JOBS.iter().find(|j| ids.contains(j));
     let wanted = |id: &str| -> bool {
         if kernels.is_empty() {
-            id.starts_with("pipeline.") && (id != EDGE_STAGE || !whole_job)
+            default_job == Some(&id)
         } else {
             kernels.iter().any(|k| k == id)
         }
