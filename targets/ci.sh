@@ -18,5 +18,5 @@ if ! command -v arm-none-eabi-gcc >/dev/null; then
 fi
 rustup target add thumbv6m-none-eabi thumbv7m-none-eabi thumbv7em-none-eabihf riscv32imc-unknown-none-elf
 rustup component add llvm-tools
-timeout 1200 cargo run -q --release -p fixsight-verify -- targets --overwrite --out "${FIXSIGHT_REPORT:-fixsight-report}"
+timeout 2400 cargo run -q --release -p fixsight-verify -- targets --overwrite --out "${FIXSIGHT_REPORT:-fixsight-report}"
 echo "targets step took $(( $(date +%s) - start )) s"
