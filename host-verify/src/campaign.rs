@@ -1116,6 +1116,7 @@ fn marking_case(r: &mut ChaCha8Rng) -> Outcome {
     use fixsight::marking::{self, Candidate, MarkingConfig, MarkingLimits, Polarity};
     let demo = *MarkingConfig::DEMO.limits();
     let cfg = if r.random_range(0..3) == 0 {
+        let max_tilt: u16 = r.random();
         let mut v = |base: i32| -> i32 {
             match r.random_range(0..4) {
                 0 => r.random(),
@@ -1126,7 +1127,7 @@ fn marking_case(r: &mut ChaCha8Rng) -> Outcome {
             near_row_q4: v(demo.near_row_q4),
             far_row_q4: v(demo.far_row_q4),
             horizon_row_q4: v(demo.horizon_row_q4),
-            max_tilt: 0,
+            max_tilt,
             near_x_min_q4: v(demo.near_x_min_q4),
             near_x_max_q4: v(demo.near_x_max_q4),
             near_sep_min_q4: v(demo.near_sep_min_q4),
@@ -1134,10 +1135,6 @@ fn marking_case(r: &mut ChaCha8Rng) -> Outcome {
             near_sep_max_q4: v(demo.near_sep_max_q4),
             converge_tol_q4: v(demo.converge_tol_q4),
             contrast: demo.contrast,
-        };
-        let limits = MarkingLimits {
-            max_tilt: r.random(),
-            ..limits
         };
         match MarkingConfig::new(limits) {
             Ok(c) => c,

@@ -669,6 +669,12 @@ impl LensSpec {
     }
 }
 
+/// Reads and parses the lens file at `path`; errors name the file.
+pub fn read_lens_file(path: &std::path::Path) -> anyhow::Result<LensSpec> {
+    let text = crate::files::read_text(path)?;
+    LensSpec::parse(&text).map_err(|e| anyhow::anyhow!("{}: {e}", crate::files::shown_path(path)))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

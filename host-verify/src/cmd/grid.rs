@@ -46,9 +46,7 @@ pub fn run(
         overwrite,
         "--overwrite",
     )?;
-    let text = files::read_text(lens_file)?;
-    let spec = crate::lens::LensSpec::parse(&text)
-        .map_err(|e| anyhow::anyhow!("{}: {e}", files::shown_path(lens_file)))?;
+    let spec = crate::lens::read_lens_file(lens_file)?;
     let geom = WarpGeometry::new(
         spec.output.0,
         spec.output.1,

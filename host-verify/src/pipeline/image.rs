@@ -144,7 +144,7 @@ pub fn composed_differences(
 /// The `f64` warp of a camera frame: the bilinear value at the exact
 /// lens coordinate of every corrected pixel, clamped border, rounded to
 /// 8 bits.
-fn warp_f64(img: &[u8], map: &[(f64, f64)], w: usize, h: usize) -> Vec<u8> {
+pub fn warp_f64(img: &[u8], map: &[(f64, f64)], w: usize, h: usize) -> Vec<u8> {
     map.iter()
         .map(|&(sx, sy)| {
             bilinear_f64(img, w, h, 1, 0, sx, sy, Border::Clamp)

@@ -602,23 +602,17 @@ pub fn compare_runs(
     let cmp = FixedVsF64::of(&fixed.frames, reference);
     let (mut fr, mut ft, mut rr, mut rt) = (vec![], vec![], vec![], vec![]);
     let (mut track_f, mut track_r) = (vec![], vec![]);
-    let (mut lost_f, mut lost_r, mut occluded) = (0, 0, 0);
+    let mut occluded = 0;
     for ((a, b), t) in fixed.frames.iter().zip(reference).zip(&truth) {
         occluded += t.occluded() as usize;
         let tl = [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
-        for (run, rho, th, lost) in [
-            (a, &mut fr, &mut ft, &mut lost_f),
-            (b, &mut rr, &mut rt, &mut lost_r),
-        ] {
-            match run.tape {
-                Some(tape) => {
-                    for i in 0..2 {
-                        let (dr, dt) = line_err(tape[i], tl[i]);
-                        rho.push(dr);
-                        th.push(dt);
-                    }
+        for (run, rho, th) in [(a, &mut fr, &mut ft), (b, &mut rr, &mut rt)] {
+            if let Some(tape) = run.tape {
+                for i in 0..2 {
+                    let (dr, dt) = line_err(tape[i], tl[i]);
+                    rho.push(dr);
+                    th.push(dt);
                 }
-                None => *lost += 1,
             }
         }
         for (run, errs) in [(a, &mut track_f), (b, &mut track_r)] {
@@ -682,8 +676,8 @@ pub fn compare_runs(
         put(&format!("{name}_mean"), mean);
     }
     let first = |f: Option<usize>| f.map_or(-1.0, |v| v as f64);
-    put("lost_frames_fixed", lost_f as f64);
-    put("lost_frames_f64", lost_r as f64);
+    put("lost_frames_fixed", cmp.lost[0] as f64);
+    put("lost_frames_f64", cmp.lost[1] as f64);
     put("occluded_frames", occluded as f64);
     put("first_warning_fixed", first(cmp.first_warning[0]));
     put("first_warning_f64", first(cmp.first_warning[1]));

@@ -342,6 +342,26 @@ pub fn inputs(input: &Path) -> anyhow::Result<(Vec<PathBuf>, Vec<String>)> {
     Ok((images, skipped))
 }
 
+/// The outputs `names` in `out` (refused when one exists, unless
+/// `overwrite`), after listing the inputs that were skipped.
+fn open_outputs(
+    out: &Path,
+    names: &[String],
+    overwrite: bool,
+    skipped: &[String],
+) -> anyhow::Result<Outputs> {
+    let o = Outputs::new(
+        out,
+        names.iter().map(String::as_str),
+        overwrite,
+        "--overwrite",
+    )?;
+    for s in skipped {
+        println!("skipped {} (not an image file)", files::shown(s));
+    }
+    Ok(o)
+}
+
 /// The command.
 pub fn run(
     input: &Path,
@@ -365,15 +385,7 @@ pub fn run(
             names.push(format!("{stem}.{kernel}.{suffix}"));
         }
     }
-    let mut o = Outputs::new(
-        out,
-        names.iter().map(String::as_str),
-        overwrite,
-        "--overwrite",
-    )?;
-    for s in &skipped {
-        println!("skipped {} (not an image file)", files::shown(s));
-    }
+    let mut o = open_outputs(out, &names, overwrite, &skipped)?;
     for p in &images {
         let g = load_grey(p, luma)?;
         let r = apply(kernel, &g)?;

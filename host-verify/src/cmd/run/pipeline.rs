@@ -33,7 +33,7 @@
 //!   figures printed on the terminal;
 //! * `<stem>.pipeline.png` per frame: the corrected view (the frame itself
 //!   without `--lens`; with it, the frame resampled through the `f64` lens
-//!   model, bilinear) with the fixed run's tape edges in red and the `f64`
+//!   model, bilinear, clamped border) with the fixed run's tape edges in red and the `f64`
 //!   run's in green (yellow where they coincide).
 //!
 //! # Figures
@@ -46,14 +46,14 @@
 //! [`crate::pipeline::job`] without the truth, which the user's frames do
 //! not have.
 
-use super::{inputs, load_grey, Luma};
-use crate::files::{self, Outputs};
-use crate::lens::{Camera, Intrinsics, LensSpec};
+use super::{inputs, load_grey, open_outputs, Luma};
+use crate::files;
+use crate::lens::{read_lens_file, LensSpec};
 use crate::lines::{build_correction_grid, corrected_of, GRID_FRAC_BITS, GRID_LOG2};
+use crate::pipeline::image::warp_f64;
 use crate::pipeline::job::{run_f64_with, run_fixed, FixedVsF64, JobFrame};
-use crate::warp::reference::bilinear_f64;
+use crate::warp::reference::exact_map;
 use anyhow::{bail, Context};
-use fixsight::filter::Border;
 use fixsight::pipeline::PointJobConfig;
 use fixsight::warp::ControlGrid;
 use std::path::Path;
@@ -72,9 +72,7 @@ example ISO 3691-4, IEC 61508, ISO 13849) and local regulations.";
 
 /// Reads and checks a lens file for the demo job.
 pub fn load_lens(path: &Path) -> anyhow::Result<LensSpec> {
-    let text = files::read_text(path)?;
-    let spec =
-        LensSpec::parse(&text).map_err(|e| anyhow::anyhow!("{}: {e}", files::shown_path(path)))?;
+    let spec = read_lens_file(path)?;
     if spec.sensor != FRAME || spec.output != FRAME {
         bail!(
             "{}: --pipeline needs a lens file for {}x{} frames with a {}x{} corrected view; this \
@@ -105,56 +103,42 @@ fn frame_json(f: &JobFrame) -> serde_json::Value {
     })
 }
 
-/// The corrected view as RGB: the frame, or the frame resampled through the
-/// lens model.
-fn view_rgb(frame: &[u8], lens: Option<(&Camera, &Intrinsics)>) -> Vec<[u8; 3]> {
-    let (w, h) = FRAME;
-    (0..w * h)
-        .map(|i| {
-            let v = match lens {
-                None => frame[i],
-                Some((cam, view)) => {
-                    let (sx, sy) = cam.source_of(view, (i % w) as f64, (i / w) as f64);
-                    bilinear_f64(frame, w, h, 1, 0, sx, sy, Border::Fill(0)).round() as u8
-                }
-            };
-            [v; 3]
-        })
-        .collect()
-}
-
-/// Draws line `(rho, theta)` about the image centre into channel mask
-/// `ch` (bit 0 red, bit 1 green) of `rgb`.
-fn draw_line(rgb: &mut [[u8; 3]], line: (f64, f64), ch: usize) {
+/// Marks line `(rho, theta)` about the image centre with bit `bit` in
+/// `mask` (one byte per pixel of the frame).
+fn mark_line(mask: &mut [u8], line: (f64, f64), bit: u8) {
     let (w, h) = FRAME;
     let (ox, oy) = ((w as f64 - 1.0) / 2.0, (h as f64 - 1.0) / 2.0);
     let (c, s) = (line.1.cos(), line.1.sin());
     let mut put = |x: f64, y: f64| {
         let (xi, yi) = (x.round(), y.round());
         if (0.0..w as f64).contains(&xi) && (0.0..h as f64).contains(&yi) {
-            let p = &mut rgb[yi as usize * w + xi as usize];
-            if p[2] != 0 || p[0] != p[1] {
-                // Already drawn by the other run: mark both channels.
-                p[ch] = 255;
-            } else {
-                *p = [0; 3];
-                p[ch] = 255;
-            }
-            p[2] = 0;
+            mask[yi as usize * w + xi as usize] |= bit;
         }
     };
     // x c + y s = rho about the centre: step along the longer axis.
     if s.abs() >= c.abs() {
         for x in 0..w {
-            let dx = x as f64 - ox;
-            put(x as f64, oy + (line.0 - dx * c) / s);
+            put(x as f64, oy + (line.0 - (x as f64 - ox) * c) / s);
         }
     } else {
         for y in 0..h {
-            let dy = y as f64 - oy;
-            put(ox + (line.0 - dy * s) / c, y as f64);
+            put(ox + (line.0 - (y as f64 - oy) * s) / c, y as f64);
         }
     }
+}
+
+/// The picture of a frame: `view` grey, the pixels of `mask` red (bit 0,
+/// fixed), green (bit 1, `f64`) or yellow (both).
+fn picture(view: &[u8], mask: &[u8]) -> Vec<u8> {
+    view.iter()
+        .zip(mask)
+        .flat_map(|(&v, &m)| match m {
+            1 => [255, 0, 0],
+            2 => [0, 255, 0],
+            3 => [255, 255, 0],
+            _ => [v; 3],
+        })
+        .collect()
 }
 
 /// The command: returns whether every frame ran.
@@ -173,15 +157,7 @@ pub fn run(
         .collect();
     let mut names: Vec<String> = stems.iter().map(|s| format!("{s}.pipeline.png")).collect();
     names.push("pipeline.json".into());
-    let mut o = Outputs::new(
-        out,
-        names.iter().map(String::as_str),
-        overwrite,
-        "--overwrite",
-    )?;
-    for s in &skipped {
-        println!("skipped {} (not an image file)", files::shown(s));
-    }
+    let mut o = open_outputs(out, &names, overwrite, &skipped)?;
     let mut frames = Vec::with_capacity(images.len());
     for p in &images {
         let g = load_grey(p, luma)?;
@@ -220,6 +196,9 @@ pub fn run(
         None => run_f64_with(&frames, &thresholds, &|x, y| Some((x, y))),
     };
     let cmp = FixedVsF64::of(&fixed.frames, &reference);
+    let map = spec
+        .as_ref()
+        .map(|s| exact_map(&s.camera, &s.view, FRAME.0, FRAME.1));
     let mut per_frame = Vec::new();
     for (k, (((a, b), rec), stem)) in fixed
         .frames
@@ -230,18 +209,18 @@ pub fn run(
         .enumerate()
     {
         let rep = &rec.0;
-        let mut rgb = view_rgb(&frames[k], spec.as_ref().map(|s| (&s.camera, &s.view)));
-        for (run, ch) in [(a, 0), (b, 1)] {
+        let view = match &map {
+            Some(m) => warp_f64(&frames[k], m, FRAME.0, FRAME.1),
+            None => frames[k].clone(),
+        };
+        let mut mask = vec![0u8; view.len()];
+        for (run, bit) in [(a, 1), (b, 2)] {
             for l in run.tape.iter().flatten() {
-                draw_line(&mut rgb, *l, ch);
+                mark_line(&mut mask, *l, bit);
             }
         }
-        let img = image::RgbImage::from_raw(
-            FRAME.0 as u32,
-            FRAME.1 as u32,
-            rgb.into_iter().flatten().collect(),
-        )
-        .context("the picture has the frame's size")?;
+        let img = image::RgbImage::from_raw(FRAME.0 as u32, FRAME.1 as u32, picture(&view, &mask))
+            .context("the picture has the frame's size")?;
         o.write_with(&format!("{stem}.pipeline.png"), |path| {
             img.save_with_format(path, image::ImageFormat::Png)
                 .map_err(std::io::Error::other)
