@@ -43,6 +43,8 @@ pub struct SceneF1 {
     pub loose_before_thin: f64,
     /// The automatic high threshold came from the histogram's top bin.
     pub high_at_top_bin: bool,
+    /// The high threshold the chain used.
+    pub high: u16,
 }
 
 /// Runs one configuration on every scene: per-scene figures, operations of
@@ -69,6 +71,7 @@ pub fn evaluate(
                 matched: matched_agreement(&c.thin, &reference, c.w, c.h, 1),
                 loose_before_thin: agreement(&c.edges, &reference, c.w, c.h).f1,
                 high_at_top_bin: (c.thresholds.high() as usize) >= (p.bins << p.shift).min(65535),
+                high: c.thresholds.high(),
             },
         ));
     }
@@ -134,6 +137,7 @@ fn add_metrics(
         put(format!("recall_matched.{name}"), x.matched.recall);
         put(format!("f1.{name}"), x.loose.f1);
         put(format!("edge_px.{name}"), x.matched.detected_px as f64);
+        put(format!("high_threshold.{name}"), x.high as f64);
     }
 }
 
