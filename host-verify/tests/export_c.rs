@@ -9,25 +9,12 @@ use std::fs;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-fn tmp(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("fixsight-export-{name}-{}", std::process::id()));
-    let _ = fs::remove_dir_all(&d);
-    fs::create_dir_all(&d).unwrap();
-    d
-}
+mod common;
 
-fn tool(args: &[&str]) -> (bool, String, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
-        .args(args)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&o.stderr).to_string();
-    assert!(!err.contains("panicked"), "{err}");
-    (
-        o.status.success(),
-        String::from_utf8_lossy(&o.stdout).to_string(),
-        err,
-    )
+use common::tool;
+
+fn tmp(name: &str) -> PathBuf {
+    common::fresh_dir(&format!("export-{name}"))
 }
 
 /// The port in C: `[1 4 6 4 1] / 16` both ways (binomial coefficients

@@ -14,7 +14,7 @@ fn dir(name: &str) -> PathBuf {
 }
 
 fn run(args: &[&str]) -> (bool, String, String) {
-    common::tool("run", args)
+    common::tool(&[&["run"], args].concat())
 }
 
 /// A 40x30 colour gradient with a bright disc.

@@ -20,7 +20,7 @@ fn dir(name: &str) -> PathBuf {
 }
 
 fn run(args: &[&str]) -> (bool, String, String) {
-    common::tool("run", args)
+    common::tool(&[&["run"], args].concat())
 }
 
 /// Frames 10..18 of the demo sequence (the tape in view, no occlusion) as

@@ -14,11 +14,10 @@ pub fn fresh_dir(name: &str) -> PathBuf {
     d
 }
 
-/// Runs `fixsight-verify <sub> <args>`: success, standard output,
-/// standard error; a panic message fails the test.
-pub fn tool(sub: &str, args: &[&str]) -> (bool, String, String) {
+/// Runs `fixsight-verify <args>`: success, standard output, standard
+/// error; a panic message fails the test.
+pub fn tool(args: &[&str]) -> (bool, String, String) {
     let o = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
-        .arg(sub)
         .args(args)
         .output()
         .unwrap();
