@@ -502,6 +502,10 @@ static void lines_cases(void) {
     pp.threshold = 0;
     expect("lines.peaks_threshold_0", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_BAD_PARAMETER);
     pp.threshold = 1;
+    pp.radius_theta = 1000000000;
+    expect("lines.peaks_radius_wider_than_accumulator", fxs_lines_peaks(&acc, &pp, pk, 4, &found),
+           FXS_E_BAD_PARAMETER);
+    pp.radius_theta = 1;
     pp.radius_rho = -1;
     expect("lines.peaks_negative_radius", fxs_lines_peaks(&acc, &pp, pk, 4, &found), FXS_E_NEGATIVE);
     pp.radius_rho = 1;
@@ -909,6 +913,7 @@ static void point_job_cases(void) {
     JOB_INIT("peak_threshold_0", peaks.threshold, 0, FXS_E_BAD_PARAMETER);
     JOB_INIT("peak_threshold_65536", peaks.threshold, 65536, FXS_E_BAD_PARAMETER);
     JOB_INIT("negative_peak_radius", peaks.radius_rho, -1, FXS_E_NEGATIVE);
+    JOB_INIT("peak_radius_wider_than_accumulator", peaks.radius_theta, 1000000000, FXS_E_BAD_PARAMETER);
     JOB_INIT("far_row_below_near_row", marking.far_row_q4, demo.marking.near_row_q4 + 16, FXS_E_BAD_PARAMETER);
     JOB_INIT("contrast_3", marking.contrast, 3, FXS_E_BAD_PARAMETER);
     JOB_INIT("confirm_hits_0", track.confirm_hits, 0, FXS_E_BAD_PARAMETER);

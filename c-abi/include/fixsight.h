@@ -618,8 +618,8 @@ typedef struct fxs_line_peak {
 
 typedef struct fxs_peak_params {
     int32_t threshold;    /* 1..65535: smallest count of a peak */
-    int32_t radius_theta; /* >= 0: suppression half-width in columns */
-    int32_t radius_rho;   /* >= 0: suppression half-width in rows */
+    int32_t radius_theta; /* 0..theta_bins: suppression half-width in columns */
+    int32_t radius_rho;   /* 0..rho_bins: suppression half-width in rows */
 } fxs_peak_params;
 
 typedef struct fxs_segment_params {
@@ -721,8 +721,9 @@ fxs_status fxs_lines_vote_point(fxs_lines_accumulator *acc, int32_t x_q4, int32_
  * neighbourhood, strongest first, ties in cell order, each refined
  * (module docs); *found is how many were written (the rest of out is
  * untouched). out may not overlap the accumulator or its memory.
- * Errors: FXS_E_BAD_PARAMETER (out_len, threshold 0 or above 65535),
- * FXS_E_NEGATIVE, FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+ * Errors: FXS_E_BAD_PARAMETER (out_len, threshold 0 or above 65535, a
+ * radius above the accumulator's theta_bins or rho_bins), FXS_E_NEGATIVE,
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
 fxs_status fxs_lines_peaks(const fxs_lines_accumulator *acc, const fxs_peak_params *params,
                            fxs_line_peak *out, uintptr_t out_len, int32_t *found);
 

@@ -617,9 +617,9 @@ impl<'r> EdgeRow<'r> {
 pub struct PeakParams {
     /// Smallest count of a peak (`>= 1`).
     pub threshold: u16,
-    /// Suppression half-width in columns.
+    /// Suppression half-width in columns (`0..=theta_bins`).
     pub radius_theta: usize,
-    /// Suppression half-width in rows.
+    /// Suppression half-width in rows (`0..=rho_bins`).
     pub radius_rho: usize,
 }
 
@@ -637,6 +637,40 @@ impl PeakParams {
         radius_theta: 1,
         radius_rho: 1,
     };
+
+    /// Checks the settings against the accumulator they will search:
+    /// `threshold >= 1`, `radius_theta <= theta_bins` and
+    /// `radius_rho <= rho_bins` (a wider neighbourhood would only visit
+    /// the same cells again, so it is refused rather than looped over).
+    ///
+    /// Errors: [`Error::BadParameter`] naming the field.
+    ///
+    /// ```
+    /// use fixsight::lines::{PeakParams, VoteParams};
+    /// let v = VoteParams::DEMO_QVGA;
+    /// assert!(PeakParams::DEMO.check(&v).is_ok());
+    /// let wide = PeakParams { radius_theta: v.theta_bins + 1, ..PeakParams::DEMO };
+    /// assert!(wide.check(&v).is_err());
+    /// ```
+    pub fn check(&self, vote: &VoteParams) -> Result<()> {
+        let bad = |name: &'static str, expected: &'static str, got: usize| {
+            Err(Error::BadParameter {
+                name,
+                expected,
+                got: i64::try_from(got).unwrap_or(i64::MAX),
+            })
+        };
+        if self.threshold == 0 {
+            return bad("threshold", "1..=65535", 0);
+        }
+        if self.radius_theta > vote.theta_bins {
+            return bad("radius_theta", "0..=theta_bins", self.radius_theta);
+        }
+        if self.radius_rho > vote.rho_bins {
+            return bad("radius_rho", "0..=rho_bins", self.radius_rho);
+        }
+        Ok(())
+    }
 }
 
 /// A peak: its cell, its count and its refined line.
@@ -1357,8 +1391,8 @@ impl<'a> Accumulator<'a> {
     /// Finds up to `out.len()` peaks (module docs: threshold, suppression,
     /// order, ties) and refines them; returns how many were written.
     ///
-    /// Errors: empty `out` (K = 0) or `threshold = 0` ->
-    /// [`Error::BadParameter`].
+    /// Errors: empty `out` (K = 0) or settings refused by
+    /// [`PeakParams::check`] -> [`Error::BadParameter`].
     ///
     /// ```
     /// # use fixsight::lines::{Accumulator, Peak, PeakParams, VoteParams};
@@ -1378,13 +1412,7 @@ impl<'a> Accumulator<'a> {
                 got: 0,
             });
         }
-        if pp.threshold == 0 {
-            return Err(Error::BadParameter {
-                name: "threshold",
-                expected: "1..=65535",
-                got: 0,
-            });
-        }
+        pp.check(&self.p)?;
         let (tn, r) = (self.p.theta_bins, self.p.rho_bins);
         let k = out.len();
         let mut n = 0usize;

@@ -169,4 +169,30 @@ fn bad_input_gives_typed_errors() {
     assert!(acc.vote_row(240, &EdgeRow::plain(&row)).is_err());
     let mut none: [Peak; 0] = [];
     assert!(acc.peaks(&PeakParams::DEMO, &mut none).is_err());
+    // A suppression neighbourhood wider than the accumulator is refused
+    // before any cell is visited (a radius of 10^9 once looped for
+    // minutes; found by the hostile-input campaign).
+    acc.vote_point(100, 100, Some(0), 1).unwrap();
+    let mut out = [Peak::default(); 2];
+    for (rt, rb, field) in [
+        (1_000_000_000, 1, "radius_theta"),
+        (1, usize::MAX, "radius_rho"),
+        (p.theta_bins + 1, 0, "radius_theta"),
+    ] {
+        let pp = PeakParams {
+            threshold: 1,
+            radius_theta: rt,
+            radius_rho: rb,
+        };
+        match acc.peaks(&pp, &mut out) {
+            Err(fixsight::Error::BadParameter { name, .. }) => assert_eq!(name, field),
+            other => panic!("{field}: {other:?}"),
+        }
+    }
+    let edge = PeakParams {
+        threshold: 1,
+        radius_theta: p.theta_bins,
+        radius_rho: p.rho_bins,
+    };
+    assert_eq!(acc.peaks(&edge, &mut out).unwrap(), 1);
 }

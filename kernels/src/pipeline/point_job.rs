@@ -59,7 +59,8 @@ impl PointJobConfig {
     /// Checks every stage's settings and what point mode adds: unit votes
     /// (`vote.weight_shift` `None`), a gate code that fits a byte
     /// (`vote.theta_step_log2 >= 9` when the votes are gated, see
-    /// [`VoteParams::gate_code`]), a peak threshold of at least 1.
+    /// [`VoteParams::gate_code`]), peak settings that pass
+    /// [`PeakParams::check`].
     ///
     /// ```
     /// use fixsight::pipeline::PointJobConfig;
@@ -85,14 +86,7 @@ impl PointJobConfig {
                 got: self.vote.theta_step_log2 as i64,
             });
         }
-        if self.peaks.threshold == 0 {
-            return Err(Error::BadParameter {
-                name: "peaks.threshold",
-                expected: "1..=65535",
-                got: 0,
-            });
-        }
-        Ok(())
+        self.peaks.check(&self.vote)
     }
 }
 
