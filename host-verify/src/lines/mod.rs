@@ -64,6 +64,10 @@
 //! | `lines.correct_point` | `edges` u8, `gx`, `gy` i16, `weights` u16, `grid` i32 (2 channels, `cols x rows`) | [`VoteParamsJson`] plus `grid_log2`, `frac_bits` | `cells` u16 |
 //! | `lines.peak` | as `lines.accumulator` | [`VoteParamsJson`] plus `threshold`, `radius_theta`, `radius_rho`, `k` | `peaks` i32, `5 x k` (theta_bin, rho_bin, votes, rho, theta; zero rows after the last) |
 //! | `lines.segments` | `edges` u8 | `rho`, `theta`, `min_length`, `max_gap`, `tolerance`, `k` | `segments` i32, `5 x k` (x0, y0, x1, y1, hits; zero rows after the last) |
+//!
+//! `k` is at most [`MAX_K`] (the cap of one call through the C ABI); the
+//! vote parameters and the peak settings are checked before any buffer is
+//! sized from them.
 
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::edge_chain as canny;
@@ -103,6 +107,18 @@ pub const FAMILY: Family = Family {
     golden_cases,
     run_vector,
 };
+
+/// Largest `k` (peaks or segments) of a golden vector: 32, the cap of one
+/// call through the C ABI (`FXS_LINES_MAX_OUT`).
+pub const MAX_K: usize = 32;
+
+/// `k` of a vector, refused above [`MAX_K`].
+fn vector_k(k: usize) -> Result<usize, String> {
+    if k > MAX_K {
+        return Err(format!("k = {k} is above the largest output count {MAX_K}"));
+    }
+    Ok(k.max(1))
+}
 
 /// Goal share of recovered known lines.
 pub const KNOWN_LINES_GOAL: f64 = 0.99;
@@ -334,6 +350,9 @@ pub fn run_vote(
     pp: &PeakParams,
     k: usize,
 ) -> Result<VoteRun, fixsight::Error> {
+    // Checked before anything is sized from them.
+    p.check()?;
+    pp.check(p)?;
     let mut cells = vec![0u16; p.cells()];
     let mut trig = vec![[0i16; 2]; p.theta_bins];
     let mut acc = Accumulator::new(*p, &mut cells, &mut trig)?;
@@ -1420,7 +1439,8 @@ pub fn run_vector(
     let edges = eb.to_u8()?;
     if kernel == "lines.segments" {
         let sp: SegmentParamsJson = parse_params(kernel, params)?;
-        let mut out = vec![Segment::default(); sp.k.max(1)];
+        let k = vector_k(sp.k)?;
+        let mut out = vec![Segment::default(); k];
         let n = segments(
             &ImageView::new(&edges, w, h, w).map_err(e)?,
             &Line {
@@ -1433,14 +1453,14 @@ pub fn run_vector(
                 max_gap: sp.max_gap,
                 tolerance: sp.tolerance,
             },
-            &mut out[..sp.k.max(1)],
+            &mut out,
         )
         .map_err(e)?;
-        let mut v = vec![0i32; 5 * sp.k.max(1)];
+        let mut v = vec![0i32; 5 * k];
         for (o, s) in v.chunks_exact_mut(5).zip(&out[..n]) {
             o.copy_from_slice(&[s.x0, s.y0, s.x1, s.y1, s.hits as i32]);
         }
-        return Ok(vec![Blob::from_i32("segments", 5, sp.k.max(1), 1, &v)]);
+        return Ok(vec![Blob::from_i32("segments", 5, k, 1, &v)]);
     }
     let pj: VoteParamsJson = parse_params(kernel, params)?;
     let p = pj.params();
@@ -1465,7 +1485,7 @@ pub fn run_vector(
         radius_theta: pj.radius_theta.unwrap_or(1),
         radius_rho: pj.radius_rho.unwrap_or(1),
     };
-    let k = pj.k.unwrap_or(1);
+    let k = vector_k(pj.k.unwrap_or(1))?;
     let run = match kernel {
         "lines.accumulator" | "lines.peak" => run_vote(&p, &inp, None, &pp, k).map_err(e)?,
         "lines.correct_point" => {
