@@ -8,7 +8,7 @@
 use fixsight::warp::ControlGrid;
 use fixsight_verify::calibrate::{report::lens_text, ModelKind};
 use fixsight_verify::lines::{build_correction_grid, GRID_FRAC_BITS, GRID_LOG2};
-use fixsight_verify::pipeline::job::{run_f64, run_fixed};
+use fixsight_verify::pipeline::job::{run_f64, run_fixed, stage_controls};
 use fixsight_verify::sequence::{Sequence, DEMO_SEQUENCE};
 use std::fs;
 use std::path::PathBuf;
@@ -80,8 +80,7 @@ fn tape_edges_are_the_library_runs() {
     .unwrap();
     let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).unwrap();
     let fixed = run_fixed(&frames, Some(&grid)).unwrap();
-    let th: Vec<_> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
-    let reference = run_f64(&seq, &frames, &th);
+    let reference = run_f64(&seq, &frames, &stage_controls(&fixed));
     let listed = json["frames"].as_array().unwrap();
     assert_eq!(listed.len(), 8);
     let mut found = 0;

@@ -482,11 +482,23 @@ impl TrackConfig {
     /// from the image centre, reference point at the bottom-centre pixel
     /// `(0, 119.5)` px:
     ///
-    /// * rho: measurement sd 0.5 px (`R = 64` units^2), `q = 0.001`
-    ///   (66 in Q16; acceleration sd 0.016 px/frame^2, a slow drift), new-track
-    ///   velocity sd 1 px/frame (`init = 256 u^2 / R = 4`);
-    /// * theta: measurement sd 0.3 degree (109 units, `R = 11881`),
-    ///   `q = 0.001`, new-track velocity sd 0.3 degree/frame (`init = 1`);
+    /// * measurement variance `R = step^2 / 12` on each axis, `step` the
+    ///   bin of [`crate::lines::VoteParams::DEMO_QVGA`] in the tracker's
+    ///   units: a line is measured as a peak cell of the accumulator, and
+    ///   the error of a quantiser with step `q` uniform over the step has
+    ///   variance `q^2 / 12` (Bennett 1948, "Spectra of quantized signals",
+    ///   Bell System Technical Journal 27; cited from memory). That is the
+    ///   error of an unrefined peak: the refinement reduces it and noise on
+    ///   the edge points adds to it, so it sets the scale from the
+    ///   measuring instrument rather than from any scene;
+    /// * rho: rows of 2 px = 32 units, `R = floor(1024 / 12) = 85` units^2
+    ///   (sd 0.58 px), `q = 0.001` (66 in Q16; a slow drift), new-track
+    ///   velocity sd 1 px/frame (`init = 256 u^2 / R`, Q16
+    ///   `round(256 * 65536 / 85) = 197379`);
+    /// * theta: columns of 2.8125 degrees = 1024 units,
+    ///   `R = floor(1024^2 / 12) = 87381` units^2 (sd 0.81 degree),
+    ///   `q = 0.001`, new-track velocity sd 0.3 degree/frame (109 units,
+    ///   `init = 11881 / R`, Q16 `round(11881 * 65536 / 87381) = 8911`);
     /// * gate 99 % ([`GATE_99_Q8`]); confirmed after 3 hits; 5 missed
     ///   frames survived; births from weight 40 up; warning horizon 90
     ///   frames (3 s at 30 frames/s), from the 15th hit of a track on;
@@ -495,9 +507,9 @@ impl TrackConfig {
     ///   time of the steady-state filter for this `q` (module docs, "Drift
     ///   warning").
     ///
-    /// Except the two debounce counts, these are design choices for the
-    /// demo sequence (common practice, no source), not measured camera
-    /// figures.
+    /// Except the measurement variances and the two debounce counts, these
+    /// are design choices for the demo sequence (common practice, no
+    /// source), not measured camera figures.
     ///
     /// ```
     /// let c = fixsight::track::TrackConfig::DEMO;
@@ -505,14 +517,14 @@ impl TrackConfig {
     /// ```
     pub const DEMO: TrackConfig = TrackConfig {
         rho: AxisNoise {
-            meas_var: 64,
+            meas_var: 85,
             accel_index_q16: 66,
-            init_vel_var_q16: 4 << 16,
+            init_vel_var_q16: 197_379,
         },
         theta: AxisNoise {
-            meas_var: 11881,
+            meas_var: 87_381,
             accel_index_q16: 66,
-            init_vel_var_q16: 1 << 16,
+            init_vel_var_q16: 8_911,
         },
         gate_q8: GATE_99_Q8,
         confirm_hits: 3,

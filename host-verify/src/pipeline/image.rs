@@ -25,7 +25,9 @@
 //!   rounded to 8 bits (the `f64` edge chain takes 8-bit frames); then the
 //!   point-mode `f64` job after its edge stage
 //!   ([`super::job::run_f64_with`]) with each edge pixel voting at its own
-//!   position, on the thresholds the fixed stage used.
+//!   position, with the fixed stage's control decisions
+//!   ([`super::job::StageControl`]: its thresholds, and no tape handed to
+//!   the tracker in a frame whose gate bytes overflowed).
 //!
 //! # Metrics
 //!
@@ -46,8 +48,8 @@
 //! for `pipeline.point_job` (the `outside` word is always 0).
 
 use super::job::{
-    compare_runs, frame_record, job_config, outcome, run_f64_with, run_frames, FixedRun, JobParams,
-    RECORD_WORDS_PER_FRAME, VECTOR_PEAKS, VECTOR_TRACKS,
+    compare_runs, frame_record, job_config, outcome, run_f64_with, run_frames, stage_controls,
+    FixedRun, JobParams, RECORD_WORDS_PER_FRAME, VECTOR_PEAKS, VECTOR_TRACKS,
 };
 use crate::contract::KernelReport;
 use crate::golden::{Blob, GoldenCase};
@@ -177,10 +179,9 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
     let fixed = run_fixed(&frames, grid)?;
     let mut pr = composed_differences(&frames, &grid, &fixed)?;
-    let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
     let map = exact_map(seq.camera(), seq.view(), w, h);
     let warped: Vec<Vec<u8>> = frames.iter().map(|f| warp_f64(f, &map, w, h)).collect();
-    let reference = run_f64_with(&warped, &thresholds, &|x, y| Some((x, y)));
+    let reference = run_f64_with(&warped, &stage_controls(&fixed), &|x, y| Some((x, y)));
     let mut row = compare_runs(
         IMAGE_KERNEL,
         spec,

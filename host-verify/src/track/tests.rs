@@ -192,6 +192,25 @@ fn golden_cases_recompute() {
 }
 
 #[test]
+fn demo_measurement_variances_are_the_accumulator_bins_quantisation() {
+    // R = step^2 / 12, the variance of a quantisation error uniform over one
+    // step (Bennett 1948, "Spectra of quantized signals", Bell System
+    // Technical Journal 27; cited from memory), with the steps of the demo
+    // vote in the tracker's units: rho in 1/16 px (the vote's rows are
+    // 2^rho_step_log2 of them), theta in binary units (its columns are
+    // 2^theta_step_log2).
+    let (cfg, v) = (TrackConfig::DEMO, fixsight::lines::VoteParams::DEMO_QVGA);
+    let var = |log2: u32| (1u64 << (2 * log2)) as f64 / 12.0;
+    assert_eq!(cfg.rho.meas_var as f64, var(v.rho_step_log2).floor());
+    assert_eq!(cfg.theta.meas_var as f64, var(v.theta_step_log2).floor());
+    // New-track velocity variances, normalised by R in Q16: 1 px/frame
+    // (16 units) and 0.3 degree/frame (109 units); design choices.
+    let init = |sd: f64, r: u32| (sd * sd * 65536.0 / r as f64).round() as u32;
+    assert_eq!(cfg.rho.init_vel_var_q16, init(16.0, cfg.rho.meas_var));
+    assert_eq!(cfg.theta.init_vel_var_q16, init(109.0, cfg.theta.meas_var));
+}
+
+#[test]
 fn demo_debounce_counts_follow_the_filter_settling() {
     // The steady-state gains and pole of the demo's q = 66 / 65536 (both
     // axes), the figures the kernel's module docs quote.

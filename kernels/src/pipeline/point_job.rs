@@ -120,7 +120,10 @@ pub struct JobReport {
     /// (no vote; ungated points are not corrected, so not counted here).
     pub outside: u32,
     /// Edge points whose candidate came after the first `CAP` of the frame
-    /// when the votes are gated: no gate byte was kept, no vote.
+    /// when the votes are gated: no gate byte was kept, no vote. When it is
+    /// not 0 the frame's vote is incomplete: its peaks, lines and marking
+    /// are reported, but the tracker gets no detection (every track
+    /// coasts), so a partial vote never moves or starts a track.
     pub ungated: u32,
     /// Peaks found (at most `K`), in [`PointJob::peaks`] and
     /// [`PointJob::lines`].
@@ -566,7 +569,12 @@ impl<
         }
         self.found = found;
         let marking = marking::select(&self.lines[..found], &self.cfg.marking);
-        let (dets, n) = tape_detections(&marking, &self.lines[..found]);
+        let (dets, mut n) = tape_detections(&marking, &self.lines[..found]);
+        if ungated > 0 {
+            // An incomplete vote (edge points without a gate byte cast no
+            // vote) is reported but not tracked: the tracks coast.
+            n = 0;
+        }
         let frame = self.frame;
         self.frame = self.frame.saturating_add(1);
         let tracker = self.tracker.as_mut().ok_or(Error::StreamOrder {
@@ -818,6 +826,7 @@ pub(in crate::pipeline) mod tests {
         let lines: Vec<Candidate> = peaks.iter().map(|p| centre_line(&p.line, vw, vh)).collect();
         let m = marking::select(&lines, &cfg.marking);
         let (dets, nd) = tape_detections(&m, &lines);
+        let nd = if ungated > 0 { 0 } else { nd };
         let tr = tracker.update(frame, &dets[..nd]).unwrap();
         (acc.points(), acc.skipped(), ungated, peaks, lines, m, tr)
     }

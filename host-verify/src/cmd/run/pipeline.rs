@@ -51,7 +51,7 @@ use crate::files;
 use crate::lens::{read_lens_file, LensSpec};
 use crate::lines::{build_correction_grid, corrected_of, GRID_FRAC_BITS, GRID_LOG2};
 use crate::pipeline::image::warp_f64;
-use crate::pipeline::job::{run_f64_with, run_fixed, FixedVsF64, JobFrame};
+use crate::pipeline::job::{run_f64_with, run_fixed, stage_controls, FixedVsF64, JobFrame};
 use crate::warp::reference::exact_map;
 use anyhow::{bail, Context};
 use fixsight::pipeline::PointJobConfig;
@@ -188,12 +188,12 @@ pub fn run(
         None => None,
     };
     let fixed = run_fixed(&frames, grid.as_ref()).map_err(|e| anyhow::anyhow!(e))?;
-    let thresholds: Vec<(u16, u16)> = fixed.records.iter().map(|r| r.0.edges.thresholds).collect();
+    let controls = stage_controls(&fixed);
     let reference = match &spec {
-        Some(s) => run_f64_with(&frames, &thresholds, &|x, y| {
+        Some(s) => run_f64_with(&frames, &controls, &|x, y| {
             corrected_of(&s.camera, &s.view, x, y)
         }),
-        None => run_f64_with(&frames, &thresholds, &|x, y| Some((x, y))),
+        None => run_f64_with(&frames, &controls, &|x, y| Some((x, y))),
     };
     let cmp = FixedVsF64::of(&fixed.frames, &reference);
     let map = spec
