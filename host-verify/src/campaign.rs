@@ -1080,11 +1080,14 @@ fn lines_case(r: &mut ChaCha8Rng) -> Outcome {
     };
     let k = r.random_range(0usize..7);
     let mut out = vec![Peak::default(); k];
+    let refusable =
+        k == 0 || pp.threshold == 0 || pp.radius_theta > p.theta_bins || pp.radius_rho > p.rho_bins;
     match acc.peaks(&pp, &mut out) {
-        Err(_) => Rejected,
-        Ok(_) if k == 0 || pp.threshold == 0 => Wrong(format!(
-            "peaks accepted k = {k}, threshold {}",
-            pp.threshold
+        Err(_) if refusable => Rejected,
+        Err(e) => Wrong(format!("peaks refused valid settings {pp:?}: {e}")),
+        Ok(_) if refusable => Wrong(format!(
+            "peaks accepted k = {k}, threshold {}, radii {} x {} on {} x {} cells",
+            pp.threshold, pp.radius_theta, pp.radius_rho, p.theta_bins, p.rho_bins
         )),
         Ok(got) => {
             let real: Vec<f64> = streamed.iter().map(|&v| v as f64).collect();

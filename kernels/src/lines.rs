@@ -129,9 +129,10 @@
 //!
 //! ```text
 //! m(u) = C[u][b-1] + C[u][b] + C[u][b+1]            for u = t-1, t, t+1
+//! h(u) = max(C[u][b-1], C[u][b], C[u][b+1])
 //! c(u) = rho_b + rdiv((C[u][b+1] - C[u][b-1]) << r, m(u))    (rho_b when m(u) = 0)
-//! den  = 2 * (2 m(t) - m(t-1) - m(t+1))
-//! off  = clamp(rdiv((m(t+1) - m(t-1)) << s, den), -2^(s-1), 2^(s-1))   (0 when den <= 0)
+//! den  = 2 * (2 h(t) - h(t-1) - h(t+1))
+//! off  = clamp(rdiv((h(t+1) - h(t-1)) << s, den), -2^(s-1), 2^(s-1))   (0 when den <= 0)
 //! rho  = c(t) + rdiv((c(u) - c(t)) * |off|, 2^s)   with u = t+1 if off > 0, t-1 if off < 0,
 //!                                                  when that column exists and m(u) > 0; else c(t)
 //! a    = (theta_start + t * 2^s + off) mod 2^17  ->  Line::from_turn(a, rho, C[t][b])
@@ -139,8 +140,13 @@
 //!
 //! `c(u)` is the centroid of the column's vote mass (the mean `rho` of the
 //! points, since votes are split linearly), `off` the vertex of the
-//! parabola through the three column masses, and `rho` the centroid moved
-//! to the refined angle along its neighbour column.
+//! parabola through the three columns' peak heights `h(u)` (three-point
+//! parabolic interpolation of a sampled peak; common practice, no source),
+//! and `rho` the centroid moved to the refined angle along its neighbour
+//! column. The heights, not the masses, locate the angle: a line's votes
+//! in a column away from its angle spread over more rows than the three
+//! summed, and a second line a few rows away (the other edge of a tape)
+//! adds to the masses but not to the peak height.
 //!
 //! # Segments ([`segments`])
 //!
@@ -1488,7 +1494,12 @@ impl<'a> Accumulator<'a> {
                 rho_b + rdiv((self.at(u, bi + 1) - self.at(u, bi - 1)) << r, m)
             }
         };
-        let (ml, m0, mr) = (mass(ti - 1), mass(ti), mass(ti + 1));
+        let height = |u: i64| {
+            self.at(u, bi - 1)
+                .max(self.at(u, bi))
+                .max(self.at(u, bi + 1))
+        };
+        let (ml, m0, mr) = (height(ti - 1), height(ti), height(ti + 1));
         let den = 2 * (2 * m0 - ml - mr);
         let half = 1i64 << (s - 1);
         let off = if den <= 0 {

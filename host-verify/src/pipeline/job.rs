@@ -321,7 +321,8 @@ fn refine_f64(p: &VoteParams, cells: &[f64], t: usize, b: usize) -> (f64, f64) {
             rho_b + (at(u, bi + 1) - at(u, bi - 1)) * step / m
         }
     };
-    let (ml, m0, mr) = (mass(ti - 1), mass(ti), mass(ti + 1));
+    let height = |u: i64| at(u, bi - 1).max(at(u, bi)).max(at(u, bi + 1));
+    let (ml, m0, mr) = (height(ti - 1), height(ti), height(ti + 1));
     let den = 2.0 * (2.0 * m0 - ml - mr);
     let s = (1u32 << p.theta_step_log2) as f64;
     let off = if den <= 0.0 {

@@ -873,7 +873,11 @@ pub(in crate::pipeline) mod tests {
             let cfg = PointJobConfig {
                 edges,
                 vote,
-                peaks: PeakParams { threshold, radius_theta: radius, radius_rho: radius },
+                peaks: PeakParams {
+                    threshold,
+                    radius_theta: radius.min(vote.theta_bins),
+                    radius_rho: radius.min(vote.rho_bins),
+                },
                 ..PointJobConfig::DEMO_QVGA
             };
             let (geom, pts) = grid_points(TW, TH, k, seeds[0], amp);
