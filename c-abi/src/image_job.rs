@@ -19,16 +19,16 @@
 //! only.
 
 use crate::boundary::{
-    border, buf, disjoint, load, load_mut, push_row, storage, store_configured, Checked, Span,
+    border, buf, disjoint, load, load_mut, storage, store_configured, Checked, Span,
     FXS_BORDER_CLAMP,
 };
 use crate::lines::FxsLinePeak;
 use crate::marking::FxsMarkingLine;
 use crate::point_job::{
-    config_c_of, end_frame, read_lines, read_peaks, read_track_words, FxsPointJobConfig,
-    FxsPointJobReport, JobObj, LineStage, FXS_POINT_JOB_BINS, FXS_POINT_JOB_GATE_BYTES,
-    FXS_POINT_JOB_MAP_WORDS, FXS_POINT_JOB_MAX_WIDTH, FXS_POINT_JOB_PEAKS, FXS_POINT_JOB_RHO_BINS,
-    FXS_POINT_JOB_THETA_BINS, FXS_POINT_JOB_TRACKS,
+    config_c_of, end_frame, push_job_row, read_lines, read_peaks, read_track_words,
+    FxsPointJobConfig, FxsPointJobReport, JobObj, LineStage, FXS_POINT_JOB_BINS,
+    FXS_POINT_JOB_GATE_BYTES, FXS_POINT_JOB_MAP_WORDS, FXS_POINT_JOB_MAX_WIDTH,
+    FXS_POINT_JOB_PEAKS, FXS_POINT_JOB_RHO_BINS, FXS_POINT_JOB_THETA_BINS, FXS_POINT_JOB_TRACKS,
 };
 use crate::status::{finish, kernel, FxsStatus};
 use crate::warp::{FxsControlGrid, GridObj};
@@ -194,17 +194,8 @@ pub unsafe extern "C" fn fxs_image_job_push_row(
     row_len: usize,
     rows_pushed: *mut i32,
 ) -> FxsStatus {
-    // SAFETY: forwarded to the caller; pointers checked first.
-    finish(unsafe {
-        push_row(
-            job,
-            row,
-            row_len,
-            rows_pushed,
-            |o: &ImageJobObj| o.borrowed,
-            |o, r| kernel(o.job.push_row(r)),
-        )
-    })
+    // SAFETY: forwarded to the caller.
+    unsafe { push_job_row::<ImageJobObj>(job, row, row_len, rows_pushed, |o, r| o.job.push_row(r)) }
 }
 
 /// `fxs_image_job_finish`: ends a frame once every camera row is in and

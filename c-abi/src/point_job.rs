@@ -194,6 +194,23 @@ pub unsafe extern "C" fn fxs_point_job_push_row(
     row_len: usize,
     rows_pushed: *mut i32,
 ) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    unsafe { push_job_row::<JobObj>(job, row, row_len, rows_pushed, |j, r| j.push_row(r)) }
+}
+
+/// `fxs_*_job_push_row` of the job in `job`: the row checks of
+/// `boundary::push_row` (against the job and the memory it keeps), then
+/// `push`.
+///
+/// # Safety
+/// As `fxs_point_job_push_row`.
+pub(crate) unsafe fn push_job_row<J: LineStage>(
+    job: *mut J::Storage,
+    row: *const u8,
+    row_len: usize,
+    rows_pushed: *mut i32,
+    push: impl FnOnce(&mut J, &[u8]) -> fixsight::Result<usize>,
+) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
         push_row(
@@ -201,8 +218,8 @@ pub unsafe extern "C" fn fxs_point_job_push_row(
             row,
             row_len,
             rows_pushed,
-            |j: &JobObj| j.borrowed(),
-            |j, r| kernel(j.push_row(r)),
+            |j: &J| j.borrowed(),
+            |j, r| kernel(push(j, r)),
         )
     })
 }
