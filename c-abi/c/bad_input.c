@@ -68,7 +68,8 @@ static void statuses(void) {
             sizeof(fxs_control_grid) == FXS_CONTROL_GRID_SIZE &&
             sizeof(fxs_lines_accumulator) == FXS_LINES_ACCUMULATOR_SIZE &&
             sizeof(fxs_tracker) == FXS_TRACKER_SIZE && sizeof(fxs_edge_stream) == FXS_EDGE_STREAM_SIZE &&
-            sizeof(fxs_grid_stream) == FXS_GRID_STREAM_SIZE && sizeof(fxs_point_job) == FXS_POINT_JOB_SIZE)
+            sizeof(fxs_grid_stream) == FXS_GRID_STREAM_SIZE && sizeof(fxs_point_job) == FXS_POINT_JOB_SIZE &&
+            sizeof(fxs_image_job) == FXS_IMAGE_JOB_SIZE)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -78,7 +79,8 @@ static void statuses(void) {
             ALIGN_OF(fxs_control_grid) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_lines_accumulator) == FXS_OBJECT_ALIGN &&
             ALIGN_OF(fxs_tracker) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_edge_stream) == FXS_OBJECT_ALIGN &&
-            ALIGN_OF(fxs_grid_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_point_job) == FXS_OBJECT_ALIGN)
+            ALIGN_OF(fxs_grid_stream) == FXS_OBJECT_ALIGN && ALIGN_OF(fxs_point_job) == FXS_OBJECT_ALIGN &&
+            ALIGN_OF(fxs_image_job) == FXS_OBJECT_ALIGN)
                ? FXS_OK
                : -1,
            FXS_OK);
@@ -797,6 +799,8 @@ static void grid_stream_cases(void) {
     expect("grid_stream.row_over_stream", fxs_warp_grid_stream_push_row(&st, st.bytes, 8, &n), FXS_E_OVERLAP);
     expect("grid_stream.count_over_row", fxs_warp_grid_stream_push_row(&st, src, 8, (int32_t *)(void *)src),
            FXS_E_OVERLAP);
+    expect("grid_stream.count_over_points",
+           fxs_warp_grid_stream_push_row(&st, src, 8, (int32_t *)(uintptr_t)identity8), FXS_E_OVERLAP);
     expect("grid_stream.row_0", fxs_warp_grid_stream_push_row(&st, src, 8, &n) == FXS_OK && n == 1 ? FXS_OK : -1,
            FXS_OK);
     expect("grid_stream.row_1_no_count", fxs_warp_grid_stream_push_row(&st, src + 8, 8, 0), FXS_OK);
@@ -984,6 +988,203 @@ static void point_job_cases(void) {
            FXS_E_NOT_INITIALISED);
 }
 
+static fxs_image_job ij, ij_zero;
+
+/* fxs_image_job_init of ij over `grid` (16 x 12) with one field of `demo` changed. */
+#define IMAGE_INIT(name, field, value, want)                                                                          \
+    do {                                                                                                          \
+        c = demo;                                                                                                 \
+        c.field = (value);                                                                                        \
+        expect("image_job." name, fxs_image_job_init(&ij, &c, &grid, ring, sizeof ringw), want);                 \
+    } while (0)
+
+/* A 16 x 12 camera frame with a bright right half. */
+static void step_row(uint8_t *row) {
+    for (int32_t x = 0; x < 16; x++) row[x] = x < 9 ? 30 : 220;
+}
+
+static void image_job_cases(void) {
+    fxs_image_job_config demo, c;
+    fxs_point_job_config pc;
+    fxs_point_job_report r, rp;
+    fxs_warp_geometry g = {16, 12, 16, 12, 2}, g8 = {8, 8, 8, 8, 2};
+    fxs_control_grid grid, grid8, grid_zero;
+    fxs_line_peak pk[FXS_POINT_JOB_PEAKS], pkp[FXS_POINT_JOB_PEAKS];
+    fxs_marking_line ln[FXS_POINT_JOB_PEAKS], lnp[FXS_POINT_JOB_PEAKS];
+    int32_t pts[40], n = 0, found = -1, foundp = -1, nl = -1, nlp = -1, w[FXS_TRACK_WORDS], same = 1;
+    uint32_t ringw[8]; /* 32 bytes: two camera rows, word-aligned for the overlap cases */
+    uint8_t *ring = (uint8_t *)(void *)ringw, row[16];
+    uintptr_t len = 0;
+    /* The identity grid of a 16 x 12 frame, step 4, F = 2 (5 x 4 points). */
+    for (int32_t k = 0; k < 20; k++) {
+        pts[2 * k] = 16 * (k % 5);
+        pts[2 * k + 1] = 16 * (k / 5);
+    }
+    memset(row, 40, sizeof row);
+    memset(&grid_zero, 0, sizeof grid_zero);
+    expect("image_job.demo_config",
+           fxs_image_job_demo_config(&demo) == FXS_OK && demo.border == FXS_BORDER_CLAMP &&
+                   demo.job.vote.width == 320 && demo.job.vote.height == 240 && demo.job.vote.weight_shift == -1
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("image_job.demo_config_null", fxs_image_job_demo_config(0), FXS_E_NULL_POINTER);
+    demo.job.vote.width = 16;
+    demo.job.vote.height = 12;
+    expect("image_job.grid", fxs_warp_control_grid_init(&grid, pts, 40, &g, 2), FXS_OK);
+    expect("image_job.grid8", fxs_warp_control_grid_init(&grid8, identity8, 18, &g8, 2), FXS_OK);
+    expect("image_job.ring_len", fxs_image_job_ring_len(&grid, &len) == FXS_OK && len == 32 ? FXS_OK : -1, FXS_OK);
+    expect("image_job.ring_len_null", fxs_image_job_ring_len(&grid, 0), FXS_E_NULL_POINTER);
+    expect("image_job.ring_len_null_grid", fxs_image_job_ring_len(0, &len), FXS_E_NULL_POINTER);
+    expect("image_job.ring_len_grid_not_initialised", fxs_image_job_ring_len(&grid_zero, &len), FXS_E_NOT_INITIALISED);
+    expect("image_job.ring_len_into_grid", fxs_image_job_ring_len(&grid, (uintptr_t *)(void *)grid.bytes),
+           FXS_E_OVERLAP);
+    expect("image_job.init_null_job", fxs_image_job_init(0, &demo, &grid, ring, 32), FXS_E_NULL_POINTER);
+    expect("image_job.init_misaligned",
+           fxs_image_job_init((fxs_image_job *)(void *)(a8 + 4), &demo, &grid, ring, 32), FXS_E_MISALIGNED);
+    expect("image_job.init_null_config", fxs_image_job_init(&ij, 0, &grid, ring, 32), FXS_E_NULL_POINTER);
+    expect("image_job.init_null_grid", fxs_image_job_init(&ij, &demo, 0, ring, 32), FXS_E_NULL_POINTER);
+    expect("image_job.init_grid_not_initialised", fxs_image_job_init(&ij, &demo, &grid_zero, ring, 32),
+           FXS_E_NOT_INITIALISED);
+    expect("image_job.init_null_ring", fxs_image_job_init(&ij, &demo, &grid, 0, 32), FXS_E_NULL_POINTER);
+    expect("image_job.init_config_in_job",
+           fxs_image_job_init(&ij, (const fxs_image_job_config *)(void *)ij.bytes, &grid, ring, 32), FXS_E_OVERLAP);
+    expect("image_job.ring_over_job", fxs_image_job_init(&ij, &demo, &grid, ij.bytes + 64, 32), FXS_E_OVERLAP);
+    expect("image_job.ring_over_grid", fxs_image_job_init(&ij, &demo, &grid, grid.bytes, 32), FXS_E_OVERLAP);
+    expect("image_job.ring_over_points", fxs_image_job_init(&ij, &demo, &grid, (uint8_t *)(void *)pts, 32),
+           FXS_E_OVERLAP);
+    expect("image_job.ring_over_config", fxs_image_job_init(&ij, &demo, &grid, (uint8_t *)(void *)&demo, 32),
+           FXS_E_OVERLAP);
+    expect("image_job.border_300", (c = demo, c.border = 300, fxs_image_job_init(&ij, &c, &grid, ring, 32)),
+           FXS_E_BAD_PARAMETER);
+    expect("image_job.border_minus_2", (c = demo, c.border = -2, fxs_image_job_init(&ij, &c, &grid, ring, 32)),
+           FXS_E_BAD_PARAMETER);
+    expect("image_job.ring_one_byte_short", fxs_image_job_init(&ij, &demo, &grid, ring, 31), FXS_E_BUFFER_TOO_SHORT);
+    expect("image_job.failed_init_leaves_uninitialised", fxs_image_job_reset(&ij), FXS_E_NOT_INITIALISED);
+    expect("image_job.grid_of_other_size", fxs_image_job_init(&ij, &demo, &grid8, ring, 32), FXS_E_SIZE_MISMATCH);
+    IMAGE_INIT("weighted_votes", job.vote.weight_shift, 2, FXS_E_BAD_PARAMETER);
+    IMAGE_INIT("theta_bins_above_capacity", job.vote.theta_bins, FXS_POINT_JOB_THETA_BINS + 1, FXS_E_BUFFER_TOO_SHORT);
+    IMAGE_INIT("vote_frame_other_than_grid", job.vote.height, 11, FXS_E_SIZE_MISMATCH);
+    IMAGE_INIT("peak_threshold_0", job.peaks.threshold, 0, FXS_E_BAD_PARAMETER);
+    IMAGE_INIT("meas_var_0", job.track.rho.meas_var, 0, FXS_E_BAD_PARAMETER);
+    IMAGE_INIT("low_above_high", job.edges.low, demo.job.edges.high + 1, FXS_E_THRESHOLD_ORDER);
+    expect("image_job.init", fxs_image_job_init(&ij, &demo, &grid, ring, 32), FXS_OK);
+    expect("image_job.bad_pointer_keeps_job",
+           fxs_image_job_init(&ij, &demo, &grid, 0, 32) == FXS_E_NULL_POINTER && fxs_image_job_reset(&ij) == FXS_OK
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("image_job.finish_before_rows", fxs_image_job_finish(&ij, &r), FXS_E_ROW_COUNT);
+    expect("image_job.finish_short_without_rows", fxs_image_job_finish_short(&ij, &r), FXS_E_STREAM_ORDER);
+    expect("image_job.row_too_short", fxs_image_job_push_row(&ij, row, 15, &n), FXS_E_ROW_LENGTH);
+    expect("image_job.row_too_long", fxs_image_job_push_row(&ij, a8, 17, &n), FXS_E_ROW_LENGTH);
+    expect("image_job.row_null", fxs_image_job_push_row(&ij, 0, 16, &n), FXS_E_NULL_POINTER);
+    expect("image_job.row_in_job", fxs_image_job_push_row(&ij, ij.bytes + 64, 16, &n), FXS_E_OVERLAP);
+    expect("image_job.row_over_ring", fxs_image_job_push_row(&ij, ring + 8, 16, &n), FXS_E_OVERLAP);
+    expect("image_job.count_over_ring", fxs_image_job_push_row(&ij, row, 16, (int32_t *)(void *)ringw), FXS_E_OVERLAP);
+    expect("image_job.count_over_points", fxs_image_job_push_row(&ij, row, 16, pts + 4), FXS_E_OVERLAP);
+    expect("image_job.finish_short_before_a_corrected_row",
+           fxs_image_job_push_row(&ij, row, 16, &n) == FXS_OK && n == 1 ? fxs_image_job_finish_short(&ij, &r) : -1,
+           FXS_E_STREAM_ORDER);
+    /* Inputs may share memory: a row read from the grid's points. */
+    expect("image_job.row_from_the_points", fxs_image_job_push_row(&ij, (const uint8_t *)(void *)pts, 16, &n) == FXS_OK
+                                                    && n == 2 ? FXS_OK : -1, FXS_OK);
+    for (int32_t y = 2; y < 12; y++) fxs_image_job_push_row(&ij, row, 16, &n);
+    expect("image_job.rows_pushed", n == 12 ? FXS_OK : -1, FXS_OK);
+    expect("image_job.row_past_height", fxs_image_job_push_row(&ij, row, 16, &n), FXS_E_STREAM_ORDER);
+    expect("image_job.report_over_job", fxs_image_job_finish(&ij, (fxs_point_job_report *)(void *)ij.bytes),
+           FXS_E_OVERLAP);
+    expect("image_job.report_over_ring", fxs_image_job_finish(&ij, (fxs_point_job_report *)(void *)ringw),
+           FXS_E_OVERLAP);
+    expect("image_job.report_over_points", fxs_image_job_finish(&ij, (fxs_point_job_report *)(void *)pts),
+           FXS_E_OVERLAP);
+    expect("image_job.finish_frame",
+           fxs_image_job_finish(&ij, &r) == FXS_OK && r.frame == 0 && r.outside == 0 && r.edges.width == 16 &&
+                   r.edges.height == 12
+               ? FXS_OK
+               : -1,
+           FXS_OK);
+    expect("image_job.finish_twice", fxs_image_job_finish(&ij, 0), FXS_E_ROW_COUNT);
+    expect("image_job.peaks_out_len_0", fxs_image_job_peaks(&ij, pk, 0, &found), FXS_E_BAD_PARAMETER);
+    expect("image_job.peaks_null_found", fxs_image_job_peaks(&ij, pk, FXS_POINT_JOB_PEAKS, 0), FXS_E_NULL_POINTER);
+    expect("image_job.peaks_into_job",
+           fxs_image_job_peaks(&ij, (fxs_line_peak *)(void *)ij.bytes, FXS_POINT_JOB_PEAKS, &found), FXS_E_OVERLAP);
+    expect("image_job.peaks_into_ring", fxs_image_job_peaks(&ij, (fxs_line_peak *)(void *)ringw, 1, &found),
+           FXS_E_OVERLAP);
+    expect("image_job.found_into_points", fxs_image_job_peaks(&ij, pk, 1, pts), FXS_E_OVERLAP);
+    expect("image_job.lines_null", fxs_image_job_lines(&ij, 0, FXS_POINT_JOB_PEAKS, &found), FXS_E_NULL_POINTER);
+    expect("image_job.lines_out_len_33", fxs_image_job_lines(&ij, ln, FXS_LINES_MAX_OUT + 1, &found),
+           FXS_E_BAD_PARAMETER);
+    expect("image_job.lines_into_points", fxs_image_job_lines(&ij, (fxs_marking_line *)(void *)pts, 1, &found),
+           FXS_E_OVERLAP);
+    expect("image_job.track_slot_4", fxs_image_job_track_words(&ij, FXS_POINT_JOB_TRACKS, w, FXS_TRACK_WORDS),
+           FXS_E_BAD_PARAMETER);
+    expect("image_job.track_negative_slot", fxs_image_job_track_words(&ij, -1, w, FXS_TRACK_WORDS), FXS_E_NEGATIVE);
+    expect("image_job.track_words_short", fxs_image_job_track_words(&ij, 0, w, FXS_TRACK_WORDS - 1),
+           FXS_E_BUFFER_TOO_SHORT);
+    expect("image_job.track_words_into_ring", fxs_image_job_track_words(&ij, 0, (int32_t *)(void *)ringw, 8),
+           FXS_E_OVERLAP);
+    expect("image_job.track_words_into_points", fxs_image_job_track_words(&ij, 0, pts, FXS_TRACK_WORDS),
+           FXS_E_OVERLAP);
+    expect("image_job.track_words_into_job",
+           fxs_image_job_track_words(&ij, 0, (int32_t *)(void *)ij.bytes, FXS_TRACK_WORDS), FXS_E_OVERLAP);
+    fxs_image_job_push_row(&ij, row, 16, &n);
+    expect("image_job.drop_frame", fxs_image_job_drop_frame(&ij), FXS_OK);
+    for (int32_t y = 0; y < 5; y++) fxs_image_job_push_row(&ij, row, 16, &n);
+    /* Five camera rows make four corrected rows: row y reads y and y + 1. */
+    expect("image_job.short_frame_after_drop",
+           fxs_image_job_finish_short(&ij, &r) == FXS_OK && r.frame == 2 && r.edges.height == 4 ? FXS_OK : -1,
+           FXS_OK);
+    expect("image_job.reset", fxs_image_job_reset(&ij), FXS_OK);
+    for (int32_t y = 0; y < 12; y++) fxs_image_job_push_row(&ij, row, 16, &n);
+    expect("image_job.frame_0_after_reset", fxs_image_job_finish(&ij, &r) == FXS_OK && r.frame == 0 ? FXS_OK : -1,
+           FXS_OK);
+    /* Through the identity grid the job is the point job on the same
+     * frame: same report, peaks and track slots, frame after frame (a
+     * peak threshold a 12-row frame can reach). */
+    c = demo;
+    c.job.peaks.threshold = 4;
+    pc = c.job;
+    expect("image_job.init_for_comparison",
+           fxs_image_job_init(&ij, &c, &grid, ring, 32) == FXS_OK ? fxs_point_job_init(&pj, &pc, 16, 12) : -1, FXS_OK);
+    step_row(row);
+    for (int32_t f = 0; f < 3 && same; f++) {
+        for (int32_t y = 0; y < 12; y++)
+            same = same && fxs_image_job_push_row(&ij, row, 16, 0) == FXS_OK &&
+                   fxs_point_job_push_row(&pj, row, 16, 0) == FXS_OK;
+        same = same && fxs_image_job_finish(&ij, &r) == FXS_OK && fxs_point_job_finish(&pj, 0, &rp) == FXS_OK &&
+               fxs_image_job_peaks(&ij, pk, FXS_POINT_JOB_PEAKS, &found) == FXS_OK &&
+               fxs_point_job_peaks(&pj, pkp, FXS_POINT_JOB_PEAKS, &foundp) == FXS_OK;
+        /* The step gives votes and a peak in frame 0; the automatic
+         * thresholds it carries over find no edge in the next ones. */
+        same = same && r.frame == (uint32_t)f && r.frame == rp.frame && r.voted == rp.voted &&
+               (f > 0 || (r.voted == 12 && r.peaks == 1)) && r.peaks == rp.peaks && found == foundp && r.edges.edge_points == rp.edges.edge_points &&
+               r.marking.found == rp.marking.found && r.track.born == rp.track.born &&
+               memcmp(pk, pkp, (size_t)found * sizeof pk[0]) == 0 &&
+               fxs_image_job_lines(&ij, ln, FXS_POINT_JOB_PEAKS, &nl) == FXS_OK &&
+               fxs_point_job_lines(&pj, lnp, FXS_POINT_JOB_PEAKS, &nlp) == FXS_OK && nl == found && nlp == nl;
+        for (int32_t i = 0; i < nl && same; i++)
+            same = ln[i].rho_q4 == lnp[i].rho_q4 && ln[i].theta == lnp[i].theta && ln[i].votes == lnp[i].votes;
+        for (int32_t s = 0; s < FXS_POINT_JOB_TRACKS && same; s++) {
+            int32_t wp[FXS_TRACK_WORDS];
+            same = fxs_image_job_track_words(&ij, s, w, FXS_TRACK_WORDS) == FXS_OK &&
+                   fxs_point_job_track_words(&pj, s, wp, FXS_TRACK_WORDS) == FXS_OK && memcmp(w, wp, sizeof w) == 0;
+        }
+    }
+    expect("image_job.identity_grid_is_the_point_job", same ? FXS_OK : -1, FXS_OK);
+
+    expect("image_job.not_initialised", fxs_image_job_push_row(&ij_zero, row, 16, &n), FXS_E_NOT_INITIALISED);
+    expect("image_job.finish_not_initialised", fxs_image_job_finish(&ij_zero, &r), FXS_E_NOT_INITIALISED);
+    expect("image_job.finish_short_not_initialised", fxs_image_job_finish_short(&ij_zero, &r), FXS_E_NOT_INITIALISED);
+    expect("image_job.drop_not_initialised", fxs_image_job_drop_frame(&ij_zero), FXS_E_NOT_INITIALISED);
+    expect("image_job.reset_not_initialised", fxs_image_job_reset(&ij_zero), FXS_E_NOT_INITIALISED);
+    expect("image_job.peaks_not_initialised", fxs_image_job_peaks(&ij_zero, pk, 1, &found), FXS_E_NOT_INITIALISED);
+    expect("image_job.lines_not_initialised", fxs_image_job_lines(&ij_zero, ln, 1, &found), FXS_E_NOT_INITIALISED);
+    expect("image_job.track_words_not_initialised", fxs_image_job_track_words(&ij_zero, 0, w, FXS_TRACK_WORDS),
+           FXS_E_NOT_INITIALISED);
+    expect("image_job.storage_of_a_point_job", fxs_image_job_reset((fxs_image_job *)(void *)&pj), FXS_E_NOT_INITIALISED);
+}
+
 int golden_bad_inputs(int32_t *n) {
     cases = failed = 0;
     statuses();
@@ -998,6 +1199,7 @@ int golden_bad_inputs(int32_t *n) {
     edge_stream_cases();
     grid_stream_cases();
     point_job_cases();
+    image_job_cases();
     *n = cases;
     return failed;
 }

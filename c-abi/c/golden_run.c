@@ -817,96 +817,169 @@ static fxs_point_job point_job; /* 51 KiB: a static, as a firmware would keep it
 #define JOB_WORDS                                                                                 \
     (9 + 5 * FXS_POINT_JOB_PEAKS + (int32_t)(sizeof(fxs_marking_result) / 4) + 6 + FXS_POINT_JOB_TRACKS * FXS_TRACK_WORDS)
 
-/* pipeline.point_job: PointJobConfig::DEMO_QVGA with the vector's fields
- * replaced (JobParams in host-verify/src/pipeline/job.rs), every frame of
- * the input through the job, one record per frame. */
+/* The job settings of a pipeline.point_job or pipeline.image_job vector:
+ * the demo configuration already in *c with the vector's fields replaced
+ * (JobParams in host-verify/src/pipeline/job.rs); the grid of input 1
+ * (output and source both the frame size) into *grid when grid_log2 is
+ * nonzero. */
+static fxs_status job_setup(const golden_vector *v, const img *in, const img *out, fxs_point_job_config *c,
+                            fxs_control_grid *grid, int32_t *frames, int32_t *height, int32_t *grid_log2) {
+    int32_t radius, w = in[0].w;
+    const golden_param *m = param(v, "marking"), *ref = param(v, "reference");
+    NEED(p_int(v, "frames", frames) == 0 && p_int(v, "height", height) == 0 && p_int(v, "grid_log2", grid_log2) == 0,
+         "frames, height, grid_log2");
+    NEED(*frames > 0 && in[0].elem == GOLDEN_U8 && in[0].h == *frames * *height, "frames do not fit the input");
+    NEED(out[0].elem == GOLDEN_I32 && out[0].n == (uint32_t)(JOB_WORDS * *frames), "record: i32, words x frames");
+    c->vote.width = w;
+    c->vote.height = *height;
+    NEED(p_int(v, "theta_start", &c->vote.theta_start) == 0 && p_int(v, "theta_step_log2", &c->vote.theta_step_log2) == 0 &&
+             p_int(v, "theta_bins", &c->vote.theta_bins) == 0 && p_int(v, "rho_step_log2", &c->vote.rho_step_log2) == 0 &&
+             p_int(v, "rho_bins", &c->vote.rho_bins) == 0 && p_int(v, "gate", &c->vote.gate) == 0,
+         "vote parameters");
+    NEED(p_int(v, "peak_threshold", &c->peaks.threshold) == 0 && p_int(v, "peak_radius", &radius) == 0, "peaks");
+    c->peaks.radius_theta = radius;
+    c->peaks.radius_rho = radius;
+    NEED(m && m->kind == GOLDEN_INTS && m->count == 10 && ref && ref->kind == GOLDEN_INTS && ref->count == 2,
+         "marking, reference");
+    c->marking.near_row_q4 = (int32_t)m->ints[0];
+    c->marking.far_row_q4 = (int32_t)m->ints[1];
+    c->marking.horizon_row_q4 = (int32_t)m->ints[2];
+    c->marking.max_tilt = (int32_t)m->ints[3];
+    c->marking.near_x_min_q4 = (int32_t)m->ints[4];
+    c->marking.near_x_max_q4 = (int32_t)m->ints[5];
+    c->marking.near_sep_min_q4 = (int32_t)m->ints[6];
+    c->marking.near_sep_nominal_q4 = (int32_t)m->ints[7];
+    c->marking.near_sep_max_q4 = (int32_t)m->ints[8];
+    c->marking.converge_tol_q4 = (int32_t)m->ints[9];
+    c->marking.contrast = FXS_CONTRAST_BRIGHTER;
+    c->track.reference_x_q4 = (int32_t)ref->ints[0];
+    c->track.reference_y_q4 = (int32_t)ref->ints[1];
+    NEED(p_u32(v, "rho_meas_var", &c->track.rho.meas_var) == 0, "rho_meas_var");
+    if (*grid_log2 != 0) {
+        fxs_warp_geometry g = {w, *height, w, *height, 0};
+        NEED(p_int(v, "grid_frac_bits", &g.frac_bits) == 0, "grid_frac_bits");
+        NEED(in[1].elem == GOLDEN_I32 && in[1].ch == 2, "grid must be i32 pairs");
+        TRY(fxs_warp_control_grid_init(grid, (const int32_t *)in[1].p, in[1].n, &g, *grid_log2));
+    }
+    return FXS_OK;
+}
+
+/* One frame's record words up to the track slots (the layout of
+ * frame_record in host-verify/src/pipeline/job.rs), from the report and
+ * the `found` peaks read back; *x then points at the track slots. */
+static fxs_status job_record(int32_t **at, const fxs_point_job_report *r, const fxs_line_peak *pk, int32_t found) {
+    int32_t *x = *at;
+    NEED(found == (int32_t)r->peaks, "peaks and report differ");
+    *x++ = (int32_t)r->frame;
+    *x++ = (int32_t)r->edges.edge_points;
+    *x++ = (int32_t)r->edges.candidates;
+    *x++ = r->edges.low;
+    *x++ = r->edges.high;
+    *x++ = (int32_t)r->voted;
+    *x++ = (int32_t)r->outside;
+    *x++ = (int32_t)r->ungated;
+    *x++ = (int32_t)r->peaks;
+    for (int32_t i = 0; i < FXS_POINT_JOB_PEAKS; i++, x += 5) {
+        x[0] = i < found ? pk[i].theta_bin : 0;
+        x[1] = i < found ? pk[i].rho_bin : 0;
+        x[2] = i < found ? pk[i].votes : 0;
+        x[3] = i < found ? pk[i].line.rho : 0;
+        x[4] = i < found ? pk[i].line.theta : 0;
+    }
+    *x++ = r->marking.found;
+    *x++ = r->marking.left;
+    *x++ = r->marking.right;
+    *x++ = r->marking.near_left_q4;
+    *x++ = r->marking.near_right_q4;
+    *x++ = r->marking.far_left_q4;
+    *x++ = r->marking.far_right_q4;
+    *x++ = (int32_t)r->marking.votes_lo;
+    *x++ = (int32_t)r->marking.votes_hi;
+    *x++ = r->marking.candidates;
+    *x++ = (int32_t)r->track.associated;
+    *x++ = (int32_t)r->track.born;
+    *x++ = (int32_t)r->track.dropped;
+    *x++ = r->track.warning_track >= 0;
+    *x++ = r->track.warning_track >= 0 ? r->track.warning_track : 0;
+    *x++ = r->track.warning_track >= 0 ? r->track.warning_frames : 0;
+    *at = x;
+    return FXS_OK;
+}
+
+/* pipeline.point_job: every frame of the input through the job, one
+ * record per frame. */
 static fxs_status run_point_job(const golden_vector *v, const img *in, const img *out) {
     fxs_point_job_config c;
     fxs_point_job_report r;
     fxs_control_grid grid;
     fxs_line_peak pk[FXS_POINT_JOB_PEAKS];
-    int32_t frames, height, grid_log2, radius, found, w = in[0].w, *o = (int32_t *)out[0].p;
-    const golden_param *m = param(v, "marking"), *ref = param(v, "reference");
+    int32_t frames, height, grid_log2, found, w = in[0].w, *x = (int32_t *)out[0].p;
     TRY(fxs_point_job_demo_config(&c));
-    NEED(p_int(v, "frames", &frames) == 0 && p_int(v, "height", &height) == 0 && p_int(v, "grid_log2", &grid_log2) == 0,
-         "frames, height, grid_log2");
-    NEED(frames > 0 && in[0].elem == GOLDEN_U8 && in[0].h == frames * height, "frames do not fit the input");
-    NEED(out[0].elem == GOLDEN_I32 && out[0].n == (uint32_t)(JOB_WORDS * frames), "record: i32, words x frames");
-    c.vote.width = w;
-    c.vote.height = height;
-    NEED(p_int(v, "theta_start", &c.vote.theta_start) == 0 && p_int(v, "theta_step_log2", &c.vote.theta_step_log2) == 0 &&
-             p_int(v, "theta_bins", &c.vote.theta_bins) == 0 && p_int(v, "rho_step_log2", &c.vote.rho_step_log2) == 0 &&
-             p_int(v, "rho_bins", &c.vote.rho_bins) == 0 && p_int(v, "gate", &c.vote.gate) == 0,
-         "vote parameters");
-    NEED(p_int(v, "peak_threshold", &c.peaks.threshold) == 0 && p_int(v, "peak_radius", &radius) == 0, "peaks");
-    c.peaks.radius_theta = radius;
-    c.peaks.radius_rho = radius;
-    NEED(m && m->kind == GOLDEN_INTS && m->count == 10 && ref && ref->kind == GOLDEN_INTS && ref->count == 2,
-         "marking, reference");
-    c.marking.near_row_q4 = (int32_t)m->ints[0];
-    c.marking.far_row_q4 = (int32_t)m->ints[1];
-    c.marking.horizon_row_q4 = (int32_t)m->ints[2];
-    c.marking.max_tilt = (int32_t)m->ints[3];
-    c.marking.near_x_min_q4 = (int32_t)m->ints[4];
-    c.marking.near_x_max_q4 = (int32_t)m->ints[5];
-    c.marking.near_sep_min_q4 = (int32_t)m->ints[6];
-    c.marking.near_sep_nominal_q4 = (int32_t)m->ints[7];
-    c.marking.near_sep_max_q4 = (int32_t)m->ints[8];
-    c.marking.converge_tol_q4 = (int32_t)m->ints[9];
-    c.marking.contrast = FXS_CONTRAST_BRIGHTER;
-    c.track.reference_x_q4 = (int32_t)ref->ints[0];
-    c.track.reference_y_q4 = (int32_t)ref->ints[1];
-    NEED(p_u32(v, "rho_meas_var", &c.track.rho.meas_var) == 0, "rho_meas_var");
-    if (grid_log2 != 0) {
-        fxs_warp_geometry g = {w, height, w, height, 0};
-        NEED(p_int(v, "grid_frac_bits", &g.frac_bits) == 0, "grid_frac_bits");
-        NEED(in[1].elem == GOLDEN_I32 && in[1].ch == 2, "grid must be i32 pairs");
-        TRY(fxs_warp_control_grid_init(&grid, (const int32_t *)in[1].p, in[1].n, &g, grid_log2));
-    }
+    TRY(job_setup(v, in, out, &c, &grid, &frames, &height, &grid_log2));
     TRY(fxs_point_job_init(&point_job, &c, w, height));
-    for (int32_t f = 0; f < frames; f++, o += JOB_WORDS) {
-        int32_t *x = o;
+    for (int32_t f = 0; f < frames; f++) {
         for (int32_t y = 0; y < height; y++)
             TRY(fxs_point_job_push_row(&point_job, (const uint8_t *)in[0].p + (f * height + y) * w, (uintptr_t)w, 0));
         TRY(fxs_point_job_finish(&point_job, grid_log2 != 0 ? &grid : 0, &r));
         TRY(fxs_point_job_peaks(&point_job, pk, FXS_POINT_JOB_PEAKS, &found));
-        NEED(found == (int32_t)r.peaks, "peaks and report differ");
-        *x++ = (int32_t)r.frame;
-        *x++ = (int32_t)r.edges.edge_points;
-        *x++ = (int32_t)r.edges.candidates;
-        *x++ = r.edges.low;
-        *x++ = r.edges.high;
-        *x++ = (int32_t)r.voted;
-        *x++ = (int32_t)r.outside;
-        *x++ = (int32_t)r.ungated;
-        *x++ = (int32_t)r.peaks;
-        for (int32_t i = 0; i < FXS_POINT_JOB_PEAKS; i++, x += 5) {
-            x[0] = i < found ? pk[i].theta_bin : 0;
-            x[1] = i < found ? pk[i].rho_bin : 0;
-            x[2] = i < found ? pk[i].votes : 0;
-            x[3] = i < found ? pk[i].line.rho : 0;
-            x[4] = i < found ? pk[i].line.theta : 0;
-        }
-        *x++ = r.marking.found;
-        *x++ = r.marking.left;
-        *x++ = r.marking.right;
-        *x++ = r.marking.near_left_q4;
-        *x++ = r.marking.near_right_q4;
-        *x++ = r.marking.far_left_q4;
-        *x++ = r.marking.far_right_q4;
-        *x++ = (int32_t)r.marking.votes_lo;
-        *x++ = (int32_t)r.marking.votes_hi;
-        *x++ = r.marking.candidates;
-        *x++ = (int32_t)r.track.associated;
-        *x++ = (int32_t)r.track.born;
-        *x++ = (int32_t)r.track.dropped;
-        *x++ = r.track.warning_track >= 0;
-        *x++ = r.track.warning_track >= 0 ? r.track.warning_track : 0;
-        *x++ = r.track.warning_track >= 0 ? r.track.warning_frames : 0;
+        TRY(job_record(&x, &r, pk, found));
         for (int32_t s = 0; s < FXS_POINT_JOB_TRACKS; s++, x += FXS_TRACK_WORDS)
             TRY(fxs_point_job_track_words(&point_job, s, x, FXS_TRACK_WORDS));
     }
     return FXS_OK;
+}
+
+/* ----------------------------------------------------------- image job -- */
+
+static fxs_image_job image_job; /* 51 KiB, as point_job */
+
+/* pipeline.image_job: ImageJobConfig::DEMO_QVGA with the vector's fields
+ * replaced (clamped border), camera rows pushed one at a time through the
+ * vector's grid into a ring of exactly fxs_image_job_ring_len bytes
+ * (`whole_frame`: a ring of the whole camera frame, and the row count
+ * checked after every push), one record per frame. */
+static fxs_status image_job_frames(const golden_vector *v, const img *in, const img *out, int whole_frame) {
+    fxs_image_job_config c;
+    fxs_point_job_report r;
+    fxs_control_grid grid;
+    fxs_line_peak pk[FXS_POINT_JOB_PEAKS];
+    int32_t frames, height, grid_log2, found, n = 0, w = in[0].w, *x = (int32_t *)out[0].p;
+    uintptr_t ring_len;
+    uint8_t *ring;
+    TRY(fxs_image_job_demo_config(&c));
+    TRY(job_setup(v, in, out, &c.job, &grid, &frames, &height, &grid_log2));
+    NEED(grid_log2 != 0 && c.border == FXS_BORDER_CLAMP, "image job: a grid, clamped border");
+    TRY(fxs_image_job_ring_len(&grid, &ring_len));
+    if (whole_frame) {
+        NEED(ring_len <= (uintptr_t)(w * height), "ring longer than the frame");
+        ring_len = (uintptr_t)(w * height);
+    }
+    ring = alloc((uint32_t)ring_len);
+    NEED(ring, "arena full");
+    TRY(fxs_image_job_init(&image_job, &c, &grid, ring, ring_len));
+    for (int32_t f = 0; f < frames; f++) {
+        for (int32_t y = 0; y < height; y++) {
+            TRY(fxs_image_job_push_row(&image_job, (const uint8_t *)in[0].p + (f * height + y) * w, (uintptr_t)w,
+                                       whole_frame ? &n : 0));
+            NEED(!whole_frame || n == y + 1, "camera rows pushed");
+        }
+        TRY(fxs_image_job_finish(&image_job, &r));
+        NEED(r.outside == 0, "image job: a point outside the vote frame");
+        TRY(fxs_image_job_peaks(&image_job, pk, FXS_POINT_JOB_PEAKS, &found));
+        TRY(job_record(&x, &r, pk, found));
+        for (int32_t s = 0; s < FXS_POINT_JOB_TRACKS; s++, x += FXS_TRACK_WORDS)
+            TRY(fxs_image_job_track_words(&image_job, s, x, FXS_TRACK_WORDS));
+    }
+    return FXS_OK;
+}
+
+static fxs_status run_image_job(const golden_vector *v, const img *in, const img *out) {
+    return image_job_frames(v, in, out, 0);
+}
+
+/* The same frames with a ring of the whole camera frame. */
+static fxs_status whole_ring_image_job(const golden_vector *v, const img *in, const img *out) {
+    return image_job_frames(v, in, out, 1);
 }
 
 /* ---------------------------------------------------------------- warp -- */
@@ -1046,7 +1119,8 @@ static fxs_status run_grid_stream(const golden_vector *v, const img *in, const i
     X(marking_select, "marking.select", run_select, 0)                                            \
     X(track_tracker, "track.tracker", run_tracker, 0)                                             \
     X(pipeline_edge_stream, "pipeline.edge_stream", run_edge_stream, 0)                           \
-    X(pipeline_point_job, "pipeline.point_job", run_point_job, 0)
+    X(pipeline_point_job, "pipeline.point_job", run_point_job, 0)                                 \
+    X(pipeline_image_job, "pipeline.image_job", run_image_job, whole_ring_image_job)
 
 enum {
 #define X(tok, id, run, alt) K_##tok,
@@ -1085,7 +1159,7 @@ static const struct {
  * are listed ("later" lines) and not counted (the list ends with a NULL);
  * a kernel id that lands on main before its C functions goes here and in
  * LATER of tests/host_c.rs. */
-static const char *const LATER[] = {"pipeline.image_job", 0};
+static const char *const LATER[] = {0};
 
 static int later(const char *kernel) {
     for (uint32_t i = 0; LATER[i]; i++)

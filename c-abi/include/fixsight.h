@@ -53,12 +53,12 @@
  *   writes it during the call (for objects: while the object is in use).
  * - Objects (fxs_filter, fxs_filter_stream, fxs_nms_stream, fxs_pixel_map,
  *   fxs_control_grid, fxs_grid_stream, fxs_lines_accumulator, fxs_tracker, fxs_edge_stream,
- *   fxs_point_job) live in storage you provide: declare a variable of
+ *   fxs_point_job, fxs_image_job) live in storage you provide: declare a variable of
  *   the type (FXS_*_SIZE bytes, aligned to 8), set it up with its init
  *   function, pass its address. A zeroed or never-initialised object gives
  *   FXS_E_NOT_INITIALISED. An object that borrows memory (a stream's rings,
  *   a map's coordinates, a grid's points or blob, the filter of a stream,
- *   a grid stream's ring and its grid's points or blob)
+ *   a grid stream's or an image job's ring and its grid's points or blob)
  *   must not outlive it, and that memory must stay unchanged; do not copy
  *   an initialised object, re-initialise it instead. No object needs to be
  *   freed.
@@ -200,6 +200,8 @@ typedef struct fxs_u16_view_mut {
 #define FXS_EDGE_STREAM_SIZE_64 46008
 #define FXS_POINT_JOB_SIZE_32 52256
 #define FXS_POINT_JOB_SIZE_64 52352
+#define FXS_IMAGE_JOB_SIZE_32 52376
+#define FXS_IMAGE_JOB_SIZE_64 52592
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
@@ -211,6 +213,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_64
 #define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_64
 #define FXS_POINT_JOB_SIZE FXS_POINT_JOB_SIZE_64
+#define FXS_IMAGE_JOB_SIZE FXS_IMAGE_JOB_SIZE_64
 #else
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_32
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_32
@@ -222,6 +225,7 @@ typedef struct fxs_u16_view_mut {
 #define FXS_TRACKER_SIZE FXS_TRACKER_SIZE_32
 #define FXS_EDGE_STREAM_SIZE FXS_EDGE_STREAM_SIZE_32
 #define FXS_POINT_JOB_SIZE FXS_POINT_JOB_SIZE_32
+#define FXS_IMAGE_JOB_SIZE FXS_IMAGE_JOB_SIZE_32
 #endif
 
 /* ======================================================================== */
@@ -544,7 +548,8 @@ fxs_status fxs_warp_grid_stream_init(fxs_grid_stream *stream, const fxs_control_
  * the ring; *rows_pushed (may be NULL): source rows of this frame so far.
  * A strip that is ready must be taken (fxs_warp_grid_stream_next_strip)
  * before the next row goes in. row may overlap neither the stream nor the
- * ring. On an error nothing changes.
+ * ring, rows_pushed neither these nor the grid's points or blob. On an
+ * error nothing changes.
  * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (a strip is ready, or all
  * src_height rows are in), FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED,
  * FXS_E_OVERLAP. */
@@ -1140,6 +1145,127 @@ fxs_status fxs_point_job_lines(const fxs_point_job *job, fxs_marking_line *out, 
  * FXS_TRACK_WORDS int32_t (layout of fxs_tracker_slot_words).
  * Errors: as fxs_tracker_slot_words. */
 fxs_status fxs_point_job_track_words(const fxs_point_job *job, int32_t slot, int32_t *words,
+                                     uintptr_t words_len);
+
+/* ======================================================================== */
+/* pipeline: the whole job in image mode (kernel id pipeline.image_job)    */
+/* What a frame computes, bit for bit: kernels/src/pipeline/image_job.rs, */
+/* ImageJob: fxs_warp_control_grid_rows of the whole camera frame with    */
+/* the configured border, then the point job above on the corrected       */
+/* frame finished without a grid (votes at the points' own positions).    */
+/* Each corrected row goes through the edge stage as soon as the camera   */
+/* rows it reads are in (row by row, as fxs_grid_stream with strips of    */
+/* one row); the result is the same bits as the whole-frame order.         */
+/* NOT A SAFETY FUNCTION: the drift warning is an aid only; see the note   */
+/* at the top of this file.                                                */
+/* ======================================================================== */
+
+/* The whole job, held by value (FXS_IMAGE_JOB_SIZE bytes, aligned to
+ * FXS_OBJECT_ALIGN; a static is the usual place). Capacities of the
+ * corrected (vote) frame: the FXS_POINT_JOB_* ones above
+ * (ImageJob<320, 4800, 1024, 4096, 32, 255, 8, 4>). It keeps a copy of the
+ * checked grid (the fxs_control_grid may go; its points or blob stay
+ * borrowed, valid and unchanged) and borrows the ring of camera rows
+ * (written by every push; nothing else may touch it) until it is
+ * initialised again or no longer used. */
+typedef union fxs_image_job {
+    uint8_t bytes[FXS_IMAGE_JOB_SIZE];
+    uint64_t align_;
+} fxs_image_job;
+
+/* Every setting: the point job's (its vote frame, vote.width x
+ * vote.height, must be the grid's output frame) and the border rule of the
+ * warp. */
+typedef struct fxs_image_job_config {
+    fxs_point_job_config job; /* the stages after the warp */
+    int32_t border;           /* camera pixels outside the frame: FXS_BORDER_CLAMP or 0..255 */
+} fxs_image_job_config;
+
+/* The demo configuration at 320 x 240 (ImageJobConfig::DEMO_QVGA: that of
+ * fxs_point_job_demo_config, border FXS_BORDER_CLAMP) into *config. */
+fxs_status fxs_image_job_demo_config(fxs_image_job_config *config);
+
+/* Bytes of the smallest ring of camera rows for a job over grid:
+ * band_rows(1) * src_width (the most camera rows one corrected row reads,
+ * as fxs_warp_grid_stream_ring_len with 1 channel and strips of 1 row),
+ * into *ring_len. ring_len may overlap neither the grid nor its points or
+ * blob.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NOT_INITIALISED
+ * (grid), FXS_E_OVERLAP. */
+fxs_status fxs_image_job_ring_len(const fxs_control_grid *grid, uintptr_t *ring_len);
+
+/* A job whose camera frame is the grid's source (src_width x src_height
+ * bytes of 8-bit luma) and whose corrected frame is the grid's output,
+ * with camera rows kept in ring[ring_len] (camera row y in ring row
+ * y % ring_rows, ring_rows = min(ring_len / src_width, src_height), at
+ * least the band of fxs_image_job_ring_len; only those whole rows are
+ * borrowed); frame numbers from 0, no tracks. config, the ring, the grid
+ * and its points or blob may not overlap *job; the ring may overlap none
+ * of the others. An error of a pointer, of the border or of a part of
+ * config as its own functions check it leaves *job unchanged; an error of
+ * the job's own checks (the sizes, the ring, the rules the point job
+ * adds) leaves it not initialised. Stack: as fxs_point_job_init (the fresh job is built on the
+ * stack before it is written into *job); call it at start-up.
+ * Errors: as fxs_point_job_init for config->job and the corrected frame
+ * (wider than FXS_POINT_JOB_MAX_WIDTH, more than FXS_POINT_JOB_MAP_WORDS
+ * -> FXS_E_BUFFER_TOO_SHORT); FXS_E_SIZE_MISMATCH (vote frame other than
+ * the grid's output); FXS_E_BUFFER_TOO_SHORT (ring shorter than
+ * fxs_image_job_ring_len); FXS_E_BAD_PARAMETER (border);
+ * FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NOT_INITIALISED (grid),
+ * FXS_E_OVERLAP. */
+fxs_status fxs_image_job_init(fxs_image_job *job, const fxs_image_job_config *config,
+                              const fxs_control_grid *grid, uint8_t *ring, uintptr_t ring_len);
+
+/* Pushes the next camera row: row_len == src_width bytes; it is copied
+ * into the ring and every corrected row that becomes ready goes through
+ * the edge stage. *rows_pushed (may be NULL): camera rows of this frame
+ * so far. A push after finish starts the next frame. row may overlap
+ * neither the job nor the ring, rows_pushed none of these nor the grid's
+ * points or blob. On an error nothing changes.
+ * Errors: FXS_E_ROW_LENGTH, FXS_E_STREAM_ORDER (all src_height rows came),
+ * FXS_E_NULL_POINTER, FXS_E_NOT_INITIALISED, FXS_E_OVERLAP. */
+fxs_status fxs_image_job_push_row(fxs_image_job *job, const uint8_t *row, uintptr_t row_len,
+                                  int32_t *rows_pushed);
+
+/* Ends a frame after all src_height camera rows and runs the line stage
+ * (votes at the corrected points' own positions: report->outside is
+ * always 0). report (may be NULL; the point job's report) may overlap
+ * neither the job, the ring nor the grid's points or blob. Peaks, lines
+ * and tracks can then be read until the next finish.
+ * Errors (the job unchanged): FXS_E_ROW_COUNT (fewer than src_height
+ * camera rows in; none since the last finish), FXS_E_NOT_INITIALISED,
+ * FXS_E_NULL_POINTER (job), FXS_E_MISALIGNED, FXS_E_OVERLAP; after the
+ * frame was used:
+ * FXS_E_FRAME_ORDER (frame number past 2^32 - 1). */
+fxs_status fxs_image_job_finish(fxs_image_job *job, fxs_point_job_report *report);
+
+/* As fxs_image_job_finish for a camera frame that ended early: the
+ * corrected rows made so far are the frame (the vote frame stays the
+ * declared one). FXS_E_STREAM_ORDER when no corrected row was made yet
+ * (the first one needs the first band of camera rows). */
+fxs_status fxs_image_job_finish_short(fxs_image_job *job, fxs_point_job_report *report);
+
+/* Drops the frame in progress and counts it as a frame without a
+ * measurement (the next frame number is skipped: the tracks coast). */
+fxs_status fxs_image_job_drop_frame(fxs_image_job *job);
+
+/* Starts over with the same configuration, grid and ring: frame in
+ * progress dropped, tracks forgotten, frame numbers from 0; the automatic
+ * thresholds carried to the next frame stay. */
+fxs_status fxs_image_job_reset(fxs_image_job *job);
+
+/* As fxs_point_job_peaks (lines of the corrected frame); out and found
+ * may also overlap neither the ring nor the grid's points or blob. */
+fxs_status fxs_image_job_peaks(const fxs_image_job *job, fxs_line_peak *out, uintptr_t out_len,
+                               int32_t *found);
+
+/* As fxs_point_job_lines, with the overlap rule of fxs_image_job_peaks. */
+fxs_status fxs_image_job_lines(const fxs_image_job *job, fxs_marking_line *out, uintptr_t out_len,
+                               int32_t *found);
+
+/* As fxs_point_job_track_words; words may also overlap neither the ring
+ * nor the grid's points or blob. */
+fxs_status fxs_image_job_track_words(const fxs_image_job *job, int32_t slot, int32_t *words,
                                      uintptr_t words_len);
 
 #ifdef __cplusplus

@@ -442,8 +442,10 @@ pub(crate) unsafe fn store_configured<T: Stored>(
 
 /// A camera row pushed into an object in caller storage: checks
 /// `row[row_len]` and the optional count `rows_pushed` (NULL, alignment,
-/// no overlap with the object or with the memory `borrowed` names), runs
-/// `push`, and writes the rows it returns to `*rows_pushed`.
+/// no overlap with the object or with the memory `borrowed` names: the
+/// count may share no byte with any of it, the row none with what is
+/// written), runs `push`, and writes the rows it returns to
+/// `*rows_pushed`.
 ///
 /// # Safety
 /// `p` as for [`load_mut`]; `row` `row_len` readable bytes; `rows_pushed`
@@ -453,7 +455,7 @@ pub(crate) unsafe fn push_row<T: Stored>(
     row: *const u8,
     row_len: usize,
     rows_pushed: *mut i32,
-    borrowed: impl FnOnce(&T) -> Span,
+    borrowed: impl FnOnce(&T) -> [Span; 2],
     push: impl FnOnce(&mut T, &[u8]) -> Checked<usize>,
 ) -> Checked<()> {
     let r = buf(row, row_len, false)?;
@@ -463,7 +465,8 @@ pub(crate) unsafe fn push_row<T: Stored>(
     // SAFETY: initialised and exclusively used by the caller's guarantee;
     // disjoint from the row and the count (checked above).
     let obj = unsafe { load_mut::<T>(p)? };
-    disjoint(&[borrowed(obj), r.span(), n_span])?;
+    let [b0, b1] = borrowed(obj);
+    disjoint(&[b0, b1, r.span(), n_span])?;
     // SAFETY: checked, readable, shares no byte with the object's memory.
     let got = push(obj, unsafe { r.slice() })?;
     if let Some(n) = n {

@@ -360,7 +360,7 @@ fn structs_and_storage_agree() {
             "struct {name} is in the header only"
         );
     }
-    assert_eq!(r.storages.len(), 10);
+    assert_eq!(r.storages.len(), 11);
     for (name, size) in &r.storages {
         assert_eq!(h.unions.get(name), Some(size), "storage {name}");
     }
@@ -424,6 +424,7 @@ fn storage_sizes_are_the_object_sizes() {
     check::<crate::track::TrackerObj>();
     check::<crate::pipeline::StreamObj>();
     check::<crate::point_job::JobObj>();
+    check::<crate::image_job::ImageJobObj>();
 }
 
 #[test]

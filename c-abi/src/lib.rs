@@ -20,6 +20,7 @@
 //! | `boundary.rs` | image descriptors, pointer/length/overlap checks, objects in caller storage |
 //! | `<family>.rs` | one file per kernel family, the `fxs_<family>_*` functions |
 //! | `point_job.rs` | the whole job of the `pipeline` family (`fxs_point_job_*`), beside its edge stream in `pipeline.rs` |
+//! | `image_job.rs` | the whole job in image mode (`fxs_image_job_*`), sharing the point job's C types and read-outs |
 //!
 //! Adding a family (say `blobs`): `src/blobs.rs` with its functions and
 //! storage types, `mod blobs;` below, a section `blobs` in the header, the
@@ -54,6 +55,7 @@ mod boundary;
 mod filter;
 mod gradient;
 mod hysteresis;
+mod image_job;
 mod lines;
 mod marking;
 mod nms;

@@ -346,7 +346,7 @@ pub unsafe extern "C" fn fxs_edge_stream_push_row(
             row,
             row_len,
             rows_pushed,
-            |_: &StreamObj| Span::EMPTY,
+            |_: &StreamObj| [Span::EMPTY; 2],
             |s, r| kernel(s.push_row(r)),
         )
     })

@@ -22,14 +22,14 @@
 
 use crate::boundary::{
     buf, disjoint, load, load_mut, optional, push_row, size, storage, store_configured, Checked,
-    Span,
+    Span, Stored,
 };
 use crate::lines::{outputs, params_c, params_of, peak_c, peak_params, peak_params_c};
 use crate::lines::{FxsLinePeak, FxsPeakParams, FxsVoteParams};
 use crate::marking::{limits_c, result_of, FxsMarkingLimits, FxsMarkingLine, FxsMarkingResult};
 use crate::pipeline::{config_of, report_of, FxsEdgeConfig, FxsEdgeReport};
 use crate::status::{finish, kernel, FxsStatus};
-use crate::track::{config_c, put_slot_words, FxsFrameReport, FxsTrackConfig};
+use crate::track::{config_c, put_slot_words, FxsFrameReport, FxsTrackConfig, FXS_TRACK_WORDS};
 use crate::warp::{FxsControlGrid, GridObj};
 use fixsight::marking::{Candidate, Polarity};
 use fixsight::pipeline::{map_words, JobReport, PointJob, PointJobConfig};
@@ -119,7 +119,7 @@ pub struct FxsPointJobReport {
 
 /// The checked kernel configuration of a C one (each part as its own
 /// family checks it, the rest by `PointJobConfig::check` in `configure`).
-fn config(c: &FxsPointJobConfig) -> Checked<PointJobConfig> {
+pub(crate) fn config(c: &FxsPointJobConfig) -> Checked<PointJobConfig> {
     Ok(PointJobConfig {
         edges: crate::pipeline::config(&c.edges)?,
         vote: params_of(&c.vote)?,
@@ -136,16 +136,20 @@ fn config(c: &FxsPointJobConfig) -> Checked<PointJobConfig> {
 /// `config` one writable `fxs_point_job_config`.
 #[no_mangle]
 pub unsafe extern "C" fn fxs_point_job_demo_config(config: *mut FxsPointJobConfig) -> FxsStatus {
-    let d = PointJobConfig::DEMO_QVGA;
-    let c = FxsPointJobConfig {
+    let c = config_c_of(&PointJobConfig::DEMO_QVGA);
+    // SAFETY: forwarded to the caller; the pointer is checked first.
+    finish(unsafe { buf(config, 1, true).map(|b| b.slice_mut()[0] = c) })
+}
+
+/// The C form of a kernel configuration.
+pub(crate) fn config_c_of(d: &PointJobConfig) -> FxsPointJobConfig {
+    FxsPointJobConfig {
         edges: config_of(&d.edges),
         vote: params_c(&d.vote),
         peaks: peak_params_c(&d.peaks),
         marking: limits_c(d.marking.limits()),
         track: config_c(&d.track),
-    };
-    // SAFETY: forwarded to the caller; the pointer is checked first.
-    finish(unsafe { buf(config, 1, true).map(|b| b.slice_mut()[0] = c) })
+    }
 }
 
 /// `fxs_point_job_init`: a job for raw `width x height` frames under
@@ -190,6 +194,23 @@ pub unsafe extern "C" fn fxs_point_job_push_row(
     row_len: usize,
     rows_pushed: *mut i32,
 ) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    unsafe { push_job_row::<JobObj>(job, row, row_len, rows_pushed, |j, r| j.push_row(r)) }
+}
+
+/// `fxs_*_job_push_row` of the job in `job`: the row checks of
+/// `boundary::push_row` (against the job and the memory it keeps), then
+/// `push`.
+///
+/// # Safety
+/// As `fxs_point_job_push_row`.
+pub(crate) unsafe fn push_job_row<J: LineStage>(
+    job: *mut J::Storage,
+    row: *const u8,
+    row_len: usize,
+    rows_pushed: *mut i32,
+    push: impl FnOnce(&mut J, &[u8]) -> fixsight::Result<usize>,
+) -> FxsStatus {
     // SAFETY: forwarded to the caller; pointers checked first.
     finish(unsafe {
         push_row(
@@ -197,10 +218,32 @@ pub unsafe extern "C" fn fxs_point_job_push_row(
             row,
             row_len,
             rows_pushed,
-            |_: &JobObj| Span::EMPTY,
-            |j, r| kernel(j.push_row(r)),
+            |j: &J| j.borrowed(),
+            |j, r| kernel(push(j, r)),
         )
     })
+}
+
+/// A job in caller storage whose stages after the edge points (peaks,
+/// centred lines, tracks) the read-out and finish helpers below share:
+/// the point-mode job itself, or the image-mode job's line stage
+/// (`image_job.rs`).
+pub(crate) trait LineStage: Stored {
+    /// The point-mode job that holds the peaks, lines and tracks.
+    fn stage(&self) -> &JobObj;
+    /// Caller memory the job keeps between calls (read or written); no
+    /// output may share a byte with it.
+    fn borrowed(&self) -> [Span; 2];
+}
+
+impl LineStage for JobObj {
+    fn stage(&self) -> &JobObj {
+        self
+    }
+
+    fn borrowed(&self) -> [Span; 2] {
+        [Span::EMPTY; 2]
+    }
 }
 
 /// The C form of a job report.
@@ -217,6 +260,35 @@ fn job_report_c(r: &JobReport) -> FxsPointJobReport {
     }
 }
 
+/// Ends a frame of the job in `job` with `run`, after checking that the
+/// optional `report` shares no byte with the job, the memory it keeps or
+/// `read` (further memory the call reads); writes the report.
+///
+/// # Safety
+/// `job` initialised and used by no one else; `read` memory not written
+/// during the call; `report` NULL or one writable `fxs_point_job_report`.
+pub(crate) unsafe fn end_frame<J: LineStage>(
+    job: *mut J::Storage,
+    report: *mut FxsPointJobReport,
+    read: [Span; 2],
+    run: impl FnOnce(&mut J) -> fixsight::Result<JobReport>,
+) -> Checked<()> {
+    let r = optional(report)?;
+    let r_span = r.map_or(Span::EMPTY, |b| b.span());
+    disjoint(&[Span::object(job, true), read[0], read[1], r_span])?;
+    // SAFETY: initialised and exclusively used by the caller's guarantee;
+    // disjoint from the report and `read` (checked above).
+    let j = unsafe { load_mut::<J>(job)? };
+    let [b0, b1] = j.borrowed();
+    disjoint(&[b0, b1, r_span])?;
+    let rep = kernel(run(j))?;
+    if let Some(r) = r {
+        // SAFETY: checked, writable, disjoint from the job and its memory.
+        unsafe { r.slice_mut()[0] = job_report_c(&rep) };
+    }
+    Ok(())
+}
+
 /// Ends a frame (`short`: with fewer rows than declared) through the
 /// optional grid.
 ///
@@ -228,8 +300,8 @@ unsafe fn end(
     report: *mut FxsPointJobReport,
     short: bool,
 ) -> Checked<()> {
-    let r = optional(report)?;
-    let (g, g_spans) = if grid.is_null() {
+    optional(report)?;
+    let (g, read) = if grid.is_null() {
         (None, [Span::EMPTY; 2])
     } else {
         // SAFETY: an initialised grid, not written during the call, by the
@@ -237,25 +309,16 @@ unsafe fn end(
         let go = unsafe { load::<GridObj>(grid)? };
         (Some(go.grid()), [Span::object(grid, false), go.borrowed()])
     };
-    disjoint(&[
-        Span::object(job, true),
-        g_spans[0],
-        g_spans[1],
-        r.map_or(Span::EMPTY, |b| b.span()),
-    ])?;
-    // SAFETY: initialised and exclusively used by the caller's guarantee;
-    // disjoint from the grid and the report (checked above).
-    let j = unsafe { load_mut::<JobObj>(job)? };
-    let rep = kernel(if short {
-        j.finish_short(g)
-    } else {
-        j.finish(g)
-    })?;
-    if let Some(r) = r {
-        // SAFETY: checked, writable, disjoint from the job.
-        unsafe { r.slice_mut()[0] = job_report_c(&rep) };
+    // SAFETY: forwarded to the caller; the grid's memory is only read.
+    unsafe {
+        end_frame::<JobObj>(job, report, read, |j| {
+            if short {
+                j.finish_short(g)
+            } else {
+                j.finish(g)
+            }
+        })
     }
-    Ok(())
 }
 
 /// `fxs_point_job_finish`: ends a frame of the declared height and runs
@@ -314,14 +377,14 @@ pub unsafe extern "C" fn fxs_point_job_reset(job: *mut FxsPointJob) -> FxsStatus
     finish(unsafe { load_mut::<JobObj>(job).map(|j| j.reset()) })
 }
 
-/// Writes the items `list` takes from the job into `out[out_len]`
-/// (1..=FXS_LINES_MAX_OUT, disjoint from the job) and how many into
-/// `*found`.
+/// Writes the items `list` takes from the job's line stage into
+/// `out[out_len]` (1..=FXS_LINES_MAX_OUT, disjoint from the job and the
+/// memory it keeps) and how many into `*found`.
 ///
 /// # Safety
 /// As `fxs_point_job_peaks`, with `out` of type `T`.
-unsafe fn put_list<'a, T, I: Iterator<Item = T>>(
-    job: *const FxsPointJob,
+unsafe fn put_list<'a, J: LineStage + 'a, T, I: Iterator<Item = T>>(
+    job: *const J::Storage,
     out: *mut T,
     out_len: usize,
     found: *mut i32,
@@ -329,18 +392,76 @@ unsafe fn put_list<'a, T, I: Iterator<Item = T>>(
 ) -> Checked<()> {
     // SAFETY: initialised and not written during the call by the caller's
     // guarantee.
-    let j = unsafe { load::<JobObj>(job)? };
+    let j = unsafe { load::<J>(job)? };
     let (o, f, _) = outputs(out, out_len, found)?;
-    disjoint(&[Span::object(job, false), o.span(), f.span()])?;
+    let [b0, b1] = j.borrowed();
+    disjoint(&[Span::object(job, false), b0, b1, o.span(), f.span()])?;
     let mut n = 0;
     // SAFETY: checked, writable, disjoint from the job and each other.
-    for (d, x) in unsafe { o.slice_mut() }.iter_mut().zip(list(j)) {
+    for (d, x) in unsafe { o.slice_mut() }.iter_mut().zip(list(j.stage())) {
         *d = x;
         n += 1;
     }
     // SAFETY: as above.
     unsafe { f.slice_mut()[0] = n };
     Ok(())
+}
+
+/// The peaks of the line stage of the job in `job` (`fxs_*_job_peaks`).
+///
+/// # Safety
+/// As `fxs_point_job_peaks`.
+pub(crate) unsafe fn read_peaks<J: LineStage>(
+    job: *const J::Storage,
+    out: *mut FxsLinePeak,
+    out_len: usize,
+    found: *mut i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe {
+        put_list::<J, _, _>(job, out, out_len, found, |j| j.peaks().iter().map(peak_c))
+    })
+}
+
+/// The centred lines of the line stage of the job in `job`
+/// (`fxs_*_job_lines`).
+///
+/// # Safety
+/// As `fxs_point_job_lines`.
+pub(crate) unsafe fn read_lines<J: LineStage>(
+    job: *const J::Storage,
+    out: *mut FxsMarkingLine,
+    out_len: usize,
+    found: *mut i32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe {
+        put_list::<J, _, _>(job, out, out_len, found, |j| j.lines().iter().map(line_c))
+    })
+}
+
+/// Track slot `slot` of the line stage of the job in `job`
+/// (`fxs_*_job_track_words`).
+///
+/// # Safety
+/// As `fxs_point_job_track_words`.
+pub(crate) unsafe fn read_track_words<J: LineStage>(
+    job: *const J::Storage,
+    slot: i32,
+    words: *mut i32,
+    words_len: usize,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller; pointers checked first.
+    finish(unsafe {
+        load::<J>(job).and_then(|j| {
+            let [b0, b1] = j.borrowed();
+            let w = buf(words, words_len, true)?.first(FXS_TRACK_WORDS);
+            disjoint(&[b0, b1, w.span()])?;
+            put_slot_words(Span::object(job, false), slot, words, words_len, |s| {
+                track_words(j.stage().tracker().and_then(|t| t.slot(s)))
+            })
+        })
+    })
 }
 
 /// `fxs_point_job_peaks`: the peaks of the last finished frame (vote-frame
@@ -358,7 +479,7 @@ pub unsafe extern "C" fn fxs_point_job_peaks(
     found: *mut i32,
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
-    finish(unsafe { put_list(job, out, out_len, found, |j| j.peaks().iter().map(peak_c)) })
+    unsafe { read_peaks::<JobObj>(job, out, out_len, found) }
 }
 
 /// The C form of a centred line.
@@ -390,7 +511,7 @@ pub unsafe extern "C" fn fxs_point_job_lines(
     found: *mut i32,
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
-    finish(unsafe { put_list(job, out, out_len, found, |j| j.lines().iter().map(line_c)) })
+    unsafe { read_lines::<JobObj>(job, out, out_len, found) }
 }
 
 /// `fxs_point_job_track_words`: the state of track slot `slot`
@@ -406,12 +527,6 @@ pub unsafe extern "C" fn fxs_point_job_track_words(
     words: *mut i32,
     words_len: usize,
 ) -> FxsStatus {
-    // SAFETY: forwarded to the caller; pointers checked first.
-    finish(unsafe {
-        load::<JobObj>(job).and_then(|j| {
-            put_slot_words(Span::object(job, false), slot, words, words_len, |s| {
-                track_words(j.tracker().and_then(|t| t.slot(s)))
-            })
-        })
-    })
+    // SAFETY: forwarded to the caller.
+    unsafe { read_track_words::<JobObj>(job, slot, words, words_len) }
 }

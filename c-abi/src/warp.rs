@@ -437,7 +437,7 @@ pub unsafe extern "C" fn fxs_warp_grid_stream_push_row(
             row,
             row_len,
             rows_pushed,
-            |o: &GridStreamObj| o.borrowed[1],
+            |o: &GridStreamObj| o.borrowed,
             |o, r| {
                 kernel(o.stream.push_row(r))?;
                 Ok(o.stream.rows_pushed())
