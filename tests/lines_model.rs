@@ -103,7 +103,7 @@ proptest! {
                 gy: Some(&gy[y * w..(y + 1) * w]), weights: Some(&wt[y * w..(y + 1) * w]) };
             acc.vote_row(y, &row).unwrap();
         }
-        let pp = PeakParams { threshold: thr, radius_theta: rt, radius_rho: rb };
+        let pp = PeakParams { threshold: thr, radius_theta: rt.min(p.theta_bins), radius_rho: rb.min(p.rho_bins) };
         let mut out = vec![Peak::default(); k];
         let n = acc.peaks(&pp, &mut out).unwrap();
         let real: Vec<f64> = cells.iter().map(|&v| v as f64).collect();
