@@ -185,7 +185,7 @@ pub fn image_row(seq: &Sequence) -> Result<KernelReport, String> {
     let mut row = compare_runs(
         IMAGE_KERNEL,
         spec,
-        &seq,
+        seq,
         &fixed,
         &reference,
         &mut pr,

@@ -699,7 +699,7 @@ mod tests {
 
     #[test]
     fn demo_scenes_are_bit_exact_and_meet_the_f1_goal() {
-        let rows = check(&demo_scenes());
+        let rows = check(&demo_scenes(), &crate::lens::LensInUse::demo().unwrap());
         let r = &rows[0];
         assert!(r.pass, "{:?} {:?}", r.notes, r.metrics);
         assert_eq!(r.bit_exact_share, 1.0);
