@@ -137,7 +137,8 @@ fn golden_manifest_uses_exactly_the_registry_ids() {
 fn report_rows_are_the_registry_ids_in_order() {
     let out = std::env::temp_dir().join(format!("fixsight-names-report-{}", std::process::id()));
     let _ = fs::remove_dir_all(&out);
-    let r = fixsight_verify::report::run(&out, &root().join("golden"), false).unwrap();
+    let lens = fixsight_verify::lens::LensInUse::demo().unwrap();
+    let r = fixsight_verify::report::run(&out, &root().join("golden"), false, &lens).unwrap();
     let json: serde_json::Value =
         serde_json::from_str(&fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
     let rows: Vec<(String, String)> = json["kernels"]

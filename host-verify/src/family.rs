@@ -5,6 +5,7 @@
 use crate::contract::{Contract, KernelFamily, KernelReport};
 pub use crate::golden::RunVector;
 use crate::golden::{Blob, GoldenCase};
+use crate::lens::LensInUse;
 use crate::metrics::ErrorStats;
 use crate::opcount::OpsPerPx;
 use crate::scene::Scene;
@@ -19,13 +20,46 @@ pub struct Family {
     /// `true` when the kernels are composed on the host from kernel-crate
     /// functions (no `kernels/src/<name>.rs` yet).
     pub composed_on_host: bool,
-    /// Runs every contract check of the family on the demo scenes.
-    pub check: fn(&[Scene]) -> Vec<KernelReport>,
+    /// Runs every contract check of the family on the demo scenes; rows
+    /// that depend on the camera's lens use the given one.
+    pub check: fn(&[Scene], &LensInUse) -> Vec<KernelReport>,
     /// The family's golden cases (inputs, parameters, expected outputs
     /// computed by the kernels).
     pub golden_cases: fn(&[Scene]) -> Vec<GoldenCase>,
     /// Recomputes one golden vector.
     pub run_vector: RunVector,
+}
+
+/// Rows that stay on the built-in demo lens whatever lens the report was
+/// given: with another lens, each row gets a note saying so and `why`.
+///
+/// ```
+/// use fixsight_verify::contract::{Contract, KernelFamily, KernelReport};
+/// use fixsight_verify::family::kept_on_demo_lens;
+/// use fixsight_verify::lens::LensInUse;
+/// use fixsight_verify::metrics::ErrorStats;
+/// use fixsight_verify::opcount::OpsPerPx;
+/// let stats = ErrorStats::compare(&[1.0], &[1.0], 1.0);
+/// let row = KernelReport::from_stats("warp.pixel_map", KernelFamily::Warp,
+///     Contract::BitExact, 0.0, &stats, OpsPerPx::default());
+/// let demo = LensInUse::demo().unwrap();
+/// let rows = kept_on_demo_lens(vec![row], &demo, "its limits are the demo's");
+/// assert!(rows[0].notes.is_empty());
+/// ```
+pub fn kept_on_demo_lens(
+    mut rows: Vec<KernelReport>,
+    lens: &LensInUse,
+    why: &str,
+) -> Vec<KernelReport> {
+    if !lens.is_demo() {
+        for r in &mut rows {
+            r.notes.push(format!(
+                "computed with the built-in demo lens, not the {}: {why}",
+                lens.describe()
+            ));
+        }
+    }
+    rows
 }
 
 /// Parses a family's parameter object, naming the kernel in the error.

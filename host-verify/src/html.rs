@@ -433,9 +433,11 @@ pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     let _ = write!(
         out,
         "<h1>fixsight verification report <span class=\"{}\">{}</span></h1>\n\
+         <p>Lens of the lens-dependent rows: {}.</p>\n\
          <p>Golden vectors: {}/{} reproduced bit for bit. Kernel rows: {} of {} pass.</p>\n",
         if r.pass { "pass" } else { "fail" },
         if r.pass { "PASS" } else { "FAIL" },
+        esc(&r.lens.description),
         r.golden.passed,
         r.golden.vectors,
         r.kernels.iter().filter(|k| k.pass).count(),

@@ -671,8 +671,106 @@ impl LensSpec {
 
 /// Reads and parses the lens file at `path`; errors name the file.
 pub fn read_lens_file(path: &std::path::Path) -> anyhow::Result<LensSpec> {
+    read_lens_file_text(path).map(|(spec, _)| spec)
+}
+
+/// As [`read_lens_file`], also returning the file's text as read (for a
+/// digest of exactly what was parsed).
+pub fn read_lens_file_text(path: &std::path::Path) -> anyhow::Result<(LensSpec, String)> {
     let text = crate::files::read_text(path)?;
-    LensSpec::parse(&text).map_err(|e| anyhow::anyhow!("{}: {e}", crate::files::shown_path(path)))
+    let spec = LensSpec::parse(&text)
+        .map_err(|e| anyhow::anyhow!("{}: {e}", crate::files::shown_path(path)))?;
+    Ok((spec, text))
+}
+
+/// Where the lens of a report comes from.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum LensOrigin {
+    /// The built-in demo lens ([`crate::scene::demo_camera`] at 320 x 240,
+    /// fit-to-view corrected view).
+    Demo,
+    /// A lens file given by the user.
+    File {
+        /// The file's name as given (its last path component).
+        name: String,
+        /// SHA-256 of the file's bytes, 64 lower-case hex digits.
+        sha256: String,
+    },
+}
+
+/// The lens the report's lens-dependent rows use: a 320 x 240 sensor
+/// camera and its 320 x 240 corrected view.
+///
+/// ```
+/// use fixsight_verify::lens::{LensInUse, LensOrigin};
+/// let demo = LensInUse::demo().unwrap();
+/// assert_eq!(demo.origin, LensOrigin::Demo);
+/// assert_eq!(demo.describe(), "built-in demo lens");
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub struct LensInUse {
+    /// Sensor camera.
+    pub camera: Camera,
+    /// Corrected view intrinsics.
+    pub view: Intrinsics,
+    /// Where it comes from.
+    pub origin: LensOrigin,
+}
+
+impl LensInUse {
+    /// Width and height of the sensor and of the corrected view.
+    pub const SIZE: (usize, usize) = (320, 240);
+
+    /// The built-in demo lens at [`Self::SIZE`].
+    pub fn demo() -> Result<Self, String> {
+        let (w, h) = Self::SIZE;
+        let camera = crate::scene::demo_camera(w, h);
+        let view = camera.fit_view(w, h, w, h).map_err(|e| e.to_string())?;
+        Ok(Self {
+            camera,
+            view,
+            origin: LensOrigin::Demo,
+        })
+    }
+
+    /// A parsed lens file `spec` whose text was `text`, named `name`. The
+    /// caller has checked that sensor and view are [`Self::SIZE`].
+    ///
+    /// ```
+    /// use fixsight_verify::lens::{LensInUse, LensOrigin, LensSpec};
+    /// let text = "format = fixsight-lens 1\nmodel = fisheye\nsensor_width = 320\n\
+    ///             sensor_height = 240\nfx = 130\nfy = 130\ncx = 160\ncy = 120\nk1 = 0.01\nk2 = 0\n";
+    /// let spec = LensSpec::parse(text).unwrap();
+    /// let lens = LensInUse::from_file(&spec, text, "cam.lens");
+    /// assert!(lens.describe().starts_with("lens file `cam.lens` (SHA-256 "));
+    /// ```
+    pub fn from_file(spec: &LensSpec, text: &str, name: &str) -> Self {
+        let sha256 = crate::golden::sha256_hex(text.as_bytes());
+        Self {
+            camera: spec.camera,
+            view: spec.view,
+            origin: LensOrigin::File {
+                name: name.to_string(),
+                sha256,
+            },
+        }
+    }
+
+    /// `true` for the built-in demo lens.
+    pub fn is_demo(&self) -> bool {
+        self.origin == LensOrigin::Demo
+    }
+
+    /// One line naming the lens: `built-in demo lens` or `lens file NAME
+    /// (SHA-256 HEX)`.
+    pub fn describe(&self) -> String {
+        match &self.origin {
+            LensOrigin::Demo => "built-in demo lens".into(),
+            LensOrigin::File { name, sha256 } => {
+                format!("lens file {} (SHA-256 {sha256})", shown(name))
+            }
+        }
+    }
 }
 
 #[cfg(test)]

@@ -99,7 +99,19 @@ enum Cmd {
     /// Run every kernel on the built-in demo scenes, check every contract and
     /// golden vector, print a table and write report.json.
     ///
+    /// With --lens FILE the rows that depend on the lens use that lens
+    /// instead of the built-in demo lens: warp.pixel_map, warp.control_grid,
+    /// warp.grid_stream (the demo scenes rendered through it, the natural
+    /// photographs warped through it), lines.correct_point, the known lines
+    /// of lines.peak, pipeline.point_job and pipeline.image_job (the demo
+    /// sequence rendered through it). marking.select (limits derived for the
+    /// demo view) and the ring figures band_* and ram_bytes_* stay on the
+    /// demo lens and say so in their notes. The report names the lens (file
+    /// name and SHA-256). Golden vectors are checked unchanged.
+    ///
     /// Example: fixsight-verify report --out fixsight-report --overwrite
+    ///
+    /// With a calibrated lens: fixsight-verify report --lens cal/lens.txt --out lens-report
     // The safety note is `after_help`, so both `-h` and `--help` print it
     // and the option list keeps its compact form.
     #[command(
@@ -115,6 +127,12 @@ enum Cmd {
         /// Golden-vector folder (default: `golden` in the current folder).
         #[arg(long, value_name = "DIR")]
         vectors: Option<PathBuf>,
+        /// A lens file (fixsight-lens 1, as `calibrate` writes it) for
+        /// 320x240 frames with a 320x240 corrected view, for the rows that
+        /// depend on the lens (default: the built-in demo lens). A bad file
+        /// stops the command before anything runs.
+        #[arg(long, value_name = "FILE")]
+        lens: Option<PathBuf>,
         /// Replace the report's files (report.json, scene PNGs) if they exist.
         #[arg(long)]
         overwrite: bool,
@@ -365,8 +383,9 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
         Cmd::Report {
             out,
             vectors,
+            lens,
             overwrite,
-        } => cmd::report::run(&out, vectors, overwrite),
+        } => cmd::report::run(&out, vectors, lens.as_deref(), overwrite),
         Cmd::Targets {
             out,
             vectors,

@@ -9,6 +9,7 @@
 //!
 //! ```text
 //! { "schema": 1, "pass": bool,
+//!   "lens": { "description": str, "file"?: str, "sha256"?: str },
 //!   "golden": { "vectors": int, "passed": int, "failures"?: [[id, reason]] },
 //!   "scenes": [ { "name", "description", "seed", "width", "height", "image",
 //!                 "class": "rendered" | "sharp" | "texture",
@@ -26,6 +27,7 @@ use crate::families::check_golden;
 use crate::families::FAMILIES;
 use crate::files::Outputs;
 use crate::golden::GoldenSummary;
+use crate::lens::{LensInUse, LensOrigin};
 use crate::natural::{all_scenes, natural_image, NATURAL, PACKAGE};
 use crate::scene::Scene;
 use anyhow::Context;
@@ -60,6 +62,34 @@ pub struct SceneInfo {
     pub licence: Option<String>,
 }
 
+/// The lens the lens-dependent rows used.
+#[derive(Debug, Clone, Serialize)]
+pub struct LensInfo {
+    /// `built-in demo lens`, or `lens file NAME (SHA-256 HEX)`.
+    pub description: String,
+    /// The lens file's name (absent for the demo lens).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// SHA-256 of the lens file's bytes (absent for the demo lens).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sha256: Option<String>,
+}
+
+impl LensInfo {
+    /// The description of `lens`.
+    pub fn of(lens: &LensInUse) -> Self {
+        let (file, sha256) = match &lens.origin {
+            LensOrigin::Demo => (None, None),
+            LensOrigin::File { name, sha256 } => (Some(name.clone()), Some(sha256.clone())),
+        };
+        Self {
+            description: lens.describe(),
+            file,
+            sha256,
+        }
+    }
+}
+
 /// The whole report.
 #[derive(Debug, Clone, Serialize)]
 pub struct Report {
@@ -67,6 +97,8 @@ pub struct Report {
     pub schema: u32,
     /// Overall verdict.
     pub pass: bool,
+    /// The lens of the lens-dependent rows.
+    pub lens: LensInfo,
     /// Golden-vector summary.
     pub golden: GoldenSummary,
     /// Scenes used: the demo scenes, then the natural photographs.
@@ -78,16 +110,26 @@ pub struct Report {
     pub targets: Option<serde_json::Value>,
 }
 
-/// Runs every family's checks on the given scenes.
-pub fn check_all(scenes: &[Scene]) -> Vec<KernelReport> {
-    FAMILIES.iter().flat_map(|f| (f.check)(scenes)).collect()
+/// Runs every family's checks on the given scenes, the lens-dependent
+/// rows with `lens`.
+pub fn check_all(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
+    FAMILIES
+        .iter()
+        .flat_map(|f| (f.check)(scenes, lens))
+        .collect()
 }
 
-/// Builds the report: scenes, checks, golden vectors in `golden_dir`, and
-/// `targets.json` from `out_dir` if present. Writes scene PNGs and
-/// `report.json` into `out_dir` through [`crate::files::Outputs`]: refused
-/// before anything runs when one of them exists and `overwrite` is not set.
-pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result<Report> {
+/// Builds the report: scenes, checks (the lens-dependent rows with
+/// `lens`), golden vectors in `golden_dir`, and `targets.json` from
+/// `out_dir` if present. Writes scene PNGs and `report.json` into
+/// `out_dir` through [`crate::files::Outputs`]: refused before anything
+/// runs when one of them exists and `overwrite` is not set.
+pub fn run(
+    out_dir: &Path,
+    golden_dir: &Path,
+    overwrite: bool,
+    lens: &LensInUse,
+) -> anyhow::Result<Report> {
     let pngs: Vec<String> = crate::scene::DEMO_SPECS
         .iter()
         .map(|s| s.name)
@@ -121,7 +163,7 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
             licence: natural_image(s.name).map(|n| n.licence.to_string()),
         });
     }
-    let kernels = check_all(&scenes);
+    let kernels = check_all(&scenes, lens);
     let golden = match check_golden(golden_dir) {
         Ok(g) => g,
         Err(e) => GoldenSummary {
@@ -154,6 +196,7 @@ pub fn run(out_dir: &Path, golden_dir: &Path, overwrite: bool) -> anyhow::Result
     let report = Report {
         schema: SCHEMA,
         pass,
+        lens: LensInfo::of(lens),
         golden,
         scenes: infos,
         kernels,
@@ -253,6 +296,7 @@ pub fn table(r: &Report) -> String {
             out += &format!("  {}: {}\n", k.name, n);
         }
     }
+    out += &format!("lens: {}\n", r.lens.description);
     out += &format!(
         "golden vectors: {}/{} reproduced bit for bit\n",
         r.golden.passed, r.golden.vectors

@@ -260,9 +260,14 @@ pub fn sensor_reading(mut val: f64, rng: &mut ChaCha8Rng, read: &Normal<f64>) ->
     val.round().clamp(0.0, 255.0) as u8
 }
 
-/// Renders a scene at the given size.
+/// Renders a scene at the given size through the demo camera.
 pub fn render(spec: &SceneSpec, width: usize, height: usize) -> Scene {
-    let camera = demo_camera(width, height);
+    render_through(spec, demo_camera(width, height), width, height)
+}
+
+/// Renders a scene at the given size through `camera` (its intrinsics in
+/// pixels of that size); [`render`] is this with the demo camera.
+pub fn render_through(spec: &SceneSpec, camera: Camera, width: usize, height: usize) -> Scene {
     let texture = FloorTexture::new(spec.seed);
     let (sp, cp) = CAMERA_PITCH_DEG.to_radians().sin_cos();
     let shade = |u: f64, v: f64| -> f64 {

@@ -897,6 +897,19 @@ impl Sequence {
     /// Prepares a sequence (the corrected view; the ray table is built on
     /// the first [`render`](Self::render)).
     pub fn new(spec: &SequenceSpec) -> Result<Self, String> {
+        let camera = demo_camera(spec.width, spec.height);
+        // An empty spec is refused by `through` before its view is asked for.
+        match spec.view() {
+            Ok(view) => Self::through(spec, camera, view),
+            Err(why) => Self::through(spec, camera, camera.intrinsics).and(Err(why)),
+        }
+    }
+
+    /// As [`new`](Self::new), seen through `camera` with corrected view
+    /// `view` (both in pixels of the spec's size) instead of the demo
+    /// camera and its fit-to-view: the frames are rendered through
+    /// `camera`, the truth is drawn in `view`.
+    pub fn through(spec: &SequenceSpec, camera: Camera, view: Intrinsics) -> Result<Self, String> {
         if spec.width == 0 || spec.height == 0 || spec.frames == 0 {
             return Err(format!(
                 "sequence {}: {} frames of {}x{} is empty",
@@ -905,8 +918,8 @@ impl Sequence {
         }
         Ok(Self {
             spec: *spec,
-            camera: demo_camera(spec.width, spec.height),
-            view: spec.view()?,
+            camera,
+            view,
             rays: OnceLock::new(),
         })
     }

@@ -170,7 +170,10 @@
 //! let mut out = [Peak::default(); 1];
 //! let n = acc.peaks(&PeakParams { threshold: 16, radius_theta: 2, radius_rho: 2 }, &mut out)?;
 //! assert_eq!(n, 1);
-//! assert_eq!(out[0].line.theta, 0);        // normal along +x
+//! // Normal along +x, refined 9 units (0.025 degree) off: the line's rows
+//! // -6..=5 lie unevenly about the origin, so the neighbour columns' peak
+//! // heights differ.
+//! assert_eq!(out[0].line.theta, 9);
 //! assert_eq!(out[0].line.rho, -3 * 16);    // x = 5 is 3 px left of the origin
 //! # Ok::<(), fixsight::Error>(())
 //! ```

@@ -100,7 +100,7 @@ pub const FAMILY: Family = Family {
     name: "chain",
     kernels: &["chain.edges"],
     composed_on_host: true,
-    check: check::check,
+    check: |scenes, _lens| check::check(scenes),
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

@@ -52,7 +52,7 @@ pub const FAMILY: Family = Family {
         "filter.separable",
     ],
     composed_on_host: false,
-    check: check::check,
+    check: |scenes, _lens| check::check(scenes),
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

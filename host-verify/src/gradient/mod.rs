@@ -49,7 +49,7 @@ pub const FAMILY: Family = Family {
         "gradient.angles",
     ],
     composed_on_host: false,
-    check: check::check,
+    check: |scenes, _lens| check::check(scenes),
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

@@ -39,7 +39,7 @@ pub const FAMILY: Family = Family {
         "hysteresis.link",
     ],
     composed_on_host: false,
-    check: check::check,
+    check: |scenes, _lens| check::check(scenes),
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

@@ -31,7 +31,8 @@
 //! levels on a background of 60..160, Gaussian noise sigma 1..6, 0..=3
 //! gaps of 5..25 px along the stripe, and 0..=6 clutter bars (10..40 px
 //! long, 1..3 px wide, any angle). Half of the cases are seen through the
-//! demo lens (the scene module's camera, fit-to-view corrected view): the
+//! report's lens (the demo lens, the scene module's camera with its
+//! fit-to-view corrected view, unless `report --lens FILE` gave one): the
 //! stripe is straight in corrected coordinates and rendered on the sensor
 //! by mapping every subsample (3 x 3 per pixel) through the lens; these
 //! are voted in corrected coordinates through the correction grid. The
@@ -73,7 +74,7 @@ use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::edge_chain as canny;
 use crate::family::{input, parse_params, Family};
 use crate::golden::{Blob, GoldenCase};
-use crate::lens::{Camera, Intrinsics};
+use crate::lens::{Camera, Intrinsics, LensInUse};
 use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
 use crate::scene::{demo_camera, Scene};
@@ -465,6 +466,36 @@ pub fn demo_grid(w: usize, h: usize) -> Result<(Camera, Intrinsics, CorrectionGr
     Ok((cam, view, g))
 }
 
+/// The camera, corrected view and correction grid of `lens` at `w x h`:
+/// [`demo_grid`] for the demo lens (any size), the lens file's own at its
+/// size ([`LensInUse::SIZE`]) and no other.
+pub fn lens_grid(
+    lens: &LensInUse,
+    w: usize,
+    h: usize,
+) -> Result<(Camera, Intrinsics, CorrectionGrid), String> {
+    if lens.is_demo() {
+        return demo_grid(w, h);
+    }
+    if (w, h) != LensInUse::SIZE {
+        return Err(format!(
+            "the {} is for {}x{} frames, not {w}x{h}",
+            lens.describe(),
+            LensInUse::SIZE.0,
+            LensInUse::SIZE.1
+        ));
+    }
+    let g = build_correction_grid(
+        &lens.camera,
+        &lens.view,
+        (w, h),
+        (w, h),
+        GRID_LOG2,
+        GRID_FRAC_BITS,
+    )?;
+    Ok((lens.camera, lens.view, g))
+}
+
 /// Largest turn of a direction by the lens over the sensor, degrees:
 /// the angle between a unit direction at a pixel and its image under the
 /// local Jacobian of the sensor -> corrected map (finite differences), over
@@ -657,10 +688,16 @@ pub struct KnownStats {
     pub failed: Vec<usize>,
 }
 
-/// Runs `n` known-line cases with parameters `p` (half through the lens).
-pub fn run_known_lines(n: usize, p: &VoteParams, pp: &PeakParams) -> Result<KnownStats, String> {
+/// Runs `n` known-line cases with parameters `p` (half through `lens`,
+/// [`lens_grid`]).
+pub fn run_known_lines(
+    n: usize,
+    p: &VoteParams,
+    pp: &PeakParams,
+    lens: &LensInUse,
+) -> Result<KnownStats, String> {
     let (w, h) = (p.width, p.height);
-    let (cam, view, cg) = demo_grid(w, h)?;
+    let (cam, view, cg) = lens_grid(lens, w, h)?;
     let corr = subsample_map(&cam, &view, w, h);
     let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).map_err(|e| e.to_string())?;
     let mut st = KnownStats::default();
@@ -711,11 +748,11 @@ fn e(err: fixsight::Error) -> String {
 }
 
 /// Rows of the family (module docs).
-pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
+pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
     let mut rows = vec![trig_row()];
-    match scene_rows(scenes) {
+    match scene_rows(scenes, lens) {
         Ok(mut r) => {
-            if let Err(why) = add_known(&mut r[1], KNOWN_LINES_CASES) {
+            if let Err(why) = add_known(&mut r[1], KNOWN_LINES_CASES, lens) {
                 r[1].fail(why);
             }
             rows.append(&mut r);
@@ -857,7 +894,7 @@ fn f64_points(c: &canny::Chain) -> Vec<(f64, f64, f64)> {
 }
 
 /// Bit-exactness, streaming, peaks against `f64` and costs on the demo scenes.
-fn scene_rows(scenes: &[Scene]) -> Result<Vec<KernelReport>, String> {
+fn scene_rows(scenes: &[Scene], lens: &LensInUse) -> Result<Vec<KernelReport>, String> {
     let gated = VoteParams::DEMO_QVGA;
     let ungated = VoteParams {
         gate: None,
@@ -1015,7 +1052,8 @@ fn scene_rows(scenes: &[Scene]) -> Result<Vec<KernelReport>, String> {
     if peaks_total == 0 {
         peaks.fail("no peaks found on the demo scenes");
     }
-    Ok(vec![vote, peaks, grid_row(scenes)?])
+    let grid = grid_row(scenes, lens).unwrap_or_else(|why| failed_row("lines.correct_point", why));
+    Ok(vec![vote, peaks, grid])
 }
 
 fn scale_ops(o: &OpsPerPx, k: f64) -> OpsPerPx {
@@ -1030,12 +1068,13 @@ fn scale_ops(o: &OpsPerPx, k: f64) -> OpsPerPx {
     }
 }
 
-/// The correction grid of the demo lens: geometric error, and the cost of
-/// correcting the edge points of a demo scene against warping the frame.
-fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
+/// The correction grid of `lens`: geometric error, and the cost of
+/// correcting the edge points of a demo scene (seen through `lens`,
+/// [`crate::warp::check::scenes_through`]) against warping the frame.
+pub fn grid_row(scenes: &[Scene], lens: &LensInUse) -> Result<KernelReport, String> {
     let p = VoteParams::DEMO_QVGA;
     let (w, h) = (p.width, p.height);
-    let (cam, view, cg) = demo_grid(w, h)?;
+    let (cam, view, cg) = lens_grid(lens, w, h)?;
     let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).map_err(|e| e.to_string())?;
     // Bound: quantisation of the control points and of the result
     // (2^-(F+1) per axis each) plus the bilinear interpolation error of the
@@ -1052,11 +1091,12 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
         metrics: Default::default(),
         pass: cg.max_px <= bound,
         notes: vec![format!(
-            "geometric error (px) of the demo correction grid (step {}, F = {}) against the f64 \
-             lens model over every sensor pixel; bound is a budget of a quarter of the 1 px goal, \
-             not an analytical figure",
+            "geometric error (px) of the correction grid (step {}, F = {}) of the {} against \
+             the f64 lens model over every sensor pixel; bound is a budget of a quarter of the \
+             1 px goal, not an analytical figure",
             1 << cg.k,
-            GRID_FRAC_BITS
+            GRID_FRAC_BITS,
+            lens.describe()
         )],
     };
     r.metrics.insert("grid_rms_px".into(), cg.rms_px);
@@ -1064,7 +1104,12 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
         .insert("grid_bytes".into(), (cg.points.len() * 4) as f64);
     r.metrics
         .insert("lens_turn_max_deg".into(), lens_turn_deg(&cam, &view, w, h));
-    if let Some(s) = scenes.iter().find(|s| (s.width, s.height) == (w, h)) {
+    let first = scenes.iter().find(|s| (s.width, s.height) == (w, h));
+    let seen = match first {
+        Some(s) => crate::warp::check::scenes_through(std::slice::from_ref(s), lens)?,
+        None => Vec::new(),
+    };
+    if let Some(s) = seen.first() {
         let c = canny::run_chain(&s.gray, w, h, &canny::DEMO)?;
         let ungated = VoteParams { gate: None, ..p };
         let inp = EdgeInput {
@@ -1117,15 +1162,16 @@ fn grid_row(scenes: &[Scene]) -> Result<KernelReport, String> {
 }
 
 /// Adds the known-line figures to the `lines.peak` row (module docs).
-fn add_known(r: &mut KernelReport, n: usize) -> Result<(), String> {
+pub fn add_known(r: &mut KernelReport, n: usize, lens: &LensInUse) -> Result<(), String> {
     let p = VoteParams::DEMO_QVGA;
-    let st = run_known_lines(n, &p, &PeakParams::DEMO)?;
+    let st = run_known_lines(n, &p, &PeakParams::DEMO, lens)?;
     let share = st.recovered as f64 / st.cases.max(1) as f64;
     r.notes.push(format!(
-        "known lines: {} synthetic cases (half through the demo lens, voted in corrected \
+        "known lines: {} synthetic cases (half through the {}, voted in corrected \
          coordinates); metrics.within_tolerance_share is the share whose strongest peak is within \
          1 px and 1 degree of the stripe's centre line or an edge; goal {KNOWN_LINES_GOAL}",
-        st.cases
+        st.cases,
+        lens.describe()
     ));
     let m = &mut r.metrics;
     m.insert("within_tolerance_share".into(), share);

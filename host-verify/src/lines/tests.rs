@@ -121,7 +121,8 @@ fn model_and_f64_agree_on_a_small_frame() {
 
 #[test]
 fn known_lines_are_recovered_on_a_few_cases() {
-    let st = run_known_lines(8, &VoteParams::DEMO_QVGA, &PeakParams::DEMO).unwrap();
+    let demo = crate::lens::LensInUse::demo().unwrap();
+    let st = run_known_lines(8, &VoteParams::DEMO_QVGA, &PeakParams::DEMO, &demo).unwrap();
     assert_eq!(st.cases, 8);
     assert!(st.recovered >= 6, "{st:?}");
 }

@@ -132,7 +132,14 @@ pub const FAMILY: Family = Family {
     name: "marking",
     kernels: &["marking.select"],
     composed_on_host: false,
-    check: check::check,
+    check: |scenes, lens| {
+        crate::family::kept_on_demo_lens(
+            check::check(scenes),
+            lens,
+            "the selection is checked on the demo sequence's truth lines in the demo lens's \
+             corrected view, for which the limits of MarkingConfig::DEMO were derived",
+        )
+    },
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

@@ -34,7 +34,7 @@ pub const FAMILY: Family = Family {
     name: "nms",
     kernels: &["nms.suppress", "nms.suppress_interpolated"],
     composed_on_host: false,
-    check: check::check,
+    check: |scenes, _lens| check::check(scenes),
     golden_cases: golden::golden_cases,
     run_vector: golden::run_vector,
 };

@@ -53,6 +53,7 @@ use super::job::{
 };
 use crate::contract::KernelReport;
 use crate::golden::{Blob, GoldenCase};
+use crate::lens::LensInUse;
 use crate::sequence::{Sequence, SequenceSpec, DEMO_SEQUENCE};
 use crate::warp::grid::build_grid;
 use crate::warp::reference::{bilinear_f64, exact_map};
@@ -170,11 +171,11 @@ fn demo_ring(w: usize, h: usize) -> Result<(usize, usize), String> {
     Ok((rows, rows * w))
 }
 
-/// The whole comparison over a sequence spec (the demo's in the report).
-pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
-    let seq = Sequence::new(spec)?;
+/// The whole comparison over a sequence (the demo's in the report).
+pub fn image_row(seq: &Sequence) -> Result<KernelReport, String> {
+    let spec = seq.spec();
     let (w, h) = (spec.width, spec.height);
-    let (geom, pts) = demo_grid(&seq, w, h, IMAGE_GRID_LOG2, IMAGE_GRID_FRAC_BITS)?;
+    let (geom, pts) = demo_grid(seq, w, h, IMAGE_GRID_LOG2, IMAGE_GRID_FRAC_BITS)?;
     let grid = ControlGrid::new(&pts, geom, IMAGE_GRID_LOG2).map_err(e)?;
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
     let fixed = run_fixed(&frames, grid)?;
@@ -185,7 +186,7 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let mut row = compare_runs(
         IMAGE_KERNEL,
         spec,
-        &seq,
+        seq,
         &fixed,
         &reference,
         &mut pr,
@@ -222,9 +223,20 @@ pub fn image_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     Ok(row)
 }
 
-/// The report row on the demo sequence.
-pub fn check_image() -> KernelReport {
-    super::job::row_or_failure(IMAGE_KERNEL, image_row(&DEMO_SEQUENCE))
+/// The report row on the demo sequence seen through `lens`.
+pub fn check_image(lens: &LensInUse) -> KernelReport {
+    let mut row = super::job::row_or_failure(
+        IMAGE_KERNEL,
+        super::job::demo_sequence_through(lens).and_then(|seq| image_row(&seq)),
+    );
+    row.notes.push(super::job::lens_note(lens));
+    if !lens.is_demo() {
+        row.notes.push(
+            "band_rows_* and ram_bytes_* stay on the built-in demo lens (its ring at QVGA and VGA)"
+                .into(),
+        );
+    }
+    row
 }
 
 /// The golden vectors' image job (the harness's): [`super::job::VectorJob`]

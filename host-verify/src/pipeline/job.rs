@@ -67,6 +67,7 @@
 use crate::chain::reference::{gaussian_f64, reference_f64, sobel_f64};
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::golden::{Blob, GoldenCase};
+use crate::lens::LensInUse;
 use crate::lines::{
     build_correction_grid, corrected_of, hough_f64, peaks_of, GRID_FRAC_BITS, GRID_LOG2,
 };
@@ -586,9 +587,38 @@ impl FixedVsF64 {
     }
 }
 
-/// The whole comparison over a sequence spec (the demo's in the report).
-pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
-    let seq = Sequence::new(spec)?;
+/// The demo sequence seen through `lens`: rendered through its camera,
+/// the truth drawn in its corrected view ([`Sequence::through`]).
+pub fn demo_sequence_through(lens: &LensInUse) -> Result<Sequence, String> {
+    let spec = DEMO_SEQUENCE;
+    if lens.is_demo() {
+        return Sequence::new(&spec);
+    }
+    if (spec.width, spec.height) != LensInUse::SIZE {
+        return Err(format!(
+            "the demo sequence is {}x{}; the {} is for {}x{}",
+            spec.width,
+            spec.height,
+            lens.describe(),
+            LensInUse::SIZE.0,
+            LensInUse::SIZE.1
+        ));
+    }
+    Sequence::through(&spec, lens.camera, lens.view)
+}
+
+/// The note of a row run on [`demo_sequence_through`] `lens`.
+pub fn lens_note(lens: &LensInUse) -> String {
+    format!(
+        "lens: {} (the demo sequence rendered through it, its correction grids, the truth in its \
+         corrected view)",
+        lens.describe()
+    )
+}
+
+/// The whole comparison over a sequence (the demo's in the report).
+pub fn job_row(seq: &Sequence) -> Result<KernelReport, String> {
+    let spec = seq.spec();
     let (w, h) = (spec.width, spec.height);
     let cg = build_correction_grid(
         seq.camera(),
@@ -602,11 +632,11 @@ pub fn job_row(spec: &SequenceSpec) -> Result<KernelReport, String> {
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
     let fixed = run_fixed(&frames, Some(&grid))?;
     let mut pr = composed_differences(&frames, &grid, &fixed)?;
-    let reference = run_f64(&seq, &frames, &stage_controls(&fixed));
+    let reference = run_f64(seq, &frames, &stage_controls(&fixed));
     let mut row = compare_runs(
         JOB_KERNEL,
         spec,
-        &seq,
+        seq,
         &fixed,
         &reference,
         &mut pr,
@@ -769,9 +799,14 @@ pub fn compare_runs(
     row
 }
 
-/// The report row on the demo sequence.
-pub fn check_job() -> KernelReport {
-    row_or_failure(JOB_KERNEL, job_row(&DEMO_SEQUENCE))
+/// The report row on the demo sequence seen through `lens`.
+pub fn check_job(lens: &LensInUse) -> KernelReport {
+    let mut row = row_or_failure(
+        JOB_KERNEL,
+        demo_sequence_through(lens).and_then(|seq| job_row(&seq)),
+    );
+    row.notes.push(lens_note(lens));
+    row
 }
 
 /// The row, or a failed row of `kernel` saying why there is none.

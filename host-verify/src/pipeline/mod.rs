@@ -47,6 +47,7 @@ use crate::edge_chain::{run_classify, run_link, run_nms};
 use crate::family::{case as family_case, input, parse_params, Family};
 use crate::filter::run::run_whole;
 use crate::golden::{crop, Blob, GoldenCase};
+use crate::lens::LensInUse;
 use crate::metrics::ErrorStats;
 use crate::opcount::measure;
 use crate::scene::Scene;
@@ -449,7 +450,7 @@ pub fn compare(cfg: &EdgeConfig, img: &[u8], w: usize, h: usize, out: &StageOut)
 }
 
 /// Contract checks of the stage on the demo scenes.
-pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
+pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
     let cfg = DEMO;
     let mut pr = Vec::new();
     let (mut a, mut r) = (Vec::new(), Vec::new());
@@ -554,7 +555,7 @@ pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
     for p in pr {
         row.fail(p);
     }
-    vec![row, job::check_job(), image::check_image()]
+    vec![row, job::check_job(lens), image::check_image(lens)]
 }
 
 /// Recomputes a pipeline vector.
@@ -698,7 +699,7 @@ mod tests {
 
     #[test]
     fn demo_scenes_are_bit_exact_and_meet_the_f1_goal() {
-        let rows = check(&demo_scenes());
+        let rows = check(&demo_scenes(), &crate::lens::LensInUse::demo().unwrap());
         let r = &rows[0];
         assert!(r.pass, "{:?} {:?}", r.notes, r.metrics);
         assert_eq!(r.bit_exact_share, 1.0);

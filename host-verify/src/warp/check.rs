@@ -4,10 +4,10 @@ use super::grid::{build_grid, grid_maps};
 use super::reference::{bilinear_f64, exact_map, model_sample, neighbour_diffs, pixel_map_coords};
 use super::run::{run_grid, run_grid_stream, run_pixel_map};
 use crate::contract::{Contract, KernelFamily, KernelReport};
-use crate::lens::Intrinsics;
+use crate::lens::{Intrinsics, LensInUse};
 use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
-use crate::scene::Scene;
+use crate::scene::{render_through, Scene, SceneClass, DEMO_SPECS};
 use fixsight::filter::Border;
 use fixsight::warp::{ControlGrid, WarpGeometry};
 use std::collections::BTreeMap;
@@ -31,6 +31,59 @@ pub fn demo_view(s: &Scene) -> Result<Intrinsics, String> {
     s.camera
         .fit_view(s.width, s.height, s.width, s.height)
         .map_err(|e| e.to_string())
+}
+
+/// The corrected view of scene `s` under `lens`: the demo lens's
+/// fit-to-view at the scene's size ([`demo_view`]), or the lens file's view.
+fn view_of(s: &Scene, lens: &LensInUse) -> Result<Intrinsics, String> {
+    if lens.is_demo() {
+        demo_view(s)
+    } else {
+        Ok(lens.view)
+    }
+}
+
+/// The scenes as `lens` sees them: for the demo lens the scenes as given;
+/// for a lens file the rendered demo scenes rendered again through its
+/// camera and every natural photograph given its camera (same pixels).
+/// Every scene must have the lens's size.
+pub fn scenes_through(scenes: &[Scene], lens: &LensInUse) -> Result<Vec<Scene>, String> {
+    if lens.is_demo() {
+        return Ok(scenes.to_vec());
+    }
+    let (w, h) = LensInUse::SIZE;
+    scenes
+        .iter()
+        .map(|s| {
+            if (s.width, s.height) != (w, h) {
+                return Err(format!(
+                    "scene {} is {}x{}; the lens is for {w}x{h}",
+                    s.name, s.width, s.height
+                ));
+            }
+            let spec = DEMO_SPECS.iter().find(|d| d.name == s.name);
+            Ok(match (s.class, spec) {
+                (SceneClass::Rendered, Some(spec)) => render_through(spec, lens.camera, w, h),
+                _ => Scene {
+                    camera: lens.camera,
+                    ..s.clone()
+                },
+            })
+        })
+        .collect()
+}
+
+/// The note every `warp.*` row carries about its lens.
+fn lens_note(lens: &LensInUse) -> String {
+    if lens.is_demo() {
+        format!("lens: {}", lens.describe())
+    } else {
+        format!(
+            "lens: {} (the demo scenes rendered through it, the natural photographs warped \
+             through it, its corrected view)",
+            lens.describe()
+        )
+    }
 }
 
 /// Results of one warp path on one image.
@@ -105,13 +158,37 @@ fn max_err_vs(
     m
 }
 
-/// Contract checks on the demo scenes.
-pub fn check(scenes: &[Scene]) -> Vec<KernelReport> {
-    vec![
-        check_path(scenes, false, &[1, 3]),
-        check_path(scenes, true, &[1]),
-        check_stream(scenes),
-    ]
+/// Contract checks on the demo scenes seen through `lens`
+/// ([`scenes_through`]).
+pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
+    let mut rows = match scenes_through(scenes, lens) {
+        Ok(seen) => vec![
+            check_path(&seen, lens, false, &[1, 3]),
+            check_path(&seen, lens, true, &[1]),
+            check_stream(&seen, lens),
+        ],
+        Err(why) => super::FAMILY
+            .kernels
+            .iter()
+            .map(|id| {
+                let stats = ErrorStats::compare(&[1.0], &[0.0], 1.0);
+                let mut r = KernelReport::from_stats(
+                    id,
+                    KernelFamily::Warp,
+                    Contract::Tolerance,
+                    0.0,
+                    &stats,
+                    OpsPerPx::default(),
+                );
+                r.fail(why.clone());
+                r
+            })
+            .collect(),
+    };
+    for r in &mut rows {
+        r.notes.push(lens_note(lens));
+    }
+    rows
 }
 
 /// Ring rows the demo lens needs for the row stream: the demo camera
@@ -146,7 +223,7 @@ pub fn band_figures() -> Result<Vec<(String, f64)>, String> {
 /// `warp.grid_stream` on the demo scenes: rows pushed one at a time, strips
 /// of 1 and 8 rows, both borders; bit-exact to the integer model fed with
 /// the grid coordinates.
-fn check_stream(scenes: &[Scene]) -> KernelReport {
+fn check_stream(scenes: &[Scene], lens: &LensInUse) -> KernelReport {
     let (f, k) = (CHECK_FRAC_BITS, CHECK_GRID_LOG2);
     let mut problems = Vec::new();
     let mut ops = OpsPerPx::default();
@@ -154,7 +231,7 @@ fn check_stream(scenes: &[Scene]) -> KernelReport {
     let mut band_max = 0usize;
     for (si, s) in scenes.iter().enumerate() {
         let (w, h) = (s.width, s.height);
-        let built = demo_view(s).and_then(|view| {
+        let built = view_of(s, lens).and_then(|view| {
             let geom = WarpGeometry::new(w, h, w, h, f).map_err(|e| e.to_string())?;
             build_grid(&s.camera, &view, geom, k).map(|mb| (geom, mb))
         });
@@ -238,7 +315,7 @@ fn check_stream(scenes: &[Scene]) -> KernelReport {
         "row stream of the control grid (F = {f}, step 2^{k}), rows pushed one at a time into a \
          ring of band_rows(strip) rows, strips of 1 and 8 rows, borders fill(0) and clamp, {} \
          scenes: bit-exact to the integer model fed with grid coordinates; band_rows_*/band_bytes_*: \
-         ring the demo lens needs (grid step 16, F = 5, grey)",
+         ring the built-in demo lens needs (grid step 16, F = 5, grey), whatever the lens",
         scenes.len()
     ));
     for p in problems {
@@ -255,7 +332,7 @@ pub fn to_three_channels(g: &[u8]) -> Vec<u8> {
         .collect()
 }
 
-fn check_path(scenes: &[Scene], grid: bool, channels: &[usize]) -> KernelReport {
+fn check_path(scenes: &[Scene], lens: &LensInUse, grid: bool, channels: &[usize]) -> KernelReport {
     let f = CHECK_FRAC_BITS;
     let k = CHECK_GRID_LOG2;
     let name = if grid {
@@ -276,7 +353,7 @@ fn check_path(scenes: &[Scene], grid: bool, channels: &[usize]) -> KernelReport 
     let mut per_image: BTreeMap<&str, (crate::scene::SceneClass, usize, usize)> = BTreeMap::new();
     for &c in channels {
         for (si, s) in scenes.iter().enumerate() {
-            let view = match demo_view(s) {
+            let view = match view_of(s, lens) {
                 Ok(v) => v,
                 Err(e) => {
                     problems.push(format!("{}: {e}", s.name));

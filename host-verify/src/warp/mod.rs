@@ -48,6 +48,12 @@
 //!   metrics give the ring the demo lens needs ([`check::band_figures`]):
 //!   `band_rows_*` and `band_bytes_*` (grey) at QVGA and VGA.
 //!
+//! The report's lens (`report --lens FILE`, else the built-in demo lens)
+//! is the map of all three rows: with a lens file the demo scenes are
+//! rendered again through it and the natural photographs are warped
+//! through it ([`check::scenes_through`]); the band figures stay on the
+//! demo lens.
+//!
 //! # Golden kernel ids
 //!
 //! | id | kernel API | inputs | params | output |

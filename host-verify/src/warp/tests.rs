@@ -136,7 +136,7 @@ fn sub_pixel_rule_of_thumb_against_the_sweep() {
 #[test]
 fn warp_contracts_hold_on_the_demo_scenes() {
     let scenes = crate::scene::demo_scenes();
-    for r in check(&scenes) {
+    for r in check(&scenes, &crate::lens::LensInUse::demo().unwrap()) {
         assert!(r.pass, "{}: {:?}", r.name, r.notes);
         assert_eq!(r.metrics["model_mismatches"], 0.0);
     }

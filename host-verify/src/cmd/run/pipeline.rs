@@ -73,9 +73,16 @@ example ISO 3691-4, IEC 61508, ISO 13849) and local regulations.";
 /// Reads and checks a lens file for the demo job.
 pub fn load_lens(path: &Path) -> anyhow::Result<LensSpec> {
     let spec = read_lens_file(path)?;
+    check_lens_size(path, &spec)?;
+    Ok(spec)
+}
+
+/// Refuses a lens file `spec` read from `path` unless its sensor and
+/// corrected view are both the demo job's frame size.
+pub fn check_lens_size(path: &Path, spec: &LensSpec) -> anyhow::Result<()> {
     if spec.sensor != FRAME || spec.output != FRAME {
         bail!(
-            "{}: --pipeline needs a lens file for {}x{} frames with a {}x{} corrected view; this \
+            "{}: the demo job (run --pipeline, report) needs a lens file for {}x{} frames with a {}x{} corrected view; this \
              one has a {}x{} sensor and a {}x{} view",
             files::shown_path(path),
             FRAME.0,
@@ -88,7 +95,7 @@ pub fn load_lens(path: &Path) -> anyhow::Result<LensSpec> {
             spec.output.1
         );
     }
-    Ok(spec)
+    Ok(())
 }
 
 /// Degrees of a line `(rho px, theta rad)` for the JSON.
