@@ -149,6 +149,20 @@ impl KernelReport {
         }
     }
 
+    /// A failed row for a kernel whose figures could not be computed:
+    /// no samples, no operations, `why` as its note.
+    pub fn failed(
+        name: &str,
+        family: KernelFamily,
+        contract: Contract,
+        why: impl Into<String>,
+    ) -> Self {
+        let empty = ErrorStats::compare(&[], &[], 1.0);
+        let mut r = Self::from_stats(name, family, contract, 0.0, &empty, OpsPerPx::default());
+        r.fail(why);
+        r
+    }
+
     /// Marks the row failed with a reason (used for extra checks such as
     /// streaming == whole frame).
     pub fn fail(&mut self, why: impl Into<String>) {

@@ -768,16 +768,7 @@ pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
 }
 
 fn failed_row(name: &str, why: String) -> KernelReport {
-    let mut r = KernelReport::from_stats(
-        name,
-        KernelFamily::Lines,
-        Contract::BitExact,
-        0.0,
-        &ErrorStats::compare(&[], &[], 1.0),
-        OpsPerPx::default(),
-    );
-    r.fail(why);
-    r
+    KernelReport::failed(name, KernelFamily::Lines, Contract::BitExact, why)
 }
 
 /// i16 pairs for the angle check: every pair with both components in

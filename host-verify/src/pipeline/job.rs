@@ -812,16 +812,7 @@ pub fn check_job(lens: &LensInUse) -> KernelReport {
 /// The row, or a failed row of `kernel` saying why there is none.
 pub fn row_or_failure(kernel: &str, row: Result<KernelReport, String>) -> KernelReport {
     row.unwrap_or_else(|why| {
-        let mut r = KernelReport::from_stats(
-            kernel,
-            KernelFamily::Pipeline,
-            Contract::BitExact,
-            0.0,
-            &ErrorStats::compare(&[1.0], &[0.0], 1.0),
-            OpsPerPx::default(),
-        );
-        r.fail(why);
-        r
+        KernelReport::failed(kernel, KernelFamily::Pipeline, Contract::BitExact, why)
     })
 }
 

@@ -171,17 +171,7 @@ pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
             .kernels
             .iter()
             .map(|id| {
-                let stats = ErrorStats::compare(&[1.0], &[0.0], 1.0);
-                let mut r = KernelReport::from_stats(
-                    id,
-                    KernelFamily::Warp,
-                    Contract::Tolerance,
-                    0.0,
-                    &stats,
-                    OpsPerPx::default(),
-                );
-                r.fail(why.clone());
-                r
+                KernelReport::failed(id, KernelFamily::Warp, Contract::Tolerance, why.clone())
             })
             .collect(),
     };
