@@ -213,7 +213,7 @@ pub fn run(
     let elf = b.image(None, TARGET.bin.trim_end_matches(".elf"))?;
 
     let log = logs.join("cortex-m4-c.plugin.txt");
-    let r = run_qemu(&TARGET, &elf, plugin, &log)?;
+    let r = run_qemu(&TARGET, &elf, plugin, &log, None)?;
     std::fs::write(logs.join("cortex-m4-c.console.txt"), &r.console)?;
     let mut problems = Vec::new();
     let (cal, calls, (vectors_run, passed)) =
@@ -283,6 +283,7 @@ pub fn run(
             instr_per_px: (ipx * 100.0).round() / 100.0,
             code_bytes: with.saturating_sub(text_none),
             stack_bytes: stack[id.as_str()],
+            sequence: None,
         });
     }
     let rel = lib

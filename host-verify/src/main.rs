@@ -141,6 +141,15 @@ enum Cmd {
     /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
     /// targets.json.
     ///
+    /// The Rust firmware also runs the 96 frames of the demo sequence through
+    /// the demo jobs of both lens modes (pipeline.point_job and
+    /// pipeline.image_job), compares every frame's record with the host's and
+    /// counts each frame's instructions (entries <kernel id>/demo_sequence).
+    /// The drift warnings in those records are not a safety function: a
+    /// vehicle that can hurt people needs safety-rated sensing and control
+    /// under the applicable standards (for example ISO 3691-4, IEC 61508) and
+    /// local regulations.
+    ///
     /// Example: fixsight-verify targets --lang rust --out fixsight-report
     Targets {
         /// Output folder.

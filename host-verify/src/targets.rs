@@ -36,6 +36,7 @@
 //! Results go to `targets.json` (schema 1) in the output folder, with the
 //! console and plugin logs of each run beside it under `targets-logs/`.
 
+use crate::target_sequence::{OnTargetSequence, STAGE};
 use anyhow::{anyhow, bail, Context, Result};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -57,7 +58,7 @@ pub const TRIPLES: [&str; 4] = [
 
 /// Seconds one QEMU run may take before it is killed (a semihosting call
 /// without `-semihosting-config` hangs).
-const QEMU_TIMEOUT_S: &str = "120";
+const QEMU_TIMEOUT_S: &str = "600";
 /// Seconds one firmware build may take.
 const BUILD_TIMEOUT_S: &str = "900";
 
@@ -174,6 +175,23 @@ pub struct KernelFigures {
     pub code_bytes: u64,
     /// Stack high-water mark of the kernel id, bytes.
     pub stack_bytes: u64,
+    /// For the demo sequence's entries (`<kernel id>/demo_sequence`,
+    /// [`crate::target_sequence`]): the per-frame figures.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sequence: Option<SequenceFigures>,
+}
+
+/// Per-frame figures of a kernel run over the demo sequence on a core.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct SequenceFigures {
+    /// Frames run.
+    pub frames: usize,
+    /// Frames whose record is bit-identical to the host's.
+    pub bit_exact_frames: usize,
+    /// Fewest instructions per pixel of one frame.
+    pub instr_per_px_min: f64,
+    /// Most instructions per pixel of one frame.
+    pub instr_per_px_max: f64,
 }
 
 /// Reads `targets.json` from `dir` if present and well-formed (for the
@@ -376,7 +394,16 @@ pub struct Run {
     pub plugin_log: String,
 }
 
-pub(crate) fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Result<Run> {
+/// Runs `elf` on `t`'s emulator with the counting plugin; `sequence`
+/// names a demo-sequence file on the firmware's semihosting command line
+/// ([`crate::target_sequence`]).
+pub(crate) fn run_qemu(
+    t: &Target,
+    elf: &Path,
+    plugin: &Path,
+    log: &Path,
+    sequence: Option<&Path>,
+) -> Result<Run> {
     let open = symbol(elf, "fixsight_window_open")?;
     let close = symbol(elf, "fixsight_window_close")?;
     let _ = std::fs::remove_file(log);
@@ -384,7 +411,12 @@ pub(crate) fn run_qemu(t: &Target, elf: &Path, plugin: &Path, log: &Path) -> Res
         .args([QEMU_TIMEOUT_S, t.qemu])
         .args(t.machine)
         .args(["-display", "none", "-monitor", "none", "-serial", "none"])
-        .args(["-semihosting-config", "enable=on,target=native", "-kernel"])
+        .arg("-semihosting-config")
+        .arg(match sequence {
+            Some(p) => format!("enable=on,target=native,arg=fixsight,arg={}", p.display()),
+            None => "enable=on,target=native".into(),
+        })
+        .arg("-kernel")
         .arg(elf)
         .arg("-plugin")
         .arg(format!(
@@ -489,13 +521,14 @@ pub fn run_target(
     golden: &Path,
     plugin: &Path,
     logs: &Path,
+    sequence: Option<&OnTargetSequence>,
 ) -> Result<(TargetResult, Vec<String>)> {
     let mut problems = Vec::new();
     let elf = build_firmware(root, t, golden, None)?;
     let mut runs = Vec::new();
     for k in 0..2 {
         let log = logs.join(format!("{}.plugin.{k}.txt", t.name));
-        let r = run_qemu(t, &elf, plugin, &log)?;
+        let r = run_qemu(t, &elf, plugin, &log, sequence.map(|s| s.path.as_path()))?;
         std::fs::write(logs.join(format!("{}.console.{k}.txt", t.name)), &r.console)?;
         runs.push(r);
     }
@@ -512,13 +545,21 @@ pub fn run_target(
             t.name
         ));
     }
-    let (cal, calls, (vectors, passed)) =
+    let (cal, mut calls, (vectors, passed)) =
         parse_console(&r.console).with_context(|| format!("{}: status {}", t.name, r.status))?;
-    for c in &calls {
+    let mut sequence_problems = Vec::new();
+    if let Some(seq) = sequence {
+        let printed = crate::target_sequence::parse(&r.console)?;
+        let (frames, p) = crate::target_sequence::check(t.name, &printed, seq);
+        calls.extend(frames);
+        sequence_problems = p;
+    }
+    for c in calls.iter().filter(|c| c.stage.as_deref() != Some(STAGE)) {
         if c.status != "pass" {
             problems.push(format!("{}: {}", t.name, c.line));
         }
     }
+    problems.extend(sequence_problems);
     if (r.status == 0) != (passed == vectors) {
         problems.push(format!(
             "{}: exit status {} disagrees with {passed}/{vectors} vectors passed",
@@ -577,19 +618,43 @@ pub fn run_target(
         };
         let fig = |name: String, ipx: f64| KernelFigures {
             name,
-            instr_per_px: (ipx * 100.0).round() / 100.0,
+            instr_per_px: round2(ipx),
             code_bytes: code[id],
             stack_bytes: stack[id.as_str()],
+            sequence: None,
         };
         if stages.is_empty() {
             let vs: Vec<&Call> = calls.iter().filter(|c| &c.kernel == id).collect();
             kernels.push(fig(id.clone(), per_px(&vs)));
         } else {
-            for s in stages {
-                kernels.push(fig(
-                    format!("{id}/{}", s.stage.as_deref().unwrap_or("")),
-                    per_px(&[s]),
-                ));
+            // One entry per stage name (a bench stage is one call; the demo
+            // sequence one call per frame).
+            let mut names: Vec<&str> = Vec::new();
+            for s in &stages {
+                let n = s.stage.as_deref().unwrap_or("");
+                if !names.contains(&n) {
+                    names.push(n);
+                }
+            }
+            for n in names {
+                let cs: Vec<&Call> = stages
+                    .iter()
+                    .copied()
+                    .filter(|c| c.stage.as_deref() == Some(n))
+                    .collect();
+                let mut f = fig(format!("{id}/{n}"), per_px(&cs));
+                if n == STAGE {
+                    let each: Vec<f64> = cs.iter().map(|c| per_px(&[c])).collect();
+                    f.sequence = Some(SequenceFigures {
+                        frames: cs.len(),
+                        bit_exact_frames: cs.iter().filter(|c| c.status == "pass").count(),
+                        instr_per_px_min: round2(
+                            each.iter().copied().fold(f64::INFINITY, f64::min),
+                        ),
+                        instr_per_px_max: round2(each.iter().copied().fold(0.0, f64::max)),
+                    });
+                }
+                kernels.push(f);
             }
         }
     }
@@ -605,6 +670,10 @@ pub fn run_target(
         },
         problems,
     ))
+}
+
+fn round2(v: f64) -> f64 {
+    (v * 100.0).round() / 100.0
 }
 
 /// The per-target table.
@@ -630,6 +699,12 @@ pub fn table(r: &TargetsReport) -> String {
                 "  {:<36} {:>10.2} {:>10} {:>8}\n",
                 k.name, k.instr_per_px, k.code_bytes, k.stack_bytes
             );
+            if let Some(q) = &k.sequence {
+                s += &format!(
+                    "    {}/{} frames bit-identical to the host; one frame {:.2} to {:.2} instr/px\n",
+                    q.bit_exact_frames, q.frames, q.instr_per_px_min, q.instr_per_px_max
+                );
+            }
         }
     }
     s
@@ -653,8 +728,9 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
     };
     let mut problems = Vec::new();
     if lang != Some("c") {
+        let seq = crate::target_sequence::prepare(&logs)?;
         for t in &TARGETS {
-            let (r, p) = run_target(&root, t, &golden, &plugin, &logs)?;
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq))?;
             report.targets.push(r);
             problems.extend(p);
         }
@@ -714,6 +790,12 @@ mod tests {
                     instr_per_px: 39.87,
                     code_bytes: 1552,
                     stack_bytes: 252,
+                    sequence: Some(SequenceFigures {
+                        frames: 96,
+                        bit_exact_frames: 96,
+                        instr_per_px_min: 250.5,
+                        instr_per_px_max: 301.25,
+                    }),
                 }],
                 lang: "c".into(),
                 c_library: Some(CLibrary {

@@ -95,6 +95,50 @@ fn sums_verdicts_and_default_stages() {
     fs::remove_dir_all(&d).unwrap();
 }
 
+/// A core measured over the demo sequence as well as on the bench frame.
+const WITH_SEQUENCE: &str = r#"{"schema": 1, "targets": [
+  {"name": "cortex-m4", "triple": "thumbv7em-none-eabihf", "vectors": 1, "passed": 1, "lang": "rust",
+   "kernels": [
+     {"name": "pipeline.point_job/bench", "instr_per_px": 250.0, "code_bytes": 1, "stack_bytes": 1},
+     {"name": "pipeline.point_job/demo_sequence", "instr_per_px": 300.0, "code_bytes": 1, "stack_bytes": 1,
+      "sequence": {"frames": 96, "bit_exact_frames": 96, "instr_per_px_min": 200.0, "instr_per_px_max": 500.0}}]}]}"#;
+
+#[test]
+fn the_demo_sequence_replaces_the_bench_frame_and_its_worst_frame_decides() {
+    let d = dir("sequence");
+    fs::write(d.join("targets.json"), WITH_SEQUENCE).unwrap();
+    // Mean 300 * 160 * 120 * 10 = 57.6 M instr/s on 100 MHz = 57.6 %; the
+    // costliest frame 500 -> 96 %: fits, 4 % left. The bench entry (250)
+    // is not added.
+    let args = [
+        "--width",
+        "160",
+        "--height",
+        "120",
+        "--fps",
+        "10",
+        "--clock-mhz",
+        "100",
+    ];
+    let (code, out, _) = budget(&d, &args);
+    assert_eq!(code, Some(0), "{out}");
+    assert!(!out.contains("pipeline.point_job/bench"), "{out}");
+    assert!(
+        out.contains("total: 57.60 M instructions/s, 57.6 %"),
+        "{out}"
+    );
+    assert!(
+        out.contains("costliest frame of the demo sequence: 96.0 %"),
+        "{out}"
+    );
+    assert!(out.contains("FITS with 4.0 %"), "{out}");
+    // At 60 MHz the mean (96 %) fits but the costliest frame (160 %) does not.
+    let (code, out, _) = budget(&d, &[&args[..6], &["--clock-mhz", "60"]].concat());
+    assert_eq!(code, Some(1), "{out}");
+    assert!(out.contains("DOES NOT FIT: 1.60 times"), "{out}");
+    fs::remove_dir_all(&d).unwrap();
+}
+
 #[test]
 fn bad_input_gives_a_message() {
     let d = dir("bad");

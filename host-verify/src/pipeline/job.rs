@@ -944,6 +944,16 @@ pub type VectorJob = fixsight::pipeline::PointJob<
 
 /// The record of one frame (see [`JobParams`]).
 pub fn frame_record(job: &VectorJob, r: &JobReport) -> Vec<i32> {
+    let slots: Vec<[i32; TRACK_WORDS]> = job.tracker().map_or_else(Vec::new, |t| {
+        (0..VECTOR_TRACKS).map(|i| track_words(t.slot(i))).collect()
+    });
+    record_words(r, job.peaks(), &slots)
+}
+
+/// The record of one frame (layout in [`JobParams`]) from a job's report,
+/// its peaks (the first [`VECTOR_PEAKS`], zeros past the found ones) and
+/// its track slots' words (none without a tracker).
+pub fn record_words(r: &JobReport, peaks: &[Peak], slots: &[[i32; TRACK_WORDS]]) -> Vec<i32> {
     let mut v = vec![
         r.frame as i32,
         r.edges.edge_points as i32,
@@ -956,7 +966,7 @@ pub fn frame_record(job: &VectorJob, r: &JobReport) -> Vec<i32> {
         r.peaks as i32,
     ];
     for i in 0..VECTOR_PEAKS {
-        match job.peaks().get(i) {
+        match peaks.get(i) {
             Some(p) => v.extend([
                 p.theta_bin as i32,
                 p.rho_bin as i32,
@@ -977,10 +987,8 @@ pub fn frame_record(job: &VectorJob, r: &JobReport) -> Vec<i32> {
         w.map_or(0, |w| w.track_id as i32),
         w.map_or(0, |w| w.frames as i32),
     ]);
-    if let Some(t) = job.tracker() {
-        for i in 0..VECTOR_TRACKS {
-            v.extend(track_words(t.slot(i)));
-        }
+    for s in slots {
+        v.extend(s);
     }
     v
 }

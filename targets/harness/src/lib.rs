@@ -9,6 +9,7 @@
 //! * the table of dispatch functions, one per kernel id
 //!   ([`kernels::dispatch`], rows in `src/kernels/mod.rs`);
 //! * the QVGA benchmark frames ([`bench`]);
+//! * the demo sequence the host names on the command line ([`sequence`]);
 //! * the measurement of every call: the instruction-count window markers
 //!   read by the QEMU plugin (`targets/qemu-plugin`), and stack painting for
 //!   the high-water mark;
@@ -22,6 +23,7 @@
 //! cal win <w> stack <bytes>                         the empty-call window
 //! vec <i> <id> <kernel> <pass|FAIL|UNSUPPORTED|ERROR> win <w> px <n> stack <bytes> [detail]
 //! bench <name> <kernel> <pass|ERROR> win <w> px <n> stack <bytes> [detail]
+//! seq ...                                           the demo sequence ([`sequence`])
 //! done vectors <n> passed <p>
 //! ```
 //!
@@ -32,6 +34,7 @@
 
 pub mod bench;
 pub mod kernels;
+pub mod sequence;
 pub mod sys;
 pub mod vectors;
 
@@ -234,6 +237,7 @@ pub fn run(arch: &str) -> u32 {
     }
 
     bench::run(&mut con, &mut words[..]);
+    sequence::run(&mut con, &mut words[..]);
 
     let total = vectors::VECTORS.len();
     let _ = writeln!(con, "done vectors {total} passed {passed}");

@@ -15,13 +15,13 @@
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
 use fixsight::filter::Border;
-use fixsight::lines::{PeakParams, VoteParams};
+use fixsight::lines::{Peak, PeakParams, VoteParams};
 use fixsight::marking::{MarkingConfig, MarkingLimits, TapeContrast};
 use fixsight::pipeline::{
     map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, JobReport, Magnitude, Operator,
-    PointJob, PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO,
+    PointJob, PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO, EDGES_PER_FRAME,
 };
-use fixsight::track::track_words;
+use fixsight::track::{track_words, Tracker};
 use fixsight::warp::{ControlGrid, WarpGeometry};
 
 /// The stream the harness runs: QVGA, histogram bins for every
@@ -199,7 +199,7 @@ const PEAKS: usize = 8;
 /// Track slots of [`HarnessJob`].
 const TRACKS: usize = 4;
 /// Words per frame of the `record` output.
-const WORDS: usize =
+pub const WORDS: usize =
     9 + 5 * PEAKS + fixsight::marking::RECORD_WORDS + 6 + TRACKS * fixsight::track::TRACK_WORDS;
 
 /// The configuration a `pipeline.point_job` vector names.
@@ -290,7 +290,7 @@ pub fn point_job(
             job.push_row(&data[o..o + w])?;
         }
         let r = job.finish(grid.as_ref())?;
-        put_record(job, &r, rec)?;
+        put_record(&r, job.peaks(), job.tracker(), rec)?;
     }
     Ok(())
 }
@@ -310,8 +310,15 @@ fn job_frames<'a>(p: &Params, ins: &'a [Img<'_>]) -> Result<(&'a [u8], usize, us
     Ok((data, src.width, frames, height))
 }
 
-/// One frame's record (layout in `host-verify/src/pipeline/job.rs`).
-fn put_record(job: &HarnessJob, r: &JobReport, rec: &mut [i32]) -> Result<(), Fail> {
+/// One frame's record (layout in `host-verify/src/pipeline/job.rs`) from
+/// a job's report, its peaks and its tracker ([`PEAKS`] peak and
+/// [`TRACKS`] track slots; zeros past the ones there are).
+pub fn put_record<const N: usize>(
+    r: &JobReport,
+    peaks: &[Peak],
+    tracker: Option<&Tracker<N, EDGES_PER_FRAME>>,
+    rec: &mut [i32],
+) -> Result<(), Fail> {
     let mut v = rec.iter_mut();
     let mut put = |x: i32| {
         if let Some(d) = v.next() {
@@ -332,7 +339,7 @@ fn put_record(job: &HarnessJob, r: &JobReport, rec: &mut [i32]) -> Result<(), Fa
         put(x);
     }
     for i in 0..PEAKS {
-        let pk = job.peaks().get(i);
+        let pk = peaks.get(i);
         for x in pk.map_or([0; 5], |p| {
             [
                 p.theta_bin as i32,
@@ -359,7 +366,7 @@ fn put_record(job: &HarnessJob, r: &JobReport, rec: &mut [i32]) -> Result<(), Fa
     ] {
         put(x);
     }
-    let t = job.tracker().ok_or(Fail::Harness("no tracker"))?;
+    let t = tracker.ok_or(Fail::Harness("no tracker"))?;
     for i in 0..TRACKS {
         for x in track_words(t.slot(i)) {
             put(x);
@@ -427,7 +434,7 @@ pub fn image_job(
             job.push_row(&data[o..o + w])?;
         }
         let r = job.finish()?;
-        put_record(job.line_stage(), &r, rec)?;
+        put_record(&r, job.peaks(), job.tracker(), rec)?;
     }
     Ok(())
 }
