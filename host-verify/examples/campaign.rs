@@ -59,8 +59,11 @@ fn main() {
         }
         let t0 = Instant::now();
         let (tk, cur) = (tick.clone(), current.clone());
+        let bar = fixsight_verify::progress::bar(cases, f);
+        let b = bar.clone();
         let t = run_family(f, seed, cases, &inputs, &move |i| {
             tk.fetch_add(1, Ordering::Relaxed);
+            b.set_position(i + 1);
             if i % 1024 == 0 {
                 if let Ok(mut c) = cur.lock() {
                     *c = format!("{f} near case {i}");
@@ -78,6 +81,7 @@ fn main() {
             t.slowest_s,
             t0.elapsed().as_secs_f64()
         );
+        bar.finish_and_clear();
         for x in &t.findings {
             println!("  {x}");
         }

@@ -54,10 +54,18 @@ pub fn run_vector(
 
 /// All golden cases of all families, from the given scenes.
 pub fn all_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
-    FAMILIES
+    let bar = crate::progress::bar(FAMILIES.len() as u64, "golden cases");
+    let cases = FAMILIES
         .iter()
-        .flat_map(|f| (f.golden_cases)(scenes))
-        .collect()
+        .flat_map(|f| {
+            bar.set_message(f.name);
+            let c = (f.golden_cases)(scenes);
+            bar.inc(1);
+            c
+        })
+        .collect();
+    bar.finish_and_clear();
+    cases
 }
 
 /// Checks every vector of the golden folder `dir` with [`run_vector`].

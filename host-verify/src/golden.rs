@@ -549,12 +549,16 @@ pub fn check_manifest(dir: &Path, m: &Manifest, run: RunVector) -> GoldenSummary
         vectors: m.vectors.len(),
         ..Default::default()
     };
+    let bar = crate::progress::bar(m.vectors.len() as u64, "golden vectors");
     for v in &m.vectors {
+        bar.set_message(v.id.clone());
         match check_vector(dir, v, run) {
             Ok(()) => s.passed += 1,
             Err(e) => s.failures.push((v.id.clone(), e)),
         }
+        bar.inc(1);
     }
+    bar.finish_and_clear();
     s
 }
 

@@ -61,6 +61,7 @@ pub mod natural;
 pub mod nms;
 pub mod opcount;
 pub mod pipeline;
+pub mod progress;
 pub mod report;
 pub mod scene;
 pub mod sequence;

@@ -14,6 +14,11 @@ use std::process::ExitCode;
     about = "Verify the fixsight kernels against f64 references and golden vectors"
 )]
 struct Cli {
+    /// No progress bars, and no tables from `report` and `targets` (their
+    /// failures, verdict and files are the same): for CI logs. Progress
+    /// bars are drawn only when stderr is a terminal anyway.
+    #[arg(long, global = true)]
+    quiet: bool,
     #[command(subcommand)]
     cmd: Cmd,
 }
@@ -336,6 +341,7 @@ enum GoldenCmd {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    fixsight_verify::progress::set_quiet(cli.quiet);
     match run(cli.cmd) {
         Ok(true) => ExitCode::SUCCESS,
         Ok(false) => ExitCode::FAILURE,

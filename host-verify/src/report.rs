@@ -113,10 +113,18 @@ pub struct Report {
 /// Runs every family's checks on the given scenes, the lens-dependent
 /// rows with `lens`.
 pub fn check_all(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
-    FAMILIES
+    let bar = crate::progress::bar(FAMILIES.len() as u64, "checking families");
+    let rows = FAMILIES
         .iter()
-        .flat_map(|f| (f.check)(scenes, lens))
-        .collect()
+        .flat_map(|f| {
+            bar.set_message(f.name);
+            let rows = (f.check)(scenes, lens);
+            bar.inc(1);
+            rows
+        })
+        .collect();
+    bar.finish_and_clear();
+    rows
 }
 
 /// Builds the report: scenes, checks (the lens-dependent rows with

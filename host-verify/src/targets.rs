@@ -593,11 +593,20 @@ pub fn run_target(
     }
     // Code size: one image per kernel id, and the baseline.
     let mut code: BTreeMap<String, u64> = BTreeMap::new();
+    let bar = crate::progress::bar(
+        ids.len() as u64 + 1,
+        &format!("{}: code-size images", t.name),
+    );
+    bar.set_message("none");
     let none = text_bytes(&build_firmware(root, t, golden, Some("none"))?)?;
+    bar.inc(1);
     for id in &ids {
+        bar.set_message(id.clone());
         let with = text_bytes(&build_firmware(root, t, golden, Some(id))?)?;
         code.insert(id.clone(), with.saturating_sub(none));
+        bar.inc(1);
     }
+    bar.finish_and_clear();
 
     let mut kernels = Vec::new();
     for id in &ids {
@@ -731,6 +740,10 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
         let seq = crate::target_sequence::prepare(&logs)?;
         for t in &TARGETS {
             let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq))?;
+            println!(
+                "{} ({}): {}/{} golden vectors bit-exact",
+                t.name, t.triple, r.passed, r.vectors
+            );
             report.targets.push(r);
             problems.extend(p);
         }
@@ -740,7 +753,9 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
         report.targets.push(r);
         problems.extend(p);
     }
-    print!("{}", table(&report));
+    if !crate::progress::quiet() {
+        print!("{}", table(&report));
+    }
     // The command checked the overwrite rule before the run.
     let mut o = crate::files::Outputs::new(out, [TARGETS_JSON], true, "--overwrite")?;
     o.write(

@@ -63,7 +63,11 @@ fn from_help() -> BTreeMap<String, Vec<String>> {
         for (path, text) in leaves {
             let mut opts: Vec<String> = section(&text, "Options:")
                 .into_iter()
-                .filter(|o| o.starts_with("--") && o != "--help" && o != "--version")
+                // `--quiet` is global: every command lists it, the README
+                // states it once (checked below).
+                .filter(|o| {
+                    o.starts_with("--") && o != "--help" && o != "--version" && o != "--quiet"
+                })
                 .collect();
             opts.sort();
             out.insert(path, opts);
@@ -148,4 +152,48 @@ fn help_of_commands_with_a_drift_warning_says_it_is_no_safety_function() {
             );
         }
     }
+}
+
+/// `--quiet` is a global option: listed by the top-level help, accepted
+/// before and after the command, stated in the README; a command run with
+/// it writes nothing on stderr and gives the same verdict.
+#[test]
+fn quiet_is_global_and_documented() {
+    assert!(section(&help(&["--help"]), "Options:").contains(&"--quiet".to_string()));
+    let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../README.md"))
+        .expect("README.md");
+    assert!(readme.contains("Every command takes `--quiet`"));
+    let d = std::env::temp_dir().join(format!("fixsight-quiet-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    let t = r#"{"schema": 1, "targets": [{"name": "cortex-m4", "triple": "t", "vectors": 1,
+        "passed": 1, "lang": "rust", "kernels": [{"name": "pipeline.point_job/b",
+        "instr_per_px": 10.0, "code_bytes": 1, "stack_bytes": 1}]}]}"#;
+    std::fs::write(d.join("targets.json"), t).unwrap();
+    let args = [
+        "--width",
+        "32",
+        "--height",
+        "24",
+        "--fps",
+        "1",
+        "--clock-mhz",
+        "1",
+    ];
+    let dir = d.to_str().unwrap();
+    for pre in [true, false] {
+        let mut c = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"));
+        if pre {
+            c.arg("--quiet");
+        }
+        c.args(["budget", "--report", dir]).args(args);
+        if !pre {
+            c.arg("--quiet");
+        }
+        let o = c.output().unwrap();
+        assert_eq!(o.status.code(), Some(0), "{o:?}");
+        assert!(o.stderr.is_empty(), "{o:?}");
+        assert!(String::from_utf8_lossy(&o.stdout).contains("FITS"), "{o:?}");
+    }
+    let _ = std::fs::remove_dir_all(&d);
 }

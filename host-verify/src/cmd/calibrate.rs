@@ -204,7 +204,10 @@ pub fn run(req: &Request) -> Result<String, CalibError> {
     let mut found = Vec::new();
     let mut rows = Vec::new();
     let mut skipped = Vec::new();
+    let bar = crate::progress::bar(images.len() as u64, "finding the board");
     for (name, g) in &images {
+        bar.set_message(name.clone());
+        bar.inc(1);
         match corners::find_board(g, &req.board) {
             Ok(c) => {
                 found.push((name.clone(), g, c));
@@ -230,6 +233,7 @@ pub fn run(req: &Request) -> Result<String, CalibError> {
             }
         }
     }
+    bar.finish_and_clear();
     if found.len() < MIN_VIEWS {
         return Err(CalibError::TooFewViews {
             found: found.len(),

@@ -70,7 +70,20 @@ pub fn run(
         None => LensInUse::demo().map_err(|e| anyhow::anyhow!("the demo lens: {e}"))?,
     };
     let r = report::run(out, &vectors_dir(vectors), overwrite, &lens)?;
-    print!("{}", report::table(&r));
+    if crate::progress::quiet() {
+        for k in r.kernels.iter().filter(|k| !k.pass) {
+            println!("FAIL {}", k.name);
+        }
+        println!(
+            "{}: {} kernel rows, golden vectors {}/{}",
+            if r.pass { "PASS" } else { "FAIL" },
+            r.kernels.len(),
+            r.golden.passed,
+            r.golden.vectors
+        );
+    } else {
+        print!("{}", report::table(&r));
+    }
     println!(
         "report written to {}",
         crate::files::shown_path(&out.join("report.json"))

@@ -166,7 +166,9 @@ pub fn run(
     names.push("pipeline.json".into());
     let mut o = open_outputs(out, &names, overwrite, &skipped)?;
     let mut frames = Vec::with_capacity(images.len());
+    let bar = crate::progress::bar(images.len() as u64, "reading frames");
     for p in &images {
+        bar.inc(1);
         let g = load_grey(p, luma)?;
         if (g.w, g.h) != FRAME {
             bail!(
@@ -180,6 +182,7 @@ pub fn run(
         }
         frames.push(g.px);
     }
+    bar.finish_and_clear();
     let cg = match &spec {
         Some(s) => Some(
             build_correction_grid(&s.camera, &s.view, FRAME, FRAME, GRID_LOG2, GRID_FRAC_BITS)
