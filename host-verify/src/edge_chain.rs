@@ -437,18 +437,56 @@ pub struct GoldenCrop {
 
 /// The 48 x 32 crop at (136, 180) of the second demo scene.
 pub fn golden_crop(scenes: &[Scene]) -> GoldenCrop {
-    let s = &scenes[1 % scenes.len()];
-    let (w, h) = (48usize, 32usize);
-    let (x0, y0) = (136usize, 180usize);
-    let img = crop(s, x0, y0, w, h);
-    let chain = run_chain(&img, w, h, &VECTOR_PARAMS).expect("crop sizes are valid");
-    GoldenCrop {
+    crop_at(scenes, 1, (136, 180), (48, 32))
+}
+
+/// One long-row crop: `(tag, scene index, (x0, y0), (w, h))`.
+pub type WideCrop = (&'static str, usize, (usize, usize), (usize, usize));
+
+/// The wide crops of the golden vectors, `(tag, scene index, (x0, y0),
+/// (w, h))`: rows as long as the loops a port unrolls or vectorises run
+/// over, one a power of two (256: only full blocks of 4, 8, 16, 32 or 64
+/// pixels) and one odd (317, a prime: a tail after every block size), 12
+/// rows so the 9-row support of the edge chain has interior rows too. A
+/// port that goes wrong only in full blocks or only in a tail fails one of
+/// them (common practice, no source).
+pub const WIDE_CROPS: [WideCrop; 2] = [
+    ("wide256", 1, (32, 100), (256, 12)),
+    ("wide317", 1, (1, 130), (317, 12)),
+];
+
+/// The [`WIDE_CROPS`] with the chain's intermediates, tagged.
+pub fn wide_crops(scenes: &[Scene]) -> Vec<(&'static str, GoldenCrop)> {
+    WIDE_CROPS
+        .iter()
+        .map(|&(tag, k, at, size)| (tag, crop_at(scenes, k, at, size)))
+        .collect()
+}
+
+/// The `w x h` crop at `(x0, y0)` of demo scene `k` (modulo the scenes
+/// given) with the chain's intermediates.
+pub fn crop_at(
+    scenes: &[Scene],
+    k: usize,
+    (x0, y0): (usize, usize),
+    (w, h): (usize, usize),
+) -> GoldenCrop {
+    let s = &scenes[k % scenes.len()];
+    let at = format!("a {w}x{h} crop at ({x0}, {y0}) of scene {}", s.name);
+    crop_of(crop(s, x0, y0, w, h), (w, h), at).expect("crop sizes are valid")
+}
+
+/// A `w x h` image with the chain's intermediates ([`VECTOR_PARAMS`]);
+/// `at` says where it comes from. Errors: a size the kernels refuse.
+pub fn crop_of(img: Vec<u8>, (w, h): (usize, usize), at: String) -> Result<GoldenCrop, String> {
+    let chain = run_chain(&img, w, h, &VECTOR_PARAMS)?;
+    Ok(GoldenCrop {
         w,
         h,
         img,
         chain,
-        at: format!("a {w}x{h} crop at ({x0}, {y0}) of scene {}", s.name),
-    }
+        at,
+    })
 }
 
 /// Synthetic inputs of the edge-step golden cases, drawn in this order from

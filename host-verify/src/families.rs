@@ -10,6 +10,7 @@
 //! `targets.json` and the on-target dispatcher. The [`Family`] type lives
 //! in [`crate::family`]; family modules import that, never this list.
 
+use crate::edge_chain::GoldenCrop;
 use crate::family::Family;
 use crate::golden::{self, Blob, GoldenCase, GoldenError, GoldenSummary};
 use crate::scene::Scene;
@@ -50,6 +51,22 @@ pub fn run_vector(
     let family =
         family_of(kernel).ok_or_else(|| format!("kernel `{kernel}` belongs to no known family"))?;
     (family.run_vector)(kernel, params, inputs)
+}
+
+/// The row-loop families' cases on one scene crop, ids ending in `.<tag>`:
+/// the long-row vectors of the golden folder and `golden extra`.
+pub const CROP_CASES: &[fn(&str, &GoldenCrop) -> Vec<GoldenCase>] = &[
+    crate::filter::golden::crop_cases,
+    crate::gradient::golden::crop_cases,
+    crate::nms::golden::crop_cases,
+    crate::hysteresis::golden::crop_cases,
+    crate::thinning::golden::crop_cases,
+    crate::chain::golden::crop_cases,
+];
+
+/// Every entry of [`CROP_CASES`] on `g`.
+pub fn crop_cases(tag: &str, g: &GoldenCrop) -> Vec<GoldenCase> {
+    CROP_CASES.iter().flat_map(|f| f(tag, g)).collect()
 }
 
 /// All golden cases of all families, from the given scenes.

@@ -326,6 +326,29 @@ enum GoldenCmd {
         #[arg(long)]
         overwrite: bool,
     },
+    /// Extra vectors at your own frame size from a seed, for the row-loop
+    /// kernels (filter presets, gradients, suppression, hysteresis, thinning,
+    /// the edge chain): a demo-world floor scene rendered at WIDTHxHEIGHT,
+    /// written as a golden folder for golden check, port-check and export-c.
+    ///
+    /// Example: fixsight-verify golden extra --seed 7 --width 640 --height 480 --out my-vectors/
+    Extra {
+        /// Seed of the scene (its layout is seed % 3 of the demo scenes).
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Image width, 1..=4096.
+        #[arg(long)]
+        width: usize,
+        /// Image height, 1..=4096 (at most 4 Mi pixels in all).
+        #[arg(long)]
+        height: usize,
+        /// Output folder.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-golden-extra")]
+        out: PathBuf,
+        /// Replace the vectors in the folder if a manifest exists.
+        #[arg(long)]
+        overwrite: bool,
+    },
     /// Regenerate the vectors from the current kernels.
     ///
     /// Example: fixsight-verify golden write --vectors my-vectors/
@@ -449,6 +472,16 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
         Cmd::Golden {
             cmd: GoldenCmd::Check { vectors },
         } => cmd::golden::check(vectors),
+        Cmd::Golden {
+            cmd:
+                GoldenCmd::Extra {
+                    seed,
+                    width,
+                    height,
+                    out,
+                    overwrite,
+                },
+        } => cmd::golden::extra(seed, width, height, &out, overwrite),
         Cmd::Golden {
             cmd: GoldenCmd::Write { vectors, overwrite },
         } => cmd::golden::write(vectors, overwrite),

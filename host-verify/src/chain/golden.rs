@@ -31,10 +31,19 @@ pub fn run_vector(
 
 /// Golden case: the whole chain on the edge-step crop.
 pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
-    let g = golden_crop(scenes);
+    let mut v = crop_cases("floor", &golden_crop(scenes));
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
+    }
+    v
+}
+
+/// The whole chain on one crop (the long-row vectors, `golden extra`), id
+/// `chain.edges.<tag>`.
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
     vec![case(
         run_vector,
-        "chain.edges.floor",
+        &format!("chain.edges.{tag}"),
         format!(
             "the whole chain (Gaussian 7-tap, Sobel, rounded L2, NMS, auto thresholds, hysteresis, thinning) on {}",
             g.at

@@ -80,6 +80,61 @@ pub fn write(vectors: Option<PathBuf>, overwrite: bool) -> anyhow::Result<bool> 
     Ok(true)
 }
 
+/// Largest side of a `golden extra` image.
+pub const EXTRA_MAX_SIDE: usize = 4096;
+/// Most pixels of a `golden extra` image (the host keeps the chain's
+/// intermediates of the whole image, about 20 bytes a pixel).
+pub const EXTRA_MAX_PIXELS: usize = 4 << 20;
+
+/// `golden extra`: vectors at the vendor's own size from a seed, for the
+/// row-loop kernels (the kernels of [`crate::families::CROP_CASES`]: the
+/// filter presets, gradients, both suppressions, the hysteresis steps,
+/// thinning and the whole edge chain). The image is a demo-world floor
+/// scene (one of the three demo scene layouts, chosen by `seed % 3`, with
+/// `seed` as its random seed) rendered at `width x height`; every kernel
+/// gets the inputs the long-row vectors of the golden folder get on it.
+/// The folder is a normal golden folder (`golden check --vectors DIR`,
+/// `port-check --vectors DIR`, `golden export-c --vectors DIR`). Refuses,
+/// before computing anything, to replace a manifest unless `overwrite`.
+pub fn extra(
+    seed: u64,
+    width: usize,
+    height: usize,
+    out: &std::path::Path,
+    overwrite: bool,
+) -> anyhow::Result<bool> {
+    if !(1..=EXTRA_MAX_SIDE).contains(&width) || !(1..=EXTRA_MAX_SIDE).contains(&height) {
+        anyhow::bail!(
+            "--width and --height must be 1..={EXTRA_MAX_SIDE}, not {width} and {height}"
+        );
+    }
+    if width * height > EXTRA_MAX_PIXELS {
+        anyhow::bail!(
+            "{width}x{height} is {} pixels; golden extra makes at most {EXTRA_MAX_PIXELS}",
+            width * height
+        );
+    }
+    golden::refuse_existing(out, overwrite)?;
+    let layout = &crate::scene::DEMO_SPECS[(seed % 3) as usize];
+    let spec = crate::scene::SceneSpec { seed, ..*layout };
+    let scene = crate::scene::render(&spec, width, height);
+    let at = format!(
+        "the {width}x{height} demo-world scene `{}` rendered from seed {seed}",
+        layout.name
+    );
+    let g = crate::edge_chain::crop_of(scene.gray, (width, height), at)
+        .map_err(|e| anyhow::anyhow!("the edge chain on the {width}x{height} image: {e}"))?;
+    let tag = format!("seed{seed}-{width}x{height}");
+    let cases = crate::families::crop_cases(&tag, &g);
+    let w = golden::write(out, &cases, overwrite)?;
+    println!(
+        "wrote {} golden vectors of {width}x{height} (seed {seed}) to {}",
+        w.manifest.vectors.len(),
+        crate::files::shown_path(out)
+    );
+    Ok(true)
+}
+
 /// Files `golden export-c` writes.
 pub const EXPORT_C_FILES: [&str; 4] = [
     "golden_types.h",

@@ -162,6 +162,9 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             ));
         }
     }
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
+    }
     v.push(case(
         "filter.binomial7.clamp.narrow".into(),
         "7 taps on a 2x3 image: every pixel is a border pixel".into(),
@@ -196,6 +199,24 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         (vec![200], 1, 1),
     ));
     v
+}
+
+/// Every preset with the clamped border on one crop (the long-row vectors,
+/// `golden extra`), ids `<kernel id>.clamp.<tag>`.
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
+    PRESETS
+        .iter()
+        .map(|p| {
+            case(
+                format!("{}.clamp.{tag}", p.id),
+                format!("{} on {}", p.id, g.at),
+                p.id,
+                &(p.make)(Border::Clamp),
+                p.output,
+                (g.img.clone(), g.w, g.h),
+            )
+        })
+        .collect()
 }
 
 /// Recomputes a `filter.*` vector: a preset id or `filter.separable`.

@@ -43,7 +43,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         ry[i] = b;
     }
     let mut v = Vec::new();
-    for (tag, comment, gx, gy, w, h) in [
+    let sets = vec![
         (
             "floor",
             format!("Sobel gradients of a {w}x{h} crop of scene {}", s.name),
@@ -60,31 +60,58 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             rw,
             rh,
         ),
-    ] {
-        let inputs = vec![
-            Blob::from_i16("gx", w, h, 1, gx),
-            Blob::from_i16("gy", w, h, 1, gy),
-        ];
-        for kernel in [
-            "gradient.magnitude_l1",
-            "gradient.magnitude_l2_approx",
-            "gradient.magnitude_l2_round",
-            "gradient.direction",
-            "gradient.angles",
-        ] {
-            let expected =
-                run_vector(kernel, &json!({}), &inputs).expect("golden inputs are valid");
-            v.push(GoldenCase {
-                id: format!("{kernel}.{tag}"),
-                comment: format!("{kernel} on {comment}"),
-                kernel: kernel.into(),
-                params: json!({}),
-                inputs: inputs.clone(),
-                expected,
-            });
-        }
+    ];
+    for (tag, comment, gx, gy, w, h) in sets {
+        v.extend(pair_cases(tag, &comment, gx, gy, (w, h)));
+    }
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
     }
     v
+}
+
+/// Every gradient kernel on one pair of gradient images, ids
+/// `<kernel id>.<tag>`.
+fn pair_cases(
+    tag: &str,
+    comment: &str,
+    gx: &[i16],
+    gy: &[i16],
+    (w, h): (usize, usize),
+) -> Vec<GoldenCase> {
+    let inputs = vec![
+        Blob::from_i16("gx", w, h, 1, gx),
+        Blob::from_i16("gy", w, h, 1, gy),
+    ];
+    [
+        "gradient.magnitude_l1",
+        "gradient.magnitude_l2_approx",
+        "gradient.magnitude_l2_round",
+        "gradient.direction",
+        "gradient.angles",
+    ]
+    .iter()
+    .map(|&kernel| GoldenCase {
+        id: format!("{kernel}.{tag}"),
+        comment: format!("{kernel} on {comment}"),
+        kernel: kernel.into(),
+        params: json!({}),
+        expected: run_vector(kernel, &json!({}), &inputs).expect("golden inputs are valid"),
+        inputs: inputs.clone(),
+    })
+    .collect()
+}
+
+/// Every gradient kernel on the edge chain's smoothed Sobel gradients of
+/// one crop (the long-row vectors, `golden extra`).
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
+    pair_cases(
+        tag,
+        &format!("the edge chain's smoothed Sobel gradients of {}", g.at),
+        &g.chain.gx,
+        &g.chain.gy,
+        (g.w, g.h),
+    )
 }
 
 /// Recomputes a gradient vector.

@@ -111,11 +111,10 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let g = golden_crop(scenes);
     let t = synthetic_edges();
     let (w, h, c, at) = (g.w, g.h, &g.chain, &g.at);
-    let tp = json!({"bins": VECTOR_PARAMS.bins, "shift": VECTOR_PARAMS.shift, "high_permille": VECTOR_PARAMS.high_permille,
-                    "low_ratio_u0f16": VECTOR_PARAMS.low_ratio_u0f16});
+    let tp = thresholds_params();
     let big: Vec<u16> = (0..64u32).map(|i| (i * i * 16).min(65535) as u16).collect();
     let (hw, hh) = t.codes_size;
-    vec![
+    let mut v = vec![
         case(
             run_vector,
             "hysteresis.thresholds.floor",
@@ -158,5 +157,47 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             json!({"stack": MIN_STACK}),
             vec![Blob::from_u8("codes", hw, hh, 1, &t.codes)],
         ),
+    ];
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
+    }
+    v
+}
+
+/// The three hysteresis steps on the edge chain's intermediates of one
+/// crop (the long-row vectors, `golden extra`), ids `<kernel id>.<tag>`.
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
+    let (w, h, c, at) = (g.w, g.h, &g.chain, &g.at);
+    vec![
+        case(
+            run_vector,
+            &format!("hysteresis.thresholds.{tag}"),
+            format!("automatic thresholds of the suppressed magnitudes of {at}"),
+            "hysteresis.thresholds",
+            thresholds_params(),
+            vec![Blob::from_u16("mag", w, h, 1, &c.nms)],
+        ),
+        case(
+            run_vector,
+            &format!("hysteresis.classify.{tag}"),
+            format!("double threshold of the suppressed magnitudes of {at}"),
+            "hysteresis.classify",
+            json!({"low": c.thresholds.low(), "high": c.thresholds.high()}),
+            vec![Blob::from_u16("mag", w, h, 1, &c.nms)],
+        ),
+        case(
+            run_vector,
+            &format!("hysteresis.link.{tag}"),
+            format!("hysteresis of the edge codes of {at}"),
+            "hysteresis.link",
+            json!({"stack": VECTOR_PARAMS.stack}),
+            vec![Blob::from_u8("codes", w, h, 1, &c.codes)],
+        ),
     ]
+}
+
+/// The automatic-threshold parameters of the edge chain's vectors.
+fn thresholds_params() -> serde_json::Value {
+    json!({"bins": VECTOR_PARAMS.bins, "shift": VECTOR_PARAMS.shift, "high_permille": VECTOR_PARAMS.high_permille,
+           "low_ratio_u0f16": VECTOR_PARAMS.low_ratio_u0f16})
 }

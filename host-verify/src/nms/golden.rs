@@ -60,7 +60,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let t = synthetic_edges();
     let (w, h) = (g.w, g.h);
     let (tw, th) = t.ties_size;
-    vec![
+    let mut v = vec![
         case(
             run_vector,
             "nms.suppress.floor",
@@ -118,6 +118,47 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
                 ],
             )
         },
+    ];
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
+    }
+    v
+}
+
+/// Both suppressions on the edge chain's intermediates of one crop (the
+/// long-row vectors, `golden extra`), ids `<kernel id>.<tag>`.
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
+    let (w, h, c) = (g.w, g.h, &g.chain);
+    vec![
+        case(
+            run_vector,
+            &format!("nms.suppress.{tag}"),
+            format!(
+                "suppression of the rounded L2 magnitude and sectors of {}",
+                g.at
+            ),
+            "nms.suppress",
+            json!({}),
+            vec![
+                Blob::from_u16("mag", w, h, 1, &c.mag),
+                Blob::from_u8("dir", w, h, 1, &c.dir),
+            ],
+        ),
+        case(
+            run_vector,
+            &format!("nms.suppress_interpolated.{tag}"),
+            format!(
+                "interpolating suppression of the rounded L2 magnitude and gradients of {}",
+                g.at
+            ),
+            "nms.suppress_interpolated",
+            json!({}),
+            vec![
+                Blob::from_u16("mag", w, h, 1, &c.mag),
+                Blob::from_i16("gx", w, h, 1, &c.gx),
+                Blob::from_i16("gy", w, h, 1, &c.gy),
+            ],
+        ),
     ]
 }
 

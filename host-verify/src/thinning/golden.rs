@@ -47,7 +47,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             }
         })
         .collect();
-    vec![
+    let mut v = vec![
         case(
             run_vector,
             "thinning.thin.floor",
@@ -64,5 +64,22 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             json!({}),
             vec![Blob::from_u8("map", bw, bh, 1, &blocks)],
         ),
-    ]
+    ];
+    for (tag, g) in crate::edge_chain::wide_crops(scenes) {
+        v.extend(crop_cases(tag, &g));
+    }
+    v
+}
+
+/// Thinning of the edge chain's hysteresis output on one crop (the
+/// long-row vectors, `golden extra`), id `thinning.thin.<tag>`.
+pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCase> {
+    vec![case(
+        run_vector,
+        &format!("thinning.thin.{tag}"),
+        format!("thinning of the hysteresis output of {}", g.at),
+        "thinning.thin",
+        json!({}),
+        vec![Blob::from_u8("map", g.w, g.h, 1, &g.chain.edges)],
+    )]
 }
