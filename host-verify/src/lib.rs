@@ -64,6 +64,7 @@ pub mod pipeline;
 pub mod report;
 pub mod scene;
 pub mod sequence;
+pub mod sweep;
 pub mod targets;
 pub mod thinning;
 pub mod track;
