@@ -18,6 +18,23 @@ fn sweep(args: &[&str]) -> (bool, String, String) {
     common::tool(&[&["sweep"], args].concat())
 }
 
+/// `sweep --kernel KERNEL --values VALUES [--input INPUT] --out OUT MORE...`.
+fn sweep_kernel(
+    kernel: &str,
+    values: &str,
+    input: Option<&Path>,
+    out: &Path,
+    more: &[&str],
+) -> (bool, String, String) {
+    let mut args = vec!["--kernel", kernel, "--values", values];
+    if let Some(i) = input {
+        args.extend(["--input", i.to_str().unwrap()]);
+    }
+    args.extend(["--out", out.to_str().unwrap()]);
+    args.extend(more);
+    sweep(&args)
+}
+
 /// A grey ramp with a bright disc and a dark bar, `w x h`.
 fn picture(w: u32, h: u32) -> image::GrayImage {
     image::GrayImage::from_fn(w, h, |x, y| {
@@ -72,16 +89,8 @@ fn pixel_map_on_an_image_file() {
     let d = dir("pixel-map");
     picture(48, 32).save(d.join("ramp.png")).unwrap();
     let out = d.join("out");
-    let (ok, stdout, err) = sweep(&[
-        "--kernel",
-        "warp.pixel_map",
-        "--values",
-        "8,3",
-        "--input",
-        d.join("ramp.png").to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let ramp = d.join("ramp.png");
+    let (ok, stdout, err) = sweep_kernel("warp.pixel_map", "8,3", Some(&ramp), &out, &[]);
     assert!(ok, "{err}");
     assert!(stdout.contains("| ramp | 3 | 1536 |"), "{stdout}");
     outputs_written(&out);
@@ -103,57 +112,28 @@ fn pixel_map_on_an_image_file() {
     assert!(f(&rs[1], "bound") < f(&rs[0], "bound"));
     // A second run refuses to replace the files and leaves them alone.
     let before = fs::read(out.join("sweep.json")).unwrap();
-    let (ok, _, err) = sweep(&[
-        "--kernel",
-        "warp.pixel_map",
-        "--values",
-        "4",
-        "--input",
-        d.join("ramp.png").to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let (ok, _, err) = sweep_kernel("warp.pixel_map", "4", Some(&ramp), &out, &[]);
     assert!(
         !ok && err.contains("sweep.md") && err.contains("--overwrite"),
         "{err}"
     );
     assert_eq!(fs::read(out.join("sweep.json")).unwrap(), before);
-    let (ok, _, err) = sweep(&[
-        "--kernel",
-        "warp.pixel_map",
-        "--values",
-        "4",
-        "--input",
-        d.join("ramp.png").to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--overwrite",
-    ]);
+    let (ok, _, err) = sweep_kernel("warp.pixel_map", "4", Some(&ramp), &out, &["--overwrite"]);
     assert!(ok, "{err}");
     assert_eq!(rows(&json(&out)).len(), 1);
     fs::remove_dir_all(d).unwrap();
 }
 
-/// A 320 x 240 lens file, written as `calibrate` writes one, for a lens
-/// other than the demo's (longer focal length, weaker barrel, tangential
-/// terms, principal point off centre).
+/// A 320 x 240 lens file in the `fixsight-lens 1` format for an
+/// equidistant (fisheye) lens, not the demo's.
 fn lens_file(d: &Path) -> PathBuf {
-    use fixsight_verify::calibrate::{report::lens_text, ModelKind};
-    use fixsight_verify::lens::LensModel;
-    let mut c = fixsight_verify::scene::demo_camera(320, 240);
-    c.intrinsics.fx = 150.0;
-    c.intrinsics.fy = 151.0;
-    c.intrinsics.cx = 162.0;
-    c.intrinsics.cy = 117.0;
-    c.lens = LensModel::BrownConrady {
-        k1: -0.12,
-        k2: 0.01,
-        k3: 0.0,
-        p1: -0.001,
-        p2: 0.0008,
-    };
     let p = d.join("cam.lens");
-    fs::write(&p, lens_text(&c, ModelKind::Brown, (320, 240), &[])).unwrap();
+    fs::write(
+        &p,
+        "format = fixsight-lens 1\nmodel = fisheye\nsensor_width = 320\nsensor_height = 240\n\
+         fx = 170\nfy = 171\ncx = 158\ncy = 122\nk1 = 0.02\nk2 = -0.003\n",
+    )
+    .unwrap();
     p
 }
 
@@ -166,20 +146,8 @@ fn control_grid_steps_through_a_lens_file() {
     fs::write(input.join("notes.txt"), "x").unwrap();
     let lens = lens_file(&d);
     let out = d.join("out");
-    let (ok, stdout, err) = sweep(&[
-        "--kernel",
-        "warp.control_grid",
-        "--param",
-        "grid_log2",
-        "--values",
-        "3..=4",
-        "--input",
-        input.to_str().unwrap(),
-        "--lens",
-        lens.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let grid = ["--param", "grid_log2", "--lens", lens.to_str().unwrap()];
+    let (ok, stdout, err) = sweep_kernel("warp.control_grid", "3..=4", Some(&input), &out, &grid);
     assert!(ok, "{err}");
     assert!(stdout.contains("skipped `notes.txt`"), "{stdout}");
     outputs_written(&out);
@@ -197,18 +165,8 @@ fn control_grid_steps_through_a_lens_file() {
     assert_eq!(f(&rs[1]["extra"], "table_bytes"), (21.0 * 16.0) * 8.0);
     // The lens file is for 320 x 240 images only.
     picture(64, 48).save(d.join("small.png")).unwrap();
-    let (ok, _, err) = sweep(&[
-        "--kernel",
-        "warp.control_grid",
-        "--param",
-        "grid_log2",
-        "--input",
-        d.join("small.png").to_str().unwrap(),
-        "--lens",
-        lens.to_str().unwrap(),
-        "--out",
-        d.join("out2").to_str().unwrap(),
-    ]);
+    let small = d.join("small.png");
+    let (ok, _, err) = sweep_kernel("warp.control_grid", "3", Some(&small), &d.join("o2"), &grid);
     assert!(
         !ok && err.contains("64x48") && err.contains("320x240"),
         "{err}"
@@ -220,14 +178,7 @@ fn control_grid_steps_through_a_lens_file() {
 fn gaussian_coefficient_bits_on_the_demo_scenes() {
     let d = dir("filter");
     let out = d.join("out");
-    let (ok, stdout, err) = sweep(&[
-        "--kernel",
-        "filter.separable",
-        "--values",
-        "3,10",
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let (ok, stdout, err) = sweep_kernel("filter.separable", "3,10", None, &out, &[]);
     assert!(ok, "{err}");
     assert!(stdout.contains("the demo scenes"), "{stdout}");
     outputs_written(&out);
@@ -265,16 +216,8 @@ fn accumulator_trig_bits_on_an_image() {
     let d = dir("votes");
     picture(64, 48).save(d.join("bar.png")).unwrap();
     let out = d.join("out");
-    let (ok, _, err) = sweep(&[
-        "--kernel",
-        "lines.accumulator",
-        "--values",
-        "8,14",
-        "--input",
-        d.join("bar.png").to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let bar = d.join("bar.png");
+    let (ok, _, err) = sweep_kernel("lines.accumulator", "8,14", Some(&bar), &out, &[]);
     assert!(ok, "{err}");
     outputs_written(&out);
     let rs = rows(&json(&out));
@@ -357,6 +300,15 @@ fn bad_requests_are_refused_before_anything_is_written() {
                 noise.to_str().unwrap(),
             ],
             &["noise.png", "not an image"],
+        ),
+        (
+            vec![
+                "--kernel",
+                "warp.pixel_map",
+                "--lens",
+                noise.to_str().unwrap(),
+            ],
+            &["noise.png"],
         ),
         (vec!["--param", "frac_bits"], &["--kernel"]),
     ];

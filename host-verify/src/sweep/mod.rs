@@ -95,11 +95,24 @@ pub struct SweepParam {
 
 /// Unit of the warp and filter errors.
 const GREY: &str = "grey levels (LSB of the u8 output)";
-/// The warp reference.
-const WARP_REF: &str = "f64 bilinear at the exact lens coordinate of every output pixel";
-/// The warp bound.
-const WARP_BOUND: &str = "0.5 + Dx ex + Dy ey (Dx, Dy: largest neighbour differences of the \
-     source; ex, ey: largest coordinate error per axis against the lens map)";
+
+/// The warp kernels' common fields (kernel, parameter and settings set
+/// per entry).
+const WARP: SweepParam = SweepParam {
+    kernel: "warp.pixel_map",
+    param: "frac_bits",
+    range: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
+    default: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
+    fixed: "border fill 0",
+    unit: GREY,
+    reference: "f64 bilinear at the exact lens coordinate of every output pixel",
+    bound: Some(
+        "0.5 + Dx ex + Dy ey (Dx, Dy: largest neighbour differences of the source; ex, ey: \
+         largest coordinate error per axis against the lens map)",
+    ),
+    images: true,
+    lens: true,
+};
 
 /// Every sweepable parameter (module docs).
 ///
@@ -109,29 +122,11 @@ const WARP_BOUND: &str = "0.5 + Dx ex + Dy ey (Dx, Dy: largest neighbour differe
 /// assert!(PARAMS.iter().all(|p| p.range.0 <= p.default.0 && p.default.1 <= p.range.1));
 /// ```
 pub const PARAMS: [SweepParam; 6] = [
-    SweepParam {
-        kernel: "warp.pixel_map",
-        param: "frac_bits",
-        range: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
-        default: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
-        fixed: "border fill 0",
-        unit: GREY,
-        reference: WARP_REF,
-        bound: Some(WARP_BOUND),
-        images: true,
-        lens: true,
-    },
+    WARP,
     SweepParam {
         kernel: "warp.control_grid",
-        param: "frac_bits",
-        range: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
-        default: (fixsight::warp::MIN_FRAC_BITS, fixsight::warp::MAX_FRAC_BITS),
         fixed: "control points every 16 px (grid_log2 4), border fill 0",
-        unit: GREY,
-        reference: WARP_REF,
-        bound: Some(WARP_BOUND),
-        images: true,
-        lens: true,
+        ..WARP
     },
     SweepParam {
         kernel: "warp.control_grid",
@@ -139,11 +134,7 @@ pub const PARAMS: [SweepParam; 6] = [
         range: (fixsight::warp::MIN_GRID_LOG2, fixsight::warp::MAX_GRID_LOG2),
         default: (fixsight::warp::MIN_GRID_LOG2, fixsight::warp::MAX_GRID_LOG2),
         fixed: "frac_bits 7, border fill 0",
-        unit: GREY,
-        reference: WARP_REF,
-        bound: Some(WARP_BOUND),
-        images: true,
-        lens: true,
+        ..WARP
     },
     SweepParam {
         kernel: "filter.separable",
@@ -151,13 +142,12 @@ pub const PARAMS: [SweepParam; 6] = [
         range: (0, fixsight::filter::MAX_TAP_SHIFT),
         default: (2, 11),
         fixed: "7-tap Gaussian, sigma 1 px, on both axes; border clamp; u8 output",
-        unit: GREY,
         reference: "direct 2-D f64 correlation with the real Gaussian taps, unrounded",
         bound: Some(
             "0.5 + 127.5 sum_ij |q_i q_j - g_i g_j| (q: the kernel's taps, g: the Gaussian)",
         ),
-        images: true,
         lens: false,
+        ..WARP
     },
     SweepParam {
         kernel: "lines.cos_sin",
