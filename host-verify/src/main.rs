@@ -90,7 +90,7 @@ enum Cmd {
     ///
     /// Parameters (--kernel / --param, default values):
     ///   warp.pixel_map    frac_bits       2..=10
-    ///   warp.control_grid frac_bits       2..=10 (points every 16 px)
+    ///   warp.control_grid frac_bits       2..=10 (points every 8 px)
     ///   warp.control_grid grid_log2       2..=6  (frac_bits 7)
     ///   filter.separable  coeff_bits      2..=11 (7-tap Gaussian, sigma 1 px)
     ///   lines.cos_sin     frac_bits       8..=14 (every binary angle)

@@ -8,7 +8,7 @@ use crate::filter::run::run_whole;
 use crate::lens::{Camera, Intrinsics, LensInUse};
 use crate::lines::{hough_f64, run_vote, EdgeInput};
 use crate::scene::{demo_camera, Scene};
-use crate::warp::check::{demo_view, scenes_through};
+use crate::warp::check::{demo_view, scenes_through, CHECK_FRAC_BITS, CHECK_GRID_LOG2};
 use crate::warp::grid::build_grid;
 use crate::warp::reference::{bilinear_f64, exact_map, neighbour_diffs, pixel_map_coords};
 use crate::warp::run::{run_grid, run_pixel_map};
@@ -242,8 +242,8 @@ fn warp_rows(p: &SweepParam, values: &[u32], img: &Image) -> Result<Vec<Row>, St
     let mut rows = Vec::new();
     for &v in values {
         let (f, k) = match (p.kernel, p.param) {
-            ("warp.control_grid", "grid_log2") => (7, Some(v)),
-            ("warp.control_grid", _) => (v, Some(4)),
+            ("warp.control_grid", "grid_log2") => (CHECK_FRAC_BITS, Some(v)),
+            ("warp.control_grid", _) => (v, Some(CHECK_GRID_LOG2)),
             _ => (v, None),
         };
         let geom = WarpGeometry::new(w, h, w, h, f).map_err(e)?;

@@ -9,8 +9,11 @@
 //! | kernel | param | kernel field | values | other settings |
 //! |---|---|---|---|---|
 //! | `warp.pixel_map` | `frac_bits` | `WarpGeometry::new(.., frac_bits)` | 2..=10 | border fill 0 |
-//! | `warp.control_grid` | `frac_bits` | `WarpGeometry::new(.., frac_bits)` | 2..=10 | points every 16 px (`grid_log2` 4), border fill 0 |
+//! | `warp.control_grid` | `frac_bits` | `WarpGeometry::new(.., frac_bits)` | 2..=10 | points every 8 px (`grid_log2` 3), border fill 0 |
 //! | `warp.control_grid` | `grid_log2` | `ControlGrid::new(.., grid_log2)` | 2..=6 | `frac_bits` 7, border fill 0 |
+//!
+//! The control grid's fixed settings are the report's `warp.*` rows'
+//! (`warp::check::CHECK_GRID_LOG2`, `CHECK_FRAC_BITS`).
 //! | `filter.separable` | `coeff_bits` | `Taps::new(coef, shift)`, both axes | 0..=16 (the shift range; the kernel refuses tap sets whose accumulator can overflow `i32`, from 12 bits here) | 7-tap Gaussian, sigma 1 px, border clamp, `u8` output |
 //! | `lines.cos_sin` | `frac_bits` | `cos_sin(a, frac_bits)` | 8..=14 | every binary angle |
 //! | `lines.accumulator` | `trig_frac_bits` | `VoteParams::trig_frac_bits` | 8..=14 | `VoteParams::DEMO_QVGA` at the image's size, rho rows to its half diagonal |
@@ -125,7 +128,7 @@ pub const PARAMS: [SweepParam; 6] = [
     WARP,
     SweepParam {
         kernel: "warp.control_grid",
-        fixed: "control points every 16 px (grid_log2 4), border fill 0",
+        fixed: "control points every 8 px (grid_log2 3, as the report's rows), border fill 0",
         ..WARP
     },
     SweepParam {
@@ -133,7 +136,7 @@ pub const PARAMS: [SweepParam; 6] = [
         param: "grid_log2",
         range: (fixsight::warp::MIN_GRID_LOG2, fixsight::warp::MAX_GRID_LOG2),
         default: (fixsight::warp::MIN_GRID_LOG2, fixsight::warp::MAX_GRID_LOG2),
-        fixed: "frac_bits 7, border fill 0",
+        fixed: "frac_bits 7 (as the report's rows), border fill 0",
         ..WARP
     },
     SweepParam {
