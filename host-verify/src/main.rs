@@ -84,9 +84,11 @@ enum Cmd {
         #[arg(long)]
         overwrite: bool,
     },
-    /// Sweep a kernel's format parameter and measure the error against the
-    /// kernel's f64 reference per value: sweep.md (table), sweep.json and
-    /// sweep.png (error against the value, one line per input).
+    /// Sweep a kernel's format parameter against its f64 reference: sweep.md, sweep.json, sweep.png
+    ///
+    /// Per value and input: largest, mean and RMS error, share within 1 unit,
+    /// the analytical bound where the kernel has one; sweep.png plots the
+    /// error against the value, one line per input.
     ///
     /// Parameters (--kernel / --param, default values):
     ///   warp.pixel_map    frac_bits       2..=10
@@ -105,6 +107,7 @@ enum Cmd {
     ///   fixsight-verify sweep --kernel warp.control_grid --param grid_log2 --input photos/ --out grid-sweep
     ///   fixsight-verify sweep --kernel filter.separable --values 4..=9 --out coeff-sweep
     ///   fixsight-verify sweep --out fixsight-sweep
+    #[command(verbatim_doc_comment)]
     Sweep {
         /// Kernel id whose format parameter is swept (see the list above).
         #[arg(long, value_name = "ID")]
