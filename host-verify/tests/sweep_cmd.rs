@@ -328,3 +328,19 @@ fn bad_requests_are_refused_before_anything_is_written() {
     assert_eq!(run.status.code(), Some(2));
     fs::remove_dir_all(d).unwrap();
 }
+
+/// Without `--kernel` the command is the warp precision sweep on the first
+/// demo scene, as before: 9 fractional bits x (pixel map + 5 grid steps).
+#[test]
+fn without_a_kernel_the_warp_sweep_runs_as_before() {
+    let d = dir("legacy");
+    let out = d.join("out");
+    let (ok, stdout, err) = sweep(&["--out", out.to_str().unwrap()]);
+    assert!(ok, "{err}");
+    assert!(stdout.contains("| 7 | grid 16 |"), "{stdout}");
+    let rows: serde_json::Value =
+        serde_json::from_str(&fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
+    assert_eq!(rows.as_array().unwrap().len(), 9 * 6);
+    assert!(out.join("sweep.md").is_file() && out.join("sweep.png").is_file());
+    fs::remove_dir_all(d).unwrap();
+}
