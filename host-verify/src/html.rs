@@ -32,10 +32,11 @@ use std::fmt::Write as _;
 /// File name of the HTML report in the output folder.
 pub const HTML_FILE: &str = "report.html";
 
-const FONT: &str = "sans-serif";
+/// Family name the embedded font is registered under.
+pub(crate) const FONT: &str = "sans-serif";
 
 /// Registers the embedded font with the plotting crate (once).
-fn font() {
+pub(crate) fn font() {
     static ONCE: std::sync::Once = std::sync::Once::new();
     ONCE.call_once(|| {
         // The bytes are a valid TrueType font shipped by the crate; a

@@ -65,6 +65,7 @@ pub mod progress;
 pub mod report;
 pub mod scene;
 pub mod sequence;
+pub mod sweep;
 pub mod target_sequence;
 pub mod targets;
 pub mod thinning;
