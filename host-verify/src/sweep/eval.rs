@@ -196,7 +196,9 @@ pub fn run(p: &SweepParam, values: &[u32], images: &[Image]) -> Result<Vec<Row>,
         ("lines.cos_sin", _) => Ok(values.iter().map(|&q| trig_row(q)).collect()),
         _ => {
             let mut rows = Vec::new();
+            let bar = crate::progress::bar(images.len() as u64, "sweeping images");
             for img in images {
+                bar.set_message(img.name.clone());
                 let r = match p.kernel {
                     "warp.pixel_map" | "warp.control_grid" => warp_rows(p, values, img),
                     "filter.separable" => filter_rows(values, img),
@@ -204,7 +206,9 @@ pub fn run(p: &SweepParam, values: &[u32], images: &[Image]) -> Result<Vec<Row>,
                     other => Err(format!("no sweep for {other}")),
                 };
                 rows.extend(r.map_err(|e| format!("{}: {e}", img.name))?);
+                bar.inc(1);
             }
+            bar.finish_and_clear();
             Ok(rows)
         }
     }
