@@ -24,9 +24,9 @@
 //! > Not a safety function: the drift warning in these records is an aid
 //! > only (see the README's caution).
 
-use crate::lines::{build_correction_grid, GRID_FRAC_BITS, GRID_LOG2};
+use crate::lines::{GRID_FRAC_BITS, GRID_LOG2};
 use crate::pipeline::image::{demo_grid, IMAGE_GRID_FRAC_BITS, IMAGE_GRID_LOG2, IMAGE_KERNEL};
-use crate::pipeline::job::{record_words, FixedRun, JOB_KERNEL};
+use crate::pipeline::job::{record_words, sequence_correction_grid, FixedRun, JOB_KERNEL};
 use crate::sequence::{Sequence, DEMO_SEQUENCE};
 use crate::targets::Call;
 use anyhow::{anyhow, bail, Context, Result};
@@ -96,15 +96,7 @@ pub fn prepare(dir: &Path) -> Result<OnTargetSequence> {
     let spec = seq.spec();
     let (w, h) = (spec.width, spec.height);
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
-    let cg = build_correction_grid(
-        seq.camera(),
-        seq.view(),
-        (w, h),
-        (w, h),
-        GRID_LOG2,
-        GRID_FRAC_BITS,
-    )
-    .map_err(|e| anyhow!("correction grid: {e}"))?;
+    let cg = sequence_correction_grid(&seq).map_err(|e| anyhow!("correction grid: {e}"))?;
     if cg.geom != WarpGeometry::new(w, h, w, h, GRID_FRAC_BITS)? || cg.k != GRID_LOG2 {
         bail!("the correction grid's geometry is not the one the firmware rebuilds");
     }

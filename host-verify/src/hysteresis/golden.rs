@@ -108,21 +108,11 @@ pub fn run_vector(
 /// intermediates of a scene crop, a saturating histogram, and a dense weak
 /// code map with the minimum stack.
 pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
-    let g = golden_crop(scenes);
     let t = synthetic_edges();
-    let (w, h, c, at) = (g.w, g.h, &g.chain, &g.at);
-    let tp = thresholds_params();
     let big: Vec<u16> = (0..64u32).map(|i| (i * i * 16).min(65535) as u16).collect();
     let (hw, hh) = t.codes_size;
-    let mut v = vec![
-        case(
-            run_vector,
-            "hysteresis.thresholds.floor",
-            format!("automatic thresholds of the suppressed magnitudes of {at}"),
-            "hysteresis.thresholds",
-            tp,
-            vec![Blob::from_u16("mag", w, h, 1, &c.nms)],
-        ),
+    let mut v = crop_cases("floor", &golden_crop(scenes));
+    v.extend([
         case(
             run_vector,
             "hysteresis.thresholds.saturating",
@@ -134,22 +124,6 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         ),
         case(
             run_vector,
-            "hysteresis.classify.floor",
-            format!("double threshold of the suppressed magnitudes of {at}"),
-            "hysteresis.classify",
-            json!({"low": c.thresholds.low(), "high": c.thresholds.high()}),
-            vec![Blob::from_u16("mag", w, h, 1, &c.nms)],
-        ),
-        case(
-            run_vector,
-            "hysteresis.link.floor",
-            format!("hysteresis of the edge codes of {at}"),
-            "hysteresis.link",
-            json!({"stack": VECTOR_PARAMS.stack}),
-            vec![Blob::from_u8("codes", w, h, 1, &c.codes)],
-        ),
-        case(
-            run_vector,
             "hysteresis.link.min-stack",
             "dense random weak codes with the minimum 8-entry stack: deferred seeds and rescans"
                 .into(),
@@ -157,7 +131,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             json!({"stack": MIN_STACK}),
             vec![Blob::from_u8("codes", hw, hh, 1, &t.codes)],
         ),
-    ];
+    ]);
     for (tag, g) in crate::edge_chain::wide_crops(scenes) {
         v.extend(crop_cases(tag, &g));
     }

@@ -58,23 +58,9 @@ pub fn run_vector(
 pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let g = golden_crop(scenes);
     let t = synthetic_edges();
-    let (w, h) = (g.w, g.h);
     let (tw, th) = t.ties_size;
-    let mut v = vec![
-        case(
-            run_vector,
-            "nms.suppress.floor",
-            format!(
-                "suppression of the rounded L2 magnitude and sectors of {}",
-                g.at
-            ),
-            "nms.suppress",
-            json!({}),
-            vec![
-                Blob::from_u16("mag", w, h, 1, &g.chain.mag),
-                Blob::from_u8("dir", w, h, 1, &g.chain.dir),
-            ],
-        ),
+    let mut v = crop_cases("floor", &g);
+    v.extend([
         case(
             run_vector,
             "nms.suppress.ties",
@@ -84,21 +70,6 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
             vec![
                 Blob::from_u16("mag", tw, th, 1, &t.ties_mag),
                 Blob::from_u8("dir", tw, th, 1, &t.ties_dir),
-            ],
-        ),
-        case(
-            run_vector,
-            "nms.suppress_interpolated.floor",
-            format!(
-                "interpolating suppression of the rounded L2 magnitude and gradients of {}",
-                g.at
-            ),
-            "nms.suppress_interpolated",
-            json!({}),
-            vec![
-                Blob::from_u16("mag", w, h, 1, &g.chain.mag),
-                Blob::from_i16("gx", w, h, 1, &g.chain.gx),
-                Blob::from_i16("gy", w, h, 1, &g.chain.gy),
             ],
         ),
         {
@@ -118,7 +89,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
                 ],
             )
         },
-    ];
+    ]);
     for (tag, g) in crate::edge_chain::wide_crops(scenes) {
         v.extend(crop_cases(tag, &g));
     }

@@ -69,7 +69,8 @@ use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::golden::{Blob, GoldenCase};
 use crate::lens::LensInUse;
 use crate::lines::{
-    build_correction_grid, corrected_of, hough_f64, peaks_of, GRID_FRAC_BITS, GRID_LOG2,
+    build_correction_grid, corrected_of, hough_f64, peaks_of, CorrectionGrid, GRID_FRAC_BITS,
+    GRID_LOG2,
 };
 use crate::marking::reference::select_f64;
 use crate::metrics::ErrorStats;
@@ -616,18 +617,27 @@ pub fn lens_note(lens: &LensInUse) -> String {
     )
 }
 
-/// The whole comparison over a sequence (the demo's in the report).
-pub fn job_row(seq: &Sequence) -> Result<KernelReport, String> {
+/// The point mode's correction grid of a sequence: from its camera to its
+/// corrected view, both the frame size, step `2^GRID_LOG2`,
+/// `GRID_FRAC_BITS` fractional bits.
+pub fn sequence_correction_grid(seq: &Sequence) -> Result<CorrectionGrid, String> {
     let spec = seq.spec();
     let (w, h) = (spec.width, spec.height);
-    let cg = build_correction_grid(
+    build_correction_grid(
         seq.camera(),
         seq.view(),
         (w, h),
         (w, h),
         GRID_LOG2,
         GRID_FRAC_BITS,
-    )?;
+    )
+}
+
+/// The whole comparison over a sequence (the demo's in the report).
+pub fn job_row(seq: &Sequence) -> Result<KernelReport, String> {
+    let spec = seq.spec();
+    let (w, h) = (spec.width, spec.height);
+    let cg = sequence_correction_grid(seq)?;
     let grid = ControlGrid::new(&cg.points, cg.geom, cg.k).map_err(e)?;
     let frames: Vec<Vec<u8>> = (0..spec.frames).map(|k| seq.render(k)).collect();
     let fixed = run_fixed(&frames, Some(&grid))?;
