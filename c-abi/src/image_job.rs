@@ -19,8 +19,7 @@
 //! only.
 
 use crate::boundary::{
-    border, buf, disjoint, load, load_mut, storage, store_configured, Checked, Span,
-    FXS_BORDER_CLAMP,
+    border, buf, disjoint, load, load_mut, storage, store_cleared, Checked, Span, FXS_BORDER_CLAMP,
 };
 use crate::lines::FxsLinePeak;
 use crate::marking::FxsMarkingLine;
@@ -61,6 +60,7 @@ crate::boundary::object_storage!(
     FxsImageJob for ImageJobObj, tag 0x4658_5033,
     FXS_IMAGE_JOB_SIZE = (FXS_IMAGE_JOB_SIZE_32: 52376, FXS_IMAGE_JOB_SIZE_64: 52592)
 );
+crate::boundary::zero_valid!(ImageJobObj);
 
 impl LineStage for ImageJobObj {
     fn stage(&self) -> &JobObj {
@@ -166,13 +166,13 @@ pub unsafe extern "C" fn fxs_image_job_init(
             let grid_span = Span::object(grid, false);
             disjoint(&[own, c.span(), grid_span, borrowed[0], borrowed[1]])?;
             let cfg = self::config(&c.slice()[0])?;
-            let fresh = || ImageJobObj {
-                job: ImageObj::new(),
-                borrowed,
+            let fresh = |o: &mut ImageJobObj| {
+                o.job.clear();
+                o.borrowed = borrowed;
             };
             // As `fxs_point_job_init`: a fresh job, configured in place; a
             // failed configuration leaves the storage not initialised.
-            store_configured(job, fresh, |o| {
+            store_cleared(job, fresh, |o| {
                 kernel(o.job.configure(&cfg, *m.grid(), r.slice_mut()))
             })
         })()
@@ -299,4 +299,27 @@ pub unsafe extern "C" fn fxs_image_job_track_words(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     unsafe { read_track_words::<ImageJobObj>(job, slot, words, words_len) }
+}
+
+#[cfg(test)]
+mod tests {
+    extern crate std;
+    use super::{ImageJobObj, ImageObj};
+    use crate::boundary::{cleared_over_garbage, Span};
+    use std::boxed::Box;
+    use std::format;
+
+    /// Zero bytes and `clear` over any old bytes give the job `new` makes
+    /// (and the borrowed spans given).
+    #[test]
+    fn init_storage_holds_a_new_job() {
+        let spans = [Span::object(8 as *const u32, true), Span::EMPTY];
+        let clear = |o: &mut ImageJobObj| {
+            o.job.clear();
+            o.borrowed = spans;
+        };
+        let got = cleared_over_garbage(clear, |o| format!("{:?} {:?}", o.job, o.borrowed));
+        let want: Box<ImageObj> = Box::default();
+        assert_eq!(got, format!("{want:?} {spans:?}"));
+    }
 }

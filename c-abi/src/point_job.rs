@@ -21,8 +21,8 @@
 //! only.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, push_row, size, storage, store_configured, Checked,
-    Span, Stored,
+    buf, disjoint, load, load_mut, optional, push_row, size, storage, store_cleared, Checked, Span,
+    Stored,
 };
 use crate::lines::{outputs, params_c, params_of, peak_c, peak_params, peak_params_c};
 use crate::lines::{FxsLinePeak, FxsPeakParams, FxsVoteParams};
@@ -75,6 +75,7 @@ crate::boundary::object_storage!(
     FxsPointJob for JobObj, tag 0x4658_5032,
     FXS_POINT_JOB_SIZE = (FXS_POINT_JOB_SIZE_32: 52256, FXS_POINT_JOB_SIZE_64: 52352)
 );
+crate::boundary::zero_valid!(JobObj);
 
 /// `fxs_point_job_config`: every setting of the job, one part per stage
 /// (`PointJobConfig`).
@@ -175,7 +176,7 @@ pub unsafe extern "C" fn fxs_point_job_init(
             let (w, h) = (size(width)?, size(height)?);
             // As `fxs_edge_stream_init`: a fresh job, configured in place;
             // a failed configuration leaves the storage not initialised.
-            store_configured(job, JobObj::new, |j| kernel(j.configure(&cfg, w, h)))
+            store_cleared(job, JobObj::clear, |j| kernel(j.configure(&cfg, w, h)))
         })()
     })
 }
@@ -529,4 +530,21 @@ pub unsafe extern "C" fn fxs_point_job_track_words(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     unsafe { read_track_words::<JobObj>(job, slot, words, words_len) }
+}
+
+#[cfg(test)]
+mod tests {
+    extern crate std;
+    use super::JobObj;
+    use crate::boundary::cleared_over_garbage;
+    use std::boxed::Box;
+    use std::format;
+
+    /// Zero bytes and `clear` over any old bytes give the job `new` makes.
+    #[test]
+    fn init_storage_holds_a_new_job() {
+        let got = cleared_over_garbage(JobObj::clear, |j: &JobObj| format!("{j:?}"));
+        let want: Box<JobObj> = Box::default();
+        assert_eq!(got, format!("{want:?}"));
+    }
 }
