@@ -492,21 +492,3 @@ pub unsafe extern "C" fn fxs_edge_stream_edge_row(
         })()
     })
 }
-
-#[cfg(test)]
-mod tests {
-    extern crate std;
-    use super::StreamObj;
-    use crate::boundary::cleared_over_garbage;
-    use std::boxed::Box;
-    use std::format;
-
-    /// Zero bytes and `clear` over any old bytes give the stream `new`
-    /// makes.
-    #[test]
-    fn init_storage_holds_a_new_stream() {
-        let got = cleared_over_garbage(StreamObj::clear, |s: &StreamObj| format!("{s:?}"));
-        let want: Box<StreamObj> = Box::default();
-        assert_eq!(got, format!("{want:?}"));
-    }
-}

@@ -972,6 +972,17 @@ pub(in crate::pipeline) mod tests {
         }
     }
 
+    /// The demo's vote parameters over the test frame, 32 x 51 cells.
+    fn small_vote() -> VoteParams {
+        VoteParams {
+            width: TW,
+            height: TH,
+            rho_bins: 51,
+            theta_bins: 32,
+            ..VoteParams::DEMO_QVGA
+        }
+    }
+
     /// A job (and its edge stage alone) after frames that write every
     /// field, cleared: each is the one `new` makes, field for field.
     #[test]
@@ -982,13 +993,7 @@ pub(in crate::pipeline) mod tests {
                 thinning: Thinning::AtMost(3),
                 ..DEMO
             },
-            vote: VoteParams {
-                width: TW,
-                height: TH,
-                rho_bins: 51,
-                theta_bins: 32,
-                ..VoteParams::DEMO_QVGA
-            },
+            vote: small_vote(),
             peaks: PeakParams {
                 threshold: 4,
                 ..PointJobConfig::DEMO_QVGA.peaks
@@ -1073,13 +1078,7 @@ pub(in crate::pipeline) mod tests {
     #[test]
     fn a_bad_grid_or_size_changes_nothing() {
         let cfg = PointJobConfig {
-            vote: VoteParams {
-                width: TW,
-                height: TH,
-                rho_bins: 51,
-                theta_bins: 32,
-                ..VoteParams::DEMO_QVGA
-            },
+            vote: small_vote(),
             ..PointJobConfig::DEMO_QVGA
         };
         let mut job: Box<Job> = Box::default();
