@@ -1017,6 +1017,7 @@ pub(in crate::pipeline) mod tests {
         }
         // Every field differs from a new job's before the clear.
         let d = |v: &dyn core::fmt::Debug| format!("{v:?}");
+        let s = &job.stream;
         for (name, got, new) in [
             ("cfg", d(&job.cfg), d(&fresh.cfg)),
             ("configured", d(&job.configured), d(&fresh.configured)),
@@ -1030,39 +1031,46 @@ pub(in crate::pipeline) mod tests {
             ("tracker", d(&job.tracker), d(&fresh.tracker)),
             ("frame", d(&job.frame), d(&fresh.frame)),
             ("report", d(&job.report), d(&fresh.report)),
-        ] {
-            assert_ne!(got, new, "{name} not written by the frames");
-        }
-        let s = &job.stream;
-        for (name, got, new) in [
-            ("cfg", d(&s.cfg), d(&fresh.stream.cfg)),
-            ("deriv", d(&s.deriv), d(&fresh.stream.deriv)),
-            ("cross", d(&s.cross), d(&fresh.stream.cross)),
-            ("radius", d(&s.radius), d(&fresh.stream.radius)),
-            ("shift", d(&s.shift), d(&fresh.stream.shift)),
-            ("bins", d(&s.bins), d(&fresh.stream.bins)),
-            ("width", d(&s.width), d(&fresh.stream.width)),
-            ("height", d(&s.height), d(&fresh.stream.height)),
-            ("phase", d(&s.phase), d(&fresh.stream.phase)),
-            ("pushed", d(&s.pushed), d(&fresh.stream.pushed)),
-            ("formed", d(&s.formed), d(&fresh.stream.formed)),
-            ("classified", d(&s.classified), d(&fresh.stream.classified)),
-            ("thresholds", d(&s.thresholds), d(&fresh.stream.thresholds)),
-            ("carried", d(&s.carried), d(&fresh.stream.carried)),
-            ("candidates", d(&s.candidates), d(&fresh.stream.candidates)),
+            ("stream.cfg", d(&s.cfg), d(&fresh.stream.cfg)),
+            ("stream.deriv", d(&s.deriv), d(&fresh.stream.deriv)),
+            ("stream.cross", d(&s.cross), d(&fresh.stream.cross)),
+            ("stream.radius", d(&s.radius), d(&fresh.stream.radius)),
+            ("stream.shift", d(&s.shift), d(&fresh.stream.shift)),
+            ("stream.bins", d(&s.bins), d(&fresh.stream.bins)),
+            ("stream.width", d(&s.width), d(&fresh.stream.width)),
+            ("stream.height", d(&s.height), d(&fresh.stream.height)),
+            ("stream.phase", d(&s.phase), d(&fresh.stream.phase)),
+            ("stream.pushed", d(&s.pushed), d(&fresh.stream.pushed)),
+            ("stream.formed", d(&s.formed), d(&fresh.stream.formed)),
             (
-                "done_height",
+                "stream.classified",
+                d(&s.classified),
+                d(&fresh.stream.classified),
+            ),
+            (
+                "stream.thresholds",
+                d(&s.thresholds),
+                d(&fresh.stream.thresholds),
+            ),
+            ("stream.carried", d(&s.carried), d(&fresh.stream.carried)),
+            (
+                "stream.candidates",
+                d(&s.candidates),
+                d(&fresh.stream.candidates),
+            ),
+            (
+                "stream.done_height",
                 d(&s.done_height),
                 d(&fresh.stream.done_height),
             ),
-            ("report", d(&s.report), d(&fresh.stream.report)),
-            ("rows", d(&s.rows), d(&fresh.stream.rows)),
-            ("mag", d(&s.mag), d(&fresh.stream.mag)),
-            ("grad", d(&s.grad), d(&fresh.stream.grad)),
-            ("map", d(&s.map), d(&fresh.stream.map)),
-            ("hist", d(&s.hist), d(&fresh.stream.hist)),
+            ("stream.report", d(&s.report), d(&fresh.stream.report)),
+            ("stream.rows", d(&s.rows), d(&fresh.stream.rows)),
+            ("stream.mag", d(&s.mag), d(&fresh.stream.mag)),
+            ("stream.grad", d(&s.grad), d(&fresh.stream.grad)),
+            ("stream.map", d(&s.map), d(&fresh.stream.map)),
+            ("stream.hist", d(&s.hist), d(&fresh.stream.hist)),
         ] {
-            assert_ne!(got, new, "stream.{name} not written by the frames");
+            assert_ne!(got, new, "{name} not written by the frames");
         }
         // The job's stage keeps no gradients (`CAP = 0`); the lone stage does.
         assert!(stage.stored > 0 && stage.grads.iter().any(|g| *g != [0, 0]));
