@@ -411,23 +411,58 @@ pub(crate) unsafe fn load_mut<'a, T: Stored>(p: *mut T::Storage) -> Checked<&'a 
     Ok(unsafe { &mut (*t).value })
 }
 
-/// Writes the object `fresh` makes into checked storage `p`, straight
-/// into place (tag first, then the value), and runs `configure` on it in
-/// place; when `configure` fails the storage is marked not initialised.
+/// A type whose all-zero bytes are a valid value: every `bool` false,
+/// every enum tag one of its variants, no reference, `NonZero*` or other
+/// type that forbids zero, at any depth.
+///
+/// # Safety
+/// Implemented only through [`zero_valid!`], whose constant proves it when
+/// the crate is compiled.
+pub(crate) unsafe trait ZeroValid {}
+
+/// Implements [`ZeroValid`] for one concrete type, with its proof: a
+/// constant of the type made of zero bytes. rustc checks the final value of
+/// every constant against the validity rules of its type, field by field
+/// at every depth, and refuses to compile one that breaks them (error
+/// E0080, "constructing invalid value"; the rules are the invalid values of
+/// The Rust Reference, "Behavior considered undefined"). Tried with rustc
+/// 1.95: a zero enum tag outside the variants, a zero reference and a zero
+/// `NonZeroU8` after a 40 000-byte array in a struct are each refused.
+macro_rules! zero_valid {
+    ($t:ty) => {
+        // SAFETY: evaluated only by the compiler, which refuses to build
+        // when zero bytes are not a valid `$t` (see `zero_valid!`).
+        const _: $t = unsafe { core::mem::MaybeUninit::zeroed().assume_init() };
+        // SAFETY: the constant above is the proof.
+        unsafe impl $crate::boundary::ZeroValid for $t {}
+    };
+}
+pub(crate) use zero_valid;
+
+/// Puts a fresh object into checked storage `p` in place, never building
+/// one on the stack: zero bytes over the object (a valid `T`,
+/// [`ZeroValid`]), `clear` to turn them into the fresh object (the kernel
+/// types' in-place `clear`), the tag, then `configure` on it in place;
+/// when `configure` fails the storage is marked not initialised.
 ///
 /// # Safety
 /// `p` passed [`storage`], and the caller guarantees the storage is
 /// writable and not in use by anything else.
-pub(crate) unsafe fn store_configured<T: Stored>(
+pub(crate) unsafe fn store_cleared<T: Stored + ZeroValid>(
     p: *mut T::Storage,
-    fresh: impl FnOnce() -> T,
+    clear: impl FnOnce(&mut T),
     configure: impl FnOnce(&mut T) -> Checked<()>,
 ) -> Checked<()> {
     let t: *mut Tagged<T> = p.cast();
     // SAFETY: aligned, large enough (`fits` is asserted per storage type),
-    // writable by the caller's guarantee; the old contents own nothing.
+    // writable and exclusive by the caller's guarantee; the old contents
+    // own nothing. After `write_bytes` the object's bytes are all zero,
+    // a valid `T` (`T: ZeroValid`), so the `&mut T` given to `clear`
+    // points to a valid value.
     unsafe {
-        core::ptr::addr_of_mut!((*t).value).write(fresh());
+        let value = core::ptr::addr_of_mut!((*t).value);
+        value.write_bytes(0, 1);
+        clear(&mut *value);
         core::ptr::addr_of_mut!((*t).tag).write(T::TAG);
     }
     // SAFETY: just written; exclusive by the caller's guarantee.
@@ -514,6 +549,25 @@ macro_rules! object_storage {
     };
 }
 pub(crate) use object_storage;
+
+/// The object [`store_cleared`] writes (with no configuration) over
+/// storage full of `0xA5` bytes, shown by `show` (tests of the objects'
+/// fresh state).
+#[cfg(test)]
+pub(crate) fn cleared_over_garbage<T: Stored + ZeroValid>(
+    clear: impl FnOnce(&mut T),
+    show: impl FnOnce(&T) -> std::string::String,
+) -> std::string::String {
+    let mut own = std::boxed::Box::<T::Storage>::new_uninit();
+    let p = own.as_mut_ptr();
+    // SAFETY: the box's own `size_of::<T::Storage>()` writable bytes.
+    unsafe { p.cast::<u8>().write_bytes(0xA5, size_of::<T::Storage>()) };
+    storage::<T>(p).expect("aligned storage");
+    // SAFETY: checked storage, used by nothing else.
+    unsafe { store_cleared(p, clear, |_| Ok(())) }.expect("no configuration to fail");
+    // SAFETY: just written by `store_cleared`.
+    show(unsafe { load::<T>(p) }.expect("tagged"))
+}
 
 #[cfg(test)]
 mod tests {

@@ -30,10 +30,12 @@
 //! # Safety at the boundary
 //!
 //! `unsafe` lives only in this crate's `extern "C"` functions and in
-//! `boundary.rs`. Every pointer/length pair is checked (NULL, alignment,
-//! negative sizes, the kernel's layout rules including `stride * height`
-//! overflow, stated length too short, address-space wrap, overlap of a
-//! written buffer with any other) before a slice is made; what remains for
+//! `boundary.rs` (with its macro `zero_valid!`, expanded beside each object
+//! type whose zero bytes are a fresh object's start). Every pointer/length
+//! pair is checked (NULL, alignment, negative sizes, the kernel's layout
+//! rules including `stride * height` overflow, stated length too short,
+//! address-space wrap, overlap of a written buffer with any other) before
+//! a slice is made; what remains for
 //! the caller is stated at each `unsafe` block: the memory behind a pointer
 //! must really hold the stated number of elements and not be touched by
 //! anyone else during the call (or, for objects, while they are in use).

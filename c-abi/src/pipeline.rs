@@ -12,7 +12,7 @@
 //! kernel (YUYV, UYVY, RGB565, raw) are not wrapped yet.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, size, storage, store_configured, Checked, Span,
+    buf, disjoint, load, load_mut, optional, size, storage, store_cleared, Checked, Span,
 };
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
 use fixsight::pipeline::{
@@ -47,6 +47,7 @@ crate::boundary::object_storage!(
     FxsEdgeStream for StreamObj, tag 0x4658_5031,
     FXS_EDGE_STREAM_SIZE = (FXS_EDGE_STREAM_SIZE_32: 45968, FXS_EDGE_STREAM_SIZE_64: 46008)
 );
+crate::boundary::zero_valid!(StreamObj);
 
 /// `FXS_SMOOTHING_NONE` .. `FXS_SMOOTHING_GAUSS7`: `fxs_edge_config.smoothing`.
 pub const FXS_SMOOTHING_NONE: i32 = 0;
@@ -242,7 +243,9 @@ pub unsafe extern "C" fn fxs_edge_stream_init(
             let (w, h) = (size(width)?, size(height)?);
             // A fresh stream, configured in place: a failed init leaves
             // the storage not initialised.
-            store_configured(stream, StreamObj::new, |s| kernel(s.configure(&cfg, w, h)))
+            store_cleared(stream, StreamObj::clear, |s| {
+                kernel(s.configure(&cfg, w, h))
+            })
         })()
     })
 }

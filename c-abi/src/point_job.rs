@@ -12,17 +12,26 @@
 //! storage (`fxs_point_job`), as the edge stream does (`pipeline.rs`);
 //! it borrows nothing between calls (a grid is passed to each finish).
 //!
-//! Stack: `fxs_point_job_init` writes a fresh `PointJob::new()` into the
-//! storage; the kernel's constructor builds its edge stage on the stack
-//! first (a frame of 23 028 bytes in the Cortex-M4 library at `ea0afff`).
-//! An in-place constructor in the kernel would remove it.
+//! Stack: `fxs_point_job_init` builds no job on the stack. It writes zero
+//! bytes over the storage (a valid job: `zero_valid!` proves it when the
+//! crate is compiled) and `PointJob::clear` turns them into the job `new`
+//! makes, field by field in place (`boundary::store_cleared`). Writing
+//! the value `PointJob::new()` into the storage made LLVM build the job
+//! on the stack and copy it. In the Cortex-M4 library at `9b39bcf` the
+//! init's frame is 376 bytes, 800 with the configuration it calls (frames
+//! read from the disassembly), against 22 952 bytes at `7c57ca7`, no
+//! constant of the job's size in flash (the library's `.rodata` is 6 401
+//! bytes at both); the stack high-water mark of the golden vectors through C
+//! went from 25 164 bytes to 2 588 (its deepest call is now a finish).
+//! `fixsight-verify targets` fails when it exceeds 4 096 bytes
+//! (`c_firmware::JOB_STACK_BUDGET`).
 //!
 //! Not a safety function (see the header): the drift warning is an aid
 //! only.
 
 use crate::boundary::{
-    buf, disjoint, load, load_mut, optional, push_row, size, storage, store_configured, Checked,
-    Span, Stored,
+    buf, disjoint, load, load_mut, optional, push_row, size, storage, store_cleared, Checked, Span,
+    Stored,
 };
 use crate::lines::{outputs, params_c, params_of, peak_c, peak_params, peak_params_c};
 use crate::lines::{FxsLinePeak, FxsPeakParams, FxsVoteParams};
@@ -75,6 +84,7 @@ crate::boundary::object_storage!(
     FxsPointJob for JobObj, tag 0x4658_5032,
     FXS_POINT_JOB_SIZE = (FXS_POINT_JOB_SIZE_32: 52256, FXS_POINT_JOB_SIZE_64: 52352)
 );
+crate::boundary::zero_valid!(JobObj);
 
 /// `fxs_point_job_config`: every setting of the job, one part per stage
 /// (`PointJobConfig`).
@@ -175,7 +185,7 @@ pub unsafe extern "C" fn fxs_point_job_init(
             let (w, h) = (size(width)?, size(height)?);
             // As `fxs_edge_stream_init`: a fresh job, configured in place;
             // a failed configuration leaves the storage not initialised.
-            store_configured(job, JobObj::new, |j| kernel(j.configure(&cfg, w, h)))
+            store_cleared(job, JobObj::clear, |j| kernel(j.configure(&cfg, w, h)))
         })()
     })
 }
@@ -529,4 +539,24 @@ pub unsafe extern "C" fn fxs_point_job_track_words(
 ) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     unsafe { read_track_words::<JobObj>(job, slot, words, words_len) }
+}
+
+#[cfg(test)]
+mod tests {
+    extern crate std;
+    use super::JobObj;
+    use crate::boundary::cleared_over_garbage;
+    use crate::pipeline::StreamObj;
+    use std::boxed::Box;
+    use std::format;
+
+    /// Zero bytes and `clear` over any old bytes give the job (and the
+    /// edge stream of `fxs_edge_stream_init`) `new` makes.
+    #[test]
+    fn init_storage_holds_a_new_job() {
+        let got = cleared_over_garbage(JobObj::clear, |j: &JobObj| format!("{j:?}"));
+        assert_eq!(got, format!("{:?}", Box::<JobObj>::default()));
+        let got = cleared_over_garbage(StreamObj::clear, |s: &StreamObj| format!("{s:?}"));
+        assert_eq!(got, format!("{:?}", Box::<StreamObj>::default()));
+    }
 }

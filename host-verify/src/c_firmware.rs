@@ -62,6 +62,37 @@ const CFLAGS: &[&str] = &[
     "-Werror",
 ];
 
+/// Stack budget of each whole job through C, in bytes: the high-water
+/// mark over the kernel id's golden vectors (the runner's frames
+/// included) may not exceed it, or the run fails. About 52 KB of job
+/// storage and this much stack leave room for the rest of a firmware on a
+/// part with 64 KiB of RAM (a round figure, common practice, no source).
+/// Measured at `9b39bcf`: 2 588 bytes (point job) and 3 084 (image job);
+/// before `fxs_*_job_init` stopped building the job on the stack, 25 164
+/// and 31 172 (see `targets/README.md`).
+pub const JOB_STACK_BUDGET: u64 = 4096;
+
+/// The kernel ids held to [`JOB_STACK_BUDGET`].
+const BUDGETED: [&str; 2] = ["pipeline.point_job", "pipeline.image_job"];
+
+/// A problem per budgeted kernel id whose stack figure exceeds
+/// [`JOB_STACK_BUDGET`]; an id that did not run (a golden folder without
+/// it) has nothing to check.
+fn over_budget(stack: &BTreeMap<&str, u64>) -> Vec<String> {
+    BUDGETED
+        .iter()
+        .filter_map(|id| {
+            let used = *stack.get(id)?;
+            (used > JOB_STACK_BUDGET).then(|| {
+                format!(
+                    "cortex-m4 (C): {id} used {used} bytes of stack, over its budget of \
+                     {JOB_STACK_BUDGET} (c_firmware::JOB_STACK_BUDGET)"
+                )
+            })
+        })
+        .collect()
+}
+
 fn run_cmd(cmd: &mut Command, what: &str) -> Result<()> {
     let out = cmd.output().with_context(|| format!("running {what}"))?;
     if !out.status.success() {
@@ -267,6 +298,7 @@ pub fn run(
         let e = stack.entry(c.kernel.as_str()).or_default();
         *e = (*e).max(c.stack);
     }
+    problems.extend(over_budget(&stack));
     for id in &ids {
         let token = format!("K_{}", id.replace('.', "_"));
         let with = text_bytes(&b.image(Some(Some(&token)), &token)?)?;
@@ -309,4 +341,20 @@ pub fn run(
         },
         problems,
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn job_stack_over_the_budget_is_a_problem() {
+        let mut stack = BTreeMap::from([("pipeline.point_job", JOB_STACK_BUDGET)]);
+        assert!(over_budget(&stack).is_empty()); // at the budget; image job not run
+        stack.insert("pipeline.image_job", JOB_STACK_BUDGET + 1);
+        stack.insert("filter.binomial3", 10 * JOB_STACK_BUDGET); // not budgeted
+        let p = over_budget(&stack);
+        assert_eq!(p.len(), 1);
+        assert!(p[0].contains("pipeline.image_job used 4097 bytes"), "{p:?}");
+    }
 }

@@ -746,6 +746,30 @@ pub struct FrameReport {
     pub thinning: ThinStats,
 }
 
+/// The report of no frame: every count zero (a stream's report before
+/// its first frame).
+const NO_FRAME: FrameReport = FrameReport {
+    width: 0,
+    height: 0,
+    thresholds: (0, 0),
+    next_thresholds: (0, 0),
+    threshold_at_limit: false,
+    candidates: 0,
+    edge_points: 0,
+    gradients_dropped: 0,
+    hysteresis: HysteresisStats {
+        edges: 0,
+        passes: 0,
+        deferred: 0,
+        peak_stack: 0,
+    },
+    thinning: ThinStats {
+        iterations: 0,
+        deleted: 0,
+        capped: false,
+    },
+};
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Phase {
     /// No configuration yet.
@@ -924,27 +948,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             candidates: 0,
             stored: 0,
             done_height: 0,
-            report: FrameReport {
-                width: 0,
-                height: 0,
-                thresholds: (0, 0),
-                next_thresholds: (0, 0),
-                threshold_at_limit: false,
-                candidates: 0,
-                edge_points: 0,
-                gradients_dropped: 0,
-                hysteresis: HysteresisStats {
-                    edges: 0,
-                    passes: 0,
-                    deferred: 0,
-                    peak_stack: 0,
-                },
-                thinning: ThinStats {
-                    iterations: 0,
-                    deleted: 0,
-                    capped: false,
-                },
-            },
+            report: NO_FRAME,
             rows: [[0; W]; RING_ROWS],
             mag: [[0; W]; 3],
             grad: [[0; 2]; W],
@@ -952,6 +956,79 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             hist: [0; BINS],
             grads: [[0; 2]; CAP],
         }
+    }
+
+    /// Back to the state [`EdgeStream::new`] gives (unconfigured, every
+    /// buffer zeroed), written field by field in place. `*s =
+    /// EdgeStream::new()` may build the whole new stream on the stack
+    /// first and copy it; this never holds more than one field's worth of
+    /// temporary. For a stream that lives in a `static` or in memory a C
+    /// caller owns.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{EdgeStream, DEMO, map_words};
+    /// let mut s = EdgeStream::<8, { map_words(8, 8) }, 925, 0>::new();
+    /// s.configure(&DEMO, 8, 8)?;
+    /// s.push_row(&[9; 8])?;
+    /// s.clear();
+    /// assert_eq!(s.rows_pushed(), 0);
+    /// assert!(s.push_row(&[9; 8]).is_err()); // not configured any more
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn clear(&mut self) {
+        // Every field by name (no `..`): a new field must be cleared here.
+        let Self {
+            cfg,
+            deriv,
+            cross,
+            radius,
+            shift,
+            bins,
+            width,
+            height,
+            phase,
+            pushed,
+            formed,
+            classified,
+            thresholds,
+            carried,
+            candidates,
+            stored,
+            done_height,
+            report,
+            rows,
+            mag,
+            grad,
+            map,
+            hist,
+            grads,
+        } = self;
+        *cfg = DEMO;
+        *phase = Phase::Unconfigured;
+        (*thresholds, *carried) = (Thresholds::MAX, Thresholds::MAX);
+        *report = NO_FRAME;
+        for n in [
+            radius,
+            bins,
+            width,
+            height,
+            pushed,
+            formed,
+            classified,
+            stored,
+            done_height,
+        ] {
+            *n = 0;
+        }
+        (*shift, *candidates) = (0, 0);
+        deriv.fill(0);
+        cross.fill(0);
+        rows.as_flattened_mut().fill(0);
+        mag.as_flattened_mut().fill(0);
+        grad.as_flattened_mut().fill(0);
+        map.fill(0);
+        hist.fill(0);
+        grads.as_flattened_mut().fill(0);
     }
 
     /// Bytes of this type: all the memory the stage needs.
@@ -2541,9 +2618,7 @@ pub struct ImageJob<
     const K: usize,
     const N: usize,
 > {
-    warp: Option<crate::warp::GridStream<'a, 'a>>,
-    /// Camera rows per frame (the grid's source height).
-    src_height: usize,
+    warp: image_job::Warp<'a>,
     job: PointJob<W, MAP_WORDS, BINS, CAP, T, R, K, N>,
 }
 

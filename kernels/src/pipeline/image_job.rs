@@ -146,6 +146,58 @@ pub type DemoImageJobVga<'a> = ImageJob<
     4,
 >;
 
+/// The warp of an [`ImageJob`]: idle until configured, then running,
+/// with the camera rows per frame (the grid's source height, at most
+/// [`crate::image::MAX_DIM`]).
+///
+/// `repr(u8)` with `Idle = 0` fixes the layout (The Rust Reference, "Type
+/// layout", primitive representation of enums with fields: the `u8` tag
+/// first, then each variant's fields in order as in a `repr(C)` struct), so
+/// an idle warp is its zero tag whatever the bytes after it, and zero bytes
+/// are a valid `ImageJob` (every other field admits zero). The C ABI sets
+/// its storage to a fresh job that way, with [`ImageJob::clear`] and no job
+/// on the stack (its build checks that zero bytes are valid). An `Option`
+/// would put `None` in a niche of the stream's own fields, a value other
+/// than zero. The height sits in the tag's padding: the job is no larger
+/// than with an `Option` and a separate `usize`.
+#[derive(Debug)]
+#[repr(u8)]
+pub(super) enum Warp<'a> {
+    /// Not configured.
+    Idle = 0,
+    /// Configured.
+    Running {
+        /// Camera rows per frame.
+        src_height: u16,
+        /// The grid stream.
+        stream: GridStream<'a, 'a>,
+    },
+}
+
+impl<'a> Warp<'a> {
+    fn as_ref(&self) -> Option<&GridStream<'a, 'a>> {
+        match self {
+            Warp::Idle => None,
+            Warp::Running { stream, .. } => Some(stream),
+        }
+    }
+
+    fn as_mut(&mut self) -> Option<&mut GridStream<'a, 'a>> {
+        match self {
+            Warp::Idle => None,
+            Warp::Running { stream, .. } => Some(stream),
+        }
+    }
+
+    /// Camera rows per frame; 0 when idle.
+    fn src_height(&self) -> usize {
+        match self {
+            Warp::Idle => 0,
+            Warp::Running { src_height, .. } => usize::from(*src_height),
+        }
+    }
+}
+
 impl<
         const W: usize,
         const MAP_WORDS: usize,
@@ -182,10 +234,35 @@ impl<
     /// ```
     pub const fn new() -> Self {
         Self {
-            warp: None,
-            src_height: 0,
+            warp: Warp::Idle,
             job: PointJob::new(),
         }
+    }
+
+    /// Back to the state [`ImageJob::new`] gives (unconfigured, the grid
+    /// and the ring let go, every buffer zeroed), written field by field in
+    /// place ([`PointJob::clear`]): no second job is built on the stack, as
+    /// `*job = ImageJob::new()` may do.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoImageJobQvga, ImageJobConfig};
+    /// use fixsight::warp::{ControlGrid, WarpGeometry};
+    /// let geom = WarpGeometry::new(320, 240, 320, 240, 5)?;
+    /// let pts: Vec<i32> = (0..16).flat_map(|j| (0..21).flat_map(move |i| [i * 512, j * 512])).collect();
+    /// let grid = ControlGrid::new(&pts, geom, 4)?;
+    /// let mut ring = vec![0u8; DemoImageJobQvga::ring_bytes(&grid)?];
+    /// let mut job: Box<DemoImageJobQvga> = Box::default();
+    /// job.configure(&ImageJobConfig::DEMO_QVGA, grid, &mut ring)?;
+    /// job.push_row(&[0; 320])?;
+    /// job.clear();
+    /// assert!(job.push_row(&[0; 320]).is_err()); // not configured any more
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn clear(&mut self) {
+        // Every field by name (no `..`): a new field must be cleared here.
+        let Self { warp, job } = self;
+        *warp = Warp::Idle;
+        job.clear();
     }
 
     /// Bytes of this type (`core::mem::size_of::<Self>()`): all the
@@ -259,10 +336,17 @@ impl<
                 got: vote,
             });
         }
+        let src_height = u16::try_from(g.src_height()).map_err(|_| Error::TooLarge {
+            width: g.src_width(),
+            height: g.src_height(),
+            limit: crate::image::MAX_DIM,
+        })?;
         let warp = GridStream::new(grid, ring, 1, 1, cfg.border)?;
         self.job.configure(&cfg.job, out.0, out.1)?;
-        self.warp = Some(warp);
-        self.src_height = g.src_height();
+        self.warp = Warp::Running {
+            src_height,
+            stream: warp,
+        };
         Ok(())
     }
 
@@ -392,7 +476,7 @@ impl<
     /// ```
     pub fn finish(&mut self) -> Result<JobReport> {
         let got = self.warp()?.rows_pushed();
-        let expected = self.src_height;
+        let expected = self.warp.src_height();
         if got < expected {
             return Err(Error::RowCount { expected, got });
         }
@@ -798,5 +882,31 @@ mod tests {
         }
         assert_eq!(job.finish().unwrap().frame, 0);
         assert_eq!(job.line_stage().report(), job.report());
+    }
+
+    /// A job after a few frames, cleared: the one `new` makes, field for
+    /// field (the point job's own fields: `clear_gives_a_new_job` of the
+    /// point job), with the grid and ring let go.
+    #[test]
+    fn clear_gives_a_new_job() {
+        use std::format;
+        let (geom, pts) = grid_points(TW, TH, TW + 4, TH + 2, 3, 7, 10, true);
+        let grid = ControlGrid::new(&pts, geom, 3).unwrap();
+        let cfg = config(false, true, TW, TH, Border::Clamp);
+        let mut ring = vec![0u8; Job::ring_bytes(&grid).unwrap()];
+        let fresh = format!("{:?}", Job::new());
+        let mut job: Box<Job> = Box::default();
+        job.configure(&cfg, grid, &mut ring).unwrap();
+        for seed in 1..3 {
+            for r in frame(seed, TW + 4, TH + 2).chunks_exact(TW + 4) {
+                job.push_row(r).unwrap();
+            }
+            job.finish().unwrap();
+        }
+        assert!(matches!(job.warp, Warp::Running { src_height: 32, .. }));
+        job.clear();
+        assert!(matches!(job.warp, Warp::Idle));
+        assert_eq!(format!("{job:?}"), fresh);
+        assert!(matches!(job.finish(), Err(Error::StreamOrder { .. })));
     }
 }

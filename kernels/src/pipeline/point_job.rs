@@ -203,6 +203,26 @@ pub fn tape_detections(m: &Marking, lines: &[Candidate]) -> ([Detection; EDGES_P
     (dets, n)
 }
 
+/// A peak slot of a fresh job.
+const EMPTY: Peak = Peak {
+    theta_bin: 0,
+    rho_bin: 0,
+    votes: 0,
+    line: Line {
+        rho: 0,
+        theta: 0,
+        votes: 0,
+    },
+};
+
+/// A line slot of a fresh job.
+const NO_LINE: Candidate = Candidate {
+    rho_q4: 0,
+    theta: 0,
+    votes: 0,
+    polarity: Polarity::Unknown,
+};
+
 impl<
         const W: usize,
         const MAP_WORDS: usize,
@@ -237,22 +257,6 @@ impl<
     /// static _J: PointJob<16, 16, 64, 32, 8, 9, 2, 2> = PointJob::new();
     /// ```
     pub const fn new() -> Self {
-        const EMPTY: Peak = Peak {
-            theta_bin: 0,
-            rho_bin: 0,
-            votes: 0,
-            line: Line {
-                rho: 0,
-                theta: 0,
-                votes: 0,
-            },
-        };
-        const NO_LINE: Candidate = Candidate {
-            rho_q4: 0,
-            theta: 0,
-            votes: 0,
-            polarity: Polarity::Unknown,
-        };
         Self {
             cfg: PointJobConfig::DEMO_QVGA,
             configured: false,
@@ -268,6 +272,54 @@ impl<
             frame: 0,
             report: None,
         }
+    }
+
+    /// Back to the state [`PointJob::new`] gives (unconfigured, every
+    /// buffer zeroed), written field by field in place
+    /// ([`EdgeStream::clear`] for the edge stage). `*job = PointJob::new()`
+    /// may build the whole new job on the stack first and copy it (tens
+    /// of kilobytes for the QVGA job); this never holds more than one
+    /// field's worth of temporary. For a job that lives in a `static` or
+    /// in memory a C caller owns.
+    ///
+    /// ```
+    /// use fixsight::pipeline::{DemoPointJobQvga, PointJobConfig};
+    /// let mut job: Box<DemoPointJobQvga> = Box::default();
+    /// job.configure(&PointJobConfig::DEMO_QVGA, 320, 240)?;
+    /// job.push_row(&[0; 320])?;
+    /// job.clear();
+    /// assert!(job.tracker().is_none());
+    /// assert!(job.push_row(&[0; 320]).is_err()); // not configured any more
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn clear(&mut self) {
+        // Every field by name (no `..`): a new field must be cleared here.
+        let Self {
+            cfg,
+            configured,
+            stream,
+            held,
+            codes,
+            coded,
+            votes,
+            peaks,
+            lines,
+            found,
+            tracker,
+            frame,
+            report,
+        } = self;
+        *cfg = PointJobConfig::DEMO_QVGA;
+        *configured = false;
+        stream.clear();
+        held.as_flattened_mut().fill(0);
+        codes.fill(0);
+        (*coded, *found, *frame) = (0, 0, 0);
+        *votes = crate::lines::VoteStore::new();
+        peaks.fill(EMPTY);
+        lines.fill(NO_LINE);
+        *tracker = None;
+        *report = None;
     }
 
     /// Bytes of this type: all the working memory of the job
@@ -705,7 +757,7 @@ pub(in crate::pipeline) mod tests {
     extern crate std;
     use super::*;
     use crate::lines::{EdgeRow, VoteStore};
-    use crate::pipeline::{map_words, EdgeConfig, ThresholdRule};
+    use crate::pipeline::{map_words, EdgeConfig, Thinning, ThresholdRule};
     use crate::warp::WarpGeometry;
     use proptest::prelude::*;
     use std::boxed::Box;
@@ -920,16 +972,121 @@ pub(in crate::pipeline) mod tests {
         }
     }
 
+    /// The demo's vote parameters over the test frame, 32 x 51 cells.
+    fn small_vote() -> VoteParams {
+        VoteParams {
+            width: TW,
+            height: TH,
+            rho_bins: 51,
+            theta_bins: 32,
+            ..VoteParams::DEMO_QVGA
+        }
+    }
+
+    /// A job (and its edge stage alone) after frames that write every
+    /// field, cleared: each is the one `new` makes, field for field.
+    #[test]
+    fn clear_gives_a_new_job() {
+        use std::format;
+        let cfg = PointJobConfig {
+            edges: EdgeConfig {
+                thinning: Thinning::AtMost(3),
+                ..DEMO
+            },
+            vote: small_vote(),
+            peaks: PeakParams {
+                threshold: 4,
+                ..PointJobConfig::DEMO_QVGA.peaks
+            },
+            ..PointJobConfig::DEMO_QVGA
+        };
+        let (geom, pts) = grid_points(TW, TH, 3, 5, 20);
+        let grid = ControlGrid::new(&pts, geom, 3).unwrap();
+        let fresh: Box<Job> = Box::default();
+        let mut job: Box<Job> = Box::default();
+        job.configure(&cfg, TW, TH).unwrap();
+        let mut stage: Box<Stage> = Box::default();
+        stage.configure(&cfg.edges, TW, TH).unwrap();
+        for seed in 1..4 {
+            for r in frame(seed, TW, TH).chunks_exact(TW) {
+                job.push_row(r).unwrap();
+                stage.push_row(r).unwrap();
+            }
+            job.finish(Some(&grid)).unwrap();
+            stage.finish().unwrap();
+        }
+        // Every field differs from a new job's before the clear.
+        let d = |v: &dyn core::fmt::Debug| format!("{v:?}");
+        let s = &job.stream;
+        for (name, got, new) in [
+            ("cfg", d(&job.cfg), d(&fresh.cfg)),
+            ("configured", d(&job.configured), d(&fresh.configured)),
+            ("held", d(&job.held), d(&fresh.held)),
+            ("codes", d(&job.codes), d(&fresh.codes)),
+            ("coded", d(&job.coded), d(&fresh.coded)),
+            ("votes", d(&job.votes), d(&fresh.votes)),
+            ("peaks", d(&job.peaks), d(&fresh.peaks)),
+            ("lines", d(&job.lines), d(&fresh.lines)),
+            ("found", d(&job.found), d(&fresh.found)),
+            ("tracker", d(&job.tracker), d(&fresh.tracker)),
+            ("frame", d(&job.frame), d(&fresh.frame)),
+            ("report", d(&job.report), d(&fresh.report)),
+            ("stream.cfg", d(&s.cfg), d(&fresh.stream.cfg)),
+            ("stream.deriv", d(&s.deriv), d(&fresh.stream.deriv)),
+            ("stream.cross", d(&s.cross), d(&fresh.stream.cross)),
+            ("stream.radius", d(&s.radius), d(&fresh.stream.radius)),
+            ("stream.shift", d(&s.shift), d(&fresh.stream.shift)),
+            ("stream.bins", d(&s.bins), d(&fresh.stream.bins)),
+            ("stream.width", d(&s.width), d(&fresh.stream.width)),
+            ("stream.height", d(&s.height), d(&fresh.stream.height)),
+            ("stream.phase", d(&s.phase), d(&fresh.stream.phase)),
+            ("stream.pushed", d(&s.pushed), d(&fresh.stream.pushed)),
+            ("stream.formed", d(&s.formed), d(&fresh.stream.formed)),
+            (
+                "stream.classified",
+                d(&s.classified),
+                d(&fresh.stream.classified),
+            ),
+            (
+                "stream.thresholds",
+                d(&s.thresholds),
+                d(&fresh.stream.thresholds),
+            ),
+            ("stream.carried", d(&s.carried), d(&fresh.stream.carried)),
+            (
+                "stream.candidates",
+                d(&s.candidates),
+                d(&fresh.stream.candidates),
+            ),
+            (
+                "stream.done_height",
+                d(&s.done_height),
+                d(&fresh.stream.done_height),
+            ),
+            ("stream.report", d(&s.report), d(&fresh.stream.report)),
+            ("stream.rows", d(&s.rows), d(&fresh.stream.rows)),
+            ("stream.mag", d(&s.mag), d(&fresh.stream.mag)),
+            ("stream.grad", d(&s.grad), d(&fresh.stream.grad)),
+            ("stream.map", d(&s.map), d(&fresh.stream.map)),
+            ("stream.hist", d(&s.hist), d(&fresh.stream.hist)),
+        ] {
+            assert_ne!(got, new, "{name} not written by the frames");
+        }
+        // The job's stage keeps no gradients (`CAP = 0`); the lone stage does.
+        assert!(stage.stored > 0 && stage.grads.iter().any(|g| *g != [0, 0]));
+        job.clear();
+        assert_eq!(d(&job), d(&fresh));
+        stage.clear();
+        assert_eq!(d(&stage), d(&Stage::new()));
+        // And it works as a new job.
+        job.configure(&cfg, TW, TH).unwrap();
+        assert_eq!(job.push_row(&[0; TW]).unwrap(), 1);
+    }
+
     #[test]
     fn a_bad_grid_or_size_changes_nothing() {
         let cfg = PointJobConfig {
-            vote: VoteParams {
-                width: TW,
-                height: TH,
-                rho_bins: 51,
-                theta_bins: 32,
-                ..VoteParams::DEMO_QVGA
-            },
+            vote: small_vote(),
             ..PointJobConfig::DEMO_QVGA
         };
         let mut job: Box<Job> = Box::default();

@@ -123,7 +123,7 @@ fn read_head(h: usize) -> Result<Header, &'static str> {
         return Err("a grid has more words than the firmware keeps (41 x 31 points)");
     }
     // SAFETY: single-threaded; no job holds a reference to the grids yet
-    // (`run` replaces the image job, which drops its grid, before this).
+    // (`run` clears the image job, which drops its grid, before this).
     let (pg, ig) = unsafe {
         (
             &mut *core::ptr::addr_of_mut!(POINT_GRID),
@@ -232,10 +232,10 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
 
 /// Both modes over the open file.
 fn run_file(con: &mut Console, words: &mut [u32], h: usize) -> Result<(), Fail> {
-    // SAFETY: single-threaded; replacing the image job drops the references
-    // to IMAGE_GRID and RING it may hold, so the ones made below and in
-    // `read_head` are the only ones.
-    unsafe { *core::ptr::addr_of_mut!(IMAGE_JOB) = DemoImageJobQvga::new() };
+    // SAFETY: single-threaded; clearing the image job (in place, no fresh
+    // job on the stack) drops the references to IMAGE_GRID and RING it may
+    // hold, so the ones made below and in `read_head` are the only ones.
+    unsafe { (*core::ptr::addr_of_mut!(IMAGE_JOB)).clear() };
     let head = read_head(h).map_err(Fail::Harness)?;
     let frames_at = HEADER + 4 * (head.grids[0].2 + head.grids[1].2);
     let mut arena = Arena::new(words);

@@ -398,11 +398,12 @@ pub fn image_job(
     _arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
     // SAFETY: the firmware is single-threaded and no other code touches
-    // IMAGE_JOB, RING or GRID. The job is first replaced by a fresh one,
-    // which drops the references to RING and GRID it kept from the last
-    // call, so the references made below are the only ones.
+    // IMAGE_JOB, RING or GRID. The job is first cleared in place into a
+    // fresh one (`ImageJob::clear`, no second job on the stack), which
+    // drops the references to RING and GRID it kept from the last call, so
+    // the references made below are the only ones.
     let job: &mut HarnessImageJob = unsafe { &mut *core::ptr::addr_of_mut!(IMAGE_JOB) };
-    *job = HarnessImageJob::new();
+    job.clear();
     // SAFETY: see above; the job holds no reference to RING now.
     let ring: &'static mut [u8; RING_BYTES] = unsafe { &mut *core::ptr::addr_of_mut!(RING) };
     // SAFETY: see above; the job holds no reference to GRID now.
