@@ -113,11 +113,12 @@ fn exported_vectors_check_a_c_port_on_the_host() {
         &out,
     ]);
     assert!(ok, "{err}");
-    assert!(stdout.contains("wrote 3 golden vectors"), "{stdout}");
+    // The three small crops and the two long rows (256 and 317 pixels).
+    assert!(stdout.contains("wrote 5 golden vectors"), "{stdout}");
     let (ok, log) = build_and_run(&d, &[]);
     assert!(ok, "{log}");
     assert!(
-        log.contains("summary passed 3 failed 0 not-claimed 0"),
+        log.contains("summary passed 5 failed 0 not-claimed 0"),
         "{log}"
     );
 
@@ -161,7 +162,7 @@ fn exported_vectors_check_a_c_port_on_the_host() {
         "{log}"
     );
     assert!(
-        log.contains("summary passed 3 failed 0 not-claimed 22"),
+        log.contains("summary passed 5 failed 0 not-claimed 34"),
         "{log}"
     );
     fs::remove_dir_all(&d).unwrap();

@@ -99,13 +99,14 @@ fn write_port(dir: &Path) -> Vec<(String, usize, Vec<u8>)> {
 fn an_independent_port_passes_and_a_corrupted_one_fails_at_its_pixel() {
     let d = tmp("example");
     let written = write_port(&d);
-    assert_eq!(written.len(), 3, "the manifest's binomial5 vectors");
+    // Three small crops and the two long rows (256 and 317 pixels).
+    assert_eq!(written.len(), 5, "the manifest's binomial5 vectors");
     let (ok, out, _) = port_check(&d, &[]);
     assert!(ok, "{out}");
     let total = golden::read_manifest(&repo_golden()).unwrap().vectors.len();
     let summary = format!(
-        "port-check: 3 passed, 0 failed, {} not claimed, of {total} vectors",
-        total - 3
+        "port-check: 5 passed, 0 failed, {} not claimed, of {total} vectors",
+        total - 5
     );
     assert!(out.contains(&summary), "{out}");
     assert!(
@@ -127,7 +128,7 @@ fn an_independent_port_passes_and_a_corrupted_one_fails_at_its_pixel() {
         bytes.len()
     );
     assert!(out.contains(&want), "{out}");
-    assert!(out.contains("2 passed, 1 failed"), "{out}");
+    assert!(out.contains("4 passed, 1 failed"), "{out}");
 
     // A truncated file is named, not compared.
     fs::write(d.join(&file), &bytes[..10]).unwrap();
