@@ -79,7 +79,11 @@ fn golden_case_recomputes_and_has_content() {
     let ids: Vec<&str> = cases.iter().map(|c| c.id.as_str()).collect();
     assert_eq!(
         ids,
-        ["chain.edges.floor", "chain.edges.wide256", "chain.edges.wide317"]
+        [
+            "chain.edges.floor",
+            "chain.edges.wide256",
+            "chain.edges.wide317"
+        ]
     );
     for c in &cases {
         assert_eq!(
