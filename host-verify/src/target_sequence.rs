@@ -122,7 +122,6 @@ pub fn prepare(dir: &Path) -> Result<OnTargetSequence> {
     )?;
     std::fs::create_dir_all(dir)?;
     let path = std::fs::canonicalize(dir)?.join(SEQUENCE_FILE);
-    std::fs::write(&path, bytes).with_context(|| format!("writing {}", path.display()))?;
     if path
         .to_string_lossy()
         .contains(|c: char| c.is_whitespace() || c == ',')
@@ -133,6 +132,7 @@ pub fn prepare(dir: &Path) -> Result<OnTargetSequence> {
             path.display()
         );
     }
+    std::fs::write(&path, bytes).with_context(|| format!("writing {}", path.display()))?;
     Ok(OnTargetSequence {
         path,
         frames: frames.len(),

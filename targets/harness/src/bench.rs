@@ -206,10 +206,8 @@ const JOB_REFERENCE: [i64; 2] = [
     JOB.track.reference_q4.0 as i64,
     JOB.track.reference_q4.1 as i64,
 ];
-/// Words of one frame's record (the dispatcher's layout: 8 peak slots, 4
-/// track slots).
-const JOB_WORDS: usize =
-    9 + 5 * 8 + fixsight::marking::RECORD_WORDS + 6 + 4 * fixsight::track::TRACK_WORDS;
+/// Words of one frame's record (the dispatcher's layout).
+const JOB_WORDS: usize = crate::kernels::pipeline::WORDS;
 const POINT_JOB: [(&str, Param); 15] = [
     ("frames", Param::Int(1)),
     ("height", Param::Int(HEIGHT as i64)),

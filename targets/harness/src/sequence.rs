@@ -43,7 +43,7 @@
 //! kernels. The window of frame `k` holds the frame's 240 row pushes, its
 //! finish and the writing of its record.
 
-use crate::kernels::pipeline::{put_record, WORDS};
+use crate::kernels::pipeline::{put_record, GRID_WORDS, RING_BYTES, WORDS};
 use crate::kernels::{Arena, Buf, Fail, Img, Params};
 use crate::vectors::Elem;
 use crate::{measure, sys, Console};
@@ -58,10 +58,6 @@ const HEADER: usize = 8 + 4 * 9;
 /// Frame size of the demo jobs.
 const W: usize = 320;
 const H: usize = 240;
-/// Grid words kept: a grid every 8 px over 320 x 240 (41 x 31 points).
-const GRID_WORDS: usize = 2 * 41 * 31;
-/// Ring bytes: 96 rows of 320 (a band of up to 96 source rows).
-const RING_BYTES: usize = W * 96;
 
 static mut POINT_JOB: DemoPointJobQvga = DemoPointJobQvga::new();
 static mut IMAGE_JOB: DemoImageJobQvga<'static> = DemoImageJobQvga::new();

@@ -382,11 +382,11 @@ type HarnessImageJob = ImageJob<'static, 320, { map_words(320, 240) }, 1024, 409
 static mut IMAGE_JOB: HarnessImageJob = HarnessImageJob::new();
 
 /// Ring bytes: 96 rows of 320 (a band of up to 96 source rows).
-const RING_BYTES: usize = 320 * 96;
+pub const RING_BYTES: usize = 320 * 96;
 static mut RING: [u8; RING_BYTES] = [0; RING_BYTES];
 
 /// Grid words: a grid with points every 8 px over 320 x 240 (41 x 31).
-const GRID_WORDS: usize = 2 * 41 * 31;
+pub const GRID_WORDS: usize = 2 * 41 * 31;
 static mut GRID: [i32; GRID_WORDS] = [0; GRID_WORDS];
 
 /// `pipeline.image_job`: every frame of the input through the job, one
