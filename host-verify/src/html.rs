@@ -419,6 +419,72 @@ fn kernel_section(k: &KernelReport, r: &Report, scenes: &[Scene]) -> Result<Stri
 }
 
 /// The whole HTML document.
+/// The accuracy/cost map of `frontier.json`: its verdict, its plot
+/// (drawn again from the figures) and one row per configuration.
+fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
+    let mut out = String::from("<h2 id=\"frontier\">Accuracy/cost map</h2>\n");
+    let _ = write!(
+        out,
+        "<p>Whole job in point mode, QVGA (<code>fixsight-verify frontier</code>). Edge F1 one \
+         to one within 1 px against {}; line errors on the demo sequence against its truth; \
+         cost: {}. Budget at {} MHz and {} frames/s: {:.1} instructions per pixel. {}.</p>\n",
+        esc(&f.reference),
+        esc(&f.costs_from),
+        f.clock_mhz,
+        f.fps,
+        f.budget_instr_per_px,
+        esc(&f.verdict)
+    );
+    let path = std::env::temp_dir().join(format!(
+        "fixsight-frontier-{}-{:?}.png",
+        std::process::id(),
+        std::thread::current().id()
+    ));
+    crate::frontier::plot::draw(f, &path)?;
+    let png = std::fs::read(&path);
+    let _ = std::fs::remove_file(&path);
+    let _ = write!(
+        out,
+        "<img class=\"plot\" alt=\"accuracy/cost map\" src=\"data:image/png;base64,{}\">\n",
+        base64::engine::general_purpose::STANDARD.encode(png?)
+    );
+    let rows: Vec<Vec<String>> = f
+        .points
+        .iter()
+        .map(|p| {
+            vec![
+                p.name.clone(),
+                format!("{:.4}", p.f1_worst),
+                format!(
+                    "{:.2} / {:.2}",
+                    p.line_rho_err_px_mean, p.line_rho_err_px_max
+                ),
+                p.lost_frames.to_string(),
+                p.m4_instr_per_px
+                    .map_or("not measured".into(), |c| format!("{c:.2}")),
+                if p.pareto {
+                    "yes".into()
+                } else {
+                    String::new()
+                },
+            ]
+        })
+        .collect();
+    table(
+        &mut out,
+        &[
+            "configuration",
+            "worst F1",
+            "rho err px mean / max",
+            "lost frames",
+            "M4 instr/px",
+            "Pareto front",
+        ],
+        &rows,
+    );
+    Ok(out)
+}
+
 pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     let mut out = String::new();
     out.push_str(
@@ -494,6 +560,9 @@ pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     out.push_str("</table>\n");
     if let Some(s) = scenes.first() {
         out.push_str(&edge_chain_section(s)?);
+    }
+    if let Some(f) = &r.frontier {
+        out.push_str(&frontier_section(f)?);
     }
     out.push_str("<h2>Per kernel</h2>\n");
     for k in &r.kernels {

@@ -48,6 +48,7 @@ pub mod families;
 pub mod family;
 pub mod files;
 pub mod filter;
+pub mod frontier;
 pub mod golden;
 pub mod golden_c;
 pub mod gradient;

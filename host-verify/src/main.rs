@@ -297,6 +297,56 @@ enum Cmd {
         #[arg(long, value_name = "DIR", default_value = "fixsight-report")]
         report: PathBuf,
     },
+    /// The accuracy/cost map: the whole job in point mode over a grid of
+    /// configurations (smoothing, gradient operator, magnitude kind, theta
+    /// resolution), each with its worst one-to-one edge F1 against the
+    /// full-f64 Canny on the demo scenes and natural photographs, its line
+    /// accuracy on the demo sequence, its Cortex-M4 instructions per pixel
+    /// (from targets.json) and its RAM; marks the Pareto front and names
+    /// the recommended configuration for the part. Writes frontier.md,
+    /// frontier.json and frontier.png.
+    ///
+    /// Configurations are named map-<smoothing>-<operator>-<magnitude>-t<theta
+    /// bins>: smoothing none, binomial3, binomial5, binomial7 or gauss7 with
+    /// sobel and l1, l2_approx or l2_round at t32; binomial3 and gauss7 with
+    /// scharr and l2_round; gauss7-sobel-l2_round and binomial3-sobel-l1 at
+    /// t16 (the list the on-target harness measures).
+    ///
+    /// Example: fixsight-verify frontier --clock-mhz 168 --fps 30
+    /// (after `fixsight-verify targets`, which writes the costs into
+    /// fixsight-report/targets.json)
+    ///
+    /// Not a safety function: the map ranks configurations of a job whose
+    /// drift warning may end up steering a vehicle; a vehicle that can hurt
+    /// people needs safety-rated sensing and control under the applicable
+    /// standards (ISO 3691-4, IEC 61508, ISO 13849) and local rules.
+    Frontier {
+        /// Output folder; targets.json is read from here unless --targets.
+        #[arg(long, value_name = "DIR", default_value = "fixsight-report")]
+        out: PathBuf,
+        /// Folder with targets.json (must hold one when given).
+        #[arg(long, value_name = "DIR")]
+        targets: Option<PathBuf>,
+        /// Comma-separated configuration names (default: the whole grid).
+        #[arg(long, value_name = "LIST")]
+        configs: Option<String>,
+        /// Images of the edge figures: all (demo scenes and natural
+        /// photographs) or rendered (demo scenes only: a quick look).
+        #[arg(long, default_value = "all", value_parser = cmd::frontier::Images::parse)]
+        images: cmd::frontier::Images,
+        /// Frames of the demo sequence for the line figures (1..=96).
+        #[arg(long, default_value_t = 96)]
+        frames: usize,
+        /// Core clock of the part, MHz.
+        #[arg(long, default_value_t = 168.0)]
+        clock_mhz: f64,
+        /// Frames per second.
+        #[arg(long, default_value_t = 30.0)]
+        fps: f64,
+        /// Replace output files that already exist.
+        #[arg(long)]
+        overwrite: bool,
+    },
     /// Compare a port's outputs for the golden inputs with the golden
     /// expected outputs, bit for bit: per vector pass, FAIL (first differing
     /// element x, y, channel, expected, got, and the count) or not claimed.
@@ -524,6 +574,33 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             kernel,
             report,
         } => cmd::budget::run(&report, &core, &kernel, width, height, fps, clock_mhz),
+        Cmd::Frontier {
+            out,
+            targets,
+            configs,
+            images,
+            frames,
+            clock_mhz,
+            fps,
+            overwrite,
+        } => {
+            let req = cmd::frontier::Request {
+                out,
+                targets,
+                configs,
+                images,
+                frames,
+                clock_mhz,
+                fps,
+                overwrite,
+            };
+            print!("{}", cmd::frontier::run(&req)?);
+            println!(
+                "written to {}",
+                fixsight_verify::files::shown_path(&req.out)
+            );
+            Ok(true)
+        }
         Cmd::PortCheck {
             vectors,
             outputs,

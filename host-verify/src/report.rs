@@ -108,6 +108,10 @@ pub struct Report {
     /// On-target figures, when `targets.json` was found.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub targets: Option<serde_json::Value>,
+    /// The accuracy/cost map, when `frontier.json` (`fixsight-verify
+    /// frontier`) was found in the report folder.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub frontier: Option<crate::frontier::Frontier>,
 }
 
 /// Runs every family's checks on the given scenes, the lens-dependent
@@ -192,6 +196,18 @@ pub fn run(
     } else {
         None
     };
+    let frontier_path = out_dir.join(crate::cmd::frontier::OUTPUTS[1]);
+    let frontier = if std::fs::symlink_metadata(&frontier_path).is_ok() {
+        let text = crate::files::read_text(&frontier_path)?;
+        Some(serde_json::from_str(&text).with_context(|| {
+            format!(
+                "{} is not a map written by `fixsight-verify frontier`",
+                crate::files::shown_path(&frontier_path)
+            )
+        })?)
+    } else {
+        None
+    };
     let targets_ok = targets
         .as_ref()
         .and_then(|t: &serde_json::Value| t["targets"].as_array().cloned())
@@ -209,6 +225,7 @@ pub fn run(
         scenes: infos,
         kernels,
         targets,
+        frontier,
     };
     outputs.write(
         "report.json",

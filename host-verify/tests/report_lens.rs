@@ -187,6 +187,7 @@ fn the_report_names_its_lens() {
         scenes: Vec::new(),
         kernels: Vec::new(),
         targets: None,
+        frontier: None,
     };
     let r = report(&lens);
     let line = format!("lens: lens file `named.lens` (SHA-256 {digest})");

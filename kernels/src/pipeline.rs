@@ -628,6 +628,84 @@ impl EdgeConfig {
         Ok((fx, fy))
     }
 
+    /// [`DEMO`] with another smoothing, operator and magnitude, the other
+    /// settings adjusted so that the variant has the demo's gradient scale
+    /// and fits the demo job types ([`DemoPointJobQvga`]); the
+    /// configurations of the accuracy/cost map (`fixsight-verify
+    /// frontier`). The rules, in this order:
+    ///
+    /// 1. `op = 0` for Sobel (cross taps sum 4), `2` for Scharr (sum 16);
+    ///    `frac_bits = min(2 - op, 2 * smoothing shift)`, so the gradients
+    ///    are the operator times `2^(frac_bits + op)`, at most 16 times
+    ///    the smoothed image's central difference like [`DEMO`]'s
+    ///    (`frac_bits 2`, Sobel);
+    /// 2. `d = 2 - frac_bits - op` (0 or 2): the first frame's thresholds
+    ///    are [`DEMO`]'s shifted right by `d` (at least `(1, 2)`): the same
+    ///    edges on a scale `2^d` times smaller;
+    /// 3. the histogram's bin-width shift is the smallest `s >= 2` (the
+    ///    demo's) with `bins_needed() <= DEMO.bins_needed()` (925), so a
+    ///    magnitude range wider than the demo's (L1 reaches `2 g`, L2
+    ///    `sqrt 2 g`) takes wider bins, never a capped rule;
+    /// 4. share, ratio and thinning are [`DEMO`]'s.
+    ///
+    /// [`DEMO`] itself comes back unchanged:
+    ///
+    /// ```
+    /// use fixsight::pipeline::{EdgeConfig, Magnitude, Operator, Smoothing, ThresholdRule, DEMO};
+    /// assert_eq!(EdgeConfig::demo_with(Smoothing::Gauss7, Operator::Sobel, Magnitude::L2Round), DEMO);
+    /// let c = EdgeConfig::demo_with(Smoothing::None, Operator::Sobel, Magnitude::L1);
+    /// assert_eq!(c.frac_bits, 0);
+    /// assert!(c.bins_needed() <= DEMO.bins_needed() && c.check().is_ok());
+    /// assert!(matches!(c.thresholds, ThresholdRule::Auto { first_low: 15, first_high: 31, .. }));
+    /// ```
+    pub const fn demo_with(
+        smoothing: Smoothing,
+        operator: Operator,
+        magnitude: Magnitude,
+    ) -> EdgeConfig {
+        let op: u32 = match operator {
+            Operator::Sobel => 0,
+            Operator::Scharr => 2,
+        };
+        let (_, sh) = smoothing.taps();
+        let frac = if 2 - op < 2 * sh { 2 - op } else { 2 * sh };
+        let d = 2 - frac - op;
+        let mut cfg = EdgeConfig {
+            smoothing,
+            operator,
+            frac_bits: frac as u8,
+            magnitude,
+            ..DEMO
+        };
+        if let ThresholdRule::Auto {
+            shift,
+            high_permille,
+            low_ratio_u0f16,
+            first_low,
+            first_high,
+        } = DEMO.thresholds
+        {
+            let lo = first_low >> d;
+            let hi = first_high >> d;
+            let mut s = shift;
+            let room = DEMO.bins_needed();
+            loop {
+                cfg.thresholds = ThresholdRule::Auto {
+                    shift: s,
+                    high_permille,
+                    low_ratio_u0f16,
+                    first_low: if lo < 1 { 1 } else { lo },
+                    first_high: if hi < 2 { 2 } else { hi },
+                };
+                if cfg.bins_needed() <= room || s >= 15 {
+                    break;
+                }
+                s += 1;
+            }
+        }
+        cfg
+    }
+
     /// The thresholds of the first frame.
     fn first_thresholds(&self) -> Result<Thresholds> {
         match self.thresholds {

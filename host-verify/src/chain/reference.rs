@@ -62,6 +62,13 @@ pub fn nms_f64(gx: &[f64], gy: &[f64], mag: &[f64], w: usize, h: usize) -> Vec<f
 /// The full-`f64` Canny on an 8-bit image with the given thresholds:
 /// returns 0/255.
 pub fn reference_f64(gray: &[u8], w: usize, h: usize, low: f64, high: f64) -> Vec<u8> {
+    edges_f64(&suppressed_f64(gray, w, h), w, h, low, high)
+}
+
+/// The suppressed magnitudes of the full-`f64` Canny (0 where suppressed):
+/// the `sigma = 1` Gaussian, Sobel times [`GRAD_SCALE`], the exact `L2`
+/// magnitude, interpolated suppression.
+pub fn suppressed_f64(gray: &[u8], w: usize, h: usize) -> Vec<f64> {
     let img: Vec<f64> = gray.iter().map(|&v| v as f64).collect();
     let s = gaussian_f64(&img, w, h, 1.0);
     let (mut gx, mut gy) = sobel_f64(&s, w, h);
@@ -69,7 +76,12 @@ pub fn reference_f64(gray: &[u8], w: usize, h: usize, low: f64, high: f64) -> Ve
         *v *= GRAD_SCALE;
     }
     let mag: Vec<f64> = gx.iter().zip(&gy).map(|(a, b)| a.hypot(*b)).collect();
-    let sup = nms_f64(&gx, &gy, &mag, w, h);
+    nms_f64(&gx, &gy, &mag, w, h)
+}
+
+/// Classification (`>= high` strong, `>= low` weak) and hysteresis of
+/// suppressed magnitudes: 0/255.
+pub fn edges_f64(sup: &[f64], w: usize, h: usize, low: f64, high: f64) -> Vec<u8> {
     let codes: Vec<u8> = sup
         .iter()
         .map(|&v| {
@@ -83,6 +95,34 @@ pub fn reference_f64(gray: &[u8], w: usize, h: usize, low: f64, high: f64) -> Ve
         })
         .collect();
     link(&codes, w, h)
+}
+
+/// The automatic threshold rule of `fixsight::hysteresis` in `f64`, on
+/// the image's own suppressed magnitudes, without bins: of the `n`
+/// nonzero values in ascending order, `v` is the `ceil(n * permille /
+/// 1000)`-th; `high` is the smallest `f64` above `v` (so `v` itself is not
+/// strong, as the integer rule's `high = (b* + 1) << shift` leaves its bin
+/// below `high`), `low = high * ratio`. With no nonzero value both are
+/// infinite (no edge).
+///
+/// ```
+/// use fixsight_verify::chain::reference::thresholds_f64;
+/// let sup = [0.0, 10.0, 20.0, 30.0, 40.0, 50.0, 60.0, 70.0, 80.0, 90.0];
+/// // 9 nonzero values; 80 % -> the 8th -> 80.
+/// let (low, high) = thresholds_f64(&sup, 800, 0.5);
+/// assert!(high > 80.0 && high < 80.001 && (low - high / 2.0).abs() < 1e-12);
+/// ```
+pub fn thresholds_f64(sup: &[f64], permille: u16, ratio: f64) -> (f64, f64) {
+    let mut v: Vec<f64> = sup.iter().copied().filter(|&m| m > 0.0).collect();
+    if v.is_empty() {
+        return (f64::INFINITY, f64::INFINITY);
+    }
+    v.sort_by(f64::total_cmp);
+    let target = (v.len() * permille as usize)
+        .div_ceil(1000)
+        .clamp(1, v.len());
+    let high = v[target - 1].next_up();
+    (high * ratio, high)
 }
 
 /// Edge agreement with a 1-pixel tolerance.

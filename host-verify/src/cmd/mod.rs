@@ -5,6 +5,7 @@
 
 pub mod budget;
 pub mod calibrate;
+pub mod frontier;
 pub mod golden;
 pub mod grid;
 pub mod port_check;

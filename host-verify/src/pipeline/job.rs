@@ -75,7 +75,7 @@ use crate::lines::{
 use crate::marking::reference::select_f64;
 use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
-use crate::sequence::{Sequence, SequenceSpec, TruthLine, DEMO_SEQUENCE};
+use crate::sequence::{FrameTruth, Sequence, SequenceSpec, TruthLine, DEMO_SEQUENCE};
 use crate::track::reference::RefTracker;
 use fixsight::lines::{Accumulator, EdgeRow, Peak, VoteParams};
 use fixsight::marking::{self, Candidate, Polarity};
@@ -179,7 +179,17 @@ pub fn outcome(
 /// Runs the kernel job over `frames` (320 x 240 frames), the edge points
 /// corrected through `grid` when there is one.
 pub fn run_fixed(frames: &[Vec<u8>], grid: Option<&ControlGrid<'_>>) -> Result<FixedRun, String> {
-    let cfg = PointJobConfig::DEMO_QVGA;
+    run_fixed_with(&PointJobConfig::DEMO_QVGA, frames, grid)
+}
+
+/// [`run_fixed`] with another configuration of the demo job types (for
+/// example an edge stage of `EdgeConfig::demo_with`).
+pub fn run_fixed_with(
+    cfg: &PointJobConfig,
+    frames: &[Vec<u8>],
+    grid: Option<&ControlGrid<'_>>,
+) -> Result<FixedRun, String> {
+    let cfg = *cfg;
     let mut job: Box<DemoPointJobQvga> = Box::default();
     let (w, h) = (cfg.vote.width, cfg.vote.height);
     job.configure(&cfg, w, h).map_err(e)?;
@@ -505,6 +515,23 @@ fn truth_px(t: &TruthLine) -> (f64, f64) {
     (t.rho, t.theta)
 }
 
+/// The selected tape edges of a run against the truth, frame by frame
+/// (the shorter length): `|d rho|` px and `|d theta|` degrees of each of
+/// the two edges, over the frames where the run found the tape.
+pub fn truth_line_errors(truth: &[FrameTruth], frames: &[JobFrame]) -> (Vec<f64>, Vec<f64>) {
+    let (mut rho, mut theta) = (Vec::new(), Vec::new());
+    for (run, t) in frames.iter().zip(truth) {
+        if let Some(tape) = run.tape {
+            for (i, edge) in t.edges.iter().enumerate() {
+                let (dr, dt) = line_err(tape[i], truth_px(edge));
+                rho.push(dr);
+                theta.push(dt);
+            }
+        }
+    }
+    (rho, theta)
+}
+
 /// Max and mean, `(0, 0)` when empty.
 fn max_mean(v: &[f64]) -> (f64, f64) {
     if v.is_empty() {
@@ -705,21 +732,13 @@ pub fn compare_runs(
     let origin = ((w as f64 - 1.0) / 2.0, (h as f64 - 1.0) / 2.0);
     let truth: Vec<_> = (0..spec.frames).map(|k| seq.truth(k, origin)).collect();
     let cmp = FixedVsF64::of(&fixed.frames, reference);
-    let (mut fr, mut ft, mut rr, mut rt) = (vec![], vec![], vec![], vec![]);
+    let (fr, ft) = truth_line_errors(&truth, &fixed.frames);
+    let (rr, rt) = truth_line_errors(&truth, reference);
     let (mut track_f, mut track_r) = (vec![], vec![]);
     let mut occluded = 0;
     for ((a, b), t) in fixed.frames.iter().zip(reference).zip(&truth) {
         occluded += t.occluded() as usize;
         let tl = [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
-        for (run, rho, th) in [(a, &mut fr, &mut ft), (b, &mut rr, &mut rt)] {
-            if let Some(tape) = run.tape {
-                for i in 0..2 {
-                    let (dr, dt) = line_err(tape[i], tl[i]);
-                    rho.push(dr);
-                    th.push(dt);
-                }
-            }
-        }
         for (run, errs) in [(a, &mut track_f), (b, &mut track_r)] {
             let near: Vec<f64> = tl
                 .iter()

@@ -133,6 +133,90 @@ pub struct StageParams {
     pub last_rows: usize,
 }
 
+/// The smoothings by their parameter names.
+pub const SMOOTHINGS: [(Smoothing, &str); 5] = [
+    (Smoothing::None, "none"),
+    (Smoothing::Binomial3, "binomial3"),
+    (Smoothing::Binomial5, "binomial5"),
+    (Smoothing::Binomial7, "binomial7"),
+    (Smoothing::Gauss7, "gauss7"),
+];
+/// The operators by their parameter names.
+pub const OPERATORS: [(Operator, &str); 2] =
+    [(Operator::Sobel, "sobel"), (Operator::Scharr, "scharr")];
+/// The magnitude kinds by their parameter names.
+pub const MAGNITUDES: [(Magnitude, &str); 3] = [
+    (Magnitude::L1, "l1"),
+    (Magnitude::L2Approx, "l2_approx"),
+    (Magnitude::L2Round, "l2_round"),
+];
+
+fn name_in<T: PartialEq + Copy>(list: &[(T, &'static str)], v: T) -> &'static str {
+    list.iter().find(|(k, _)| *k == v).map_or("?", |(_, n)| n)
+}
+
+fn value_in<T: Copy>(list: &[(T, &'static str)], name: &str) -> Option<T> {
+    list.iter().find(|(_, n)| *n == name).map(|(k, _)| *k)
+}
+
+/// The parameter name of a smoothing.
+///
+/// ```
+/// use fixsight::pipeline::Smoothing;
+/// assert_eq!(fixsight_verify::pipeline::smoothing_name(Smoothing::Gauss7), "gauss7");
+/// ```
+pub fn smoothing_name(s: Smoothing) -> &'static str {
+    name_in(&SMOOTHINGS, s)
+}
+
+/// The parameter name of an operator.
+///
+/// ```
+/// use fixsight::pipeline::Operator;
+/// assert_eq!(fixsight_verify::pipeline::operator_name(Operator::Scharr), "scharr");
+/// ```
+pub fn operator_name(o: Operator) -> &'static str {
+    name_in(&OPERATORS, o)
+}
+
+/// The parameter name of a magnitude kind.
+///
+/// ```
+/// use fixsight::pipeline::Magnitude;
+/// assert_eq!(fixsight_verify::pipeline::magnitude_name(Magnitude::L2Approx), "l2_approx");
+/// ```
+pub fn magnitude_name(m: Magnitude) -> &'static str {
+    name_in(&MAGNITUDES, m)
+}
+
+/// The smoothing a parameter name names.
+///
+/// ```
+/// assert!(fixsight_verify::pipeline::smoothing_of("binomial5").is_some());
+/// assert!(fixsight_verify::pipeline::smoothing_of("box3").is_none());
+/// ```
+pub fn smoothing_of(name: &str) -> Option<Smoothing> {
+    value_in(&SMOOTHINGS, name)
+}
+
+/// The operator a parameter name names.
+///
+/// ```
+/// assert!(fixsight_verify::pipeline::operator_of("sobel").is_some());
+/// ```
+pub fn operator_of(name: &str) -> Option<Operator> {
+    value_in(&OPERATORS, name)
+}
+
+/// The magnitude kind a parameter name names.
+///
+/// ```
+/// assert!(fixsight_verify::pipeline::magnitude_of("l1").is_some());
+/// ```
+pub fn magnitude_of(name: &str) -> Option<Magnitude> {
+    value_in(&MAGNITUDES, name)
+}
+
 /// The parameters of a configuration and a run shape.
 pub fn stage_params(
     cfg: &EdgeConfig,
@@ -140,22 +224,11 @@ pub fn stage_params(
     height: usize,
     last_rows: usize,
 ) -> StageParams {
-    let smoothing = match cfg.smoothing {
-        Smoothing::None => "none",
-        Smoothing::Binomial3 => "binomial3",
-        Smoothing::Binomial5 => "binomial5",
-        Smoothing::Binomial7 => "binomial7",
-        Smoothing::Gauss7 => "gauss7",
-    };
-    let operator = match cfg.operator {
-        Operator::Sobel => "sobel",
-        Operator::Scharr => "scharr",
-    };
-    let magnitude = match cfg.magnitude {
-        Magnitude::L1 => "l1",
-        Magnitude::L2Approx => "l2_approx",
-        Magnitude::L2Round => "l2_round",
-    };
+    let (smoothing, operator, magnitude) = (
+        smoothing_name(cfg.smoothing),
+        operator_name(cfg.operator),
+        magnitude_name(cfg.magnitude),
+    );
     let (kind, low, high, shift, high_permille, low_ratio_u0f16) = match cfg.thresholds {
         ThresholdRule::Fixed { low, high } => ("fixed", low, high, 0, 0, 0),
         ThresholdRule::Auto {
@@ -201,25 +274,9 @@ pub fn stage_params(
 pub fn config_of(p: &StageParams) -> Result<EdgeConfig, String> {
     let bad =
         |what: &str, v: &str| format!("params of `pipeline.edge_stream`: unknown {what} `{v}`");
-    let smoothing = match p.smoothing.as_str() {
-        "none" => Smoothing::None,
-        "binomial3" => Smoothing::Binomial3,
-        "binomial5" => Smoothing::Binomial5,
-        "binomial7" => Smoothing::Binomial7,
-        "gauss7" => Smoothing::Gauss7,
-        v => return Err(bad("smoothing", v)),
-    };
-    let operator = match p.operator.as_str() {
-        "sobel" => Operator::Sobel,
-        "scharr" => Operator::Scharr,
-        v => return Err(bad("operator", v)),
-    };
-    let magnitude = match p.magnitude.as_str() {
-        "l1" => Magnitude::L1,
-        "l2_approx" => Magnitude::L2Approx,
-        "l2_round" => Magnitude::L2Round,
-        v => return Err(bad("magnitude", v)),
-    };
+    let smoothing = smoothing_of(&p.smoothing).ok_or_else(|| bad("smoothing", &p.smoothing))?;
+    let operator = operator_of(&p.operator).ok_or_else(|| bad("operator", &p.operator))?;
+    let magnitude = magnitude_of(&p.magnitude).ok_or_else(|| bad("magnitude", &p.magnitude))?;
     let thresholds = match p.thresholds.as_str() {
         "fixed" => ThresholdRule::Fixed {
             low: p.low,

@@ -33,6 +33,11 @@
 //! demo gate, peaks, marking selection, tracker update), instructions per
 //! pixel of one frame (the bench frame holds no floor tape, so the marking
 //! and tracker steps see whatever lines the disc and rectangle give);
+//! then the stages of the accuracy/cost map, `map-<smoothing>-<operator>-
+//! <magnitude>-t<theta bins>`: the same whole job with the edge stage
+//! `EdgeConfig::demo_with(smoothing, operator, magnitude)` and the vote's
+//! theta columns (32 of 2.8 degrees, the demo's, or 16 of 5.6 degrees over
+//! the same span), read back by `fixsight-verify frontier`;
 //! then `image_job_qvga`, the whole job in image mode
 //! (`pipeline.image_job`: the same settings, the 240 camera rows warped
 //! row by row through the bench grid as an undistortion grid, clamped
@@ -235,6 +240,47 @@ const POINT_JOB: [(&str, Param); 15] = [
     ("grid_frac_bits", Param::Int(WARP_FRAC_BITS as i64)),
 ];
 
+/// A whole-job stage of the accuracy/cost map (`fixsight-verify
+/// frontier`, `host-verify/src/frontier/`): [`POINT_JOB`] with the edge
+/// stage `EdgeConfig::demo_with(smoothing, operator, magnitude)` and
+/// `theta_bins` vote columns of `2^theta_step_log2` over the demo's
+/// span.
+const fn map_job(
+    smoothing: &'static str,
+    operator: &'static str,
+    magnitude: &'static str,
+    theta_bins: i64,
+    theta_step_log2: i64,
+) -> [(&'static str, Param); 18] {
+    let mut out = [("", Param::Null); 18];
+    let mut i = 0;
+    while i < POINT_JOB.len() {
+        out[i] = POINT_JOB[i];
+        i += 1;
+    }
+    out[3] = ("theta_step_log2", Param::Int(theta_step_log2));
+    out[4] = ("theta_bins", Param::Int(theta_bins));
+    out[15] = ("smoothing", Param::Str(smoothing));
+    out[16] = ("operator", Param::Str(operator));
+    out[17] = ("magnitude", Param::Str(magnitude));
+    out
+}
+
+/// A [`Stage`] of the accuracy/cost map named
+/// `map-<smoothing>-<operator>-<magnitude>-t<theta bins>`, the name
+/// `fixsight-verify frontier` reads back from `targets.json`.
+macro_rules! map_stage {
+    ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal) => {
+        Stage {
+            name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t),
+            kernel: "pipeline.point_job",
+            params: &map_job($s, $o, $m, $t, $step),
+            inputs: &[0, 16],
+            outputs: &[17],
+        }
+    };
+}
+
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
 
@@ -434,6 +480,29 @@ pub static STAGES: &[Stage] = &[
         inputs: &[0, 16],
         outputs: &[17],
     },
+    // The accuracy/cost map (`fixsight-verify frontier`): the whole job
+    // in point mode with each edge configuration of its grid (the host's
+    // list in `host-verify/src/frontier/mod.rs`, checked against this one
+    // by a test there).
+    map_stage!("none", "sobel", "l1", 32, 10),
+    map_stage!("none", "sobel", "l2_approx", 32, 10),
+    map_stage!("none", "sobel", "l2_round", 32, 10),
+    map_stage!("binomial3", "sobel", "l1", 32, 10),
+    map_stage!("binomial3", "sobel", "l2_approx", 32, 10),
+    map_stage!("binomial3", "sobel", "l2_round", 32, 10),
+    map_stage!("binomial5", "sobel", "l1", 32, 10),
+    map_stage!("binomial5", "sobel", "l2_approx", 32, 10),
+    map_stage!("binomial5", "sobel", "l2_round", 32, 10),
+    map_stage!("binomial7", "sobel", "l1", 32, 10),
+    map_stage!("binomial7", "sobel", "l2_approx", 32, 10),
+    map_stage!("binomial7", "sobel", "l2_round", 32, 10),
+    map_stage!("gauss7", "sobel", "l1", 32, 10),
+    map_stage!("gauss7", "sobel", "l2_approx", 32, 10),
+    map_stage!("gauss7", "sobel", "l2_round", 32, 10),
+    map_stage!("binomial3", "scharr", "l2_round", 32, 10),
+    map_stage!("gauss7", "scharr", "l2_round", 32, 10),
+    map_stage!("gauss7", "sobel", "l2_round", 16, 11),
+    map_stage!("binomial3", "sobel", "l1", 16, 11),
     Stage {
         name: "image_job_qvga",
         kernel: "pipeline.image_job",

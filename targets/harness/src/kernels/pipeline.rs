@@ -34,12 +34,9 @@ fn int<T: TryFrom<i64>>(p: &Params, key: &'static str) -> Result<T, Fail> {
     T::try_from(p.int(key)?).map_err(|_| Fail::Param(key))
 }
 
-/// The configuration the params name (module docs of
-/// `host-verify/src/pipeline.rs`), or the demo one without `smoothing`.
-fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
-    if p.get("smoothing").is_none() {
-        return Ok(DEMO);
-    }
+/// The smoothing, operator and magnitude the params name (the names of
+/// `host-verify/src/pipeline/mod.rs`).
+fn kinds_of(p: &Params) -> Result<(Smoothing, Operator, Magnitude), Fail> {
     let smoothing = match p.str("smoothing")? {
         "none" => Smoothing::None,
         "binomial3" => Smoothing::Binomial3,
@@ -59,6 +56,16 @@ fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
         "l2_round" => Magnitude::L2Round,
         _ => return Err(Fail::Param("magnitude")),
     };
+    Ok((smoothing, operator, magnitude))
+}
+
+/// The configuration the params name (module docs of
+/// `host-verify/src/pipeline.rs`), or the demo one without `smoothing`.
+fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
+    if p.get("smoothing").is_none() {
+        return Ok(DEMO);
+    }
+    let (smoothing, operator, magnitude) = kinds_of(p)?;
     let (low, high) = (int(p, "low")?, int(p, "high")?);
     let thresholds = match p.str("thresholds")? {
         "fixed" => ThresholdRule::Fixed { low, high },
@@ -205,6 +212,12 @@ pub const WORDS: usize =
 /// The configuration a `pipeline.point_job` vector names.
 fn job_config(p: &Params, width: usize, height: usize) -> Result<PointJobConfig, Fail> {
     let mut c = PointJobConfig::DEMO_QVGA;
+    // A bench stage of the accuracy/cost map names another edge stage:
+    // `EdgeConfig::demo_with` of its smoothing, operator and magnitude.
+    if p.get("smoothing").is_some() {
+        let (s, o, m) = kinds_of(p)?;
+        c.edges = EdgeConfig::demo_with(s, o, m);
+    }
     let gate: u16 = int(p, "gate")?;
     c.vote = VoteParams {
         width,
