@@ -920,19 +920,35 @@ impl ThinMap for Packed<'_> {
     fn dims(&self) -> (usize, usize) {
         (self.width, self.height)
     }
-    fn load_row(&self, y: usize, dst: &mut [u8]) {
+    fn load_row(&self, y: usize, dst: &mut [u8]) -> bool {
         let row = &self.words[y * self.stride..(y + 1) * self.stride];
-        for (chunk, &v) in dst[..self.width].chunks_mut(16).zip(row) {
-            // One bit per pixel: both bits of its pair set (`11`, an edge).
-            let e = v & (v >> 1) & 0x5555_5555;
-            if e == 0 {
-                chunk.fill(0);
-            } else {
-                for (i, d) in chunk.iter_mut().enumerate() {
-                    *d = ((e >> (2 * i)) & 1) as u8;
-                }
+        let mut any = 0u32;
+        // One bit per pixel: both bits of its pair set (`11`, an edge).
+        let edge = |v: u32| v & (v >> 1) & 0x5555_5555;
+        let unpack = |e: u32, chunk: &mut [u8]| {
+            for (i, d) in chunk.iter_mut().enumerate() {
+                *d = ((e >> (2 * i)) & 1) as u8;
+            }
+        };
+        let dst = &mut dst[..self.width];
+        let mut whole = dst.chunks_exact_mut(16);
+        for (chunk, &v) in (&mut whole).zip(row) {
+            let e = edge(v);
+            any |= e;
+            match <&mut [u8; 16]>::try_from(chunk) {
+                // 16 background pixels: four word stores.
+                Ok(c) if e == 0 => *c = [0; 16],
+                Ok(c) => unpack(e, c),
+                Err(_) => {}
             }
         }
+        let rest = whole.into_remainder();
+        if let Some(&v) = row.get(self.width / 16) {
+            let e = edge(v);
+            any |= e;
+            unpack(e, rest);
+        }
+        any != 0
     }
     #[inline(always)]
     fn delete(&mut self, x: usize, y: usize) {
