@@ -183,29 +183,93 @@ impl ThinMap for ImageViewMut<'_, u8> {
     }
 }
 
+/// A set of rows in blocks of `2^shift` rows (at most 256 blocks, so any
+/// height fits in 32 bytes): a block in the set stands for all its rows.
+#[derive(Debug, Clone, Copy)]
+struct RowSet {
+    bits: [u32; 8],
+    shift: u32,
+}
+
+impl RowSet {
+    /// Every row of a map `h` rows high.
+    fn all(h: usize) -> RowSet {
+        let mut shift = 0;
+        while (h.saturating_sub(1) >> shift) >= 256 {
+            shift += 1;
+        }
+        RowSet {
+            bits: [u32::MAX; 8],
+            shift,
+        }
+    }
+
+    fn empty(shift: u32) -> RowSet {
+        RowSet {
+            bits: [0; 8],
+            shift,
+        }
+    }
+
+    #[inline(always)]
+    fn has(&self, y: usize) -> bool {
+        let b = y >> self.shift;
+        self.bits
+            .get(b / 32)
+            .is_some_and(|w| (w >> (b % 32)) & 1 != 0)
+    }
+
+    /// Adds rows `y - 1 ..= y + 1` (those inside `0..h`).
+    fn mark_around(&mut self, y: usize, h: usize) {
+        for r in y.saturating_sub(1)..=(y + 1).min(h.saturating_sub(1)) {
+            let b = r >> self.shift;
+            if let Some(w) = self.bits.get_mut(b / 32) {
+                *w |= 1 << (b % 32);
+            }
+        }
+    }
+
+    fn add(&mut self, o: &RowSet) {
+        for (a, b) in self.bits.iter_mut().zip(o.bits) {
+            *a |= b;
+        }
+    }
+}
+
 /// One sub-iteration; returns the number of pixels deleted. The rows are
 /// copied into the ring before any pixel of the row below them is
 /// decided, so every decision reads the map as it was at the start of the
 /// sub-iteration (the parallel rule). Rows the map reports empty and
 /// groups of 4 background pixels are skipped: they hold no pixel to
 /// decide (a shortcut of the scan, not of the rule).
-fn sub_iteration<M: ThinMap>(map: &mut M, ring: &mut [u8], bit: u8) -> u32 {
+fn sub_iteration<M: ThinMap>(
+    map: &mut M,
+    ring: &mut [u8],
+    bit: u8,
+    todo: &RowSet,
+) -> (u32, RowSet) {
     let (w, h) = map.dims();
     let slot = |y: usize| (y % 3) * w;
+    let mut touched = RowSet::empty(todo.shift);
+    // Row `r` is read by the rows `r - 1 ..= r + 1`: loaded (before any of
+    // its pixels is deleted) when one of them is to be decided.
+    let needed = |r: usize| todo.has(r.saturating_sub(1)) || todo.has(r) || todo.has(r + 1);
     let mut any = [false; 3];
-    any[0] = map.load_row(0, &mut ring[..w]);
-    tally_per(Op::Load, 1, w);
-    tally_per(Op::Store, 1, w);
+    if needed(0) {
+        any[0] = map.load_row(0, &mut ring[..w]);
+        tally_per(Op::Load, 1, w);
+        tally_per(Op::Store, 1, w);
+    }
     let mut deleted = 0u32;
     for y in 0..h {
-        if y + 1 < h {
+        if y + 1 < h && needed(y + 1) {
             let s = slot(y + 1);
             any[(y + 1) % 3] = map.load_row(y + 1, &mut ring[s..s + w]);
             tally_per(Op::Load, 1, w);
             tally_per(Op::Store, 1, w);
         }
-        tally(Op::Branch, 1);
-        if !any[y % 3] {
+        tally(Op::Branch, 2);
+        if !todo.has(y) || !any[y % 3] {
             continue;
         }
         let ring_ro: &[u8] = ring;
@@ -259,6 +323,9 @@ fn sub_iteration<M: ThinMap>(map: &mut M, ring: &mut [u8], bit: u8) -> u32 {
             }
         }
         deleted += row_deleted;
+        if row_deleted > 0 {
+            touched.mark_around(y, h);
+        }
         // Per group of 4 pixels: a word load, compare and branch; per pixel
         // of a group with foreground: load, compare, branch. Foreground
         // pixels: 8 loads, 8 compares, 7 shifts, 7 ors, a table look-up,
@@ -273,16 +340,30 @@ fn sub_iteration<M: ThinMap>(map: &mut M, ring: &mut [u8], bit: u8) -> u32 {
         tally_per(Op::Branch, 1, fg_count);
         tally_per(Op::Store, 1, row_deleted as usize);
     }
-    deleted
+    (deleted, touched)
 }
 
 /// Iterations on any [`ThinMap`] with a ring of `3 * width` bytes (the
 /// caller checks it), at most `max_iterations` (at least 1).
+///
+/// A sub-iteration decides only the rows whose 3-row neighbourhood changed
+/// since that kind of sub-iteration last decided them (all rows the first
+/// time): the decisions of the other rows could only repeat (a deleted
+/// pixel is background now, a kept one would be kept again), so skipping
+/// them changes no pixel, no count and no iteration number.
 pub(crate) fn thin_map<M: ThinMap>(map: &mut M, ring: &mut [u8], max_iterations: u32) -> ThinStats {
     let mut st = ThinStats::default();
+    let (_, h) = map.dims();
+    let mut todo = [RowSet::all(h); 2];
     loop {
         st.iterations += 1;
-        let d = sub_iteration(map, ring, 1) + sub_iteration(map, ring, 2);
+        let (d1, t1) = sub_iteration(map, ring, 1, &todo[0]);
+        todo[0] = t1;
+        todo[1].add(&t1);
+        let (d2, t2) = sub_iteration(map, ring, 2, &todo[1]);
+        todo[1] = t2;
+        todo[0].add(&t2);
+        let d = d1 + d2;
         st.deleted += d;
         tally(Op::Branch, 1);
         if d == 0 {
