@@ -1927,9 +1927,16 @@ impl Iterator for EdgePoints<'_> {
                 self.pos = (wi + 1) * 16;
                 continue;
             }
-            let v = (word & 3) as u8;
-            let p = self.pos;
-            self.pos += 1;
+            // Straight to the next pixel with a nonzero code (`word != 0`,
+            // so the skip stays inside the word).
+            let skip = word.trailing_zeros() as usize / 2;
+            let v = ((word >> (2 * skip)) & 3) as u8;
+            let p = self.pos + skip;
+            if p >= self.end {
+                self.pos = self.end;
+                break;
+            }
+            self.pos = p + 1;
             if v == NONE {
                 continue;
             }
