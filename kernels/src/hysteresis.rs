@@ -522,6 +522,25 @@ pub(crate) trait CodeMap {
     fn next_strong(&self, x: usize, _y: usize) -> usize {
         x
     }
+    /// Bit `i` set when neighbour `i` of `(x, y)` (the order of
+    /// [`NEIGHBOURS`]) is inside the map and [`WEAK`].
+    #[inline(always)]
+    fn weak_neighbours(&self, x: usize, y: usize) -> u8 {
+        let (w, h) = self.dims();
+        let mut m = 0u8;
+        for (i, &(dx, dy)) in NEIGHBOURS.iter().enumerate() {
+            let (nx, ny) = (x as i32 + dx, y as i32 + dy);
+            if nx >= 0
+                && ny >= 0
+                && (nx as usize) < w
+                && (ny as usize) < h
+                && self.code(nx as usize, ny as usize) == WEAK
+            {
+                m |= 1 << i;
+            }
+        }
+        m
+    }
 }
 
 impl CodeMap for ImageViewMut<'_, u8> {
@@ -664,22 +683,26 @@ pub(crate) fn propagate<M: CodeMap, S: StackWord>(map: &mut M, stack: &mut [S]) 
                     tally(Op::Logic, 1);
                     tally(Op::Shift, 1);
                     tally(Op::AddSub, 1);
-                    for &(dx, dy) in NEIGHBOURS.iter() {
-                        let (nx, ny) = (px + dx, py + dy);
+                    // The weak neighbours, visited in the order of
+                    // `NEIGHBOURS` (visiting one changes only that one, so
+                    // the mask taken first is the mask a neighbour-by-
+                    // neighbour test would see). Per popped pixel: 3 row
+                    // loads, about 16 shifts and logic operations.
+                    let mut weak = map.weak_neighbours(px as usize, py as usize);
+                    tally(Op::Load, 3);
+                    tally(Op::Logic, 8);
+                    tally(Op::Shift, 8);
+                    while weak != 0 {
+                        let i = weak.trailing_zeros() as usize;
+                        weak &= weak - 1;
+                        let (dx, dy) = NEIGHBOURS[i];
+                        let (nxu, nyu) = ((px + dx) as usize, (py + dy) as usize);
                         tally(Op::AddSub, 2);
                         tally(Op::Logic, 2);
-                        tally(Op::Branch, 2);
-                        if nx < 0 || ny < 0 || nx as usize >= w || ny as usize >= h {
-                            continue;
-                        }
-                        let (nxu, nyu) = (nx as usize, ny as usize);
-                        tally(Op::Load, 1);
-                        if map.code(nxu, nyu) != WEAK {
-                            continue;
-                        }
+                        tally(Op::Branch, 1);
                         if top < cap {
                             map.set_code(nxu, nyu, M::EDGE);
-                            stack[top] = S::pack(((ny as u32) << 16) | nx as u32);
+                            stack[top] = S::pack(((nyu as u32) << 16) | nxu as u32);
                             top += 1;
                             st.edges += 1;
                             st.peak_stack = st.peak_stack.max(top as u32);

@@ -894,6 +894,47 @@ impl CodeMap for Packed<'_> {
     fn set_code(&mut self, x: usize, y: usize, v: u8) {
         self.set(x, y, v)
     }
+    /// From the weak (`01`) pairs of the three rows' words: the columns
+    /// `x - 1 ..= x + 1` of a row as bits 0..=2 (0 outside the map; the
+    /// padding pairs past `width` are always `00`).
+    #[inline(always)]
+    fn weak_neighbours(&self, x: usize, y: usize) -> u8 {
+        let weak = |v: u32| v & !(v >> 1) & 0x5555_5555;
+        let (i, b) = (x / 16, x % 16);
+        let row3 = |yy: usize| -> u32 {
+            let Some(row) = self.words.get(yy * self.stride..(yy + 1) * self.stride) else {
+                return 0;
+            };
+            let mid = weak(row.get(i).copied().unwrap_or(0));
+            let at = (mid >> (2 * b)) & 1;
+            let left = match b {
+                0 => i
+                    .checked_sub(1)
+                    .and_then(|j| row.get(j))
+                    .map_or(0, |&v| weak(v) >> 30),
+                _ => mid >> (2 * b - 2),
+            } & 1;
+            let right = match b {
+                15 => row.get(i + 1).map_or(0, |&v| weak(v)),
+                _ => mid >> (2 * b + 2),
+            } & 1;
+            left | at << 1 | right << 2
+        };
+        let up = match y {
+            0 => 0,
+            _ => row3(y - 1),
+        };
+        let (cur, dn) = (row3(y), row3(y + 1));
+        // NEIGHBOURS order: N, NE, E, SE, S, SW, W, NW.
+        ((up >> 1 & 1)
+            | (up >> 2 & 1) << 1
+            | (cur >> 2 & 1) << 2
+            | (dn >> 2 & 1) << 3
+            | (dn >> 1 & 1) << 4
+            | (dn & 1) << 5
+            | (cur & 1) << 6
+            | (up & 1) << 7) as u8
+    }
     /// Skips the words of row `y` that hold no STRONG (`10`) pair.
     #[inline(always)]
     fn next_strong(&self, x: usize, y: usize) -> usize {
@@ -2791,6 +2832,57 @@ mod tests {
     use std::boxed::Box;
     use std::vec;
     use std::vec::Vec;
+
+    /// The packed map's weak-neighbour mask equals the pixel-by-pixel test
+    /// of every neighbour, at word boundaries, row ends and the map's
+    /// edges (widths 15, 16, 17, 32 and 33).
+    #[test]
+    fn packed_weak_neighbours_match_the_codes() {
+        for w in [15usize, 16, 17, 32, 33] {
+            let (h, stride) = (5usize, w.div_ceil(16));
+            let mut words = vec![0u32; stride * h];
+            let mut s = 0x1234_5678u32 ^ w as u32;
+            let mut p = Packed {
+                words: &mut words,
+                width: w,
+                height: h,
+                stride,
+            };
+            for y in 0..h {
+                for x in 0..w {
+                    s = s.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+                    p.set(x, y, (s >> 30) as u8);
+                }
+            }
+            for y in 0..h {
+                for x in 0..w {
+                    let mut want = 0u8;
+                    let around = [
+                        (0, -1),
+                        (1, -1),
+                        (1, 0),
+                        (1, 1),
+                        (0, 1),
+                        (-1, 1),
+                        (-1, 0),
+                        (-1, -1),
+                    ];
+                    for (i, (dx, dy)) in around.into_iter().enumerate() {
+                        let (nx, ny) = (x as i32 + dx, y as i32 + dy);
+                        if nx >= 0
+                            && ny >= 0
+                            && (nx as usize) < w
+                            && (ny as usize) < h
+                            && p.get(nx as usize, ny as usize) == hysteresis::WEAK
+                        {
+                            want |= 1 << i;
+                        }
+                    }
+                    assert_eq!(p.weak_neighbours(x, y), want, "w {w} ({x}, {y})");
+                }
+            }
+        }
+    }
 
     const TW: usize = 40;
     const TH: usize = 30;
