@@ -55,8 +55,11 @@
 //!   configuration's code paths (the demo taps' constant loop and the
 //!   generic loop), so the map cannot split code bytes per configuration.
 //! * **Pareto front**: a configuration with a cost is on it when no other
-//!   has both a lower or equal cost and a higher or equal `f1_worst`, one
-//!   of them strictly.
+//!   is at least as good on all three of cost, `f1_worst` and
+//!   `lost_frames` and strictly better on one (edge accuracy alone would
+//!   put a configuration that loses the tape in more frames on the front).
+//! * **"More accurate"** (for the recommendation): the higher `f1_worst`;
+//!   on a tie the fewer `lost_frames`, then the lower mean `|d rho|`.
 //! * **Recommendation** for a part of `clock_mhz` at `fps` frames per
 //!   second, QVGA: the budget is `clock_mhz * 10^6 / (fps * 320 * 240)`
 //!   instructions per pixel at one instruction per cycle (instructions are
@@ -492,18 +495,37 @@ pub fn evaluate(
 /// let mut v = vec![p("a", 100.0, 0.90), p("b", 200.0, 0.96), p("c", 250.0, 0.95)];
 /// mark_front(&mut v);
 /// assert_eq!(v.iter().map(|p| p.pareto).collect::<Vec<_>>(), [true, true, false]);
+/// // As accurate at the edges but cheaper: on the front only while it
+/// // loses no more frames.
+/// let mut w = vec![p("d", 200.0, 0.96), p("e", 190.0, 0.96)];
+/// w[1].lost_frames = 3;
+/// mark_front(&mut w);
+/// assert!(w[0].pareto && w[1].pareto);
+/// w[1].lost_frames = 0;
+/// mark_front(&mut w);
+/// assert!(!w[0].pareto && w[1].pareto);
 /// ```
 pub fn mark_front(points: &mut [MapPoint]) {
-    let costs: Vec<Option<(f64, f64)>> = points
+    let figs: Vec<Option<(f64, f64, usize)>> = points
         .iter()
-        .map(|p| p.m4_instr_per_px.map(|c| (c, p.f1_worst)))
+        .map(|p| p.m4_instr_per_px.map(|c| (c, p.f1_worst, p.lost_frames)))
         .collect();
     for (i, p) in points.iter_mut().enumerate() {
-        let Some((c, f)) = costs[i] else { continue };
-        p.pareto = !costs.iter().enumerate().any(|(j, o)| {
-            o.is_some_and(|(oc, of)| j != i && oc <= c && of >= f && (oc < c || of > f))
+        let Some((c, f, l)) = figs[i] else { continue };
+        p.pareto = !figs.iter().enumerate().any(|(j, o)| {
+            o.is_some_and(|(oc, of, ol)| {
+                j != i && oc <= c && of >= f && ol <= l && (oc < c || of > f || ol < l)
+            })
         });
     }
+}
+
+/// The order of "more accurate" (module docs): `Greater` when `a` is.
+fn accuracy(a: &MapPoint, b: &MapPoint) -> std::cmp::Ordering {
+    a.f1_worst
+        .total_cmp(&b.f1_worst)
+        .then(b.lost_frames.cmp(&a.lost_frames))
+        .then(b.line_rho_err_px_mean.total_cmp(&a.line_rho_err_px_mean))
 }
 
 /// The recommendation for a QVGA part (module docs): `(name, words)`.
@@ -520,7 +542,7 @@ pub fn recommend(points: &[MapPoint], budget: f64) -> (Option<String>, String) {
     if let Some(p) = good
         .iter()
         .filter(|p| cost(p) <= budget)
-        .max_by(|a, b| a.f1_worst.total_cmp(&b.f1_worst))
+        .max_by(|a, b| accuracy(a, b))
     {
         return (
             Some(p.name.clone()),
@@ -549,7 +571,7 @@ pub fn recommend(points: &[MapPoint], budget: f64) -> (Option<String>, String) {
     }
     let best = front
         .iter()
-        .max_by(|a, b| a.f1_worst.total_cmp(&b.f1_worst))
+        .max_by(|a, b| accuracy(a, b))
         .expect("front is not empty");
     (
         Some(best.name.clone()),
@@ -713,5 +735,11 @@ mod tests {
         let mut w = vec![p("a", 60.0, 0.90), p("b", 200.0, 0.93)];
         mark_front(&mut w);
         assert_eq!(recommend(&w, 72.9).0.as_deref(), Some("b"));
+        // Equal edge figures: the one that loses fewer frames, though dearer.
+        let mut t = vec![p("fine", 260.0, 0.93), p("coarse", 250.0, 0.93)];
+        t[1].lost_frames = 22;
+        mark_front(&mut t);
+        assert!(t[0].pareto && t[1].pareto);
+        assert_eq!(recommend(&t, 72.9).0.as_deref(), Some("fine"));
     }
 }
