@@ -43,8 +43,8 @@ pub fn cases(packed: &[GoldenCase]) -> Vec<GoldenCase> {
         .map(|c| {
             let w = c.inputs[0].width * c.inputs[0].channels;
             let pad = if w % 2 == 1 { 4 } else { 5 };
-            let expected = run_vector(&c.kernel, &c.params, &c.inputs, pad)
-                .expect("padded golden cases run");
+            let expected =
+                run_vector(&c.kernel, &c.params, &c.inputs, pad).expect("padded golden cases run");
             GoldenCase {
                 id: format!("{}.pad{pad}", c.id),
                 comment: format!(
@@ -160,8 +160,7 @@ pub fn run_vector(
                 "gradient.angles" => fixsight::gradient::angles,
                 "gradient.direction" => {
                     let mut d = lay_out("dir", Elem::U8, &bx, pad).to_u8()?;
-                    fixsight::gradient::direction(&vx, &vy, &mut view_mut!(d, bx))
-                        .map_err(err)?;
+                    fixsight::gradient::direction(&vx, &vy, &mut view_mut!(d, bx)).map_err(err)?;
                     let b = Blob::from_u8("dir", bx.stride, bx.height, 1, &d);
                     return Ok(vec![unpad(&b, bx.width, 1)?]);
                 }
@@ -261,9 +260,7 @@ mod tests {
         let scenes = crate::scene::demo_scenes();
         crate::families::FAMILIES
             .iter()
-            .filter(|f| {
-                ["filter", "gradient", "nms", "hysteresis", "thinning"].contains(&f.name)
-            })
+            .filter(|f| ["filter", "gradient", "nms", "hysteresis", "thinning"].contains(&f.name))
             .flat_map(|f| (f.golden_cases)(&scenes))
             .collect()
     }
@@ -292,7 +289,12 @@ mod tests {
     #[test]
     fn unknown_kernels_are_refused() {
         let b = Blob::from_u8("src", 4, 2, 1, &[0; 8]);
-        let e = run_vector("warp.pixel_map", &serde_json::json!({}), &[b.clone()], 3);
+        let e = run_vector(
+            "warp.pixel_map",
+            &serde_json::json!({}),
+            std::slice::from_ref(&b),
+            3,
+        );
         assert!(e.unwrap_err().contains("no runner for padded rows"));
         let e = run_vector(crate::filter::STREAM_ID, &serde_json::json!({}), &[b], 3);
         assert!(e.is_err());

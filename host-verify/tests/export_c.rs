@@ -133,7 +133,9 @@ fn exported_vectors_check_a_c_port_on_the_host() {
     let (ok, log) = build_and_run(&d, &["-DOVERRUN=1"]);
     assert!(!ok, "{log}");
     assert!(
-        log.contains("FAIL filter.binomial5.clamp.floor.pad4 dst padding y 0 element 0 overwritten 23"),
+        log.contains(
+            "FAIL filter.binomial5.clamp.floor.pad4 dst padding y 0 element 0 overwritten 23"
+        ),
         "{log}"
     );
     assert!(

@@ -341,6 +341,22 @@ fn without_a_kernel_the_warp_sweep_runs_as_before() {
     let rows: serde_json::Value =
         serde_json::from_str(&fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
     assert_eq!(rows.as_array().unwrap().len(), 9 * 6);
-    assert!(out.join("sweep.md").is_file() && out.join("sweep.png").is_file());
+    assert!(out.join("sweep.md").is_file());
+    // Two labelled panels (the plot code of `sweep --kernel`): six coloured
+    // lines, and dark text pixels in the title band above each panel.
+    let png = image::open(out.join("sweep.png")).unwrap().to_rgb8();
+    assert_eq!(png.dimensions(), (1200, 520));
+    let coloured = png
+        .pixels()
+        .filter(|p| p[0] != p[1] || p[1] != p[2])
+        .count();
+    assert!(coloured > 2000, "{coloured} coloured pixels");
+    for x0 in [0, 600] {
+        let dark = (x0..x0 + 600)
+            .flat_map(|x| (0..30).map(move |y| (x, y)))
+            .filter(|&(x, y)| png.get_pixel(x, y)[0] < 100)
+            .count();
+        assert!(dark > 50, "no title text above the panel at x {x0}: {dark}");
+    }
     fs::remove_dir_all(d).unwrap();
 }

@@ -89,10 +89,8 @@ fn main() {
         // be ignored: the vector would run under the wrong rules.
         for key in v.as_object().expect("vector is an object").keys() {
             assert!(
-                [
-                    "id", "comment", "kernel", "params", "inputs", "expected", "row_pad"
-                ]
-                .contains(&key.as_str()),
+                ["id", "comment", "kernel", "params", "inputs", "expected", "row_pad"]
+                    .contains(&key.as_str()),
                 "vector {id}: unknown field `{key}`"
             );
         }

@@ -95,7 +95,10 @@ fn case(
         })
     };
     let expected = if kernel == STREAM_ID {
-        let (p, i) = (FilterParams::of(f, output), Blob::from_u8("src", w, h, 1, &img));
+        let (p, i) = (
+            FilterParams::of(f, output),
+            Blob::from_u8("src", w, h, 1, &img),
+        );
         let p = serde_json::to_value(p).expect("params serialise");
         run_vector(kernel, &p, &[i])
             .expect("golden case sizes are valid")
@@ -176,7 +179,10 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         if tag == "wide317" {
             v.push(case(
                 format!("{STREAM_ID}.binomial5.clamp.{tag}"),
-                format!("binomial5 taps through the row stream (5-row ring) on {}", g.at),
+                format!(
+                    "binomial5 taps through the row stream (5-row ring) on {}",
+                    g.at
+                ),
                 STREAM_ID,
                 &filter::binomial5(Border::Clamp),
                 OutputParam::U8,
@@ -288,9 +294,7 @@ pub fn run_vector(
         let (img, w, h) = (src.to_u8()?, src.width, src.height);
         return Ok(vec![match output {
             OutputParam::U8 => Blob::from_u8("dst", w, h, 1, &run_stream::<u8>(&f, &img, w, h)?),
-            OutputParam::I16 => {
-                Blob::from_i16("dst", w, h, 1, &run_stream::<i16>(&f, &img, w, h)?)
-            }
+            OutputParam::I16 => Blob::from_i16("dst", w, h, 1, &run_stream::<i16>(&f, &img, w, h)?),
         }]);
     }
     Ok(vec![run_blob(

@@ -5,9 +5,7 @@
 //! (u8), output `dst` (u8 for smoothing, i16 for derivatives).
 
 use super::{input, output, Arena, Buf, Fail, Img, Params};
-use fixsight::filter::{
-    self, Border, FilterOutput, FilterStream, SeparableFilter, Taps, MAX_TAPS,
-};
+use fixsight::filter::{self, Border, FilterOutput, FilterStream, SeparableFilter, Taps, MAX_TAPS};
 
 fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, Fail> {
     let list = p.ints(key)?;
