@@ -18,7 +18,8 @@
 //!       "kernel": "filter.binomial5",                 kernel id: <family>.<function or preset>
 //!       "params": { ... },                            kernel-specific, see the family's module docs
 //!       "inputs":   [ <image>, ... ],
-//!       "expected": [ <image>, ... ]
+//!       "expected": [ <image>, ... ],
+//!       "row_pad": 4                                  optional, 1..=64: padded rows (below)
 //!     }
 //!   ]
 //! }
@@ -30,6 +31,15 @@
 //! (stride = `width * channels`), channels interleaved, each element
 //! little-endian; its length is exactly `width * height * channels *
 //! size_of(elem)`.
+//!
+//! A vector with `row_pad` is run on padded rows: every image laid out with
+//! rows of `width * channels + row_pad` elements, input padding bytes
+//! [`IN_PAD_BYTE`], output buffers filled with [`OUT_PAD_BYTE`] before the
+//! call, whose padding must hold it afterwards ([`padded`], [`out_buffer`],
+//! [`unpad`]; the runner is [`crate::padded`], the exact rules are in
+//! `golden/README.md`, "Padded rows"). The files stay packed; packed
+//! vectors have no `row_pad` field, so they read as before, and a reader
+//! built before the field existed rejects it (unknown fields are errors).
 //!
 //! Limits (checked with overflow-free arithmetic before anything is read or
 //! allocated; a vector that breaks one fails, with the reason): width and

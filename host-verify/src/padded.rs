@@ -300,6 +300,36 @@ mod tests {
         assert!(e.is_err());
     }
 
+    /// The manifest reader takes `row_pad` 1..=64 and refuses 0, 65 and a
+    /// field it does not know (a reader must not run such a vector packed).
+    #[test]
+    fn manifest_row_pad_is_checked() {
+        let m = |extra: &str| {
+            format!(
+                r#"{{"format": "fixsight-golden", "version": 1, "vectors": [{{"id": "x.y",
+                "comment": "", "kernel": "x.y", "params": {{}}, "inputs": [],
+                "expected": [{{"name": "a", "file": "a.bin", "elem": "u8", "width": 1,
+                "height": 1, "channels": 1, "sha256": "{}"}}]{extra}}}]}}"#,
+                "0".repeat(64)
+            )
+        };
+        let path = std::path::Path::new("manifest.json");
+        let parse = |extra: &str| crate::golden::parse_manifest(&m(extra), path);
+        assert_eq!(parse("").unwrap().vectors[0].row_pad, None);
+        assert_eq!(
+            parse(r#", "row_pad": 64"#).unwrap().vectors[0].row_pad,
+            Some(64)
+        );
+        for bad in [r#", "row_pad": 0"#, r#", "row_pad": 65"#] {
+            assert!(
+                parse(bad).unwrap_err().to_string().contains("row_pad"),
+                "{bad}"
+            );
+        }
+        let e = parse(r#", "stride": 41"#).unwrap_err().to_string();
+        assert!(e.contains("unknown field `stride`"), "{e}");
+    }
+
     /// A buffer whose padding a kernel overwrote is rejected, naming the
     /// element.
     #[test]

@@ -20,6 +20,15 @@ fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, 
     Ok(Taps::new(&c[..list.len()], shift)?)
 }
 
+/// The filter of `filter.separable` and `filter.filter_stream` params.
+fn custom(p: &Params) -> Result<SeparableFilter, Fail> {
+    Ok(filter::separable(
+        taps(p, "h", "h_shift")?,
+        taps(p, "v", "v_shift")?,
+        border(p)?,
+    )?)
+}
+
 pub(super) fn border(p: &Params) -> Result<Border, Fail> {
     match p.get("border") {
         Some(super::Param::Str("clamp")) => Ok(Border::Clamp),
@@ -53,11 +62,7 @@ pub fn separable(
     outs: &mut [Img<'_>],
     arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let f = filter::separable(
-        taps(p, "h", "h_shift")?,
-        taps(p, "v", "v_shift")?,
-        border(p)?,
-    )?;
+    let f = custom(p)?;
     let src = input(ins, 0)?;
     let dst = output(outs, 0)?;
     match p.str("output")? {
@@ -123,11 +128,7 @@ pub fn filter_stream(
     outs: &mut [Img<'_>],
     arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let f = filter::separable(
-        taps(p, "h", "h_shift")?,
-        taps(p, "v", "v_shift")?,
-        border(p)?,
-    )?;
+    let f = custom(p)?;
     let src = input(ins, 0)?;
     let dst = output(outs, 0)?;
     if (dst.width, dst.height) != (src.width, src.height) {
