@@ -6,9 +6,18 @@
  * provides golden_port_run() and golden_port_print(), and call
  * golden_check_all(). C99, no allocation, no stdio.
  *
+ * golden_port_run() writes expected image k of vector v into `out` in the
+ * golden layout (packed rows). For a vector with v->row_pad > 0 (padded
+ * rows, golden/README.md) it lays its inputs out with rows of
+ * width * channels + row_pad elements, padding bytes GOLDEN_IN_PAD, runs
+ * its kernel on them, and writes into `out` with that same stride: `out`
+ * arrives filled with GOLDEN_OUT_PAD bytes, and the padding must still hold
+ * them afterwards.
+ *
  * For every vector and every expected image it prints one line:
  *   pass <id> <image>
  *   FAIL <id> <image> x <x> y <y> channel <c> expected <e> got <g> differing <n> of <total>
+ *   FAIL <id> <image> padding y <y> element <k> overwritten <n>
  *   not-claimed <id>
  * then "summary passed <p> failed <f> not-claimed <n>" (passed and failed
  * count expected images, not-claimed counts vectors). Returns 0 when no
@@ -67,8 +76,13 @@ int32_t golden_check_all(void) {
         for (int32_t k = 0; k < v->nexpected; k++) {
             const golden_image *want = &v->expected[k];
             int32_t at = 0;
-            uint32_t i;
-            for (i = 0; i < want->nbytes; i++) out_buf[i] = (uint8_t)~want->bytes[i];
+            uint32_t i, sz = (uint32_t)elem_size(want->elem);
+            uint32_t row = (uint32_t)(want->width * want->channels);
+            uint32_t stride = row + (uint32_t)v->row_pad;
+            if (v->row_pad == 0)
+                for (i = 0; i < want->nbytes; i++) out_buf[i] = (uint8_t)~want->bytes[i];
+            else
+                for (i = 0; i < stride * (uint32_t)want->height * sz; i++) out_buf[i] = (uint8_t)GOLDEN_OUT_PAD;
             int32_t r = golden_port_run(v, k, out_buf);
             if (r == 1) {
                 if (k == 0) {
@@ -80,20 +94,42 @@ int32_t golden_check_all(void) {
                 }
                 break;
             }
-            uint32_t count = want->nbytes / (uint32_t)elem_size(want->elem);
-            uint32_t differing = 0, first = 0;
+            uint32_t count = want->nbytes / sz;
+            uint32_t differing = 0, first = 0, padded = 0, pad_y = 0, pad_k = 0;
             for (i = 0; i < count; i++) {
-                if (element(out_buf, want->elem, i) != element(want->bytes, want->elem, i)) {
+                uint32_t got_at = (i / row) * stride + i % row;
+                if (element(out_buf, want->elem, got_at) != element(want->bytes, want->elem, i)) {
                     if (differing == 0) first = i;
                     differing++;
                 }
             }
-            if (r != 0 || differing != 0) {
+            for (i = 0; i < (stride - row) * (uint32_t)want->height; i++) {
+                uint32_t y = i / (stride - row), e = i % (stride - row), b;
+                for (b = 0; b < sz; b++)
+                    if (out_buf[(y * stride + row + e) * sz + b] != (uint8_t)GOLDEN_OUT_PAD) break;
+                if (b < sz) {
+                    if (padded == 0) {
+                        pad_y = y;
+                        pad_k = e;
+                    }
+                    padded++;
+                }
+            }
+            if (r != 0 || differing != 0 || padded != 0) {
                 failed++;
                 print_str(line, &at, "FAIL ");
                 print_str(line, &at, v->id);
                 print_str(line, &at, " ");
                 print_str(line, &at, want->name);
+            }
+            if (r == 0 && differing == 0 && padded != 0) {
+                print_str(line, &at, " padding y ");
+                print_int(line, &at, pad_y);
+                print_str(line, &at, " element ");
+                print_int(line, &at, pad_k);
+                print_str(line, &at, " overwritten ");
+                print_int(line, &at, padded);
+            } else if (r != 0 || differing != 0) {
                 if (r != 0) {
                     print_str(line, &at, " port returned ");
                     print_int(line, &at, r);
@@ -109,7 +145,7 @@ int32_t golden_check_all(void) {
                     print_str(line, &at, " expected ");
                     print_int(line, &at, element(want->bytes, want->elem, first));
                     print_str(line, &at, " got ");
-                    print_int(line, &at, element(out_buf, want->elem, first));
+                    print_int(line, &at, element(out_buf, want->elem, (first / row) * stride + first % row));
                     print_str(line, &at, " differing ");
                     print_int(line, &at, differing);
                     print_str(line, &at, " of ");

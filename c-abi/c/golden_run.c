@@ -105,90 +105,127 @@ static int p_border(const golden_vector *v, int32_t *out) {
 typedef struct img {
     void *p;
     int32_t w, h, ch, elem;
-    uint32_t n; /* elements */
+    int32_t s;  /* stride in elements: w * ch + the vector's row_pad */
+    uint32_t n; /* elements of the buffer: s * h */
 } img;
 
 static uint32_t elem_size(int32_t e) {
     return e == GOLDEN_U8 ? 1u : (e == GOLDEN_I16 || e == GOLDEN_U16) ? 2u : 4u;
 }
 
-/* Decodes little-endian file bytes into a typed array in the arena. */
-static int decode(const golden_image *g, img *out) {
+/* A buffer shaped like `g` with `pad` elements after every row, every byte
+ * `fill`. */
+static int shape(const golden_image *g, int32_t pad, uint8_t fill, img *out) {
     uint32_t sz = elem_size(g->elem);
     out->w = g->width;
     out->h = g->height;
     out->ch = g->channels;
     out->elem = g->elem;
-    out->n = (uint32_t)g->width * (uint32_t)g->height * (uint32_t)g->channels;
-    out->p = alloc(out->n * sz);
-    if (!out->p || out->n * sz != g->nbytes) return -1;
-    for (uint32_t i = 0; i < out->n; i++) {
-        const uint8_t *b = g->bytes + i * sz;
-        uint32_t u = 0;
-        for (uint32_t k = 0; k < sz; k++) u |= (uint32_t)b[k] << (8u * k);
-        if (sz == 1) ((uint8_t *)out->p)[i] = (uint8_t)u;
-        else if (sz == 2) ((uint16_t *)out->p)[i] = (uint16_t)u;
-        else ((uint32_t *)out->p)[i] = u;
-    }
-    return 0;
-}
-
-/* An output shaped like the expected image, every byte 0xA5. */
-static int blank(const golden_image *g, img *out) {
-    uint32_t sz = elem_size(g->elem);
-    out->w = g->width;
-    out->h = g->height;
-    out->ch = g->channels;
-    out->elem = g->elem;
-    out->n = (uint32_t)g->width * (uint32_t)g->height * (uint32_t)g->channels;
+    out->s = g->width * g->channels + pad;
+    out->n = (uint32_t)out->s * (uint32_t)g->height;
     out->p = alloc(out->n * sz);
     if (!out->p) return -1;
-    memset(out->p, 0xA5, out->n * sz);
+    memset(out->p, fill, out->n * sz);
     return 0;
 }
 
-/* Index of the first element whose little-endian bytes differ, or -1. */
+/* Element `i` (row-major, packed) of an image's little-endian file bytes,
+ * stored at element `at` of `p`. */
+static void put(void *p, uint32_t sz, uint32_t at, const uint8_t *b) {
+    uint32_t u = 0;
+    for (uint32_t k = 0; k < sz; k++) u |= (uint32_t)b[k] << (8u * k);
+    if (sz == 1) ((uint8_t *)p)[at] = (uint8_t)u;
+    else if (sz == 2) ((uint16_t *)p)[at] = (uint16_t)u;
+    else ((uint32_t *)p)[at] = u;
+}
+
+/* Decodes little-endian file bytes into a typed array in the arena, rows
+ * `pad` elements apart more than packed, padding bytes GOLDEN_IN_PAD. */
+static int decode(const golden_image *g, int32_t pad, img *out) {
+    uint32_t sz = elem_size(g->elem), row = (uint32_t)(g->width * g->channels);
+    if (shape(g, pad, (uint8_t)GOLDEN_IN_PAD, out)) return -1;
+    if (row * (uint32_t)g->height * sz != g->nbytes) return -1;
+    for (uint32_t y = 0; y < (uint32_t)g->height; y++)
+        for (uint32_t x = 0; x < row; x++)
+            put(out->p, sz, y * (uint32_t)out->s + x, g->bytes + (y * row + x) * sz);
+    return 0;
+}
+
+/* What an output buffer holds before a call: 0xA5 bytes, or GOLDEN_OUT_PAD
+ * for a padded-row vector (its padding must still hold it afterwards). */
+static uint8_t out_fill(int32_t pad) { return pad ? (uint8_t)GOLDEN_OUT_PAD : 0xA5u; }
+
+/* An output shaped like the expected image. */
+static int blank(const golden_image *g, int32_t pad, img *out) {
+    return shape(g, pad, out_fill(pad), out);
+}
+
+/* Little-endian byte `k` of element `i` of a typed buffer. */
+static uint8_t byte_of(const img *b, uint32_t sz, uint32_t i, uint32_t k) {
+    uint32_t u = sz == 1   ? ((const uint8_t *)b->p)[i]
+                 : sz == 2 ? ((const uint16_t *)b->p)[i]
+                           : ((const uint32_t *)b->p)[i];
+    return (uint8_t)(u >> (8u * k));
+}
+
+/* Index (packed, row-major) of the first element whose little-endian bytes
+ * differ, or -1. */
 static int64_t first_difference(const img *got, const golden_image *want) {
-    uint32_t sz = elem_size(want->elem);
-    for (uint32_t i = 0; i < got->n; i++) {
-        uint32_t u = sz == 1   ? ((const uint8_t *)got->p)[i]
-                     : sz == 2 ? ((const uint16_t *)got->p)[i]
-                               : ((const uint32_t *)got->p)[i];
-        for (uint32_t k = 0; k < sz; k++)
-            if ((uint8_t)(u >> (8u * k)) != want->bytes[i * sz + k]) return (int64_t)i;
-    }
+    uint32_t sz = elem_size(want->elem), row = (uint32_t)(got->w * got->ch);
+    for (uint32_t y = 0; y < (uint32_t)got->h; y++)
+        for (uint32_t x = 0; x < row; x++)
+            for (uint32_t k = 0; k < sz; k++)
+                if (byte_of(got, sz, y * (uint32_t)got->s + x, k) != want->bytes[(y * row + x) * sz + k])
+                    return (int64_t)(y * row + x);
+    return -1;
+}
+
+/* The first padding element (row * stride + its index after the row's
+ * pixels) that no longer holds GOLDEN_OUT_PAD bytes, or -1. */
+static int64_t padding_touched(const img *got, int32_t *row_at) {
+    uint32_t sz = elem_size(got->elem), row = (uint32_t)(got->w * got->ch);
+    for (uint32_t y = 0; y < (uint32_t)got->h; y++)
+        for (uint32_t x = row; x < (uint32_t)got->s; x++)
+            for (uint32_t k = 0; k < sz; k++)
+                if (byte_of(got, sz, y * (uint32_t)got->s + x, k) != (uint8_t)GOLDEN_OUT_PAD) {
+                    *row_at = (int32_t)y;
+                    return (int64_t)(x - row);
+                }
     return -1;
 }
 
 static fxs_u8_view u8v(const img *b) {
-    fxs_u8_view x = {(const uint8_t *)b->p, b->n, b->w, b->h, b->w * b->ch};
+    fxs_u8_view x = {(const uint8_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 static fxs_u8_view_mut u8m(const img *b) {
-    fxs_u8_view_mut x = {(uint8_t *)b->p, b->n, b->w, b->h, b->w * b->ch};
+    fxs_u8_view_mut x = {(uint8_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 static fxs_i16_view i16v(const img *b) {
-    fxs_i16_view x = {(const int16_t *)b->p, b->n, b->w, b->h, b->w};
+    fxs_i16_view x = {(const int16_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 static fxs_i16_view_mut i16m(const img *b) {
-    fxs_i16_view_mut x = {(int16_t *)b->p, b->n, b->w, b->h, b->w};
+    fxs_i16_view_mut x = {(int16_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 static fxs_u16_view u16v(const img *b) {
-    fxs_u16_view x = {(const uint16_t *)b->p, b->n, b->w, b->h, b->w};
+    fxs_u16_view x = {(const uint16_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 static fxs_u16_view_mut u16m(const img *b) {
-    fxs_u16_view_mut x = {(uint16_t *)b->p, b->n, b->w, b->h, b->w};
+    fxs_u16_view_mut x = {(uint16_t *)b->p, b->n, b->w, b->h, b->s};
     return x;
 }
 
-/* Copies input 0 to output 0 (in-place kernels). */
+/* Copies the pixels of input 0 to output 0, row by row, leaving the
+ * output's padding as it is (in-place kernels). */
 static int copy_in(const img *in, const img *out) {
-    if (in->n != out->n || in->elem != out->elem) return -1;
-    memcpy(out->p, in->p, in->n * elem_size(in->elem));
+    uint32_t sz = elem_size(in->elem), row = (uint32_t)(in->w * in->ch) * sz;
+    if (in->n != out->n || in->s != out->s || in->h != out->h || in->elem != out->elem) return -1;
+    for (uint32_t y = 0; y < (uint32_t)in->h; y++)
+        memcpy((uint8_t *)out->p + y * (uint32_t)out->s * sz, (const uint8_t *)in->p + y * (uint32_t)in->s * sz, row);
     return 0;
 }
 
@@ -278,11 +315,11 @@ static fxs_status stream_filter(const golden_vector *v, const img *in, const img
     TRY(fxs_filter_stream_init(&st, &f, w, h, ring, (uintptr_t)(rows * w), acc, (uintptr_t)w));
     for (y = 0; y <= h; y++) {
         for (;;) {
-            const uint8_t *row = (const uint8_t *)in[0].p + y * w;
+            const uint8_t *row = (const uint8_t *)in[0].p + y * in[0].s;
             /* the call that reports the end writes nothing: any row will do */
             void *o = got >= h ? spare
-                      : wide   ? (void *)((int16_t *)out[0].p + got * w)
-                               : (void *)((uint8_t *)out[0].p + got * w);
+                      : wide   ? (void *)((int16_t *)out[0].p + got * out[0].s)
+                               : (void *)((uint8_t *)out[0].p + got * out[0].s);
             if (y < h)
                 TRY(wide ? fxs_filter_stream_push_i16(&st, row, (uintptr_t)w, (int16_t *)o, (uintptr_t)w, &at)
                          : fxs_filter_stream_push_u8(&st, row, (uintptr_t)w, (uint8_t *)o, (uintptr_t)w, &at));
@@ -366,13 +403,13 @@ static fxs_status stream_suppress(const golden_vector *v, const img *in, const i
     NEED(mr && dr && spare, "arena full");
     TRY(fxs_nms_stream_init(&st, w, h, mr, 3u * (uintptr_t)w, dr, 3u * (uintptr_t)w));
     for (y = 0; y < h; y++) {
-        TRY(fxs_nms_stream_push(&st, (const uint16_t *)in[0].p + y * w, (uintptr_t)w,
-                                (const uint8_t *)in[1].p + y * w, (uintptr_t)w,
-                                (uint16_t *)out[0].p + got * w, (uintptr_t)w, &at));
+        TRY(fxs_nms_stream_push(&st, (const uint16_t *)in[0].p + y * in[0].s, (uintptr_t)w,
+                                (const uint8_t *)in[1].p + y * in[1].s, (uintptr_t)w,
+                                (uint16_t *)out[0].p + got * out[0].s, (uintptr_t)w, &at));
         if (at >= 0) got++;
     }
     do { /* the call that reports the end writes nothing: any row will do */
-        TRY(fxs_nms_stream_flush(&st, got < h ? (uint16_t *)out[0].p + got * w : spare, (uintptr_t)w, &at));
+        TRY(fxs_nms_stream_flush(&st, got < h ? (uint16_t *)out[0].p + got * out[0].s : spare, (uintptr_t)w, &at));
         if (at >= 0) got++;
     } while (at >= 0);
     NEED(got == h, "stream emitted too few rows");
@@ -442,7 +479,7 @@ static fxs_status run_edges(const golden_vector *v, const img *in, const img *ou
     static const int16_t s[9] = {1, 16, 91, 240, 328, 240, 91, 16, 1};
     int32_t w = in[0].w, h = in[0].h, n = w * h, stack_len;
     fxs_filter fx, fy;
-    img gx = {0, w, h, 1, GOLDEN_I16, (uint32_t)n}, gy = gx, mag = gx, dir = gx, sup = gx;
+    img gx = {0, w, h, 1, GOLDEN_I16, w, (uint32_t)n}, gy = gx, mag = gx, dir = gx, sup = gx;
     uint16_t low, high;
     int32_t *row = alloc(4u * (uint32_t)w);
     uint8_t *scratch = alloc(3u * (uint32_t)w);
@@ -1096,6 +1133,7 @@ static fxs_status run_grid_stream(const golden_vector *v, const img *in, const i
     X(filter_scharr_x, "filter.scharr_x", run_filter, stream_filter)                              \
     X(filter_scharr_y, "filter.scharr_y", run_filter, stream_filter)                              \
     X(filter_separable, "filter.separable", run_filter, stream_filter)                            \
+    X(filter_filter_stream, "filter.filter_stream", stream_filter, run_filter)                    \
     X(gradient_magnitude_l1, "gradient.magnitude_l1", run_magnitude_l1, 0)                        \
     X(gradient_magnitude_l2_approx, "gradient.magnitude_l2_approx", run_magnitude_l2_approx, 0)   \
     X(gradient_magnitude_l2_round, "gradient.magnitude_l2_round", run_magnitude_l2_round, 0)      \
@@ -1195,8 +1233,8 @@ static int run_vector(int32_t index, const golden_vector *v) {
     uint32_t win = 0xFFFFFFFFu, stack = 0;
     const char *status = "pass";
     fxs_status s = FXS_OK;
-    int64_t at = -1;
-    int32_t bad_image = -1, pass2 = 0;
+    int64_t at = -1, pad_at = -1;
+    int32_t bad_image = -1, pass2 = 0, pad_row = 0;
     for (int32_t k = 0; k < K_COUNT; k++)
         if (strcmp(KERNELS[k].id, v->kernel) == 0) {
             run = KERNELS[k].run;
@@ -1209,19 +1247,23 @@ static int run_vector(int32_t index, const golden_vector *v) {
         status = "ERROR";
     } else {
         for (int32_t i = 0; i < v->ninputs; i++)
-            if (decode(&v->inputs[i], &in[i])) status = "ERROR";
+            if (decode(&v->inputs[i], v->row_pad, &in[i])) status = "ERROR";
         for (int32_t i = 0; i < v->nexpected; i++)
-            if (blank(&v->expected[i], &out[i])) status = "ERROR";
+            if (blank(&v->expected[i], v->row_pad, &out[i])) status = "ERROR";
         if (status[0] == 'p') {
             s = measured(run, v, in, out, &win, &stack);
             for (pass2 = 0; s == FXS_OK && bad_image < 0; pass2++) {
                 for (int32_t i = 0; i < v->nexpected && bad_image < 0; i++) {
                     at = first_difference(&out[i], &v->expected[i]);
+                    if (at < 0) {
+                        pad_at = padding_touched(&out[i], &pad_row);
+                        at = pad_at;
+                    }
                     if (at >= 0) bad_image = i;
                 }
                 if (pass2 == 1 || !alt) break;
                 for (int32_t i = 0; i < v->nexpected; i++)
-                    memset(out[i].p, 0xA5, out[i].n * elem_size(out[i].elem));
+                    memset(out[i].p, out_fill(v->row_pad), out[i].n * elem_size(out[i].elem));
                 s = alt(v, in, out);
             }
             if (s != FXS_OK) status = "ERROR";
@@ -1247,6 +1289,15 @@ static int run_vector(int32_t index, const golden_vector *v) {
     golden_print_int(stack);
     if (s != FXS_OK) {
         detail_status(s);
+        if (pass2 == 1) say(" (second C path)");
+    } else if (bad_image >= 0 && pad_at >= 0) {
+        say(" output `");
+        say(v->expected[bad_image].name);
+        say("`: padding element ");
+        golden_print_int(pad_at);
+        say(" after row ");
+        golden_print_int(pad_row);
+        say(" was overwritten");
         if (pass2 == 1) say(" (second C path)");
     } else if (bad_image >= 0) {
         say(" output `");

@@ -3,7 +3,8 @@
  * `fixsight-verify golden export-c` and the C ABI's tests generate from a
  * golden folder (host-verify/src/golden_c.rs). Images hold their file
  * bytes: little-endian elements, packed rows, channels interleaved
- * (golden/README.md). C99, stdint.h only.
+ * (golden/README.md); a vector's row_pad says how a runner lays them out.
+ * C99, stdint.h only.
  */
 #ifndef FIXSIGHT_GOLDEN_TYPES_H
 #define FIXSIGHT_GOLDEN_TYPES_H
@@ -41,7 +42,15 @@ typedef struct golden_vector {
     int32_t ninputs;
     const golden_image *expected;
     int32_t nexpected;
+    /* Padded rows (golden/README.md, "Padded rows"): 0 for packed rows;
+     * else every image is run with rows of width * channels + row_pad
+     * elements, input padding bytes GOLDEN_IN_PAD, output buffers filled
+     * with GOLDEN_OUT_PAD before the call and their padding checked after. */
+    int32_t row_pad;
 } golden_vector;
+
+#define GOLDEN_IN_PAD 0xE7u
+#define GOLDEN_OUT_PAD 0x3Cu
 
 extern const golden_vector GOLDEN_VECTORS[];
 extern const int32_t GOLDEN_VECTOR_COUNT;

@@ -28,7 +28,6 @@
 //! (`cargo run --release -p fixsight-verify --example campaign`) also
 //! stops with a message if one case runs for more than a minute (a hang).
 
-use crate::families::run_vector;
 use crate::golden::{self, Manifest};
 use fixsight::filter::{self, Border, FilterOutput, FilterStream, SeparableFilter, Taps};
 use fixsight::warp::{ControlGrid, PixelMap, WarpGeometry};
@@ -1462,7 +1461,7 @@ fn manifest_case(r: &mut ChaCha8Rng, inputs: &Inputs) -> Outcome {
         Ok(p) => p,
         Err(_) => return Rejected,
     };
-    let s = golden::check_manifest(&inputs.golden_dir, &parsed, run_vector);
+    let s = golden::check_manifest(&inputs.golden_dir, &parsed, crate::families::RUNNERS);
     if !byte_level {
         let id = untouched.as_str().unwrap_or_default();
         if let Some((_, why)) = s.failures.iter().find(|(f, _)| f == id) {

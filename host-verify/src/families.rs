@@ -53,6 +53,22 @@ pub fn run_vector(
     (family.run_vector)(kernel, params, inputs)
 }
 
+/// Recomputes one golden vector with padded rows ([`crate::padded`]).
+pub fn run_padded(
+    kernel: &str,
+    params: &serde_json::Value,
+    inputs: &[Blob],
+    row_pad: usize,
+) -> Result<Vec<Blob>, String> {
+    crate::padded::run_vector(kernel, params, inputs, row_pad)
+}
+
+/// Both runners of the golden check: [`run_vector`] and [`run_padded`].
+pub const RUNNERS: golden::Runners = golden::Runners {
+    packed: run_vector,
+    padded: run_padded,
+};
+
 /// The row-loop families' cases on one scene crop, ids ending in `.<tag>`:
 /// the long-row vectors of the golden folder and `golden extra`.
 pub const CROP_CASES: &[fn(&str, &GoldenCrop) -> Vec<GoldenCase>] = &[
@@ -69,10 +85,11 @@ pub fn crop_cases(tag: &str, g: &GoldenCrop) -> Vec<GoldenCase> {
     CROP_CASES.iter().flat_map(|f| f(tag, g)).collect()
 }
 
-/// All golden cases of all families, from the given scenes.
+/// All golden cases of all families, from the given scenes, then the
+/// padded-row copies of some of them ([`crate::padded::cases`]).
 pub fn all_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let bar = crate::progress::bar(FAMILIES.len() as u64, "golden cases");
-    let cases = FAMILIES
+    let mut cases: Vec<GoldenCase> = FAMILIES
         .iter()
         .flat_map(|f| {
             bar.set_message(f.name);
@@ -82,10 +99,12 @@ pub fn all_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         })
         .collect();
     bar.finish_and_clear();
+    let padded = crate::padded::cases(&cases);
+    cases.extend(padded);
     cases
 }
 
 /// Checks every vector of the golden folder `dir` with [`run_vector`].
 pub fn check_golden(dir: &Path) -> Result<GoldenSummary, GoldenError> {
-    golden::check(dir, run_vector)
+    golden::check(dir, RUNNERS)
 }

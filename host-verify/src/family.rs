@@ -120,6 +120,7 @@ pub fn case(
 ) -> GoldenCase {
     let expected = run(kernel, &params, &inputs).expect("golden inputs are valid");
     GoldenCase {
+        row_pad: None,
         id: id.into(),
         comment,
         kernel: kernel.into(),

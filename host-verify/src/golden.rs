@@ -18,7 +18,8 @@
 //!       "kernel": "filter.binomial5",                 kernel id: <family>.<function or preset>
 //!       "params": { ... },                            kernel-specific, see the family's module docs
 //!       "inputs":   [ <image>, ... ],
-//!       "expected": [ <image>, ... ]
+//!       "expected": [ <image>, ... ],
+//!       "row_pad": 4                                  optional, 1..=64: padded rows (below)
 //!     }
 //!   ]
 //! }
@@ -30,6 +31,15 @@
 //! (stride = `width * channels`), channels interleaved, each element
 //! little-endian; its length is exactly `width * height * channels *
 //! size_of(elem)`.
+//!
+//! A vector with `row_pad` is run on padded rows: every image laid out with
+//! rows of `width * channels + row_pad` elements, input padding bytes
+//! [`IN_PAD_BYTE`], output buffers filled with [`OUT_PAD_BYTE`] before the
+//! call, whose padding must hold it afterwards ([`padded`], [`out_buffer`],
+//! [`unpad`]; the runner is [`crate::padded`], the exact rules are in
+//! `golden/README.md`, "Padded rows"). The files stay packed; packed
+//! vectors have no `row_pad` field, so they read as before, and a reader
+//! built before the field existed rejects it (unknown fields are errors).
 //!
 //! Limits (checked with overflow-free arithmetic before anything is read or
 //! allocated; a vector that breaks one fails, with the reason): width and
@@ -221,6 +231,11 @@ pub struct VectorEntry {
     pub inputs: Vec<ImageEntry>,
     /// Expected output images.
     pub expected: Vec<ImageEntry>,
+    /// Padded rows: every image of the vector is run with a row stride of
+    /// `width * channels + row_pad` elements ([`padded`]); absent (and
+    /// not written) for packed vectors.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub row_pad: Option<usize>,
 }
 
 /// The manifest.
@@ -256,6 +271,9 @@ pub struct GoldenCase {
     pub inputs: Vec<Blob>,
     /// Expected outputs.
     pub expected: Vec<Blob>,
+    /// Padding elements after every row when the vector is run
+    /// ([`VectorEntry::row_pad`]); `None` for packed rows.
+    pub row_pad: Option<usize>,
 }
 
 /// Everything that can go wrong reading or writing golden vectors.
@@ -396,6 +414,13 @@ pub fn parse_manifest(text: &str, path: &Path) -> Result<Manifest, GoldenError> 
         if v.expected.is_empty() {
             return Err(bad("no expected output".into()));
         }
+        if let Some(pad) = v.row_pad {
+            if pad == 0 || pad > MAX_ROW_PAD {
+                return Err(bad(format!(
+                    "row_pad {pad} is outside 1..={MAX_ROW_PAD} (leave it out for packed rows)"
+                )));
+            }
+        }
     }
     Ok(m)
 }
@@ -474,8 +499,24 @@ pub fn load_image(dir: &Path, img: &ImageEntry) -> Result<Blob, String> {
 /// or a message saying what was wrong with the vector.
 pub type RunVector = fn(&str, &serde_json::Value, &[Blob]) -> Result<Vec<Blob>, String>;
 
+/// Recomputes one golden vector with padded rows: `(kernel id, params,
+/// packed inputs, row_pad) -> packed outputs`, having run the kernel on
+/// buffers laid out as [`padded`] describes and checked that the padding of
+/// every output is untouched ([`unpad`]).
+pub type RunPadded = fn(&str, &serde_json::Value, &[Blob], usize) -> Result<Vec<Blob>, String>;
+
+/// The two ways of recomputing a vector: packed rows, and padded rows
+/// (vectors with `row_pad`).
+#[derive(Clone, Copy)]
+pub struct Runners {
+    /// Vectors without `row_pad`.
+    pub packed: RunVector,
+    /// Vectors with `row_pad`.
+    pub padded: RunPadded,
+}
+
 /// Checks one vector: loads its files and recomputes it with `run`.
-fn check_vector(dir: &Path, v: &VectorEntry, run: RunVector) -> Result<(), String> {
+fn check_vector(dir: &Path, v: &VectorEntry, run: Runners) -> Result<(), String> {
     let inputs = v
         .inputs
         .iter()
@@ -486,7 +527,10 @@ fn check_vector(dir: &Path, v: &VectorEntry, run: RunVector) -> Result<(), Strin
         .iter()
         .map(|i| load_image(dir, i))
         .collect::<Result<Vec<_>, _>>()?;
-    let got = run(&v.kernel, &v.params, &inputs)?;
+    let got = match v.row_pad {
+        None => (run.packed)(&v.kernel, &v.params, &inputs)?,
+        Some(pad) => (run.padded)(&v.kernel, &v.params, &inputs, pad)?,
+    };
     compare_outputs(&expected, &got)
 }
 
@@ -539,12 +583,12 @@ pub fn compare_outputs(expected: &[Blob], got: &[Blob]) -> Result<(), String> {
 /// (`crate::families::check_golden` passes the registry's). Manifest-level
 /// problems are errors; per-vector problems are listed in the summary's
 /// `failures`.
-pub fn check(dir: &Path, run: RunVector) -> Result<GoldenSummary, GoldenError> {
+pub fn check(dir: &Path, run: Runners) -> Result<GoldenSummary, GoldenError> {
     Ok(check_manifest(dir, &read_manifest(dir)?, run))
 }
 
 /// Checks every vector of a parsed manifest against the files of `dir`.
-pub fn check_manifest(dir: &Path, m: &Manifest, run: RunVector) -> GoldenSummary {
+pub fn check_manifest(dir: &Path, m: &Manifest, run: Runners) -> GoldenSummary {
     let mut s = GoldenSummary {
         vectors: m.vectors.len(),
         ..Default::default()
@@ -619,6 +663,7 @@ pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Writte
             params: c.params.clone(),
             inputs,
             expected,
+            row_pad: c.row_pad,
         });
     }
     let m = Manifest {
@@ -656,6 +701,129 @@ pub fn write(dir: &Path, cases: &[GoldenCase], overwrite: bool) -> Result<Writte
     Ok(Written {
         manifest: read_manifest(dir)?,
         unreferenced,
+    })
+}
+
+/// Largest `row_pad` a vector may ask for, in elements.
+pub const MAX_ROW_PAD: usize = 64;
+/// Every byte of an input's padding elements (`row_pad` vectors).
+pub const IN_PAD_BYTE: u8 = 0xE7;
+/// Every byte of an output buffer before the kernel runs (`row_pad`
+/// vectors); its padding elements must still hold it afterwards.
+pub const OUT_PAD_BYTE: u8 = 0x3C;
+
+/// The buffer a runner of a `row_pad` vector hands the kernel for image
+/// `b`: `height` rows of `stride = width * channels + row_pad` elements,
+/// row `y`'s pixels at elements `y * stride ..`, followed by `row_pad`
+/// padding elements whose every byte is `pad_byte` (the last row too). The
+/// result is a blob of width `stride`, one channel, and the bytes of that
+/// buffer ([`IN_PAD_BYTE`] for inputs, [`OUT_PAD_BYTE`] for outputs, where
+/// the pixels are `pad_byte` too when `b` is only a shape).
+///
+/// ```
+/// use fixsight_verify::golden::{padded, Blob, IN_PAD_BYTE};
+/// let b = Blob::from_u8("src", 2, 2, 1, &[1, 2, 3, 4]);
+/// let p = padded(&b, 1, IN_PAD_BYTE);
+/// assert_eq!((p.width, p.height), (3, 2));
+/// assert_eq!(p.bytes, [1, 2, IN_PAD_BYTE, 3, 4, IN_PAD_BYTE]);
+/// ```
+pub fn padded(b: &Blob, row_pad: usize, pad_byte: u8) -> Blob {
+    let row = b.width * b.channels * b.elem.size();
+    let pad = vec![pad_byte; row_pad * b.elem.size()];
+    Blob {
+        name: b.name.clone(),
+        elem: b.elem,
+        width: b.width * b.channels + row_pad,
+        height: b.height,
+        channels: 1,
+        bytes: b
+            .bytes
+            .chunks(row.max(1))
+            .flat_map(|r| r.iter().chain(&pad).copied())
+            .collect(),
+    }
+}
+
+/// An output buffer for an image of `elem`, `width x height x channels`
+/// with `row_pad` padding elements a row, every byte [`OUT_PAD_BYTE`].
+///
+/// ```
+/// use fixsight_verify::golden::{out_buffer, Elem, OUT_PAD_BYTE};
+/// let b = out_buffer("dst", Elem::I16, 3, 2, 1, 2);
+/// assert_eq!((b.width, b.bytes.len()), (5, 20));
+/// assert!(b.bytes.iter().all(|&x| x == OUT_PAD_BYTE));
+/// ```
+pub fn out_buffer(
+    name: &str,
+    elem: Elem,
+    width: usize,
+    height: usize,
+    channels: usize,
+    row_pad: usize,
+) -> Blob {
+    let stride = width * channels + row_pad;
+    Blob {
+        name: name.to_string(),
+        elem,
+        width: stride,
+        height,
+        channels: 1,
+        bytes: vec![OUT_PAD_BYTE; stride * height * elem.size()],
+    }
+}
+
+/// The packed image of `width x height x channels` out of a padded output
+/// buffer `p` (as [`out_buffer`] made it, after the kernel ran), or an error
+/// naming the first padding element that no longer holds [`OUT_PAD_BYTE`]
+/// and how many were overwritten.
+///
+/// ```
+/// use fixsight_verify::golden::{out_buffer, unpad, Elem};
+/// let mut p = out_buffer("dst", Elem::U8, 2, 1, 1, 1);
+/// p.bytes[..2].copy_from_slice(&[7, 8]);
+/// assert_eq!(unpad(&p, 2, 1).unwrap().bytes, [7, 8]);
+/// p.bytes[2] = 0;
+/// assert!(unpad(&p, 2, 1).unwrap_err().contains("padding"));
+/// ```
+pub fn unpad(p: &Blob, width: usize, channels: usize) -> Result<Blob, String> {
+    let size = p.elem.size();
+    let row = width * channels * size;
+    let stride = p.width * p.channels * size;
+    if channels == 0 || row > stride || stride == 0 || p.bytes.len() != stride * p.height {
+        return Err(format!(
+            "image `{}`: a padded buffer of {} bytes cannot hold {} rows of {width} x {channels}",
+            p.name,
+            p.bytes.len(),
+            p.height
+        ));
+    }
+    let mut first = None;
+    let mut touched = 0usize;
+    let mut bytes = Vec::with_capacity(row * p.height);
+    for (y, r) in p.bytes.chunks(stride).enumerate() {
+        bytes.extend_from_slice(&r[..row]);
+        for (k, e) in r[row..].chunks(size).enumerate() {
+            if e.iter().any(|&b| b != OUT_PAD_BYTE) {
+                first.get_or_insert((k, y));
+                touched += 1;
+            }
+        }
+    }
+    if let Some((k, y)) = first {
+        return Err(format!(
+            "image `{}`: the kernel wrote into the row padding: padding element {k} after row {y} \
+             (stride {} elements); {touched} padding element(s) overwritten",
+            p.name,
+            stride / size
+        ));
+    }
+    Ok(Blob {
+        name: p.name.clone(),
+        elem: p.elem,
+        width,
+        height: p.height,
+        channels,
+        bytes,
     })
 }
 

@@ -13,7 +13,8 @@
 //! (little-endian elements, packed rows, checked against the manifest's
 //! length and SHA-256 first), every parameter flattened to a dotted key
 //! (`{"border": {"fill": 200}}` becomes `border.fill = 200`) holding an
-//! integer, a string or an integer array (booleans as 0 / 1).
+//! integer, a string or an integer array (booleans as 0 / 1). A vector's
+//! `row_pad` (0 when absent) is the last field of its `golden_vector`.
 
 use crate::golden::{self, Elem, ImageEntry};
 use anyhow::{anyhow, bail, Context, Result};
@@ -164,10 +165,14 @@ pub fn c_source_of(
     if chosen.is_empty() {
         bail!("{}: no golden vector was selected", dir.display());
     }
+    // With padded rows an output buffer holds the padding too.
     let largest = chosen
         .iter()
-        .flat_map(|v| &v.expected)
-        .filter_map(|i| golden::image_len(i.elem, i.width, i.height, i.channels))
+        .flat_map(|v| v.expected.iter().map(|i| (i, v.row_pad.unwrap_or(0))))
+        .filter_map(|(i, pad)| {
+            let stride = i.width.checked_mul(i.channels)?.checked_add(pad)?;
+            golden::image_len(i.elem, stride, i.height, 1)
+        })
         .max()
         .unwrap_or(0);
     let mut arrays = String::new();
@@ -204,12 +209,13 @@ pub fn c_source_of(
         };
         writeln!(
             table,
-            "    {{{}, {}, {parr}, {}, {ins}, {}, {outs}, {}}},",
+            "    {{{}, {}, {parr}, {}, {ins}, {}, {outs}, {}, {}}},",
             c_str(&v.id),
             c_str(&v.kernel),
             ps.len(),
             v.inputs.len(),
-            v.expected.len()
+            v.expected.len(),
+            v.row_pad.unwrap_or(0)
         )?;
     }
     Ok((

@@ -27,6 +27,7 @@
 //! | [`campaign`] | the seeded hostile-input campaign over every parser and kernel family (smoke run in `cargo test`, long run `--example campaign`) |
 //! | [`files`] | bounded reads of regular files and safe output sets, used by every command |
 //! | [`golden`] | golden-vector format, check and write |
+//! | [`padded`] | golden vectors with padded rows (`row_pad`): their runner and cases |
 //! | [`golden_c`] | the golden vectors as C source (C ports, the C ABI's tests) |
 //! | [`report`] | the verification report |
 //! | [`html`] | the report as one self-contained HTML file for a review (`report.html`) |
@@ -61,6 +62,7 @@ pub mod metrics;
 pub mod natural;
 pub mod nms;
 pub mod opcount;
+pub mod padded;
 pub mod pipeline;
 pub mod progress;
 pub mod report;

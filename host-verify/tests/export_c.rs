@@ -20,7 +20,9 @@ fn tmp(name: &str) -> PathBuf {
 /// The port in C: `[1 4 6 4 1] / 16` both ways (binomial coefficients
 /// C(4, k), Pascal's triangle), exact sum, `(acc + 128) >> 8`, saturated;
 /// border `clamp` or `border.fill`. `WRONG_X >= 0` corrupts one pixel of
-/// the first vector.
+/// the first vector; `OVERRUN` makes it write one element past every
+/// output row of padded-row vectors (`row_pad`), whose rows it writes
+/// `width + row_pad` bytes apart.
 const PORT_C: &str = r#"
 #include <stdio.h>
 #include <string.h>
@@ -28,6 +30,9 @@ const PORT_C: &str = r#"
 #ifndef WRONG_X
 #define WRONG_X -1
 #define WRONG_Y -1
+#endif
+#ifndef OVERRUN
+#define OVERRUN 0
 #endif
 static int32_t param(const golden_vector *v, const char *key, int32_t *value) {
     for (int32_t i = 0; i < v->nparams; i++)
@@ -38,7 +43,7 @@ int32_t golden_port_run(const golden_vector *v, int32_t k, uint8_t *out) {
     static const int32_t t[5] = {1, 4, 6, 4, 1};
     if (strcmp(v->kernel, "filter.binomial5") != 0 || k != 0) return 1;
     const golden_image *src = &v->inputs[0];
-    int32_t w = src->width, h = src->height, fill = 0;
+    int32_t w = src->width, h = src->height, fill = 0, s = w + v->row_pad;
     int32_t has_fill = param(v, "border.fill", &fill);
     for (int32_t y = 0; y < h; y++)
         for (int32_t x = 0; x < w; x++) {
@@ -56,7 +61,8 @@ int32_t golden_port_run(const golden_vector *v, int32_t k, uint8_t *out) {
                     acc += t[j] * t[i] * p;
                 }
             int32_t r = (acc + 128) >> 8;
-            out[y * w + x] = (uint8_t)(r < 0 ? 0 : (r > 255 ? 255 : r));
+            out[y * s + x] = (uint8_t)(r < 0 ? 0 : (r > 255 ? 255 : r));
+            if (OVERRUN && v->row_pad > 0 && x == w - 1) out[y * s + w] = out[y * s + x];
         }
     if (v == &GOLDEN_VECTORS[0] && WRONG_X >= 0) out[WRONG_Y * w + WRONG_X] ^= 1;
     return 0;
@@ -113,12 +119,27 @@ fn exported_vectors_check_a_c_port_on_the_host() {
         &out,
     ]);
     assert!(ok, "{err}");
-    // The three small crops and the two long rows (256 and 317 pixels).
-    assert!(stdout.contains("wrote 5 golden vectors"), "{stdout}");
+    // The three small crops, the two long rows (256 and 317 pixels) and
+    // the padded copy of the clamped crop.
+    assert!(stdout.contains("wrote 6 golden vectors"), "{stdout}");
     let (ok, log) = build_and_run(&d, &[]);
     assert!(ok, "{log}");
     assert!(
-        log.contains("summary passed 5 failed 0 not-claimed 0"),
+        log.contains("summary passed 6 failed 0 not-claimed 0"),
+        "{log}"
+    );
+
+    // Writing past the row into the padding fails the padded vector only.
+    let (ok, log) = build_and_run(&d, &["-DOVERRUN=1"]);
+    assert!(!ok, "{log}");
+    assert!(
+        log.contains(
+            "FAIL filter.binomial5.clamp.floor.pad4 dst padding y 0 element 0 overwritten 23"
+        ),
+        "{log}"
+    );
+    assert!(
+        log.contains("summary passed 5 failed 1 not-claimed 0"),
         "{log}"
     );
 
@@ -162,7 +183,7 @@ fn exported_vectors_check_a_c_port_on_the_host() {
         "{log}"
     );
     assert!(
-        log.contains("summary passed 5 failed 0 not-claimed 34"),
+        log.contains("summary passed 6 failed 0 not-claimed 39"),
         "{log}"
     );
     fs::remove_dir_all(&d).unwrap();

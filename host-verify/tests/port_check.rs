@@ -46,7 +46,14 @@ fn port_check(outputs: &Path, extra: &[&str]) -> (bool, String, String) {
 /// of `v[j] * h[i] * P(x + i - 2, y + j - 2)`, then `(acc + 128) >> 8`,
 /// saturated to `0..=255`; `P` clamps coordinates or returns the fill value.
 /// The taps are the binomial coefficients C(4, k) (Pascal's triangle).
-fn port_binomial5(src: &[u8], w: usize, h: usize, fill: Option<u8>) -> Vec<u8> {
+/// Rows of `src` are `src_stride` bytes apart, rows of `out` `out_stride`;
+/// only the `w` pixels of each output row are written.
+fn port_binomial5(
+    (src, src_stride): (&[u8], usize),
+    (w, h): (usize, usize),
+    fill: Option<u8>,
+    (out, out_stride): (&mut [u8], usize),
+) {
     const T: [i32; 5] = [1, 4, 6, 4, 1];
     let p = |x: i64, y: i64| -> i32 {
         let inside = x >= 0 && y >= 0 && x < w as i64 && y < h as i64;
@@ -54,12 +61,11 @@ fn port_binomial5(src: &[u8], w: usize, h: usize, fill: Option<u8>) -> Vec<u8> {
             (true, _) | (false, None) => {
                 let cx = x.clamp(0, w as i64 - 1) as usize;
                 let cy = y.clamp(0, h as i64 - 1) as usize;
-                src[cy * w + cx] as i32
+                src[cy * src_stride + cx] as i32
             }
             (false, Some(c)) => c as i32,
         }
     };
-    let mut out = vec![0u8; w * h];
     for y in 0..h {
         for x in 0..w {
             let mut acc = 0i32;
@@ -68,24 +74,40 @@ fn port_binomial5(src: &[u8], w: usize, h: usize, fill: Option<u8>) -> Vec<u8> {
                     acc += vj * hi * p(x as i64 + i as i64 - 2, y as i64 + j as i64 - 2);
                 }
             }
-            out[y * w + x] = ((acc + 128) >> 8).clamp(0, 255) as u8;
+            out[y * out_stride + x] = ((acc + 128) >> 8).clamp(0, 255) as u8;
         }
     }
-    out
 }
 
 /// Runs the example port over the binomial5 vectors, writing its outputs
-/// and a claims file; returns (file name, width, output) per vector.
-fn write_port(dir: &Path) -> Vec<(String, usize, Vec<u8>)> {
+/// and a claims file; returns (file name, width, output) per vector. A
+/// padded-row vector (`row_pad`) runs as `golden/README.md` says: input
+/// rows padded with `0xE7` bytes, the output buffer filled with `0x3C`
+/// first, the whole buffer written; `overrun` makes the port write one
+/// element past every output row of those vectors (a broken row loop).
+fn write_port_with(dir: &Path, overrun: bool) -> Vec<(String, usize, Vec<u8>)> {
     let g = repo_golden();
     let m = golden::read_manifest(&g).unwrap();
     let mut written = Vec::new();
     for v in m.vectors.iter().filter(|v| v.kernel == "filter.binomial5") {
         let src: Blob = golden::load_image(&g, &v.inputs[0]).unwrap();
         let fill = v.params["border"]["fill"].as_u64().map(|c| c as u8);
-        let out = port_binomial5(&src.bytes, src.width, src.height, fill);
+        let (w, h) = (src.width, src.height);
+        let pad = v.row_pad.unwrap_or(0);
+        let stride = w + pad;
+        let mut input = vec![golden::IN_PAD_BYTE; stride * h];
+        for y in 0..h {
+            input[y * stride..y * stride + w].copy_from_slice(&src.bytes[y * w..(y + 1) * w]);
+        }
+        let mut out = vec![golden::OUT_PAD_BYTE; stride * h];
+        port_binomial5((&input, stride), (w, h), fill, (&mut out, stride));
+        if overrun && pad > 0 {
+            for y in 0..h {
+                out[y * stride + w] = out[y * stride + w - 1];
+            }
+        }
         fs::write(dir.join(&v.expected[0].file), &out).unwrap();
-        written.push((v.expected[0].file.clone(), src.width, out));
+        written.push((v.expected[0].file.clone(), stride, out));
     }
     fs::write(
         dir.join("claims.txt"),
@@ -95,18 +117,23 @@ fn write_port(dir: &Path) -> Vec<(String, usize, Vec<u8>)> {
     written
 }
 
+fn write_port(dir: &Path) -> Vec<(String, usize, Vec<u8>)> {
+    write_port_with(dir, false)
+}
+
 #[test]
 fn an_independent_port_passes_and_a_corrupted_one_fails_at_its_pixel() {
     let d = tmp("example");
     let written = write_port(&d);
-    // Three small crops and the two long rows (256 and 317 pixels).
-    assert_eq!(written.len(), 5, "the manifest's binomial5 vectors");
+    // Three small crops, the two long rows (256 and 317 pixels) and the
+    // padded copy of the clamped crop.
+    assert_eq!(written.len(), 6, "the manifest's binomial5 vectors");
     let (ok, out, _) = port_check(&d, &[]);
     assert!(ok, "{out}");
     let total = golden::read_manifest(&repo_golden()).unwrap().vectors.len();
     let summary = format!(
-        "port-check: 5 passed, 0 failed, {} not claimed, of {total} vectors",
-        total - 5
+        "port-check: 6 passed, 0 failed, {} not claimed, of {total} vectors",
+        total - 6
     );
     assert!(out.contains(&summary), "{out}");
     assert!(
@@ -128,12 +155,44 @@ fn an_independent_port_passes_and_a_corrupted_one_fails_at_its_pixel() {
         bytes.len()
     );
     assert!(out.contains(&want), "{out}");
-    assert!(out.contains("4 passed, 1 failed"), "{out}");
+    assert!(out.contains("5 passed, 1 failed"), "{out}");
 
     // A truncated file is named, not compared.
     fs::write(d.join(&file), &bytes[..10]).unwrap();
     let (ok, out, _) = port_check(&d, &[]);
     assert!(!ok && out.contains("holds 10 bytes"), "{out}");
+    fs::remove_dir_all(&d).unwrap();
+}
+
+/// A port whose row loop writes one element past each row passes every
+/// packed vector (its pixels are right) but fails the padded one, naming
+/// the first overwritten padding element.
+#[test]
+fn a_port_writing_into_the_row_padding_fails() {
+    let d = tmp("overrun");
+    let written = write_port_with(&d, true);
+    let (file, stride, _) = written
+        .iter()
+        .find(|(f, _, _)| f.contains(".pad"))
+        .expect("a padded binomial5 vector")
+        .clone();
+    assert_eq!(stride, 41, "width 37 with row_pad 4");
+    let (ok, out, _) = port_check(&d, &[]);
+    assert!(!ok, "{out}");
+    let id = file.trim_end_matches(".dst.bin");
+    assert!(
+        out.contains(&format!(
+            "FAIL         `{id}` `dst`: image `dst`: the kernel wrote into the row padding: \
+             padding element 0 after row 0 (stride 41 elements); 23 padding element(s) overwritten"
+        )),
+        "{out}"
+    );
+    assert!(out.contains("5 passed, 1 failed"), "{out}");
+    // The same buffer cut to the packed size is refused by its length.
+    let full = fs::read(d.join(&file)).unwrap();
+    fs::write(d.join(&file), &full[..37 * 23]).unwrap();
+    let (ok, out, _) = port_check(&d, &[]);
+    assert!(!ok && out.contains("with row_pad 4 needs 943"), "{out}");
     fs::remove_dir_all(&d).unwrap();
 }
 

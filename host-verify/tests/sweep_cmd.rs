@@ -65,14 +65,21 @@ fn f(r: &serde_json::Value, k: &str) -> f64 {
 /// The three files exist; the plot is a 900 x 560 picture with more than
 /// one colour (lines and text on white).
 fn outputs_written(out: &Path) {
+    plot_written(out, (900, 560), 500);
+}
+
+/// `sweep.md` exists and `sweep.png` has `size` and more than `coloured`
+/// coloured pixels; returns the picture.
+fn plot_written(out: &Path, size: (u32, u32), coloured: usize) -> image::RgbImage {
     assert!(out.join("sweep.md").is_file());
     let png = image::open(out.join("sweep.png")).unwrap().to_rgb8();
-    assert_eq!(png.dimensions(), (900, 560));
-    let coloured = png
+    assert_eq!(png.dimensions(), size);
+    let n = png
         .pixels()
         .filter(|p| p[0] != p[1] || p[1] != p[2])
         .count();
-    assert!(coloured > 500, "{coloured} coloured pixels");
+    assert!(n > coloured, "{n} coloured pixels");
+    png
 }
 
 /// Every row keeps its bound (when the kernel has one).
@@ -341,6 +348,15 @@ fn without_a_kernel_the_warp_sweep_runs_as_before() {
     let rows: serde_json::Value =
         serde_json::from_str(&fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
     assert_eq!(rows.as_array().unwrap().len(), 9 * 6);
-    assert!(out.join("sweep.md").is_file() && out.join("sweep.png").is_file());
+    // Two labelled panels (the plot code of `sweep --kernel`): six coloured
+    // lines, and dark text pixels in the title band above each panel.
+    let png = plot_written(&out, (1200, 520), 2000);
+    for x0 in [0, 600] {
+        let dark = (x0..x0 + 600)
+            .flat_map(|x| (0..30).map(move |y| (x, y)))
+            .filter(|&(x, y)| png.get_pixel(x, y)[0] < 100)
+            .count();
+        assert!(dark > 50, "no title text above the panel at x {x0}: {dark}");
+    }
     fs::remove_dir_all(d).unwrap();
 }

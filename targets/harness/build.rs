@@ -85,12 +85,29 @@ fn main() {
     for v in &vectors {
         let kernel = v["kernel"].as_str().expect("vector without kernel");
         let id = v["id"].as_str().expect("vector without id");
+        // A field this build does not know (a newer layout rule) must not
+        // be ignored: the vector would run under the wrong rules.
+        for key in v.as_object().expect("vector is an object").keys() {
+            assert!(
+                ["id", "comment", "kernel", "params", "inputs", "expected", "row_pad"]
+                    .contains(&key.as_str()),
+                "vector {id}: unknown field `{key}`"
+            );
+        }
+        let row_pad = match &v["row_pad"] {
+            serde_json::Value::Null => 0,
+            r => r
+                .as_u64()
+                .filter(|&p| (1..=64).contains(&p))
+                .unwrap_or_else(|| panic!("vector {id}: row_pad must be 1..=64")),
+        };
         let mut params = Vec::new();
         flatten("", &v["params"], &mut params);
         writeln!(out, "    Vector {{").unwrap();
         writeln!(out, "        id: {id:?},\n        kernel: {kernel:?},").unwrap();
         writeln!(out, "        run: crate::kernels::lookup({kernel:?}),").unwrap();
         writeln!(out, "        params: &[{}],", params.join(", ")).unwrap();
+        writeln!(out, "        row_pad: {row_pad},").unwrap();
         for (field, key) in [("inputs", "inputs"), ("expected", "expected")] {
             writeln!(out, "        {field}: &[").unwrap();
             for img in v[key].as_array().expect("image list") {

@@ -11,6 +11,13 @@
 //!   little-endian, row-major, rows packed, channels interleaved, exactly
 //!   `width * height * channels * size_of(elem)` bytes
 //!   (`golden/README.md`).
+//! * For a vector with `row_pad` (padded rows), the file is instead the
+//!   whole output buffer as the port's kernel left it: `height` rows of
+//!   `width * channels + row_pad` elements, the buffer filled with bytes
+//!   `0x3C` before the call (inputs laid out likewise, padding bytes
+//!   `0xE7`; `golden/README.md`, "Padded rows"). The padding must still
+//!   hold `0x3C`: a written padding element fails the vector, named by row
+//!   and position.
 //! * Optionally `claims.txt`: the kernel ids and vector ids the port
 //!   implements, one per line (`#` starts a comment, blank lines are
 //!   ignored). Without it the port claims every vector. A vector that is
@@ -230,6 +237,37 @@ pub fn tolerances(report: &Path) -> anyhow::Result<BTreeMap<String, i64>> {
         .collect())
 }
 
+/// Bytes of the port's file for `want`: the packed image, or with
+/// `row_pad` the whole padded output buffer.
+fn padded_len(want: &Blob, row_pad: Option<usize>) -> usize {
+    let stride = want.width * want.channels + row_pad.unwrap_or(0);
+    stride * want.height * want.elem.size()
+}
+
+/// The packed pixels of a port's padded output buffer (a `row_pad`
+/// vector), or why it cannot be compared: wrong length, or a padding
+/// element that no longer holds [`golden::OUT_PAD_BYTE`].
+fn from_padded(want: &Blob, bytes: Vec<u8>, pad: usize) -> Result<Vec<u8>, String> {
+    let need = padded_len(want, Some(pad));
+    if bytes.len() != need {
+        return Err(format!(
+            "holds {} bytes, the padded buffer of {}x{}x{} {:?} with row_pad {pad} needs {need}",
+            bytes.len(),
+            want.width,
+            want.height,
+            want.channels,
+            want.elem
+        ));
+    }
+    let buf = Blob {
+        width: want.width * want.channels + pad,
+        channels: 1,
+        bytes,
+        ..want.clone()
+    };
+    golden::unpad(&buf, want.width, want.channels).map(|b| b.bytes)
+}
+
 /// Checks one vector's expected images against the port's files.
 fn check_vector(
     vectors: &Path,
@@ -249,11 +287,17 @@ fn check_vector(
                         if std::fs::symlink_metadata(&path).is_err() {
                             return Err(format!("{} is missing", files::shown_path(&path)));
                         }
-                        files::read_bounded(&path, want.bytes.len() as u64)
+                        files::read_bounded(&path, padded_len(&want, v.row_pad) as u64)
                             .map_err(|e| e.to_string())
                     }) {
                     Err(why) => ImageVerdict::Unusable(why),
-                    Ok(bytes) => compare(&want, &bytes, allowed),
+                    Ok(bytes) => match v.row_pad {
+                        None => compare(&want, &bytes, allowed),
+                        Some(pad) => match from_padded(&want, bytes, pad) {
+                            Ok(packed) => compare(&want, &packed, allowed),
+                            Err(why) => ImageVerdict::Unusable(why),
+                        },
+                    },
                 },
             };
             (img.name.clone(), verdict)

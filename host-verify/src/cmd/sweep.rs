@@ -38,7 +38,7 @@ pub fn run(out: &std::path::Path, overwrite: bool) -> anyhow::Result<String> {
         (serde_json::to_string_pretty(&rows)? + "\n").as_bytes(),
     )?;
     outputs.write_with(OUTPUTS[2], |p| {
-        crate::warp::sweep_plot::draw(&rows, p).map_err(|e| std::io::Error::other(e.to_string()))
+        crate::sweep::plot::draw_warp(&rows, p).map_err(|e| std::io::Error::other(e.to_string()))
     })?;
     outputs.commit()?;
     Ok(table)

@@ -1,7 +1,7 @@
 //! Golden cases and vector recomputation of the `filter.*` kernel ids.
 
-use super::run::run_whole;
-use super::{custom_filters, preset, OutputParam, CUSTOM_ID, PRESETS};
+use super::run::{run_stream, run_whole};
+use super::{custom_filters, preset, OutputParam, CUSTOM_ID, PRESETS, STREAM_ID};
 use crate::border::BorderParam;
 use crate::family::{input, parse_params};
 use crate::golden::{crop, Blob, GoldenCase};
@@ -87,15 +87,27 @@ fn case(
     output: OutputParam,
     (img, w, h): (Vec<u8>, usize, usize),
 ) -> GoldenCase {
-    let params = if kernel == CUSTOM_ID {
+    let params = if kernel == CUSTOM_ID || kernel == STREAM_ID {
         serde_json::to_value(FilterParams::of(f, output))
     } else {
         serde_json::to_value(PresetParams {
             border: f.border().into(),
         })
     };
-    let expected = run_blob(f, output, &img, w, h).expect("golden case sizes are valid");
+    let expected = if kernel == STREAM_ID {
+        let (p, i) = (
+            FilterParams::of(f, output),
+            Blob::from_u8("src", w, h, 1, &img),
+        );
+        let p = serde_json::to_value(p).expect("params serialise");
+        run_vector(kernel, &p, &[i])
+            .expect("golden case sizes are valid")
+            .remove(0)
+    } else {
+        run_blob(f, output, &img, w, h).expect("golden case sizes are valid")
+    };
     GoldenCase {
+        row_pad: None,
         id,
         comment,
         kernel: kernel.into(),
@@ -164,7 +176,39 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     }
     for (tag, g) in crate::edge_chain::wide_crops(scenes) {
         v.extend(crop_cases(tag, &g));
+        if tag == "wide317" {
+            v.push(case(
+                format!("{STREAM_ID}.binomial5.clamp.{tag}"),
+                format!(
+                    "binomial5 taps through the row stream (5-row ring) on {}",
+                    g.at
+                ),
+                STREAM_ID,
+                &filter::binomial5(Border::Clamp),
+                OutputParam::U8,
+                (g.img.clone(), g.w, g.h),
+            ));
+        }
     }
+    v.push(case(
+        format!("{STREAM_ID}.custom9x5.fill200.floor"),
+        format!(
+            "asymmetric 9x5 taps through the row stream on the {cw}x{ch} crop: the 5-row ring wraps \
+             four times, the last 2 rows come out of the flush"
+        ),
+        STREAM_ID,
+        &custom_filters(Border::Fill(200))[0].0,
+        OutputParam::U8,
+        (floor.clone(), cw, ch),
+    ));
+    v.push(case(
+        format!("{STREAM_ID}.sobel_y.fill17.floor"),
+        format!("Sobel y taps through the row stream, i16 rows, on the {cw}x{ch} crop"),
+        STREAM_ID,
+        &filter::sobel_y(Border::Fill(17)),
+        OutputParam::I16,
+        (floor.clone(), cw, ch),
+    ));
     v.push(case(
         "filter.binomial7.clamp.narrow".into(),
         "7 taps on a 2x3 image: every pixel is a border pixel".into(),
@@ -219,21 +263,40 @@ pub fn crop_cases(tag: &str, g: &crate::edge_chain::GoldenCrop) -> Vec<GoldenCas
         .collect()
 }
 
-/// Recomputes a `filter.*` vector: a preset id or `filter.separable`.
+/// The filter and output type of a `filter.*` vector's kernel id and params:
+/// a preset id (params: the border) or `filter.separable` and
+/// `filter.filter_stream` (params: [`FilterParams`]).
+pub fn filter_of(
+    kernel: &str,
+    params: &serde_json::Value,
+) -> Result<(SeparableFilter, OutputParam), String> {
+    if kernel == CUSTOM_ID || kernel == STREAM_ID {
+        let p: FilterParams = parse_params(kernel, params)?;
+        Ok((p.build()?, p.output))
+    } else {
+        let pr = preset(kernel).ok_or_else(|| format!("unknown filter kernel `{kernel}`"))?;
+        let p: PresetParams = parse_params(kernel, params)?;
+        Ok(((pr.make)(p.border.into()), pr.output))
+    }
+}
+
+/// Recomputes a `filter.*` vector: a preset id or `filter.separable`
+/// (whole frame), or `filter.filter_stream` (the same filter through a
+/// [`fixsight::filter::FilterStream`], row by row).
 pub fn run_vector(
     kernel: &str,
     params: &serde_json::Value,
     inputs: &[Blob],
 ) -> Result<Vec<Blob>, String> {
-    let (f, output) = if kernel == CUSTOM_ID {
-        let p: FilterParams = parse_params(kernel, params)?;
-        (p.build()?, p.output)
-    } else {
-        let pr = preset(kernel).ok_or_else(|| format!("unknown filter kernel `{kernel}`"))?;
-        let p: PresetParams = parse_params(kernel, params)?;
-        ((pr.make)(p.border.into()), pr.output)
-    };
+    let (f, output) = filter_of(kernel, params)?;
     let src = input(inputs, "src")?;
+    if kernel == STREAM_ID {
+        let (img, w, h) = (src.to_u8()?, src.width, src.height);
+        return Ok(vec![match output {
+            OutputParam::U8 => Blob::from_u8("dst", w, h, 1, &run_stream::<u8>(&f, &img, w, h)?),
+            OutputParam::I16 => Blob::from_i16("dst", w, h, 1, &run_stream::<i16>(&f, &img, w, h)?),
+        }]);
+    }
     Ok(vec![run_blob(
         &f,
         output,

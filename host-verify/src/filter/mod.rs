@@ -19,7 +19,11 @@
 //! preset's); and `filter.separable` (`filter::separable`, caller-chosen
 //! taps), params
 //! `{"h": [i16...], "h_shift": u32, "v": [i16...], "v_shift": u32,
-//!   "border": "clamp" | {"fill": u8}, "output": "u8" | "i16"}`.
+//!   "border": "clamp" | {"fill": u8}, "output": "u8" | "i16"}`;
+//! and `filter.filter_stream` (`filter::FilterStream`, the type in snake
+//! case): the filter of those same params run through a row stream, input
+//! rows pushed one at a time top to bottom, then flushed; its output equals
+//! the whole frame's.
 //! Input `src` (u8), output `dst` (u8 or i16).
 //!
 //! | file | holds |
@@ -50,6 +54,7 @@ pub const FAMILY: Family = Family {
         "filter.scharr_x",
         "filter.scharr_y",
         "filter.separable",
+        "filter.filter_stream",
     ],
     composed_on_host: false,
     check: |scenes, _lens| check::check(scenes),
@@ -119,6 +124,20 @@ pub const PRESETS: [Preset; 7] = [
 
 /// Kernel id of a filter with caller-chosen taps (`filter::separable`).
 pub const CUSTOM_ID: &str = "filter.separable";
+
+/// Kernel id of the row-streaming form (`filter::FilterStream`), params as
+/// [`CUSTOM_ID`]'s.
+pub const STREAM_ID: &str = "filter.filter_stream";
+
+/// The tap sets checked under [`STREAM_ID`]: `binomial5` (5-row ring), the
+/// asymmetric 9 x 5 set (`u8`) and `sobel_y` (`i16`, 3-row ring).
+fn stream_filters(border: Border) -> Vec<(SeparableFilter, OutputParam)> {
+    vec![
+        (filter::binomial5(border), OutputParam::U8),
+        custom_filters(border)[0],
+        (filter::sobel_y(border), OutputParam::I16),
+    ]
+}
 
 /// The preset with kernel id `id`.
 pub fn preset(id: &str) -> Option<&'static Preset> {

@@ -92,6 +92,7 @@ fn pair_cases(
     ]
     .iter()
     .map(|&kernel| GoldenCase {
+        row_pad: None,
         id: format!("{kernel}.{tag}"),
         comment: format!("{kernel} on {comment}"),
         kernel: kernel.into(),

@@ -1551,6 +1551,7 @@ fn case(
 ) -> GoldenCase {
     let expected = run_vector(kernel, &params, &inputs).expect("golden inputs are valid");
     GoldenCase {
+        row_pad: None,
         id: id.into(),
         comment,
         kernel: kernel.into(),

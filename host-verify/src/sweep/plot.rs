@@ -1,17 +1,25 @@
-//! `sweep.png`: the error against the parameter's value, one colour per
-//! input, with a title, axis labels and a legend (text in the DejaVu Sans
-//! font the report's plots use, [`crate::html`]).
+//! `sweep.png`: errors against a swept value, drawn as one or more
+//! labelled panels side by side (title, axis labels, a legend; text in the
+//! DejaVu Sans font the report's plots use, [`crate::html`]).
 //!
-//! x: the swept values (one tick each). y: `|fixed - f64|` in the error
-//! unit, log10 scale from half the smallest nonzero figure to twice the
-//! largest (at least one decade); a zero error is drawn at the bottom of
-//! the axis. Per input: the
-//! largest error as a solid line with dots, the mean as a dashed line in
-//! the same colour. When the kernel has a bound: the largest bound over
-//! the inputs at each value as a grey dashed line.
+//! Every panel ([`Panel`]): x = the swept values (one tick each); y = a
+//! positive figure on a log10 scale from half the smallest nonzero figure
+//! to twice the largest (at least one decade); a zero is drawn at the
+//! bottom of the axis. Series are solid lines with dots or thin dashed
+//! lines; a reference line (a bound, a target) is a grey dashed line.
+//!
+//! [`draw`] (`sweep --kernel`): one panel; per input the largest
+//! `|fixed - f64|` solid with dots and the mean dashed, in one colour; when
+//! the kernel has a bound, the largest bound over the inputs at each value.
+//! [`draw_warp`] (`sweep` without `--kernel`): two panels over the
+//! fractional bits, one colour per map (pixel map, control grids of step
+//! 4 to 64): RMS intensity error in LSB against the exact-coordinate
+//! reference, with the 0.5 LSB line; largest geometric error in px, with
+//! the 1/32 px line.
 
 use super::{Row, SweepParam};
 use crate::html::{font, FONT};
+use crate::warp::sweep::SweepRow;
 use plotters::prelude::*;
 use std::path::Path;
 
@@ -39,43 +47,59 @@ fn readable(v: f64) -> String {
     }
 }
 
-/// Draws the plot described in the module docs into `path`.
-///
-/// ```
-/// use fixsight_verify::sweep::{find, plot::draw, Row};
-/// let p = find("lines.cos_sin", None).unwrap();
-/// let rows = [Row::from_errors("x", 8, [0.5], Some(0.6)), Row::from_errors("x", 9, [0.0], None)];
-/// let path = std::env::temp_dir().join(format!("fsv-doc-sweep-{}.png", std::process::id()));
-/// draw(p, &rows, &path).unwrap();
-/// assert!(std::fs::metadata(&path).unwrap().len() > 1000);
-/// # std::fs::remove_file(&path).unwrap();
-/// ```
-pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
+/// A line of a [`Panel`]: `(x, y)` points, y the figure itself (not its
+/// logarithm).
+pub struct Series {
+    /// Legend text.
+    pub label: String,
+    /// Index into the palette.
+    pub colour: usize,
+    /// Solid line with dots (`false`: thin dashed line).
+    pub solid: bool,
+    /// The points, in x order.
+    pub points: Vec<(f64, f64)>,
+}
+
+/// One chart of `sweep.png`.
+pub struct Panel {
+    /// Title above the chart.
+    pub title: String,
+    /// x axis label.
+    pub x_desc: String,
+    /// y axis label.
+    pub y_desc: String,
+    /// Smallest and largest swept value.
+    pub x_range: (u32, u32),
+    /// The lines.
+    pub series: Vec<Series>,
+    /// A grey dashed reference line with its legend text.
+    pub reference: Option<(String, Vec<(f64, f64)>)>,
+}
+
+/// Draws `panels` side by side into a `size` picture at `path`.
+pub fn draw_panels(panels: &[Panel], size: (u32, u32), path: &Path) -> anyhow::Result<()> {
     font();
-    let mut inputs: Vec<&str> = Vec::new();
-    for r in rows {
-        if !inputs.contains(&r.input.as_str()) {
-            inputs.push(&r.input);
-        }
+    let root = BitMapBackend::new(path, size).into_drawing_area();
+    root.fill(&WHITE).map_err(plot_err)?;
+    let areas = root.split_evenly((1, panels.len().max(1)));
+    for (panel, area) in panels.iter().zip(&areas) {
+        draw_panel(panel, area)?;
     }
-    let (vmin, vmax) = rows
+    root.present().map_err(plot_err)?;
+    Ok(())
+}
+
+fn draw_panel(
+    p: &Panel,
+    area: &DrawingArea<BitMapBackend<'_>, plotters::coord::Shift>,
+) -> anyhow::Result<()> {
+    let (vmin, vmax) = p.x_range;
+    let figures = p
+        .series
         .iter()
-        .fold((u32::MAX, 0), |(a, b), r| (a.min(r.value), b.max(r.value)));
-    let (vmin, vmax) = if rows.is_empty() {
-        (0, 1)
-    } else {
-        (vmin, vmax)
-    };
-    let bound_at = |v: u32| -> Option<f64> {
-        rows.iter()
-            .filter(|r| r.value == v)
-            .filter_map(|r| r.bound)
-            .reduce(f64::max)
-    };
-    let figures = rows
-        .iter()
-        .flat_map(|r| [Some(r.max_abs), Some(r.mean_abs), r.bound])
-        .flatten();
+        .flat_map(|s| s.points.iter())
+        .chain(p.reference.iter().flat_map(|r| r.1.iter()))
+        .map(|&(_, y)| y);
     let lo = figures
         .clone()
         .filter(|&v| v > 0.0)
@@ -89,13 +113,8 @@ pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
     // At least one decade tall.
     let pad = ((1.0 - (hi - lo)) / 2.0).max(0.0);
     let (lo, hi) = (lo - pad, hi + pad);
-    let root = BitMapBackend::new(path, (900, 560)).into_drawing_area();
-    root.fill(&WHITE).map_err(plot_err)?;
-    let mut chart = ChartBuilder::on(&root)
-        .caption(
-            format!("{}: error against {}", p.kernel, p.param),
-            (FONT, 20),
-        )
+    let mut chart = ChartBuilder::on(area)
+        .caption(&p.title, (FONT, 18))
         .margin(14)
         .x_label_area_size(48)
         .y_label_area_size(80)
@@ -103,8 +122,8 @@ pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
         .map_err(plot_err)?;
     chart
         .configure_mesh()
-        .x_desc(format!("{} (swept value)", p.param))
-        .y_desc(format!("|fixed - f64|, {} (log scale)", p.unit))
+        .x_desc(&p.x_desc)
+        .y_desc(&p.y_desc)
         .x_labels((vmax - vmin + 1) as usize * 2 + 1)
         .x_label_formatter(&|v| {
             if (v - v.round()).abs() < 1e-9 {
@@ -120,37 +139,38 @@ pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
         .draw()
         .map_err(plot_err)?;
     let y = |v: f64| if v > 0.0 { v.log10().max(lo) } else { lo };
-    for (i, input) in inputs.iter().enumerate() {
-        let colour = COLOURS[i % COLOURS.len()];
-        let of: Vec<&Row> = rows.iter().filter(|r| r.input == *input).collect();
-        let max: Vec<(f64, f64)> = of.iter().map(|r| (r.value as f64, y(r.max_abs))).collect();
-        let mean: Vec<(f64, f64)> = of.iter().map(|r| (r.value as f64, y(r.mean_abs))).collect();
-        let solid = ShapeStyle::from(colour).stroke_width(2);
-        chart
-            .draw_series(LineSeries::new(max.clone(), solid))
-            .map_err(plot_err)?
-            .label(format!("{input}: largest"))
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], solid));
-        chart
-            .draw_series(max.iter().map(|&pt| Circle::new(pt, 3, colour.filled())))
-            .map_err(plot_err)?;
-        let thin = ShapeStyle::from(colour).stroke_width(1);
-        chart
-            .draw_series(DashedLineSeries::new(mean, 6, 4, thin))
-            .map_err(plot_err)?
-            .label(format!("{input}: mean"))
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 8, y)], thin));
+    for s in &p.series {
+        let colour = COLOURS[s.colour % COLOURS.len()];
+        let pts: Vec<(f64, f64)> = s.points.iter().map(|&(x, v)| (x, y(v))).collect();
+        if s.solid {
+            let solid = ShapeStyle::from(colour).stroke_width(2);
+            chart
+                .draw_series(LineSeries::new(pts.clone(), solid))
+                .map_err(plot_err)?
+                .label(s.label.as_str())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], solid));
+            chart
+                .draw_series(pts.iter().map(|&pt| Circle::new(pt, 3, colour.filled())))
+                .map_err(plot_err)?;
+        } else {
+            let thin = ShapeStyle::from(colour).stroke_width(1);
+            chart
+                .draw_series(DashedLineSeries::new(pts, 6, 4, thin))
+                .map_err(plot_err)?
+                .label(s.label.as_str())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 8, y)], thin));
+        }
     }
-    let bound: Vec<(f64, f64)> = (vmin..=vmax)
-        .filter_map(|v| bound_at(v).map(|b| (v as f64, y(b))))
-        .collect();
-    if !bound.is_empty() {
-        let grey = ShapeStyle::from(RGBColor(120, 120, 120)).stroke_width(2);
-        chart
-            .draw_series(DashedLineSeries::new(bound, 10, 5, grey))
-            .map_err(plot_err)?
-            .label("bound (largest over the inputs)")
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], grey));
+    if let Some((label, pts)) = &p.reference {
+        let pts: Vec<(f64, f64)> = pts.iter().map(|&(x, v)| (x, y(v))).collect();
+        if !pts.is_empty() {
+            let grey = ShapeStyle::from(RGBColor(120, 120, 120)).stroke_width(2);
+            chart
+                .draw_series(DashedLineSeries::new(pts, 10, 5, grey))
+                .map_err(plot_err)?
+                .label(label.as_str())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], grey));
+        }
     }
     chart
         .configure_series_labels()
@@ -160,6 +180,134 @@ pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
         .label_font((FONT, 12))
         .draw()
         .map_err(plot_err)?;
-    root.present().map_err(plot_err)?;
     Ok(())
+}
+
+/// Draws the `sweep --kernel` plot (module docs) into `path`, 900 x 560.
+///
+/// ```
+/// use fixsight_verify::sweep::{find, plot::draw, Row};
+/// let p = find("lines.cos_sin", None).unwrap();
+/// let rows = [Row::from_errors("x", 8, [0.5], Some(0.6)), Row::from_errors("x", 9, [0.0], None)];
+/// let path = std::env::temp_dir().join(format!("fsv-doc-sweep-{}.png", std::process::id()));
+/// draw(p, &rows, &path).unwrap();
+/// assert!(std::fs::metadata(&path).unwrap().len() > 1000);
+/// # std::fs::remove_file(&path).unwrap();
+/// ```
+pub fn draw(p: &SweepParam, rows: &[Row], path: &Path) -> anyhow::Result<()> {
+    let mut inputs: Vec<&str> = Vec::new();
+    for r in rows {
+        if !inputs.contains(&r.input.as_str()) {
+            inputs.push(&r.input);
+        }
+    }
+    let x_range = rows
+        .iter()
+        .fold((u32::MAX, 0), |(a, b), r| (a.min(r.value), b.max(r.value)));
+    let x_range = if rows.is_empty() { (0, 1) } else { x_range };
+    let bound_at = |v: u32| -> Option<f64> {
+        rows.iter()
+            .filter(|r| r.value == v)
+            .filter_map(|r| r.bound)
+            .reduce(f64::max)
+    };
+    let mut series = Vec::new();
+    for (i, input) in inputs.iter().enumerate() {
+        let of: Vec<&Row> = rows.iter().filter(|r| r.input == *input).collect();
+        series.push(Series {
+            label: format!("{input}: largest"),
+            colour: i,
+            solid: true,
+            points: of.iter().map(|r| (r.value as f64, r.max_abs)).collect(),
+        });
+        series.push(Series {
+            label: format!("{input}: mean"),
+            colour: i,
+            solid: false,
+            points: of.iter().map(|r| (r.value as f64, r.mean_abs)).collect(),
+        });
+    }
+    let bound: Vec<(f64, f64)> = (x_range.0..=x_range.1)
+        .filter_map(|v| bound_at(v).map(|b| (v as f64, b)))
+        .collect();
+    let panel = Panel {
+        title: format!("{}: error against {}", p.kernel, p.param),
+        x_desc: format!("{} (swept value)", p.param),
+        y_desc: format!("|fixed - f64|, {} (log scale)", p.unit),
+        x_range,
+        series,
+        reference: (!bound.is_empty()).then(|| ("bound (largest over the inputs)".into(), bound)),
+    };
+    draw_panels(&[panel], (900, 560), path)
+}
+
+/// Draws the warp precision sweep's plot (module docs) into `path`,
+/// 1200 x 520: one colour per map, in the order the rows first name them.
+///
+/// ```
+/// use fixsight_verify::sweep::plot::draw_warp;
+/// use fixsight_verify::warp::sweep::SweepRow;
+/// let row = |f, k| SweepRow { frac_bits: f, grid_log2: k, table_bytes: 8, geo_max_px: 0.01,
+///     geo_rms_px: 0.005, int_max: 1.0, int_rms: 0.3, within_1lsb: 1.0 };
+/// let rows = [row(4, None), row(5, None), row(4, Some(3)), row(5, Some(3))];
+/// let path = std::env::temp_dir().join(format!("fsv-doc-warp-sweep-{}.png", std::process::id()));
+/// draw_warp(&rows, &path).unwrap();
+/// assert!(std::fs::metadata(&path).unwrap().len() > 1000);
+/// # std::fs::remove_file(&path).unwrap();
+/// ```
+pub fn draw_warp(rows: &[SweepRow], path: &Path) -> anyhow::Result<()> {
+    let mut maps: Vec<Option<u32>> = Vec::new();
+    for r in rows {
+        if !maps.contains(&r.grid_log2) {
+            maps.push(r.grid_log2);
+        }
+    }
+    let x_range = rows.iter().fold((u32::MAX, 0), |(a, b), r| {
+        (a.min(r.frac_bits), b.max(r.frac_bits))
+    });
+    let x_range = if rows.is_empty() { (0, 1) } else { x_range };
+    let name = |k: Option<u32>| k.map_or("pixel map".to_string(), |k| format!("grid {}", 1 << k));
+    let panel =
+        |title: &str, y_desc: &str, figure: fn(&SweepRow) -> f64, mark: (&str, f64)| Panel {
+            title: title.into(),
+            x_desc: "frac_bits (fractional bits of the coordinates)".into(),
+            y_desc: y_desc.into(),
+            x_range,
+            series: maps
+                .iter()
+                .enumerate()
+                .map(|(i, &k)| Series {
+                    label: name(k),
+                    colour: i,
+                    solid: true,
+                    points: rows
+                        .iter()
+                        .filter(|r| r.grid_log2 == k)
+                        .map(|r| (r.frac_bits as f64, figure(r)))
+                        .collect(),
+                })
+                .collect(),
+            reference: Some((
+                mark.0.into(),
+                vec![(x_range.0 as f64, mark.1), (x_range.1 as f64, mark.1)],
+            )),
+        };
+    draw_panels(
+        &[
+            panel(
+                "warp: RMS intensity error",
+                "RMS error vs exact-coordinate f64, LSB (log scale)",
+                |r| r.int_rms,
+                ("0.5 LSB", 0.5),
+            ),
+            panel(
+                "warp: largest geometric error",
+                "largest coordinate error, px (log scale)",
+                |r| r.geo_max_px,
+                ("1/32 px", 1.0 / 32.0),
+            ),
+        ],
+        (1200, 520),
+        path,
+    )
 }

@@ -171,6 +171,7 @@ pub fn run_vector(
 fn case(id: &str, comment: &str, cfg: &TrackConfig, frames: &[SeqFrame]) -> GoldenCase {
     let expected = outputs_of(&run_fixed(*cfg, frames).expect("golden sequences are valid"));
     GoldenCase {
+        row_pad: None,
         id: id.into(),
         comment: comment.into(),
         kernel: ID.into(),

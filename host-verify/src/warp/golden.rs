@@ -61,6 +61,7 @@ fn pixel_map_case(
     let geom = WarpGeometry::new(ow, oh, sw, sh, f).expect("golden geometry is valid");
     let out = run_pixel_map(&coords, geom, &img, c, border).expect("golden map is valid");
     GoldenCase {
+        row_pad: None,
         id: id.into(),
         comment: comment.into(),
         kernel: "warp.pixel_map".into(),
@@ -105,6 +106,7 @@ fn grid_case(
     }
     .expect("golden grid runs");
     GoldenCase {
+        row_pad: None,
         id: id.into(),
         comment: comment.into(),
         kernel: kernel.into(),

@@ -10,7 +10,7 @@
 //! | `golden.rs` | golden cases, params, `run_vector` |
 //! | `grid.rs` | the control-grid builder (control points from a lens model, geometric error) |
 //! | `grid_files.rs` | the Rust, C header and blob files of `fixsight-verify grid` |
-//! | `sweep.rs`, `sweep_plot.rs` | the precision sweep of `fixsight-verify sweep` and its plot |
+//! | `sweep.rs` | the precision sweep of `fixsight-verify sweep` (its plot: [`crate::sweep::plot::draw_warp`]) |
 //!
 //! # References
 //!
@@ -69,7 +69,6 @@ pub mod grid_files;
 pub mod reference;
 pub mod run;
 pub mod sweep;
-pub mod sweep_plot;
 #[cfg(test)]
 mod tests;
 

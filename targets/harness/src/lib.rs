@@ -275,7 +275,7 @@ fn run_vector<'a>(
     let mut ins: [Img<'a>; kernels::MAX_IMAGES] = Default::default();
     let mut outs: [Img<'a>; kernels::MAX_IMAGES] = Default::default();
     for (slot, spec) in ins.iter_mut().zip(v.inputs) {
-        match arena.image_from(spec) {
+        match arena.image_from(spec, v.row_pad) {
             Some(img) => *slot = img,
             None => {
                 return (
@@ -287,7 +287,21 @@ fn run_vector<'a>(
         }
     }
     for (slot, spec) in outs.iter_mut().zip(v.expected) {
-        match arena.image_filled(spec.elem, spec.width, spec.height, spec.channels, 0xA5) {
+        // Packed outputs start as 0xA5 bytes; padded ones as OUT_PAD_BYTE,
+        // which their padding must still hold afterwards.
+        let fill = if v.row_pad == 0 {
+            0xA5
+        } else {
+            kernels::OUT_PAD_BYTE
+        };
+        match arena.image_padded(
+            spec.elem,
+            spec.width,
+            spec.height,
+            spec.channels,
+            v.row_pad,
+            fill,
+        ) {
             Some(img) => *slot = img,
             None => {
                 return (
@@ -306,15 +320,8 @@ fn run_vector<'a>(
         return ("ERROR", m, Some(e));
     }
     for (got, want) in outs.iter().zip(v.expected) {
-        if let Some(at) = got.first_difference(want) {
-            return (
-                "FAIL",
-                m,
-                Some(Fail::Mismatch {
-                    image: want.name,
-                    element: at,
-                }),
-            );
+        if let Some(f) = got.first_difference(want) {
+            return ("FAIL", m, Some(f));
         }
     }
     ("pass", m, None)

@@ -49,6 +49,9 @@ pub struct Vector {
     pub run: Option<RunFn>,
     /// Parameters, nested objects flattened to dotted keys.
     pub params: &'static [(&'static str, Param)],
+    /// Padding elements after every row of every image (the manifest's
+    /// `row_pad`; 0: packed rows). See `golden/README.md`, "Padded rows".
+    pub row_pad: usize,
     /// Inputs.
     pub inputs: &'static [ImageSpec],
     /// Expected outputs.

@@ -1,10 +1,11 @@
-//! `filter.*` kernel ids, as `run_vector` in `host-verify/src/filter.rs`
+//! `filter.*` kernel ids, as `run_vector` in `host-verify/src/filter/golden.rs`
 //! computes them: one function per preset (`filter::binomial5`, ...;
-//! params: `border`) and `separable` for caller-chosen taps. Input `src`
+//! params: `border`), `separable` for caller-chosen taps and
+//! `filter_stream` for the same taps through a `FilterStream`. Input `src`
 //! (u8), output `dst` (u8 for smoothing, i16 for derivatives).
 
-use super::{input, output, Arena, Fail, Img, Params};
-use fixsight::filter::{self, Border, FilterOutput, SeparableFilter, Taps, MAX_TAPS};
+use super::{input, output, Arena, Buf, Fail, Img, Params};
+use fixsight::filter::{self, Border, FilterOutput, FilterStream, SeparableFilter, Taps, MAX_TAPS};
 
 fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, Fail> {
     let list = p.ints(key)?;
@@ -17,6 +18,15 @@ fn taps(p: &Params, key: &'static str, shift_key: &'static str) -> Result<Taps, 
     }
     let shift = u32::try_from(p.int(shift_key)?).map_err(|_| Fail::Param(shift_key))?;
     Ok(Taps::new(&c[..list.len()], shift)?)
+}
+
+/// The filter of `filter.separable` and `filter.filter_stream` params.
+fn custom(p: &Params) -> Result<SeparableFilter, Fail> {
+    Ok(filter::separable(
+        taps(p, "h", "h_shift")?,
+        taps(p, "v", "v_shift")?,
+        border(p)?,
+    )?)
 }
 
 pub(super) fn border(p: &Params) -> Result<Border, Fail> {
@@ -52,16 +62,82 @@ pub fn separable(
     outs: &mut [Img<'_>],
     arena: &mut Arena<'_>,
 ) -> Result<(), Fail> {
-    let f = filter::separable(
-        taps(p, "h", "h_shift")?,
-        taps(p, "v", "v_shift")?,
-        border(p)?,
-    )?;
+    let f = custom(p)?;
     let src = input(ins, 0)?;
     let dst = output(outs, 0)?;
     match p.str("output")? {
         "u8" => apply(&f, src, dst.u8_mut()?, arena),
         "i16" => apply(&f, src, dst.i16_mut()?, arena),
+        _ => Err(Fail::Param("output")),
+    }
+}
+
+/// Runs `f` as a row stream from `src` into `dst` (rows `stride`
+/// elements apart), checking that rows come out in order.
+fn stream_rows<T: FilterOutput>(
+    f: &SeparableFilter,
+    src: &Img<'_>,
+    dst: &mut [T],
+    stride: usize,
+    arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    let (w, h) = (src.width, src.height);
+    let rows = FilterStream::ring_rows(f);
+    let ring = arena.u8s(rows * w).ok_or(Fail::Harness("arena full"))?;
+    let acc = arena.i32s(w).ok_or(Fail::Harness("arena full"))?;
+    let Buf::U8(s) = &src.buf else {
+        return Err(Fail::Harness("src must be u8"));
+    };
+    if src.channels != 1 || s.len() < h * src.stride || dst.len() < h * stride {
+        return Err(Fail::Harness("src and dst must be one-channel frames"));
+    }
+    let mut st = FilterStream::new(f, w, h, ring, acc)?;
+    let mut next = 0usize;
+    for y in 0..=h {
+        loop {
+            let at = next.min(h - 1) * stride;
+            let out = &mut dst[at..at + w];
+            let got = if y < h {
+                st.push_row(&s[y * src.stride..y * src.stride + w], out)?
+            } else {
+                st.flush_row(out)?
+            };
+            match got {
+                Some(r) if r == next && next < h => next += 1,
+                Some(_) => return Err(Fail::Harness("stream rows out of order")),
+                None => {}
+            }
+            if y < h || got.is_none() {
+                break;
+            }
+        }
+    }
+    if next == h {
+        Ok(())
+    } else {
+        Err(Fail::Harness("stream emitted too few rows"))
+    }
+}
+
+/// `filter.filter_stream`: params as `filter.separable`; every row of
+/// `src` pushed into a `FilterStream`, then the last rows flushed, each
+/// emitted row written to its row of `dst`.
+pub fn filter_stream(
+    p: &Params,
+    ins: &[Img<'_>],
+    outs: &mut [Img<'_>],
+    arena: &mut Arena<'_>,
+) -> Result<(), Fail> {
+    let f = custom(p)?;
+    let src = input(ins, 0)?;
+    let dst = output(outs, 0)?;
+    if (dst.width, dst.height) != (src.width, src.height) {
+        return Err(Fail::Harness("dst differs from src in size"));
+    }
+    let stride = dst.stride;
+    match (&mut dst.buf, p.str("output")?) {
+        (Buf::U8(d), "u8") => stream_rows(&f, src, d, stride, arena),
+        (Buf::I16(d), "i16") => stream_rows(&f, src, d, stride, arena),
         _ => Err(Fail::Param("output")),
     }
 }

@@ -71,6 +71,7 @@ kernel_table! {
     "filter.scharr_x" => filter::scharr_x,
     "filter.scharr_y" => filter::scharr_y,
     "filter.separable" => filter::separable,
+    "filter.filter_stream" => filter::filter_stream,
     "gradient.magnitude_l1" => gradient::magnitude_l1,
     "gradient.magnitude_l2_approx" => gradient::magnitude_l2_approx,
     "gradient.magnitude_l2_round" => gradient::magnitude_l2_round,
@@ -128,6 +129,15 @@ pub enum Fail {
         /// Index of the first differing element.
         element: usize,
     },
+    /// The kernel wrote into an output's row padding (`row_pad` vectors).
+    Padding {
+        /// Output image name.
+        image: &'static str,
+        /// Row after which the padding was written.
+        row: usize,
+        /// Index of the padding element within that row's padding.
+        element: usize,
+    },
 }
 
 impl From<fixsight::Error> for Fail {
@@ -145,6 +155,14 @@ impl fmt::Display for Fail {
             Fail::Mismatch { image, element } => {
                 write!(f, "output `{image}` differs first at element {element}")
             }
+            Fail::Padding {
+                image,
+                row,
+                element,
+            } => write!(
+                f,
+                "output `{image}`: padding element {element} after row {row} was overwritten"
+            ),
         }
     }
 }
@@ -235,10 +253,17 @@ pub enum Buf<'a> {
     U32(&'a mut [u32]),
 }
 
-/// An image in the arena (rows packed: stride = width * channels).
+/// Every byte of an input's row padding (`row_pad` vectors).
+pub const IN_PAD_BYTE: u8 = 0xE7;
+/// Every byte of an output buffer before the call in a `row_pad` vector;
+/// the padding must still hold it afterwards.
+pub const OUT_PAD_BYTE: u8 = 0x3C;
+
+/// An image in the arena: `height` rows of `stride` elements (`stride =
+/// width * channels + row_pad`; packed when `row_pad` is 0).
 #[derive(Debug)]
 pub struct Img<'a> {
-    /// Elements.
+    /// Elements (`stride * height`).
     pub buf: Buf<'a>,
     /// Width in pixels.
     pub width: usize,
@@ -246,6 +271,8 @@ pub struct Img<'a> {
     pub height: usize,
     /// Interleaved channels.
     pub channels: usize,
+    /// Elements from one row's start to the next.
+    pub stride: usize,
 }
 
 impl Default for Img<'_> {
@@ -255,6 +282,7 @@ impl Default for Img<'_> {
             width: 0,
             height: 0,
             channels: 0,
+            stride: 0,
         }
     }
 }
@@ -268,7 +296,7 @@ macro_rules! img_access {
                     d,
                     self.width,
                     self.height,
-                    self.width * self.channels,
+                    self.stride,
                     self.channels,
                 )?),
                 _ => Err(Fail::Harness(concat!("image is not ", stringify!($t)))),
@@ -277,9 +305,9 @@ macro_rules! img_access {
 
         /// Writable fixsight view, or an error if the element type differs.
         pub fn $view_mut(&mut self) -> Result<fixsight::ImageViewMut<'_, $t>, Fail> {
-            let (w, h, c) = (self.width, self.height, self.channels);
+            let (w, h, c, s) = (self.width, self.height, self.channels, self.stride);
             match &mut self.buf {
-                Buf::$var(d) => Ok(fixsight::ImageViewMut::interleaved(d, w, h, w * c, c)?),
+                Buf::$var(d) => Ok(fixsight::ImageViewMut::interleaved(d, w, h, s, c)?),
                 _ => Err(Fail::Harness(concat!("image is not ", stringify!($t)))),
             }
         }
@@ -293,25 +321,47 @@ impl Img<'_> {
     img_access!(i32, i32_mut, I32, i32);
     img_access!(u32, u32_mut, U32, u32);
 
-    /// Index of the first element whose little-endian bytes differ from
-    /// `want` (or 0 if the shape or element type differs).
-    pub fn first_difference(&self, want: &ImageSpec) -> Option<usize> {
-        if self.width != want.width || self.height != want.height || self.channels != want.channels
+    /// The first difference from `want`: [`Fail::Mismatch`] at the first
+    /// pixel element whose little-endian bytes differ (element 0 if the
+    /// shape or element type differs), or [`Fail::Padding`] at the first
+    /// row-padding element that no longer holds [`OUT_PAD_BYTE`].
+    pub fn first_difference(&self, want: &ImageSpec) -> Option<Fail> {
+        let image = want.name;
+        let row = self.width * self.channels;
+        if self.width != want.width
+            || self.height != want.height
+            || self.channels != want.channels
+            || self.stride < row
         {
-            return Some(0);
+            return Some(Fail::Mismatch { image, element: 0 });
         }
+        let stride = self.stride;
         macro_rules! cmp {
             ($d:expr, $t:ty, $e:path) => {{
-                if want.elem != $e {
-                    return Some(0);
-                }
                 const N: usize = core::mem::size_of::<$t>();
-                if want.bytes.len() != $d.len() * N {
-                    return Some(0);
+                if want.elem != $e || want.bytes.len() != row * self.height * N
+                    || $d.len() < stride * self.height
+                {
+                    return Some(Fail::Mismatch { image, element: 0 });
                 }
-                $d.iter()
-                    .zip(want.bytes.chunks_exact(N))
-                    .position(|(v, b)| v.to_le_bytes()[..] != b[..])
+                let pad = <$t>::from_le_bytes([OUT_PAD_BYTE; N]);
+                for (y, (r, w)) in $d
+                    .chunks(stride)
+                    .zip(want.bytes.chunks_exact(row * N))
+                    .enumerate()
+                {
+                    if let Some(x) = r[..row]
+                        .iter()
+                        .zip(w.chunks_exact(N))
+                        .position(|(v, b)| v.to_le_bytes()[..] != b[..])
+                    {
+                        return Some(Fail::Mismatch { image, element: y * row + x });
+                    }
+                    if let Some(k) = r[row..].iter().position(|&v| v != pad) {
+                        return Some(Fail::Padding { image, row: y, element: k });
+                    }
+                }
+                None
             }};
         }
         match &self.buf {
@@ -379,7 +429,7 @@ impl<'a> Arena<'a> {
         self.words(4 * n)
     }
 
-    /// An image whose every byte is `fill`.
+    /// An image whose every byte is `fill`, packed rows.
     pub fn image_filled(
         &mut self,
         elem: Elem,
@@ -388,7 +438,22 @@ impl<'a> Arena<'a> {
         channels: usize,
         fill: u8,
     ) -> Option<Img<'a>> {
-        let n = width * height * channels;
+        self.image_padded(elem, width, height, channels, 0, fill)
+    }
+
+    /// An image with `row_pad` padding elements after every row (the last
+    /// too), every byte `fill`.
+    pub fn image_padded(
+        &mut self,
+        elem: Elem,
+        width: usize,
+        height: usize,
+        channels: usize,
+        row_pad: usize,
+        fill: u8,
+    ) -> Option<Img<'a>> {
+        let stride = width * channels + row_pad;
+        let n = stride * height;
         let f16 = u16::from_le_bytes([fill; 2]);
         let f32v = u32::from_le_bytes([fill; 4]);
         let buf = match elem {
@@ -423,19 +488,31 @@ impl<'a> Arena<'a> {
             width,
             height,
             channels,
+            stride,
         })
     }
 
-    /// An image holding the decoded elements of a golden file.
-    pub fn image_from(&mut self, spec: &ImageSpec) -> Option<Img<'a>> {
-        let mut img = self.image_filled(spec.elem, spec.width, spec.height, spec.channels, 0)?;
+    /// An image holding the decoded elements of a golden file, with
+    /// `row_pad` padding elements of [`IN_PAD_BYTE`] bytes after every row.
+    pub fn image_from(&mut self, spec: &ImageSpec, row_pad: usize) -> Option<Img<'a>> {
+        let mut img = self.image_padded(
+            spec.elem,
+            spec.width,
+            spec.height,
+            spec.channels,
+            row_pad,
+            IN_PAD_BYTE,
+        )?;
+        let (row, stride) = (spec.width * spec.channels, img.stride);
         macro_rules! dec {
             ($d:expr, $t:ty) => {{
                 const N: usize = core::mem::size_of::<$t>();
-                for (v, b) in $d.iter_mut().zip(spec.bytes.chunks_exact(N)) {
-                    let mut a = [0u8; N];
-                    a.copy_from_slice(b);
-                    *v = <$t>::from_le_bytes(a);
+                for (r, f) in $d.chunks_mut(stride).zip(spec.bytes.chunks_exact(row * N)) {
+                    for (v, b) in r[..row].iter_mut().zip(f.chunks_exact(N)) {
+                        let mut a = [0u8; N];
+                        a.copy_from_slice(b);
+                        *v = <$t>::from_le_bytes(a);
+                    }
                 }
             }};
         }
@@ -466,18 +543,24 @@ pub(crate) fn int<T: TryFrom<i64>>(p: &Params, key: &'static str) -> Result<T, F
     T::try_from(p.int(key)?).map_err(|_| Fail::Param(key))
 }
 
-/// Copies input 0 into output 0 (same shape, u8), unless there is no input.
+/// Copies the pixels of input 0 into output 0 (same shape and stride, u8;
+/// the output's row padding is left as it is), unless there is no input.
 pub(crate) fn copy_in(ins: &[Img<'_>], outs: &mut [Img<'_>]) -> Result<(), Fail> {
     let Some(src) = ins.first() else {
         return Ok(());
     };
     let dst = output(outs, 0)?;
-    if (src.width, src.height, src.channels) != (dst.width, dst.height, dst.channels) {
+    if (src.width, src.height, src.channels, src.stride)
+        != (dst.width, dst.height, dst.channels, dst.stride)
+    {
         return Err(Fail::Harness("input and output differ in shape"));
     }
+    let (row, stride) = (src.width * src.channels, src.stride);
     match (&src.buf, &mut dst.buf) {
-        (Buf::U8(s), Buf::U8(d)) if s.len() == d.len() => {
-            d.copy_from_slice(s);
+        (Buf::U8(s), Buf::U8(d)) if s.len() == d.len() && stride > 0 => {
+            for (o, i) in d.chunks_mut(stride).zip(s.chunks(stride)) {
+                o[..row].copy_from_slice(&i[..row]);
+            }
             Ok(())
         }
         _ => Err(Fail::Harness("input and output must be u8 of one size")),
