@@ -34,7 +34,8 @@
 //! # Memory and time
 //! A caller scratch of `3 * width` bytes holds the rows above, at and below
 //! the current row as they were at the start of the sub-iteration. Each
-//! iteration is two full-frame scans; the number of iterations is about half
+//! iteration is two scans (the first iteration's of the whole frame, see
+//! below); the number of iterations is about half
 //! the thickest stroke plus one, and at most the foreground count plus one
 //! (every iteration but the last deletes a pixel).
 //!
@@ -43,19 +44,24 @@
 //! `min(W, H) / 2 + 1` iterations, each costing `O(W H)`. For a firmware
 //! deadline use [`thin_at_most`]: with a cap of `K` iterations the work is
 //! at most `K` iterations of at most 82 counted operations per pixel (per
-//! sub-iteration: the 2 ring copies, and for a foreground pixel that is
-//! deleted 1 + 8 loads, 1 + 17 compares and ors, 7 shifts, 1 table look-up,
-//! 3 branches, 1 store; see the tallies in the code), whatever the input.
-//! Measured (`cargo run --release -p fixsight --features count-ops
-//! --example thin_worst`, x86-64 host, 2 shared cores):
+//! sub-iteration: the 2 ring copies, a word test per group of 4 pixels, and
+//! for a foreground pixel that is deleted 1 + 8 loads, 1 + 17 compares and
+//! ors, 7 shifts, 1 table look-up, 3 branches, 1 store; see the tallies in
+//! the code), whatever the input. A sub-iteration decides only the rows
+//! whose 3-row neighbourhood changed since the same kind of sub-iteration
+//! last decided them (every row the first time; the others would decide
+//! the same again), so iterations after the first cost in proportion to
+//! the rows still changing. Measured (`cargo run --release -p fixsight
+//! --features count-ops --example thin_worst`, x86-64 host, 2 shared cores
+//! with a QEMU run on the other, commit `e9e9f62`):
 //!
-//! | frame | iterations of a solid frame | ops/px, first iteration | host time, uncapped | host time, one iteration |
-//! |---|---|---|---|---|
-//! | 64x64 | 33 | 79.0 | 1 ms | 0.04 ms |
-//! | 160x120 | 61 | 79.5 | 14 ms | 0.20 ms |
-//! | 320x240 | 121 | 79.8 | 112 ms | 0.73 ms |
-//! | 640x480 | 241 | 79.9 | 935 ms | 7.6 ms |
-//! | 1024x1024 | 513 | 79.9 | 7.1 s | 39 ms |
+//! | frame | iterations of a solid frame | ops/px, first iteration | ops/px per iteration, average | host time, uncapped | host time, one iteration |
+//! |---|---|---|---|---|---|
+//! | 64x64 | 33 | 78.5 | 27.8 | 1 ms | 0.05 ms |
+//! | 160x120 | 61 | 79.0 | 30.7 | 58 ms | 0.23 ms |
+//! | 320x240 | 121 | 79.3 | 30.6 | 58 ms | 0.93 ms |
+//! | 640x480 | 241 | 79.4 | 30.6 | 680 ms | 8.3 ms |
+//! | 1024x1024 | 513 | 79.4 | 27.5 | 4.2 s | 29 ms |
 //!
 //! Edge maps after non-maximum suppression are one or two pixels wide and
 //! need a few iterations; a cap a little above that (for example 8) bounds
