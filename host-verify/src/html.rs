@@ -423,11 +423,11 @@ fn kernel_section(k: &KernelReport, r: &Report, scenes: &[Scene]) -> Result<Stri
 /// (drawn again from the figures) and one row per configuration.
 fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
     let mut out = String::from("<h2 id=\"frontier\">Accuracy/cost map</h2>\n");
-    let _ = write!(
+    let _ = writeln!(
         out,
         "<p>Whole job in point mode, QVGA (<code>fixsight-verify frontier</code>). Edge F1 one \
          to one within 1 px against {}; line errors on the demo sequence against its truth; \
-         cost: {}. Budget at {} MHz and {} frames/s: {:.1} instructions per pixel. {}.</p>\n",
+         cost: {}. Budget at {} MHz and {} frames/s: {:.1} instructions per pixel. {}.</p>",
         esc(&f.reference),
         esc(&f.costs_from),
         f.clock_mhz,
@@ -443,9 +443,9 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
     crate::frontier::plot::draw(f, &path)?;
     let png = std::fs::read(&path);
     let _ = std::fs::remove_file(&path);
-    let _ = write!(
+    let _ = writeln!(
         out,
-        "<img class=\"plot\" alt=\"accuracy/cost map\" src=\"data:image/png;base64,{}\">\n",
+        "<img class=\"plot\" alt=\"accuracy/cost map\" src=\"data:image/png;base64,{}\">",
         base64::engine::general_purpose::STANDARD.encode(png?)
     );
     let rows: Vec<Vec<String>> = f

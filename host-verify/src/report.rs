@@ -114,6 +114,22 @@ pub struct Report {
     pub frontier: Option<crate::frontier::Frontier>,
 }
 
+/// The JSON file at `path` when it exists (a link counts as existing and
+/// is refused by the reader), `None` when it does not; a file that does not
+/// parse is an error naming it, followed by `what`.
+fn json_if_present<T: serde::de::DeserializeOwned>(
+    path: &std::path::Path,
+    what: &str,
+) -> anyhow::Result<Option<T>> {
+    if std::fs::symlink_metadata(path).is_err() {
+        return Ok(None);
+    }
+    let text = crate::files::read_text(path)?;
+    let v = serde_json::from_str(&text)
+        .with_context(|| format!("{} {what}", crate::files::shown_path(path)))?;
+    Ok(Some(v))
+}
+
 /// Runs every family's checks on the given scenes, the lens-dependent
 /// rows with `lens`.
 pub fn check_all(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
@@ -184,30 +200,12 @@ pub fn run(
             failures: vec![("manifest".into(), e.to_string())],
         },
     };
-    let targets_path = out_dir.join("targets.json");
-    let targets = if std::fs::symlink_metadata(&targets_path).is_ok() {
-        let text = crate::files::read_text(&targets_path)?;
-        Some(serde_json::from_str(&text).with_context(|| {
-            format!(
-                "{} is not valid JSON",
-                crate::files::shown_path(&targets_path)
-            )
-        })?)
-    } else {
-        None
-    };
-    let frontier_path = out_dir.join(crate::cmd::frontier::OUTPUTS[1]);
-    let frontier = if std::fs::symlink_metadata(&frontier_path).is_ok() {
-        let text = crate::files::read_text(&frontier_path)?;
-        Some(serde_json::from_str(&text).with_context(|| {
-            format!(
-                "{} is not a map written by `fixsight-verify frontier`",
-                crate::files::shown_path(&frontier_path)
-            )
-        })?)
-    } else {
-        None
-    };
+    let targets: Option<serde_json::Value> =
+        json_if_present(&out_dir.join("targets.json"), "is not valid JSON")?;
+    let frontier = json_if_present(
+        &out_dir.join(crate::cmd::frontier::OUTPUTS[1]),
+        "is not a map written by `fixsight-verify frontier`",
+    )?;
     let targets_ok = targets
         .as_ref()
         .and_then(|t: &serde_json::Value| t["targets"].as_array().cloned())

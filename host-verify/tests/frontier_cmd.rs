@@ -5,33 +5,30 @@
 //! recommendation, the files, the report's section; and bad input as a
 //! message, never a panic or a replaced file.
 
+mod common;
+
+use common::fresh_dir;
 use std::fs;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::Command;
 
-fn dir(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("fixsight-frontier-{name}-{}", std::process::id()));
-    let _ = fs::remove_dir_all(&d);
-    fs::create_dir_all(&d).unwrap();
-    d
+fn dir(name: &str) -> std::path::PathBuf {
+    fresh_dir(&format!("frontier-{name}"))
 }
 
+/// `fixsight-verify --quiet frontier --out OUT ARGS`: exit code, standard
+/// output and error (a panic fails the test).
 fn frontier(out: &Path, args: &[&str]) -> (Option<i32>, String, String) {
     let o = Command::new(env!("CARGO_BIN_EXE_fixsight-verify"))
-        .arg("--quiet")
-        .arg("frontier")
-        .arg("--out")
+        .args(["--quiet", "frontier", "--out"])
         .arg(out)
         .args(args)
         .output()
         .unwrap();
     let err = String::from_utf8_lossy(&o.stderr).to_string();
     assert!(!err.contains("panicked"), "{err}");
-    (
-        o.status.code(),
-        String::from_utf8_lossy(&o.stdout).to_string(),
-        err,
-    )
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    (o.status.code(), out, err)
 }
 
 const CHEAP: &str = "map-binomial3-sobel-l1-t32";

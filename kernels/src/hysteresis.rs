@@ -493,7 +493,7 @@ pub struct HysteresisStats {
 }
 
 /// Neighbour offsets in visiting order N, NE, E, SE, S, SW, W, NW.
-const NEIGHBOURS: [(i32, i32); 8] = [
+pub(crate) const NEIGHBOURS: [(i32, i32); 8] = [
     (0, -1),
     (1, -1),
     (1, 0),

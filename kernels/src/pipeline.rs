@@ -2857,17 +2857,7 @@ mod tests {
             for y in 0..h {
                 for x in 0..w {
                     let mut want = 0u8;
-                    let around = [
-                        (0, -1),
-                        (1, -1),
-                        (1, 0),
-                        (1, 1),
-                        (0, 1),
-                        (-1, 1),
-                        (-1, 0),
-                        (-1, -1),
-                    ];
-                    for (i, (dx, dy)) in around.into_iter().enumerate() {
+                    for (i, (dx, dy)) in hysteresis::NEIGHBOURS.into_iter().enumerate() {
                         let (nx, ny) = (x as i32 + dx, y as i32 + dy);
                         if nx >= 0
                             && ny >= 0

@@ -121,7 +121,8 @@ pub fn thresholds_f64(sup: &[f64], permille: u16, ratio: f64) -> (f64, f64) {
     let target = (v.len() * permille as usize)
         .div_ceil(1000)
         .clamp(1, v.len());
-    let high = v[target - 1].next_up();
+    // The next `f64` above a positive finite value: its bit pattern plus 1.
+    let high = f64::from_bits(v[target - 1].to_bits() + 1);
     (high * ratio, high)
 }
 

@@ -1,6 +1,9 @@
 //! Helpers the command tests share: a fresh temporary folder and a run of
 //! the tool that fails the test on a panic.
 
+// Each test file uses a subset of these helpers.
+#![allow(dead_code)]
+
 use std::fs;
 use std::path::PathBuf;
 use std::process::Command;
