@@ -435,19 +435,14 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
         f.budget_instr_per_px,
         esc(&f.verdict)
     );
-    let path = std::env::temp_dir().join(format!(
-        "fixsight-frontier-{}-{:?}.png",
-        std::process::id(),
-        std::thread::current().id()
-    ));
-    crate::frontier::plot::draw(f, &path)?;
-    let png = std::fs::read(&path);
-    let _ = std::fs::remove_file(&path);
-    let _ = writeln!(
-        out,
-        "<img class=\"plot\" alt=\"accuracy/cost map\" src=\"data:image/png;base64,{}\">",
-        base64::engine::general_purpose::STANDARD.encode(png?)
-    );
+    let (w, h) = crate::frontier::plot::SIZE;
+    out.push_str(&img_tag(
+        &crate::frontier::plot::rgb(f)?,
+        w,
+        h,
+        "accuracy/cost map",
+    )?);
+    out.push('\n');
     let rows: Vec<Vec<String>> = f
         .points
         .iter()

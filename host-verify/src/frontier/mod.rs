@@ -356,7 +356,6 @@ pub fn edge_f1(cfg: &EdgeConfig, refs: &[Reference]) -> Result<Vec<f64>, String>
 /// The demo sequence's first `frames` frames, the truth and the correction
 /// grid's points.
 pub struct SequenceRun {
-    seq: Sequence,
     frames: Vec<Vec<u8>>,
     truth: Vec<crate::sequence::FrameTruth>,
     grid: crate::lines::CorrectionGrid,
@@ -376,7 +375,6 @@ impl SequenceRun {
         let frames = (0..n).map(|k| seq.render(k)).collect();
         let grid = sequence_correction_grid(&seq)?;
         Ok(SequenceRun {
-            seq,
             frames,
             truth,
             grid,
@@ -391,11 +389,6 @@ impl SequenceRun {
     /// No frame.
     pub fn is_empty(&self) -> bool {
         self.frames.is_empty()
-    }
-
-    /// The sequence's name.
-    pub fn name(&self) -> &str {
-        self.seq.spec().name
     }
 }
 

@@ -6,6 +6,7 @@
 
 use super::{Frontier, F1_GOAL};
 use crate::html::{font, FONT};
+use plotters::coord::Shift;
 use plotters::prelude::*;
 use std::path::Path;
 
@@ -13,9 +14,30 @@ fn plot_err<E: std::fmt::Debug>(e: E) -> anyhow::Error {
     anyhow::anyhow!("drawing frontier.png: {e:?}")
 }
 
-/// Draws the plot described in the module docs into `path`; configurations
-/// without a cost are left out (an empty map draws the axes only).
+/// Size of the plot, pixels.
+pub const SIZE: (u32, u32) = (1000, 620);
+
+/// Draws the plot described in the module docs into the PNG file `path`.
 pub fn draw(f: &Frontier, path: &Path) -> anyhow::Result<()> {
+    draw_on(f, BitMapBackend::new(path, SIZE).into_drawing_area())
+}
+
+/// The plot as RGB pixels, [`SIZE`] (for the report page).
+pub fn rgb(f: &Frontier) -> anyhow::Result<Vec<u8>> {
+    let mut buf = vec![0u8; (SIZE.0 * SIZE.1 * 3) as usize];
+    draw_on(
+        f,
+        BitMapBackend::with_buffer(&mut buf, SIZE).into_drawing_area(),
+    )?;
+    Ok(buf)
+}
+
+/// Draws the plot on `root`; configurations without a cost are left out
+/// (an empty map draws the axes only).
+fn draw_on<DB: DrawingBackend>(f: &Frontier, root: DrawingArea<DB, Shift>) -> anyhow::Result<()>
+where
+    DB::ErrorType: 'static,
+{
     font();
     let pts: Vec<(&str, f64, f64, bool)> = f
         .points
@@ -32,7 +54,6 @@ pub fn draw(f: &Frontier, path: &Path) -> anyhow::Result<()> {
         * 1.08;
     let ymin = pts.iter().map(|p| p.2).fold(F1_GOAL, f64::min);
     let ymin = ((ymin - 0.01) * 50.0).floor() / 50.0;
-    let root = BitMapBackend::new(path, (1000, 620)).into_drawing_area();
     root.fill(&WHITE).map_err(plot_err)?;
     let mut chart = ChartBuilder::on(&root)
         .caption(
