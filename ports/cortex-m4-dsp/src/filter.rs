@@ -269,9 +269,11 @@ struct Step {
     os: u32,
 }
 
-/// Calls `emit(step)` for every group of four outputs of the row, left to right.
+/// Pass 2: `out[4g..4g + 4] = step(g)` for every group `g` of four
+/// outputs, left to right; in the last group of a row whose width is not a
+/// multiple of 4 only the elements inside the row are stored.
 #[inline(always)]
-fn rows(lanes: &[u32], mut emit: impl FnMut(&Step)) {
+fn rows<T: Copy>(lanes: &[u32], out: &mut [T], step: impl Fn(&Step) -> [T; 4]) {
     let (Some(&e0), Some(&o0), Some(&e1), Some(&o1)) =
         (lanes.first(), lanes.get(1), lanes.get(2), lanes.get(3))
     else {
@@ -279,32 +281,30 @@ fn rows(lanes: &[u32], mut emit: impl FnMut(&Step)) {
     };
     let mut es_prev = straddle(e0, e1);
     let mut os_prev = straddle(o0, o1);
-    for (cur, next) in lanes[2..].chunks_exact(2).zip(lanes[4..].chunks_exact(2)) {
+    let mut step_at = |cur: &[u32], next: &[u32]| {
         let (e, o) = (cur[0], cur[1]);
         let (es, os) = (straddle(e, next[0]), straddle(o, next[1]));
-        emit(&Step {
+        let s = Step {
             es_prev,
             os_prev,
             e,
             o,
             es,
             os,
-        });
-        es_prev = es;
-        os_prev = os;
+        };
+        (es_prev, os_prev) = (es, os);
+        step(&s)
+    };
+    let mut chunks = out.chunks_exact_mut(4);
+    let mut groups = lanes[2..].chunks_exact(2).zip(lanes[4..].chunks_exact(2));
+    for (c, (cur, next)) in (&mut chunks).zip(&mut groups) {
+        c.copy_from_slice(&step_at(cur, next));
     }
-}
-
-/// Stores the elements of `vals` that fall in `out` (all four but in the
-/// last group of a row whose width is not a multiple of 4).
-#[inline(always)]
-fn store<T: Copy>(out: &mut [T], vals: [T; 4]) {
-    match <&mut [T; 4]>::try_from(&mut *out) {
-        Ok(o) => *o = vals,
-        Err(_) => {
-            let n = out.len().min(4);
-            out[..n].copy_from_slice(&vals[..n]);
-        }
+    let rest = chunks.into_remainder();
+    if let Some((cur, next)) = groups.next() {
+        let vals = step_at(cur, next);
+        let n = rest.len().min(4);
+        rest[..n].copy_from_slice(&vals[..n]);
     }
 }
 
@@ -343,16 +343,11 @@ pub fn binomial5(
         let Some(out) = dst.row_mut(y) else {
             break;
         };
-        let out = &mut out[..w];
-        let mut chunks = out.chunks_mut(4);
-        rows(lanes, |s| {
+        rows(lanes, &mut out[..w], |s| {
             const HALF: u32 = 0x0080_0080;
             let even = s.es_prev + s.es + ((s.os_prev + s.o) << 2) + (s.e << 2) + (s.e << 1);
             let odd = s.os_prev + s.os + ((s.e + s.es) << 2) + (s.o << 2) + (s.o << 1);
-            let bytes = (odd_bytes(even + HALF)) | ((odd + HALF) & 0xFF00_FF00);
-            if let Some(c) = chunks.next() {
-                store(c, bytes.to_le_bytes());
-            }
+            ((odd_bytes(even + HALF)) | ((odd + HALF) & 0xFF00_FF00)).to_le_bytes()
         });
     }
     Ok(())
@@ -390,16 +385,11 @@ pub fn sobel_x(
         let Some(out) = dst.row_mut(y) else {
             break;
         };
-        let out = &mut out[..w];
-        let mut chunks = out.chunks_mut(4);
-        rows(lanes, |s| {
+        rows(lanes, &mut out[..w], |s| {
             let even = ssub16(s.o, s.os_prev);
             let odd = ssub16(s.es, s.e);
             let (lo, hi) = (low_lanes(even, odd), high_lanes(even, odd));
-            let vals = [lo as i16, (lo >> 16) as i16, hi as i16, (hi >> 16) as i16];
-            if let Some(c) = chunks.next() {
-                store(c, vals);
-            }
+            [lo as i16, (lo >> 16) as i16, hi as i16, (hi >> 16) as i16]
         });
     }
     Ok(())

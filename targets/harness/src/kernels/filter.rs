@@ -164,6 +164,7 @@ preset!(
     binomial3,
     u8_mut
 );
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.binomial5`: `[1 4 6 4 1]/16` both ways, u8 output.
     binomial5,
@@ -174,8 +175,47 @@ preset!(
     binomial7,
     u8_mut
 );
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.sobel_x`: i16 output.
+    sobel_x,
+    i16_mut
+);
+
+/// A dispatcher `$name` for the port's `filter::$name` (feature
+/// `port-cortex-m4-dsp`): same params, input and output as the preset's,
+/// the port's scratch from the arena.
+#[cfg(feature = "port-cortex-m4-dsp")]
+macro_rules! ported {
+    ($(#[$doc:meta])* $name:ident, $out:ident) => {
+        $(#[$doc])*
+        pub fn $name(
+            p: &Params,
+            ins: &[Img<'_>],
+            outs: &mut [Img<'_>],
+            arena: &mut Arena<'_>,
+        ) -> Result<(), Fail> {
+            use fixsight_port_cortex_m4_dsp::filter as port;
+            let src = input(ins, 0)?;
+            let scratch = arena
+                .u32s(port::scratch_words(src.width))
+                .ok_or(Fail::Harness("arena full"))?;
+            let mut dst = output(outs, 0)?.$out()?;
+            port::$name(&src.u8()?, &mut dst, border(p)?, scratch)?;
+            Ok(())
+        }
+    };
+}
+
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
+    /// `filter.binomial5` through the Cortex-M4 DSP port.
+    binomial5,
+    u8_mut
+);
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
+    /// `filter.sobel_x` through the Cortex-M4 DSP port.
     sobel_x,
     i16_mut
 );
