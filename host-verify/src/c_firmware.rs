@@ -338,6 +338,7 @@ pub fn run(
             kernels,
             lang: "c".into(),
             c_library: Some(c_library),
+            port: None,
         },
         problems,
     ))

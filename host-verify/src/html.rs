@@ -234,7 +234,7 @@ fn target_rows(targets: &serde_json::Value, id: &str) -> Vec<[String; 6]> {
                     format!(
                         "{} ({})",
                         t["name"].as_str().unwrap_or("?"),
-                        t["lang"].as_str().unwrap_or("rust")
+                        crate::targets::firmware_of(t)
                     ),
                     name.to_string(),
                     fmt(k["instr_per_px"].as_f64().unwrap_or(f64::NAN)),
@@ -514,13 +514,13 @@ pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
                 .map(|c| {
                     vec![
                         c["name"].as_str().unwrap_or("?").to_string(),
-                        c["lang"].as_str().unwrap_or("rust").to_string(),
+                        crate::targets::firmware_of(c),
                         format!("{}/{}", c["passed"], c["vectors"]),
                     ]
                 })
                 .collect();
             out.push_str("<p>On-target runs (targets.json):</p>");
-            table(&mut out, &["core", "language", "vectors bit-exact"], &rows);
+            table(&mut out, &["core", "firmware", "vectors bit-exact"], &rows);
         }
         None => out.push_str(
             "<p>No targets.json in the report folder: on-target figures are not shown (run \

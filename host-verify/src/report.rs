@@ -333,7 +333,7 @@ pub fn table(r: &Report) -> String {
                 "on target {} ({}, {}): {}/{} golden vectors bit-exact\n",
                 t["name"].as_str().unwrap_or("?"),
                 t["triple"].as_str().unwrap_or("?"),
-                t["lang"].as_str().unwrap_or("rust"),
+                crate::targets::firmware_of(t),
                 t["passed"],
                 t["vectors"]
             );

@@ -39,7 +39,7 @@
 use crate::target_sequence::{OnTargetSequence, STAGE};
 use anyhow::{anyhow, bail, Context, Result};
 use serde::{Deserialize, Serialize};
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -115,6 +115,59 @@ pub const TARGETS: [Target; 4] = [
     },
 ];
 
+/// A port (`ports/<name>/`, a crate with optimised variants of kernels)
+/// that a core's firmware can take in place of the kernel crate for the
+/// kernel ids of its `claims.txt`: built as one more image of `core` with
+/// the firmware feature `port-<name>`, run over every golden vector like
+/// the plain image, and reported as one more entry of `targets.json` with
+/// the figures of the claimed ids.
+#[derive(Debug, Clone, Copy)]
+pub struct Port {
+    /// Folder under `ports/` and suffix of the firmware feature.
+    pub name: &'static str,
+    /// Name of the core in [`TARGETS`] the port is written for.
+    pub core: &'static str,
+}
+
+/// The ports in the repository.
+pub const PORTS: [Port; 1] = [Port {
+    name: "cortex-m4-dsp",
+    core: "cortex-m4",
+}];
+
+/// A port and the kernel ids it claims, for one run.
+struct PortRun<'a> {
+    port: &'a Port,
+    /// Kernel ids of `claims.txt`, in file order of the set.
+    claims: Vec<String>,
+    /// `port-<name>`.
+    feature: String,
+}
+
+impl PortRun<'_> {
+    /// Reads the port's `claims.txt`; every entry must be a kernel id of
+    /// the manifest (a vector id would claim part of a kernel, which a
+    /// firmware feature cannot do).
+    fn new<'p>(root: &Path, golden: &Path, port: &'p Port) -> Result<PortRun<'p>> {
+        let manifest = crate::golden::read_manifest(golden)?;
+        let dir = root.join("ports").join(port.name);
+        let claims = crate::cmd::port_check::read_claims(&dir, &manifest.vectors)?
+            .ok_or_else(|| anyhow!("{}: no claims.txt", dir.display()))?;
+        let kernels: BTreeSet<&str> = manifest.vectors.iter().map(|v| v.kernel.as_str()).collect();
+        if let Some(c) = claims.iter().find(|c| !kernels.contains(c.as_str())) {
+            bail!(
+                "{}/claims.txt: `{c}` is not a kernel id; a port claims whole kernels",
+                dir.display()
+            );
+        }
+        Ok(PortRun {
+            port,
+            claims: claims.into_iter().collect(),
+            feature: format!("port-{}", port.name),
+        })
+    }
+}
+
 /// `targets.json`.
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
 pub struct TargetsReport {
@@ -144,6 +197,10 @@ pub struct TargetResult {
     /// The static library a C firmware links, and what it adds.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub c_library: Option<CLibrary>,
+    /// The port (`ports/<name>/`) this firmware took in place of the
+    /// kernel crate for the ids of `kernels`; `None` for the kernel crate.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub port: Option<String>,
 }
 
 fn rust_lang() -> String {
@@ -192,6 +249,17 @@ pub struct SequenceFigures {
     pub instr_per_px_min: f64,
     /// Most instructions per pixel of one frame.
     pub instr_per_px_max: f64,
+}
+
+/// What ran on a core, for tables: the firmware's language, and the port
+/// it took in place of the kernel crate if any (`rust`, `c`,
+/// `rust, port cortex-m4-dsp`), from one entry of `targets.json`.
+pub fn firmware_of(t: &serde_json::Value) -> String {
+    let lang = t["lang"].as_str().unwrap_or("rust");
+    match t["port"].as_str() {
+        Some(p) => format!("{lang}, port {p}"),
+        None => lang.to_string(),
+    }
 }
 
 /// Reads `targets.json` from `dir` if present and well-formed (for the
@@ -311,8 +379,15 @@ pub(crate) fn build_plugin(root: &Path) -> Result<PathBuf> {
     Ok(out)
 }
 
-/// Builds one firmware image; `only` selects a code-size image.
-fn build_firmware(root: &Path, t: &Target, golden: &Path, only: Option<&str>) -> Result<PathBuf> {
+/// Builds one firmware image; `only` selects a code-size image, `feature`
+/// a firmware feature (a port).
+fn build_firmware(
+    root: &Path,
+    t: &Target,
+    golden: &Path,
+    only: Option<&str>,
+    feature: Option<&str>,
+) -> Result<PathBuf> {
     let dir = root.join("targets").join(t.krate);
     let mut cmd = Command::new("timeout");
     cmd.args([
@@ -330,6 +405,9 @@ fn build_firmware(root: &Path, t: &Target, golden: &Path, only: Option<&str>) ->
     .env_remove("CARGO_BUILD_RUSTFLAGS")
     .env_remove("CARGO_ENCODED_RUSTFLAGS")
     .env("FIXSIGHT_GOLDEN_DIR", golden);
+    if let Some(f) = feature {
+        cmd.args(["--features", f]);
+    }
     match only {
         Some(k) => cmd.env("FIXSIGHT_ONLY_KERNELS", k),
         None => cmd.env_remove("FIXSIGHT_ONLY_KERNELS"),
@@ -514,39 +592,45 @@ pub(crate) fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize)
     Ok((cal, calls, done))
 }
 
-/// Runs everything for one core.
-pub fn run_target(
+/// Runs everything for one core: the kernel crate's firmware, or with
+/// `port` the firmware with that port swapped in (figures of the claimed
+/// kernel ids only; no demo sequence).
+fn run_target(
     root: &Path,
     t: &Target,
     golden: &Path,
     plugin: &Path,
     logs: &Path,
     sequence: Option<&OnTargetSequence>,
+    port: Option<&PortRun<'_>>,
 ) -> Result<(TargetResult, Vec<String>)> {
     let mut problems = Vec::new();
-    let elf = build_firmware(root, t, golden, None)?;
+    let feature = port.map(|p| p.feature.as_str());
+    let label = match port {
+        Some(p) => format!("{}+{}", t.name, p.port.name),
+        None => t.name.to_string(),
+    };
+    let elf = build_firmware(root, t, golden, None, feature)?;
     let mut runs = Vec::new();
     for k in 0..2 {
-        let log = logs.join(format!("{}.plugin.{k}.txt", t.name));
+        let log = logs.join(format!("{label}.plugin.{k}.txt"));
         let r = run_qemu(t, &elf, plugin, &log, sequence.map(|s| s.path.as_path()))?;
-        std::fs::write(logs.join(format!("{}.console.{k}.txt", t.name)), &r.console)?;
+        std::fs::write(logs.join(format!("{label}.console.{k}.txt")), &r.console)?;
         runs.push(r);
     }
     let r = &runs[0];
     if runs[1].windows != r.windows {
         problems.push(format!(
-            "{}: instruction counts differ between two runs",
-            t.name
+            "{label}: instruction counts differ between two runs"
         ));
     }
     if runs[1].console != r.console {
         problems.push(format!(
-            "{}: console output differs between two runs",
-            t.name
+            "{label}: console output differs between two runs"
         ));
     }
     let (cal, mut calls, (vectors, passed)) =
-        parse_console(&r.console).with_context(|| format!("{}: status {}", t.name, r.status))?;
+        parse_console(&r.console).with_context(|| format!("{label}: status {}", r.status))?;
     let mut sequence_problems = Vec::new();
     if let Some(seq) = sequence {
         let printed = crate::target_sequence::parse(&r.console)?;
@@ -556,23 +640,23 @@ pub fn run_target(
     }
     for c in calls.iter().filter(|c| c.stage.as_deref() != Some(STAGE)) {
         if c.status != "pass" {
-            problems.push(format!("{}: {}", t.name, c.line));
+            problems.push(format!("{label}: {}", c.line));
         }
     }
     problems.extend(sequence_problems);
     if (r.status == 0) != (passed == vectors) {
         problems.push(format!(
-            "{}: exit status {} disagrees with {passed}/{vectors} vectors passed",
-            t.name, r.status
+            "{label}: exit status {} disagrees with {passed}/{vectors} vectors passed",
+            r.status
         ));
     }
     if r.status != 0 {
-        problems.push(format!("{}: firmware exit status {}", t.name, r.status));
+        problems.push(format!("{label}: firmware exit status {}", r.status));
     }
     let base = *r
         .windows
         .get(cal)
-        .ok_or_else(|| anyhow!("{}: no calibration window", t.name))?;
+        .ok_or_else(|| anyhow!("{label}: no calibration window"))?;
     let insns = |c: &Call| {
         c.window
             .and_then(|w| r.windows.get(w))
@@ -582,7 +666,8 @@ pub fn run_target(
     // Kernel ids in first-seen order.
     let mut ids: Vec<String> = Vec::new();
     for c in &calls {
-        if !ids.contains(&c.kernel) {
+        let claimed = port.is_none_or(|p| p.claims.contains(&c.kernel));
+        if claimed && !ids.contains(&c.kernel) {
             ids.push(c.kernel.clone());
         }
     }
@@ -595,14 +680,14 @@ pub fn run_target(
     let mut code: BTreeMap<String, u64> = BTreeMap::new();
     let bar = crate::progress::bar(
         ids.len() as u64 + 1,
-        &format!("{}: code-size images", t.name),
+        &format!("{label}: code-size images"),
     );
     bar.set_message("none");
-    let none = text_bytes(&build_firmware(root, t, golden, Some("none"))?)?;
+    let none = text_bytes(&build_firmware(root, t, golden, Some("none"), feature)?)?;
     bar.inc(1);
     for id in &ids {
         bar.set_message(id.clone());
-        let with = text_bytes(&build_firmware(root, t, golden, Some(id))?)?;
+        let with = text_bytes(&build_firmware(root, t, golden, Some(id), feature)?)?;
         code.insert(id.clone(), with.saturating_sub(none));
         bar.inc(1);
     }
@@ -676,6 +761,7 @@ pub fn run_target(
             kernels,
             lang: rust_lang(),
             c_library: None,
+            port: port.map(|p| p.port.name.to_string()),
         },
         problems,
     ))
@@ -689,8 +775,12 @@ fn round2(v: f64) -> f64 {
 pub fn table(r: &TargetsReport) -> String {
     let mut s = String::new();
     for t in &r.targets {
+        let port = t
+            .port
+            .as_deref()
+            .map_or(String::new(), |p| format!(", port {p}"));
         s += &format!(
-            "{} ({}, {}): {}/{} golden vectors bit-exact\n",
+            "{} ({}, {}{port}): {}/{} golden vectors bit-exact\n",
             t.name, t.triple, t.lang, t.passed, t.vectors
         );
         if let Some(l) = &t.c_library {
@@ -739,10 +829,24 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
     if lang != Some("c") {
         let seq = crate::target_sequence::prepare(&logs)?;
         for t in &TARGETS {
-            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq))?;
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq), None)?;
             println!(
                 "{} ({}): {}/{} golden vectors bit-exact",
                 t.name, t.triple, r.passed, r.vectors
+            );
+            report.targets.push(r);
+            problems.extend(p);
+        }
+        for port in &PORTS {
+            let run = PortRun::new(&root, &golden, port)?;
+            let t = TARGETS
+                .iter()
+                .find(|t| t.name == port.core)
+                .ok_or_else(|| anyhow!("port {}: no core {}", port.name, port.core))?;
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, None, Some(&run))?;
+            println!(
+                "{} with port {} ({}): {}/{} golden vectors bit-exact",
+                t.name, port.name, t.triple, r.passed, r.vectors
             );
             report.targets.push(r);
             problems.extend(p);
@@ -818,6 +922,7 @@ mod tests {
                     archive_bytes: 10,
                     firmware_bytes_added: 5,
                 }),
+                port: Some("cortex-m4-dsp".into()),
             }],
         };
         std::fs::write(dir.join(TARGETS_JSON), serde_json::to_string(&r).unwrap()).unwrap();

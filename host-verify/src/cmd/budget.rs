@@ -136,7 +136,7 @@ pub fn plan(
         .as_array()
         .map(|a| {
             a.iter()
-                .filter(|t| t["lang"].as_str().unwrap_or("rust") == "rust")
+                .filter(|t| t["lang"].as_str().unwrap_or("rust") == "rust" && t["port"].is_null())
                 .collect()
         })
         .unwrap_or_default();

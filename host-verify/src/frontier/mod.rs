@@ -420,7 +420,7 @@ pub fn m4_cost(t: &TargetsReport, stage: &str) -> Option<(f64, u64)> {
     let want = format!("{JOB_KERNEL}/{stage}");
     t.targets
         .iter()
-        .filter(|c| c.name == CORE && c.lang == "rust")
+        .filter(|c| c.name == CORE && c.lang == "rust" && c.port.is_none())
         .flat_map(|c| &c.kernels)
         .find(|k| k.name == want)
         .map(|k| (k.instr_per_px, k.code_bytes))
