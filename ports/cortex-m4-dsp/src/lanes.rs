@@ -98,6 +98,7 @@ pub fn ssub16(a: u32, b: u32) -> u32 {
         // flags are not declared preserved, so the compiler assumes them
         // clobbered. It cannot fault: the DSP extension is part of every
         // Armv7E-M core, which `cfg(packed_dsp)` (build.rs) guarantees.
+        #[allow(unsafe_code)]
         unsafe {
             core::arch::asm!(
                 "ssub16 {d}, {a}, {b}",

@@ -41,6 +41,8 @@
 
 #![no_std]
 #![deny(missing_docs)]
+// `unsafe` only where a block of inline assembly is allowed by name.
+#![deny(unsafe_code)]
 
 pub mod filter;
 pub mod lanes;
