@@ -17,7 +17,7 @@
 //! Plots carry titles and axis labels, drawn with the DejaVu Sans font that
 //! the `dejavu` crate embeds.
 
-use crate::chain::reference::{agreement, reference_f64};
+use crate::chain::reference::{agreement, reference_of_chain};
 use crate::cmd::run;
 use crate::contract::{Contract, KernelReport};
 use crate::edge_chain::{run_chain, DEMO};
@@ -268,8 +268,8 @@ fn table(out: &mut String, head: &[&str], rows: &[Vec<String>]) {
 /// difference (white both, red fixed only, blue `f64` only).
 fn edge_chain_section(s: &Scene) -> Result<String> {
     let c = run_chain(&s.gray, s.width, s.height, &DEMO).map_err(|e| anyhow!("{e}"))?;
-    let (low, high) = (c.thresholds.low() as f64, c.thresholds.high() as f64);
-    let reference = reference_f64(&s.gray, c.w, c.h, low, high);
+    let (low, high) = (c.thresholds.low(), c.thresholds.high());
+    let reference = reference_of_chain(&s.gray, c.w, c.h, low, high);
     let ag = agreement(&c.thin, &reference, c.w, c.h);
     let grey = |m: &[u8]| -> Vec<u8> { m.iter().flat_map(|&v| [v, v, v]).collect() };
     let diff: Vec<u8> = c
@@ -288,7 +288,8 @@ fn edge_chain_section(s: &Scene) -> Result<String> {
         "<h2 id=\"edges\">Edge chain: fixed point and f64 on scene {name}</h2>\n\
          <p>The demo edge chain (kernel crate, thresholds low {low}, high {high} from its own \
          rule) and the full-f64 Canny of the host (sigma 1 Gaussian, f64 Sobel, interpolated \
-         suppression) with the same thresholds. F1 within 1 px: {f1:.4} (precision {p:.4}, recall \
+         suppression) with the same thresholds, each applied to the f64 magnitude as t - 1/2 \
+         (the test the chain's rounded magnitude makes). F1 within 1 px: {f1:.4} (precision {p:.4}, recall \
          {r:.4}; {kp} fixed, {rp} f64 edge pixels).</p>\n<div class=\"row\">\
          <figure>{src}<figcaption>scene</figcaption></figure>\
          <figure>{fixed}<figcaption>fixed point</figcaption></figure>\

@@ -26,7 +26,7 @@
 //!
 //! | file | holds |
 //! |---|---|
-//! | `reference.rs` | the full-`f64` Canny and the agreement measure |
+//! | `reference.rs` | the full-`f64` Canny, the chain's thresholds on the real line, the agreement measure |
 //! | `check.rs` | the F1 contract on the demo scenes |
 //! | `golden.rs` | the golden case, `run_vector` |
 //!
@@ -45,8 +45,12 @@
 //!    kept when strictly above the sample on the side of negative y (or of
 //!    negative x for a horizontal gradient) and not below the other;
 //! 4. the same integer thresholds as the kernel chain (derived by the
-//!    kernel's automatic rule on its own suppressed magnitudes), compared as
-//!    `f64`; hysteresis as 8-connected components holding a strong pixel.
+//!    kernel's automatic rule on its own suppressed magnitudes), each
+//!    applied to the `f64` magnitude as `t - 1/2`
+//!    ([`reference::chain_threshold_f64`]): the chain compares its
+//!    magnitude rounded to the nearest integer with `t`, which is the test
+//!    `m >= t - 1/2` on the real magnitude `m`; hysteresis as 8-connected
+//!    components holding a strong pixel.
 //!
 //! No thinning: that is the classical detector (Canny 1986, "A
 //! Computational Approach to Edge Detection", IEEE PAMI 8(6)).

@@ -59,10 +59,54 @@ pub fn nms_f64(gx: &[f64], gy: &[f64], mag: &[f64], w: usize, h: usize) -> Vec<f
     crate::nms::reference::suppress_interpolated(gx, gy, mag, w, h)
 }
 
-/// The full-`f64` Canny on an 8-bit image with the given thresholds:
-/// returns 0/255.
+/// The full-`f64` Canny on an 8-bit image with the given thresholds on
+/// the real magnitude line: returns 0/255. To compare with the fixed-point
+/// chain, whose thresholds apply to its rounded magnitude, use
+/// [`reference_of_chain`].
 pub fn reference_f64(gray: &[u8], w: usize, h: usize, low: f64, high: f64) -> Vec<u8> {
     edges_f64(&suppressed_f64(gray, w, h), w, h, low, high)
+}
+
+/// An integer threshold of the fixed-point chain on the real magnitude
+/// line: `t - 1/2`.
+///
+/// The chain classifies its magnitude `M = l2_round(gx, gy)`, the integer
+/// nearest to `m = sqrt(gx^2 + gy^2)` (`fixsight::gradient::l2_round`;
+/// never a tie, as `(k + 1/2)^2` is not an integer), as `M >= t`. Since
+/// `round(m) >= t` holds exactly when `m >= t - 1/2`, that is the test the
+/// chain applies to the real magnitude. Comparing the `f64` magnitude with
+/// `t` itself would make the reference half a unit stricter than the chain
+/// on every pixel, strong and weak alike.
+///
+/// ```
+/// use fixsight_verify::chain::reference::chain_threshold_f64;
+/// // l2_round(199, 17) = 200 (sqrt 39890 = 199.72): strong for t = 200.
+/// assert!(199f64.hypot(17.0) >= chain_threshold_f64(200));
+/// assert!(199f64.hypot(17.0) < 200.0);
+/// ```
+pub fn chain_threshold_f64(t: u16) -> f64 {
+    t as f64 - 0.5
+}
+
+/// The full-`f64` Canny with the fixed-point chain's integer thresholds
+/// `low`, `high`, each placed on the real magnitude line by
+/// [`chain_threshold_f64`]: the reference `chain.edges` is measured
+/// against.
+///
+/// ```
+/// use fixsight_verify::chain::reference::reference_of_chain;
+/// let img: Vec<u8> = (0..64).map(|i| if i % 8 >= 4 { 200 } else { 20 }).collect();
+/// let e = reference_of_chain(&img, 8, 8, 100, 200);
+/// assert!(e.iter().any(|&v| v == 255));
+/// ```
+pub fn reference_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) -> Vec<u8> {
+    reference_f64(
+        gray,
+        w,
+        h,
+        chain_threshold_f64(low),
+        chain_threshold_f64(high),
+    )
 }
 
 /// The suppressed magnitudes of the full-`f64` Canny (0 where suppressed):

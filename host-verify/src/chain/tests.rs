@@ -39,8 +39,8 @@ fn f64_canny_finds_a_vertical_step_at_the_step() {
     // just above it (the rule takes the upper end of the quantile's bin)
     // and has no strong pixel.
     let c = run_chain(&img, w, h, &VECTOR_PARAMS).unwrap();
-    let (lo, hi) = (c.thresholds.low() as f64, c.thresholds.high() as f64);
-    let e = reference_f64(&img, w, h, lo, hi);
+    let (lo, hi) = (c.thresholds.low(), c.thresholds.high());
+    let e = reference_of_chain(&img, w, h, lo, hi);
     for y in 0..h {
         let cols: Vec<usize> = (0..w).filter(|&x| e[y * w + x] != 0).collect();
         let kcols: Vec<usize> = (0..w).filter(|&x| c.thin[y * w + x] != 0).collect();
@@ -48,6 +48,28 @@ fn f64_canny_finds_a_vertical_step_at_the_step() {
         assert_eq!(kcols, vec![7], "kernel row {y} ({lo}, {hi})");
     }
     assert_eq!(agreement(&c.thin, &e, w, h).f1, 1.0);
+}
+
+#[test]
+fn chain_thresholds_on_the_real_line_decide_as_the_rounded_magnitude() {
+    // The chain's test `l2_round(gx, gy) >= t` and the reference's test
+    // `hypot(gx, gy) >= chain_threshold_f64(t)` agree on every integer
+    // gradient of a window around typical thresholds; the unshifted test
+    // `hypot >= t` does not (it is half a unit stricter).
+    let mut unshifted_differs = 0usize;
+    for gx in -260i16..=260 {
+        for gy in 0i16..=260 {
+            let (m, r) = (
+                fixsight::gradient::l2_round(gx, gy),
+                (gx as f64).hypot(gy as f64),
+            );
+            for t in [1u16, 96, 199, 200, 201, 257] {
+                assert_eq!(m >= t, r >= chain_threshold_f64(t), "({gx}, {gy}) t {t}");
+                unshifted_differs += usize::from((m >= t) != (r >= t as f64));
+            }
+        }
+    }
+    assert!(unshifted_differs > 0);
 }
 
 #[test]
