@@ -625,9 +625,7 @@ fn run_target(
         ));
     }
     if runs[1].console != r.console {
-        problems.push(format!(
-            "{label}: console output differs between two runs"
-        ));
+        problems.push(format!("{label}: console output differs between two runs"));
     }
     let (cal, mut calls, (vectors, passed)) =
         parse_console(&r.console).with_context(|| format!("{label}: status {}", r.status))?;
@@ -678,10 +676,7 @@ fn run_target(
     }
     // Code size: one image per kernel id, and the baseline.
     let mut code: BTreeMap<String, u64> = BTreeMap::new();
-    let bar = crate::progress::bar(
-        ids.len() as u64 + 1,
-        &format!("{label}: code-size images"),
-    );
+    let bar = crate::progress::bar(ids.len() as u64 + 1, &format!("{label}: code-size images"));
     bar.set_message("none");
     let none = text_bytes(&build_firmware(root, t, golden, Some("none"), feature)?)?;
     bar.inc(1);
