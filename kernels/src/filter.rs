@@ -36,9 +36,10 @@
 //!
 //! With the cargo feature `compact-filter` only one generic loop per pass
 //! is compiled (a runtime tap count, no constant-tap forms, no per-count
-//! copies): the outputs are the same bit for bit, the code is several times
-//! smaller and the cost per pixel higher (both measured in
-//! `targets/README.md`).
+//! copies), and the whole-frame form's two passes are compiled once for
+//! both output types (the element type is chosen per pixel at the store):
+//! the outputs are the same bit for bit, the code is several times smaller
+//! and the cost per pixel higher (both measured in `targets/README.md`).
 //!
 //! # Memory
 //! * whole frame: a caller scratch of `width` `i32`;
@@ -237,9 +238,35 @@ pub enum Border {
 }
 
 mod sealed {
-    pub trait Sealed {}
-    impl Sealed for u8 {}
-    impl Sealed for i16 {}
+    #[cfg(feature = "compact-filter")]
+    use crate::ImageViewMut;
+
+    pub trait Sealed: Sized {
+        /// The output view as [`OutRows`], for the loops of the feature
+        /// `compact-filter`, compiled once for both element types.
+        #[cfg(feature = "compact-filter")]
+        fn out_rows<'a, 'b>(dst: &'a mut ImageViewMut<'b, Self>) -> OutRows<'a, 'b>;
+    }
+
+    /// An output view of either element type.
+    #[cfg(feature = "compact-filter")]
+    pub enum OutRows<'a, 'b> {
+        U8(&'a mut ImageViewMut<'b, u8>),
+        I16(&'a mut ImageViewMut<'b, i16>),
+    }
+
+    impl Sealed for u8 {
+        #[cfg(feature = "compact-filter")]
+        fn out_rows<'a, 'b>(dst: &'a mut ImageViewMut<'b, u8>) -> OutRows<'a, 'b> {
+            OutRows::U8(dst)
+        }
+    }
+    impl Sealed for i16 {
+        #[cfg(feature = "compact-filter")]
+        fn out_rows<'a, 'b>(dst: &'a mut ImageViewMut<'b, i16>) -> OutRows<'a, 'b> {
+            OutRows::I16(dst)
+        }
+    }
 }
 
 /// Output element of a filter: `u8` (smoothing) or `i16` (derivatives).
@@ -403,7 +430,6 @@ impl SeparableFilter {
         check_single_channel(&dst.as_view())?;
         check_same_size("filter output vs input", src, dst)?;
         let w = src.width();
-        let h = src.height();
         if scratch.len() < w {
             return Err(Error::BufferTooShort {
                 what: "filter scratch",
@@ -412,12 +438,39 @@ impl SeparableFilter {
             });
         }
         let acc = &mut scratch[..w];
-        for y in 0..h {
-            self.vertical_pass(y, h, |yy| src.row_at(yy), acc);
-            self.horizontal_pass(acc, dst.row_at_mut(y));
-            tally(Op::Branch, 1);
+        #[cfg(feature = "compact-filter")]
+        self.apply_compact(src, T::out_rows(dst), acc);
+        #[cfg(not(feature = "compact-filter"))]
+        {
+            let h = src.height();
+            for y in 0..h {
+                self.vertical_pass(y, h, |yy| src.row_at(yy), acc);
+                self.horizontal_pass(acc, dst.row_at_mut(y));
+                tally(Op::Branch, 1);
+            }
         }
         Ok(())
+    }
+
+    /// [`Self::apply`] of the feature `compact-filter`: the loops compiled
+    /// once for both output types, the element type chosen per pixel.
+    #[cfg(feature = "compact-filter")]
+    #[inline(never)]
+    fn apply_compact(
+        &self,
+        src: &ImageView<'_, u8>,
+        mut dst: sealed::OutRows<'_, '_>,
+        acc: &mut [i32],
+    ) {
+        for y in 0..src.height() {
+            self.vertical_any(y, src, acc);
+            let out = match &mut dst {
+                sealed::OutRows::U8(d) => OutRow::U8(d.row_at_mut(y)),
+                sealed::OutRows::I16(d) => OutRow::I16(d.row_at_mut(y)),
+            };
+            self.horizontal_any(acc, out);
+            tally(Op::Branch, 1);
+        }
     }
 
     /// Vertical pass for output row `y`: `acc[x] = sum_j v[j] * P(x, y+j-ry)`.
@@ -595,6 +648,116 @@ impl SeparableFilter {
         tally_per(Op::Logic, 2, n);
         tally_per(Op::Store, 1, n);
         tally_per(Op::Branch, 1, n);
+    }
+}
+
+/// One output row of either element type (the feature `compact-filter`).
+#[cfg(feature = "compact-filter")]
+enum OutRow<'a> {
+    U8(&'a mut [u8]),
+    I16(&'a mut [i16]),
+}
+
+#[cfg(feature = "compact-filter")]
+impl OutRow<'_> {
+    /// Stores the rounded value `v` at `x`, saturated to the element type.
+    #[inline(always)]
+    fn put(&mut self, x: usize, v: i32) {
+        match self {
+            OutRow::U8(o) => {
+                if let Some(d) = o.get_mut(x) {
+                    *d = sat_u8(v);
+                }
+            }
+            OutRow::I16(o) => {
+                if let Some(d) = o.get_mut(x) {
+                    *d = sat_i16(v);
+                }
+            }
+        }
+    }
+}
+
+#[cfg(feature = "compact-filter")]
+impl SeparableFilter {
+    /// [`Self::vertical_pass`] of the feature `compact-filter`: one loop
+    /// per tap row adding into `acc`; a row in a fill border adds
+    /// `v[j] * c` to every column, a row past the edge under the clamp
+    /// rule is the edge row. The same exact sums.
+    #[inline(never)]
+    fn vertical_any(&self, y: usize, src: &ImageView<'_, u8>, acc: &mut [i32]) {
+        let h = src.height() as isize;
+        let r = self.v.radius() as isize;
+        acc.fill(0);
+        for (j, &cv) in self.v.coefficients().iter().enumerate() {
+            let yy = y as isize + j as isize - r;
+            match self.border {
+                Border::Fill(c) if yy < 0 || yy >= h => {
+                    for a in acc.iter_mut() {
+                        *a += cv * c as i32;
+                    }
+                }
+                _ => {
+                    let row = src.row_at(yy.clamp(0, h - 1) as usize);
+                    for (a, &p) in acc.iter_mut().zip(row) {
+                        *a += cv * p as i32;
+                    }
+                }
+            }
+        }
+        let (w, n) = (acc.len(), self.v.coefficients().len() as u32);
+        tally_per(Op::Load, n, w);
+        tally_per(Op::Mac, n, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 1, w);
+    }
+
+    /// [`Self::horizontal_pass`] compiled once for both output types (the
+    /// feature `compact-filter`): the same sums, rounding and saturation,
+    /// the element type chosen per pixel.
+    #[inline(never)]
+    fn horizontal_any(&self, acc: &[i32], mut out: OutRow<'_>) {
+        let w = acc.len();
+        let r = self.h.radius();
+        let s = self.shift();
+        let taps = self.h.coefficients();
+        let outside = match self.border {
+            Border::Fill(c) => Some(c as i32 * self.v.sum() as i32),
+            Border::Clamp => None,
+        };
+        // Interior pixels: their window is a slice of `acc` (none when the
+        // row is no wider than the taps).
+        for (i, win) in acc.windows(taps.len()).enumerate() {
+            let mut sum = 0i32;
+            for (&t, &a) in taps.iter().zip(win) {
+                sum += t * a;
+            }
+            out.put(r + i, round_shift_proven(sum, s));
+        }
+        // The `r` pixels at each end (every pixel of a narrower row): each
+        // tap through the border rule.
+        let left = r.min(w);
+        for x in (0..left).chain(w.saturating_sub(r).max(left)..w) {
+            let mut sum = 0i32;
+            for (i, &c) in taps.iter().enumerate() {
+                let at = (x + i) as isize - r as isize;
+                sum += c * match (acc.get(at.max(0) as usize), outside) {
+                    (Some(&a), _) if at >= 0 => a,
+                    (_, Some(v)) => v,
+                    _ => acc[at.clamp(0, w as isize - 1) as usize],
+                };
+            }
+            out.put(x, round_shift_proven(sum, s));
+        }
+        let k = taps.len() as u32;
+        tally_per(Op::Load, k, w);
+        tally_per(Op::Mac, k, w);
+        // Rounding offset, shift, two saturation compares, store, loop branch.
+        tally_per(Op::AddSub, 1, w);
+        tally_per(Op::Shift, 1, w);
+        tally_per(Op::Logic, 2, w);
+        tally_per(Op::Store, 1, w);
+        tally_per(Op::Branch, 1, w);
     }
 }
 
