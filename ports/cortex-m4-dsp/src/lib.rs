@@ -13,8 +13,12 @@
 //!
 //! | kernel id | function | kernel crate equivalent |
 //! |---|---|---|
+//! | `filter.binomial3` | [`filter::binomial3`] | `fixsight::filter::binomial3(border).apply(..)` |
 //! | `filter.binomial5` | [`filter::binomial5`] | `fixsight::filter::binomial5(border).apply(..)` |
 //! | `filter.sobel_x` | [`filter::sobel_x`] | `fixsight::filter::sobel_x(border).apply(..)` |
+//! | `filter.sobel_y` | [`filter::sobel_y`] | `fixsight::filter::sobel_y(border).apply(..)` |
+//! | `filter.scharr_x` | [`filter::scharr_x`] | `fixsight::filter::scharr_x(border).apply(..)` |
+//! | `filter.scharr_y` | [`filter::scharr_y`] | `fixsight::filter::scharr_y(border).apply(..)` |
 //!
 //! This crate is the only place in the project where `unsafe` is allowed,
 //! and only for inline assembly ([`lanes`]): each block carries a comment
@@ -53,4 +57,11 @@ pub mod lanes;
 /// ```
 /// assert!(fixsight_port_cortex_m4_dsp::CLAIMS.contains(&"filter.sobel_x"));
 /// ```
-pub const CLAIMS: &[&str] = &["filter.binomial5", "filter.sobel_x"];
+pub const CLAIMS: &[&str] = &[
+    "filter.binomial3",
+    "filter.binomial5",
+    "filter.sobel_x",
+    "filter.sobel_y",
+    "filter.scharr_x",
+    "filter.scharr_y",
+];

@@ -9,7 +9,7 @@
 
 use fixsight::filter::Border;
 use fixsight::{ImageView, ImageViewMut};
-use fixsight_port_cortex_m4_dsp::filter::{binomial5, scratch_words, sobel_x};
+use fixsight_port_cortex_m4_dsp::filter::{self as port, scratch_words};
 use fixsight_port_cortex_m4_dsp::CLAIMS;
 use serde_json::Value;
 use std::path::PathBuf;
@@ -35,6 +35,11 @@ fn claims_file_matches_the_crate() {
         CLAIMS.iter().map(|s| s.to_string()).collect::<Vec<_>>()
     );
 }
+
+type PortU8 =
+    fn(&ImageView<'_, u8>, &mut ImageViewMut<'_, u8>, Border, &mut [u32]) -> fixsight::Result<()>;
+type PortI16 =
+    fn(&ImageView<'_, u8>, &mut ImageViewMut<'_, i16>, Border, &mut [u32]) -> fixsight::Result<()>;
 
 fn border(p: &Value) -> Border {
     match &p["border"] {
@@ -72,38 +77,52 @@ fn every_claimed_golden_vector_is_bit_exact() {
         let want = std::fs::read(dir.join(expected["file"].as_str().unwrap())).unwrap();
         let mut scratch = vec![0u32; scratch_words(w)];
         // The output as little-endian bytes, rows packed, and the padding.
-        let (got, padding): (Vec<u8>, Vec<u8>) = match kernel {
-            "filter.binomial5" => {
+        let b = border(&v["params"]);
+        let u8_port = match kernel {
+            "filter.binomial3" => Some(port::binomial3 as PortU8),
+            "filter.binomial5" => Some(port::binomial5 as PortU8),
+            _ => None,
+        };
+        let i16_port = match kernel {
+            "filter.sobel_x" => Some(port::sobel_x as PortI16),
+            "filter.sobel_y" => Some(port::sobel_y as PortI16),
+            "filter.scharr_x" => Some(port::scharr_x as PortI16),
+            "filter.scharr_y" => Some(port::scharr_y as PortI16),
+            _ => None,
+        };
+        // The output as little-endian bytes, rows packed, and the padding.
+        let (got, padding): (Vec<u8>, Vec<u8>) = match (u8_port, i16_port) {
+            (Some(p), _) => {
                 let mut out = vec![0x3Cu8; stride * h];
-                binomial5(
+                p(
                     &src,
                     &mut ImageViewMut::new(&mut out, w, h, stride).unwrap(),
-                    border(&v["params"]),
+                    b,
                     &mut scratch,
                 )
                 .unwrap();
                 split(&out, w, stride, |e| vec![*e])
             }
-            "filter.sobel_x" => {
+            (None, Some(p)) => {
                 let mut out = vec![0x3C3Ci16; stride * h];
-                sobel_x(
+                p(
                     &src,
                     &mut ImageViewMut::new(&mut out, w, h, stride).unwrap(),
-                    border(&v["params"]),
+                    b,
                     &mut scratch,
                 )
                 .unwrap();
                 split(&out, w, stride, |e| e.to_le_bytes().to_vec())
             }
-            k => panic!("claimed kernel {k} has no runner in this test"),
+            _ => panic!("claimed kernel {kernel} has no runner in this test"),
         };
         assert_eq!(got, want, "{id}");
         assert!(padding.iter().all(|&b| b == 0x3C), "{id}: padding written");
         ran += 1;
     }
-    // 13 vectors of the two claimed ids at the time of writing; a claim
+    // 33 vectors of the six claimed ids at the time of writing; a claim
     // without vectors would prove nothing.
-    assert!(ran >= 13, "only {ran} claimed vectors found");
+    assert!(ran >= 33, "only {ran} claimed vectors found");
 }
 
 /// Packed row bytes and padding bytes of a frame with rows `stride` apart.
