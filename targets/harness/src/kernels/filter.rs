@@ -159,6 +159,7 @@ macro_rules! preset {
     };
 }
 
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.binomial3`: `[1 2 1]/4` both ways, u8 output.
     binomial3,
@@ -209,6 +210,12 @@ macro_rules! ported {
 
 #[cfg(feature = "port-cortex-m4-dsp")]
 ported!(
+    /// `filter.binomial3` through the Cortex-M4 DSP port.
+    binomial3,
+    u8_mut
+);
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
     /// `filter.binomial5` through the Cortex-M4 DSP port.
     binomial5,
     u8_mut
@@ -219,16 +226,37 @@ ported!(
     sobel_x,
     i16_mut
 );
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
+    /// `filter.sobel_y` through the Cortex-M4 DSP port.
+    sobel_y,
+    i16_mut
+);
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
+    /// `filter.scharr_x` through the Cortex-M4 DSP port.
+    scharr_x,
+    i16_mut
+);
+#[cfg(feature = "port-cortex-m4-dsp")]
+ported!(
+    /// `filter.scharr_y` through the Cortex-M4 DSP port.
+    scharr_y,
+    i16_mut
+);
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.sobel_y`: i16 output.
     sobel_y,
     i16_mut
 );
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.scharr_x`: i16 output.
     scharr_x,
     i16_mut
 );
+#[cfg(not(feature = "port-cortex-m4-dsp"))]
 preset!(
     /// `filter.scharr_y`: i16 output.
     scharr_y,
