@@ -88,10 +88,24 @@ pub fn chain_threshold_f64(t: u16) -> f64 {
     t as f64 - 0.5
 }
 
-/// The full-`f64` Canny with the fixed-point chain's integer thresholds
-/// `low`, `high`, each placed on the real magnitude line by
-/// [`chain_threshold_f64`]: the reference `chain.edges` is measured
-/// against.
+/// The `f64` counterpart of the fixed-point chain, the reference
+/// `chain.edges` is measured against: the full-`f64` Canny with the
+/// chain's integer thresholds `low`, `high`, each placed on the real
+/// magnitude line by [`chain_threshold_f64`], then thinned by the chain's
+/// own thinning rule (Zhang & Suen 1984, "A fast parallel algorithm for
+/// thinning digital patterns", CACM 27(3); the host model
+/// [`crate::thinning::reference::reference`]), run until nothing changes.
+///
+/// Why thinned: the chain's output is thinned, and the one-to-one figure
+/// (a maximum matching, Martin, Fowlkes & Malik 2004) assumes both maps
+/// are one pixel wide. The `f64` Canny is not: its suppression keeps both
+/// pixels of each step of a 4-connected staircase, so a thinned map can
+/// match only one of the two and the other counted as missed. Thinning is
+/// logic on a binary map, without arithmetic, so applying the same rule
+/// to both maps leaves exactly the differences the fixed-point arithmetic
+/// makes. (The rule also shortens 4-connected staircases from both ends,
+/// down to two pixels for a pure staircase: a property of the thinning,
+/// in any arithmetic, that the unthinned [`reference_f64`] shows.)
 ///
 /// ```
 /// use fixsight_verify::chain::reference::reference_of_chain;
@@ -100,6 +114,21 @@ pub fn chain_threshold_f64(t: u16) -> f64 {
 /// assert!(e.iter().any(|&v| v == 255));
 /// ```
 pub fn reference_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) -> Vec<u8> {
+    let canny = canny_of_chain(gray, w, h, low, high);
+    crate::thinning::reference::reference(&canny, w, h).0
+}
+
+/// The full-`f64` Canny with the fixed-point chain's integer thresholds,
+/// each placed on the real magnitude line by [`chain_threshold_f64`],
+/// before thinning: [`reference_of_chain`] without its last step, the
+/// counterpart of the chain's hysteresis output.
+///
+/// ```
+/// use fixsight_verify::chain::reference::{canny_of_chain, reference_f64};
+/// let img: Vec<u8> = (0..64).map(|i| if i % 8 >= 4 { 200 } else { 20 }).collect();
+/// assert_eq!(canny_of_chain(&img, 8, 8, 100, 200), reference_f64(&img, 8, 8, 99.5, 199.5));
+/// ```
+pub fn canny_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) -> Vec<u8> {
     reference_f64(
         gray,
         w,

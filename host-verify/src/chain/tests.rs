@@ -2,7 +2,7 @@ use super::check::*;
 use super::golden::*;
 use super::reference::*;
 use super::ID;
-use crate::edge_chain::{run_chain, VECTOR_PARAMS};
+use crate::edge_chain::{run_chain, run_classify, run_link, run_thinning, VECTOR_PARAMS};
 
 use crate::scene::demo_scenes;
 
@@ -181,4 +181,48 @@ fn board_ties_do_not_depend_on_summation_order() {
         let rows: Vec<usize> = (1..h - 1).filter(|&y| e[y * w + x] != 0).collect();
         assert_eq!(rows, vec![15, 31], "column {x}");
     }
+}
+
+#[test]
+fn reference_of_chain_is_one_pixel_wide_where_the_canny_is_not() {
+    // Steps along lines of slope 1/2 .. 2: the f64 suppression keeps both
+    // pixels of some staircase steps, so the unthinned Canny is not one
+    // pixel wide there; the reference of the chain is (thinning it again
+    // removes nothing), and on such an image the thinned chain matches it
+    // one to one better than it matches the unthinned Canny.
+    use crate::metrics::matched_agreement;
+    use crate::thinning::reference::reference as thin;
+    let (w, h) = (48usize, 40usize);
+    let mut thick_images = 0;
+    for (a, b) in [(1i64, 2i64), (2, 3), (1, 1), (3, 2), (2, 1), (3, 5), (5, 3)] {
+        let img: Vec<u8> = (0..w * h)
+            .map(|i| {
+                let (x, y) = ((i % w) as i64, (i / w) as i64);
+                if a * x + b * y > a * 24 + b * 20 {
+                    190
+                } else {
+                    40
+                }
+            })
+            .collect();
+        // The automatic rule puts `high` above a lone step; fixed
+        // thresholds well below its magnitude instead.
+        let c = run_chain(&img, w, h, &crate::edge_chain::DEMO_INTERPOLATED).unwrap();
+        let (lo, hi) = (100u16, 200u16);
+        let t = fixsight::hysteresis::Thresholds::new(lo, hi).unwrap();
+        let codes = run_classify(&c.nms, w, h, &t).unwrap();
+        let (edges, _) = run_link(&codes, w, h, 1024).unwrap();
+        let (chain_thin, _) = run_thinning(&edges, w, h).unwrap();
+        let r = reference_of_chain(&img, w, h, lo, hi);
+        assert!(r.iter().any(|&v| v != 0), "slope {a}/{b}: no edge");
+        assert_eq!(thin(&r, w, h).0, r, "slope {a}/{b}");
+        let canny = canny_of_chain(&img, w, h, lo, hi);
+        if thin(&canny, w, h).0 != canny {
+            thick_images += 1;
+            let thinned = matched_agreement(&chain_thin, &r, w, h, 1);
+            let unthinned = matched_agreement(&chain_thin, &canny, w, h, 1);
+            assert!(thinned.f1 > unthinned.f1, "slope {a}/{b}");
+        }
+    }
+    assert!(thick_images > 0, "no image with a thick f64 Canny");
 }

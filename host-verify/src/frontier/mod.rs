@@ -47,7 +47,10 @@
 //!   from a `sigma = 1` Canny: its smoothing, operator, magnitude kind and
 //!   its integer threshold rule (the top of the quantile's histogram bin,
 //!   the low threshold rounded), which is why it is stricter than the
-//!   report's `pipeline.edge_stream` row.
+//!   report's `pipeline.edge_stream` row. The reference is not thinned
+//!   (unlike [`crate::chain::reference::reference_of_chain`]), so every
+//!   configuration, whose edges are thinned, also loses the second pixel
+//!   of each staircase step of the Canny in the one-to-one matching.
 //!   One-to-one F1 within 1 px (Martin, Fowlkes & Malik 2004, "Learning to
 //!   detect natural image boundaries using local brightness, color, and
 //!   texture cues", via [`crate::metrics::matched_agreement`]). Images:

@@ -22,9 +22,10 @@
 //! * **f64**: the same job in `f64`: the full-`f64` Canny of
 //!   [`crate::chain::reference`] with the thresholds the fixed stage used
 //!   in that frame (so the threshold rule is not what is compared), each
-//!   applied to the `f64` magnitude as `t - 1/2`
-//!   ([`crate::chain::reference::reference_of_chain`]: the fixed stage
-//!   compares its magnitude rounded to the nearest integer with `t`); each
+//!   applied to the `f64` magnitude as `t - 1/2` (the fixed stage
+//!   compares its magnitude rounded to the nearest integer with `t`), the
+//!   map thinned by the stage's thinning rule run to the end
+//!   ([`crate::chain::reference::reference_of_chain`]); each
 //!   edge pixel corrected by the lens model itself
 //!   ([`crate::lines::corrected_of`]), gated by the `f64` gradient angle
 //!   `atan2(gy, gx)` of the `f64` Sobel; the `f64` Hough of
@@ -384,7 +385,7 @@ pub fn stage_controls(fixed: &FixedRun) -> Vec<StageControl> {
 
 /// The edge map of the `f64` job's frame: the full-`f64` Canny with the
 /// fixed stage's thresholds of that frame, each as `t - 1/2` on the `f64`
-/// magnitude.
+/// magnitude, thinned by the stage's rule.
 fn f64_job_edges(img: &[u8], w: usize, h: usize, ctl: &StageControl) -> Vec<u8> {
     let (low, high) = ctl.thresholds;
     reference_of_chain(img, w, h, low, high)
