@@ -36,8 +36,11 @@
 //!    `ceil(3 sigma)`, normalised, separable, clamped border, no
 //!    rounding (the kernel chain uses these taps rounded to 1/256, see
 //!    [`fixsight::pipeline::Smoothing::Gauss7`]);
-//! 2. Sobel derivatives in `f64` (same taps, scale and clamped border as
-//!    the kernels), magnitude `sqrt(gx^2 + gy^2)`;
+//! 2. Sobel derivatives in `f64` (same taps and scale as the kernels),
+//!    magnitude `sqrt(gx^2 + gy^2)`; the border as the kernels' fused
+//!    filter has it (smoothing and Sobel on the image with its coordinates
+//!    clamped, so one pixel past the border Sobel reads the smoothing of
+//!    the clamped image there: [`reference::gradients_f64`]);
 //! 3. non-maximum suppression along the exact gradient angle: the
 //!    magnitude on the ray `p +- g / max(|gx|, |gy|)` where it crosses the
 //!    square of the 8 neighbours, linearly interpolated between the two

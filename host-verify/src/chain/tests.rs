@@ -2,7 +2,9 @@ use super::check::*;
 use super::golden::*;
 use super::reference::*;
 use super::ID;
-use crate::edge_chain::{run_chain, run_classify, run_link, run_thinning, VECTOR_PARAMS};
+use crate::edge_chain::{
+    run_chain, run_classify, run_link, run_thinning, GRAD_SCALE, VECTOR_PARAMS,
+};
 
 use crate::scene::demo_scenes;
 
@@ -225,4 +227,44 @@ fn reference_of_chain_is_one_pixel_wide_where_the_canny_is_not() {
         }
     }
     assert!(thick_images > 0, "no image with a thick f64 Canny");
+}
+
+#[test]
+fn f64_gradients_have_the_kernels_border() {
+    // The fused filter of the chain clamps image coordinates, so near the
+    // border its gradients differ from the f64 ones by no more than inside
+    // (tap and output rounding only). Sobel of the smoothed image with its
+    // own clamp (the older reference) is far off there.
+    let ring = |i: usize, w: usize, h: usize| {
+        let (x, y) = (i % w, i / w);
+        x < 4 || y < 4 || x + 4 >= w || y + 4 >= h
+    };
+    let mut scenes = demo_scenes();
+    scenes.extend(crate::natural::natural_scenes());
+    for s in &scenes {
+        let (w, h) = (s.width, s.height);
+        let (kx, ky) = crate::edge_chain::gradients(&s.gray, w, h).unwrap();
+        let worst = |gx: &[f64], gy: &[f64]| {
+            let mut m = [0f64; 2];
+            for i in 0..w * h {
+                let d = (kx[i] as f64 - GRAD_SCALE * gx[i])
+                    .abs()
+                    .max((ky[i] as f64 - GRAD_SCALE * gy[i]).abs());
+                let k = usize::from(ring(i, w, h));
+                m[k] = m[k].max(d);
+            }
+            m
+        };
+        let (gx, gy) = gradients_f64(&s.gray, w, h);
+        let [inside, border] = worst(&gx, &gy);
+        assert!(
+            border <= inside,
+            "{}: border {border} inside {inside}",
+            s.name
+        );
+        let f: Vec<f64> = s.gray.iter().map(|&v| v as f64).collect();
+        let (ox, oy) = sobel_f64(&gaussian_f64(&f, w, h, 1.0), w, h);
+        let [_, old_border] = worst(&ox, &oy);
+        assert!(old_border > 10.0 * inside, "{}: {old_border}", s.name);
+    }
 }

@@ -68,7 +68,7 @@
 //! * `ungated_points_max`: edge points past the gate-byte capacity in the
 //!   worst frame; `candidates_max`.
 
-use crate::chain::reference::{gaussian_f64, reference_of_chain, sobel_f64};
+use crate::chain::reference::{gradients_f64, reference_of_chain};
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::golden::{Blob, GoldenCase};
 use crate::lens::LensInUse;
@@ -414,8 +414,7 @@ pub fn run_f64_with(
     let mut out = Vec::new();
     for (k, (img, ctl)) in frames.iter().zip(controls).enumerate() {
         let edges = f64_job_edges(img, w, h, ctl);
-        let f: Vec<f64> = img.iter().map(|&v| v as f64).collect();
-        let (gx, gy) = sobel_f64(&gaussian_f64(&f, w, h, 1.0), w, h);
+        let (gx, gy) = gradients_f64(img, w, h);
         let mut pts = Vec::new();
         for y in 0..h {
             for x in 0..w {
