@@ -66,16 +66,22 @@
 //! only one of the two. Thinning is binary logic without arithmetic, so
 //! the same rule on both sides leaves the differences the fixed-point
 //! arithmetic makes. On `grass` (interpolating suppression) the thinned
-//! chain matched the unthinned Canny one to one at F1 0.9365 (recall
-//! 0.897), its hysteresis output before thinning at 0.9842; the rule
-//! removes 398 of the chain's 4 122 pixels and 394 of the Canny's 4 067,
-//! and against the thinned Canny the thinned chain reaches 0.9853 (recall
+//! chain matches the unthinned Canny one to one at F1 0.9439 (recall
+//! 0.896), its hysteresis output before thinning at 0.9933; the rule
+//! removes 398 of the chain's 4 122 pixels and 404 of the Canny's 4 141,
+//! and against the thinned Canny the thinned chain reaches 0.9940 (recall
 //! 0.992). The rule also shortens 4-connected staircases from both ends
 //! (a pure staircase down to two pixels), in any arithmetic: on `grass`
-//! 107 pixels of the unthinned Canny have a chain pixel within 1 px before
+//! 113 pixels of the unthinned Canny have a chain pixel within 1 px before
 //! thinning and none after, and none of the thinned Canny within 1 px
 //! either. That is a property of the thinning, visible against
-//! [`reference::canny_of_chain`], not a fixed-point error.
+//! [`reference::canny_of_chain`], not a fixed-point error. What remains
+//! on `grass` (12 chain-only and 16 reference-only pixels) comes from
+//! four pixels whose suppression or class differs: two kept by the `f64`
+//! suppression and not by the chain's, one the other way round, one with
+//! the chain's magnitude 1071 (weak, `high` 1072) and the `f64` one
+//! 1072.017 (strong) — the integer gradients are Sobel of the image
+//! smoothed with taps rounded to 1/256, each rounded to a quarter unit.
 //!
 //! # Design of the fixed-point chain (measured, worst scene `worn-dim`)
 //!
