@@ -289,7 +289,7 @@ fn edge_chain_section(s: &Scene) -> Result<String> {
          <p>The demo edge chain (kernel crate, thresholds low {low}, high {high} from its own \
          rule) and the full-f64 Canny of the host (sigma 1 Gaussian, f64 Sobel, interpolated \
          suppression) with the same thresholds, each applied to the f64 magnitude as t - 1/2 \
-         (the test the chain's rounded magnitude makes). F1 within 1 px: {f1:.4} (precision {p:.4}, recall \
+         (the test the chain's rounded magnitude makes), thinned by the chain's rule. F1 within 1 px: {f1:.4} (precision {p:.4}, recall \
          {r:.4}; {kp} fixed, {rp} f64 edge pixels).</p>\n<div class=\"row\">\
          <figure>{src}<figcaption>scene</figcaption></figure>\
          <figure>{fixed}<figcaption>fixed point</figcaption></figure>\

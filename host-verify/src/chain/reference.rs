@@ -88,10 +88,24 @@ pub fn chain_threshold_f64(t: u16) -> f64 {
     t as f64 - 0.5
 }
 
-/// The full-`f64` Canny with the fixed-point chain's integer thresholds
-/// `low`, `high`, each placed on the real magnitude line by
-/// [`chain_threshold_f64`]: the reference `chain.edges` is measured
-/// against.
+/// The `f64` counterpart of the fixed-point chain, the reference
+/// `chain.edges` is measured against: the full-`f64` Canny with the
+/// chain's integer thresholds `low`, `high`, each placed on the real
+/// magnitude line by [`chain_threshold_f64`], then thinned by the chain's
+/// own thinning rule (Zhang & Suen 1984, "A fast parallel algorithm for
+/// thinning digital patterns", CACM 27(3); the host model
+/// [`crate::thinning::reference::reference`]), run until nothing changes.
+///
+/// Why thinned: the chain's output is thinned, and the one-to-one figure
+/// (a maximum matching, Martin, Fowlkes & Malik 2004) assumes both maps
+/// are one pixel wide. The `f64` Canny is not: its suppression keeps both
+/// pixels of each step of a 4-connected staircase, so a thinned map can
+/// match only one of the two and the other counted as missed. Thinning is
+/// logic on a binary map, without arithmetic, so applying the same rule
+/// to both maps leaves exactly the differences the fixed-point arithmetic
+/// makes. (The rule also shortens 4-connected staircases from both ends,
+/// down to two pixels for a pure staircase: a property of the thinning,
+/// in any arithmetic, that the unthinned [`reference_f64`] shows.)
 ///
 /// ```
 /// use fixsight_verify::chain::reference::reference_of_chain;
@@ -100,6 +114,21 @@ pub fn chain_threshold_f64(t: u16) -> f64 {
 /// assert!(e.iter().any(|&v| v == 255));
 /// ```
 pub fn reference_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) -> Vec<u8> {
+    let canny = canny_of_chain(gray, w, h, low, high);
+    crate::thinning::reference::reference(&canny, w, h).0
+}
+
+/// The full-`f64` Canny with the fixed-point chain's integer thresholds,
+/// each placed on the real magnitude line by [`chain_threshold_f64`],
+/// before thinning: [`reference_of_chain`] without its last step, the
+/// counterpart of the chain's hysteresis output.
+///
+/// ```
+/// use fixsight_verify::chain::reference::{canny_of_chain, reference_f64};
+/// let img: Vec<u8> = (0..64).map(|i| if i % 8 >= 4 { 200 } else { 20 }).collect();
+/// assert_eq!(canny_of_chain(&img, 8, 8, 100, 200), reference_f64(&img, 8, 8, 99.5, 199.5));
+/// ```
+pub fn canny_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) -> Vec<u8> {
     reference_f64(
         gray,
         w,
@@ -109,13 +138,55 @@ pub fn reference_of_chain(gray: &[u8], w: usize, h: usize, low: u16, high: u16) 
     )
 }
 
+/// Sobel of the `sigma = 1` Gaussian of an 8-bit image, in `f64`, with
+/// the kernels' border: the chain runs one fused filter (smoothing
+/// convolved with Sobel) on the image with its coordinates clamped, so
+/// where Sobel reaches one pixel past the image it reads the smoothing of
+/// the clamped image there, not the smoothed border pixel again. Here:
+/// the image padded by one pixel of its border values on each side,
+/// smoothed ([`gaussian_f64`], clamped), Sobel on the padded result
+/// ([`sobel_f64`]), the inner `w x h` kept. (Sobel of the smoothed
+/// `w x h` image with its own clamp differs within 4 pixels of the
+/// border, by up to 429 on `grass`.)
+///
+/// ```
+/// use fixsight_verify::chain::reference::{gaussian_f64, gradients_f64, sobel_f64};
+/// // A ramp rising to the right: away from the border both rules agree,
+/// // at the right border the fused rule sees the ramp flatten one pixel
+/// // later.
+/// let img: Vec<u8> = (0..8 * 6).map(|i| (i % 8 * 20) as u8).collect();
+/// let (gx, _) = gradients_f64(&img, 8, 6);
+/// let f: Vec<f64> = img.iter().map(|&v| v as f64).collect();
+/// let (sx, _) = sobel_f64(&gaussian_f64(&f, 8, 6, 1.0), 8, 6);
+/// assert!((gx[2 * 8 + 3] - sx[2 * 8 + 3]).abs() < 1e-9);
+/// assert!(gx[2 * 8 + 7] > sx[2 * 8 + 7]);
+/// ```
+pub fn gradients_f64(gray: &[u8], w: usize, h: usize) -> (Vec<f64>, Vec<f64>) {
+    if w == 0 || h == 0 {
+        return (Vec::new(), Vec::new());
+    }
+    let (pw, ph) = (w + 2, h + 2);
+    let padded: Vec<f64> = (0..pw * ph)
+        .map(|i| {
+            let x = (i % pw).saturating_sub(1).min(w - 1);
+            let y = (i / pw).saturating_sub(1).min(h - 1);
+            gray[y * w + x] as f64
+        })
+        .collect();
+    let (px, py) = sobel_f64(&gaussian_f64(&padded, pw, ph, 1.0), pw, ph);
+    let inner = |g: &[f64]| -> Vec<f64> {
+        (0..w * h)
+            .map(|i| g[(i / w + 1) * pw + i % w + 1])
+            .collect()
+    };
+    (inner(&px), inner(&py))
+}
+
 /// The suppressed magnitudes of the full-`f64` Canny (0 where suppressed):
 /// the `sigma = 1` Gaussian, Sobel times [`GRAD_SCALE`], the exact `L2`
 /// magnitude, interpolated suppression.
 pub fn suppressed_f64(gray: &[u8], w: usize, h: usize) -> Vec<f64> {
-    let img: Vec<f64> = gray.iter().map(|&v| v as f64).collect();
-    let s = gaussian_f64(&img, w, h, 1.0);
-    let (mut gx, mut gy) = sobel_f64(&s, w, h);
+    let (mut gx, mut gy) = gradients_f64(gray, w, h);
     for v in gx.iter_mut().chain(gy.iter_mut()) {
         *v *= GRAD_SCALE;
     }

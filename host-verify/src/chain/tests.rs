@@ -2,7 +2,9 @@ use super::check::*;
 use super::golden::*;
 use super::reference::*;
 use super::ID;
-use crate::edge_chain::{run_chain, VECTOR_PARAMS};
+use crate::edge_chain::{
+    run_chain, run_classify, run_link, run_thinning, GRAD_SCALE, VECTOR_PARAMS,
+};
 
 use crate::scene::demo_scenes;
 
@@ -180,5 +182,89 @@ fn board_ties_do_not_depend_on_summation_order() {
     for x in [8usize, 24, 40, 56] {
         let rows: Vec<usize> = (1..h - 1).filter(|&y| e[y * w + x] != 0).collect();
         assert_eq!(rows, vec![15, 31], "column {x}");
+    }
+}
+
+#[test]
+fn reference_of_chain_is_one_pixel_wide_where_the_canny_is_not() {
+    // Steps along lines of slope 1/2 .. 2: the f64 suppression keeps both
+    // pixels of some staircase steps, so the unthinned Canny is not one
+    // pixel wide there; the reference of the chain is (thinning it again
+    // removes nothing), and on such an image the thinned chain matches it
+    // one to one better than it matches the unthinned Canny.
+    use crate::metrics::matched_agreement;
+    use crate::thinning::reference::reference as thin;
+    let (w, h) = (48usize, 40usize);
+    let mut thick_images = 0;
+    for (a, b) in [(1i64, 2i64), (2, 3), (1, 1), (3, 2), (2, 1), (3, 5), (5, 3)] {
+        let img: Vec<u8> = (0..w * h)
+            .map(|i| {
+                let (x, y) = ((i % w) as i64, (i / w) as i64);
+                if a * x + b * y > a * 24 + b * 20 {
+                    190
+                } else {
+                    40
+                }
+            })
+            .collect();
+        // The automatic rule puts `high` above a lone step; fixed
+        // thresholds well below its magnitude instead.
+        let c = run_chain(&img, w, h, &crate::edge_chain::DEMO_INTERPOLATED).unwrap();
+        let (lo, hi) = (100u16, 200u16);
+        let t = fixsight::hysteresis::Thresholds::new(lo, hi).unwrap();
+        let codes = run_classify(&c.nms, w, h, &t).unwrap();
+        let (edges, _) = run_link(&codes, w, h, 1024).unwrap();
+        let (chain_thin, _) = run_thinning(&edges, w, h).unwrap();
+        let r = reference_of_chain(&img, w, h, lo, hi);
+        assert!(r.iter().any(|&v| v != 0), "slope {a}/{b}: no edge");
+        assert_eq!(thin(&r, w, h).0, r, "slope {a}/{b}");
+        let canny = canny_of_chain(&img, w, h, lo, hi);
+        if thin(&canny, w, h).0 != canny {
+            thick_images += 1;
+            let thinned = matched_agreement(&chain_thin, &r, w, h, 1);
+            let unthinned = matched_agreement(&chain_thin, &canny, w, h, 1);
+            assert!(thinned.f1 > unthinned.f1, "slope {a}/{b}");
+        }
+    }
+    assert!(thick_images > 0, "no image with a thick f64 Canny");
+}
+
+#[test]
+fn f64_gradients_have_the_kernels_border() {
+    // The fused filter of the chain clamps image coordinates, so near the
+    // border its gradients differ from the f64 ones by no more than inside
+    // (tap and output rounding only). Sobel of the smoothed image with its
+    // own clamp (the older reference) is far off there.
+    let ring = |i: usize, w: usize, h: usize| {
+        let (x, y) = (i % w, i / w);
+        x < 4 || y < 4 || x + 4 >= w || y + 4 >= h
+    };
+    let mut scenes = demo_scenes();
+    scenes.extend(crate::natural::natural_scenes());
+    for s in &scenes {
+        let (w, h) = (s.width, s.height);
+        let (kx, ky) = crate::edge_chain::gradients(&s.gray, w, h).unwrap();
+        let worst = |gx: &[f64], gy: &[f64]| {
+            let mut m = [0f64; 2];
+            for i in 0..w * h {
+                let d = (kx[i] as f64 - GRAD_SCALE * gx[i])
+                    .abs()
+                    .max((ky[i] as f64 - GRAD_SCALE * gy[i]).abs());
+                let k = usize::from(ring(i, w, h));
+                m[k] = m[k].max(d);
+            }
+            m
+        };
+        let (gx, gy) = gradients_f64(&s.gray, w, h);
+        let [inside, border] = worst(&gx, &gy);
+        assert!(
+            border <= inside,
+            "{}: border {border} inside {inside}",
+            s.name
+        );
+        let f: Vec<f64> = s.gray.iter().map(|&v| v as f64).collect();
+        let (ox, oy) = sobel_f64(&gaussian_f64(&f, w, h, 1.0), w, h);
+        let [_, old_border] = worst(&ox, &oy);
+        assert!(old_border > 10.0 * inside, "{}: {old_border}", s.name);
     }
 }

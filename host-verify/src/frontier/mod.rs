@@ -31,6 +31,26 @@
 //!   same automatic rule applied to its own suppressed magnitudes
 //!   ([`crate::chain::reference::thresholds_f64`]), so one reference edge
 //!   map per image serves every configuration whatever its gradient scale.
+//!   The reference never sees a configuration's integer thresholds, so the
+//!   half-unit correction of the chain's reference
+//!   ([`crate::chain::reference::chain_threshold_f64`], `t - 1/2` for a
+//!   magnitude rounded to the nearest integer) has nothing to apply to:
+//!   both sides pick their thresholds by rank (the same share of nonzero
+//!   suppressed magnitudes), and a rank is unchanged by rounding or any
+//!   other non-decreasing map of the magnitude. For `l1` and `l2_approx`
+//!   no such correction could exist anyway: those magnitudes are not a
+//!   rounding of the `L2` magnitude (`l1` is up to `sqrt 2` times it on
+//!   the diagonals; `l2_approx` is within 4.03 % of it, above or below
+//!   depending on the angle), so an
+//!   integer threshold has no fixed place on the `L2` line. What the
+//!   figure does include is everything that makes a configuration differ
+//!   from a `sigma = 1` Canny: its smoothing, operator, magnitude kind and
+//!   its integer threshold rule (the top of the quantile's histogram bin,
+//!   the low threshold rounded), which is why it is stricter than the
+//!   report's `pipeline.edge_stream` row. The reference is not thinned
+//!   (unlike [`crate::chain::reference::reference_of_chain`]), so every
+//!   configuration, whose edges are thinned, also loses the second pixel
+//!   of each staircase step of the Canny in the one-to-one matching.
 //!   One-to-one F1 within 1 px (Martin, Fowlkes & Malik 2004, "Learning to
 //!   detect natural image boundaries using local brightness, color, and
 //!   texture cues", via [`crate::metrics::matched_agreement`]). Images:

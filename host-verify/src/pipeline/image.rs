@@ -26,7 +26,8 @@
 //!   point-mode `f64` job after its edge stage
 //!   ([`super::job::run_f64_with`]) with each edge pixel voting at its own
 //!   position, with the fixed stage's control decisions
-//!   ([`super::job::StageControl`]: its thresholds, and no tape handed to
+//!   ([`super::job::StageControl`]: its thresholds, applied to the `f64`
+//!   magnitude as `t - 1/2`, and no tape handed to
 //!   the tracker in a frame whose gate bytes overflowed).
 //!
 //! # Metrics

@@ -21,7 +21,11 @@
 //!   report and every track's words); a difference fails the row.
 //! * **f64**: the same job in `f64`: the full-`f64` Canny of
 //!   [`crate::chain::reference`] with the thresholds the fixed stage used
-//!   in that frame (so the threshold rule is not what is compared); each
+//!   in that frame (so the threshold rule is not what is compared), each
+//!   applied to the `f64` magnitude as `t - 1/2` (the fixed stage
+//!   compares its magnitude rounded to the nearest integer with `t`), the
+//!   map thinned by the stage's thinning rule run to the end
+//!   ([`crate::chain::reference::reference_of_chain`]); each
 //!   edge pixel corrected by the lens model itself
 //!   ([`crate::lines::corrected_of`]), gated by the `f64` gradient angle
 //!   `atan2(gy, gx)` of the `f64` Sobel; the `f64` Hough of
@@ -64,7 +68,7 @@
 //! * `ungated_points_max`: edge points past the gate-byte capacity in the
 //!   worst frame; `candidates_max`.
 
-use crate::chain::reference::{gaussian_f64, reference_f64, sobel_f64};
+use crate::chain::reference::{gradients_f64, reference_of_chain};
 use crate::contract::{Contract, KernelFamily, KernelReport};
 use crate::golden::{Blob, GoldenCase};
 use crate::lens::LensInUse;
@@ -357,7 +361,8 @@ fn refine_f64(p: &VoteParams, cells: &[f64], t: usize, b: usize) -> (f64, f64) {
 /// the stage's control decisions, not its arithmetic.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct StageControl {
-    /// The thresholds the fixed stage used.
+    /// The thresholds the fixed stage used (the `f64` run applies each
+    /// as `t - 1/2`, [`crate::chain::reference::chain_threshold_f64`]).
     pub thresholds: (u16, u16),
     /// The frame had more candidates than gate bytes (`ungated > 0`): its
     /// vote is incomplete, so the job hands the tracker no tape
@@ -376,6 +381,14 @@ pub fn stage_controls(fixed: &FixedRun) -> Vec<StageControl> {
             overflowed: r.0.ungated > 0,
         })
         .collect()
+}
+
+/// The edge map of the `f64` job's frame: the full-`f64` Canny with the
+/// fixed stage's thresholds of that frame, each as `t - 1/2` on the `f64`
+/// magnitude, thinned by the stage's rule.
+fn f64_job_edges(img: &[u8], w: usize, h: usize, ctl: &StageControl) -> Vec<u8> {
+    let (low, high) = ctl.thresholds;
+    reference_of_chain(img, w, h, low, high)
 }
 
 /// The `f64` job over `frames` with the fixed stage's control decisions
@@ -400,10 +413,8 @@ pub fn run_f64_with(
     let mut tracker = RefTracker::new(cfg.track, DEMO_TRACKS);
     let mut out = Vec::new();
     for (k, (img, ctl)) in frames.iter().zip(controls).enumerate() {
-        let (lo, hi) = ctl.thresholds;
-        let edges = reference_f64(img, w, h, lo as f64, hi as f64);
-        let f: Vec<f64> = img.iter().map(|&v| v as f64).collect();
-        let (gx, gy) = sobel_f64(&gaussian_f64(&f, w, h, 1.0), w, h);
+        let edges = f64_job_edges(img, w, h, ctl);
+        let (gx, gy) = gradients_f64(img, w, h);
         let mut pts = Vec::new();
         for y in 0..h {
             for x in 0..w {
@@ -1174,4 +1185,36 @@ pub fn quarter_case() -> (Sequence, JobParams, Blob) {
     };
     let frames_blob = Blob::from_u8("frames", w, n * h, 1, &frames);
     (seq, base, frames_blob)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::chain::reference::{reference_f64, suppressed_f64};
+
+    #[test]
+    fn f64_job_takes_the_fixed_thresholds_as_the_rounded_magnitude_does() {
+        // A vertical step whose strongest f64 suppressed magnitude m lies
+        // in (t - 1/2, t) for the integer t = ceil(m): the fixed stage's
+        // rounded magnitude reaches t, so with high = t the step is an edge
+        // for the f64 job too; the unshifted test m >= t would drop it.
+        let (w, h) = (16, 12);
+        let found = (1..=255u8).find_map(|a| {
+            let img: Vec<u8> = (0..w * h)
+                .map(|i| if i % w >= w / 2 { a } else { 0 })
+                .collect();
+            let m = suppressed_f64(&img, w, h).into_iter().fold(0.0, f64::max);
+            let t = m.ceil();
+            (t - m > 0.0 && t - m < 0.5 && t <= u16::MAX as f64).then_some((img, t as u16))
+        });
+        let (img, t) = found.expect("a step height with the magnitude just below an integer");
+        let ctl = StageControl {
+            thresholds: (t / 2, t),
+            overflowed: false,
+        };
+        let edges = f64_job_edges(&img, w, h, &ctl);
+        assert!(edges.iter().any(|&v| v != 0));
+        let unshifted = reference_f64(&img, w, h, (t / 2) as f64, t as f64);
+        assert!(unshifted.iter().all(|&v| v == 0));
+    }
 }

@@ -26,7 +26,8 @@
 //!   against the `f64` magnitude of the same gradients;
 //! * `chain.edges`: the demo edge chain against the full-`f64` Canny with
 //!   the same thresholds (as `t - 1/2` on the `f64` magnitude, the test
-//!   the chain's rounded magnitude makes), F1 within 1 px.
+//!   the chain's rounded magnitude makes), thinned by the chain's rule,
+//!   F1 within 1 px.
 //!
 //! # Output (in `--out`, per image `<stem>`)
 //!
