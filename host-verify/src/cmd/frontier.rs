@@ -166,7 +166,7 @@ pub fn run(req: &Request) -> anyhow::Result<String> {
     let budget = req.clock_mhz * 1e6 / (req.fps * 320.0 * 240.0);
     let (recommended, verdict) = frontier::recommend(&points, budget);
     let f = Frontier {
-        reference: "the full-f64 Canny (Gaussian sigma 1, Sobel, exact L2, interpolated suppression) with the automatic rule on its own magnitudes".into(),
+        reference: "the full-f64 Canny (Gaussian sigma 1, Sobel, exact L2, interpolated suppression) with the automatic rule on its own magnitudes, thinned like the edges it is compared with".into(),
         images: refs.iter().map(|r| (r.name.clone(), r.class.clone())).collect(),
         clock_mhz: req.clock_mhz,
         fps: req.fps,

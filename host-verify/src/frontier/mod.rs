@@ -47,10 +47,13 @@
 //!   from a `sigma = 1` Canny: its smoothing, operator, magnitude kind and
 //!   its integer threshold rule (the top of the quantile's histogram bin,
 //!   the low threshold rounded), which is why it is stricter than the
-//!   report's `pipeline.edge_stream` row. The reference is not thinned
-//!   (unlike [`crate::chain::reference::reference_of_chain`]), so every
-//!   configuration, whose edges are thinned, also loses the second pixel
-//!   of each staircase step of the Canny in the one-to-one matching.
+//!   report's `pipeline.edge_stream` row. The reference is thinned by the
+//!   rule the configurations' edges go through (Zhang & Suen 1984, the
+//!   host model [`crate::thinning::reference`]), as
+//!   [`crate::chain::reference::reference_of_chain`] is: the Canny keeps
+//!   both pixels of each step of a 4-connected staircase, and an unthinned
+//!   reference would count every such second pixel as a miss in the
+//!   one-to-one matching.
 //!   One-to-one F1 within 1 px (Martin, Fowlkes & Malik 2004, "Learning to
 //!   detect natural image boundaries using local brightness, color, and
 //!   texture cues", via [`crate::metrics::matched_agreement`]). Images:
@@ -323,7 +326,7 @@ pub struct Frontier {
 }
 
 /// One image's reference: the full-`f64` Canny edges with its own
-/// thresholds (module docs).
+/// thresholds, thinned (module docs).
 pub struct Reference {
     /// Image name.
     pub name: String,
@@ -350,11 +353,13 @@ pub fn references(scenes: &[Scene]) -> Vec<Reference> {
         .map(|s| {
             let sup = suppressed_f64(&s.gray, s.width, s.height);
             let (low, high) = thresholds_f64(&sup, permille, ratio);
+            let canny = edges_f64(&sup, s.width, s.height, low, high);
             Reference {
                 name: s.name.to_string(),
                 class: s.class.name().to_string(),
                 scene: s.clone(),
-                edges: edges_f64(&sup, s.width, s.height, low, high),
+                // Thinned by the rule the configurations' edges go through.
+                edges: crate::thinning::reference::reference(&canny, s.width, s.height).0,
             }
         })
         .collect()
