@@ -376,8 +376,10 @@ pub struct EdgeConfig {
 ///   bins cover the largest magnitude 3697 of these taps in 3700 bytes.
 ///   Measured on the demo scenes (`host-verify`): bins of width 2 and 4
 ///   give the same thresholds and worst-scene F1 0.9686 against the
-///   full-`f64` Canny; width 8 moves `worn-dim` from (60, 124) to (61, 128)
-///   and its F1 to 0.9448, below the 0.95 goal. The first frame uses
+///   full-`f64` Canny of that time (0.9670 against the reference of
+///   `3f06247`: thresholds as `t - 1/2`, thinned, the kernels' border);
+///   width 8 moves `worn-dim` from (60, 124) to (61, 128) and its F1 to
+///   0.9448 (same older reference), below the 0.95 goal. The first frame uses
 ///   `(60, 125)`, about the demo scenes' own thresholds.
 /// * Thinning capped at 8 iterations (the demo scenes need at most 3).
 ///
