@@ -725,6 +725,13 @@ static void edge_stream_cases(void) {
     c.thinning_cap = 65536;
     expect("edge_stream.thinning_cap_65536", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
     c = demo;
+    c.suppression = 2;
+    expect("edge_stream.suppression_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.suppression = -1;
+    expect("edge_stream.suppression_-1", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
+    c.suppression = FXS_SUPPRESSION_INTERPOLATED;
+    expect("edge_stream.suppression_interpolated", fxs_edge_stream_init(&es, &c, 16, 2), FXS_OK);
+    c = demo;
     c.threshold_rule = 2;
     expect("edge_stream.rule_2", fxs_edge_stream_init(&es, &c, 16, 2), FXS_E_BAD_PARAMETER);
     c.threshold_rule = FXS_THRESHOLDS_FIXED;

@@ -794,6 +794,7 @@ static fxs_status run_edge_stream(const golden_vector *v, const img *in, const i
     static const char *const magnitudes[] = {"l1", "l2_approx", "l2_round"};
     static const char *const rules[] = {"fixed", "auto"};
     static const char *const thinning[] = {"off", "until_stable", "at_most"};
+    static const char *const suppression[] = {"sectors", "interpolated"};
     fxs_edge_config c;
     fxs_edge_report r;
     fxs_edge_point pts[64];
@@ -807,6 +808,10 @@ static fxs_status run_edge_stream(const golden_vector *v, const img *in, const i
              p_enum(v, "thresholds", rules, 2, &c.threshold_rule) == 0 &&
              p_enum(v, "thinning", thinning, 3, &c.thinning) == 0,
          "edge configuration names");
+    /* `suppression` is absent from the vectors written before the choice: sectors. */
+    c.suppression = FXS_SUPPRESSION_SECTORS;
+    NEED(!param(v, "suppression") || p_enum(v, "suppression", suppression, 2, &c.suppression) == 0,
+         "suppression name");
     NEED(p_int(v, "frac_bits", &c.frac_bits) == 0 && p_int(v, "low", &c.low) == 0 && p_int(v, "high", &c.high) == 0 &&
              p_int(v, "shift", &c.shift) == 0 && p_int(v, "high_permille", &c.high_permille) == 0 &&
              p_int(v, "low_ratio_u0f16", &c.low_ratio_u0f16) == 0 && p_int(v, "thinning_cap", &c.thinning_cap) == 0,

@@ -923,6 +923,8 @@ fxs_status fxs_tracker_slot_words(const fxs_tracker *tracker, int32_t slot, int3
 #define FXS_THINNING_OFF 0
 #define FXS_THINNING_UNTIL_STABLE 1
 #define FXS_THINNING_AT_MOST 2 /* at most thinning_cap iterations */
+#define FXS_SUPPRESSION_SECTORS 0      /* the two neighbours of the nearest of 4 directions */
+#define FXS_SUPPRESSION_INTERPOLATED 1 /* magnitudes interpolated along the gradient */
 
 /* The whole stream, held by value (FXS_EDGE_STREAM_SIZE bytes, aligned to
  * FXS_OBJECT_ALIGN; a static is the usual place), borrows nothing. */
@@ -944,6 +946,7 @@ typedef struct fxs_edge_config {
     int32_t low_ratio_u0f16; /* auto: low / high as U0F16 bits, 1..65535 */
     int32_t thinning;        /* FXS_THINNING_* */
     int32_t thinning_cap;    /* FXS_THINNING_AT_MOST: 1..65535 */
+    int32_t suppression;     /* FXS_SUPPRESSION_* */
 } fxs_edge_config;
 
 typedef struct fxs_edge_report {

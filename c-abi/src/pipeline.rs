@@ -16,8 +16,8 @@ use crate::boundary::{
 };
 use crate::status::{finish, kernel, FxsStatus, FXS_E_BAD_PARAMETER};
 use fixsight::pipeline::{
-    self, map_words, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator, Smoothing, Thinning,
-    ThresholdRule,
+    self, map_words, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator, Smoothing,
+    Suppression, Thinning, ThresholdRule,
 };
 
 /// `FXS_EDGE_STREAM_MAX_WIDTH`: widest frame.
@@ -79,6 +79,11 @@ pub const FXS_THINNING_OFF: i32 = 0;
 pub const FXS_THINNING_UNTIL_STABLE: i32 = 1;
 /// At most `thinning_cap` iterations.
 pub const FXS_THINNING_AT_MOST: i32 = 2;
+/// Suppression along the nearest of four directions (`Suppression::Sectors`).
+pub const FXS_SUPPRESSION_SECTORS: i32 = 0;
+/// Suppression against the magnitudes interpolated along the gradient
+/// (`Suppression::Interpolated`).
+pub const FXS_SUPPRESSION_INTERPOLATED: i32 = 1;
 
 /// `fxs_edge_config`: every setting of the edge chain (`EdgeConfig`).
 #[repr(C)]
@@ -108,6 +113,8 @@ pub struct FxsEdgeConfig {
     pub thinning: i32,
     /// At-most cap, 1..=65535 (ignored otherwise).
     pub thinning_cap: i32,
+    /// `FXS_SUPPRESSION_*`.
+    pub suppression: i32,
 }
 
 /// `fxs_edge_report`: what a finished frame gave (`FrameReport`).
@@ -211,6 +218,11 @@ pub(crate) fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
         FXS_THINNING_AT_MOST => Thinning::AtMost(narrow(c.thinning_cap)?),
         _ => return Err(FXS_E_BAD_PARAMETER),
     };
+    let suppression = match c.suppression {
+        FXS_SUPPRESSION_SECTORS => Suppression::Sectors,
+        FXS_SUPPRESSION_INTERPOLATED => Suppression::Interpolated,
+        _ => return Err(FXS_E_BAD_PARAMETER),
+    };
     Ok(EdgeConfig {
         smoothing,
         operator,
@@ -218,6 +230,7 @@ pub(crate) fn config(c: &FxsEdgeConfig) -> Checked<EdgeConfig> {
         magnitude,
         thresholds,
         thinning,
+        suppression,
     })
 }
 
@@ -314,6 +327,10 @@ pub(crate) fn config_of(d: &EdgeConfig) -> FxsEdgeConfig {
         low_ratio_u0f16: ratio as i32,
         thinning,
         thinning_cap: cap as i32,
+        suppression: match d.suppression {
+            Suppression::Sectors => FXS_SUPPRESSION_SECTORS,
+            Suppression::Interpolated => FXS_SUPPRESSION_INTERPOLATED,
+        },
     }
 }
 

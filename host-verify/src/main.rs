@@ -298,8 +298,8 @@ enum Cmd {
         report: PathBuf,
     },
     /// The accuracy/cost map: the whole job in point mode over a grid of
-    /// configurations (smoothing, gradient operator, magnitude kind, theta
-    /// resolution), each with its worst one-to-one edge F1 against the
+    /// configurations (smoothing, gradient operator, magnitude kind,
+    /// non-maximum suppression, theta resolution), each with its worst one-to-one edge F1 against the
     /// full-f64 Canny on the demo scenes and natural photographs, its line
     /// accuracy on the demo sequence, its Cortex-M4 instructions per pixel
     /// (from targets.json) and its RAM; marks the Pareto front and names
@@ -307,10 +307,15 @@ enum Cmd {
     /// frontier.json and frontier.png.
     ///
     /// Configurations are named map-<smoothing>-<operator>-<magnitude>-t<theta
-    /// bins>: smoothing none, binomial3, binomial5, binomial7 or gauss7 with
-    /// sobel and l1, l2_approx or l2_round at t32; binomial3 and gauss7 with
-    /// scharr and l2_round; gauss7-sobel-l2_round and binomial3-sobel-l1 at
-    /// t16 (the list the on-target harness measures).
+    /// bins>, with -interpolated at the end for the interpolating
+    /// suppression (4 sectors otherwise): smoothing none, binomial3,
+    /// binomial5, binomial7 or gauss7 with sobel and l1, l2_approx or
+    /// l2_round at t32; binomial3 and gauss7 with scharr and l2_round;
+    /// gauss7-sobel-l2_round and binomial3-sobel-l1 at t16; interpolated:
+    /// binomial3-sobel-l2_approx, binomial5-sobel-l2_round,
+    /// gauss7-sobel-l2_approx and gauss7-sobel-l2_round at t32, and
+    /// gauss7-sobel-l2_round at t16 (the list the on-target harness
+    /// measures).
     ///
     /// Example: fixsight-verify frontier --clock-mhz 168 --fps 30
     /// (after `fixsight-verify targets`, which writes the costs into

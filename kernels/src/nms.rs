@@ -468,6 +468,63 @@ fn sample(mag: &ImageView<'_, u16>, x: usize, y: usize, dx: i32, dy: i32) -> u32
     }
 }
 
+/// The rule of [`suppress_interpolated`] for one pixel: `true` when the
+/// centre of the 3 x 3 magnitudes `n` (`n[1 + dy][1 + dx]` the magnitude
+/// at `(x + dx, y + dy)`, 0 outside the image) survives along the gradient
+/// `g = [gx, gy]` of the centre. Steps 1 to 4 of the integer model of
+/// [`suppress_interpolated`], exactly; the streamed edge stage
+/// ([`crate::pipeline::Suppression::Interpolated`]) calls it too, so the
+/// two agree bit for bit.
+///
+/// ```
+/// // A ridge of 9 along a 30-degree slope (the example of
+/// // `suppress_interpolated`): 9 * 2 < 1 * 8 + 1 * 12, suppressed.
+/// let n = [[0, 0, 0], [0, 9, 8], [0, 0, 12]];
+/// assert!(!fixsight::nms::interpolated_keeps(&n, [2, 1]));
+/// // A vertical ridge (gradient along x): 9 beats 3 and 4.
+/// assert!(fixsight::nms::interpolated_keeps(&[[0; 3], [3, 9, 4], [0; 3]], [5, 0]));
+/// ```
+#[inline(always)]
+pub fn interpolated_keeps(n: &[[u16; 3]; 3], g: [i16; 2]) -> bool {
+    let m = n[1][1] as u32;
+    let (mut dx, mut dy) = (g[0] as i32, g[1] as i32);
+    if dy < 0 || (dy == 0 && dx < 0) {
+        dx = -dx;
+        dy = -dy;
+    }
+    let adx = dx.unsigned_abs();
+    let ady = dy as u32;
+    if m == 0 || (adx == 0 && ady == 0) {
+        return false;
+    }
+    // Column of `x + s` and of `x - s` (`s = sign(dx)`).
+    let (fwd_col, back_col) = match dx.signum() {
+        1 => (2, 0),
+        -1 => (0, 2),
+        _ => (1, 1),
+    };
+    let at = |row: usize, col: usize| n[row][col] as u32;
+    let (a, b, after, before) = if adx >= ady {
+        (
+            adx,
+            ady,
+            (at(1, fwd_col), at(2, fwd_col)),
+            (at(1, back_col), at(0, back_col)),
+        )
+    } else {
+        (
+            ady,
+            adx,
+            (at(2, 1), at(2, fwd_col)),
+            (at(0, 1), at(0, back_col)),
+        )
+    };
+    let fwd = (a - b) * after.0 + b * after.1;
+    let back = (a - b) * before.0 + b * before.1;
+    let ma = m * a;
+    ma > back && ma >= fwd
+}
+
 /// Whole-frame non-maximum suppression along the exact gradient direction
 /// with linear interpolation between the two neighbours the gradient ray
 /// passes between (the form Canny 1986 describes; the 4-sector
@@ -551,38 +608,13 @@ pub fn suppress_interpolated(
         let (rm, rx, ry) = (mag.row_at(y), gx.row_at(y), gy.row_at(y));
         let orow = out.row_at_mut(y);
         for x in 0..w {
-            let m = rm[x] as u32;
-            let (mut dx, mut dy) = (rx[x] as i32, ry[x] as i32);
-            if dy < 0 || (dy == 0 && dx < 0) {
-                dx = -dx;
-                dy = -dy;
-            }
-            let s = dx.signum();
-            let adx = dx.unsigned_abs();
-            let ady = dy as u32;
-            if m == 0 || (adx == 0 && ady == 0) {
-                orow[x] = 0;
-                continue;
-            }
-            let (a, b, after, before) = if adx >= ady {
-                (
-                    adx,
-                    ady,
-                    (sample(mag, x, y, s, 0), sample(mag, x, y, s, 1)),
-                    (sample(mag, x, y, -s, 0), sample(mag, x, y, -s, -1)),
-                )
+            let near = |dy: i32| [-1, 0, 1].map(|dx| sample(mag, x, y, dx, dy) as u16);
+            let n = [near(-1), near(0), near(1)];
+            orow[x] = if interpolated_keeps(&n, [rx[x], ry[x]]) {
+                rm[x]
             } else {
-                (
-                    ady,
-                    adx,
-                    (sample(mag, x, y, 0, 1), sample(mag, x, y, s, 1)),
-                    (sample(mag, x, y, 0, -1), sample(mag, x, y, -s, -1)),
-                )
+                0
             };
-            let fwd = (a - b) * after.0 + b * after.1;
-            let back = (a - b) * before.0 + b * before.1;
-            let ma = m * a;
-            orow[x] = if ma > back && ma >= fwd { m as u16 } else { 0 };
         }
         // Per pixel: loads m, gx, gy and four neighbours; orientation
         // (compare, two negations, sign, two abs); major-axis compare and

@@ -19,7 +19,8 @@
 //!    convolved with the operator's derivative and cross taps, one
 //!    rounding, clamped border), `i16` output;
 //! 2. magnitude ([`Magnitude`]) and [`crate::gradient::direction`];
-//! 3. [`crate::nms::suppress`];
+//! 3. [`crate::nms::suppress`], or with [`Suppression::Interpolated`]
+//!    [`crate::nms::suppress_interpolated`] on the gradients of step 1;
 //! 4. [`crate::hysteresis::classify`] with the thresholds in use for the
 //!    frame (see *Thresholds* below);
 //! 5. [`crate::hysteresis::link`];
@@ -337,6 +338,31 @@ pub enum Thinning {
     AtMost(u16),
 }
 
+/// Non-maximum suppression of the stage (step 3 of the module docs).
+///
+/// ```
+/// use fixsight::pipeline::{EdgeConfig, Suppression, DEMO};
+/// assert_eq!(DEMO.suppression, Suppression::Sectors);
+/// let finer = EdgeConfig { suppression: Suppression::Interpolated, ..DEMO };
+/// assert!(finer.check().is_ok());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Suppression {
+    /// [`crate::nms::suppress`] with the sector of
+    /// [`crate::gradient::direction_sector`]: the two neighbours along the
+    /// nearest of four directions. The cheaper rule.
+    Sectors,
+    /// [`crate::nms::suppress_interpolated`] (its per-pixel rule
+    /// [`crate::nms::interpolated_keeps`]): the magnitude interpolated
+    /// between the two neighbours the gradient ray passes between, on the
+    /// same integer gradients. Closer to the `f64` Canny on textured and
+    /// sharp natural images; it reads the gradient of the pixel instead of
+    /// its sector and costs about three times as much per candidate
+    /// (`targets/README.md`).
+    Interpolated,
+}
+
 /// Every setting of the edge chain.
 ///
 /// ```
@@ -361,6 +387,8 @@ pub struct EdgeConfig {
     pub thresholds: ThresholdRule,
     /// Thinning.
     pub thinning: Thinning,
+    /// Non-maximum suppression.
+    pub suppression: Suppression,
 }
 
 /// The demo configuration, used by the host tool's report, the golden
@@ -401,6 +429,7 @@ pub const DEMO: EdgeConfig = EdgeConfig {
         first_high: 125,
     },
     thinning: Thinning::AtMost(8),
+    suppression: Suppression::Sectors,
 };
 
 /// The fused gradient taps of a configuration: `deriv` = smoothing
@@ -736,9 +765,9 @@ pub const fn map_words(width: usize, height: usize) -> usize {
 ///
 /// ```
 /// use fixsight::pipeline::DemoQvga;
-/// // 29 216 bytes without point gradients, 4 more per stored candidate.
-/// assert_eq!(DemoQvga::<0>::ram_bytes(), 29_216);
-/// assert_eq!(DemoQvga::<888>::ram_bytes(), 29_216 + 4 * 888);
+/// // 29 224 bytes without point gradients, 4 more per stored candidate.
+/// assert_eq!(DemoQvga::<0>::ram_bytes(), 29_224);
+/// assert_eq!(DemoQvga::<888>::ram_bytes(), 29_224 + 4 * 888);
 /// ```
 pub type DemoQvga<const CAP: usize> =
     EdgeStream<320, { map_words(320, 240) }, { DEMO.bins_needed() }, CAP>;
@@ -746,7 +775,7 @@ pub type DemoQvga<const CAP: usize> =
 /// The [`DEMO`] stage for 640 x 480 frames with `CAP` point gradients.
 ///
 /// ```
-/// assert_eq!(fixsight::pipeline::DemoVga::<0>::ram_bytes(), 92_896);
+/// assert_eq!(fixsight::pipeline::DemoVga::<0>::ram_bytes(), 92_904);
 /// ```
 pub type DemoVga<const CAP: usize> =
     EdgeStream<640, { map_words(640, 480) }, { DEMO.bins_needed() }, CAP>;
@@ -1577,6 +1606,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         let mut cl = Classifier::<CAP>::new(
             self.thresholds,
             auto,
+            self.cfg.suppression,
             &mut self.hist[..self.bins],
             &mut self.map[(y.saturating_sub(1)) * w.div_ceil(16)..][..w.div_ceil(16)],
             &mut self.grads,
@@ -1645,7 +1675,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             }
         }
         if classify {
-            tally_classify(n, counted);
+            tally_classify(n, counted, self.cfg.suppression);
         }
     }
 
@@ -1667,6 +1697,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         let mut cl = Classifier::<CAP>::new(
             self.thresholds,
             auto,
+            self.cfg.suppression,
             &mut self.hist[..self.bins],
             &mut self.map[y * stride..(y + 1) * stride],
             &mut self.grads,
@@ -1677,7 +1708,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         self.candidates += cl.n.candidates;
         let counted = cl.n.counted;
         self.classified = height;
-        tally_classify(w as u32, counted);
+        tally_classify(w as u32, counted, self.cfg.suppression);
     }
 
     fn auto_shift(&self) -> Option<u32> {
@@ -2193,6 +2224,8 @@ struct Rule {
     t: Thresholds,
     floor: u16,
     auto: Option<u32>,
+    /// [`Suppression::Interpolated`].
+    interpolated: bool,
 }
 
 /// The running counts of a classified row (kept in locals by the row
@@ -2237,15 +2270,20 @@ fn classify_px<const CAP: usize, T: SectorRule>(
     let mut code = NONE;
     let mc = c[1];
     if mc >= rule.floor {
-        // The rule of `nms::suppress` with the sector of
-        // `gradient::direction_sector`.
-        let (before, after) = match f.sector(g) {
-            0 => (c[0], c[2]),
-            1 => (a[0], b[2]),
-            2 => (a[1], b[1]),
-            _ => (a[2], b[0]),
+        let keep = if rule.interpolated {
+            crate::nms::interpolated_keeps(&[*a, *c, *b], g)
+        } else {
+            // The rule of `nms::suppress` with the sector of
+            // `gradient::direction_sector`.
+            let (before, after) = match f.sector(g) {
+                0 => (c[0], c[2]),
+                1 => (a[0], b[2]),
+                2 => (a[1], b[1]),
+                _ => (a[2], b[0]),
+            };
+            mc > before && mc >= after
         };
-        if mc > before && mc >= after {
+        if keep {
             if let Some(sh) = rule.auto {
                 // The bins cover the largest magnitude (checked at
                 // configure), so the index never reaches past the last
@@ -2279,6 +2317,7 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
     fn new(
         t: Thresholds,
         auto: Option<u32>,
+        suppression: Suppression,
         hist: &'a mut [u32],
         words: &'a mut [u32],
         grads: &'a mut [[i16; 2]; CAP],
@@ -2289,6 +2328,7 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
                 t,
                 floor: if auto.is_some() { 1 } else { t.low() },
                 auto,
+                interpolated: suppression == Suppression::Interpolated,
             },
             hist,
             words,
@@ -2390,7 +2430,16 @@ impl<'a, const CAP: usize> Classifier<'a, CAP> {
 
 /// Tallies the classification of `n` pixels, `counted` of them into the
 /// histogram.
-fn tally_classify(n: u32, counted: u32) {
+fn tally_classify(n: u32, counted: u32, suppression: Suppression) {
+    if suppression == Suppression::Interpolated {
+        // Over the sector rule: the interpolated rule's five multiplies
+        // against the sector's two squares, three more additions (the two
+        // interpolated sides and the orientation) and the branches of the
+        // orientation and the major axis.
+        tally(Op::Mul, 3 * n);
+        tally(Op::AddSub, 3 * n);
+        tally(Op::Branch, 2 * n);
+    }
     // Per pixel: direction (about 12 operations, see
     // `gradient::direction_row`), 4 loads, 2 compares and a select for the
     // suppression, 2 compares for the class, a shift and an or to pack it;
@@ -2631,8 +2680,8 @@ pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDG
 /// [`PointJob::ram_bytes`] is `size_of::<Self>()`: the edge stage, the
 /// held gradient row `4 W`, the gate bytes `CAP`, the accumulator and its
 /// table `2 T R + 4 T`, `K` peaks and lines, the tracker. For the demo at
-/// 320 x 240 ([`DemoPointJobQvga`]) it is 48 488 bytes, within 48 KiB
-/// (49 152); at 640 x 480 ([`DemoPointJobVga`]) 138 536. The correction
+/// 320 x 240 ([`DemoPointJobQvga`]) it is 48 496 bytes, within 48 KiB
+/// (49 152); at 640 x 480 ([`DemoPointJobVga`]) 138 544. The correction
 /// grid is read only and not counted (it can stay in flash: 41 x 31 points
 /// of 8 bytes, 10 168 bytes, for the demo lens at 320 x 240 with step 8).
 ///
@@ -2913,6 +2962,7 @@ mod tests {
                                 first_high: 1,
                             },
                             thinning: Thinning::Off,
+                            suppression: Suppression::Sectors,
                         };
                         if c.bins_needed() > most {
                             most = c.bins_needed();
@@ -2975,11 +3025,19 @@ mod tests {
                 .unwrap();
         }
         let mut sup = vec![0u16; n];
-        nms::suppress(
-            &ImageView::new(&mag, w, h, w).unwrap(),
-            &ImageView::new(&dir, w, h, w).unwrap(),
-            &mut ImageViewMut::new(&mut sup, w, h, w).unwrap(),
-        )
+        match cfg.suppression {
+            Suppression::Sectors => nms::suppress(
+                &ImageView::new(&mag, w, h, w).unwrap(),
+                &ImageView::new(&dir, w, h, w).unwrap(),
+                &mut ImageViewMut::new(&mut sup, w, h, w).unwrap(),
+            ),
+            Suppression::Interpolated => nms::suppress_interpolated(
+                &ImageView::new(&mag, w, h, w).unwrap(),
+                &ImageView::new(&gx, w, h, w).unwrap(),
+                &ImageView::new(&gy, w, h, w).unwrap(),
+                &mut ImageViewMut::new(&mut sup, w, h, w).unwrap(),
+            ),
+        }
         .unwrap();
         let mut edges = vec![0u8; n];
         hysteresis::classify(
@@ -3068,8 +3126,9 @@ mod tests {
                 }
             ),
         ];
-        (smoothing, op, 0u8..3, mag, rule, thin)
-            .prop_map(|(sm, op, fb, mg, rule, th)| {
+        let suppression = prop_oneof![Just(Suppression::Sectors), Just(Suppression::Interpolated)];
+        (smoothing, op, 0u8..3, mag, rule, (thin, suppression))
+            .prop_map(|(sm, op, fb, mg, rule, (th, sup))| {
                 let fb = fb.min(2 * sm.taps().1 as u8);
                 EdgeConfig {
                     smoothing: sm,
@@ -3078,6 +3137,7 @@ mod tests {
                     magnitude: mg,
                     thresholds: rule,
                     thinning: th,
+                    suppression: sup,
                 }
             })
             // Scharr with L1 magnitudes and bins of width 1 needs more

@@ -258,7 +258,7 @@ mod pipeline_apis {
     use fixsight::lines::{PeakParams, VoteParams};
     use fixsight::pipeline::{
         map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, Magnitude, Operator, PointJob,
-        PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO,
+        PointJobConfig, Smoothing, Suppression, Thinning, ThresholdRule, DEMO,
     };
     use fixsight::thinning;
     use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -279,10 +279,10 @@ mod pipeline_apis {
                 any::<u16>(),
                 any::<u16>(),
             ),
-            (0usize..3, any::<u16>()),
+            (0usize..3, any::<u16>(), any::<bool>()),
         )
-            .prop_map(|(sm, op, fb, mg, (fixed, sh, p, f, lo, hi), (th, cap))| {
-                EdgeConfig {
+            .prop_map(
+                |(sm, op, fb, mg, (fixed, sh, p, f, lo, hi), (th, cap, interp))| EdgeConfig {
                     smoothing: [
                         Smoothing::None,
                         Smoothing::Binomial3,
@@ -309,8 +309,13 @@ mod pipeline_apis {
                         }
                     },
                     thinning: [Thinning::Off, Thinning::UntilStable, Thinning::AtMost(cap)][th],
-                }
-            })
+                    suppression: if interp {
+                        Suppression::Interpolated
+                    } else {
+                        Suppression::Sectors
+                    },
+                },
+            )
     }
 
     proptest! {

@@ -64,7 +64,7 @@ pub struct Request {
 ///
 /// ```
 /// use fixsight_verify::cmd::frontier::configs;
-/// assert_eq!(configs(None).unwrap().len(), 19);
+/// assert_eq!(configs(None).unwrap().len(), 24);
 /// assert_eq!(configs(Some("map-gauss7-sobel-l1-t32")).unwrap().len(), 1);
 /// assert!(configs(Some("map-gauss7-sobel-l1-t32,map-gauss7-sobel-l1-t32")).is_err());
 /// assert!(configs(Some("")).is_err());

@@ -14,7 +14,9 @@
 //! [`GRID`]: the edge stage `EdgeConfig::demo_with(smoothing, operator,
 //! magnitude)` (the demo configuration with another smoothing, gradient
 //! operator and magnitude kind, its fractional bits, first thresholds and
-//! bin width adjusted by the rules written there) and the vote's theta
+//! bin width adjusted by the rules written there), its non-maximum
+//! suppression (`Suppression::Sectors`, the demo's, or
+//! `Suppression::Interpolated`, names ending `-interpolated`) and the vote's theta
 //! resolution (32 columns of 2.8 degrees, the demo's, or 16 of 5.6 degrees
 //! over the same span); every other setting is
 //! `PointJobConfig::DEMO_QVGA`'s. The on-target harness measures the same
@@ -106,7 +108,8 @@ use crate::scene::Scene;
 use crate::sequence::{Sequence, DEMO_SEQUENCE};
 use crate::targets::TargetsReport;
 use fixsight::pipeline::{
-    DemoPointJobQvga, EdgeConfig, Magnitude, Operator, PointJobConfig, Smoothing, ThresholdRule,
+    DemoPointJobQvga, EdgeConfig, Magnitude, Operator, PointJobConfig, Smoothing, Suppression,
+    ThresholdRule,
 };
 use fixsight::warp::ControlGrid;
 use serde::{Deserialize, Serialize};
@@ -133,6 +136,8 @@ pub struct MapConfig {
     pub magnitude: Magnitude,
     /// Vote columns over the demo's theta span (32 or 16).
     pub theta_bins: usize,
+    /// Non-maximum suppression of the edge stage.
+    pub suppression: Suppression,
 }
 
 const fn at(s: Smoothing, o: Operator, m: Magnitude, t: usize) -> MapConfig {
@@ -141,6 +146,15 @@ const fn at(s: Smoothing, o: Operator, m: Magnitude, t: usize) -> MapConfig {
         operator: o,
         magnitude: m,
         theta_bins: t,
+        suppression: Suppression::Sectors,
+    }
+}
+
+/// [`at`] with the interpolating suppression.
+const fn interp(s: Smoothing, o: Operator, m: Magnitude, t: usize) -> MapConfig {
+    MapConfig {
+        suppression: Suppression::Interpolated,
+        ..at(s, o, m, t)
     }
 }
 
@@ -149,7 +163,7 @@ use Operator::{Scharr, Sobel};
 use Smoothing::{Binomial3, Binomial5, Binomial7, Gauss7};
 
 /// The grid, in the order of the harness's bench stages.
-pub const GRID: [MapConfig; 19] = [
+pub const GRID: [MapConfig; 24] = [
     at(Smoothing::None, Sobel, L1, 32),
     at(Smoothing::None, Sobel, L2Approx, 32),
     at(Smoothing::None, Sobel, L2Round, 32),
@@ -169,23 +183,34 @@ pub const GRID: [MapConfig; 19] = [
     at(Gauss7, Scharr, L2Round, 32),
     at(Gauss7, Sobel, L2Round, 16),
     at(Binomial3, Sobel, L1, 16),
+    interp(Binomial3, Sobel, L2Approx, 32),
+    interp(Binomial5, Sobel, L2Round, 32),
+    interp(Gauss7, Sobel, L2Approx, 32),
+    interp(Gauss7, Sobel, L2Round, 32),
+    interp(Gauss7, Sobel, L2Round, 16),
 ];
 
 impl MapConfig {
-    /// `map-<smoothing>-<operator>-<magnitude>-t<theta bins>`: the bench
+    /// `map-<smoothing>-<operator>-<magnitude>-t<theta bins>`, followed
+    /// by `-interpolated` with the interpolating suppression: the bench
     /// stage's name on target.
     ///
     /// ```
     /// use fixsight_verify::frontier::GRID;
     /// assert_eq!(GRID[14].name(), "map-gauss7-sobel-l2_round-t32");
+    /// assert_eq!(GRID[22].name(), "map-gauss7-sobel-l2_round-t32-interpolated");
     /// ```
     pub fn name(&self) -> String {
         format!(
-            "map-{}-{}-{}-t{}",
+            "map-{}-{}-{}-t{}{}",
             smoothing_name(self.smoothing),
             operator_name(self.operator),
             magnitude_name(self.magnitude),
-            self.theta_bins
+            self.theta_bins,
+            match self.suppression {
+                Suppression::Sectors => "",
+                Suppression::Interpolated => "-interpolated",
+            }
         )
     }
 
@@ -198,10 +223,15 @@ impl MapConfig {
     /// ```
     pub fn parse(name: &str) -> Result<MapConfig, String> {
         let parts: Vec<&str> = name.split('-').collect();
-        let [map, s, o, m, t] = parts[..] else {
-            return Err(format!(
-                "`{name}`: a configuration is written map-<smoothing>-<operator>-<magnitude>-t<theta bins>"
-            ));
+        let (map, s, o, m, t, suppression) = match parts[..] {
+            [map, s, o, m, t] => (map, s, o, m, t, Suppression::Sectors),
+            [map, s, o, m, t, "interpolated"] => (map, s, o, m, t, Suppression::Interpolated),
+            _ => {
+                return Err(format!(
+                    "`{name}`: a configuration is written \
+                     map-<smoothing>-<operator>-<magnitude>-t<theta bins>[-interpolated]"
+                ))
+            }
         };
         if map != "map" {
             return Err(format!("`{name}`: a configuration name starts with `map-`"));
@@ -217,17 +247,24 @@ impl MapConfig {
             operator: operator_of(o).ok_or_else(|| bad("operator", o))?,
             magnitude: magnitude_of(m).ok_or_else(|| bad("magnitude", m))?,
             theta_bins,
+            suppression,
         })
     }
 
-    /// The edge stage ([`EdgeConfig::demo_with`]).
+    /// The edge stage ([`EdgeConfig::demo_with`], with the
+    /// configuration's suppression).
     ///
     /// ```
+    /// use fixsight::pipeline::{Suppression, DEMO};
     /// use fixsight_verify::frontier::GRID;
-    /// assert_eq!(GRID[14].edges(), fixsight::pipeline::DEMO);
+    /// assert_eq!(GRID[14].edges(), DEMO);
+    /// assert_eq!(GRID[22].edges().suppression, Suppression::Interpolated);
     /// ```
     pub fn edges(&self) -> EdgeConfig {
-        EdgeConfig::demo_with(self.smoothing, self.operator, self.magnitude)
+        EdgeConfig {
+            suppression: self.suppression,
+            ..EdgeConfig::demo_with(self.smoothing, self.operator, self.magnitude)
+        }
     }
 
     /// The whole job: `PointJobConfig::DEMO_QVGA` with [`Self::edges`] and
@@ -696,7 +733,11 @@ mod tests {
                     .split(',')
                     .map(|p| p.trim().trim_matches('"'))
                     .collect();
-                format!("map-{}-{}-{}-t{}", f[0], f[1], f[2], f[3])
+                let suffix = match f.get(5) {
+                    Some(&"interpolated") => "-interpolated",
+                    _ => "",
+                };
+                format!("map-{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
             })
             .collect();
         let ours: Vec<String> = GRID.iter().map(MapConfig::name).collect();
@@ -711,6 +752,7 @@ mod tests {
             ("map-gauss7-prewitt-l1-t32", "operator"),
             ("map-gauss7-sobel-l3-t32", "magnitude"),
             ("map-gauss7-sobel-l1-t64", "theta"),
+            ("map-gauss7-sobel-l1-t32-nearest", "[-interpolated]"),
         ] {
             let e = MapConfig::parse(n).unwrap_err();
             assert!(e.contains(want), "{n}: {e}");

@@ -363,6 +363,6 @@ mod tests {
         // The figures of the kernel's module docs (image_job.rs).
         assert_eq!(demo_ring(320, 240).unwrap(), (19, 6080));
         assert_eq!(demo_ring(640, 480).unwrap(), (35, 22400));
-        assert_eq!(DemoImageJobQvga::ram_bytes() + 6080, 54_760);
+        assert_eq!(DemoImageJobQvga::ram_bytes() + 6080, 54_768);
     }
 }

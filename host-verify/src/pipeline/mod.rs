@@ -31,7 +31,8 @@
 //! l2_round`, `thresholds` `fixed | auto` with `low`, `high` (the fixed
 //! pair, or the first frame's pair) and for `auto` `shift`,
 //! `high_permille`, `low_ratio_u0f16`, `thinning` `off | until_stable |
-//! at_most` with `thinning_cap`), `frames`, `height`, and `last_rows`: the
+//! at_most` with `thinning_cap`, `suppression` `sectors | interpolated`,
+//! absent meaning `sectors`), `frames`, `height`, and `last_rows`: the
 //! last frame ends after that many rows (`last_rows < height` ends it as a
 //! short frame). Every frame goes through one stream configured once.
 //! Outputs, of the last frame: `edges` u8 `width x last_rows` (255 at an
@@ -45,7 +46,7 @@ pub mod job;
 use crate::chain::check::F1_GOAL;
 use crate::chain::reference::{agreement, reference_of_chain};
 use crate::contract::{Contract, KernelFamily, KernelReport};
-use crate::edge_chain::{run_classify, run_link, run_nms};
+use crate::edge_chain::{run_classify, run_link, run_nms, run_nms_interpolated};
 use crate::family::{case as family_case, input, parse_params, Family};
 use crate::filter::run::run_whole;
 use crate::golden::{crop, Blob, GoldenCase};
@@ -56,7 +57,7 @@ use crate::scene::Scene;
 use fixsight::hysteresis::{Thresholds, U0F16};
 use fixsight::pipeline::{
     map_words, DemoQvga, DemoVga, EdgeConfig, EdgeStream, FrameReport, Magnitude, Operator,
-    Smoothing, Thinning, ThresholdRule, DEMO,
+    Smoothing, Suppression, Thinning, ThresholdRule, DEMO,
 };
 use fixsight::{gradient, hysteresis, thinning, ImageView, ImageViewMut};
 use serde::{Deserialize, Serialize};
@@ -133,6 +134,18 @@ pub struct StageParams {
     pub height: usize,
     /// Rows of the last frame that are pushed.
     pub last_rows: usize,
+    /// `sectors` (the default when absent, as in the vectors written
+    /// before the choice existed) or `interpolated`.
+    #[serde(default = "sectors", skip_serializing_if = "is_sectors")]
+    pub suppression: String,
+}
+
+fn sectors() -> String {
+    "sectors".into()
+}
+
+fn is_sectors(s: &str) -> bool {
+    s == "sectors"
 }
 
 /// The smoothings by their parameter names.
@@ -159,6 +172,32 @@ fn name_in<T: PartialEq + Copy>(list: &[(T, &'static str)], v: T) -> &'static st
 
 fn value_in<T: Copy>(list: &[(T, &'static str)], name: &str) -> Option<T> {
     list.iter().find(|(_, n)| *n == name).map(|(k, _)| *k)
+}
+
+/// The suppression rules by their parameter names.
+pub const SUPPRESSIONS: [(Suppression, &str); 2] = [
+    (Suppression::Sectors, "sectors"),
+    (Suppression::Interpolated, "interpolated"),
+];
+
+/// The parameter name of a suppression rule.
+///
+/// ```
+/// use fixsight::pipeline::Suppression;
+/// assert_eq!(fixsight_verify::pipeline::suppression_name(Suppression::Interpolated), "interpolated");
+/// ```
+pub fn suppression_name(s: Suppression) -> &'static str {
+    name_in(&SUPPRESSIONS, s)
+}
+
+/// The suppression rule a parameter name names.
+///
+/// ```
+/// assert!(fixsight_verify::pipeline::suppression_of("sectors").is_some());
+/// assert!(fixsight_verify::pipeline::suppression_of("nearest").is_none());
+/// ```
+pub fn suppression_of(name: &str) -> Option<Suppression> {
+    value_in(&SUPPRESSIONS, name)
 }
 
 /// The parameter name of a smoothing.
@@ -269,6 +308,7 @@ pub fn stage_params(
         frames,
         height,
         last_rows,
+        suppression: suppression_name(cfg.suppression).into(),
     }
 }
 
@@ -299,6 +339,8 @@ pub fn config_of(p: &StageParams) -> Result<EdgeConfig, String> {
         "at_most" => Thinning::AtMost(p.thinning_cap),
         v => return Err(bad("thinning", v)),
     };
+    let suppression =
+        suppression_of(&p.suppression).ok_or_else(|| bad("suppression", &p.suppression))?;
     Ok(EdgeConfig {
         smoothing,
         operator,
@@ -306,6 +348,7 @@ pub fn config_of(p: &StageParams) -> Result<EdgeConfig, String> {
         magnitude,
         thresholds,
         thinning,
+        suppression,
     })
 }
 
@@ -399,7 +442,8 @@ pub struct Whole {
 
 /// The whole-frame composition the stage must equal bit for bit: the two
 /// filters of `EdgeConfig::gradient_filters`, the magnitude, the
-/// direction, `nms::suppress`, `classify` with `t`, `hysteresis::link` and the
+/// direction, `nms::suppress` (or `nms::suppress_interpolated` on the
+/// gradients, by the configuration's suppression), `classify` with `t`, `hysteresis::link` and the
 /// configured thinning.
 pub fn whole_frame(
     cfg: &EdgeConfig,
@@ -430,7 +474,10 @@ pub fn whole_frame(
         )
         .map_err(e)?;
     }
-    let sup = run_nms(&mag, &dir, w, h)?;
+    let sup = match cfg.suppression {
+        Suppression::Sectors => run_nms(&mag, &dir, w, h)?,
+        Suppression::Interpolated => run_nms_interpolated(&mag, &gx, &gy, w, h)?,
+    };
     let codes = run_classify(&sup, w, h, t)?;
     let (mut edges, _) = run_link(&codes, w, h, hysteresis::MIN_STACK)?;
     let mut ring = vec![0u8; 3 * w];
@@ -704,6 +751,29 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         short,
         w,
     ));
+    let (w, h) = (48usize, 32usize);
+    let mut interp = crop(s, 100, 120, w, h);
+    interp.extend(crop(s, 104, 116, w, h));
+    v.push(case(
+        "pipeline.edge_stream.interpolated-two-frames",
+        format!(
+            "the demo configuration with the interpolating suppression on two {w}x{h} crops of \
+             scene {} (at (100, 120), then (104, 116)): the second frame uses the thresholds the \
+             first derived",
+            s.name
+        ),
+        &stage_params(
+            &EdgeConfig {
+                suppression: Suppression::Interpolated,
+                ..DEMO
+            },
+            2,
+            h,
+            h,
+        ),
+        interp,
+        w,
+    ));
     let other = EdgeConfig {
         smoothing: Smoothing::Binomial5,
         operator: Operator::Scharr,
@@ -711,6 +781,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         magnitude: Magnitude::L1,
         thresholds: ThresholdRule::Fixed { low: 60, high: 160 },
         thinning: Thinning::UntilStable,
+        suppression: Suppression::Sectors,
     };
     let (w, h) = (31usize, 19usize);
     v.push(case(

@@ -51,11 +51,11 @@
 //!
 //! | frame | type | `ram_bytes()` | ring | total |
 //! |---|---|---|---|---|
-//! | 320 x 240 | [`DemoImageJobQvga`] | 48 680 | 19 x 320 = 6 080 | 54 760 |
-//! | 640 x 480 | [`DemoImageJobVga`] | 138 728 | 35 x 640 = 22 400 | 161 128 |
+//! | 320 x 240 | [`DemoImageJobQvga`] | 48 688 | 19 x 320 = 6 080 | 54 768 |
+//! | 640 x 480 | [`DemoImageJobVga`] | 138 736 | 35 x 640 = 22 400 | 161 136 |
 //!
 //! The `ram_bytes()` column is `size_of` on a 64-bit host (checked by the
-//! doc tests of the two types): the point-mode job's 48 488 and 138 536
+//! doc tests of the two types): the point-mode job's 48 496 and 138 544
 //! bytes plus 192 bytes of stream state and frame height, of which the
 //! words that hold sizes and references halve on a 32-bit core. The ring
 //! rows come from the demo lens's grid (host test `demo_lens_band_rows`).
@@ -114,7 +114,7 @@ impl ImageJobConfig {
 /// the warp.
 ///
 /// ```
-/// assert_eq!(fixsight::pipeline::DemoImageJobQvga::ram_bytes(), 48_680);
+/// assert_eq!(fixsight::pipeline::DemoImageJobQvga::ram_bytes(), 48_688);
 /// ```
 pub type DemoImageJobQvga<'a> = ImageJob<
     'a,
@@ -132,7 +132,7 @@ pub type DemoImageJobQvga<'a> = ImageJob<
 /// the warp.
 ///
 /// ```
-/// assert_eq!(fixsight::pipeline::DemoImageJobVga::ram_bytes(), 138_728);
+/// assert_eq!(fixsight::pipeline::DemoImageJobVga::ram_bytes(), 138_736);
 /// ```
 pub type DemoImageJobVga<'a> = ImageJob<
     'a,
@@ -272,7 +272,7 @@ impl<
     /// use fixsight::pipeline::{DemoImageJobQvga, DemoPointJobQvga};
     /// assert!(DemoImageJobQvga::ram_bytes() > DemoPointJobQvga::ram_bytes());
     /// // With the demo lens's ring of 19 rows of 320 bytes:
-    /// assert_eq!(DemoImageJobQvga::ram_bytes() + 19 * 320, 54_760);
+    /// assert_eq!(DemoImageJobQvga::ram_bytes() + 19 * 320, 54_768);
     /// ```
     pub const fn ram_bytes() -> usize {
         core::mem::size_of::<Self>()

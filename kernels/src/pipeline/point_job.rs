@@ -329,8 +329,8 @@ impl<
     /// ```
     /// use fixsight::pipeline::{DemoPointJobQvga, DemoPointJobVga};
     /// assert!(DemoPointJobQvga::ram_bytes() <= 48 * 1024);
-    /// assert_eq!(DemoPointJobQvga::ram_bytes(), 48_488);
-    /// assert_eq!(DemoPointJobVga::ram_bytes(), 138_536);
+    /// assert_eq!(DemoPointJobQvga::ram_bytes(), 48_496);
+    /// assert_eq!(DemoPointJobVga::ram_bytes(), 138_544);
     /// ```
     pub const fn ram_bytes() -> usize {
         core::mem::size_of::<Self>()

@@ -242,7 +242,8 @@ const POINT_JOB: [(&str, Param); 15] = [
 
 /// A whole-job stage of the accuracy/cost map (`fixsight-verify
 /// frontier`, `host-verify/src/frontier/`): [`POINT_JOB`] with the edge
-/// stage `EdgeConfig::demo_with(smoothing, operator, magnitude)` and
+/// stage `EdgeConfig::demo_with(smoothing, operator, magnitude)` with
+/// `suppression` (`sectors` or `interpolated`) and
 /// `theta_bins` vote columns of `2^theta_step_log2` over the demo's
 /// span.
 const fn map_job(
@@ -251,8 +252,9 @@ const fn map_job(
     magnitude: &'static str,
     theta_bins: i64,
     theta_step_log2: i64,
-) -> [(&'static str, Param); 18] {
-    let mut out = [("", Param::Null); 18];
+    suppression: &'static str,
+) -> [(&'static str, Param); 19] {
+    let mut out = [("", Param::Null); 19];
     let mut i = 0;
     while i < POINT_JOB.len() {
         out[i] = POINT_JOB[i];
@@ -263,18 +265,29 @@ const fn map_job(
     out[15] = ("smoothing", Param::Str(smoothing));
     out[16] = ("operator", Param::Str(operator));
     out[17] = ("magnitude", Param::Str(magnitude));
+    out[18] = ("suppression", Param::Str(suppression));
     out
 }
 
 /// A [`Stage`] of the accuracy/cost map named
-/// `map-<smoothing>-<operator>-<magnitude>-t<theta bins>`, the name
+/// `map-<smoothing>-<operator>-<magnitude>-t<theta bins>` (and
+/// `-interpolated` with the interpolating suppression), the name
 /// `fixsight-verify frontier` reads back from `targets.json`.
 macro_rules! map_stage {
     ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal) => {
         Stage {
             name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t),
             kernel: "pipeline.point_job",
-            params: &map_job($s, $o, $m, $t, $step),
+            params: &map_job($s, $o, $m, $t, $step, "sectors"),
+            inputs: &[0, 16],
+            outputs: &[17],
+        }
+    };
+    ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal, "interpolated") => {
+        Stage {
+            name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t, "-interpolated"),
+            kernel: "pipeline.point_job",
+            params: &map_job($s, $o, $m, $t, $step, "interpolated"),
             inputs: &[0, 16],
             outputs: &[17],
         }
@@ -503,6 +516,11 @@ pub static STAGES: &[Stage] = &[
     map_stage!("gauss7", "scharr", "l2_round", 32, 10),
     map_stage!("gauss7", "sobel", "l2_round", 16, 11),
     map_stage!("binomial3", "sobel", "l1", 16, 11),
+    map_stage!("binomial3", "sobel", "l2_approx", 32, 10, "interpolated"),
+    map_stage!("binomial5", "sobel", "l2_round", 32, 10, "interpolated"),
+    map_stage!("gauss7", "sobel", "l2_approx", 32, 10, "interpolated"),
+    map_stage!("gauss7", "sobel", "l2_round", 32, 10, "interpolated"),
+    map_stage!("gauss7", "sobel", "l2_round", 16, 11, "interpolated"),
     Stage {
         name: "image_job_qvga",
         kernel: "pipeline.image_job",

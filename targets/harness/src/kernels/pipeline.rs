@@ -19,7 +19,8 @@ use fixsight::lines::{Peak, PeakParams, VoteParams};
 use fixsight::marking::{MarkingConfig, MarkingLimits, TapeContrast};
 use fixsight::pipeline::{
     map_words, EdgeConfig, EdgeStream, ImageJob, ImageJobConfig, JobReport, Magnitude, Operator,
-    PointJob, PointJobConfig, Smoothing, Thinning, ThresholdRule, DEMO, EDGES_PER_FRAME,
+    PointJob, PointJobConfig, Smoothing, Suppression, Thinning, ThresholdRule, DEMO,
+    EDGES_PER_FRAME,
 };
 use fixsight::track::{track_words, Tracker};
 use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -59,6 +60,19 @@ fn kinds_of(p: &Params) -> Result<(Smoothing, Operator, Magnitude), Fail> {
     Ok((smoothing, operator, magnitude))
 }
 
+/// The suppression the params name; `sectors` when absent (the vectors
+/// written before the choice existed).
+fn suppression_of(p: &Params) -> Result<Suppression, Fail> {
+    if p.get("suppression").is_none() {
+        return Ok(Suppression::Sectors);
+    }
+    match p.str("suppression")? {
+        "sectors" => Ok(Suppression::Sectors),
+        "interpolated" => Ok(Suppression::Interpolated),
+        _ => Err(Fail::Param("suppression")),
+    }
+}
+
 /// The configuration the params name (module docs of
 /// `host-verify/src/pipeline.rs`), or the demo one without `smoothing`.
 fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
@@ -91,6 +105,7 @@ fn config_of(p: &Params) -> Result<EdgeConfig, Fail> {
         magnitude,
         thresholds,
         thinning,
+        suppression: suppression_of(p)?,
     })
 }
 
@@ -213,10 +228,14 @@ pub const WORDS: usize =
 fn job_config(p: &Params, width: usize, height: usize) -> Result<PointJobConfig, Fail> {
     let mut c = PointJobConfig::DEMO_QVGA;
     // A bench stage of the accuracy/cost map names another edge stage:
-    // `EdgeConfig::demo_with` of its smoothing, operator and magnitude.
+    // `EdgeConfig::demo_with` of its smoothing, operator and magnitude,
+    // with its suppression.
     if p.get("smoothing").is_some() {
         let (s, o, m) = kinds_of(p)?;
-        c.edges = EdgeConfig::demo_with(s, o, m);
+        c.edges = EdgeConfig {
+            suppression: suppression_of(p)?,
+            ..EdgeConfig::demo_with(s, o, m)
+        };
     }
     let gate: u16 = int(p, "gate")?;
     c.vote = VoteParams {
