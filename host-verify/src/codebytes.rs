@@ -132,12 +132,19 @@ fn demangled(name: &str) -> String {
     format!("{:#}", rustc_demangle::demangle(name))
 }
 
+// ELF symbol types and section flags: System V Application Binary
+// Interface, generic ABI (SCO, 1997), "Symbol Table" and "Sections"; values
+// from memory.
 const STT_OBJECT: u8 = 1;
 const STT_FUNC: u8 = 2;
 const STT_SECTION: u8 = 3;
 const SHF_ALLOC: u64 = 2;
 const SHF_EXECINSTR: u64 = 4;
-/// `R_ARM_ABS32`.
+// Arm relocation codes: ELF for the Arm Architecture (Arm, IHI 0044),
+// "Relocation codes"; values from memory, and the same as `llvm-readobj -r`
+// prints for the firmware (`R_ARM_ABS32` 0x02, `R_ARM_THM_CALL` 0x0a,
+// `R_ARM_THM_JUMP24` 0x1e).
+/// `R_ARM_ABS32`: a word holding the address.
 const R_ARM_ABS32: u32 = 2;
 /// `R_ARM_THM_CALL` (`bl`).
 const R_ARM_THM_CALL: u32 = 10;
@@ -145,9 +152,10 @@ const R_ARM_THM_CALL: u32 = 10;
 const R_ARM_THM_JUMP24: u32 = 30;
 
 /// Target of a Thumb-2 `bl` / `b.w` (encodings T1 and T4, the same
-/// immediate layout) at `place` with halfwords `hw1`, `hw2`: ARM
-/// Architecture Reference Manual ARMv7-M (ARM DDI 0403E), A7.7.18 and
-/// A7.7.12.
+/// immediate layout) at `place` with halfwords `hw1`, `hw2`: ARMv7-M
+/// Architecture Reference Manual (Arm, DDI 0403E), the `BL` and `B`
+/// instructions (section numbers from memory); checked against
+/// `llvm-objdump` in the tests.
 pub fn thumb_branch_target(place: u64, hw1: u16, hw2: u16) -> u64 {
     let s = u32::from((hw1 >> 10) & 1);
     let imm10 = u32::from(hw1 & 0x3ff);
@@ -240,6 +248,15 @@ pub fn read_graph(elf: &Path) -> Result<Graph> {
         } else if ty != STT_SECTION {
             marks.push(addr);
         }
+    }
+
+    if !syms.iter().any(|s| s.3) {
+        bail!(
+            "{}: the image has no function symbols (stripped?), so its call graph \
+             cannot be built; keep the symbol table (no `strip` in the firmware's \
+             release profile), or measure with `--code-bytes rebuild`",
+            elf.display()
+        );
     }
 
     // Relocations, with their targets.
