@@ -31,6 +31,14 @@
 
 use anyhow::{anyhow, bail, Context, Result};
 use object::{Object, ObjectSection, ObjectSymbol, RelocationFlags, RelocationTarget};
+// ELF symbol types, section flags and Arm relocation codes, as the `object`
+// crate names them (`R_ARM_THM_PC22` is the older name of `R_ARM_THM_CALL`,
+// the code of `bl`; `R_ARM_THM_JUMP24` is `b.w`); `llvm-readobj -r` prints
+// the same codes for the firmware (0x02, 0x0a, 0x1e).
+use object::elf::{
+    R_ARM_ABS32, R_ARM_THM_JUMP24, R_ARM_THM_PC22 as R_ARM_THM_CALL, SHF_ALLOC, SHF_EXECINSTR,
+    STT_FUNC, STT_OBJECT, STT_SECTION,
+};
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::Path;
 
@@ -132,25 +140,6 @@ fn demangled(name: &str) -> String {
     format!("{:#}", rustc_demangle::demangle(name))
 }
 
-// ELF symbol types and section flags: System V Application Binary
-// Interface, generic ABI (SCO, 1997), "Symbol Table" and "Sections"; values
-// from memory.
-const STT_OBJECT: u8 = 1;
-const STT_FUNC: u8 = 2;
-const STT_SECTION: u8 = 3;
-const SHF_ALLOC: u64 = 2;
-const SHF_EXECINSTR: u64 = 4;
-// Arm relocation codes: ELF for the Arm Architecture (Arm, IHI 0044),
-// "Relocation codes"; values from memory, and the same as `llvm-readobj -r`
-// prints for the firmware (`R_ARM_ABS32` 0x02, `R_ARM_THM_CALL` 0x0a,
-// `R_ARM_THM_JUMP24` 0x1e).
-/// `R_ARM_ABS32`: a word holding the address.
-const R_ARM_ABS32: u32 = 2;
-/// `R_ARM_THM_CALL` (`bl`).
-const R_ARM_THM_CALL: u32 = 10;
-/// `R_ARM_THM_JUMP24` (`b.w`).
-const R_ARM_THM_JUMP24: u32 = 30;
-
 /// Target of a Thumb-2 `bl` / `b.w` (encodings T1 and T4, the same
 /// immediate layout) at `place` with halfwords `hw1`, `hw2`: ARMv7-M
 /// Architecture Reference Manual (Arm, DDI 0403E), the `BL` and `B`
@@ -198,14 +187,14 @@ pub fn read_graph(elf: &Path) -> Result<Graph> {
         let object::SectionFlags::Elf { sh_flags } = s.flags() else {
             bail!("{}: not an ELF file", elf.display());
         };
-        if sh_flags & SHF_ALLOC != 0 && s.size() > 0 {
+        if sh_flags & u64::from(SHF_ALLOC) != 0 && s.size() > 0 {
             secs.insert(
                 s.index().0,
                 Sec {
                     name: s.name().unwrap_or("?").to_string(),
                     addr: s.address(),
                     size: s.size(),
-                    code: sh_flags & SHF_EXECINSTR != 0,
+                    code: sh_flags & u64::from(SHF_EXECINSTR) != 0,
                 },
             );
         }
