@@ -32,6 +32,7 @@
 //! | [`report`] | the verification report |
 //! | [`html`] | the report as one self-contained HTML file for a review (`report.html`) |
 //! | [`targets`] | on-target conformance under QEMU (`targets` command) |
+//! | [`codebytes`] | code bytes per kernel id of `targets` from the reference graph of one linked image |
 //! | [`c_firmware`] | the C firmware of `targets`: golden vectors through the C ABI on the emulated Cortex-M4 |
 //! | [`marking`] | marking selection: limits derived from the camera geometry, `f64` reference, contract on the demo sequence's truth |
 //! | [`track`] | the tracker (`track.tracker`): `f64` reference tracker, synthetic sequences, tracker and drift-warning contract, one folder like the families above |
@@ -43,6 +44,7 @@ pub mod calibrate;
 pub mod campaign;
 pub mod chain;
 pub mod cmd;
+pub mod codebytes;
 pub mod contract;
 pub mod edge_chain;
 pub mod families;

@@ -207,6 +207,18 @@ enum Cmd {
         /// Only the firmware in this language (`rust` or `c`); default both.
         #[arg(long, value_parser = ["rust", "c"])]
         lang: Option<String>,
+        /// Only this Rust image (repeatable): cortex-m4, cortex-m3,
+        /// cortex-m0, rv32imc, or a port's image cortex-m4+cortex-m4-dsp.
+        /// Default: all of them. The C firmware follows --lang.
+        #[arg(long, value_name = "IMAGE")]
+        core: Vec<String>,
+        /// How code bytes are measured: `graph` (default) sums the
+        /// functions only the kernel id's dispatch function reaches in the
+        /// image that ran the vectors (relocations kept by the link);
+        /// `rebuild` builds one image per kernel id and core and takes its
+        /// .text growth over an image dispatching none (slow).
+        #[arg(long, value_name = "METHOD", default_value = "graph", value_parser = ["graph", "rebuild"])]
+        code_bytes: String,
         /// Replace targets.json and the files in targets-logs/ if they exist.
         #[arg(long)]
         overwrite: bool,
@@ -553,8 +565,17 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             out,
             vectors,
             lang,
+            core,
+            code_bytes,
             overwrite,
-        } => cmd::targets::run(&out, vectors, lang.as_deref(), overwrite),
+        } => cmd::targets::run(
+            &out,
+            vectors,
+            lang.as_deref(),
+            &core,
+            &code_bytes,
+            overwrite,
+        ),
         Cmd::Run {
             input,
             kernel,

@@ -24,9 +24,14 @@
 //!   of `targets/harness/src/bench.rs`; a kernel id with no bench stage uses
 //!   its golden vectors (total instructions / total output pixels). Every
 //!   image is run twice and all counts must agree, or the run fails.
-//! * **code bytes** — growth of the `.text` section of an image in which
-//!   only this kernel id is dispatched (all other vectors go to a no-op),
-//!   over an image in which none is; see `targets/harness/build.rs`.
+//! * **code bytes** — by default ([`CodeBytes::Graph`]) from the image
+//!   that ran the vectors: the functions reachable from the kernel id's
+//!   dispatch function that the harness's own code does not reach, summed
+//!   ([`crate::codebytes`]). With `--code-bytes rebuild`
+//!   ([`CodeBytes::Rebuild`]) the earlier method: growth of the `.text`
+//!   section of an image in which only this kernel id is dispatched (all
+//!   other vectors go to a no-op), over an image in which none is (see
+//!   `targets/harness/build.rs`), one build per kernel id and core.
 //! * **stack bytes** — high-water mark by stack painting: 16 KiB below the
 //!   caller's stack pointer are filled with a pattern before each measured
 //!   call and scanned after it; the figure is the deepest byte written,
@@ -114,6 +119,28 @@ pub const TARGETS: [Target; 4] = [
         machine: &["-M", "virt", "-bios", "none"],
     },
 ];
+
+/// How `targets` measures the code bytes of a kernel id.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CodeBytes {
+    /// From the reference graph of the image that ran the vectors
+    /// ([`crate::codebytes`]); no extra build.
+    Graph,
+    /// `.text` growth of a code-size image per kernel id over the `none`
+    /// image: one more firmware build per kernel id and core.
+    Rebuild,
+}
+
+impl CodeBytes {
+    /// The value of `--code-bytes`.
+    pub fn parse(s: &str) -> Result<Self> {
+        match s {
+            "graph" => Ok(Self::Graph),
+            "rebuild" => Ok(Self::Rebuild),
+            _ => bail!("--code-bytes: `{s}` is neither `graph` nor `rebuild`"),
+        }
+    }
+}
 
 /// A port (`ports/<name>/`, a crate with optimised variants of kernels)
 /// that a core's firmware can take in place of the kernel crate for the
@@ -595,6 +622,7 @@ pub(crate) fn parse_console(c: &str) -> Result<(usize, Vec<Call>, (usize, usize)
 /// Runs everything for one core: the kernel crate's firmware, or with
 /// `port` the firmware with that port swapped in (figures of the claimed
 /// kernel ids only; no demo sequence).
+#[allow(clippy::too_many_arguments)]
 fn run_target(
     root: &Path,
     t: &Target,
@@ -603,6 +631,7 @@ fn run_target(
     logs: &Path,
     sequence: Option<&OnTargetSequence>,
     port: Option<&PortRun<'_>>,
+    method: CodeBytes,
 ) -> Result<(TargetResult, Vec<String>)> {
     let mut problems = Vec::new();
     let feature = port.map(|p| p.feature.as_str());
@@ -674,19 +703,25 @@ fn run_target(
         let e = stack.entry(c.kernel.as_str()).or_default();
         *e = (*e).max(c.stack);
     }
-    // Code size: one image per kernel id, and the baseline.
-    let mut code: BTreeMap<String, u64> = BTreeMap::new();
-    let bar = crate::progress::bar(ids.len() as u64 + 1, &format!("{label}: code-size images"));
-    bar.set_message("none");
-    let none = text_bytes(&build_firmware(root, t, golden, Some("none"), feature)?)?;
-    bar.inc(1);
-    for id in &ids {
-        bar.set_message(id.clone());
-        let with = text_bytes(&build_firmware(root, t, golden, Some(id), feature)?)?;
-        code.insert(id.clone(), with.saturating_sub(none));
-        bar.inc(1);
-    }
-    bar.finish_and_clear();
+    let code = match method {
+        CodeBytes::Graph => {
+            // Every kernel id the image dispatches: their dispatch
+            // functions are cut from the harness's baseline.
+            let all: BTreeSet<String> = calls.iter().map(|c| c.kernel.clone()).collect();
+            let (code, lists) = crate::codebytes::measure(&elf, &ids, &all)
+                .with_context(|| format!("{label}: code bytes from the image's reference graph"))?;
+            let mut log = String::new();
+            for (id, fs) in &lists {
+                log += &format!("{id} {}\n", code[id]);
+                for (name, size) in fs {
+                    log += &format!("  {size:>7} {name}\n");
+                }
+            }
+            std::fs::write(logs.join(format!("{label}.code-bytes.txt")), log)?;
+            code
+        }
+        CodeBytes::Rebuild => code_size_images(root, t, golden, feature, &label, &ids)?,
+    };
 
     let mut kernels = Vec::new();
     for id in &ids {
@@ -762,6 +797,31 @@ fn run_target(
     ))
 }
 
+/// Code bytes by the rebuild method: one image per kernel id, and the
+/// baseline (`none`); the `.text` growth of each over the baseline.
+fn code_size_images(
+    root: &Path,
+    t: &Target,
+    golden: &Path,
+    feature: Option<&str>,
+    label: &str,
+    ids: &[String],
+) -> Result<BTreeMap<String, u64>> {
+    let mut code: BTreeMap<String, u64> = BTreeMap::new();
+    let bar = crate::progress::bar(ids.len() as u64 + 1, &format!("{label}: code-size images"));
+    bar.set_message("none");
+    let none = text_bytes(&build_firmware(root, t, golden, Some("none"), feature)?)?;
+    bar.inc(1);
+    for id in ids {
+        bar.set_message(id.clone());
+        let with = text_bytes(&build_firmware(root, t, golden, Some(id), feature)?)?;
+        code.insert(id.clone(), with.saturating_sub(none));
+        bar.inc(1);
+    }
+    bar.finish_and_clear();
+    Ok(code)
+}
+
 fn round2(v: f64) -> f64 {
     (v * 100.0).round() / 100.0
 }
@@ -807,8 +867,29 @@ pub fn table(r: &TargetsReport) -> String {
 /// `fixsight-verify targets`: preflight, build, run, write `targets.json`.
 /// Returns `Ok(false)` if any vector failed or any check disagreed.
 ///
-/// `lang` = `Some("rust")` or `Some("c")` runs only that firmware.
-pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
+/// `lang` = `Some("rust")` or `Some("c")` runs only that firmware; a
+/// non-empty `cores` only those Rust images (names of [`TARGETS`], or
+/// `<core>+<port>` for a port's image); `method` says how code bytes are
+/// measured.
+pub fn run(
+    out: &Path,
+    golden: &Path,
+    lang: Option<&str>,
+    cores: &[String],
+    method: CodeBytes,
+) -> Result<bool> {
+    let labels: Vec<String> = TARGETS
+        .iter()
+        .map(|t| t.name.to_string())
+        .chain(PORTS.iter().map(|p| format!("{}+{}", p.core, p.name)))
+        .collect();
+    if let Some(c) = cores.iter().find(|c| !labels.contains(c)) {
+        bail!(
+            "--core: no image `{c}`; the images are {}",
+            labels.join(", ")
+        );
+    }
+    let wanted = |label: &str| cores.is_empty() || cores.iter().any(|c| c == label);
     preflight()?;
     let root = repo_root();
     let golden = std::fs::canonicalize(golden)
@@ -823,8 +904,8 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
     let mut problems = Vec::new();
     if lang != Some("c") {
         let seq = crate::target_sequence::prepare(&logs)?;
-        for t in &TARGETS {
-            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq), None)?;
+        for t in TARGETS.iter().filter(|t| wanted(t.name)) {
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, Some(&seq), None, method)?;
             println!(
                 "{} ({}): {}/{} golden vectors bit-exact",
                 t.name, t.triple, r.passed, r.vectors
@@ -832,13 +913,16 @@ pub fn run(out: &Path, golden: &Path, lang: Option<&str>) -> Result<bool> {
             report.targets.push(r);
             problems.extend(p);
         }
-        for port in &PORTS {
+        for port in PORTS
+            .iter()
+            .filter(|p| wanted(&format!("{}+{}", p.core, p.name)))
+        {
             let run = PortRun::new(&root, &golden, port)?;
             let t = TARGETS
                 .iter()
                 .find(|t| t.name == port.core)
                 .ok_or_else(|| anyhow!("port {}: no core {}", port.name, port.core))?;
-            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, None, Some(&run))?;
+            let (r, p) = run_target(&root, t, &golden, &plugin, &logs, None, Some(&run), method)?;
             println!(
                 "{} with port {} ({}): {}/{} golden vectors bit-exact",
                 t.name, port.name, t.triple, r.passed, r.vectors

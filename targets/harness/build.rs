@@ -20,7 +20,9 @@
 //! same in every such image, and the growth of `.text` of the image for
 //! kernel K over the `none` image is the code K adds: the kernel itself,
 //! everything it pulls in, and its dispatch function. These images are
-//! measured, not run.
+//! measured, not run, by `fixsight-verify targets --code-bytes rebuild`;
+//! the default (`graph`) measures the image that runs the vectors instead
+//! and builds none of them (`host-verify/src/codebytes.rs`).
 //!
 //! Also passes the target triple to the harness (`FIXSIGHT_TARGET`).
 

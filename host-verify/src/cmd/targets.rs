@@ -6,15 +6,20 @@ use crate::files::{FileError, Outputs};
 use std::path::{Path, PathBuf};
 
 /// Builds and runs the firmware for every core (or only the Rust or only
-/// the C firmware, `lang`), writes `targets.json` and
-/// the console logs in `targets-logs/` to `out`. Unless `overwrite`, refuses
-/// before building anything when either exists.
+/// the C firmware, `lang`; only the Rust images named in `cores`, if any),
+/// writes `targets.json` and the console logs in `targets-logs/` to `out`,
+/// measuring code bytes by `code_bytes` (`graph` or `rebuild`, see
+/// [`crate::targets::CodeBytes`]). Unless `overwrite`, refuses before
+/// building anything when either exists.
 pub fn run(
     out: &Path,
     vectors: Option<PathBuf>,
     lang: Option<&str>,
+    cores: &[String],
+    code_bytes: &str,
     overwrite: bool,
 ) -> anyhow::Result<bool> {
+    let method = crate::targets::CodeBytes::parse(code_bytes)?;
     // Checks the names (and that targets.json does not exist yet); the file
     // itself is written by the driver through another set.
     drop(Outputs::new(
@@ -31,5 +36,5 @@ pub fn run(
         }
         .into());
     }
-    crate::targets::run(out, &vectors_dir(vectors), lang)
+    crate::targets::run(out, &vectors_dir(vectors), lang, cores, method)
 }

@@ -198,7 +198,11 @@ fn frame_io<'r>(
 
 /// Runs the sequence named on the command line, if any. A code-size image
 /// (`crate::vectors::ONLY`) skips it at compile time, so the demo jobs are
-/// not linked into images that measure other kernels.
+/// not linked into images that measure other kernels. Never inlined: the
+/// host's code-bytes graph (`host-verify/src/codebytes.rs`) leaves it out
+/// of the harness's baseline by this symbol, as the code-size images leave
+/// it out.
+#[inline(never)]
 pub fn run(con: &mut Console, words: &mut [u32]) {
     if crate::vectors::ONLY.is_some() {
         return;
