@@ -486,38 +486,32 @@ fn sample(mag: &ImageView<'_, u16>, x: usize, y: usize, dx: i32, dy: i32) -> u32
 /// ```
 #[inline(always)]
 pub fn interpolated_keeps(n: &[[u16; 3]; 3], g: [i16; 2]) -> bool {
-    let m = n[1][1] as u32;
+    interpolated_rule(n[1][1] as u32, g, |dx, dy| {
+        n[(1 + dy) as usize][(1 + dx) as usize] as u32
+    })
+}
+
+/// Steps 1 to 4 of the integer model of [`suppress_interpolated`] for a
+/// pixel of magnitude `m` and gradient `g`; `at(dx, dy)` is the magnitude
+/// at `(x + dx, y + dy)` (`dx, dy` in `-1..=1`, 0 outside the image), read
+/// only for the four neighbours the rule needs.
+#[inline(always)]
+fn interpolated_rule(m: u32, g: [i16; 2], at: impl Fn(i32, i32) -> u32) -> bool {
     let (mut dx, mut dy) = (g[0] as i32, g[1] as i32);
     if dy < 0 || (dy == 0 && dx < 0) {
         dx = -dx;
         dy = -dy;
     }
+    let s = dx.signum();
     let adx = dx.unsigned_abs();
     let ady = dy as u32;
     if m == 0 || (adx == 0 && ady == 0) {
         return false;
     }
-    // Column of `x + s` and of `x - s` (`s = sign(dx)`).
-    let (fwd_col, back_col) = match dx.signum() {
-        1 => (2, 0),
-        -1 => (0, 2),
-        _ => (1, 1),
-    };
-    let at = |row: usize, col: usize| n[row][col] as u32;
     let (a, b, after, before) = if adx >= ady {
-        (
-            adx,
-            ady,
-            (at(1, fwd_col), at(2, fwd_col)),
-            (at(1, back_col), at(0, back_col)),
-        )
+        (adx, ady, (at(s, 0), at(s, 1)), (at(-s, 0), at(-s, -1)))
     } else {
-        (
-            ady,
-            adx,
-            (at(2, 1), at(2, fwd_col)),
-            (at(0, 1), at(0, back_col)),
-        )
+        (ady, adx, (at(0, 1), at(s, 1)), (at(0, -1), at(-s, -1)))
     };
     let fwd = (a - b) * after.0 + b * after.1;
     let back = (a - b) * before.0 + b * before.1;
@@ -608,13 +602,10 @@ pub fn suppress_interpolated(
         let (rm, rx, ry) = (mag.row_at(y), gx.row_at(y), gy.row_at(y));
         let orow = out.row_at_mut(y);
         for x in 0..w {
-            let near = |dy: i32| [-1, 0, 1].map(|dx| sample(mag, x, y, dx, dy) as u16);
-            let n = [near(-1), near(0), near(1)];
-            orow[x] = if interpolated_keeps(&n, [rx[x], ry[x]]) {
-                rm[x]
-            } else {
-                0
-            };
+            let keep = interpolated_rule(rm[x] as u32, [rx[x], ry[x]], |dx, dy| {
+                sample(mag, x, y, dx, dy)
+            });
+            orow[x] = if keep { rm[x] } else { 0 };
         }
         // Per pixel: loads m, gx, gy and four neighbours; orientation
         // (compare, two negations, sign, two abs); major-axis compare and

@@ -2271,7 +2271,7 @@ fn classify_px<const CAP: usize, T: SectorRule>(
     let mc = c[1];
     if mc >= rule.floor {
         let keep = if rule.interpolated {
-            crate::nms::interpolated_keeps(&[*a, *c, *b], g)
+            interpolated_keeps_outlined(&[*a, *c, *b], g)
         } else {
             // The rule of `nms::suppress` with the sector of
             // `gradient::direction_sector`.
@@ -2311,6 +2311,13 @@ fn classify_px<const CAP: usize, T: SectorRule>(
             *wd = n.word;
         }
     }
+}
+
+/// [`crate::nms::interpolated_keeps`], kept out of the row loop so that
+/// the 4-sector path's registers are not spent on a rule it does not run.
+#[inline(never)]
+fn interpolated_keeps_outlined(n: &[[u16; 3]; 3], g: [i16; 2]) -> bool {
+    crate::nms::interpolated_keeps(n, g)
 }
 
 impl<'a, const CAP: usize> Classifier<'a, CAP> {
