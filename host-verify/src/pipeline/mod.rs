@@ -717,6 +717,14 @@ fn case(id: &str, comment: String, params: &StageParams, frames: Vec<u8>, w: usi
     family_case(run_vector, id, comment, KERNEL, params, inputs)
 }
 
+/// Two `w x h` crops of `scene` at `a` and `b`, stacked: two frames of a
+/// camera that moved a little.
+fn two_crops(scene: &Scene, a: (usize, usize), b: (usize, usize), w: usize, h: usize) -> Vec<u8> {
+    let mut v = crop(scene, a.0, a.1, w, h);
+    v.extend(crop(scene, b.0, b.1, w, h));
+    v
+}
+
 /// Golden cases: scene crops through the demo configuration (two frames,
 /// the second on the first's thresholds; an odd size ending short), another
 /// configuration with fixed thresholds, and a frame smaller than the taps.
@@ -725,8 +733,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
     let t = &scenes[2 % scenes.len()];
     let mut v = Vec::new();
     let (w, h) = (48usize, 32usize);
-    let mut two = crop(s, 136, 180, w, h);
-    two.extend(crop(s, 140, 176, w, h));
+    let two = two_crops(s, (136, 180), (140, 176), w, h);
     v.push(case(
         "pipeline.edge_stream.demo-two-frames",
         format!(
@@ -739,8 +746,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         w,
     ));
     let (w, h) = (37usize, 23usize);
-    let mut short = crop(t, 101, 150, w, h);
-    short.extend(crop(t, 96, 147, w, h));
+    let short = two_crops(t, (101, 150), (96, 147), w, h);
     v.push(case(
         "pipeline.edge_stream.demo-short-frame",
         format!(
@@ -752,8 +758,7 @@ pub fn golden_cases(scenes: &[Scene]) -> Vec<GoldenCase> {
         w,
     ));
     let (w, h) = (48usize, 32usize);
-    let mut interp = crop(s, 100, 120, w, h);
-    interp.extend(crop(s, 104, 116, w, h));
+    let interp = two_crops(s, (100, 120), (104, 116), w, h);
     v.push(case(
         "pipeline.edge_stream.interpolated-two-frames",
         format!(
