@@ -456,6 +456,7 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
                     p.line_rho_err_px_mean, p.line_rho_err_px_max
                 ),
                 p.lost_frames.to_string(),
+                p.wrong_edge_frames.to_string(),
                 p.m4_instr_per_px
                     .map_or("not measured".into(), |c| format!("{c:.2}")),
                 if p.pareto {
@@ -473,6 +474,7 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
             "worst F1",
             "rho err px mean / max",
             "lost frames",
+            "wrong-edge frames",
             "M4 instr/px",
             "Pareto front",
         ],

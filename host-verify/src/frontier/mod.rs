@@ -66,8 +66,11 @@
 //!   96 QVGA frames, edge points corrected through the demo lens's grid),
 //!   the selected tape edges against the sequence's truth: `|d rho|` px
 //!   (mean and max) and `|d theta|` degrees (mean) over the frames where the
-//!   tape was found, and the frames where it was not (`lost_frames`; the
-//!   passing panel hides it in some).
+//!   tape was found, the frames where it was not (`lost_frames`; the
+//!   passing panel hides it in some), and the frames where a selected
+//!   edge is a wrong line (`wrong_edge_frames`: its `|d rho|` to the true
+//!   edge exceeds half the distance between the tape's two true edges,
+//!   [`crate::pipeline::job::wrong_edge_frames`]).
 //! * **Cost**: `instr_per_px` of the harness's `map-...` bench stage on the
 //!   Cortex-M4 (`targets.json` of `fixsight-verify targets`: exact QEMU
 //!   instruction count of one call of the whole job on the QVGA bench
@@ -80,9 +83,10 @@
 //!   configuration's code paths (the demo taps' constant loop and the
 //!   generic loop), so the map cannot split code bytes per configuration.
 //! * **Pareto front**: a configuration with a cost is on it when no other
-//!   is at least as good on all three of cost, `f1_worst` and
-//!   `lost_frames` and strictly better on one (edge accuracy alone would
-//!   put a configuration that loses the tape in more frames on the front).
+//!   is at least as good on all four of cost, `f1_worst`, `lost_frames`
+//!   and `wrong_edge_frames` and strictly better on one (edge accuracy
+//!   alone would put a configuration that loses the tape, or takes a wrong
+//!   line for it, in more frames on the front).
 //! * **"More accurate"** (for the recommendation): the higher `f1_worst`;
 //!   on a tie the fewer `lost_frames`, then the lower mean `|d rho|`.
 //! * **Recommendation** for a part of `clock_mhz` at `fps` frames per
@@ -93,13 +97,17 @@
 //!   budget whose `f1_worst` reaches [`F1_GOAL`]; when none fits, the
 //!   cheapest front configuration that reaches the goal, with the factor by
 //!   which it misses the budget; when none reaches the goal, the most
-//!   accurate one.
+//!   accurate one. Only front configurations with no wrong-edge frame are
+//!   considered while there is one: a wrong line taken for the tape's edge
+//!   is what a drift warning must not be built on.
 
 pub mod plot;
 
 use crate::chain::reference::{edges_f64, suppressed_f64, thresholds_f64};
 use crate::metrics::matched_agreement;
-use crate::pipeline::job::{run_fixed_with, sequence_correction_grid, truth_line_errors};
+use crate::pipeline::job::{
+    run_fixed_with, sequence_correction_grid, truth_line_errors, wrong_edge_frames,
+};
 use crate::pipeline::{
     magnitude_name, magnitude_of, operator_name, operator_of, run_stream, smoothing_name,
     smoothing_of,
@@ -327,6 +335,11 @@ pub struct MapPoint {
     pub line_theta_err_deg_mean: f64,
     /// Frames without a marking.
     pub lost_frames: usize,
+    /// Frames whose marking holds a wrong line for a tape edge
+    /// ([`crate::pipeline::job::wrong_edge_frames`]: farther from the
+    /// true edge than half the tape's width).
+    #[serde(default)]
+    pub wrong_edge_frames: usize,
     /// First frame with a drift warning.
     pub first_warning: Option<usize>,
     /// Cortex-M4 instructions per pixel of the bench stage, when measured.
@@ -454,12 +467,25 @@ impl SequenceRun {
     }
 }
 
-/// Line figures of a job configuration over the sequence: rho mean and
-/// max, theta mean, lost frames, first warning.
-pub fn line_figures(
-    job: &PointJobConfig,
-    run: &SequenceRun,
-) -> Result<(f64, f64, f64, usize, Option<usize>), String> {
+/// Line figures of a job configuration over the sequence.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LineFigures {
+    /// Mean `|d rho|` px.
+    pub rho_mean: f64,
+    /// Largest `|d rho|` px.
+    pub rho_max: f64,
+    /// Mean `|d theta|` degrees.
+    pub theta_mean: f64,
+    /// Frames without a marking.
+    pub lost: usize,
+    /// Frames with a wrong line for a tape edge.
+    pub wrong: usize,
+    /// First frame with a drift warning.
+    pub first_warning: Option<usize>,
+}
+
+/// Line figures of a job configuration over the sequence.
+pub fn line_figures(job: &PointJobConfig, run: &SequenceRun) -> Result<LineFigures, String> {
     let g = &run.grid;
     let grid = ControlGrid::new(&g.points, g.geom, g.k).map_err(|e| e.to_string())?;
     let fixed = run_fixed_with(job, &run.frames, Some(&grid))?;
@@ -471,10 +497,14 @@ pub fn line_figures(
             v.iter().sum::<f64>() / v.len() as f64
         }
     };
-    let max = rho.iter().copied().fold(0.0, f64::max);
-    let lost = fixed.frames.iter().filter(|f| f.tape.is_none()).count();
-    let first = fixed.frames.iter().position(|f| f.warning.is_some());
-    Ok((mean(&rho), max, mean(&theta), lost, first))
+    Ok(LineFigures {
+        rho_mean: mean(&rho),
+        rho_max: rho.iter().copied().fold(0.0, f64::max),
+        theta_mean: mean(&theta),
+        lost: fixed.frames.iter().filter(|f| f.tape.is_none()).count(),
+        wrong: wrong_edge_frames(&run.truth, &fixed.frames),
+        first_warning: fixed.frames.iter().position(|f| f.warning.is_some()),
+    })
 }
 
 /// The M4 figures of a bench stage: `(instr/px, code bytes)`.
@@ -505,7 +535,7 @@ pub fn evaluate(
         let e = by_class.entry(r.class.clone()).or_insert(1.0);
         *e = e.min(v);
     }
-    let (rho_mean, rho_max, theta_mean, lost, first) = line_figures(&c.job(), run)?;
+    let lines = line_figures(&c.job(), run)?;
     let cost = targets.and_then(|t| m4_cost(t, &c.name()));
     let bin_shift = match edges.thresholds {
         ThresholdRule::Auto { shift, .. } => shift,
@@ -523,11 +553,12 @@ pub fn evaluate(
         f1,
         f1_worst_by_class: by_class,
         frames: run.len(),
-        line_rho_err_px_mean: rho_mean,
-        line_rho_err_px_max: rho_max,
-        line_theta_err_deg_mean: theta_mean,
-        lost_frames: lost,
-        first_warning: first,
+        line_rho_err_px_mean: lines.rho_mean,
+        line_rho_err_px_max: lines.rho_max,
+        line_theta_err_deg_mean: lines.theta_mean,
+        lost_frames: lines.lost,
+        wrong_edge_frames: lines.wrong,
+        first_warning: lines.first_warning,
         m4_instr_per_px: cost.map(|c| c.0),
         ram_bytes: DemoPointJobQvga::ram_bytes(),
         code_bytes: cost.map(|c| c.1),
@@ -544,7 +575,7 @@ pub fn evaluate(
 /// #         magnitude: String::new(), frac_bits: 0, bin_shift: 0, theta_bins: 32,
 /// #         f1: Default::default(), f1_worst_by_class: Default::default(), f1_worst: f1,
 /// #         frames: 0, line_rho_err_px_mean: 0.0, line_rho_err_px_max: 0.0,
-/// #         line_theta_err_deg_mean: 0.0, lost_frames: 0, first_warning: None,
+/// #         line_theta_err_deg_mean: 0.0, lost_frames: 0, wrong_edge_frames: 0, first_warning: None,
 /// #         m4_instr_per_px: Some(cost), ram_bytes: 0, code_bytes: None, pareto: false }
 /// # }
 /// let mut v = vec![p("a", 100.0, 0.90), p("b", 200.0, 0.96), p("c", 250.0, 0.95)];
@@ -561,15 +592,25 @@ pub fn evaluate(
 /// assert!(!w[0].pareto && w[1].pareto);
 /// ```
 pub fn mark_front(points: &mut [MapPoint]) {
-    let figs: Vec<Option<(f64, f64, usize)>> = points
+    let figs: Vec<Option<(f64, f64, usize, usize)>> = points
         .iter()
-        .map(|p| p.m4_instr_per_px.map(|c| (c, p.f1_worst, p.lost_frames)))
+        .map(|p| {
+            p.m4_instr_per_px
+                .map(|c| (c, p.f1_worst, p.lost_frames, p.wrong_edge_frames))
+        })
         .collect();
     for (i, p) in points.iter_mut().enumerate() {
-        let Some((c, f, l)) = figs[i] else { continue };
+        let Some((c, f, l, w)) = figs[i] else {
+            continue;
+        };
         p.pareto = !figs.iter().enumerate().any(|(j, o)| {
-            o.is_some_and(|(oc, of, ol)| {
-                j != i && oc <= c && of >= f && ol <= l && (oc < c || of > f || ol < l)
+            o.is_some_and(|(oc, of, ol, ow)| {
+                j != i
+                    && oc <= c
+                    && of >= f
+                    && ol <= l
+                    && ow <= w
+                    && (oc < c || of > f || ol < l || ow < w)
             })
         });
     }
@@ -585,7 +626,15 @@ fn accuracy(a: &MapPoint, b: &MapPoint) -> std::cmp::Ordering {
 
 /// The recommendation for a QVGA part (module docs): `(name, words)`.
 pub fn recommend(points: &[MapPoint], budget: f64) -> (Option<String>, String) {
-    let front: Vec<&MapPoint> = points.iter().filter(|p| p.pareto).collect();
+    let all_front: Vec<&MapPoint> = points.iter().filter(|p| p.pareto).collect();
+    // A configuration that selects a wrong line for a tape edge in some
+    // frame is recommended only when every one on the front does.
+    let sound: Vec<&MapPoint> = all_front
+        .iter()
+        .copied()
+        .filter(|p| p.wrong_edge_frames == 0)
+        .collect();
+    let front = if sound.is_empty() { all_front } else { sound };
     let cost = |p: &MapPoint| p.m4_instr_per_px.unwrap_or(f64::INFINITY);
     if front.is_empty() {
         return (
@@ -660,11 +709,11 @@ pub fn table(f: &Frontier) -> String {
     for c in &classes {
         s.push_str(&format!(" worst F1 {c} |"));
     }
-    s.push_str(" rho err px mean / max | theta err deg mean | lost frames | first warning | M4 instr/px | RAM B | front |\n|---|---:|---:|---:|");
+    s.push_str(" rho err px mean / max | theta err deg mean | lost frames | wrong-edge frames | first warning | M4 instr/px | RAM B | front |\n|---|---:|---:|---:|");
     for _ in &classes {
         s.push_str("---:|");
     }
-    s.push_str("---:|---:|---:|---:|---:|---:|:---:|\n");
+    s.push_str("---:|---:|---:|---:|---:|---:|---:|:---:|\n");
     for p in &f.points {
         let rec = f.recommended.as_deref() == Some(p.name.as_str());
         s.push_str(&format!(
@@ -682,11 +731,12 @@ pub fn table(f: &Frontier) -> String {
             ));
         }
         s.push_str(&format!(
-            " {:.2} / {:.2} | {:.2} | {} | {} | {} | {} | {} |\n",
+            " {:.2} / {:.2} | {:.2} | {} | {} | {} | {} | {} | {} |\n",
             p.line_rho_err_px_mean,
             p.line_rho_err_px_max,
             p.line_theta_err_deg_mean,
             p.lost_frames,
+            p.wrong_edge_frames,
             p.first_warning.map_or("none".into(), |k| k.to_string()),
             p.m4_instr_per_px
                 .map_or("not measured".into(), |c| format!("{c:.2}")),
@@ -777,6 +827,7 @@ mod tests {
             line_rho_err_px_max: 0.0,
             line_theta_err_deg_mean: 0.0,
             lost_frames: 0,
+            wrong_edge_frames: 0,
             first_warning: None,
             m4_instr_per_px: Some(cost),
             ram_bytes: 0,
@@ -801,5 +852,16 @@ mod tests {
         mark_front(&mut t);
         assert!(t[0].pareto && t[1].pareto);
         assert_eq!(recommend(&t, 72.9).0.as_deref(), Some("fine"));
+        // A wrong line for a tape edge in one frame: still on the front
+        // when it is cheaper or more accurate, but not recommended while a
+        // front configuration without one exists.
+        let mut u = vec![p("sure", 260.0, 0.92), p("sharper", 300.0, 0.94)];
+        u[1].wrong_edge_frames = 1;
+        mark_front(&mut u);
+        assert!(u[0].pareto && u[1].pareto);
+        assert_eq!(recommend(&u, 72.9).0.as_deref(), Some("sure"));
+        u[0].wrong_edge_frames = 2;
+        mark_front(&mut u);
+        assert_eq!(recommend(&u, 72.9).0.as_deref(), Some("sharper"));
     }
 }

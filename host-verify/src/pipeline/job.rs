@@ -543,6 +543,34 @@ pub fn truth_line_errors(truth: &[FrameTruth], frames: &[JobFrame]) -> (Vec<f64>
     (rho, theta)
 }
 
+/// Frames in which the run found the tape but selected a wrong line for
+/// one of its edges: a selected edge whose `|d rho|` to the true edge is
+/// more than half the `|d rho|` between the two true edges of that frame
+/// (the selection is then nearer the tape's other edge, or farther from
+/// its own edge than the tape is wide in half, than it is to the edge it
+/// stands for). Half the tape's own width is the scale because the other
+/// edge is the nearest line the truth knows that the selection must not
+/// be taken for (derived from the scene's geometry, not fitted).
+///
+/// ```
+/// use fixsight_verify::pipeline::job::wrong_edge_frames;
+/// assert_eq!(wrong_edge_frames(&[], &[]), 0);
+/// ```
+pub fn wrong_edge_frames(truth: &[FrameTruth], frames: &[JobFrame]) -> usize {
+    frames
+        .iter()
+        .zip(truth)
+        .filter(|(run, t)| {
+            let Some(tape) = run.tape else {
+                return false;
+            };
+            let (e0, e1) = (truth_px(&t.edges[0]), truth_px(&t.edges[1]));
+            let half = line_err(e0, e1).0 / 2.0;
+            (0..2).any(|i| line_err(tape[i], truth_px(&t.edges[i])).0 > half)
+        })
+        .count()
+}
+
 /// Max and mean, `(0, 0)` when empty.
 fn max_mean(v: &[f64]) -> (f64, f64) {
     if v.is_empty() {
@@ -1191,6 +1219,51 @@ pub fn quarter_case() -> (Sequence, JobParams, Blob) {
 mod tests {
     use super::*;
     use crate::chain::reference::{reference_f64, suppressed_f64};
+
+    /// The truth itself selects no wrong edge; the two edges swapped are
+    /// wrong in every frame; a shift of less than half the tape's width is
+    /// not wrong, one of more is.
+    #[test]
+    fn wrong_edges_are_those_nearer_half_a_tape_away() {
+        let seq = crate::sequence::Sequence::new(&crate::sequence::DEMO_SEQUENCE).unwrap();
+        let truth: Vec<FrameTruth> = (0..24).map(|k| seq.truth(k, (159.5, 119.5))).collect();
+        let frame = |tape: [(f64, f64); 2]| JobFrame {
+            tape: Some(tape),
+            tracks: Vec::new(),
+            warning: None,
+            predicted: None,
+        };
+        let edges = |t: &FrameTruth| [truth_px(&t.edges[0]), truth_px(&t.edges[1])];
+        let exact: Vec<JobFrame> = truth.iter().map(|t| frame(edges(t))).collect();
+        assert_eq!(wrong_edge_frames(&truth, &exact), 0);
+        let swapped: Vec<JobFrame> = truth
+            .iter()
+            .map(|t| {
+                let [a, b] = edges(t);
+                frame([b, a])
+            })
+            .collect();
+        assert_eq!(wrong_edge_frames(&truth, &swapped), truth.len());
+        let shifted = |share: f64| -> usize {
+            let runs: Vec<JobFrame> = truth
+                .iter()
+                .map(|t| {
+                    let [a, b] = edges(t);
+                    let width = line_err(a, b).0;
+                    frame([(a.0 + share * width, a.1), b])
+                })
+                .collect();
+            wrong_edge_frames(&truth, &runs)
+        };
+        assert_eq!(shifted(0.4), 0);
+        assert_eq!(shifted(0.6), truth.len());
+        // A frame without a tape is lost, not wrong.
+        let lost = vec![JobFrame {
+            tape: None,
+            ..frame(edges(&truth[0]))
+        }];
+        assert_eq!(wrong_edge_frames(&truth[..1], &lost), 0);
+    }
 
     #[test]
     fn f64_job_takes_the_fixed_thresholds_as_the_rounded_magnitude_does() {
