@@ -414,16 +414,14 @@ pub fn entry_path(id: &str) -> Result<String> {
     }
 }
 
-/// Code bytes of each of `ids` in the image `elf`; `all` are every kernel
-/// id the image dispatches (their dispatch functions are cut from the
-/// baseline). Also returns, per id, the functions counted (name and
-/// bytes), for the logs.
-#[allow(clippy::type_complexity)]
+/// The functions (name and bytes) that each of `ids` adds to the image
+/// `elf`, whose sum is its code bytes; `all` are every kernel id the image
+/// dispatches (their dispatch functions are cut from the baseline).
 pub fn measure(
     elf: &Path,
     ids: &[String],
     all: &BTreeSet<String>,
-) -> Result<(BTreeMap<String, u64>, BTreeMap<String, Vec<(String, u64)>>)> {
+) -> Result<BTreeMap<String, Vec<(String, u64)>>> {
     let g = read_graph(elf)?;
     let find = |path: &str, what: &str| -> Result<usize> {
         match g.by_name.get(path).map(Vec::as_slice) {
@@ -451,11 +449,9 @@ pub fn measure(
     let mut cut: BTreeSet<usize> = entries.values().copied().collect();
     cut.insert(find(SEQUENCE_RUNNER, "the demo sequence's runner")?);
     let base = g.baseline(&cut);
-    let mut bytes = BTreeMap::new();
     let mut lists = BTreeMap::new();
     for id in ids {
         let k = g.kernel_code(entries[id.as_str()], &base);
-        bytes.insert(id.clone(), k.bytes);
         lists.insert(
             id.clone(),
             k.functions
@@ -464,7 +460,7 @@ pub fn measure(
                 .collect(),
         );
     }
-    Ok((bytes, lists))
+    Ok(lists)
 }
 
 #[cfg(test)]

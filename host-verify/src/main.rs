@@ -4,6 +4,7 @@
 
 use clap::{Parser, Subcommand};
 use fixsight_verify::cmd;
+use fixsight_verify::targets::CodeBytes;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -217,8 +218,8 @@ enum Cmd {
         /// image that ran the vectors (relocations kept by the link);
         /// `rebuild` builds one image per kernel id and core and takes its
         /// .text growth over an image dispatching none (slow).
-        #[arg(long, value_name = "METHOD", default_value = "graph", value_parser = ["graph", "rebuild"])]
-        code_bytes: String,
+        #[arg(long, value_name = "METHOD", value_enum, default_value_t = CodeBytes::Graph)]
+        code_bytes: CodeBytes,
         /// Replace targets.json and the files in targets-logs/ if they exist.
         #[arg(long)]
         overwrite: bool,
@@ -568,14 +569,7 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             core,
             code_bytes,
             overwrite,
-        } => cmd::targets::run(
-            &out,
-            vectors,
-            lang.as_deref(),
-            &core,
-            &code_bytes,
-            overwrite,
-        ),
+        } => cmd::targets::run(&out, vectors, lang.as_deref(), &core, code_bytes, overwrite),
         Cmd::Run {
             input,
             kernel,

@@ -120,8 +120,8 @@ pub const TARGETS: [Target; 4] = [
     },
 ];
 
-/// How `targets` measures the code bytes of a kernel id.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+/// How `targets` measures the code bytes of a kernel id (`--code-bytes`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum CodeBytes {
     /// From the reference graph of the image that ran the vectors
     /// ([`crate::codebytes`]); no extra build.
@@ -129,17 +129,6 @@ pub enum CodeBytes {
     /// `.text` growth of a code-size image per kernel id over the `none`
     /// image: one more firmware build per kernel id and core.
     Rebuild,
-}
-
-impl CodeBytes {
-    /// The value of `--code-bytes`.
-    pub fn parse(s: &str) -> Result<Self> {
-        match s {
-            "graph" => Ok(Self::Graph),
-            "rebuild" => Ok(Self::Rebuild),
-            _ => bail!("--code-bytes: `{s}` is neither `graph` nor `rebuild`"),
-        }
-    }
 }
 
 /// A port (`ports/<name>/`, a crate with optimised variants of kernels)
@@ -154,6 +143,13 @@ pub struct Port {
     pub name: &'static str,
     /// Name of the core in [`TARGETS`] the port is written for.
     pub core: &'static str,
+}
+
+impl Port {
+    /// Name of the port's image, `<core>+<name>` (`--core`, log files).
+    pub fn image(&self) -> String {
+        format!("{}+{}", self.core, self.name)
+    }
 }
 
 /// The ports in the repository.
@@ -636,7 +632,7 @@ fn run_target(
     let mut problems = Vec::new();
     let feature = port.map(|p| p.feature.as_str());
     let label = match port {
-        Some(p) => format!("{}+{}", t.name, p.port.name),
+        Some(p) => p.port.image(),
         None => t.name.to_string(),
     };
     let elf = build_firmware(root, t, golden, None, feature)?;
@@ -708,14 +704,17 @@ fn run_target(
             // Every kernel id the image dispatches: their dispatch
             // functions are cut from the harness's baseline.
             let all: BTreeSet<String> = calls.iter().map(|c| c.kernel.clone()).collect();
-            let (code, lists) = crate::codebytes::measure(&elf, &ids, &all)
+            let lists = crate::codebytes::measure(&elf, &ids, &all)
                 .with_context(|| format!("{label}: code bytes from the image's reference graph"))?;
             let mut log = String::new();
+            let mut code = BTreeMap::new();
             for (id, fs) in &lists {
-                log += &format!("{id} {}\n", code[id]);
+                let bytes: u64 = fs.iter().map(|f| f.1).sum();
+                log += &format!("{id} {bytes}\n");
                 for (name, size) in fs {
                     log += &format!("  {size:>7} {name}\n");
                 }
+                code.insert(id.clone(), bytes);
             }
             std::fs::write(logs.join(format!("{label}.code-bytes.txt")), log)?;
             code
@@ -881,7 +880,7 @@ pub fn run(
     let labels: Vec<String> = TARGETS
         .iter()
         .map(|t| t.name.to_string())
-        .chain(PORTS.iter().map(|p| format!("{}+{}", p.core, p.name)))
+        .chain(PORTS.iter().map(Port::image))
         .collect();
     if let Some(c) = cores.iter().find(|c| !labels.contains(c)) {
         bail!(
@@ -913,10 +912,7 @@ pub fn run(
             report.targets.push(r);
             problems.extend(p);
         }
-        for port in PORTS
-            .iter()
-            .filter(|p| wanted(&format!("{}+{}", p.core, p.name)))
-        {
+        for port in PORTS.iter().filter(|p| wanted(&p.image())) {
             let run = PortRun::new(&root, &golden, port)?;
             let t = TARGETS
                 .iter()

@@ -8,18 +8,16 @@ use std::path::{Path, PathBuf};
 /// Builds and runs the firmware for every core (or only the Rust or only
 /// the C firmware, `lang`; only the Rust images named in `cores`, if any),
 /// writes `targets.json` and the console logs in `targets-logs/` to `out`,
-/// measuring code bytes by `code_bytes` (`graph` or `rebuild`, see
-/// [`crate::targets::CodeBytes`]). Unless `overwrite`, refuses before
+/// measuring code bytes by `method`. Unless `overwrite`, refuses before
 /// building anything when either exists.
 pub fn run(
     out: &Path,
     vectors: Option<PathBuf>,
     lang: Option<&str>,
     cores: &[String],
-    code_bytes: &str,
+    method: crate::targets::CodeBytes,
     overwrite: bool,
 ) -> anyhow::Result<bool> {
-    let method = crate::targets::CodeBytes::parse(code_bytes)?;
     // Checks the names (and that targets.json does not exist yet); the file
     // itself is written by the driver through another set.
     drop(Outputs::new(

@@ -110,7 +110,7 @@ use crate::pipeline::job::{
 };
 use crate::pipeline::{
     magnitude_name, magnitude_of, operator_name, operator_of, run_stream, smoothing_name,
-    smoothing_of,
+    smoothing_of, suppression_name, suppression_of,
 };
 use crate::scene::Scene;
 use crate::sequence::{Sequence, DEMO_SEQUENCE};
@@ -216,8 +216,8 @@ impl MapConfig {
             magnitude_name(self.magnitude),
             self.theta_bins,
             match self.suppression {
-                Suppression::Sectors => "",
-                Suppression::Interpolated => "-interpolated",
+                Suppression::Sectors => String::new(),
+                other => format!("-{}", suppression_name(other)),
             }
         )
     }
@@ -233,7 +233,9 @@ impl MapConfig {
         let parts: Vec<&str> = name.split('-').collect();
         let (map, s, o, m, t, suppression) = match parts[..] {
             [map, s, o, m, t] => (map, s, o, m, t, Suppression::Sectors),
-            [map, s, o, m, t, "interpolated"] => (map, s, o, m, t, Suppression::Interpolated),
+            [map, s, o, m, t, x] if suppression_of(x) == Some(Suppression::Interpolated) => {
+                (map, s, o, m, t, Suppression::Interpolated)
+            }
             _ => {
                 return Err(format!(
                     "`{name}`: a configuration is written \

@@ -275,19 +275,21 @@ const fn map_job(
 /// `fixsight-verify frontier` reads back from `targets.json`.
 macro_rules! map_stage {
     ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal) => {
-        Stage {
-            name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t),
-            kernel: "pipeline.point_job",
-            params: &map_job($s, $o, $m, $t, $step, "sectors"),
-            inputs: &[0, 16],
-            outputs: &[17],
-        }
+        map_stage_of!($s, $o, $m, $t, $step, "sectors", "")
     };
     ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal, "interpolated") => {
+        map_stage_of!($s, $o, $m, $t, $step, "interpolated", "-interpolated")
+    };
+}
+
+/// The [`Stage`] of [`map_stage!`] with the suppression's parameter value
+/// and name suffix.
+macro_rules! map_stage_of {
+    ($s:literal, $o:literal, $m:literal, $t:literal, $step:literal, $sup:literal, $suffix:literal) => {
         Stage {
-            name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t, "-interpolated"),
+            name: concat!("map-", $s, "-", $o, "-", $m, "-t", $t, $suffix),
             kernel: "pipeline.point_job",
-            params: &map_job($s, $o, $m, $t, $step, "interpolated"),
+            params: &map_job($s, $o, $m, $t, $step, $sup),
             inputs: &[0, 16],
             outputs: &[17],
         }
