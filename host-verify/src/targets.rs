@@ -123,8 +123,8 @@ pub const TARGETS: [Target; 4] = [
 /// How `targets` measures the code bytes of a kernel id (`--code-bytes`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum CodeBytes {
-    /// From the reference graph of the image that ran the vectors
-    /// ([`crate::codebytes`]); no extra build.
+    /// From the reference graph of the image that ran the vectors (module
+    /// `codebytes`); no extra build.
     Graph,
     /// `.text` growth of a code-size image per kernel id over the `none`
     /// image: one more firmware build per kernel id and core.
