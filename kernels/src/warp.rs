@@ -150,7 +150,11 @@
 //! `0xCBF43926`). [`ControlGrid::from_blob`] checks, in order: length at least
 //! 32, magic, version, header length, total length equal to `32 + payload`,
 //! CRC, then every field and control point as [`ControlGrid::new`] does. The
-//! parsed table borrows the blob; nothing is copied.
+//! parsed table borrows the blob; nothing is copied. Reading and writing
+//! blobs needs the cargo feature `grid-blob` (the CRC comes from the `crc`
+//! crate); without it a firmware builds its grid from points
+//! ([`ControlGrid::new`]) and the kernel crate depends on nothing beyond
+//! `core`.
 //!
 //! # Bands of source rows and the row stream (image mode)
 //!
@@ -262,13 +266,16 @@ pub const BLOB_VERSION: u16 = 1;
 pub const BLOB_HEADER_LEN: usize = 32;
 
 /// CRC-32/ISO-HDLC, the blob checksum.
+#[cfg(feature = "grid-blob")]
 const BLOB_CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
 
 /// CRC-32 (ISO-HDLC) of `parts` concatenated, as stored in a blob header.
+/// Feature `grid-blob`.
 ///
 /// ```
 /// assert_eq!(fixsight::warp::crc32(&[b"1234", b"56789"]), 0xCBF4_3926);
 /// ```
+#[cfg(feature = "grid-blob")]
 pub fn crc32(parts: &[&[u8]]) -> u32 {
     let mut d = BLOB_CRC.digest();
     for p in parts {
@@ -840,6 +847,7 @@ impl<'a> PixelMap<'a> {
 #[derive(Debug, Clone, Copy)]
 enum Points<'a> {
     Words(&'a [i32]),
+    #[cfg(feature = "grid-blob")]
     Bytes(&'a [u8]),
 }
 
@@ -853,6 +861,7 @@ impl Points<'_> {
                 // Not reached: construction checked the length.
                 _ => (0, 0),
             },
+            #[cfg(feature = "grid-blob")]
             Points::Bytes(b) => match b.get(8 * p..8 * p + 8) {
                 Some(&[a0, a1, a2, a3, b0, b1, b2, b3]) => (
                     i32::from_le_bytes([a0, a1, a2, a3]),
@@ -869,6 +878,7 @@ impl Points<'_> {
     fn get(&self, k: usize) -> i32 {
         match *self {
             Points::Words(w) => w[k],
+            #[cfg(feature = "grid-blob")]
             Points::Bytes(b) => match b.get(4 * k..4 * k + 4) {
                 Some(&[b0, b1, b2, b3]) => i32::from_le_bytes([b0, b1, b2, b3]),
                 // Not reached: construction checked the payload length.
@@ -1024,6 +1034,7 @@ impl<'a> ControlGrid<'a> {
     }
 
     /// Parses a blob (format in the module docs), borrowing its payload.
+    /// Feature `grid-blob`.
     ///
     /// ```
     /// use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -1040,6 +1051,7 @@ impl<'a> ControlGrid<'a> {
     /// assert!(matches!(ControlGrid::from_blob(&blob[..50]), Err(Error::BlobSize { .. })));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
+    #[cfg(feature = "grid-blob")]
     pub fn from_blob(bytes: &'a [u8]) -> Result<Self> {
         if bytes.len() < BLOB_HEADER_LEN {
             return Err(Error::BlobSize {
@@ -1167,7 +1179,7 @@ impl<'a> ControlGrid<'a> {
     }
 
     /// Writes the blob into `out` (at least [`blob_len`](Self::blob_len)
-    /// bytes) and returns its length.
+    /// bytes) and returns its length. Feature `grid-blob`.
     ///
     /// ```
     /// # use fixsight::warp::{ControlGrid, WarpGeometry};
@@ -1176,6 +1188,7 @@ impl<'a> ControlGrid<'a> {
     /// assert!(ControlGrid::new(&[0; 8], g, 2)?.write_blob(&mut small).is_err());
     /// # Ok::<(), fixsight::Error>(())
     /// ```
+    #[cfg(feature = "grid-blob")]
     pub fn write_blob(&self, out: &mut [u8]) -> Result<usize> {
         let n = self.blob_len();
         if out.len() < n {
