@@ -35,7 +35,8 @@
 //!     `M` extension): `s = 0` gives 0; otherwise, with `z` the leading
 //!     zeros of `s`, `u = s << (z & !1)` (top bit at 31 or 30) and
 //!     `t = u >> 26` (in `16..64`), the start is
-//!     `q = ceil(sqrt((t + 1) * 2^26)) >> (z >> 1)` (a 48-entry table,
+//!     `q = ceil(sqrt((t + 1) * 2^26)) >> (z >> 1)` (a table indexed by
+//!     `t`, 64 entries of which the 48 for `t` in `16..64` are used;
 //!     within 3.2 % of `sqrt(s)`), then two integer Newton steps
 //!     `q = (q + s / q) >> 1` (floor division), and `r = q - 1` when
 //!     `q^2 > s`, else `q`. After the first step `q >= floor(sqrt(s))`
@@ -145,14 +146,16 @@ fn sqrt_bits(s: u32, steps: u32) -> u32 {
     root
 }
 
-/// Start values of [`sqrt_newton`]: `SQRT_SEED[t - 16] = ceil(sqrt((t + 1)
-/// * 2^26))` for `t` in `16..64`, the root of the top of the interval of
-/// `u32` values whose top six bits (normalised to an even shift) are `t`.
-const SQRT_SEED: [u32; 48] = {
-    let mut out = [0u32; 48];
+/// Start values of [`sqrt_newton`]: `SQRT_SEED[t] = ceil(sqrt((t + 1) *
+/// 2^26))`, the root of the top of the interval of `u32` values whose top
+/// six bits (normalised to an even shift) are `t`. Only `t` in `16..64`
+/// occurs; the table has all 64 entries so that the index `u >> 26` needs
+/// no range test.
+const SQRT_SEED: [u32; 64] = {
+    let mut out = [0u32; 64];
     let mut i = 0;
-    while i < 48 {
-        let v = ((i as u64) + 17) << 26;
+    while i < 64 {
+        let v = ((i as u64) + 1) << 26;
         // Smallest r with r^2 >= v (binary search).
         let (mut lo, mut hi) = (0u64, 1u64 << 17);
         while hi - lo > 1 {
@@ -180,7 +183,7 @@ fn sqrt_newton(s: u32) -> u32 {
     let z = s.leading_zeros();
     let u = s << (z & !1);
     let t = (u >> 26) as usize;
-    let mut q = SQRT_SEED.get(t.wrapping_sub(16)).copied().unwrap_or(1) >> (z >> 1);
+    let mut q = SQRT_SEED[t] >> (z >> 1);
     for _ in 0..2 {
         // `q >= 1` for `s >= 1`, so the fallback never applies.
         q = (q + s.checked_div(q).unwrap_or(0)) >> 1;

@@ -1589,6 +1589,11 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         }
         let ring = &self.rows;
         let rows: [&[u8]; RING_ROWS] = core::array::from_fn(|j| &ring[idx[j]][..w]);
+        // The window's rows in ring order, when none is clamped.
+        let flat = (y >= r && y + r < height).then(|| Ring {
+            flat: ring.as_flattened(),
+            top: (y - r) % RING_ROWS,
+        });
         let taps = Fused {
             c: self.cross,
             d: self.deriv,
@@ -1625,13 +1630,13 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             && taps.shift == DemoTaps.shift()
             && taps.kind == DemoTaps.kind();
         match r {
-            _ if demo => {
-                fused_row::<{ DemoTaps::RADIUS }, CAP, _>(&rows, &DemoTaps, grad, below, job)
-            }
-            1 => fused_row::<1, CAP, _>(&rows, &taps, grad, below, job),
-            2 => fused_row::<2, CAP, _>(&rows, &taps, grad, below, job),
-            3 => fused_row::<3, CAP, _>(&rows, &taps, grad, below, job),
-            _ => fused_row::<4, CAP, _>(&rows, &taps, grad, below, job),
+            _ if demo => fused_row::<{ DemoTaps::RADIUS }, W, CAP, _>(
+                &rows, flat, &DemoTaps, grad, below, job,
+            ),
+            1 => fused_row::<1, W, CAP, _>(&rows, None, &taps, grad, below, job),
+            2 => fused_row::<2, W, CAP, _>(&rows, None, &taps, grad, below, job),
+            3 => fused_row::<3, W, CAP, _>(&rows, None, &taps, grad, below, job),
+            _ => fused_row::<4, W, CAP, _>(&rows, None, &taps, grad, below, job),
         }
         self.stored = cl.n.stored;
         self.candidates += cl.n.candidates;
@@ -2074,6 +2079,10 @@ trait TapSet: SectorRule {
     fn half(&self) -> i32;
     /// Magnitude kind.
     fn kind(&self) -> Magnitude;
+    /// Whether the column sums run the loop specialised per ring rotation
+    /// ([`columns_rotated`]): nine copies of the column loop, paid for
+    /// only by the constant taps of [`DEMO`].
+    const ROTATED: bool = false;
     /// The magnitude of one gradient ([`Magnitude::of`]).
     #[inline(always)]
     fn magnitude(&self, g: [i16; 2]) -> u16 {
@@ -2152,6 +2161,7 @@ impl DemoTaps {
 }
 
 impl TapSet for DemoTaps {
+    const ROTATED: bool = true;
     #[inline(always)]
     fn c(&self, j: usize) -> i32 {
         Self::C[j]
@@ -2514,8 +2524,9 @@ const CHUNK: usize = 64;
 /// the row by a loop without bounds tests (every row sliced to them),
 /// those outside as copies of the first or last column's sums.
 #[inline(always)]
-fn fill_columns<const R: usize, T: TapSet>(
+fn fill_columns<const R: usize, const S: usize, T: TapSet>(
     rows: &[&[u8]; RING_ROWS],
+    ring: Option<Ring<'_>>,
     f: &T,
     start: isize,
     buf: &mut [[i32; 2]],
@@ -2526,10 +2537,18 @@ fn fill_columns<const R: usize, T: TapSet>(
     let (lo, hi) = (start.clamp(0, w), end.clamp(0, w));
     if lo < hi {
         let (s, m) = (lo as usize, (hi - lo) as usize);
-        let span: [&[u8]; RING_ROWS] = core::array::from_fn(|j| &rows[j][s..s + m]);
         let at = (lo - start) as usize;
-        for (i, c) in buf[at..at + m].iter_mut().enumerate() {
-            *c = column::<R, T>(&span, f, i);
+        let out = &mut buf[at..at + m];
+        match ring {
+            Some(ring) if T::ROTATED && 2 * R + 1 == RING_ROWS => {
+                columns_rotated::<R, S, T>(ring, f, s, out)
+            }
+            _ => {
+                let span: [&[u8]; RING_ROWS] = core::array::from_fn(|j| &rows[j][s..s + m]);
+                for (i, c) in out.iter_mut().enumerate() {
+                    *c = column::<R, T>(&span, f, i);
+                }
+            }
         }
     }
     let left = ((lo.max(start) - start) as usize).min(buf.len());
@@ -2544,6 +2563,70 @@ fn fill_columns<const R: usize, T: TapSet>(
     }
 }
 
+/// The ring of camera rows as one slice (slot `k` at `k * S`, `S` the
+/// stream's width capacity) and the slot of the window's top row, for a
+/// window of `2R + 1 = RING_ROWS` rows none of which is clamped (row `j`
+/// of the window is in slot `(top + j) mod RING_ROWS`).
+#[derive(Clone, Copy)]
+struct Ring<'a> {
+    flat: &'a [u8],
+    top: usize,
+}
+
+/// [`column`] for columns `s .. s + out.len()` of a window of
+/// `RING_ROWS` unclamped rows, the loop compiled once per rotation of the
+/// ring so that every row is one constant offset from the column (no
+/// row pointer is kept in a register or reloaded from the stack). Same
+/// sums as [`column`].
+#[inline(always)]
+fn columns_rotated<const R: usize, const S: usize, T: TapSet>(
+    ring: Ring<'_>,
+    f: &T,
+    s: usize,
+    out: &mut [[i32; 2]],
+) {
+    match ring.top {
+        0 => columns_at::<R, S, 0, T>(ring.flat, f, s, out),
+        1 => columns_at::<R, S, 1, T>(ring.flat, f, s, out),
+        2 => columns_at::<R, S, 2, T>(ring.flat, f, s, out),
+        3 => columns_at::<R, S, 3, T>(ring.flat, f, s, out),
+        4 => columns_at::<R, S, 4, T>(ring.flat, f, s, out),
+        5 => columns_at::<R, S, 5, T>(ring.flat, f, s, out),
+        6 => columns_at::<R, S, 6, T>(ring.flat, f, s, out),
+        7 => columns_at::<R, S, 7, T>(ring.flat, f, s, out),
+        _ => columns_at::<R, S, 8, T>(ring.flat, f, s, out),
+    }
+}
+
+/// [`columns_rotated`] for the rotation `TOP`.
+#[inline(never)]
+fn columns_at<const R: usize, const S: usize, const TOP: usize, T: TapSet>(
+    flat: &[u8],
+    f: &T,
+    s: usize,
+    out: &mut [[i32; 2]],
+) {
+    let m = out.len();
+    // Every row of the window lies within `8 S + m` bytes of column `s`;
+    // each row's span is the window at a constant offset.
+    let Some(win) = flat.get(s..s + (RING_ROWS - 1) * S + m) else {
+        return;
+    };
+    let rows: [&[u8]; RING_ROWS] =
+        core::array::from_fn(|j| &win[((TOP + j) % RING_ROWS) * S..][..m]);
+    for (i, c) in out.iter_mut().enumerate() {
+        let px = |j: usize| rows[j][i] as i32;
+        let mut sum = f.c(R) * px(R);
+        let mut d = 0i32;
+        for k in 1..=R {
+            let (a, b) = (px(R - k), px(R + k));
+            sum += f.c(R + k) * (a + b);
+            d += f.d(R + k) * (b - a);
+        }
+        *c = [sum, d];
+    }
+}
+
 /// One fused row, chunk by chunk of [`CHUNK`] pixels: first the column
 /// sums of the chunk and `R` columns on either side (columns outside the
 /// row clamp to its ends, the clamped border) into a stack buffer (the
@@ -2554,8 +2637,9 @@ fn fill_columns<const R: usize, T: TapSet>(
 /// behind (its neighbours below are the magnitudes just formed), reading
 /// its gradient from `grad` before the new one replaces it.
 #[inline(always)]
-fn fused_row<const R: usize, const CAP: usize, T: TapSet>(
+fn fused_row<const R: usize, const S: usize, const CAP: usize, T: TapSet>(
     rows: &[&[u8]; RING_ROWS],
+    ring: Option<Ring<'_>>,
     f: &T,
     grad: &mut [[i16; 2]],
     mag: &mut [u16],
@@ -2576,10 +2660,16 @@ fn fused_row<const R: usize, const CAP: usize, T: TapSet>(
     while x0 < w {
         let n = CHUNK.min(w - x0);
         if x0 == 0 {
-            fill_columns::<R, T>(&rows, f, -(R as isize), &mut buf[..n + 2 * R]);
+            fill_columns::<R, S, T>(&rows, ring, f, -(R as isize), &mut buf[..n + 2 * R]);
         } else {
             buf.copy_within(prev..prev + 2 * R, 0);
-            fill_columns::<R, T>(&rows, f, (x0 + R) as isize, &mut buf[2 * R..n + 2 * R]);
+            fill_columns::<R, S, T>(
+                &rows,
+                ring,
+                f,
+                (x0 + R) as isize,
+                &mut buf[2 * R..n + 2 * R],
+            );
         }
         let out = mag[x0..x0 + n].iter_mut().zip(&mut fresh[1..n + 1]);
         for (win, (m, g)) in buf[..n + 2 * R].windows(2 * R + 1).zip(out) {
@@ -3288,6 +3378,36 @@ mod tests {
             for v in 0..(1u32 << bits) {
                 let want = ((v as f64 / (1u64 << s) as f64) + 0.5).floor().min(255.0);
                 assert_eq!(raw_to_u8(v as u16, bits) as f64, want, "{v} at {bits} bits");
+            }
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(24))]
+
+        /// The demo taps run their own loops (constant taps, and the column
+        /// sums compiled per ring rotation for the rows whose window is
+        /// not clamped): frames of 9 to `TH` rows take every rotation.
+        #[test]
+        fn demo_taps_stream_equals_the_whole_frame_kernels(
+            interpolated in any::<bool>(), w in 1usize..=TW, h in 9usize..=TH,
+            seed in any::<u64>(), seed2 in any::<u64>()
+        ) {
+            let cfg = EdgeConfig {
+                suppression: if interpolated {
+                    Suppression::Interpolated
+                } else {
+                    Suppression::Sectors
+                },
+                ..DEMO
+            };
+            let mut s: Box<Test<64>> = Box::default();
+            s.configure(&cfg, w, h).unwrap();
+            for sd in [seed, seed2] {
+                let img = frame(sd, w, h);
+                push_frame(&mut s, &img, w);
+                s.finish().unwrap();
+                same_as_whole(&s, &cfg, &img, w, h)?;
             }
         }
     }
