@@ -28,4 +28,6 @@ for only in none filter.separable; do
   (cd targets/cortex-m && FIXSIGHT_ONLY_KERNELS=$only timeout 900 cargo build -q --release --target thumbv6m-none-eabi)
 done
 timeout 2400 cargo run -q --release -p fixsight-verify -- targets --overwrite --out "${FIXSIGHT_REPORT:-fixsight-report}"
+# A user's firmware on a 64 KiB part: flash, code and RAM at opt-level 3 and "s".
+timeout 1200 cargo run -q --release -p fixsight-verify -- flash --overwrite --out "${FIXSIGHT_REPORT:-fixsight-report}"
 echo "targets step took $(( $(date +%s) - start )) s"

@@ -184,6 +184,26 @@ enum Cmd {
         #[arg(long)]
         overwrite: bool,
     },
+    /// Build the firmware of targets/user-firmware (one binary per part of the
+    /// kernel crate: none, edge_stream, point_job), written as a user would
+    /// write it for a Cortex-M4 with 256 KiB of flash and 64 KiB of RAM, at
+    /// opt-level 3 and "s"; measure each image's flash, code and RAM (its
+    /// sections and its stack high-water mark) and run it under QEMU; write
+    /// flash.json. Fails when an image does not run or needs more RAM than the
+    /// part has. Not a safety function: the point job's drift warning is an
+    /// aid; a vehicle that can hurt people needs safety-rated sensing and
+    /// control under the applicable standards (for example ISO 3691-4,
+    /// IEC 61508) and local regulations.
+    ///
+    /// Example: fixsight-verify flash --out fixsight-report
+    Flash {
+        /// Output folder.
+        #[arg(long, default_value = "fixsight-report")]
+        out: PathBuf,
+        /// Replace flash.json if it exists.
+        #[arg(long)]
+        overwrite: bool,
+    },
     /// Build the firmware, run every golden vector on emulated Cortex-M0/M3/M4
     /// and RV32 cores (QEMU) and through the C ABI on the Cortex-M4, write
     /// targets.json.
@@ -562,6 +582,7 @@ fn run(command: Cmd) -> anyhow::Result<bool> {
             lens,
             overwrite,
         } => cmd::report::run(&out, vectors, lens.as_deref(), overwrite),
+        Cmd::Flash { out, overwrite } => cmd::flash::run(&out, overwrite),
         Cmd::Targets {
             out,
             vectors,

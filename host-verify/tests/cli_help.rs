@@ -143,7 +143,7 @@ fn readme_command_table_matches_help() {
 
 #[test]
 fn help_of_commands_with_a_drift_warning_says_it_is_no_safety_function() {
-    for cmd in ["report", "run"] {
+    for cmd in ["report", "run", "flash"] {
         for flag in ["-h", "--help"] {
             let h = help(&[cmd, flag]);
             assert!(

@@ -202,6 +202,12 @@ impl Thresholds {
         high: u16::MAX,
     };
 
+    /// `low = high = 0`: the stored value of an unconfigured stage (never
+    /// used as a rule: a stage reads its thresholds only once configured,
+    /// and reports [`Thresholds::MAX`] before). All zero bytes, so that a
+    /// stage in a `static` takes no initial image in flash.
+    pub(crate) const UNSET: Thresholds = Thresholds { low: 0, high: 0 };
+
     /// Checks and stores `low` and `high`.
     ///
     /// Errors: `low > high` -> [`Error::ThresholdOrder`]; `low = 0` (every

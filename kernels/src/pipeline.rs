@@ -857,6 +857,22 @@ pub struct FrameReport {
 
 /// The report of no frame: every count zero (a stream's report before
 /// its first frame).
+/// The configuration slot of an unconfigured stage: each field its type's
+/// first variant or zero, so that [`EdgeStream::new`] (and the jobs that
+/// hold one) is all zero bytes and a `static` of it goes to `.bss`, with no
+/// initial image in flash to store and copy at reset
+/// (`fixsight-verify flash` checks the linked firmware). Never run: a
+/// stage works only after `configure` has replaced it.
+const UNSET: EdgeConfig = EdgeConfig {
+    smoothing: Smoothing::None,
+    operator: Operator::Sobel,
+    frac_bits: 0,
+    magnitude: Magnitude::L1,
+    thresholds: ThresholdRule::Fixed { low: 0, high: 0 },
+    thinning: Thinning::Off,
+    suppression: Suppression::Sectors,
+};
+
 const NO_FRAME: FrameReport = FrameReport {
     width: 0,
     height: 0,
@@ -1097,7 +1113,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
     /// ```
     pub const fn new() -> Self {
         Self {
-            cfg: DEMO,
+            cfg: UNSET,
             deriv: [0; MAX_TAPS],
             cross: [0; MAX_TAPS],
             radius: 0,
@@ -1109,8 +1125,8 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             pushed: 0,
             formed: 0,
             classified: 0,
-            thresholds: Thresholds::MAX,
-            carried: Thresholds::MAX,
+            thresholds: Thresholds::UNSET,
+            carried: Thresholds::UNSET,
             candidates: 0,
             stored: 0,
             done_height: 0,
@@ -1169,9 +1185,9 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             hist,
             grads,
         } = self;
-        *cfg = DEMO;
+        *cfg = UNSET;
         *phase = Phase::Unconfigured;
-        (*thresholds, *carried) = (Thresholds::MAX, Thresholds::MAX);
+        (*thresholds, *carried) = (Thresholds::UNSET, Thresholds::UNSET);
         *report = NO_FRAME;
         for n in [
             radius,
@@ -1321,20 +1337,23 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
         }
     }
 
-    /// Thresholds the next (or current) frame uses.
+    /// Thresholds the next (or current) frame uses; before `configure`,
+    /// `low = high = 65535` (no magnitude would be a candidate).
     ///
     /// ```
     /// use fixsight::pipeline::{EdgeStream, DEMO, map_words};
     /// let mut s = EdgeStream::<8, { map_words(8, 8) }, 925, 0>::new();
+    /// assert_eq!((s.thresholds().low(), s.thresholds().high()), (65535, 65535));
     /// s.configure(&DEMO, 8, 8)?;
     /// assert_eq!((s.thresholds().low(), s.thresholds().high()), (60, 125));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn thresholds(&self) -> Thresholds {
-        if self.phase == Phase::Streaming && self.pushed > 0 {
-            self.thresholds
-        } else {
-            self.carried
+        match self.phase {
+            // Nothing configured: no magnitude is a candidate.
+            Phase::Unconfigured => Thresholds::MAX,
+            Phase::Streaming if self.pushed > 0 => self.thresholds,
+            _ => self.carried,
         }
     }
 

@@ -5,6 +5,7 @@
 
 pub mod budget;
 pub mod calibrate;
+pub mod flash;
 pub mod frontier;
 pub mod golden;
 pub mod grid;
