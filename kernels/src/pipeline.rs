@@ -3325,6 +3325,26 @@ mod tests {
         Ok(())
     }
 
+    /// Two frames from the seeds through one stream, each checked against
+    /// the whole-frame chain (the second uses the thresholds the first
+    /// derived).
+    fn two_frames(
+        cfg: &EdgeConfig,
+        w: usize,
+        h: usize,
+        seeds: [u64; 2],
+    ) -> core::result::Result<(), TestCaseError> {
+        let mut s: Box<Test<64>> = Box::default();
+        s.configure(cfg, w, h).unwrap();
+        for sd in seeds {
+            let img = frame(sd, w, h);
+            push_frame(&mut s, &img, w);
+            s.finish().unwrap();
+            same_as_whole(&s, cfg, &img, w, h)?;
+        }
+        Ok(())
+    }
+
     fn push_frame<const CAP: usize>(s: &mut Test<CAP>, img: &[u8], w: usize) {
         for r in img.chunks_exact(w) {
             s.push_row(r).unwrap();
@@ -3426,14 +3446,7 @@ mod tests {
                 },
                 ..DEMO
             };
-            let mut s: Box<Test<64>> = Box::default();
-            s.configure(&cfg, w, h).unwrap();
-            for sd in [seed, seed2] {
-                let img = frame(sd, w, h);
-                push_frame(&mut s, &img, w);
-                s.finish().unwrap();
-                same_as_whole(&s, &cfg, &img, w, h)?;
-            }
+            two_frames(&cfg, w, h, [seed, seed2])?;
         }
     }
 
@@ -3445,15 +3458,7 @@ mod tests {
             cfg in config(), w in 1usize..=TW, h in 1usize..=TH, seed in any::<u64>(),
             seed2 in any::<u64>()
         ) {
-            let mut s: Box<Test<64>> = Box::default();
-            s.configure(&cfg, w, h).unwrap();
-            // Two frames: the second uses the thresholds the first derived.
-            for sd in [seed, seed2] {
-                let img = frame(sd, w, h);
-                push_frame(&mut s, &img, w);
-                s.finish().unwrap();
-                same_as_whole(&s, &cfg, &img, w, h)?;
-            }
+            two_frames(&cfg, w, h, [seed, seed2])?;
         }
 
         #[test]
