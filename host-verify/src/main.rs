@@ -209,7 +209,7 @@ enum Cmd {
         #[arg(long, value_parser = ["rust", "c"])]
         lang: Option<String>,
         /// Only this Rust image (repeatable): cortex-m4, cortex-m3,
-        /// cortex-m0, rv32imc, or a port's image cortex-m4+cortex-m4-dsp.
+        /// cortex-m0, rv32imc, or a port's image cortex-m4+cortex-m4-dsp, cortex-m4+cortex-m4f-float.
         /// Default: all of them. The C firmware follows --lang.
         #[arg(long, value_name = "IMAGE")]
         core: Vec<String>,

@@ -101,12 +101,13 @@
 //!   considered while there is one: a wrong line taken for the tape's edge
 //!   is what a drift warning must not be built on.
 
+pub mod float;
 pub mod plot;
 
 use crate::chain::reference::{edges_f64, suppressed_f64, thresholds_f64};
 use crate::metrics::matched_agreement;
 use crate::pipeline::job::{
-    run_fixed_with, sequence_correction_grid, truth_line_errors, wrong_edge_frames,
+    run_fixed_with, sequence_correction_grid, truth_line_errors, wrong_edge_frames, JobFrame,
 };
 use crate::pipeline::{
     magnitude_name, magnitude_of, operator_name, operator_of, run_stream, smoothing_name,
@@ -352,6 +353,10 @@ pub struct MapPoint {
     pub code_bytes: Option<u64>,
     /// On the Pareto front.
     pub pareto: bool,
+    /// An `f32` configuration ([`float`]): needs a core with a
+    /// single-precision FPU.
+    #[serde(default)]
+    pub float: bool,
 }
 
 /// The whole map (`frontier.json`).
@@ -491,7 +496,12 @@ pub fn line_figures(job: &PointJobConfig, run: &SequenceRun) -> Result<LineFigur
     let g = &run.grid;
     let grid = ControlGrid::new(&g.points, g.geom, g.k).map_err(|e| e.to_string())?;
     let fixed = run_fixed_with(job, &run.frames, Some(&grid))?;
-    let (rho, theta) = truth_line_errors(&run.truth, &fixed.frames);
+    Ok(line_figures_of(&run.truth, &fixed.frames))
+}
+
+/// Line figures of a run's frames against the truth.
+pub fn line_figures_of(truth: &[crate::sequence::FrameTruth], frames: &[JobFrame]) -> LineFigures {
+    let (rho, theta) = truth_line_errors(truth, frames);
     let mean = |v: &[f64]| {
         if v.is_empty() {
             0.0
@@ -499,22 +509,33 @@ pub fn line_figures(job: &PointJobConfig, run: &SequenceRun) -> Result<LineFigur
             v.iter().sum::<f64>() / v.len() as f64
         }
     };
-    Ok(LineFigures {
+    LineFigures {
         rho_mean: mean(&rho),
         rho_max: rho.iter().copied().fold(0.0, f64::max),
         theta_mean: mean(&theta),
-        lost: fixed.frames.iter().filter(|f| f.tape.is_none()).count(),
-        wrong: wrong_edge_frames(&run.truth, &fixed.frames),
-        first_warning: fixed.frames.iter().position(|f| f.warning.is_some()),
-    })
+        lost: frames.iter().filter(|f| f.tape.is_none()).count(),
+        wrong: wrong_edge_frames(truth, frames),
+        first_warning: frames.iter().position(|f| f.warning.is_some()),
+    }
 }
 
 /// The M4 figures of a bench stage: `(instr/px, code bytes)`.
 pub fn m4_cost(t: &TargetsReport, stage: &str) -> Option<(f64, u64)> {
-    let want = format!("{JOB_KERNEL}/{stage}");
+    m4_cost_of(t, None, JOB_KERNEL, stage)
+}
+
+/// The M4 figures of a bench stage of `kernel` on the plain image (`port`
+/// `None`) or a port's image: `(instr/px, code bytes)`.
+pub fn m4_cost_of(
+    t: &TargetsReport,
+    port: Option<&str>,
+    kernel: &str,
+    stage: &str,
+) -> Option<(f64, u64)> {
+    let want = format!("{kernel}/{stage}");
     t.targets
         .iter()
-        .filter(|c| c.name == CORE && c.lang == "rust" && c.port.is_none())
+        .filter(|c| c.name == CORE && c.lang == "rust" && c.port.as_deref() == port)
         .flat_map(|c| &c.kernels)
         .find(|k| k.name == want)
         .map(|k| (k.instr_per_px, k.code_bytes))
@@ -565,6 +586,7 @@ pub fn evaluate(
         ram_bytes: DemoPointJobQvga::ram_bytes(),
         code_bytes: cost.map(|c| c.1),
         pareto: false,
+        float: false,
     })
 }
 
@@ -578,7 +600,8 @@ pub fn evaluate(
 /// #         f1: Default::default(), f1_worst_by_class: Default::default(), f1_worst: f1,
 /// #         frames: 0, line_rho_err_px_mean: 0.0, line_rho_err_px_max: 0.0,
 /// #         line_theta_err_deg_mean: 0.0, lost_frames: 0, wrong_edge_frames: 0, first_warning: None,
-/// #         m4_instr_per_px: Some(cost), ram_bytes: 0, code_bytes: None, pareto: false }
+/// #         m4_instr_per_px: Some(cost), ram_bytes: 0, code_bytes: None, pareto: false,
+/// #         float: false }
 /// # }
 /// let mut v = vec![p("a", 100.0, 0.90), p("b", 200.0, 0.96), p("c", 250.0, 0.95)];
 /// mark_front(&mut v);
@@ -719,8 +742,9 @@ pub fn table(f: &Frontier) -> String {
     for p in &f.points {
         let rec = f.recommended.as_deref() == Some(p.name.as_str());
         s.push_str(&format!(
-            "| {}{} | {} | {} | {:.4} |",
+            "| {}{}{} | {} | {} | {:.4} |",
             p.name,
+            if p.float { " (f32, FPU)" } else { "" },
             if rec { " (recommended)" } else { "" },
             p.frac_bits,
             p.bin_shift,
@@ -745,6 +769,13 @@ pub fn table(f: &Frontier) -> String {
             p.ram_bytes,
             if p.pareto { "yes" } else { "" }
         ));
+    }
+    if f.points.iter().any(|p| p.float) {
+        s.push_str(
+            "\nConfigurations marked (f32, FPU) run the f32 edge stage of `ports/cortex-m4f-float` \
+             with the kernel crate's line stages; they need a core with a single-precision FPU \
+             (Cortex-M4F), and their cost is that of the image `cortex-m4+cortex-m4f-float`.\n",
+        );
     }
     s.push_str(&format!(
         "\nBudget at {} MHz and {} frames/s, QVGA, one instruction per cycle: {:.1} instructions per pixel. {}.\n",
@@ -835,6 +866,7 @@ mod tests {
             ram_bytes: 0,
             code_bytes: None,
             pareto: false,
+            float: false,
         };
         let mut v = vec![p("a", 60.0, 0.90), p("b", 200.0, 0.96), p("c", 300.0, 0.97)];
         mark_front(&mut v);

@@ -296,6 +296,51 @@ macro_rules! map_stage_of {
     };
 }
 
+/// A whole-job stage of the `f32` port (`float.point_job`, feature
+/// `port-cortex-m4f-float`): [`map_job`] with the sector suppression and
+/// the magnitude `l2_round` (whose first thresholds and bin width the `f32`
+/// stage takes, on the same gradient scale), plus the square root `root`.
+const fn f32_job(
+    smoothing: &'static str,
+    operator: &'static str,
+    theta_bins: i64,
+    theta_step_log2: i64,
+    root: &'static str,
+) -> [(&'static str, Param); 20] {
+    let m = map_job(
+        smoothing,
+        operator,
+        "l2_round",
+        theta_bins,
+        theta_step_log2,
+        "sectors",
+    );
+    let mut out = [("", Param::Null); 20];
+    let mut i = 0;
+    while i < m.len() {
+        out[i] = m[i];
+        i += 1;
+    }
+    out[19] = ("root", Param::Str(root));
+    out
+}
+
+/// A [`Stage`] of the `f32` port in the accuracy/cost map, named
+/// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>` (read back by
+/// `fixsight-verify frontier`; its list `F32_GRID` is checked against
+/// these lines by a test there). Other images skip it (no dispatch).
+macro_rules! f32_stage {
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal) => {
+        Stage {
+            name: concat!("map-f32-", $s, "-", $o, "-", $root, "-t", $t),
+            kernel: "float.point_job",
+            params: &f32_job($s, $o, $t, $step, $root),
+            inputs: &[0, 16],
+            outputs: &[17],
+        }
+    };
+}
+
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
 
@@ -523,6 +568,10 @@ pub static STAGES: &[Stage] = &[
     map_stage!("gauss7", "sobel", "l2_approx", 32, 10, "interpolated"),
     map_stage!("gauss7", "sobel", "l2_round", 32, 10, "interpolated"),
     map_stage!("gauss7", "sobel", "l2_round", 16, 11, "interpolated"),
+    // The f32 edge stage of `ports/cortex-m4f-float` with the kernel
+    // crate's line stages (the port's image only).
+    f32_stage!("gauss7", "sobel", "fast", 32, 10),
+    f32_stage!("gauss7", "sobel", "newton", 32, 10),
     Stage {
         name: "image_job_qvga",
         kernel: "pipeline.image_job",
