@@ -182,14 +182,9 @@ pub struct F32EdgeStream<const W: usize, const MAP: usize, const BINS: usize, co
     width: usize,
     height: usize,
     rows: usize,
-    /// Radius of the fused taps.
-    r: usize,
-    /// `gx`: rows by `cv`, columns by `dh`; `gy`: rows by `dv`, columns by
-    /// `ch` (taps over their power of two).
-    cv: [f32; MAX_TAPS],
-    dv: [f32; MAX_TAPS],
-    ch: [f32; MAX_TAPS],
-    dh: [f32; MAX_TAPS],
+    /// Gradient rows formed in the frame.
+    formed: usize,
+    taps: Taps,
     ring: [[u8; W]; MAX_TAPS],
     col_c: [f32; W],
     col_d: [f32; W],
@@ -231,11 +226,14 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             width: 0,
             height: 0,
             rows: 0,
-            r: 0,
-            cv: [0.0; MAX_TAPS],
-            dv: [0.0; MAX_TAPS],
-            ch: [0.0; MAX_TAPS],
-            dh: [0.0; MAX_TAPS],
+            formed: 0,
+            taps: Taps {
+                r: 0,
+                cv: [0.0; MAX_TAPS],
+                dv: [0.0; MAX_TAPS],
+                ch: [0.0; MAX_TAPS],
+                dh: [0.0; MAX_TAPS],
+            },
             ring: [[0; W]; MAX_TAPS],
             col_c: [0.0; W],
             col_d: [0.0; W],
@@ -312,23 +310,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
                 ..
             } => (first_low, first_high),
         };
-        let t = cfg.edges.gradient_taps();
-        let (d, c) = (t.deriv(), t.cross());
-        let (hs, vs) = (
-            1.0 / (1u32 << t.h_shift) as f32,
-            1.0 / (1u32 << t.v_shift) as f32,
-        );
-        self.cv = [0.0; MAX_TAPS];
-        self.dv = [0.0; MAX_TAPS];
-        self.ch = [0.0; MAX_TAPS];
-        self.dh = [0.0; MAX_TAPS];
-        for k in 0..d.len() {
-            self.cv[k] = c[k] as f32 * vs;
-            self.dv[k] = d[k] as f32 * vs;
-            self.ch[k] = c[k] as f32 * hs;
-            self.dh[k] = d[k] as f32 * hs;
-        }
-        self.r = t.radius();
+        self.taps = Taps::of(&cfg.edges);
         self.cfg = *cfg;
         self.width = width;
         self.height = height;
@@ -348,6 +330,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
     fn start_frame(&mut self) {
         self.finished = false;
         self.rows = 0;
+        self.formed = 0;
         self.candidates = 0;
         self.hist.fill(0);
         let n = self.width * self.height;
@@ -398,8 +381,8 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
         let y = self.rows;
         self.ring[y % MAX_TAPS][..self.width].copy_from_slice(row);
         self.rows += 1;
-        if y >= self.r {
-            self.form(y - self.r);
+        if y >= self.taps.r {
+            self.form(y - self.taps.r);
         }
         Ok(())
     }
@@ -421,7 +404,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             });
         }
         let (w, h) = (self.width, self.height);
-        for g in h.saturating_sub(self.r)..h {
+        for g in h.saturating_sub(self.taps.r)..h {
             self.form(g);
         }
         self.suppress_row(h - 1);
@@ -497,55 +480,39 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
     /// Forms gradient row `g` (rows `g - r ..= g + r` clamped into the
     /// frame are in the ring), then suppresses row `g - 1`.
     fn form(&mut self, g: usize) {
-        let (w, r, h) = (self.width, self.r, self.height);
-        let row_of = |k: usize| -> usize { (g + k).saturating_sub(r).min(h - 1) % MAX_TAPS };
-        // Vertical pass: `col_c` by the cross taps, `col_d` by the
-        // derivative taps, pair by pair around the centre row.
-        let centre = &self.ring[row_of(r)];
-        let cc = self.cv[r];
-        for x in 0..w {
-            self.col_c[x] = cc * centre[x] as f32;
-            self.col_d[x] = 0.0;
-        }
-        for k in 0..r {
-            let (a, b) = (&self.ring[row_of(k)], &self.ring[row_of(2 * r - k)]);
-            let (c, d) = (self.cv[k], self.dv[2 * r - k]);
-            for x in 0..w {
-                let (p, q) = (a[x] as f32, b[x] as f32);
-                self.col_c[x] += c * (p + q);
-                self.col_d[x] += d * (q - p);
-            }
-        }
-        // Horizontal pass: clamped columns at both borders.
+        let (w, r, h) = (self.width, self.taps.r, self.height);
+        let rows: [&[u8]; MAX_TAPS] = core::array::from_fn(|k| {
+            let y = (g + k).saturating_sub(r).min(h - 1);
+            &self.ring[y % MAX_TAPS][..w]
+        });
         let s = g % 3;
-        let (gx, gy, mag) = (&mut self.gx[s], &mut self.gy[s], &mut self.mag[s]);
-        let (cc, dd) = (&self.col_c[..w], &self.col_d[..w]);
-        let (ch, dh) = (&self.ch, &self.dh);
-        let root = self.cfg.root;
-        for x in 0..w {
-            let at = |k: usize| (x + k).saturating_sub(r).min(w - 1);
-            let mut sx = 0.0f32;
-            let mut sy = ch[r] * dd[x];
-            if x >= r && x + r < w {
-                for k in 0..r {
-                    let (i, j) = (x + k - r, x + r - k);
-                    sx += dh[2 * r - k] * (cc[j] - cc[i]);
-                    sy += ch[k] * (dd[i] + dd[j]);
-                }
-            } else {
-                for k in 0..r {
-                    let (i, j) = (at(k), at(2 * r - k));
-                    sx += dh[2 * r - k] * (cc[j] - cc[i]);
-                    sy += ch[k] * (dd[i] + dd[j]);
-                }
-            }
-            gx[x] = sx;
-            gy[x] = sy;
-            mag[x] = root.of(sx * sx + sy * sy);
-        }
+        gradient_row(
+            &self.taps,
+            &rows,
+            &mut self.col_c[..w],
+            &mut self.col_d[..w],
+            &mut self.gx[s][..w],
+            &mut self.gy[s][..w],
+            &mut self.mag[s][..w],
+            self.cfg.root,
+        );
+        self.formed = g + 1;
         if g >= 1 {
             self.suppress_row(g - 1);
         }
+    }
+
+    /// `(gx, gy, magnitude)` of gradient row `y` of the current (or just
+    /// finished) frame while the stream holds it: the last three rows
+    /// formed (row `y` is formed when row `y + r` is pushed, `r` the radius
+    /// of the taps, and the last `r` rows at [`finish`](Self::finish)).
+    /// For tests and instrumentation; `None` for any other row.
+    pub fn formed_row(&self, y: usize) -> Option<(&[f32], &[f32], &[f32])> {
+        if y >= self.formed || y + 3 < self.formed {
+            return None;
+        }
+        let (s, w) = (y % 3, self.width);
+        Some((&self.gx[s][..w], &self.gy[s][..w], &self.mag[s][..w]))
     }
 
     /// Suppression, histogram count, class and candidate record of row
@@ -610,6 +577,103 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
     }
 }
 
+/// The fused taps in `f32`, each set over its power of two: `gx` filters
+/// rows (vertically) by `cv` and columns by `dh`, `gy` rows by `dv` and
+/// columns by `ch`; `r` is the radius.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Taps {
+    pub(crate) r: usize,
+    pub(crate) cv: [f32; MAX_TAPS],
+    pub(crate) dv: [f32; MAX_TAPS],
+    pub(crate) ch: [f32; MAX_TAPS],
+    pub(crate) dh: [f32; MAX_TAPS],
+}
+
+impl Taps {
+    /// The taps of a configuration (`EdgeConfig::gradient_taps`; dividing
+    /// an `i16` tap by a power of two is exact in `f32`).
+    pub(crate) fn of(cfg: &EdgeConfig) -> Taps {
+        let t = cfg.gradient_taps();
+        let (hs, vs) = (
+            1.0 / (1u32 << t.h_shift) as f32,
+            1.0 / (1u32 << t.v_shift) as f32,
+        );
+        let mut out = Taps {
+            r: t.radius(),
+            cv: [0.0; MAX_TAPS],
+            dv: [0.0; MAX_TAPS],
+            ch: [0.0; MAX_TAPS],
+            dh: [0.0; MAX_TAPS],
+        };
+        for (k, (&d, &c)) in t.deriv().iter().zip(t.cross()).enumerate().take(MAX_TAPS) {
+            out.cv[k] = c as f32 * vs;
+            out.dv[k] = d as f32 * vs;
+            out.ch[k] = c as f32 * hs;
+            out.dh[k] = d as f32 * hs;
+        }
+        out
+    }
+}
+
+/// One gradient row from its `2r + 1` camera rows (`rows[k]` is row
+/// `y - r + k`, clamped into the frame by the caller; all slices of the
+/// frame's width): the vertical pass into `col_c` (cross taps) and
+/// `col_d` (derivative taps) pair by pair around the centre row, then the
+/// horizontal pass with clamped columns, then the magnitude by `root`.
+/// The operation order is the one `tests` model.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn gradient_row(
+    t: &Taps,
+    rows: &[&[u8]; MAX_TAPS],
+    col_c: &mut [f32],
+    col_d: &mut [f32],
+    gx: &mut [f32],
+    gy: &mut [f32],
+    mag: &mut [f32],
+    root: Root,
+) {
+    let r = t.r;
+    let w = col_c.len();
+    let cc = t.cv[r];
+    for ((c, d), &p) in col_c.iter_mut().zip(col_d.iter_mut()).zip(rows[r]) {
+        *c = cc * p as f32;
+        *d = 0.0;
+    }
+    for k in 0..r {
+        let (c, d) = (t.cv[k], t.dv[2 * r - k]);
+        let cols = col_c.iter_mut().zip(col_d.iter_mut());
+        for ((cs, ds), (&p, &q)) in cols.zip(rows[k].iter().zip(rows[2 * r - k])) {
+            let (p, q) = (p as f32, q as f32);
+            *cs += c * (p + q);
+            *ds += d * (q - p);
+        }
+    }
+    let (cc, dd) = (&*col_c, &*col_d);
+    let (ch, dh) = (&t.ch, &t.dh);
+    let out = gx.iter_mut().zip(gy.iter_mut()).zip(mag.iter_mut());
+    for (x, ((ox, oy), om)) in out.enumerate() {
+        let at = |k: usize| (x + k).saturating_sub(r).min(w - 1);
+        let mut sx = 0.0f32;
+        let mut sy = ch[r] * dd[x];
+        if x >= r && x + r < w {
+            let (wc, wd) = (&cc[x - r..=x + r], &dd[x - r..=x + r]);
+            for k in 0..r {
+                sx += dh[2 * r - k] * (wc[2 * r - k] - wc[k]);
+                sy += ch[k] * (wd[k] + wd[2 * r - k]);
+            }
+        } else {
+            for k in 0..r {
+                let (i, j) = (at(k), at(2 * r - k));
+                sx += dh[2 * r - k] * (cc[j] - cc[i]);
+                sy += ch[k] * (dd[i] + dd[j]);
+            }
+        }
+        *ox = sx;
+        *oy = sy;
+        *om = root.of(sx * sx + sy * sy);
+    }
+}
+
 /// The gradient angle of `(gx, gy)` in 65536 units per half turn, the
 /// convention of `fixsight::gradient::angle` (the gradient folded into
 /// `y >= 0`, and `y = 0, x < 0` onto `x > 0`), by `micromath`'s `atan2`
@@ -669,5 +733,189 @@ impl Iterator for F32EdgePoints<'_> {
             });
         }
         None
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    //! The stream against whole-frame `f32` processing: every gradient row
+    //! of the frame from [`gradient_row`] at once, then suppression,
+    //! histogram, classes, hysteresis and thinning over the whole frame,
+    //! written here without the stream's row ring.
+    extern crate std;
+    use super::*;
+    use fixsight::pipeline::{Magnitude, Operator, Smoothing};
+    use std::vec;
+    use std::vec::Vec;
+
+    fn frame(w: usize, h: usize, seed: u32) -> Vec<u8> {
+        let mut s = seed;
+        (0..w * h)
+            .map(|i| {
+                let (x, y) = ((i % w) as i32, (i / w) as i32);
+                s = s.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+                let (dx, dy) = (x - w as i32 / 2, y - h as i32 / 2);
+                let disc = if dx * dx + dy * dy < (h as i32 / 3).pow(2) {
+                    100
+                } else {
+                    0
+                };
+                (30 + x + disc + (s >> 28) as i32).clamp(0, 255) as u8
+            })
+            .collect()
+    }
+
+    struct Whole {
+        edges: Vec<u8>,
+        angles: Vec<(usize, u16)>,
+        next: (u16, u16),
+    }
+
+    /// The whole frame with thresholds `(low, high)`.
+    fn whole(cfg: &F32Config, img: &[u8], w: usize, h: usize, t: (u16, u16)) -> Whole {
+        let taps = Taps::of(&cfg.edges);
+        let r = taps.r;
+        let (mut gx, mut gy, mut m) = (vec![0f32; w * h], vec![0f32; w * h], vec![0f32; w * h]);
+        let (mut cc, mut cd) = (vec![0f32; w], vec![0f32; w]);
+        for y in 0..h {
+            let rows: [&[u8]; MAX_TAPS] = core::array::from_fn(|k| {
+                let yy = (y + k).saturating_sub(r).min(h - 1);
+                &img[yy * w..(yy + 1) * w]
+            });
+            let o = y * w..(y + 1) * w;
+            gradient_row(
+                &taps,
+                &rows,
+                &mut cc,
+                &mut cd,
+                &mut gx[o.clone()],
+                &mut gy[o.clone()],
+                &mut m[o],
+                cfg.root,
+            );
+        }
+        let mag = |x: isize, y: isize| -> f32 {
+            if x < 0 || y < 0 || x >= w as isize || y >= h as isize {
+                0.0
+            } else {
+                m[y as usize * w + x as usize]
+            }
+        };
+        let (shift, permille, ratio) = match cfg.edges.thresholds {
+            ThresholdRule::Auto {
+                shift,
+                high_permille,
+                low_ratio_u0f16,
+                ..
+            } => (shift as u32, high_permille, low_ratio_u0f16),
+            ThresholdRule::Fixed { .. } => panic!("auto rule expected"),
+        };
+        let bins = cfg.edges.bins_needed();
+        let mut hist = vec![0u32; bins];
+        let mut map = vec![0u8; w * h];
+        let mut angles = Vec::new();
+        for y in 0..h {
+            for x in 0..w {
+                let i = y * w + x;
+                let v = m[i];
+                if v <= 0.0 {
+                    continue;
+                }
+                let (a, b) = (gx[i].abs(), gy[i].abs());
+                // Neighbour offsets of the sectors (fixsight::nms).
+                let ((bx, by), (ax, ay)) = if b < TAN_22_5 * a {
+                    ((-1, 0), (1, 0))
+                } else if b > TAN_67_5 * a {
+                    ((0, -1), (0, 1))
+                } else if (gx[i] > 0.0) == (gy[i] > 0.0) {
+                    ((-1, -1), (1, 1))
+                } else {
+                    ((1, -1), (-1, 1))
+                };
+                let (xi, yi) = (x as isize, y as isize);
+                if !(v > mag(xi + bx, yi + by) && v >= mag(xi + ax, yi + ay)) {
+                    continue;
+                }
+                hist[((v as u32 >> shift) as usize).min(bins - 1)] += 1;
+                map[i] = if v >= t.1 as f32 {
+                    STRONG
+                } else if v >= t.0 as f32 {
+                    WEAK
+                } else {
+                    continue;
+                };
+                angles.push((i, angle_of(gx[i], gy[i])));
+            }
+        }
+        let mut view = ImageViewMut::new(&mut map, w, h, w).unwrap();
+        hysteresis::link(&mut view, &mut [0u32; 64]).unwrap();
+        let mut scratch = vec![0u8; 3 * w];
+        if let Thinning::AtMost(n) = cfg.edges.thinning {
+            fixsight::thinning::thin_at_most(&mut view, &mut scratch, n as u32).unwrap();
+        }
+        let next =
+            Thresholds::from_counts(&hist, shift, permille, U0F16::from_bits(ratio)).unwrap();
+        Whole {
+            edges: map,
+            angles,
+            next: (next.low(), next.high()),
+        }
+    }
+
+    type S = F32EdgeStream<48, { 48 * 40 }, 1024, 4096>;
+
+    #[test]
+    fn stream_on_two_frames_equals_whole_frame_processing() {
+        let configs = [
+            F32Config::DEMO,
+            F32Config {
+                root: Root::Newton,
+                ..F32Config::DEMO
+            },
+            F32Config {
+                edges: EdgeConfig::demo_with(
+                    Smoothing::Binomial3,
+                    Operator::Scharr,
+                    Magnitude::L2Round,
+                ),
+                root: Root::Fast,
+            },
+        ];
+        for cfg in configs {
+            for (w, h) in [(48, 40), (17, 11), (9, 9), (6, 4)] {
+                let mut s: std::boxed::Box<S> = std::boxed::Box::default();
+                s.configure(&cfg, w, h).unwrap();
+                let (one, two) = (frame(w, h, 1), frame(w, h, 2));
+                let first = match cfg.edges.thresholds {
+                    ThresholdRule::Auto {
+                        first_low,
+                        first_high,
+                        ..
+                    } => (first_low, first_high),
+                    ThresholdRule::Fixed { low, high } => (low, high),
+                };
+                let mut t = first;
+                for img in [&one, &two] {
+                    for row in img.chunks_exact(w) {
+                        s.push_row(row).unwrap();
+                    }
+                    let rep = s.finish().unwrap();
+                    let want = whole(&cfg, img, w, h, t);
+                    assert_eq!(rep.thresholds, t, "{w}x{h}");
+                    assert_eq!(rep.next_thresholds, want.next, "{w}x{h}");
+                    let mut edges = vec![0u8; w * h];
+                    for p in s.points() {
+                        let i = p.y as usize * w + p.x as usize;
+                        edges[i] = 255;
+                        let a = want.angles.iter().find(|c| c.0 == i).map(|c| c.1);
+                        assert_eq!(p.angle, a, "{w}x{h} ({}, {})", p.x, p.y);
+                    }
+                    assert_eq!(edges, want.edges, "{w}x{h} {cfg:?}");
+                    assert_eq!(rep.candidates as usize, want.angles.len());
+                    t = want.next;
+                }
+                assert_ne!(t, first, "the rule moved the thresholds");
+            }
+        }
     }
 }
