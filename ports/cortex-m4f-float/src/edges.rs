@@ -632,17 +632,40 @@ pub(crate) fn gradient_row(
     mag: &mut [f32],
     root: Root,
 ) {
-    let r = t.r;
+    // One body per radius, so the tap loops unroll (the same operations
+    // in the same order for every radius).
+    match t.r {
+        0 => gradient_row_r::<0>(t, rows, col_c, col_d, gx, gy, mag, root),
+        1 => gradient_row_r::<1>(t, rows, col_c, col_d, gx, gy, mag, root),
+        2 => gradient_row_r::<2>(t, rows, col_c, col_d, gx, gy, mag, root),
+        3 => gradient_row_r::<3>(t, rows, col_c, col_d, gx, gy, mag, root),
+        _ => gradient_row_r::<4>(t, rows, col_c, col_d, gx, gy, mag, root),
+    }
+}
+
+/// [`gradient_row`] for radius `R` (`2R + 1 <= MAX_TAPS`).
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn gradient_row_r<const R: usize>(
+    t: &Taps,
+    rows: &[&[u8]; MAX_TAPS],
+    col_c: &mut [f32],
+    col_d: &mut [f32],
+    gx: &mut [f32],
+    gy: &mut [f32],
+    mag: &mut [f32],
+    root: Root,
+) {
     let w = col_c.len();
-    let cc = t.cv[r];
-    for ((c, d), &p) in col_c.iter_mut().zip(col_d.iter_mut()).zip(rows[r]) {
+    let cc = t.cv[R];
+    for ((c, d), &p) in col_c.iter_mut().zip(col_d.iter_mut()).zip(rows[R]) {
         *c = cc * p as f32;
         *d = 0.0;
     }
-    for k in 0..r {
-        let (c, d) = (t.cv[k], t.dv[2 * r - k]);
+    for k in 0..R {
+        let (c, d) = (t.cv[k], t.dv[2 * R - k]);
         let cols = col_c.iter_mut().zip(col_d.iter_mut());
-        for ((cs, ds), (&p, &q)) in cols.zip(rows[k].iter().zip(rows[2 * r - k])) {
+        for ((cs, ds), (&p, &q)) in cols.zip(rows[k].iter().zip(rows[2 * R - k])) {
             let (p, q) = (p as f32, q as f32);
             *cs += c * (p + q);
             *ds += d * (q - p);
@@ -650,27 +673,45 @@ pub(crate) fn gradient_row(
     }
     let (cc, dd) = (&*col_c, &*col_d);
     let (ch, dh) = (&t.ch, &t.dh);
-    let out = gx.iter_mut().zip(gy.iter_mut()).zip(mag.iter_mut());
-    for (x, ((ox, oy), om)) in out.enumerate() {
-        let at = |k: usize| (x + k).saturating_sub(r).min(w - 1);
+    let one = |wc: &[f32], wd: &[f32], i: &dyn Fn(usize) -> usize| -> (f32, f32) {
         let mut sx = 0.0f32;
-        let mut sy = ch[r] * dd[x];
-        if x >= r && x + r < w {
-            let (wc, wd) = (&cc[x - r..=x + r], &dd[x - r..=x + r]);
-            for k in 0..r {
-                sx += dh[2 * r - k] * (wc[2 * r - k] - wc[k]);
-                sy += ch[k] * (wd[k] + wd[2 * r - k]);
-            }
-        } else {
-            for k in 0..r {
-                let (i, j) = (at(k), at(2 * r - k));
-                sx += dh[2 * r - k] * (cc[j] - cc[i]);
-                sy += ch[k] * (dd[i] + dd[j]);
-            }
+        let mut sy = ch[R] * wd[i(R)];
+        for k in 0..R {
+            let (a, b) = (i(k), i(2 * R - k));
+            sx += dh[2 * R - k] * (wc[b] - wc[a]);
+            sy += ch[k] * (wd[a] + wd[b]);
         }
-        *ox = sx;
-        *oy = sy;
-        *om = root.of(sx * sx + sy * sy);
+        (sx, sy)
+    };
+    let mut put = |x: usize, (sx, sy): (f32, f32)| {
+        gx[x] = sx;
+        gy[x] = sy;
+        mag[x] = root.of(sx * sx + sy * sy);
+    };
+    if w <= 2 * R {
+        for x in 0..w {
+            let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
+            put(x, one(cc, dd, &at));
+        }
+        return;
+    }
+    for x in 0..R {
+        let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
+        put(x, one(cc, dd, &at));
+    }
+    // Interior: the window `x - R ..= x + R` of both column sums.
+    for (j, (wc, wd)) in cc.windows(2 * R + 1).zip(dd.windows(2 * R + 1)).enumerate() {
+        let mut sx = 0.0f32;
+        let mut sy = ch[R] * wd[R];
+        for k in 0..R {
+            sx += dh[2 * R - k] * (wc[2 * R - k] - wc[k]);
+            sy += ch[k] * (wd[k] + wd[2 * R - k]);
+        }
+        put(j + R, (sx, sy));
+    }
+    for x in w - R..w {
+        let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
+        put(x, one(cc, dd, &at));
     }
 }
 
