@@ -715,6 +715,9 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         p.copy_from_slice(points);
     }
     for st in STAGES {
+        if crate::BENCH_ONLY && st.kernel != "float.point_job" {
+            continue;
+        }
         let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };
