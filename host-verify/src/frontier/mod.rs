@@ -100,6 +100,27 @@
 //!   accurate one. Only front configurations with no wrong-edge frame are
 //!   considered while there is one: a wrong line taken for the tape's edge
 //!   is what a drift warning must not be built on.
+//!
+//! # The `f32` configurations (a core with a single-precision FPU)
+//!
+//! [`float::F32_GRID`], names `map-f32-<smoothing>-<operator>-<root>-t<theta
+//! bins>`: the point job of the port `ports/cortex-m4f-float/`, whose edge
+//! stage computes in `f32` (the same fused taps without rounding, the
+//! magnitude by `micromath`'s square root, `fast`, or that root refined by
+//! two Newton steps, `newton`; 4-sector suppression; the automatic
+//! thresholds by the same rank rule on the `f32` magnitudes; the kernel
+//! crate's hysteresis and thinning on a byte class map), followed by the
+//! kernel crate's line stages. Each is measured like the integer
+//! configurations: the same images and references, the same sequence, the
+//! cost of its bench stage `map-f32-...` (kernel id `float.point_job`) on
+//! the Cortex-M4 image with the port (`cortex-m4+cortex-m4f-float`, the
+//! FPU on: `thumbv7em-none-eabihf`), `ram_bytes` of `F32PointJobQvga` and
+//! the code bytes of `float.point_job` in that image. They are marked
+//! `float` in `frontier.json`, "(f32, FPU)" in the table and as orange
+//! triangles in the plot, and take part in the front and the
+//! recommendation under the same rules: a recommendation of one of them
+//! holds only for a part with a single-precision FPU (on a Cortex-M0 or
+//! M3 each `f32` operation is a library call).
 
 pub mod float;
 pub mod plot;
