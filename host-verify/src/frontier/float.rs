@@ -10,14 +10,13 @@
 //! without an FPU cannot run them (on a Cortex-M0 or M3 every `f32`
 //! operation is a library call).
 
-use super::{m4_cost_of, MapConfig, MapPoint, Reference, SequenceRun};
+use super::{m4_cost_of, map_point, Described, MapConfig, MapPoint, Reference, SequenceRun};
 use crate::metrics::matched_agreement;
 use crate::pipeline::job::JobFrame;
-use crate::pipeline::{operator_name, operator_of, smoothing_name, smoothing_of};
+use crate::pipeline::{operator_name, smoothing_name};
 use fixsight::pipeline::{Magnitude, Operator, PointJobConfig, Smoothing, Suppression};
 use fixsight::warp::ControlGrid;
 use fixsight_port_cortex_m4f_float::{F32Config, F32EdgeStream, F32PointJobQvga, Root};
-use std::collections::BTreeMap;
 use std::f64::consts::PI;
 
 /// The port's image in `targets.json` (`Port::name`).
@@ -97,31 +96,30 @@ impl F32MapConfig {
     pub fn parse(name: &str) -> Option<Result<F32MapConfig, String>> {
         let rest = name.strip_prefix("map-f32-")?;
         let parts: Vec<&str> = rest.split('-').collect();
-        let bad = |what: &str, v: &str| format!("`{name}`: unknown {what} `{v}`");
-        Some((|| {
-            let [s, o, r, t] = parts[..] else {
-                return Err(format!(
-                    "`{name}`: an f32 configuration is written \
-                     map-f32-<smoothing>-<operator>-<fast|newton>-t<theta bins>"
-                ));
-            };
-            let root = match r {
-                "fast" => Root::Fast,
-                "newton" => Root::Newton,
-                _ => return Err(bad("square root (fast or newton)", r)),
-            };
-            let theta_bins = match t {
-                "t32" => 32,
-                "t16" => 16,
-                _ => return Err(bad("theta resolution (t32 or t16)", t)),
-            };
-            Ok(F32MapConfig {
-                smoothing: smoothing_of(s).ok_or_else(|| bad("smoothing", s))?,
-                operator: operator_of(o).ok_or_else(|| bad("operator", o))?,
+        let [s, o, r, t] = parts[..] else {
+            return Some(Err(format!(
+                "`{name}`: an f32 configuration is written \
+                 map-f32-<smoothing>-<operator>-<fast|newton>-t<theta bins>"
+            )));
+        };
+        let root = match r {
+            "fast" => Root::Fast,
+            "newton" => Root::Newton,
+            _ => {
+                return Some(Err(format!(
+                    "`{name}`: unknown square root `{r}` (fast or newton)"
+                )))
+            }
+        };
+        // Smoothing, operator and theta columns by the integer names' rules.
+        Some(
+            MapConfig::parse(&format!("map-{s}-{o}-l2_round-{t}")).map(|c| F32MapConfig {
+                smoothing: c.smoothing,
+                operator: c.operator,
                 root,
-                theta_bins,
-            })
-        })())
+                theta_bins: c.theta_bins,
+            }),
+        )
     }
 
     /// The edge stage: the integer stage `EdgeConfig::demo_with(smoothing,
@@ -224,43 +222,19 @@ pub fn evaluate(
     let edges = c.edges();
     edges.check().map_err(|e| format!("{}: {e}", c.name()))?;
     let f1s = edge_f1(&edges, refs)?;
-    let mut f1 = BTreeMap::new();
-    let mut by_class: BTreeMap<String, f64> = BTreeMap::new();
-    for (r, &v) in refs.iter().zip(&f1s) {
-        f1.insert(r.name.clone(), v);
-        let e = by_class.entry(r.class.clone()).or_insert(1.0);
-        *e = e.min(v);
-    }
     let lines = line_figures(c, run)?;
     let cost = targets.and_then(|t| m4_cost_of(t, Some(PORT), KERNEL, &c.name()));
-    let bin_shift = match edges.edges.thresholds {
-        fixsight::pipeline::ThresholdRule::Auto { shift, .. } => shift,
-        fixsight::pipeline::ThresholdRule::Fixed { .. } => 0,
-    };
-    Ok(MapPoint {
+    let what = Described {
         name: c.name(),
         smoothing: smoothing_name(c.smoothing).into(),
         operator: operator_name(c.operator).into(),
         magnitude: format!("f32 {}", c.root.name()),
-        frac_bits: edges.edges.frac_bits,
-        bin_shift,
+        edges: edges.edges,
         theta_bins: c.theta_bins,
-        f1_worst: f1s.iter().copied().fold(1.0, f64::min),
-        f1,
-        f1_worst_by_class: by_class,
-        frames: run.len(),
-        line_rho_err_px_mean: lines.rho_mean,
-        line_rho_err_px_max: lines.rho_max,
-        line_theta_err_deg_mean: lines.theta_mean,
-        lost_frames: lines.lost,
-        wrong_edge_frames: lines.wrong,
-        first_warning: lines.first_warning,
-        m4_instr_per_px: cost.map(|c| c.0),
         ram_bytes: F32PointJobQvga::ram_bytes(),
-        code_bytes: cost.map(|c| c.1),
-        pareto: false,
         float: true,
-    })
+    };
+    Ok(map_point(what, refs, &f1s, run.len(), &lines, cost))
 }
 
 #[cfg(test)]

@@ -572,31 +572,68 @@ pub fn evaluate(
     let edges = c.edges();
     edges.check().map_err(|e| format!("{}: {e}", c.name()))?;
     let f1s = edge_f1(&edges, refs)?;
-    let mut f1 = BTreeMap::new();
-    let mut by_class: BTreeMap<String, f64> = BTreeMap::new();
-    for (r, &v) in refs.iter().zip(&f1s) {
-        f1.insert(r.name.clone(), v);
-        let e = by_class.entry(r.class.clone()).or_insert(1.0);
-        *e = e.min(v);
-    }
     let lines = line_figures(&c.job(), run)?;
     let cost = targets.and_then(|t| m4_cost(t, &c.name()));
-    let bin_shift = match edges.thresholds {
-        ThresholdRule::Auto { shift, .. } => shift,
-        ThresholdRule::Fixed { .. } => 0,
-    };
-    Ok(MapPoint {
+    let what = Described {
         name: c.name(),
         smoothing: smoothing_name(c.smoothing).into(),
         operator: operator_name(c.operator).into(),
         magnitude: magnitude_name(c.magnitude).into(),
-        frac_bits: edges.frac_bits,
-        bin_shift,
+        edges,
         theta_bins: c.theta_bins,
+        ram_bytes: DemoPointJobQvga::ram_bytes(),
+        float: false,
+    };
+    Ok(map_point(what, refs, &f1s, run.len(), &lines, cost))
+}
+
+/// What a configuration is, for its [`MapPoint`].
+pub(crate) struct Described {
+    pub(crate) name: String,
+    pub(crate) smoothing: String,
+    pub(crate) operator: String,
+    pub(crate) magnitude: String,
+    /// Its integer edge settings (fractional bits, threshold rule).
+    pub(crate) edges: EdgeConfig,
+    pub(crate) theta_bins: usize,
+    pub(crate) ram_bytes: usize,
+    pub(crate) float: bool,
+}
+
+/// The [`MapPoint`] of a configuration from its figures: F1 per image
+/// (in the order of `refs`), line figures over `frames` frames, and the
+/// bench stage's `(instr/px, code bytes)` when measured.
+pub(crate) fn map_point(
+    d: Described,
+    refs: &[Reference],
+    f1s: &[f64],
+    frames: usize,
+    lines: &LineFigures,
+    cost: Option<(f64, u64)>,
+) -> MapPoint {
+    let mut f1 = BTreeMap::new();
+    let mut by_class: BTreeMap<String, f64> = BTreeMap::new();
+    for (r, &v) in refs.iter().zip(f1s) {
+        f1.insert(r.name.clone(), v);
+        let e = by_class.entry(r.class.clone()).or_insert(1.0);
+        *e = e.min(v);
+    }
+    let bin_shift = match d.edges.thresholds {
+        ThresholdRule::Auto { shift, .. } => shift,
+        ThresholdRule::Fixed { .. } => 0,
+    };
+    MapPoint {
+        name: d.name,
+        smoothing: d.smoothing,
+        operator: d.operator,
+        magnitude: d.magnitude,
+        frac_bits: d.edges.frac_bits,
+        bin_shift,
+        theta_bins: d.theta_bins,
         f1_worst: f1s.iter().copied().fold(1.0, f64::min),
         f1,
         f1_worst_by_class: by_class,
-        frames: run.len(),
+        frames,
         line_rho_err_px_mean: lines.rho_mean,
         line_rho_err_px_max: lines.rho_max,
         line_theta_err_deg_mean: lines.theta_mean,
@@ -604,11 +641,11 @@ pub fn evaluate(
         wrong_edge_frames: lines.wrong,
         first_warning: lines.first_warning,
         m4_instr_per_px: cost.map(|c| c.0),
-        ram_bytes: DemoPointJobQvga::ram_bytes(),
+        ram_bytes: d.ram_bytes,
         code_bytes: cost.map(|c| c.1),
         pareto: false,
-        float: false,
-    })
+        float: d.float,
+    }
 }
 
 /// Marks the Pareto front (module docs) among the points with a cost.

@@ -486,16 +486,14 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             &self.ring[y % MAX_TAPS][..w]
         });
         let s = g % 3;
-        gradient_row(
-            &self.taps,
-            &rows,
-            &mut self.col_c[..w],
-            &mut self.col_d[..w],
-            &mut self.gx[s][..w],
-            &mut self.gy[s][..w],
-            &mut self.mag[s][..w],
-            self.cfg.root,
-        );
+        let out = RowOut {
+            col_c: &mut self.col_c[..w],
+            col_d: &mut self.col_d[..w],
+            gx: &mut self.gx[s][..w],
+            gy: &mut self.gy[s][..w],
+            mag: &mut self.mag[s][..w],
+        };
+        gradient_row(&self.taps, &rows, out, self.cfg.root);
         self.formed = g + 1;
         if g >= 1 {
             self.suppress_row(g - 1);
@@ -535,8 +533,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             ThresholdRule::Auto { shift, .. } => shift as u32,
             ThresholdRule::Fixed { .. } => 0,
         };
-        for x in 0..w {
-            let m = mag[s][x];
+        for (x, &m) in mag[s][..w].iter().enumerate() {
             if m <= 0.0 || m.is_nan() {
                 continue;
             }
@@ -621,41 +618,38 @@ impl Taps {
 /// `col_d` (derivative taps) pair by pair around the centre row, then the
 /// horizontal pass with clamped columns, then the magnitude by `root`.
 /// The operation order is the one `tests` model.
-#[allow(clippy::too_many_arguments)]
-pub(crate) fn gradient_row(
-    t: &Taps,
-    rows: &[&[u8]; MAX_TAPS],
-    col_c: &mut [f32],
-    col_d: &mut [f32],
-    gx: &mut [f32],
-    gy: &mut [f32],
-    mag: &mut [f32],
-    root: Root,
-) {
+pub(crate) fn gradient_row(t: &Taps, rows: &[&[u8]; MAX_TAPS], out: RowOut<'_>, root: Root) {
     // One body per radius, so the tap loops unroll (the same operations
     // in the same order for every radius).
     match t.r {
-        0 => gradient_row_r::<0>(t, rows, col_c, col_d, gx, gy, mag, root),
-        1 => gradient_row_r::<1>(t, rows, col_c, col_d, gx, gy, mag, root),
-        2 => gradient_row_r::<2>(t, rows, col_c, col_d, gx, gy, mag, root),
-        3 => gradient_row_r::<3>(t, rows, col_c, col_d, gx, gy, mag, root),
-        _ => gradient_row_r::<4>(t, rows, col_c, col_d, gx, gy, mag, root),
+        0 => gradient_row_r::<0>(t, rows, out, root),
+        1 => gradient_row_r::<1>(t, rows, out, root),
+        2 => gradient_row_r::<2>(t, rows, out, root),
+        3 => gradient_row_r::<3>(t, rows, out, root),
+        _ => gradient_row_r::<4>(t, rows, out, root),
     }
 }
 
+/// The buffers of one gradient row, all of the frame's width: the column
+/// sums (scratch) and the row's `gx`, `gy` and magnitude.
+pub(crate) struct RowOut<'a> {
+    pub(crate) col_c: &'a mut [f32],
+    pub(crate) col_d: &'a mut [f32],
+    pub(crate) gx: &'a mut [f32],
+    pub(crate) gy: &'a mut [f32],
+    pub(crate) mag: &'a mut [f32],
+}
+
 /// [`gradient_row`] for radius `R` (`2R + 1 <= MAX_TAPS`).
-#[allow(clippy::too_many_arguments)]
 #[inline(always)]
-fn gradient_row_r<const R: usize>(
-    t: &Taps,
-    rows: &[&[u8]; MAX_TAPS],
-    col_c: &mut [f32],
-    col_d: &mut [f32],
-    gx: &mut [f32],
-    gy: &mut [f32],
-    mag: &mut [f32],
-    root: Root,
-) {
+fn gradient_row_r<const R: usize>(t: &Taps, rows: &[&[u8]; MAX_TAPS], out: RowOut<'_>, root: Root) {
+    let RowOut {
+        col_c,
+        col_d,
+        gx,
+        gy,
+        mag,
+    } = out;
     let w = col_c.len();
     let cc = t.cv[R];
     for ((c, d), &p) in col_c.iter_mut().zip(col_d.iter_mut()).zip(rows[R]) {
@@ -688,16 +682,15 @@ fn gradient_row_r<const R: usize>(
         gy[x] = sy;
         mag[x] = root.of(sx * sx + sy * sy);
     };
-    if w <= 2 * R {
-        for x in 0..w {
-            let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
-            put(x, one(cc, dd, &at));
-        }
-        return;
-    }
-    for x in 0..R {
+    // Border columns (all of them in a frame of at most 2R columns).
+    let left = if w <= 2 * R { w } else { R };
+    let right = if w <= 2 * R { w..w } else { w - R..w };
+    for x in (0..left).chain(right) {
         let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
         put(x, one(cc, dd, &at));
+    }
+    if w <= 2 * R {
+        return;
     }
     // Interior: the window `x - R ..= x + R` of both column sums.
     for (j, (wc, wd)) in cc.windows(2 * R + 1).zip(dd.windows(2 * R + 1)).enumerate() {
@@ -708,10 +701,6 @@ fn gradient_row_r<const R: usize>(
             sy += ch[k] * (wd[k] + wd[2 * R - k]);
         }
         put(j + R, (sx, sy));
-    }
-    for x in w - R..w {
-        let at = |k: usize| (x + k).saturating_sub(R).min(w - 1);
-        put(x, one(cc, dd, &at));
     }
 }
 
@@ -824,16 +813,14 @@ mod tests {
                 &img[yy * w..(yy + 1) * w]
             });
             let o = y * w..(y + 1) * w;
-            gradient_row(
-                &taps,
-                &rows,
-                &mut cc,
-                &mut cd,
-                &mut gx[o.clone()],
-                &mut gy[o.clone()],
-                &mut m[o],
-                cfg.root,
-            );
+            let out = RowOut {
+                col_c: &mut cc,
+                col_d: &mut cd,
+                gx: &mut gx[o.clone()],
+                gy: &mut gy[o.clone()],
+                mag: &mut m[o],
+            };
+            gradient_row(&taps, &rows, out, cfg.root);
         }
         let mag = |x: isize, y: isize| -> f32 {
             if x < 0 || y < 0 || x >= w as isize || y >= h as isize {
