@@ -8,8 +8,9 @@
 //! |---|---|---|---|
 //! | `float.point_job` | those of `pipeline.point_job`'s map stages, plus `root` (`fast` or `newton`) | `frames` u8, `grid` i32 x2 | `record` i32 (the frame, edge points, candidates, thresholds, voted, outside, ungated, peaks; zeros past them) |
 
-use super::pipeline::{job_config, job_frames, job_grid};
-use super::{output, Arena, Buf, Fail, Img, Params};
+use super::pipeline::{job_config, job_frames};
+use super::{input, output, Arena, Buf, Fail, Img, Params};
+use fixsight::warp::{ControlGrid, WarpGeometry};
 use fixsight_port_cortex_m4f_float::{F32PointJobQvga, Root};
 
 static mut JOB: F32PointJobQvga = F32PointJobQvga::new();
@@ -32,7 +33,21 @@ pub fn point_job(
         "newton" => Root::Newton,
         _ => return Err(Fail::Param("root")),
     };
-    let grid = job_grid(p, ins, w, height)?;
+    let grid_log2: u32 =
+        u32::try_from(p.int("grid_log2")?).map_err(|_| Fail::Param("grid_log2"))?;
+    let grid = if grid_log2 == 0 {
+        None
+    } else {
+        let g = input(ins, 1)?;
+        let pts = match &g.buf {
+            Buf::I32(d) => &d[..],
+            _ => return Err(Fail::Harness("grid must be i32")),
+        };
+        let f =
+            u32::try_from(p.int("grid_frac_bits")?).map_err(|_| Fail::Param("grid_frac_bits"))?;
+        let geom = WarpGeometry::new(w, height, w, height, f)?;
+        Some(ControlGrid::new(pts, geom, grid_log2)?)
+    };
     job.configure(&cfg, root, w, height)?;
     let out = match &mut output(outs, 0)?.buf {
         Buf::I32(o) if o.len() >= 9 * frames => o,

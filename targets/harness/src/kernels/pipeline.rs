@@ -299,7 +299,18 @@ pub fn point_job(
     let job: &mut HarnessJob = unsafe { &mut *core::ptr::addr_of_mut!(JOB) };
     let (data, w, frames, height) = job_frames(p, ins)?;
     let cfg = job_config(p, w, height)?;
-    let grid = job_grid(p, ins, w, height)?;
+    let grid_log2: u32 = int(p, "grid_log2")?;
+    let grid = if grid_log2 == 0 {
+        None
+    } else {
+        let g = input(ins, 1)?;
+        let pts = match &g.buf {
+            Buf::I32(d) => &d[..],
+            _ => return Err(Fail::Harness("grid must be i32")),
+        };
+        let geom = WarpGeometry::new(w, height, w, height, int(p, "grid_frac_bits")?)?;
+        Some(ControlGrid::new(pts, geom, grid_log2)?)
+    };
     job.configure(&cfg, w, height)?;
     let out = match &mut output(outs, 0)?.buf {
         Buf::I32(o) if o.len() == WORDS * frames => o,
@@ -314,27 +325,6 @@ pub fn point_job(
         put_record(&r, job.peaks(), job.tracker(), rec)?;
     }
     Ok(())
-}
-
-/// The correction grid a job's params name (`grid_log2` 0: none), its
-/// points the second input, output and source the frame size.
-pub(crate) fn job_grid<'a>(
-    p: &Params,
-    ins: &'a [Img<'_>],
-    w: usize,
-    height: usize,
-) -> Result<Option<ControlGrid<'a>>, Fail> {
-    let grid_log2: u32 = int(p, "grid_log2")?;
-    if grid_log2 == 0 {
-        return Ok(None);
-    }
-    let g = input(ins, 1)?;
-    let pts = match &g.buf {
-        Buf::I32(d) => &d[..],
-        _ => return Err(Fail::Harness("grid must be i32")),
-    };
-    let geom = WarpGeometry::new(w, height, w, height, int(p, "grid_frac_bits")?)?;
-    Ok(Some(ControlGrid::new(pts, geom, grid_log2)?))
 }
 
 /// The stacked frames of a job vector: the bytes, width, frames, height.
