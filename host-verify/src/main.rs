@@ -328,7 +328,10 @@ enum Cmd {
     /// binomial3-sobel-l2_approx, binomial5-sobel-l2_round,
     /// gauss7-sobel-l2_approx and gauss7-sobel-l2_round at t32, and
     /// gauss7-sobel-l2_round at t16 (the list the on-target harness
-    /// measures).
+    /// measures). Two more, map-f32-gauss7-sobel-fast-t32 and
+    /// map-f32-gauss7-sobel-newton-t32, run the f32 point job of
+    /// ports/cortex-m4f-float (a core with a single-precision FPU; costs
+    /// from the image cortex-m4+cortex-m4f-float).
     ///
     /// Example: fixsight-verify frontier --clock-mhz 168 --fps 30
     /// (after `fixsight-verify targets`, which writes the costs into

@@ -37,7 +37,10 @@
 //! <magnitude>-t<theta bins>`: the same whole job with the edge stage
 //! `EdgeConfig::demo_with(smoothing, operator, magnitude)` and the vote's
 //! theta columns (32 of 2.8 degrees, the demo's, or 16 of 5.6 degrees over
-//! the same span), read back by `fixsight-verify frontier`;
+//! the same span), read back by `fixsight-verify frontier`, and in the
+//! image of the f32 port only (feature `port-cortex-m4f-float`, which runs
+//! no other stage) `map-f32-<smoothing>-<operator>-<root>-t<theta bins>`,
+//! the same job with the port's `f32` edge stage (`float.point_job`);
 //! then `image_job_qvga`, the whole job in image mode
 //! (`pipeline.image_job`: the same settings, the 240 camera rows warped
 //! row by row through the bench grid as an undistortion grid, clamped
