@@ -288,10 +288,11 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
                 got: height as i64,
             });
         }
-        if width * height > MAP {
+        let pixels = width.checked_mul(height).unwrap_or(usize::MAX);
+        if pixels > MAP {
             return Err(Error::BufferTooShort {
                 what: "class map (MAP bytes, one per pixel)",
-                needed: width * height,
+                needed: pixels,
                 got: MAP,
             });
         }
