@@ -288,7 +288,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
                 got: height as i64,
             });
         }
-        let pixels = width.checked_mul(height).unwrap_or(usize::MAX);
+        let pixels = width.saturating_mul(height);
         if pixels > MAP {
             return Err(Error::BufferTooShort {
                 what: "class map (MAP bytes, one per pixel)",
