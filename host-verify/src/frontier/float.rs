@@ -13,7 +13,7 @@
 use super::{m4_cost_of, map_point, Described, MapConfig, MapPoint, Reference, SequenceRun};
 use crate::metrics::matched_agreement;
 use crate::pipeline::job::JobFrame;
-use crate::pipeline::{operator_name, smoothing_name};
+use crate::pipeline::{operator_name, smoothing_name, suppression_name};
 use fixsight::pipeline::{Magnitude, Operator, PointJobConfig, Smoothing, Suppression};
 use fixsight::warp::ControlGrid;
 use fixsight_port_cortex_m4f_float::{F32Config, F32EdgeStream, F32PointJobQvga, Root};
@@ -36,25 +36,30 @@ pub struct F32MapConfig {
     pub root: Root,
     /// Vote columns (32 or 16).
     pub theta_bins: usize,
+    /// Non-maximum suppression of the edge stage.
+    pub suppression: Suppression,
 }
 
 /// The `f32` configurations, in the order of the harness's `f32_stage!`
 /// lines (`targets/harness/src/bench.rs`): the demo's smoothing and
-/// operator with either square root.
-pub const F32_GRID: [F32MapConfig; 2] = [
-    F32MapConfig {
-        smoothing: Smoothing::Gauss7,
-        operator: Operator::Sobel,
-        root: Root::Fast,
-        theta_bins: 32,
-    },
-    F32MapConfig {
-        smoothing: Smoothing::Gauss7,
-        operator: Operator::Sobel,
-        root: Root::Newton,
-        theta_bins: 32,
-    },
+/// operator with either square root and either suppression.
+pub const F32_GRID: [F32MapConfig; 4] = [
+    f32_at(Root::Fast, Suppression::Sectors),
+    f32_at(Root::Newton, Suppression::Sectors),
+    f32_at(Root::Fast, Suppression::Interpolated),
+    f32_at(Root::Newton, Suppression::Interpolated),
 ];
+
+/// The demo's smoothing and operator at 32 theta columns.
+const fn f32_at(root: Root, suppression: Suppression) -> F32MapConfig {
+    F32MapConfig {
+        smoothing: Smoothing::Gauss7,
+        operator: Operator::Sobel,
+        root,
+        theta_bins: 32,
+        suppression,
+    }
+}
 
 /// The integer stage on the same gradient scale and thresholds.
 fn integer_twin(c: &F32MapConfig) -> MapConfig {
@@ -63,24 +68,30 @@ fn integer_twin(c: &F32MapConfig) -> MapConfig {
         operator: c.operator,
         magnitude: Magnitude::L2Round,
         theta_bins: c.theta_bins,
-        suppression: Suppression::Sectors,
+        suppression: c.suppression,
     }
 }
 
 impl F32MapConfig {
-    /// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>`.
+    /// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>`, followed by
+    /// `-interpolated` with the interpolating suppression.
     ///
     /// ```
     /// use fixsight_verify::frontier::float::F32_GRID;
     /// assert_eq!(F32_GRID[0].name(), "map-f32-gauss7-sobel-fast-t32");
+    /// assert_eq!(F32_GRID[3].name(), "map-f32-gauss7-sobel-newton-t32-interpolated");
     /// ```
     pub fn name(&self) -> String {
         format!(
-            "map-f32-{}-{}-{}-t{}",
+            "map-f32-{}-{}-{}-t{}{}",
             smoothing_name(self.smoothing),
             operator_name(self.operator),
             self.root.name(),
-            self.theta_bins
+            self.theta_bins,
+            match self.suppression {
+                Suppression::Sectors => String::new(),
+                other => format!("-{}", suppression_name(other)),
+            }
         )
     }
 
@@ -90,17 +101,25 @@ impl F32MapConfig {
     /// ```
     /// use fixsight_verify::frontier::float::{F32MapConfig, F32_GRID};
     /// assert_eq!(F32MapConfig::parse("map-f32-gauss7-sobel-newton-t32"), Some(Ok(F32_GRID[1])));
+    /// assert_eq!(
+    ///     F32MapConfig::parse("map-f32-gauss7-sobel-fast-t32-interpolated"),
+    ///     Some(Ok(F32_GRID[2]))
+    /// );
     /// assert_eq!(F32MapConfig::parse("map-gauss7-sobel-l1-t32"), None);
     /// assert!(F32MapConfig::parse("map-f32-gauss7-sobel-exact-t32").unwrap().is_err());
     /// ```
     pub fn parse(name: &str) -> Option<Result<F32MapConfig, String>> {
         let rest = name.strip_prefix("map-f32-")?;
         let parts: Vec<&str> = rest.split('-').collect();
-        let [s, o, r, t] = parts[..] else {
-            return Some(Err(format!(
-                "`{name}`: an f32 configuration is written \
-                 map-f32-<smoothing>-<operator>-<fast|newton>-t<theta bins>"
-            )));
+        let (s, o, r, t, x) = match parts[..] {
+            [s, o, r, t] => (s, o, r, t, None),
+            [s, o, r, t, x] => (s, o, r, t, Some(x)),
+            _ => {
+                return Some(Err(format!(
+                    "`{name}`: an f32 configuration is written \
+                     map-f32-<smoothing>-<operator>-<fast|newton>-t<theta bins>[-interpolated]"
+                )))
+            }
         };
         let root = match r {
             "fast" => Root::Fast,
@@ -111,15 +130,19 @@ impl F32MapConfig {
                 )))
             }
         };
-        // Smoothing, operator and theta columns by the integer names' rules.
-        Some(
-            MapConfig::parse(&format!("map-{s}-{o}-l2_round-{t}")).map(|c| F32MapConfig {
-                smoothing: c.smoothing,
-                operator: c.operator,
-                root,
-                theta_bins: c.theta_bins,
-            }),
-        )
+        // Smoothing, operator, theta columns and suppression by the
+        // integer names' rules.
+        let twin = match x {
+            None => format!("map-{s}-{o}-l2_round-{t}"),
+            Some(x) => format!("map-{s}-{o}-l2_round-{t}-{x}"),
+        };
+        Some(MapConfig::parse(&twin).map(|c| F32MapConfig {
+            smoothing: c.smoothing,
+            operator: c.operator,
+            root,
+            theta_bins: c.theta_bins,
+            suppression: c.suppression,
+        }))
     }
 
     /// The edge stage: the integer stage `EdgeConfig::demo_with(smoothing,
@@ -255,7 +278,11 @@ mod tests {
                     .split(',')
                     .map(|p| p.trim().trim_matches('"'))
                     .collect();
-                format!("map-f32-{}-{}-{}-t{}", f[0], f[1], f[2], f[3])
+                let suffix = match f.get(5) {
+                    Some(&"interpolated") => "-interpolated",
+                    _ => "",
+                };
+                format!("map-f32-{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
             })
             .collect();
         let ours: Vec<String> = F32_GRID.iter().map(F32MapConfig::name).collect();

@@ -86,9 +86,9 @@ const TAN_67_5: f32 = 2.414_213_6;
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct F32Config {
-    /// Smoothing, operator, gradient scale (`frac_bits`), threshold rule
-    /// and thinning; the magnitude kind is replaced by [`F32Config::root`]
-    /// and the suppression must be `Sectors`.
+    /// Smoothing, operator, gradient scale (`frac_bits`), threshold rule,
+    /// thinning and suppression; the magnitude kind is replaced by
+    /// [`F32Config::root`].
     pub edges: EdgeConfig,
     /// Square root of the magnitude.
     pub root: Root,
@@ -102,27 +102,19 @@ impl F32Config {
         root: Root::Fast,
     };
 
-    /// Checks the settings: `edges.check()`, and sector suppression.
+    /// Checks the settings (`edges.check()`).
     ///
     /// ```
-    /// use fixsight::pipeline::{EdgeConfig, Suppression, DEMO};
+    /// use fixsight::pipeline::{EdgeConfig, Thinning, DEMO};
     /// use fixsight_port_cortex_m4f_float::{F32Config, Root};
     /// let c = F32Config {
-    ///     edges: EdgeConfig { suppression: Suppression::Interpolated, ..DEMO },
+    ///     edges: EdgeConfig { thinning: Thinning::AtMost(0), ..DEMO },
     ///     root: Root::Fast,
     /// };
     /// assert!(c.check().is_err());
     /// ```
     pub fn check(&self) -> Result<(), Error> {
-        self.edges.check()?;
-        if self.edges.suppression != Suppression::Sectors {
-            return Err(Error::BadParameter {
-                name: "suppression",
-                expected: "Sectors (the f32 stage suppresses in 4 sectors)",
-                got: 1,
-            });
-        }
-        Ok(())
+        self.edges.check()
     }
 }
 
@@ -517,6 +509,17 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
     /// Suppression, histogram count, class and candidate record of row
     /// `y` (its gradient rows `y - 1 ..= y + 1` are formed).
     fn suppress_row(&mut self, y: usize) {
+        // One loop per rule, so the rule's test is not made per pixel.
+        if self.cfg.edges.suppression == Suppression::Interpolated {
+            self.suppress_row_by::<true>(y);
+        } else {
+            self.suppress_row_by::<false>(y);
+        }
+    }
+
+    /// [`Self::suppress_row`] with the interpolating rule or the sectors.
+    #[inline(always)]
+    fn suppress_row_by<const INTERPOLATED: bool>(&mut self, y: usize) {
         let (w, h) = (self.width, self.height);
         let s = y % 3;
         let above = if y >= 1 { Some((y - 1) % 3) } else { None };
@@ -539,17 +542,29 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
                 continue;
             }
             let (gx, gy) = (self.gx[s][x], self.gy[s][x]);
-            let (ax, ay) = (gx.abs(), gy.abs());
-            let (before, after) = if ay < TAN_22_5 * ax {
-                (m_at(Some(s), x, -1), m_at(Some(s), x, 1))
-            } else if ay > TAN_67_5 * ax {
-                (m_at(above, x, 0), m_at(below, x, 0))
-            } else if (gx > 0.0) == (gy > 0.0) {
-                (m_at(above, x, -1), m_at(below, x, 1))
+            let keep = if INTERPOLATED {
+                interpolated_keeps(m, gx, gy, |dx, dy| {
+                    let row = match dy {
+                        -1 => above,
+                        0 => Some(s),
+                        _ => below,
+                    };
+                    m_at(row, x, dx)
+                })
             } else {
-                (m_at(above, x, 1), m_at(below, x, -1))
+                let (ax, ay) = (gx.abs(), gy.abs());
+                let (before, after) = if ay < TAN_22_5 * ax {
+                    (m_at(Some(s), x, -1), m_at(Some(s), x, 1))
+                } else if ay > TAN_67_5 * ax {
+                    (m_at(above, x, 0), m_at(below, x, 0))
+                } else if (gx > 0.0) == (gy > 0.0) {
+                    (m_at(above, x, -1), m_at(below, x, 1))
+                } else {
+                    (m_at(above, x, 1), m_at(below, x, -1))
+                };
+                m > before && m >= after
             };
-            if !(m > before && m >= after) {
+            if !keep {
                 continue;
             }
             if bins > 0 {
@@ -573,6 +588,54 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             self.candidates = self.candidates.saturating_add(1);
         }
     }
+}
+
+/// The interpolating suppression's rule for a pixel of magnitude `m > 0`
+/// and gradient `(gx, gy)` (the integer model of
+/// `fixsight::nms::suppress_interpolated`, in `f32`): the gradient oriented
+/// downwards, `a = max(|dx|, dy)`, `b = min(|dx|, dy)`, the magnitudes
+/// one step along the ray forwards `A` and backwards `B` interpolated
+/// between an axis and a diagonal neighbour (scaled by `a`, not divided),
+/// kept when `m a > B` and `m a >= A`; `at(dx, dy)` is the magnitude at
+/// that offset, 0 outside the frame. The products and sums round (binary32).
+///
+/// ```
+/// use fixsight_port_cortex_m4f_float::edges::interpolated_keeps;
+/// // The example of `fixsight::nms::suppress_interpolated`: a ridge of 9
+/// // along a 30-degree slope, 9 * 2 < 1 * 8 + 1 * 12: suppressed.
+/// let n = [[0.0, 0.0, 0.0], [0.0, 9.0, 8.0], [0.0, 0.0, 12.0f32]];
+/// let at = |dx: isize, dy: isize| n[(1 + dy) as usize][(1 + dx) as usize];
+/// assert!(!interpolated_keeps(9.0, 2.0, 1.0, at));
+/// let v = [[0.0; 3], [3.0, 9.0, 4.0], [0.0; 3]];
+/// assert!(interpolated_keeps(9.0, 5.0, 0.0, |dx, dy| v[(1 + dy) as usize][(1 + dx) as usize]));
+/// ```
+#[inline(always)]
+pub fn interpolated_keeps(m: f32, gx: f32, gy: f32, at: impl Fn(isize, isize) -> f32) -> bool {
+    let (dx, dy) = if gy < 0.0 || (gy == 0.0 && gx < 0.0) {
+        (-gx, -gy)
+    } else {
+        (gx, gy)
+    };
+    let sx: isize = if dx > 0.0 {
+        1
+    } else if dx < 0.0 {
+        -1
+    } else {
+        0
+    };
+    let adx = dx.abs();
+    if m <= 0.0 || m.is_nan() || (adx == 0.0 && dy == 0.0) {
+        return false;
+    }
+    let (a, b, after, before) = if adx >= dy {
+        (adx, dy, (at(sx, 0), at(sx, 1)), (at(-sx, 0), at(-sx, -1)))
+    } else {
+        (dy, adx, (at(0, 1), at(sx, 1)), (at(0, -1), at(-sx, -1)))
+    };
+    let fwd = (a - b) * after.0 + b * after.1;
+    let back = (a - b) * before.0 + b * before.1;
+    let ma = m * a;
+    ma > back && ma >= fwd
 }
 
 /// The fused taps in `f32`, each set over its power of two: `gx` filters
@@ -862,7 +925,12 @@ mod tests {
                     ((1, -1), (-1, 1))
                 };
                 let (xi, yi) = (x as isize, y as isize);
-                if !(v > mag(xi + bx, yi + by) && v >= mag(xi + ax, yi + ay)) {
+                let keep = if cfg.edges.suppression == Suppression::Interpolated {
+                    interpolated_keeps(v, gx[i], gy[i], |dx, dy| mag(xi + dx, yi + dy))
+                } else {
+                    v > mag(xi + bx, yi + by) && v >= mag(xi + ax, yi + ay)
+                };
+                if !keep {
                     continue;
                 }
                 hist[((v as u32 >> shift) as usize).min(bins - 1)] += 1;
@@ -908,6 +976,13 @@ mod tests {
                     Magnitude::L2Round,
                 ),
                 root: Root::Fast,
+            },
+            F32Config {
+                edges: EdgeConfig {
+                    suppression: Suppression::Interpolated,
+                    ..fixsight::pipeline::DEMO
+                },
+                root: Root::Newton,
             },
         ];
         for cfg in configs {

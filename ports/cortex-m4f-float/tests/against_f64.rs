@@ -212,3 +212,30 @@ fn micromath_sqrt_error_and_order() {
     assert!(worst <= E_FAST, "worst {worst}");
     assert!(worst > 0.06, "worst {worst}");
 }
+
+/// The `f32` interpolating rule against the kernel crate's integer rule
+/// (`fixsight::nms::interpolated_keeps`) where `f32` is exact: magnitudes
+/// and gradient components up to 255, so every product and sum of the
+/// rule stays below `2^24` (binary32's 24-bit significand, IEEE 754-2019)
+/// and the two must agree on every case.
+#[test]
+fn interpolated_rule_equals_the_kernels_where_f32_is_exact() {
+    use fixsight_port_cortex_m4f_float::edges::interpolated_keeps;
+    let mut s = 12345u32;
+    let mut next = |n: u32| {
+        s = s.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+        (s >> 8) % n
+    };
+    let mut kept = 0;
+    for _ in 0..200_000 {
+        let n: [[u16; 3]; 3] = core::array::from_fn(|_| core::array::from_fn(|_| next(256) as u16));
+        let g = [next(511) as i16 - 255, next(511) as i16 - 255];
+        let want = fixsight::nms::interpolated_keeps(&n, g);
+        let got = interpolated_keeps(n[1][1] as f32, g[0] as f32, g[1] as f32, |dx, dy| {
+            n[(1 + dy) as usize][(1 + dx) as usize] as f32
+        });
+        assert_eq!(got, want, "{n:?} {g:?}");
+        kept += want as u32;
+    }
+    assert!(kept > 1000, "{kept}");
+}

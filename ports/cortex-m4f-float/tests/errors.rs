@@ -1,7 +1,7 @@
 //! Bad inputs give the kernel crate's typed errors, and a rejected row
 //! changes nothing.
 
-use fixsight::pipeline::{EdgeConfig, PointJobConfig, Suppression, Thinning, DEMO};
+use fixsight::pipeline::{EdgeConfig, PointJobConfig, Thinning, DEMO};
 use fixsight::warp::{ControlGrid, WarpGeometry};
 use fixsight::Error;
 use fixsight_port_cortex_m4f_float::{F32Config, F32EdgeStream, F32PointJob, Root};
@@ -14,20 +14,6 @@ fn the_stream_rejects_bad_input() {
     let row = [0u8; 32];
     assert!(matches!(s.push_row(&row), Err(Error::StreamOrder { .. })));
     assert!(matches!(s.finish(), Err(Error::StreamOrder { .. })));
-    let interp = F32Config {
-        edges: EdgeConfig {
-            suppression: Suppression::Interpolated,
-            ..DEMO
-        },
-        root: Root::Fast,
-    };
-    assert!(matches!(
-        s.configure(&interp, 32, 16),
-        Err(Error::BadParameter {
-            name: "suppression",
-            ..
-        })
-    ));
     let capped = F32Config {
         edges: EdgeConfig {
             thinning: Thinning::AtMost(0),

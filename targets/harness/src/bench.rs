@@ -300,15 +300,16 @@ macro_rules! map_stage_of {
 }
 
 /// A whole-job stage of the `f32` port (`float.point_job`, feature
-/// `port-cortex-m4f-float`): [`map_job`] with the sector suppression and
-/// the magnitude `l2_round` (whose first thresholds and bin width the `f32`
-/// stage takes, on the same gradient scale), plus the square root `root`.
+/// `port-cortex-m4f-float`): [`map_job`] with the magnitude `l2_round`
+/// (whose first thresholds and bin width the `f32` stage takes, on the
+/// same gradient scale) and `suppression`, plus the square root `root`.
 const fn f32_job(
     smoothing: &'static str,
     operator: &'static str,
     theta_bins: i64,
     theta_step_log2: i64,
     root: &'static str,
+    suppression: &'static str,
 ) -> [(&'static str, Param); 20] {
     let m = map_job(
         smoothing,
@@ -316,7 +317,7 @@ const fn f32_job(
         "l2_round",
         theta_bins,
         theta_step_log2,
-        "sectors",
+        suppression,
     );
     let mut out = [("", Param::Null); 20];
     let mut i = 0;
@@ -329,15 +330,27 @@ const fn f32_job(
 }
 
 /// A [`Stage`] of the `f32` port in the accuracy/cost map, named
-/// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>` (read back by
-/// `fixsight-verify frontier`; its list `F32_GRID` is checked against
+/// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>` (and
+/// `-interpolated` with the interpolating suppression), read back by
+/// `fixsight-verify frontier` (its list `F32_GRID` is checked against
 /// these lines by a test there). Other images skip it (no dispatch).
 macro_rules! f32_stage {
     ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal) => {
+        f32_stage_of!($s, $o, $root, $t, $step, "sectors", "")
+    };
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal, "interpolated") => {
+        f32_stage_of!($s, $o, $root, $t, $step, "interpolated", "-interpolated")
+    };
+}
+
+/// The [`Stage`] of [`f32_stage!`] with the suppression's parameter value
+/// and name suffix.
+macro_rules! f32_stage_of {
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal, $sup:literal, $suffix:literal) => {
         Stage {
-            name: concat!("map-f32-", $s, "-", $o, "-", $root, "-t", $t),
+            name: concat!("map-f32-", $s, "-", $o, "-", $root, "-t", $t, $suffix),
             kernel: "float.point_job",
-            params: &f32_job($s, $o, $t, $step, $root),
+            params: &f32_job($s, $o, $t, $step, $root, $sup),
             inputs: &[0, 16],
             outputs: &[17],
         }
@@ -575,6 +588,8 @@ pub static STAGES: &[Stage] = &[
     // crate's line stages (the port's image only).
     f32_stage!("gauss7", "sobel", "fast", 32, 10),
     f32_stage!("gauss7", "sobel", "newton", 32, 10),
+    f32_stage!("gauss7", "sobel", "fast", 32, 10, "interpolated"),
+    f32_stage!("gauss7", "sobel", "newton", 32, 10, "interpolated"),
     Stage {
         name: "image_job_qvga",
         kernel: "pipeline.image_job",
