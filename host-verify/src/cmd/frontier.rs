@@ -102,7 +102,7 @@ pub fn configs(list: Option<&str>) -> anyhow::Result<Vec<MapConfig>> {
 ///
 /// ```
 /// use fixsight_verify::cmd::frontier::f32_configs;
-/// assert_eq!(f32_configs(None).unwrap().len(), 2);
+/// assert_eq!(f32_configs(None).unwrap().len(), 4);
 /// assert_eq!(f32_configs(Some("map-gauss7-sobel-l1-t32")).unwrap().len(), 0);
 /// assert_eq!(f32_configs(Some("map-f32-gauss7-sobel-fast-t32")).unwrap().len(), 1);
 /// assert!(f32_configs(Some("map-f32-gauss7-sobel-fast-t16")).is_err());
