@@ -328,8 +328,8 @@ enum Cmd {
     /// binomial3-sobel-l2_approx, binomial5-sobel-l2_round,
     /// gauss7-sobel-l2_approx and gauss7-sobel-l2_round at t32, and
     /// gauss7-sobel-l2_round at t16 (the list the on-target harness
-    /// measures). Two more, map-f32-gauss7-sobel-fast-t32 and
-    /// map-f32-gauss7-sobel-newton-t32, run the f32 point job of
+    /// measures). Four more, map-f32-gauss7-sobel-<fast|newton>-t32 with
+    /// and without -interpolated, run the f32 point job of
     /// ports/cortex-m4f-float (a core with a single-precision FPU; costs
     /// from the image cortex-m4+cortex-m4f-float).
     ///

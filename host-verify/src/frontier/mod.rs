@@ -107,7 +107,9 @@
 //! bins>`: the point job of the port `ports/cortex-m4f-float/`, whose edge
 //! stage computes in `f32` (the same fused taps without rounding, the
 //! magnitude by `micromath`'s square root, `fast`, or that root refined by
-//! two Newton steps, `newton`; 4-sector suppression; the automatic
+//! two Newton steps, `newton`; 4-sector or interpolating suppression,
+//! names ending `-interpolated`, the rule of the integer configurations of
+//! that name computed in `f32`; the automatic
 //! thresholds by the same rank rule on the `f32` magnitudes; the kernel
 //! crate's hysteresis and thinning on a byte class map), followed by the
 //! kernel crate's line stages. Each is measured like the integer

@@ -16,12 +16,15 @@
 //! 2. **Magnitude** `sqrt(gx^2 + gy^2)` by [`Root`]: `micromath`'s
 //!    approximation ([`Root::Fast`]) or that approximation refined by two
 //!    Newton steps ([`Root::Newton`]).
-//! 3. **Non-maximum suppression** in 4 sectors, the rule of
-//!    `fixsight::nms` (strictly above the *before* neighbour, at least the
-//!    *after* one, neighbours outside the frame read 0), the sector from
-//!    `|gy| < tan(22.5 deg) |gx|` (0), `|gy| > tan(67.5 deg) |gx|` (2), else 1
-//!    when `gx`, `gy` have the same sign, 3 otherwise: the boundaries of
-//!    `fixsight::gradient::direction_sector`, on the `f32` gradients.
+//! 3. **Non-maximum suppression** by the configuration's `suppression`:
+//!    in 4 sectors, the rule of `fixsight::nms` (strictly above the
+//!    *before* neighbour, at least the *after* one, neighbours outside the
+//!    frame read 0), the sector from `|gy| < tan(22.5 deg) |gx|` (0),
+//!    `|gy| > tan(67.5 deg) |gx|` (2), else 1 when `gx`, `gy` have the same
+//!    sign, 3 otherwise: the boundaries of
+//!    `fixsight::gradient::direction_sector`, on the `f32` gradients; or
+//!    interpolating ([`interpolated_keeps`]: the integer model of
+//!    `fixsight::nms::suppress_interpolated` in `f32`).
 //! 4. **Classes** against the thresholds in use for the frame: strong at or
 //!    above `high`, weak at or above `low` (the integer thresholds compared
 //!    as `f32`).

@@ -3,7 +3,7 @@
 //! For cores with a single-precision FPU (the Cortex-M4F, target
 //! `thumbv7em-none-eabihf`): the demo's edge stage written in `f32`
 //! ([`F32EdgeStream`]: the same smoothing and operator taps, magnitude,
-//! 4-sector suppression, automatic thresholds by the same rank rule,
+//! 4-sector or interpolating suppression, automatic thresholds by the same rank rule,
 //! hysteresis and thinning), followed by the kernel crate's line stages
 //! through its public API ([`F32PointJob`]: vote, peaks, marking, tracker),
 //! so that the accuracy/cost map (`fixsight-verify frontier`) can set what
