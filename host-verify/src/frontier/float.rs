@@ -268,23 +268,7 @@ mod tests {
     /// `f32_stage!` lines in `targets/harness/src/bench.rs`).
     #[test]
     fn the_harness_measures_the_same_f32_configurations() {
-        let src = include_str!("../../../targets/harness/src/bench.rs");
-        let theirs: Vec<String> = src
-            .lines()
-            .filter_map(|l| l.trim().strip_prefix("f32_stage!("))
-            .map(|l| {
-                let f: Vec<&str> = l
-                    .trim_end_matches("),")
-                    .split(',')
-                    .map(|p| p.trim().trim_matches('"'))
-                    .collect();
-                let suffix = match f.get(5) {
-                    Some(&"interpolated") => "-interpolated",
-                    _ => "",
-                };
-                format!("map-f32-{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
-            })
-            .collect();
+        let theirs = super::super::tests::harness_stage_names("f32_stage", "map-f32-");
         let ours: Vec<String> = F32_GRID.iter().map(F32MapConfig::name).collect();
         assert_eq!(theirs, ours);
         for (c, n) in F32_GRID.iter().zip(&ours) {

@@ -862,14 +862,14 @@ mod tests {
         assert_eq!(u.len(), names.len());
     }
 
-    /// The harness measures the same list, in the same order (its
-    /// `map_stage!` lines in `targets/harness/src/bench.rs`).
-    #[test]
-    fn the_harness_measures_the_same_grid() {
+    /// The stage names of the harness's `<mac>!(s, o, m, t, step[,
+    /// "interpolated"])` lines in `targets/harness/src/bench.rs`, written
+    /// `<prefix><s>-<o>-<m>-t<t>[-interpolated]`.
+    pub(crate) fn harness_stage_names(mac: &str, prefix: &str) -> Vec<String> {
         let src = include_str!("../../../targets/harness/src/bench.rs");
-        let theirs: Vec<String> = src
-            .lines()
-            .filter_map(|l| l.trim().strip_prefix("map_stage!("))
+        let open = format!("{mac}!(");
+        src.lines()
+            .filter_map(|l| l.trim().strip_prefix(open.as_str()))
             .map(|l| {
                 let f: Vec<&str> = l
                     .trim_end_matches("),")
@@ -880,11 +880,17 @@ mod tests {
                     Some(&"interpolated") => "-interpolated",
                     _ => "",
                 };
-                format!("map-{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
+                format!("{prefix}{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
             })
-            .collect();
+            .collect()
+    }
+
+    /// The harness measures the same list, in the same order (its
+    /// `map_stage!` lines in `targets/harness/src/bench.rs`).
+    #[test]
+    fn the_harness_measures_the_same_grid() {
         let ours: Vec<String> = GRID.iter().map(MapConfig::name).collect();
-        assert_eq!(theirs, ours);
+        assert_eq!(harness_stage_names("map_stage", "map-"), ours);
     }
 
     #[test]
