@@ -449,7 +449,11 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
         .iter()
         .map(|p| {
             vec![
-                p.name.clone(),
+                if p.float {
+                    format!("{} (f32, needs an FPU)", p.name)
+                } else {
+                    p.name.clone()
+                },
                 format!("{:.4}", p.f1_worst),
                 format!(
                     "{:.2} / {:.2}",

@@ -229,7 +229,7 @@ enum Cmd {
         #[arg(long, value_parser = ["rust", "c"])]
         lang: Option<String>,
         /// Only this Rust image (repeatable): cortex-m4, cortex-m3,
-        /// cortex-m0, rv32imc, or a port's image cortex-m4+cortex-m4-dsp.
+        /// cortex-m0, rv32imc, or a port's image cortex-m4+cortex-m4-dsp, cortex-m4+cortex-m4f-float.
         /// Default: all of them. The C firmware follows --lang.
         #[arg(long, value_name = "IMAGE")]
         core: Vec<String>,
@@ -348,7 +348,10 @@ enum Cmd {
     /// binomial3-sobel-l2_approx, binomial5-sobel-l2_round,
     /// gauss7-sobel-l2_approx and gauss7-sobel-l2_round at t32, and
     /// gauss7-sobel-l2_round at t16 (the list the on-target harness
-    /// measures).
+    /// measures). Four more, map-f32-gauss7-sobel-<fast|newton>-t32 with
+    /// and without -interpolated, run the f32 point job of
+    /// ports/cortex-m4f-float (a core with a single-precision FPU; costs
+    /// from the image cortex-m4+cortex-m4f-float).
     ///
     /// Example: fixsight-verify frontier --clock-mhz 168 --fps 30
     /// (after `fixsight-verify targets`, which writes the costs into

@@ -136,13 +136,17 @@ pub enum CodeBytes {
 /// kernel ids of its `claims.txt`: built as one more image of `core` with
 /// the firmware feature `port-<name>`, run over every golden vector like
 /// the plain image, and reported as one more entry of `targets.json` with
-/// the figures of the claimed ids.
+/// the figures of the claimed ids and of the ids it adds.
 #[derive(Debug, Clone, Copy)]
 pub struct Port {
     /// Folder under `ports/` and suffix of the firmware feature.
     pub name: &'static str,
     /// Name of the core in [`TARGETS`] the port is written for.
     pub core: &'static str,
+    /// Ids the port's image adds to the harness's table for bench stages
+    /// only (no golden vector names them: the port is bit-exact to no
+    /// kernel there), reported beside its claims.
+    pub adds: &'static [&'static str],
 }
 
 impl Port {
@@ -153,15 +157,27 @@ impl Port {
 }
 
 /// The ports in the repository.
-pub const PORTS: [Port; 1] = [Port {
-    name: "cortex-m4-dsp",
-    core: "cortex-m4",
-}];
+pub const PORTS: [Port; 2] = [
+    Port {
+        name: "cortex-m4-dsp",
+        core: "cortex-m4",
+        adds: &[],
+    },
+    // The f32 point job for the Cortex-M4F (`ports/cortex-m4f-float/`):
+    // claims nothing, adds the bench stages `map-f32-...` of
+    // `float.point_job` (the accuracy/cost map reads them).
+    Port {
+        name: "cortex-m4f-float",
+        core: "cortex-m4",
+        adds: &["float.point_job"],
+    },
+];
 
 /// A port and the kernel ids it claims, for one run.
 struct PortRun<'a> {
     port: &'a Port,
-    /// Kernel ids of `claims.txt`, in file order of the set.
+    /// Kernel ids of `claims.txt`, in file order of the set, then the ids
+    /// the port adds ([`Port::adds`]).
     claims: Vec<String>,
     /// `port-<name>`.
     feature: String,
@@ -185,7 +201,10 @@ impl PortRun<'_> {
         }
         Ok(PortRun {
             port,
-            claims: claims.into_iter().collect(),
+            claims: claims
+                .into_iter()
+                .chain(port.adds.iter().map(|a| a.to_string()))
+                .collect(),
             feature: format!("port-{}", port.name),
         })
     }

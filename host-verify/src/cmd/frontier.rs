@@ -4,6 +4,7 @@
 //! `frontier.md`, `frontier.json` and `frontier.png`.
 
 use crate::files::{shown_path, Outputs};
+use crate::frontier::float::{F32MapConfig, F32_GRID};
 use crate::frontier::{self, Frontier, MapConfig, SequenceRun, GRID};
 use crate::targets::{load_targets_json, TARGETS_JSON};
 use anyhow::{bail, Context};
@@ -78,11 +79,46 @@ pub fn configs(list: Option<&str>) -> anyhow::Result<Vec<MapConfig>> {
         if name.is_empty() {
             bail!("--configs: an empty name in `{list}`");
         }
+        if F32MapConfig::parse(name).is_some() {
+            // An f32 configuration: [`f32_configs`].
+            continue;
+        }
         let c = MapConfig::parse(name).map_err(|e| anyhow::anyhow!("--configs: {e}"))?;
         if !GRID.contains(&c) {
             bail!(
                 "--configs: `{name}` is not in the grid the targets measure (see `fixsight-verify frontier --help`)"
             );
+        }
+        if out.contains(&c) {
+            bail!("--configs: `{name}` is named twice");
+        }
+        out.push(c);
+    }
+    Ok(out)
+}
+
+/// The `f32` configurations a request names (all of [`F32_GRID`]
+/// without `--configs`).
+///
+/// ```
+/// use fixsight_verify::cmd::frontier::f32_configs;
+/// assert_eq!(f32_configs(None).unwrap().len(), 4);
+/// assert_eq!(f32_configs(Some("map-gauss7-sobel-l1-t32")).unwrap().len(), 0);
+/// assert_eq!(f32_configs(Some("map-f32-gauss7-sobel-fast-t32")).unwrap().len(), 1);
+/// assert!(f32_configs(Some("map-f32-gauss7-sobel-fast-t16")).is_err());
+/// ```
+pub fn f32_configs(list: Option<&str>) -> anyhow::Result<Vec<F32MapConfig>> {
+    let Some(list) = list else {
+        return Ok(F32_GRID.to_vec());
+    };
+    let mut out: Vec<F32MapConfig> = Vec::new();
+    for name in list.split(',').map(str::trim) {
+        let Some(c) = F32MapConfig::parse(name) else {
+            continue;
+        };
+        let c = c.map_err(|e| anyhow::anyhow!("--configs: {e}"))?;
+        if !F32_GRID.contains(&c) {
+            bail!("--configs: `{name}` is not in the f32 list the targets measure");
         }
         if out.contains(&c) {
             bail!("--configs: `{name}` is named twice");
@@ -110,6 +146,7 @@ pub fn run(req: &Request) -> anyhow::Result<String> {
         );
     }
     let chosen = configs(req.configs.as_deref())?;
+    let chosen_f32 = f32_configs(req.configs.as_deref())?;
     let (targets, costs_from) = match &req.targets {
         Some(dir) => {
             let path = dir.join(TARGETS_JSON);
@@ -152,12 +189,20 @@ pub fn run(req: &Request) -> anyhow::Result<String> {
     };
     let refs = frontier::references(&scenes);
     let seq = SequenceRun::new(req.frames).map_err(anyhow::Error::msg)?;
-    let bar = crate::progress::bar(chosen.len() as u64, "frontier");
+    let bar = crate::progress::bar((chosen.len() + chosen_f32.len()) as u64, "frontier");
     let mut points = Vec::new();
     for c in &chosen {
         bar.set_message(c.name());
         points.push(
             frontier::evaluate(c, &refs, &seq, targets.as_ref()).map_err(anyhow::Error::msg)?,
+        );
+        bar.inc(1);
+    }
+    for c in &chosen_f32 {
+        bar.set_message(c.name());
+        points.push(
+            frontier::float::evaluate(c, &refs, &seq, targets.as_ref())
+                .map_err(anyhow::Error::msg)?,
         );
         bar.inc(1);
     }

@@ -100,13 +100,37 @@
 //!   accurate one. Only front configurations with no wrong-edge frame are
 //!   considered while there is one: a wrong line taken for the tape's edge
 //!   is what a drift warning must not be built on.
+//!
+//! # The `f32` configurations (a core with a single-precision FPU)
+//!
+//! [`float::F32_GRID`], names `map-f32-<smoothing>-<operator>-<root>-t<theta
+//! bins>`: the point job of the port `ports/cortex-m4f-float/`, whose edge
+//! stage computes in `f32` (the same fused taps without rounding, the
+//! magnitude by `micromath`'s square root, `fast`, or that root refined by
+//! two Newton steps, `newton`; 4-sector or interpolating suppression,
+//! names ending `-interpolated`, the rule of the integer configurations of
+//! that name computed in `f32`; the automatic
+//! thresholds by the same rank rule on the `f32` magnitudes; the kernel
+//! crate's hysteresis and thinning on a byte class map), followed by the
+//! kernel crate's line stages. Each is measured like the integer
+//! configurations: the same images and references, the same sequence, the
+//! cost of its bench stage `map-f32-...` (kernel id `float.point_job`) on
+//! the Cortex-M4 image with the port (`cortex-m4+cortex-m4f-float`, the
+//! FPU on: `thumbv7em-none-eabihf`), `ram_bytes` of `F32PointJobQvga` and
+//! the code bytes of `float.point_job` in that image. They are marked
+//! `float` in `frontier.json`, "(f32, FPU)" in the table and as orange
+//! triangles in the plot, and take part in the front and the
+//! recommendation under the same rules: a recommendation of one of them
+//! holds only for a part with a single-precision FPU (on a Cortex-M0 or
+//! M3 each `f32` operation is a library call).
 
+pub mod float;
 pub mod plot;
 
 use crate::chain::reference::{edges_f64, suppressed_f64, thresholds_f64};
 use crate::metrics::matched_agreement;
 use crate::pipeline::job::{
-    run_fixed_with, sequence_correction_grid, truth_line_errors, wrong_edge_frames,
+    run_fixed_with, sequence_correction_grid, truth_line_errors, wrong_edge_frames, JobFrame,
 };
 use crate::pipeline::{
     magnitude_name, magnitude_of, operator_name, operator_of, run_stream, smoothing_name,
@@ -352,6 +376,10 @@ pub struct MapPoint {
     pub code_bytes: Option<u64>,
     /// On the Pareto front.
     pub pareto: bool,
+    /// An `f32` configuration ([`float`]): needs a core with a
+    /// single-precision FPU.
+    #[serde(default)]
+    pub float: bool,
 }
 
 /// The whole map (`frontier.json`).
@@ -491,7 +519,12 @@ pub fn line_figures(job: &PointJobConfig, run: &SequenceRun) -> Result<LineFigur
     let g = &run.grid;
     let grid = ControlGrid::new(&g.points, g.geom, g.k).map_err(|e| e.to_string())?;
     let fixed = run_fixed_with(job, &run.frames, Some(&grid))?;
-    let (rho, theta) = truth_line_errors(&run.truth, &fixed.frames);
+    Ok(line_figures_of(&run.truth, &fixed.frames))
+}
+
+/// Line figures of a run's frames against the truth.
+pub fn line_figures_of(truth: &[crate::sequence::FrameTruth], frames: &[JobFrame]) -> LineFigures {
+    let (rho, theta) = truth_line_errors(truth, frames);
     let mean = |v: &[f64]| {
         if v.is_empty() {
             0.0
@@ -499,22 +532,33 @@ pub fn line_figures(job: &PointJobConfig, run: &SequenceRun) -> Result<LineFigur
             v.iter().sum::<f64>() / v.len() as f64
         }
     };
-    Ok(LineFigures {
+    LineFigures {
         rho_mean: mean(&rho),
         rho_max: rho.iter().copied().fold(0.0, f64::max),
         theta_mean: mean(&theta),
-        lost: fixed.frames.iter().filter(|f| f.tape.is_none()).count(),
-        wrong: wrong_edge_frames(&run.truth, &fixed.frames),
-        first_warning: fixed.frames.iter().position(|f| f.warning.is_some()),
-    })
+        lost: frames.iter().filter(|f| f.tape.is_none()).count(),
+        wrong: wrong_edge_frames(truth, frames),
+        first_warning: frames.iter().position(|f| f.warning.is_some()),
+    }
 }
 
 /// The M4 figures of a bench stage: `(instr/px, code bytes)`.
 pub fn m4_cost(t: &TargetsReport, stage: &str) -> Option<(f64, u64)> {
-    let want = format!("{JOB_KERNEL}/{stage}");
+    m4_cost_of(t, None, JOB_KERNEL, stage)
+}
+
+/// The M4 figures of a bench stage of `kernel` on the plain image (`port`
+/// `None`) or a port's image: `(instr/px, code bytes)`.
+pub fn m4_cost_of(
+    t: &TargetsReport,
+    port: Option<&str>,
+    kernel: &str,
+    stage: &str,
+) -> Option<(f64, u64)> {
+    let want = format!("{kernel}/{stage}");
     t.targets
         .iter()
-        .filter(|c| c.name == CORE && c.lang == "rust" && c.port.is_none())
+        .filter(|c| c.name == CORE && c.lang == "rust" && c.port.as_deref() == port)
         .flat_map(|c| &c.kernels)
         .find(|k| k.name == want)
         .map(|k| (k.instr_per_px, k.code_bytes))
@@ -530,31 +574,68 @@ pub fn evaluate(
     let edges = c.edges();
     edges.check().map_err(|e| format!("{}: {e}", c.name()))?;
     let f1s = edge_f1(&edges, refs)?;
-    let mut f1 = BTreeMap::new();
-    let mut by_class: BTreeMap<String, f64> = BTreeMap::new();
-    for (r, &v) in refs.iter().zip(&f1s) {
-        f1.insert(r.name.clone(), v);
-        let e = by_class.entry(r.class.clone()).or_insert(1.0);
-        *e = e.min(v);
-    }
     let lines = line_figures(&c.job(), run)?;
     let cost = targets.and_then(|t| m4_cost(t, &c.name()));
-    let bin_shift = match edges.thresholds {
-        ThresholdRule::Auto { shift, .. } => shift,
-        ThresholdRule::Fixed { .. } => 0,
-    };
-    Ok(MapPoint {
+    let what = Described {
         name: c.name(),
         smoothing: smoothing_name(c.smoothing).into(),
         operator: operator_name(c.operator).into(),
         magnitude: magnitude_name(c.magnitude).into(),
-        frac_bits: edges.frac_bits,
-        bin_shift,
+        edges,
         theta_bins: c.theta_bins,
+        ram_bytes: DemoPointJobQvga::ram_bytes(),
+        float: false,
+    };
+    Ok(map_point(what, refs, &f1s, run.len(), &lines, cost))
+}
+
+/// What a configuration is, for its [`MapPoint`].
+pub(crate) struct Described {
+    pub(crate) name: String,
+    pub(crate) smoothing: String,
+    pub(crate) operator: String,
+    pub(crate) magnitude: String,
+    /// Its integer edge settings (fractional bits, threshold rule).
+    pub(crate) edges: EdgeConfig,
+    pub(crate) theta_bins: usize,
+    pub(crate) ram_bytes: usize,
+    pub(crate) float: bool,
+}
+
+/// The [`MapPoint`] of a configuration from its figures: F1 per image
+/// (in the order of `refs`), line figures over `frames` frames, and the
+/// bench stage's `(instr/px, code bytes)` when measured.
+pub(crate) fn map_point(
+    d: Described,
+    refs: &[Reference],
+    f1s: &[f64],
+    frames: usize,
+    lines: &LineFigures,
+    cost: Option<(f64, u64)>,
+) -> MapPoint {
+    let mut f1 = BTreeMap::new();
+    let mut by_class: BTreeMap<String, f64> = BTreeMap::new();
+    for (r, &v) in refs.iter().zip(f1s) {
+        f1.insert(r.name.clone(), v);
+        let e = by_class.entry(r.class.clone()).or_insert(1.0);
+        *e = e.min(v);
+    }
+    let bin_shift = match d.edges.thresholds {
+        ThresholdRule::Auto { shift, .. } => shift,
+        ThresholdRule::Fixed { .. } => 0,
+    };
+    MapPoint {
+        name: d.name,
+        smoothing: d.smoothing,
+        operator: d.operator,
+        magnitude: d.magnitude,
+        frac_bits: d.edges.frac_bits,
+        bin_shift,
+        theta_bins: d.theta_bins,
         f1_worst: f1s.iter().copied().fold(1.0, f64::min),
         f1,
         f1_worst_by_class: by_class,
-        frames: run.len(),
+        frames,
         line_rho_err_px_mean: lines.rho_mean,
         line_rho_err_px_max: lines.rho_max,
         line_theta_err_deg_mean: lines.theta_mean,
@@ -562,10 +643,11 @@ pub fn evaluate(
         wrong_edge_frames: lines.wrong,
         first_warning: lines.first_warning,
         m4_instr_per_px: cost.map(|c| c.0),
-        ram_bytes: DemoPointJobQvga::ram_bytes(),
+        ram_bytes: d.ram_bytes,
         code_bytes: cost.map(|c| c.1),
         pareto: false,
-    })
+        float: d.float,
+    }
 }
 
 /// Marks the Pareto front (module docs) among the points with a cost.
@@ -578,7 +660,8 @@ pub fn evaluate(
 /// #         f1: Default::default(), f1_worst_by_class: Default::default(), f1_worst: f1,
 /// #         frames: 0, line_rho_err_px_mean: 0.0, line_rho_err_px_max: 0.0,
 /// #         line_theta_err_deg_mean: 0.0, lost_frames: 0, wrong_edge_frames: 0, first_warning: None,
-/// #         m4_instr_per_px: Some(cost), ram_bytes: 0, code_bytes: None, pareto: false }
+/// #         m4_instr_per_px: Some(cost), ram_bytes: 0, code_bytes: None, pareto: false,
+/// #         float: false }
 /// # }
 /// let mut v = vec![p("a", 100.0, 0.90), p("b", 200.0, 0.96), p("c", 250.0, 0.95)];
 /// mark_front(&mut v);
@@ -719,8 +802,9 @@ pub fn table(f: &Frontier) -> String {
     for p in &f.points {
         let rec = f.recommended.as_deref() == Some(p.name.as_str());
         s.push_str(&format!(
-            "| {}{} | {} | {} | {:.4} |",
+            "| {}{}{} | {} | {} | {:.4} |",
             p.name,
+            if p.float { " (f32, FPU)" } else { "" },
             if rec { " (recommended)" } else { "" },
             p.frac_bits,
             p.bin_shift,
@@ -745,6 +829,13 @@ pub fn table(f: &Frontier) -> String {
             p.ram_bytes,
             if p.pareto { "yes" } else { "" }
         ));
+    }
+    if f.points.iter().any(|p| p.float) {
+        s.push_str(
+            "\nConfigurations marked (f32, FPU) run the f32 edge stage of `ports/cortex-m4f-float` \
+             with the kernel crate's line stages; they need a core with a single-precision FPU \
+             (Cortex-M4F), and their cost is that of the image `cortex-m4+cortex-m4f-float`.\n",
+        );
     }
     s.push_str(&format!(
         "\nBudget at {} MHz and {} frames/s, QVGA, one instruction per cycle: {:.1} instructions per pixel. {}.\n",
@@ -771,14 +862,14 @@ mod tests {
         assert_eq!(u.len(), names.len());
     }
 
-    /// The harness measures the same list, in the same order (its
-    /// `map_stage!` lines in `targets/harness/src/bench.rs`).
-    #[test]
-    fn the_harness_measures_the_same_grid() {
+    /// The stage names of the harness's `<mac>!(s, o, m, t, step[,
+    /// "interpolated"])` lines in `targets/harness/src/bench.rs`, written
+    /// `<prefix><s>-<o>-<m>-t<t>[-interpolated]`.
+    pub(crate) fn harness_stage_names(mac: &str, prefix: &str) -> Vec<String> {
         let src = include_str!("../../../targets/harness/src/bench.rs");
-        let theirs: Vec<String> = src
-            .lines()
-            .filter_map(|l| l.trim().strip_prefix("map_stage!("))
+        let open = format!("{mac}!(");
+        src.lines()
+            .filter_map(|l| l.trim().strip_prefix(open.as_str()))
             .map(|l| {
                 let f: Vec<&str> = l
                     .trim_end_matches("),")
@@ -789,11 +880,17 @@ mod tests {
                     Some(&"interpolated") => "-interpolated",
                     _ => "",
                 };
-                format!("map-{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
+                format!("{prefix}{}-{}-{}-t{}{suffix}", f[0], f[1], f[2], f[3])
             })
-            .collect();
+            .collect()
+    }
+
+    /// The harness measures the same list, in the same order (its
+    /// `map_stage!` lines in `targets/harness/src/bench.rs`).
+    #[test]
+    fn the_harness_measures_the_same_grid() {
         let ours: Vec<String> = GRID.iter().map(MapConfig::name).collect();
-        assert_eq!(theirs, ours);
+        assert_eq!(harness_stage_names("map_stage", "map-"), ours);
     }
 
     #[test]
@@ -835,6 +932,7 @@ mod tests {
             ram_bytes: 0,
             code_bytes: None,
             pareto: false,
+            float: false,
         };
         let mut v = vec![p("a", 60.0, 0.90), p("b", 200.0, 0.96), p("c", 300.0, 0.97)];
         mark_front(&mut v);

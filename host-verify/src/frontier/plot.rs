@@ -39,6 +39,13 @@ where
     DB::ErrorType: 'static,
 {
     font();
+    let floats: Vec<&str> = f
+        .points
+        .iter()
+        .filter(|p| p.float)
+        .map(|p| p.name.as_str())
+        .collect();
+    let is_float = |n: &str| floats.contains(&n);
     let pts: Vec<(&str, f64, f64, bool)> = f
         .points
         .iter()
@@ -78,11 +85,38 @@ where
     chart
         .draw_series(
             pts.iter()
+                .filter(|p| !is_float(p.0))
                 .map(|&(_, c, q, _)| Circle::new((c, q), 4, grey.filled())),
         )
         .map_err(plot_err)?
         .label("configuration")
         .legend(move |(x, y)| Circle::new((x + 10, y), 4, grey.filled()));
+    // The f32 configurations (ports/cortex-m4f-float), which need an FPU.
+    let orange = RGBColor(230, 120, 0);
+    if pts.iter().any(|p| is_float(p.0)) {
+        chart
+            .draw_series(
+                pts.iter()
+                    .filter(|p| is_float(p.0))
+                    .map(|&(_, c, q, _)| TriangleMarker::new((c, q), 7, orange.filled())),
+            )
+            .map_err(plot_err)?
+            .label("f32 configuration (needs an FPU)")
+            .legend(move |(x, y)| TriangleMarker::new((x + 10, y), 6, orange.filled()));
+        chart
+            .draw_series(
+                pts.iter()
+                    .filter(|p| is_float(p.0) && !p.3)
+                    .map(|&(n, c, q, _)| {
+                        Text::new(
+                            n.trim_start_matches("map-").to_string(),
+                            (c, q),
+                            (FONT, 12).into_font(),
+                        )
+                    }),
+            )
+            .map_err(plot_err)?;
+    }
     let mut front: Vec<(f64, f64)> = pts
         .iter()
         .filter(|p| p.3)

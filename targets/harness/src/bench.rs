@@ -37,7 +37,10 @@
 //! <magnitude>-t<theta bins>`: the same whole job with the edge stage
 //! `EdgeConfig::demo_with(smoothing, operator, magnitude)` and the vote's
 //! theta columns (32 of 2.8 degrees, the demo's, or 16 of 5.6 degrees over
-//! the same span), read back by `fixsight-verify frontier`;
+//! the same span), read back by `fixsight-verify frontier`, and in the
+//! image of the f32 port only (feature `port-cortex-m4f-float`, which runs
+//! no other stage) `map-f32-<smoothing>-<operator>-<root>-t<theta bins>`,
+//! the same job with the port's `f32` edge stage (`float.point_job`);
 //! then `image_job_qvga`, the whole job in image mode
 //! (`pipeline.image_job`: the same settings, the 240 camera rows warped
 //! row by row through the bench grid as an undistortion grid, clamped
@@ -296,6 +299,64 @@ macro_rules! map_stage_of {
     };
 }
 
+/// A whole-job stage of the `f32` port (`float.point_job`, feature
+/// `port-cortex-m4f-float`): [`map_job`] with the magnitude `l2_round`
+/// (whose first thresholds and bin width the `f32` stage takes, on the
+/// same gradient scale) and `suppression`, plus the square root `root`.
+const fn f32_job(
+    smoothing: &'static str,
+    operator: &'static str,
+    theta_bins: i64,
+    theta_step_log2: i64,
+    root: &'static str,
+    suppression: &'static str,
+) -> [(&'static str, Param); 20] {
+    let m = map_job(
+        smoothing,
+        operator,
+        "l2_round",
+        theta_bins,
+        theta_step_log2,
+        suppression,
+    );
+    let mut out = [("", Param::Null); 20];
+    let mut i = 0;
+    while i < m.len() {
+        out[i] = m[i];
+        i += 1;
+    }
+    out[19] = ("root", Param::Str(root));
+    out
+}
+
+/// A [`Stage`] of the `f32` port in the accuracy/cost map, named
+/// `map-f32-<smoothing>-<operator>-<root>-t<theta bins>` (and
+/// `-interpolated` with the interpolating suppression), read back by
+/// `fixsight-verify frontier` (its list `F32_GRID` is checked against
+/// these lines by a test there). Other images skip it (no dispatch).
+macro_rules! f32_stage {
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal) => {
+        f32_stage_of!($s, $o, $root, $t, $step, "sectors", "")
+    };
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal, "interpolated") => {
+        f32_stage_of!($s, $o, $root, $t, $step, "interpolated", "-interpolated")
+    };
+}
+
+/// The [`Stage`] of [`f32_stage!`] with the suppression's parameter value
+/// and name suffix.
+macro_rules! f32_stage_of {
+    ($s:literal, $o:literal, $root:literal, $t:literal, $step:literal, $sup:literal, $suffix:literal) => {
+        Stage {
+            name: concat!("map-f32-", $s, "-", $o, "-", $root, "-t", $t, $suffix),
+            kernel: "float.point_job",
+            params: &f32_job($s, $o, $t, $step, $root, $sup),
+            inputs: &[0, 16],
+            outputs: &[17],
+        }
+    };
+}
+
 /// The demo 1024-entry hysteresis stack.
 const STACK: [(&str, Param); 1] = [("stack", Param::Int(1024))];
 
@@ -523,6 +584,12 @@ pub static STAGES: &[Stage] = &[
     map_stage!("gauss7", "sobel", "l2_approx", 32, 10, "interpolated"),
     map_stage!("gauss7", "sobel", "l2_round", 32, 10, "interpolated"),
     map_stage!("gauss7", "sobel", "l2_round", 16, 11, "interpolated"),
+    // The f32 edge stage of `ports/cortex-m4f-float` with the kernel
+    // crate's line stages (the port's image only).
+    f32_stage!("gauss7", "sobel", "fast", 32, 10),
+    f32_stage!("gauss7", "sobel", "newton", 32, 10),
+    f32_stage!("gauss7", "sobel", "fast", 32, 10, "interpolated"),
+    f32_stage!("gauss7", "sobel", "newton", 32, 10, "interpolated"),
     Stage {
         name: "image_job_qvga",
         kernel: "pipeline.image_job",
@@ -666,6 +733,9 @@ pub fn run(con: &mut Console, words: &mut [u32]) {
         p.copy_from_slice(points);
     }
     for st in STAGES {
+        if crate::BENCH_ONLY && st.kernel != "float.point_job" {
+            continue;
+        }
         let Some(run) = crate::kernels::dispatch(st.kernel) else {
             continue;
         };

@@ -12,6 +12,8 @@
 
 pub mod chain;
 pub mod filter;
+#[cfg(feature = "port-cortex-m4f-float")]
+pub mod float;
 pub mod gradient;
 pub mod hysteresis;
 pub mod lines;
@@ -55,6 +57,10 @@ macro_rules! kernel_table {
         pub fn dispatch(kernel: &str) -> Option<RunFn> {
             match kernel {
                 $($id if const { served($id) } => Some($run as RunFn),)*
+                // The f32 job of the port `cortex-m4f-float`: bench stages
+                // only (no golden vector names it, so not in the table).
+                #[cfg(feature = "port-cortex-m4f-float")]
+                "float.point_job" if ONLY.is_none() => Some(float::point_job as RunFn),
                 _ if ONLY.is_some() => Some(noop),
                 _ => None,
             }

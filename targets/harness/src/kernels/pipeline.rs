@@ -225,7 +225,7 @@ pub const WORDS: usize =
     9 + 5 * PEAKS + fixsight::marking::RECORD_WORDS + 6 + TRACKS * fixsight::track::TRACK_WORDS;
 
 /// The configuration a `pipeline.point_job` vector names.
-fn job_config(p: &Params, width: usize, height: usize) -> Result<PointJobConfig, Fail> {
+pub(crate) fn job_config(p: &Params, width: usize, height: usize) -> Result<PointJobConfig, Fail> {
     let mut c = PointJobConfig::DEMO_QVGA;
     // A bench stage of the accuracy/cost map names another edge stage:
     // `EdgeConfig::demo_with` of its smoothing, operator and magnitude,
@@ -328,7 +328,10 @@ pub fn point_job(
 }
 
 /// The stacked frames of a job vector: the bytes, width, frames, height.
-fn job_frames<'a>(p: &Params, ins: &'a [Img<'_>]) -> Result<(&'a [u8], usize, usize, usize), Fail> {
+pub(crate) fn job_frames<'a>(
+    p: &Params,
+    ins: &'a [Img<'_>],
+) -> Result<(&'a [u8], usize, usize, usize), Fail> {
     let src = input(ins, 0)?;
     let frames: usize = int(p, "frames")?;
     let height: usize = int(p, "height")?;
