@@ -419,7 +419,54 @@ fn kernel_section(k: &KernelReport, r: &Report, scenes: &[Scene]) -> Result<Stri
     Ok(out)
 }
 
-/// The whole HTML document.
+/// The flash and RAM of a user's firmware (`flash.json`): one row per
+/// image and optimisation level.
+fn flash_section(f: &crate::cmd::flash::FlashReport) -> String {
+    let mut out = String::from("<h2 id=\"flash\">A user's firmware on the part</h2>\n");
+    let _ = writeln!(
+        out,
+        "<p>Firmware of <code>targets/user-firmware</code> (<code>fixsight-verify flash</code>) \
+         for a Cortex-M4 with {} KiB of flash and {} KiB of RAM, run under QEMU: flash = vector \
+         table + .text + .rodata + .data, code over the image <code>none</code>, RAM = .data + \
+         .bss + the stack high-water mark.</p>",
+        f.part_flash_bytes / 1024,
+        f.part_ram_bytes / 1024
+    );
+    let rows: Vec<Vec<String>> = f
+        .images
+        .iter()
+        .map(|i| {
+            vec![
+                i.name.clone(),
+                i.opt_level.clone(),
+                i.flash_bytes.to_string(),
+                i.code_bytes_over_none.to_string(),
+                i.stack_bytes.to_string(),
+                i.ram_bytes.to_string(),
+                if i.exit_status == 0 {
+                    "ran".into()
+                } else {
+                    format!("exit {}", i.exit_status)
+                },
+            ]
+        })
+        .collect();
+    table(
+        &mut out,
+        &[
+            "image",
+            "opt-level",
+            "flash B",
+            "code B over none",
+            "stack B",
+            "RAM B",
+            "run",
+        ],
+        &rows,
+    );
+    out
+}
+
 /// The accuracy/cost map of `frontier.json`: its verdict, its plot
 /// (drawn again from the figures) and one row per configuration.
 fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
@@ -487,6 +534,7 @@ fn frontier_section(f: &crate::frontier::Frontier) -> Result<String> {
     Ok(out)
 }
 
+/// The whole HTML document.
 pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     let mut out = String::new();
     out.push_str(
@@ -566,6 +614,9 @@ pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     if let Some(f) = &r.frontier {
         out.push_str(&frontier_section(f)?);
     }
+    if let Some(f) = &r.flash {
+        out.push_str(&flash_section(f));
+    }
     out.push_str("<h2>Per kernel</h2>\n");
     for k in &r.kernels {
         out.push_str(&kernel_section(k, r, scenes)?);
@@ -584,4 +635,43 @@ pub fn render(r: &Report, scenes: &[Scene]) -> Result<String> {
     }
     out.push_str("</div>\n</body></html>\n");
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cmd::flash::{FlashImage, FlashReport, Sections};
+
+    /// The flash section names every image and level, and says which
+    /// image did not run.
+    #[test]
+    fn flash_section_lists_every_image() {
+        let img = |name: &str, level: &str, status| FlashImage {
+            name: name.into(),
+            opt_level: level.into(),
+            sections: Sections::default(),
+            flash_bytes: 1234,
+            code_bytes_over_none: 56,
+            stack_bytes: 78,
+            ram_bytes: 910,
+            console: String::new(),
+            exit_status: status,
+        };
+        let f = FlashReport {
+            schema: 1,
+            part_flash_bytes: 256 * 1024,
+            part_ram_bytes: 64 * 1024,
+            images: vec![img("none", "3", 0), img("point_job", "s", 1)],
+        };
+        let h = flash_section(&f);
+        assert!(h.contains("256 KiB of flash and 64 KiB of RAM"));
+        assert!(
+            h.contains("<td>point_job</td><td>s</td><td>1234</td>"),
+            "{h}"
+        );
+        assert!(
+            h.contains("<td>exit 1</td>") && h.contains("<td>ran</td>"),
+            "{h}"
+        );
+    }
 }

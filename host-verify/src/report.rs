@@ -19,7 +19,9 @@
 //!                  "ops_per_px": { "total", "weighted", "add_sub", "mul", "mac", "shift",
 //!                                  "logic", "load", "store", "branch", "table", "div" },
 //!                  "metrics": { name: number }, "pass", "notes"?: [str] } ],
-//!   "targets"?: <contents of targets.json> }
+//!   "targets"?: <contents of targets.json>,
+//!   "frontier"?: <contents of frontier.json>,
+//!   "flash"?: <contents of flash.json> }
 //! ```
 
 use crate::contract::KernelReport;
@@ -112,6 +114,10 @@ pub struct Report {
     /// frontier`) was found in the report folder.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub frontier: Option<crate::frontier::Frontier>,
+    /// A user's firmware on a 64 KiB part, when `flash.json`
+    /// (`fixsight-verify flash`) was found in the report folder.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub flash: Option<crate::cmd::flash::FlashReport>,
 }
 
 /// The JSON file at `path` when it exists (a link counts as existing and
@@ -206,6 +212,10 @@ pub fn run(
         &out_dir.join(crate::cmd::frontier::OUTPUTS[1]),
         "is not a map written by `fixsight-verify frontier`",
     )?;
+    let flash = json_if_present(
+        &out_dir.join(crate::cmd::flash::FLASH_JSON),
+        "is not a file written by `fixsight-verify flash`",
+    )?;
     let targets_ok = targets
         .as_ref()
         .and_then(|t: &serde_json::Value| t["targets"].as_array().cloned())
@@ -224,6 +234,7 @@ pub fn run(
         kernels,
         targets,
         frontier,
+        flash,
     };
     outputs.write(
         "report.json",

@@ -188,6 +188,7 @@ fn the_report_names_its_lens() {
         kernels: Vec::new(),
         targets: None,
         frontier: None,
+        flash: None,
     };
     let r = report(&lens);
     let line = format!("lens: lens file `named.lens` (SHA-256 {digest})");
