@@ -2729,7 +2729,9 @@ fn fused_row<const R: usize, const S: usize, const CAP: usize, T: TapSet>(
 pub mod image_job;
 mod point_job;
 pub use image_job::{DemoImageJobQvga, DemoImageJobVga, ImageJobConfig};
-pub use point_job::{centre_line, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME};
+pub use point_job::{
+    centre_line, check_frames, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME,
+};
 
 /// The whole job in point mode: camera rows in; at the end of the frame
 /// edge points corrected through the lens grid, line votes, peaks, the

@@ -139,6 +139,51 @@ pub struct JobReport {
 /// tape edges.
 pub const EDGES_PER_FRAME: usize = 2;
 
+/// The frame rule of a job in point mode: a correction grid maps the
+/// raw frame (`raw`, its output) to the vote frame (`vote.width x
+/// vote.height`, its source); without a grid the two frames are one.
+///
+/// Errors: [`Error::SizeMismatch`] naming the pair that differs.
+///
+/// ```
+/// use fixsight::lines::VoteParams;
+/// use fixsight::pipeline::check_frames;
+/// let vote = VoteParams::DEMO_QVGA; // 320 x 240
+/// assert!(check_frames(None, (320, 240), &vote).is_ok());
+/// assert!(check_frames(None, (640, 480), &vote).is_err());
+/// ```
+pub fn check_frames(
+    grid: Option<&ControlGrid<'_>>,
+    raw: (usize, usize),
+    vote: &VoteParams,
+) -> Result<()> {
+    let want = (vote.width, vote.height);
+    let (what, expected, got) = match grid {
+        Some(g) => {
+            let geo = g.geometry();
+            let out = (geo.out_width(), geo.out_height());
+            if out != raw {
+                ("correction grid output vs raw frame", raw, out)
+            } else {
+                (
+                    "correction grid source vs vote frame",
+                    want,
+                    (geo.src_width(), geo.src_height()),
+                )
+            }
+        }
+        None => ("vote frame vs raw frame (no correction grid)", raw, want),
+    };
+    if expected != got {
+        return Err(Error::SizeMismatch {
+            what,
+            expected,
+            got,
+        });
+    }
+    Ok(())
+}
+
 /// A line of the vote frame (origin at pixel `(W >> 1, H >> 1)`, the rule
 /// of [`crate::lines`]) moved to the image-centre origin `((W - 1) / 2,
 /// (H - 1) / 2)` of [`crate::marking`] and [`crate::track`]: with `dx =
@@ -540,32 +585,11 @@ impl<
     }
 
     fn check_grid(&self, grid: Option<&ControlGrid<'_>>) -> Result<()> {
-        let raw = (self.stream.width, self.stream.height);
-        let vote = (self.cfg.vote.width, self.cfg.vote.height);
-        let (what, expected, got) = match grid {
-            Some(g) => {
-                let geo = g.geometry();
-                let out = (geo.out_width(), geo.out_height());
-                if out != raw {
-                    ("correction grid output vs raw frame", raw, out)
-                } else {
-                    (
-                        "correction grid source vs vote frame",
-                        vote,
-                        (geo.src_width(), geo.src_height()),
-                    )
-                }
-            }
-            None => ("vote frame vs raw frame (no correction grid)", raw, vote),
-        };
-        if expected != got {
-            return Err(Error::SizeMismatch {
-                what,
-                expected,
-                got,
-            });
-        }
-        Ok(())
+        check_frames(
+            grid,
+            (self.stream.width, self.stream.height),
+            &self.cfg.vote,
+        )
     }
 
     fn end(&mut self, grid: Option<&ControlGrid<'_>>, short: bool) -> Result<JobReport> {

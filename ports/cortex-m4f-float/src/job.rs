@@ -18,7 +18,9 @@
 use crate::edges::{F32Config, F32EdgeStream, F32FrameReport};
 use fixsight::lines::{correct_point, Peak, VoteStore};
 use fixsight::marking::{self, Candidate, Marking};
-use fixsight::pipeline::{centre_line, tape_detections, PointJobConfig, EDGES_PER_FRAME};
+use fixsight::pipeline::{
+    centre_line, check_frames, tape_detections, PointJobConfig, EDGES_PER_FRAME,
+};
 use fixsight::track::{self, Tracker};
 use fixsight::warp::ControlGrid;
 use fixsight::Error;
@@ -263,35 +265,11 @@ impl<
     }
 
     /// The grid's output must be the raw frame and its source the vote
-    /// frame; without a grid the two frames are one (the rule of
-    /// `fixsight::pipeline::PointJob`).
+    /// frame; without a grid the two frames are one
+    /// ([`fixsight::pipeline::check_frames`]).
     fn check_grid(&self, grid: Option<&ControlGrid<'_>>) -> Result<(), Error> {
         let raw = (self.stream.width(), self.stream.height());
-        let vote = (self.cfg.vote.width, self.cfg.vote.height);
-        let (what, expected, got) = match grid {
-            Some(g) => {
-                let geo = g.geometry();
-                let out = (geo.out_width(), geo.out_height());
-                if out != raw {
-                    ("correction grid output vs raw frame", raw, out)
-                } else {
-                    (
-                        "correction grid source vs vote frame",
-                        vote,
-                        (geo.src_width(), geo.src_height()),
-                    )
-                }
-            }
-            None => ("vote frame vs raw frame (no correction grid)", raw, vote),
-        };
-        if expected != got {
-            return Err(Error::SizeMismatch {
-                what,
-                expected,
-                got,
-            });
-        }
-        Ok(())
+        check_frames(grid, raw, &self.cfg.vote)
     }
 
     /// The peaks of the last finished frame.
