@@ -196,12 +196,12 @@ typedef struct fxs_u16_view_mut {
 #define FXS_LINES_ACCUMULATOR_SIZE_64 176
 #define FXS_TRACKER_SIZE_32 416
 #define FXS_TRACKER_SIZE_64 416
-#define FXS_EDGE_STREAM_SIZE_32 45968
-#define FXS_EDGE_STREAM_SIZE_64 46008
+#define FXS_EDGE_STREAM_SIZE_32 45976
+#define FXS_EDGE_STREAM_SIZE_64 46016
 #define FXS_POINT_JOB_SIZE_32 52264
-#define FXS_POINT_JOB_SIZE_64 52352
+#define FXS_POINT_JOB_SIZE_64 52360
 #define FXS_IMAGE_JOB_SIZE_32 52384
-#define FXS_IMAGE_JOB_SIZE_64 52592
+#define FXS_IMAGE_JOB_SIZE_64 52600
 #if UINTPTR_MAX > 0xFFFFFFFFu
 #define FXS_FILTER_SIZE FXS_FILTER_SIZE_64
 #define FXS_FILTER_STREAM_SIZE FXS_FILTER_STREAM_SIZE_64
@@ -1044,6 +1044,11 @@ fxs_status fxs_edge_stream_edge_row(const fxs_edge_stream *stream, int32_t y, ui
 #define FXS_POINT_JOB_RHO_BINS 255    /* vote cells: theta_bins * rho_bins <= 32 * 255 */
 #define FXS_POINT_JOB_PEAKS 8         /* peaks (lines) kept per frame */
 #define FXS_POINT_JOB_TRACKS 4        /* track slots */
+/* With gated votes and automatic thresholds, FXS_POINT_JOB_GATE_BYTES is
+ * also the edge stage's candidate budget: a frame with more candidates
+ * raises the low threshold carried to the next frame to the smallest
+ * histogram bin edge with at most that many magnitudes at or above it
+ * (Thresholds::within_budget, kernels/src/hysteresis.rs, step 5). */
 
 /* The whole job, held by value (FXS_POINT_JOB_SIZE bytes, aligned to
  * FXS_OBJECT_ALIGN; a static is the usual place), borrows nothing between

@@ -64,7 +64,7 @@ pub(crate) struct ImageJobObj {
 crate::boundary::object_storage!(
     /// `fxs_image_job`: storage for the whole job in image mode.
     FxsImageJob for ImageJobObj, tag 0x4658_5033,
-    FXS_IMAGE_JOB_SIZE = (FXS_IMAGE_JOB_SIZE_32: 52384, FXS_IMAGE_JOB_SIZE_64: 52592)
+    FXS_IMAGE_JOB_SIZE = (FXS_IMAGE_JOB_SIZE_32: 52384, FXS_IMAGE_JOB_SIZE_64: 52600)
 );
 crate::boundary::zero_valid!(ImageJobObj);
 

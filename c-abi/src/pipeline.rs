@@ -45,7 +45,7 @@ pub(crate) type StreamObj = EdgeStream<
 crate::boundary::object_storage!(
     /// `fxs_edge_stream`: storage for an edge stream.
     FxsEdgeStream for StreamObj, tag 0x4658_5031,
-    FXS_EDGE_STREAM_SIZE = (FXS_EDGE_STREAM_SIZE_32: 45968, FXS_EDGE_STREAM_SIZE_64: 46008)
+    FXS_EDGE_STREAM_SIZE = (FXS_EDGE_STREAM_SIZE_32: 45976, FXS_EDGE_STREAM_SIZE_64: 46016)
 );
 crate::boundary::zero_valid!(StreamObj);
 

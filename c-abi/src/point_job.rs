@@ -82,7 +82,7 @@ pub(crate) type JobObj = PointJob<
 crate::boundary::object_storage!(
     /// `fxs_point_job`: storage for the whole job in point mode.
     FxsPointJob for JobObj, tag 0x4658_5032,
-    FXS_POINT_JOB_SIZE = (FXS_POINT_JOB_SIZE_32: 52264, FXS_POINT_JOB_SIZE_64: 52352)
+    FXS_POINT_JOB_SIZE = (FXS_POINT_JOB_SIZE_32: 52264, FXS_POINT_JOB_SIZE_64: 52360)
 );
 crate::boundary::zero_valid!(JobObj);
 

@@ -32,7 +32,28 @@
 //! 4. `low = max(1, (high * f + 32768) >> 16)` where `f` is the low fraction
 //!    as `U0F16` bits (round half up, `u32` arithmetic, no overflow).
 //!
-//! With `n = 0` it returns `low = high = 65535`. The demo defaults
+//! With `n = 0` it returns `low = high = 65535`.
+//!
+//! **Candidate budget** ([`Thresholds::within_budget`]), an optional fifth
+//! step for a stage that keeps something per candidate (a magnitude at or
+//! above `low`) in a store of `B` entries. Let `c(b)` be the sum of the
+//! histogram's bins `b ..= bins - 1`, so that `c(b)` counts exactly the
+//! magnitudes `>= b << shift` (for `b <= bins - 1`; the last bin also
+//! holds everything above it), and `b0 = low >> shift`, the bin of `low`:
+//!
+//! 5. if `c(b0) <= B`, nothing changes. Otherwise `b'` = the smallest bin
+//!    index above `b0` with `c(b') <= B` (`bins` when there is none, where
+//!    `c(bins) = 0`); `low = min(b' << shift, 65535)`, `high = max(high,
+//!    low)`.
+//!
+//! On the counted frame at most `B` magnitudes lie at or above the new
+//! `low` (unless it was clipped at 65535, or `b' = bins` and the last bin
+//! holds values above its range). The test is on `c(b0)`, an upper bound
+//! of the count at or above `low`, so the step can raise `low` by less
+//! than a bin when the exact count was already within `B`. The step
+//! follows from the size of the store; nothing in it is tuned.
+//!
+//! The demo defaults
 //! [`DEMO_HIGH_PERMILLE`] and [`DEMO_LOW_FRACTION`] give a high:low ratio of
 //! about 2.08:1, inside the 2:1 to 3:1 range Canny recommends (Canny 1986,
 //! "A Computational Approach to Edge Detection", IEEE PAMI 8(6)).
@@ -299,6 +320,65 @@ impl Thresholds {
             tally_per(Op::Branch, 2, w);
         }
         Self::from_counts(hist, shift, high_permille, low_fraction)
+    }
+
+    /// Step 5 of the automatic rule (module docs): the pair, raised when
+    /// needed so that at most `budget` of the magnitudes counted in `hist`
+    /// (bins as [`Thresholds::from_counts`], width `1 << shift`) lie at or
+    /// above `low`. The first pair returned by [`Thresholds::from_counts`]
+    /// or [`Thresholds::new`] goes in; `high` only moves when `low` passes
+    /// it.
+    ///
+    /// Errors: as [`Thresholds::from_counts`] for `hist` and `shift` (an
+    /// empty histogram, `shift > 15`).
+    ///
+    /// ```
+    /// use fixsight::hysteresis::Thresholds;
+    /// // 100 magnitudes in each of the bins 2..=9 of width 4 (values 8..=39).
+    /// let mut hist = [0u32; 10];
+    /// for b in 2..10 { hist[b] = 100; }
+    /// let t = Thresholds::new(12, 30)?;               // low in bin 3: 700 at or above
+    /// assert_eq!(t.within_budget(&hist, 2, 700)?, t);  // fits: unchanged
+    /// let r = t.within_budget(&hist, 2, 450)?;         // bins 6..=9 hold 400
+    /// assert_eq!((r.low(), r.high()), (24, 30));
+    /// let r = t.within_budget(&hist, 2, 150)?;         // bin 9 alone: 100
+    /// assert_eq!((r.low(), r.high()), (36, 36));       // high follows low
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn within_budget(self, hist: &[u32], shift: u32, budget: u32) -> Result<Self> {
+        check_rule(hist.len(), shift, 1, U0F16::from_bits(1))?;
+        let b0 = (self.low >> shift) as usize;
+        let Some(upper) = hist.get(b0..) else {
+            // `low` lies past the last bin: nothing is counted there.
+            return Ok(self);
+        };
+        let above: u64 = upper.iter().map(|&c| c as u64).sum();
+        tally_per(Op::Load, 1, upper.len());
+        tally_per(Op::AddSub, 1, upper.len());
+        if above <= budget as u64 {
+            return Ok(self);
+        }
+        // Down from the top while the bins above still fit.
+        let (mut b, mut cum) = (hist.len(), 0u64);
+        while b > b0 + 1 {
+            let next = cum + hist[b - 1] as u64;
+            tally(Op::Load, 1);
+            tally(Op::AddSub, 2);
+            tally(Op::Logic, 2);
+            tally(Op::Branch, 2);
+            if next > budget as u64 {
+                break;
+            }
+            cum = next;
+            b -= 1;
+        }
+        let low = ((b as u64) << shift).min(u16::MAX as u64) as u16;
+        tally(Op::Shift, 1);
+        tally(Op::Logic, 2);
+        Ok(Self {
+            low,
+            high: self.high.max(low),
+        })
     }
 
     /// Steps 2 to 4 of the automatic rule (module docs) on a histogram
@@ -900,6 +980,34 @@ mod tests {
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// Step 5 against counting the magnitudes themselves: the raised
+        /// `low` is a bin edge with at most `budget` magnitudes at or above
+        /// it, and the next lower bin edge above `low`'s bin has more.
+        #[test]
+        fn budget_step_is_the_lowest_bin_edge_that_fits(
+            mags in proptest::collection::vec(1u16..400, 0..300),
+            shift in 0u32..4, budget in 0u32..200, low in 1u16..300, extra in 0u16..100
+        ) {
+            let bins = (399 >> shift) + 1;
+            let mut hist = vec![0u32; bins];
+            for &m in &mags {
+                hist[(m >> shift) as usize] += 1;
+            }
+            let at_or_above = |t: u32| mags.iter().filter(|&&m| m as u32 >= t).count() as u32;
+            let t = Thresholds::new(low, low + extra).unwrap();
+            let r = t.within_budget(&hist, shift, budget).unwrap();
+            let edge0 = (low as u32 >> shift) << shift;
+            if at_or_above(edge0) <= budget {
+                prop_assert_eq!(r, t);
+            } else {
+                let (lo, step) = (r.low() as u32, 1u32 << shift);
+                prop_assert_eq!(lo % step, 0);
+                prop_assert!(lo > low as u32 && at_or_above(lo) <= budget);
+                prop_assert!(lo - step == edge0 || at_or_above(lo - step) > budget);
+                prop_assert_eq!(r.high(), t.high().max(r.low()));
+            }
+        }
 
         #[test]
         fn result_is_the_component_rule_for_any_stack(

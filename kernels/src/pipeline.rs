@@ -47,7 +47,10 @@
 //! ([`EdgeConfig::max_magnitude`]), so no magnitude falls past the last bin
 //! and the derived `high` is never capped by the histogram;
 //! [`FrameReport::threshold_at_limit`] reports the one remaining limit (no
-//! nonzero magnitude, or `high` clipped to 65535).
+//! nonzero magnitude, or `high` clipped to 65535). With a candidate budget
+//! ([`EdgeStream::set_candidate_budget`]) the carried pair also goes
+//! through [`crate::hysteresis::Thresholds::within_budget`] on the same
+//! histogram.
 //!
 //! # Memory (counted from the types)
 //!
@@ -129,6 +132,8 @@
 //! }
 //! # Ok::<(), fixsight::Error>(())
 //! ```
+
+use core::num::NonZeroU32;
 
 use crate::error::{Error, Result};
 use crate::filter::{self, Border, SeparableFilter, Taps, MAX_TAPS};
@@ -1083,6 +1088,8 @@ pub struct EdgeStream<const W: usize, const MAP_WORDS: usize, const BINS: usize,
     carried: Thresholds,
     candidates: u32,
     stored: usize,
+    /// Candidate budget of the automatic rule (`None`: no step 5).
+    budget: Option<NonZeroU32>,
     /// Rows of the finished frame.
     done_height: usize,
     report: FrameReport,
@@ -1129,6 +1136,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             carried: Thresholds::UNSET,
             candidates: 0,
             stored: 0,
+            budget: None,
             done_height: 0,
             report: NO_FRAME,
             rows: [[0; W]; RING_ROWS],
@@ -1176,6 +1184,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             carried,
             candidates,
             stored,
+            budget,
             done_height,
             report,
             rows,
@@ -1203,6 +1212,7 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             *n = 0;
         }
         (*shift, *candidates) = (0, 0);
+        *budget = None;
         deriv.fill(0);
         cross.fill(0);
         rows.as_flattened_mut().fill(0);
@@ -1355,6 +1365,41 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
             Phase::Streaming if self.pushed > 0 => self.thresholds,
             _ => self.carried,
         }
+    }
+
+    /// Sets the candidate budget of the automatic thresholds (step 5 of
+    /// the rule in [`crate::hysteresis`], [`Thresholds::within_budget`]):
+    /// from the end of the frame in progress on, the pair carried to the
+    /// next frame is raised when needed so that the finished frame would
+    /// have had at most `budget` candidates. `None` (the state after
+    /// [`EdgeStream::new`] and [`EdgeStream::clear`]) leaves the rule's
+    /// pair as it is. [`EdgeStream::configure`] and
+    /// [`EdgeStream::reset`] keep the budget; fixed thresholds ignore it.
+    ///
+    /// For a caller that keeps something per candidate in a store of a
+    /// fixed size: [`PointJob`] sets its gate-byte count `CAP` here. The
+    /// budget binds on the **next** frame, so a frame with more
+    /// candidates than the one before can still overflow.
+    ///
+    /// ```
+    /// use core::num::NonZeroU32;
+    /// use fixsight::pipeline::{EdgeStream, DEMO, map_words};
+    /// // A 32 x 32 checkerboard of 4-pixel squares: many candidates.
+    /// let img: [u8; 1024] = core::array::from_fn(|i| if (i % 32 / 4 + i / 128) % 2 == 0 { 40 } else { 200 });
+    /// let mut s = EdgeStream::<32, { map_words(32, 32) }, 925, 0>::new();
+    /// s.configure(&DEMO, 32, 32)?;
+    /// s.set_candidate_budget(NonZeroU32::new(40));
+    /// let mut counts = [0; 2];
+    /// for n in &mut counts {
+    ///     for r in img.chunks_exact(32) { s.push_row(r)?; }
+    ///     *n = s.finish()?.candidates;
+    /// }
+    /// // The second frame ran on the pair the first raised.
+    /// assert!(counts[0] > 40 && counts[1] <= 40);
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn set_candidate_budget(&mut self, budget: Option<NonZeroU32>) {
+        self.budget = budget;
     }
 
     /// Checks that one more row may come.
@@ -1841,6 +1886,12 @@ impl<const W: usize, const MAP_WORDS: usize, const BINS: usize, const CAP: usize
                 high_permille,
                 U0F16::from_bits(low_ratio_u0f16),
             ) {
+                let t = match self.budget {
+                    Some(b) => t
+                        .within_budget(&self.hist[..self.bins], shift as u32, b.get())
+                        .unwrap_or(t),
+                    None => t,
+                };
                 at_limit = t.high() == u16::MAX;
                 next = t;
             }
@@ -2762,7 +2813,9 @@ pub use point_job::{
 /// one after another on the whole frame (a property test checks it on
 /// random frames):
 ///
-/// 1. the edge stage: the edge map and each point's `gx, gy` (module docs);
+/// 1. the edge stage: the edge map and each point's `gx, gy` (module docs),
+///    with the candidate budget `CAP` when the votes are gated and `CAP >
+///    0` ([`EdgeStream::set_candidate_budget`], below);
 /// 2. [`crate::lines::Accumulator::vote_row_corrected`] on every row of the
 ///    edge map with those gradients, through the correction grid (or
 ///    [`crate::lines::Accumulator::vote_row`] without a grid), on an
@@ -2791,6 +2844,17 @@ pub use point_job::{
 /// candidate came past the `CAP`-th casts no vote and is counted
 /// ([`JobReport::ungated`]); only then does the job differ from the
 /// composition above. Without a gate, nothing is kept and `CAP` may be 0.
+///
+/// So that the gate bytes suffice, a gated job gives its edge stage the
+/// candidate budget `CAP`: with automatic thresholds, a frame that had
+/// more than `CAP` candidates raises the `low` carried to the next frame
+/// to the smallest histogram bin edge with at most `CAP` magnitudes at or
+/// above it ([`crate::hysteresis::Thresholds::within_budget`]). Textured
+/// floors (grass, gravel, brick in the natural test images) then keep the
+/// strongest `CAP` candidates spread over the whole frame, instead of the
+/// first `CAP` in raster order and no votes from the bottom rows. A frame
+/// with many more candidates than the one before it can still overflow,
+/// and so can the first frame, which uses the rule's `first` pair.
 ///
 /// # Frames
 ///

@@ -67,6 +67,13 @@
 //!   `grid_bytes`: the correction grid's table.
 //! * `ungated_points_max`: edge points past the gate-byte capacity in the
 //!   worst frame; `candidates_max`.
+//! * `still_candidates.<scene>`, `still_ungated.<scene>`,
+//!   `still_ungated_first.<scene>`: the job without a grid on two frames
+//!   of the same 320 x 240 scene, the demo scenes and the natural
+//!   photographs ([`textured_frames`]): the second frame's candidates and
+//!   ungated points (the row fails if it has any: its thresholds were
+//!   raised to fit the gate bytes on that very image), and the first
+//!   frame's ungated points (on the rule's first pair, nothing raised).
 
 use crate::chain::reference::{gradients_f64, reference_of_chain};
 use crate::contract::{Contract, KernelFamily, KernelReport};
@@ -79,6 +86,7 @@ use crate::lines::{
 use crate::marking::reference::select_f64;
 use crate::metrics::ErrorStats;
 use crate::opcount::{measure, OpsPerPx};
+use crate::scene::Scene;
 use crate::sequence::{FrameTruth, Sequence, SequenceSpec, TruthLine, DEMO_SEQUENCE};
 use crate::track::reference::RefTracker;
 use fixsight::lines::{Accumulator, EdgeRow, Peak, VoteParams};
@@ -90,6 +98,7 @@ use fixsight::pipeline::{
 use fixsight::track::{track_words, Detection, Tracker, TRACK_WORDS};
 use fixsight::warp::ControlGrid;
 use std::f64::consts::PI;
+use std::num::NonZeroU32;
 
 /// The kernel id: the job type [`fixsight::pipeline::PointJob`].
 pub const JOB_KERNEL: &str = "pipeline.point_job";
@@ -245,6 +254,8 @@ pub fn composed_differences(
     let (w, h) = (cfg.vote.width, cfg.vote.height);
     let mut stage: Box<CapStage> = Box::default();
     stage.configure(&cfg.edges, w, h).map_err(e)?;
+    // The job's candidate budget: its gate bytes (`PointJob::configure`).
+    stage.set_candidate_budget(cfg.vote.gate.and(NonZeroU32::new(DEMO_CAP as u32)));
     let mut tracker = Tracker::<DEMO_TRACKS, EDGES_PER_FRAME>::new(cfg.track).map_err(e)?;
     let p = cfg.vote;
     let mut cells = vec![0u16; p.cells()];
@@ -868,13 +879,64 @@ pub fn compare_runs(
 }
 
 /// The report row on the demo sequence seen through `lens`.
-pub fn check_job(lens: &LensInUse) -> KernelReport {
+pub fn check_job(lens: &LensInUse, scenes: &[Scene]) -> KernelReport {
     let mut row = row_or_failure(
         JOB_KERNEL,
         demo_sequence_through(lens).and_then(|seq| job_row(&seq)),
     );
     row.notes.push(lens_note(lens));
+    textured_frames(&mut row, scenes);
     row
+}
+
+/// The candidate budget on still scenes (module docs, *Metrics*): the
+/// demo job, no grid, two frames of each 320 x 240 scene. On the second
+/// frame the automatic thresholds come from the same image, so the budget
+/// step guarantees at most `DEMO_CAP` candidates: an ungated point there
+/// fails the row. Scenes of another size are named in a note.
+pub fn textured_frames(row: &mut KernelReport, scenes: &[Scene]) {
+    let cfg = PointJobConfig::DEMO_QVGA;
+    let mut job: Box<DemoPointJobQvga> = Box::default();
+    for s in scenes {
+        if (s.width, s.height) != (cfg.vote.width, cfg.vote.height) {
+            row.notes.push(format!(
+                "{}: {} x {}, not a frame of the demo job; no still-frame check",
+                s.name, s.width, s.height
+            ));
+            continue;
+        }
+        let mut two = || -> Result<[JobReport; 2], String> {
+            job.configure(&cfg, s.width, s.height).map_err(e)?;
+            let mut once = || -> Result<JobReport, String> {
+                for r in s.gray.chunks_exact(s.width) {
+                    job.push_row(r).map_err(e)?;
+                }
+                job.finish(None).map_err(e)
+            };
+            Ok([once()?, once()?])
+        };
+        match two() {
+            Ok([first, second]) => {
+                let m = &mut row.metrics;
+                m.insert(
+                    format!("still_candidates.{}", s.name),
+                    second.edges.candidates as f64,
+                );
+                m.insert(format!("still_ungated.{}", s.name), second.ungated as f64);
+                m.insert(
+                    format!("still_ungated_first.{}", s.name),
+                    first.ungated as f64,
+                );
+                if second.ungated > 0 {
+                    row.fail(format!(
+                        "{}: {} ungated points on the second of two equal frames ({} candidates, {} gate bytes)",
+                        s.name, second.ungated, second.edges.candidates, DEMO_CAP
+                    ));
+                }
+            }
+            Err(why) => row.fail(format!("{}: still frames failed: {why}", s.name)),
+        }
+    }
 }
 
 /// The row, or a failed row of `kernel` saying why there is none.

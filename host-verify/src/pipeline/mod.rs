@@ -655,7 +655,7 @@ pub fn check(scenes: &[Scene], lens: &LensInUse) -> Vec<KernelReport> {
     for p in pr {
         row.fail(p);
     }
-    vec![row, job::check_job(lens), image::check_image(lens)]
+    vec![row, job::check_job(lens, scenes), image::check_image(lens)]
 }
 
 /// Recomputes a pipeline vector.

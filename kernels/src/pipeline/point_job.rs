@@ -1,6 +1,8 @@
 //! The whole job in point mode ([`PointJob`]): its configuration, its
 //! frame report and its rules. The rules are documented on [`PointJob`].
 
+use core::num::NonZeroU32;
+
 use super::{EdgeStream, FrameReport, PointJob, Stepped, DEMO};
 use crate::arith::round_shift;
 use crate::error::{Error, Result};
@@ -415,6 +417,12 @@ impl<
         }
         let tracker = Tracker::<N, EDGES_PER_FRAME>::new(cfg.track)?;
         self.stream.configure(&cfg.edges, width, height)?;
+        // The gate bytes' count is the stage's candidate budget (the
+        // type's docs, *Point gradients in one byte*).
+        self.stream.set_candidate_budget(match cfg.vote.gate {
+            Some(_) => NonZeroU32::new(u32::try_from(CAP).unwrap_or(u32::MAX)),
+            None => None,
+        });
         self.cfg = *cfg;
         self.configured = true;
         self.tracker = Some(tracker);
@@ -963,6 +971,10 @@ pub(in crate::pipeline) mod tests {
             job.configure(&cfg, TW, TH).unwrap();
             let mut stage: Box<Stage> = Box::default();
             stage.configure(&cfg.edges, TW, TH).unwrap();
+            // The job's budget rule (`PointJob::configure`).
+            stage.set_candidate_budget(
+                cfg.vote.gate.and(core::num::NonZeroU32::new(TCAP as u32)),
+            );
             let mut tracker = Tracker::<4, EDGES_PER_FRAME>::new(cfg.track).unwrap();
             for (f, &sd) in seeds.iter().enumerate() {
                 let img = frame(sd, TW, TH);
@@ -1082,6 +1094,7 @@ pub(in crate::pipeline) mod tests {
                 d(&s.candidates),
                 d(&fresh.stream.candidates),
             ),
+            ("stream.budget", d(&s.budget), d(&fresh.stream.budget)),
             (
                 "stream.done_height",
                 d(&s.done_height),
@@ -1105,6 +1118,60 @@ pub(in crate::pipeline) mod tests {
         // And it works as a new job.
         job.configure(&cfg, TW, TH).unwrap();
         assert_eq!(job.push_row(&[0; TW]).unwrap(), 1);
+    }
+
+    /// A 320 x 240 floor of uniform noise (+-`amp` grey levels about 80)
+    /// with a tape of +100 drawn in perspective: both edges run through
+    /// the vanishing point (160, 58), 18 px apart on the bottom row (the
+    /// demo marking's near row and nominal width), from a seed.
+    fn noisy_tape(seed: u64, amp: u32) -> Vec<u8> {
+        let mut s = seed | 1;
+        (0..320usize * 240)
+            .map(|i| {
+                s = s
+                    .wrapping_mul(6364136223846793005)
+                    .wrapping_add(1442695040888963407);
+                let noise = ((s >> 33) as u32 % (2 * amp + 1)) as i32 - amp as i32;
+                let (x, y) = ((i % 320) as i32, (i / 320) as i32);
+                // Columns scaled by 181 (rows from the vanishing point).
+                let d = y - 58;
+                let (left, right) = (160 * 181 + 6 * d, 160 * 181 + 24 * d);
+                let tape = if d > 0 && (left..right).contains(&(x * 181)) {
+                    100
+                } else {
+                    0
+                };
+                (80 + tape + noise) as u8
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_textured_floor_keeps_every_vote_from_the_second_frame() {
+        // Without the candidate budget the automatic pair lets more noise
+        // maxima through than the job has gate bytes: the bottom rows cast
+        // no vote and no tape is tracked.
+        let cfg = PointJobConfig::DEMO_QVGA;
+        let mut job: Box<crate::pipeline::DemoPointJobQvga> = Box::default();
+        job.configure(&cfg, 320, 240).unwrap();
+        let mut lone: Box<crate::pipeline::DemoQvga<0>> = Box::default();
+        lone.configure(&cfg.edges, 320, 240).unwrap();
+        let cap = crate::pipeline::DEMO_QVGA_CAP as u32;
+        for seed in 1..=3 {
+            for r in noisy_tape(seed, 8).chunks_exact(320) {
+                job.push_row(r).unwrap();
+                lone.push_row(r).unwrap();
+            }
+            let r = job.finish(None).unwrap();
+            let free = lone.finish().unwrap();
+            if seed == 1 {
+                continue; // the rule's first pair
+            }
+            assert!(free.candidates > cap, "no budget: {free:?}");
+            assert!(r.edges.candidates <= cap, "{r:?}");
+            assert_eq!(r.ungated, 0, "{r:?}");
+            assert!(r.marking.found().is_some(), "{r:?}");
+        }
     }
 
     #[test]
