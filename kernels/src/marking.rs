@@ -335,6 +335,25 @@ const fn bad(name: &'static str, expected: &'static str, got: i64) -> Error {
 }
 
 impl MarkingConfig {
+    /// Every limit zero, a brighter tape: the stored value of a job that
+    /// is not configured (not a valid configuration, never used). All
+    /// zero bytes.
+    pub(crate) const UNSET: MarkingConfig = MarkingConfig {
+        limits: MarkingLimits {
+            near_row_q4: 0,
+            far_row_q4: 0,
+            horizon_row_q4: 0,
+            max_tilt: 0,
+            near_x_min_q4: 0,
+            near_x_max_q4: 0,
+            near_sep_min_q4: 0,
+            near_sep_nominal_q4: 0,
+            near_sep_max_q4: 0,
+            converge_tol_q4: 0,
+            contrast: TapeContrast::Brighter,
+        },
+    };
+
     /// The demo camera's configuration: `fixsight_verify::marking::derive_limits`
     /// for the corrected view of the demo lens at 320 x 240 (focal length
     /// 107.1644 px), camera 0.45 m +- 0.02 m above the floor, pitched

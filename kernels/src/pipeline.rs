@@ -2923,9 +2923,13 @@ pub struct PointJob<
     peaks: [crate::lines::Peak; K],
     lines: [crate::marking::Candidate; K],
     found: usize,
-    tracker: Option<crate::track::Tracker<N, EDGES_PER_FRAME>>,
+    /// Meaningful once `configured` (before, all zero bytes).
+    tracker: crate::track::Tracker<N, EDGES_PER_FRAME>,
     frame: u32,
-    report: Option<JobReport>,
+    /// The last frame's report, meaningful when `reported` (before, all
+    /// zero bytes: no `Option`, whose empty value would not be).
+    report: JobReport,
+    reported: bool,
 }
 
 /// Gate bytes of [`DemoPointJobQvga`]: the demo sequence's frames have up

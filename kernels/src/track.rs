@@ -478,6 +478,30 @@ pub struct TrackConfig {
 }
 
 impl TrackConfig {
+    /// Every field zero: the stored value of a job that is not configured
+    /// (invalid as a configuration: `confirm_hits` is 0). All zero bytes.
+    pub(crate) const UNSET: TrackConfig = TrackConfig {
+        rho: AxisNoise {
+            meas_var: 0,
+            accel_index_q16: 0,
+            init_vel_var_q16: 0,
+        },
+        theta: AxisNoise {
+            meas_var: 0,
+            accel_index_q16: 0,
+            init_vel_var_q16: 0,
+        },
+        gate_q8: 0,
+        confirm_hits: 0,
+        max_missed: 0,
+        birth_weight: 0,
+        reference_q4: (0, 0),
+        warn_horizon: 0,
+        warn_min_hits: 0,
+        warn_raise_frames: 0,
+        warn_clear_frames: 0,
+    };
+
     /// Demo settings for a 320 x 240 corrected image with lines measured
     /// from the image centre, reference point at the bottom-centre pixel
     /// `(0, 119.5)` px:
@@ -630,6 +654,15 @@ pub struct AxisState {
 }
 
 impl AxisState {
+    /// Every field zero (the axes of an empty tracker slot).
+    pub(crate) const ZERO: AxisState = AxisState {
+        pos: 0,
+        vel: 0,
+        p_pos: 0,
+        p_cross: 0,
+        p_vel: 0,
+    };
+
     fn born(z_q8: i64, init_vel_var: u32) -> Self {
         AxisState {
             pos: z_q8 as i32,
@@ -954,13 +987,42 @@ pub struct FrameReport {
 #[derive(Debug, Clone)]
 pub struct Tracker<const N: usize, const M: usize> {
     cfg: TrackConfig,
-    slots: [Option<Track>; N],
+    /// A slot holds a track when its `hits` is nonzero (a track is born
+    /// with one hit and never loses one); an empty slot is [`NO_TRACK`],
+    /// all zero bytes, so that a tracker in a `static` takes no initial
+    /// image in flash.
+    slots: [Track; N],
     gates: [[u32; M]; N],
     last_frame: Option<u32>,
     next_id: u16,
 }
 
+/// An empty slot (module docs of [`Tracker`]): every field zero.
+const NO_TRACK: Track = Track {
+    id: 0,
+    rho: AxisState::ZERO,
+    theta: AxisState::ZERO,
+    hits: 0,
+    missed: 0,
+    confirmed: false,
+    side: 0,
+    frames_to_cross: None,
+    warn_streak: 0,
+    warning: None,
+};
+
 impl<const N: usize, const M: usize> Tracker<N, M> {
+    /// The value a job holds before it is configured: no track, every
+    /// configuration field zero (not a valid configuration; never used to
+    /// update). All zero bytes.
+    pub(crate) const UNSET: Self = Self {
+        cfg: TrackConfig::UNSET,
+        slots: [NO_TRACK; N],
+        gates: [[0; M]; N],
+        last_frame: None,
+        next_id: 0,
+    };
+
     /// A tracker with no tracks. Errors: a configuration field out of range,
     /// or `N`, `M` outside `1 ..= 255` ([`Error::BadParameter`]).
     ///
@@ -987,7 +1049,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         }
         Ok(Self {
             cfg,
-            slots: [None; N],
+            slots: [NO_TRACK; N],
             gates: [[0; M]; N],
             last_frame: None,
             next_id: 0,
@@ -1007,7 +1069,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn reset(&mut self) {
-        self.slots = [None; N];
+        self.slots = [NO_TRACK; N];
         self.last_frame = None;
         self.next_id = 0;
     }
@@ -1034,7 +1096,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn slot(&self, i: usize) -> Option<&Track> {
-        self.slots.get(i).and_then(Option::as_ref)
+        self.slots.get(i).filter(|t| t.hits > 0)
     }
 
     /// The live tracks in slot order.
@@ -1046,7 +1108,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn tracks(&self) -> impl Iterator<Item = &Track> {
-        self.slots.iter().flatten()
+        self.slots.iter().filter(|t| t.hits > 0)
     }
 
     /// The last frame number accepted.
@@ -1109,8 +1171,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         let mut rep = FrameReport::default();
 
         // Predict through skipped frames (misses) to this frame.
-        for slot in self.slots.iter_mut() {
-            let Some(t) = slot else { continue };
+        for t in self.slots.iter_mut().filter(|t| t.hits > 0) {
             let mut step = 0u32;
             loop {
                 t.predict(&cfg);
@@ -1120,7 +1181,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
                 }
                 t.missed = t.missed.saturating_add(1);
                 if dropped(t, &cfg) {
-                    *slot = None;
+                    *t = NO_TRACK;
                     rep.dropped += 1;
                     break;
                 }
@@ -1131,8 +1192,8 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         let mut in_any_gate = [false; M];
         for (slot, row) in self.slots.iter().zip(self.gates.iter_mut()) {
             for (j, g) in row.iter_mut().enumerate() {
-                *g = match (slot, detections.get(j)) {
-                    (Some(t), Some(d)) => t.gate_q8(d, &cfg),
+                *g = match detections.get(j) {
+                    Some(d) if slot.hits > 0 => slot.gate_q8(d, &cfg),
                     _ => u32::MAX,
                 };
                 if *g <= cfg.gate_q8 {
@@ -1163,7 +1224,10 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
             let Some((_, i, j)) = best else { break };
             track_taken[i] = true;
             det_taken[j] = true;
-            if let (Some(Some(t)), Some(d)) = (self.slots.get_mut(i), detections.get(j)) {
+            if let (Some(t), Some(d)) = (self.slots.get_mut(i), detections.get(j)) {
+                if t.hits == 0 {
+                    continue; // an empty slot's gate is u32::MAX
+                }
                 t.update(d);
                 if t.hits >= cfg.confirm_hits as u16 {
                     t.confirmed = true;
@@ -1173,12 +1237,11 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         }
 
         // Misses of this frame.
-        for (slot, &taken) in self.slots.iter_mut().zip(track_taken.iter()) {
-            let Some(t) = slot else { continue };
-            if !taken {
+        for (t, &taken) in self.slots.iter_mut().zip(track_taken.iter()) {
+            if t.hits > 0 && !taken {
                 t.missed = t.missed.saturating_add(1);
                 if dropped(t, &cfg) {
-                    *slot = None;
+                    *t = NO_TRACK;
                     rep.dropped += 1;
                 }
             }
@@ -1198,7 +1261,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
             }
             let Some((_, j)) = best else { break };
             used[j] = true;
-            let Some(free) = self.slots.iter_mut().find(|s| s.is_none()) else {
+            let Some(free) = self.slots.iter_mut().find(|s| s.hits == 0) else {
                 break;
             };
             let Some(d) = detections.get(j) else { break };
@@ -1218,13 +1281,15 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
                 t.side = -1;
             }
             self.next_id = self.next_id.wrapping_add(1);
-            *free = Some(t);
+            *free = t;
             rep.born += 1;
         }
 
         // Drift warnings.
-        for (i, slot) in self.slots.iter_mut().enumerate() {
-            let Some(t) = slot else { continue };
+        for (i, t) in self.slots.iter_mut().enumerate() {
+            if t.hits == 0 {
+                continue;
+            }
             t.evaluate_warning(&cfg, gap);
             if let Some(frames) = t.warning {
                 if rep.warning.is_none_or(|w| frames < w.frames) {

@@ -263,6 +263,58 @@ const EMPTY: Peak = Peak {
 };
 
 /// A line slot of a fresh job.
+/// The job's configuration before [`PointJob::configure`]: every field
+/// zero (not a valid configuration, never used), so that a job in a
+/// `static` is all zero bytes and takes no initial image in flash.
+const UNSET_CONFIG: PointJobConfig = PointJobConfig {
+    edges: super::UNSET,
+    vote: VoteParams {
+        width: 0,
+        height: 0,
+        theta_start: 0,
+        theta_step_log2: 0,
+        theta_bins: 0,
+        rho_step_log2: 0,
+        rho_bins: 0,
+        trig_frac_bits: 0,
+        gate: None,
+        weight_shift: None,
+    },
+    peaks: PeakParams {
+        threshold: 0,
+        radius_theta: 0,
+        radius_rho: 0,
+    },
+    marking: MarkingConfig::UNSET,
+    track: TrackConfig::UNSET,
+};
+
+/// The stored report before the first finished frame (never returned:
+/// [`PointJob::report`] reads `reported`). Zero bytes; the marking is
+/// the zero `Found` value only because that variant has no niche to
+/// spare, not because anything was found.
+const NO_REPORT: JobReport = JobReport {
+    frame: 0,
+    edges: super::NO_FRAME,
+    voted: 0,
+    outside: 0,
+    ungated: 0,
+    peaks: 0,
+    marking: Marking::Found(marking::TapeEdges {
+        left: 0,
+        right: 0,
+        near_x_q4: [0; 2],
+        far_x_q4: [0; 2],
+        votes: 0,
+    }),
+    track: track::FrameReport {
+        associated: 0,
+        born: 0,
+        dropped: 0,
+        warning: None,
+    },
+};
+
 const NO_LINE: Candidate = Candidate {
     rho_q4: 0,
     theta: 0,
@@ -305,7 +357,7 @@ impl<
     /// ```
     pub const fn new() -> Self {
         Self {
-            cfg: PointJobConfig::DEMO_QVGA,
+            cfg: UNSET_CONFIG,
             configured: false,
             stream: EdgeStream::new(),
             held: [[0; 2]; W],
@@ -315,9 +367,10 @@ impl<
             peaks: [EMPTY; K],
             lines: [NO_LINE; K],
             found: 0,
-            tracker: None,
+            tracker: Tracker::UNSET,
             frame: 0,
-            report: None,
+            report: NO_REPORT,
+            reported: false,
         }
     }
 
@@ -355,8 +408,9 @@ impl<
             tracker,
             frame,
             report,
+            reported,
         } = self;
-        *cfg = PointJobConfig::DEMO_QVGA;
+        *cfg = UNSET_CONFIG;
         *configured = false;
         stream.clear();
         held.as_flattened_mut().fill(0);
@@ -365,8 +419,9 @@ impl<
         *votes = crate::lines::VoteStore::new();
         peaks.fill(EMPTY);
         lines.fill(NO_LINE);
-        *tracker = None;
-        *report = None;
+        *tracker = Tracker::UNSET;
+        *report = NO_REPORT;
+        *reported = false;
     }
 
     /// Bytes of this type: all the working memory of the job
@@ -425,11 +480,11 @@ impl<
         });
         self.cfg = *cfg;
         self.configured = true;
-        self.tracker = Some(tracker);
+        self.tracker = tracker;
         self.coded = 0;
         self.found = 0;
         self.frame = 0;
-        self.report = None;
+        self.reported = false;
         Ok(())
     }
 
@@ -475,9 +530,7 @@ impl<
             self.stream.reset();
             self.coded = 0;
             self.frame = 0;
-            if let Some(t) = self.tracker.as_mut() {
-                t.reset();
-            }
+            self.tracker.reset();
         }
     }
 
@@ -661,10 +714,12 @@ impl<
         }
         let frame = self.frame;
         self.frame = self.frame.saturating_add(1);
-        let tracker = self.tracker.as_mut().ok_or(Error::StreamOrder {
-            reason: "point job used before configure",
-        })?;
-        let track = tracker.update(frame, &dets[..n])?;
+        if !self.configured {
+            return Err(Error::StreamOrder {
+                reason: "point job used before configure",
+            });
+        }
+        let track = self.tracker.update(frame, &dets[..n])?;
         let report = JobReport {
             frame,
             edges,
@@ -675,7 +730,8 @@ impl<
             marking,
             track,
         };
-        self.report = Some(report);
+        self.report = report;
+        self.reported = true;
         Ok(report)
     }
 
@@ -686,7 +742,7 @@ impl<
     /// assert!(j.report().is_none());
     /// ```
     pub fn report(&self) -> Option<JobReport> {
-        self.report
+        self.reported.then_some(self.report)
     }
 
     /// The peaks of the last finished frame (vote-frame lines, strongest
@@ -719,7 +775,7 @@ impl<
     /// assert!(j.tracker().is_none());
     /// ```
     pub fn tracker(&self) -> Option<&Tracker<N, EDGES_PER_FRAME>> {
-        self.tracker.as_ref()
+        self.configured.then_some(&self.tracker)
     }
 
     /// The edge stage (its points and edge rows of the last finished frame).
@@ -1067,6 +1123,7 @@ pub(in crate::pipeline) mod tests {
             ("tracker", d(&job.tracker), d(&fresh.tracker)),
             ("frame", d(&job.frame), d(&fresh.frame)),
             ("report", d(&job.report), d(&fresh.report)),
+            ("reported", d(&job.reported), d(&fresh.reported)),
             ("stream.cfg", d(&s.cfg), d(&fresh.stream.cfg)),
             ("stream.deriv", d(&s.deriv), d(&fresh.stream.deriv)),
             ("stream.cross", d(&s.cross), d(&fresh.stream.cross)),
