@@ -35,11 +35,10 @@ pub const FLASH_JSON: &str = "flash.json";
 pub const IMAGES: [&str; 3] = ["none", "edge_stream", "point_job"];
 
 /// Images whose statics are all zero bytes (the kernel crate's
-/// `EdgeStream::new` is): their `.data` must be empty, or a `static` of
-/// the stage would carry its whole initial image in flash and copy it at
-/// reset. The jobs are not among them: their `Option` fields (the tracker,
-/// the last report) are not zero bytes when empty.
-pub const ZERO_DATA: [&str; 2] = ["none", "edge_stream"];
+/// `EdgeStream::new` and `PointJob::new` are): their `.data` must be
+/// empty, or a `static` of the stage or the job would carry its whole
+/// initial image in flash and copy it at reset.
+pub const ZERO_DATA: [&str; 3] = ["none", "edge_stream", "point_job"];
 
 /// The optimisation levels: `(cargo profile, opt-level)`.
 pub const LEVELS: [(&str, &str); 2] = [("release", "3"), ("release-s", "s")];
