@@ -1551,12 +1551,14 @@ impl<'a> ControlGrid<'a> {
         border: Border,
     ) -> Result<()> {
         let rows = dst.height();
-        self.band_strip(band, dst, first_row, rows, None, border)
+        self.band_strip::<false>(band, dst, first_row, rows, None, border)
     }
 
     /// [`warp_band`](Self::warp_band) into the first `count` rows of `dst`;
     /// `known` is `source_rows(first_row, count)` when the caller has it.
-    fn band_strip(
+    /// With `GREY` only the one-channel loop is called (and linked); the
+    /// caller has checked that the band is grey.
+    fn band_strip<const GREY: bool>(
         &self,
         band: &SourceBand<'_>,
         dst: &mut ImageViewMut<'_, u8>,
@@ -1593,7 +1595,11 @@ impl<'a> ControlGrid<'a> {
             shift: band.first_slot.wrapping_sub(band.first_row),
             cap: v.height(),
         };
-        self.dispatch::<true>(rows, dst, first_row, count, border);
+        if GREY {
+            self.rows::<1, true>(rows, dst, first_row, count, border);
+        } else {
+            self.dispatch::<true>(rows, dst, first_row, count, border);
+        }
         Ok(())
     }
 
@@ -2337,6 +2343,56 @@ impl<'g, 'r> GridStream<'g, 'r> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn next_strip(&mut self, dst: &mut ImageViewMut<'_, u8>) -> Result<Option<StripDone>> {
+        self.strip::<false>(dst)
+    }
+
+    /// [`next_strip`](Self::next_strip) for a grey stream (`channels` 1 at
+    /// [`GridStream::new`]): the same strips, but a firmware that calls
+    /// only this links the grey row loop and none of the 2..4-channel ones
+    /// (what [`crate::pipeline::ImageJob`] does). A stream of another
+    /// channel count is [`Error::UnsupportedChannels`].
+    ///
+    /// ```
+    /// # use fixsight::filter::Border;
+    /// # use fixsight::warp::{ControlGrid, GridStream, WarpGeometry};
+    /// # use fixsight::{Error, ImageViewMut};
+    /// # let g = WarpGeometry::new(8, 8, 8, 8, 2)?;
+    /// # let pts: Vec<i32> = (0..9).flat_map(|p| [16 * (p % 3), 16 * (p / 3)]).collect();
+    /// # let grid = ControlGrid::new(&pts, g, 2)?;
+    /// let mut ring = [0u8; 8 * 8];
+    /// let mut st = GridStream::new(grid, &mut ring, 1, 1, Border::Clamp)?;
+    /// let mut row = [0u8; 8];
+    /// st.push_row(&[7; 8])?;
+    /// st.push_row(&[7; 8])?;
+    /// assert!(st.next_strip_grey(&mut ImageViewMut::new(&mut row, 8, 1, 8)?)?.is_some());
+    /// assert_eq!(row, [7; 8]);
+    /// let mut ring3 = [0u8; 8 * 24];
+    /// let mut rgb = GridStream::new(grid, &mut ring3, 3, 1, Border::Clamp)?;
+    /// let mut row3 = [0u8; 24];
+    /// assert!(matches!(
+    ///     rgb.next_strip_grey(&mut ImageViewMut::interleaved(&mut row3, 8, 1, 24, 3)?),
+    ///     Err(Error::UnsupportedChannels { channels: 3, .. })));
+    /// # Ok::<(), fixsight::Error>(())
+    /// ```
+    pub fn next_strip_grey(
+        &mut self,
+        dst: &mut ImageViewMut<'_, u8>,
+    ) -> Result<Option<StripDone>> {
+        if self.channels != 1 {
+            return Err(Error::UnsupportedChannels {
+                channels: self.channels,
+                accepted: "1 (grey)",
+            });
+        }
+        self.strip::<true>(dst)
+    }
+
+    /// [`next_strip`](Self::next_strip), with only the grey loop when
+    /// `GREY` (the stream's channel count checked to be 1 by the caller).
+    fn strip<const GREY: bool>(
+        &mut self,
+        dst: &mut ImageViewMut<'_, u8>,
+    ) -> Result<Option<StripDone>> {
         let g = self.grid.geom;
         let rows = self
             .strip_rows
@@ -2370,7 +2426,7 @@ impl<'g, 'r> GridStream<'g, 'r> {
         let band = SourceBand::new(view, first, first % self.ring_rows)?;
         let first_row = self.next_row;
         self.grid
-            .band_strip(&band, dst, first_row, rows, Some(self.pending), self.border)?;
+            .band_strip::<GREY>(&band, dst, first_row, rows, Some(self.pending), self.border)?;
         self.next_row += rows;
         if !self.finished() {
             let n = self.strip_rows.min(g.out_height - self.next_row);

@@ -442,7 +442,7 @@ impl<
             let slot = self.job.next_row_slot()?;
             let w = slot.len();
             let mut dst = ImageViewMut::new(slot, w, 1, w)?;
-            if warp.next_strip(&mut dst)?.is_none() {
+            if warp.next_strip_grey(&mut dst)?.is_none() {
                 break;
             }
             self.job.commit_row()?;
