@@ -2374,10 +2374,7 @@ impl<'g, 'r> GridStream<'g, 'r> {
     ///     Err(Error::UnsupportedChannels { channels: 3, .. })));
     /// # Ok::<(), fixsight::Error>(())
     /// ```
-    pub fn next_strip_grey(
-        &mut self,
-        dst: &mut ImageViewMut<'_, u8>,
-    ) -> Result<Option<StripDone>> {
+    pub fn next_strip_grey(&mut self, dst: &mut ImageViewMut<'_, u8>) -> Result<Option<StripDone>> {
         if self.channels != 1 {
             return Err(Error::UnsupportedChannels {
                 channels: self.channels,
@@ -2425,8 +2422,14 @@ impl<'g, 'r> GridStream<'g, 'r> {
         )?;
         let band = SourceBand::new(view, first, first % self.ring_rows)?;
         let first_row = self.next_row;
-        self.grid
-            .band_strip::<GREY>(&band, dst, first_row, rows, Some(self.pending), self.border)?;
+        self.grid.band_strip::<GREY>(
+            &band,
+            dst,
+            first_row,
+            rows,
+            Some(self.pending),
+            self.border,
+        )?;
         self.next_row += rows;
         if !self.finished() {
             let n = self.strip_rows.min(g.out_height - self.next_row);
