@@ -691,6 +691,11 @@ static void edge_stream_cases(void) {
     expect("edge_stream.edge_row_negative", fxs_edge_stream_edge_row(&es, -1, row, 16), FXS_E_NEGATIVE);
     expect("edge_stream.edge_row_into_stream", fxs_edge_stream_edge_row(&es, 0, es.bytes + 64, 16), FXS_E_OVERLAP);
     expect("edge_stream.reset", fxs_edge_stream_reset(&es), FXS_OK);
+    expect("edge_stream.candidate_budget", fxs_edge_stream_set_candidate_budget(&es, 4096), FXS_OK);
+    expect("edge_stream.candidate_budget_null", fxs_edge_stream_set_candidate_budget(NULL, 4096),
+           FXS_E_NULL_POINTER);
+    expect("edge_stream.candidate_budget_not_initialised",
+           fxs_edge_stream_set_candidate_budget(&es_zero, 4096), FXS_E_NOT_INITIALISED);
     expect("edge_stream.not_initialised", fxs_edge_stream_push_row(&es_zero, row, 16, &n), FXS_E_NOT_INITIALISED);
     expect("edge_stream.width_above_capacity", fxs_edge_stream_init(&es, &demo, FXS_EDGE_STREAM_MAX_WIDTH + 1, 2),
            FXS_E_BUFFER_TOO_SHORT);

@@ -994,6 +994,17 @@ fxs_status fxs_edge_stream_init(fxs_edge_stream *stream, const fxs_edge_config *
 /* Drops the frame in progress (carried thresholds stay). */
 fxs_status fxs_edge_stream_reset(fxs_edge_stream *stream);
 
+/* Candidate budget of the automatic thresholds (0: none, the state after
+ * init; reset keeps it). From the end of the frame in progress on,
+ * the low threshold carried to the next frame is raised, when needed, to
+ * the smallest histogram bin edge with at most budget magnitudes at or
+ * above it (step 5 of the rule, kernels/src/hysteresis.rs), so that the
+ * finished frame would have had at most budget candidates. With budget
+ * FXS_EDGE_STREAM_POINT_GRADIENTS every candidate of a frame like the last
+ * one keeps its gradient. Fixed thresholds ignore it.
+ * Errors: FXS_E_NULL_POINTER, FXS_E_MISALIGNED, FXS_E_NOT_INITIALISED. */
+fxs_status fxs_edge_stream_set_candidate_budget(fxs_edge_stream *stream, uint32_t budget);
+
 /* Pushes the next camera row: row_len == width bytes of 8-bit luma.
  * *rows_pushed (may be NULL): rows of this frame so far. A push after
  * finish starts the next frame.

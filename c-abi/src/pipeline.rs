@@ -11,6 +11,8 @@
 //! Camera rows are pushed as 8-bit luma; the other pixel formats of the
 //! kernel (YUYV, UYVY, RGB565, raw) are not wrapped yet.
 
+use core::num::NonZeroU32;
+
 use crate::boundary::{
     buf, disjoint, load, load_mut, optional, size, storage, store_cleared, Checked, Span,
 };
@@ -343,6 +345,27 @@ pub(crate) fn config_of(d: &EdgeConfig) -> FxsEdgeConfig {
 pub unsafe extern "C" fn fxs_edge_stream_reset(stream: *mut FxsEdgeStream) -> FxsStatus {
     // SAFETY: forwarded to the caller.
     finish(unsafe { load_mut::<StreamObj>(stream).map(|s| s.reset()) })
+}
+
+/// `fxs_edge_stream_set_candidate_budget`: the candidate budget of the
+/// automatic thresholds (`EdgeStream::set_candidate_budget`; `budget` 0:
+/// none, the state after init). From the end of the frame in progress on,
+/// the pair carried to the next frame is raised when needed so that the
+/// finished frame would have had at most `budget` candidates
+/// (`Thresholds::within_budget`). `FXS_EDGE_STREAM_POINT_GRADIENTS` is the
+/// budget that keeps every candidate's gradient.
+///
+/// # Safety
+/// `stream` initialised and used by no one else.
+#[no_mangle]
+pub unsafe extern "C" fn fxs_edge_stream_set_candidate_budget(
+    stream: *mut FxsEdgeStream,
+    budget: u32,
+) -> FxsStatus {
+    // SAFETY: forwarded to the caller.
+    finish(unsafe {
+        load_mut::<StreamObj>(stream).map(|s| s.set_candidate_budget(NonZeroU32::new(budget)))
+    })
 }
 
 /// `fxs_edge_stream_push_row`: the next camera row (`row_len == width`
