@@ -2781,7 +2781,8 @@ pub mod image_job;
 mod point_job;
 pub use image_job::{DemoImageJobQvga, DemoImageJobVga, ImageJobConfig};
 pub use point_job::{
-    centre_line, check_frames, tape_detections, JobReport, PointJobConfig, EDGES_PER_FRAME,
+    centre_line, check_frames, line_stages, tape_detections, JobReport, LineOutcome,
+    PointJobConfig, EDGES_PER_FRAME,
 };
 
 /// The whole job in point mode: camera rows in; at the end of the frame

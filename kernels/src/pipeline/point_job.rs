@@ -8,7 +8,7 @@ use crate::arith::round_shift;
 use crate::error::{Error, Result};
 use crate::gradient;
 use crate::hysteresis::NONE;
-use crate::lines::{Line, Peak, PeakParams, VoteParams};
+use crate::lines::{Accumulator, Line, Peak, PeakParams, VoteParams};
 use crate::marking::{self, sin_cos_q15, Candidate, Marking, MarkingConfig, Polarity};
 use crate::ops::{tally, Op};
 use crate::track::{self, Detection, TrackConfig, Tracker, RHO_LIMIT_Q4};
@@ -213,6 +213,81 @@ pub fn centre_line(l: &Line, width: usize, height: usize) -> Candidate {
         votes: l.votes as u32,
         polarity: Polarity::Unknown,
     }
+}
+
+/// What the line stages of a frame gave ([`line_stages`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LineOutcome {
+    /// Peaks found (the first `found` entries of the peak and line slices).
+    pub found: usize,
+    /// The marking selected from the lines.
+    pub marking: Marking,
+    /// The tracker's report, with the drift warning. **Not a safety
+    /// function** (see [`PointJob`]).
+    pub track: track::FrameReport,
+}
+
+/// Steps 3 to 6 of [`PointJob`] on an accumulator that holds a frame's
+/// votes: the peaks of `acc` (`cfg.peaks`, at most `peaks.len()`) into
+/// `peaks`, their lines about the image centre ([`centre_line`] in the
+/// vote frame `cfg.vote`) into `lines`, the marking
+/// ([`crate::marking::select`] with `cfg.marking`), and the tracker updated
+/// for frame `frame` with the tape's two edges ([`tape_detections`]), or
+/// with none when `complete` is false (a vote that missed edge points is
+/// reported but not tracked: every track coasts). A job with another edge
+/// stage composes its frame from the same steps; [`PointJob`] calls this.
+///
+/// Errors: `peaks` empty or `lines` shorter than `peaks` ->
+/// [`Error::BufferTooShort`]; as [`crate::lines::Accumulator::peaks`] and
+/// [`Tracker::update`] (a frame number not above the last one).
+///
+/// ```
+/// use fixsight::lines::{Peak, VoteStore};
+/// use fixsight::marking::Candidate;
+/// use fixsight::pipeline::{line_stages, PointJobConfig, EDGES_PER_FRAME};
+/// use fixsight::track::Tracker;
+/// let cfg = PointJobConfig::DEMO_QVGA;
+/// let mut store = VoteStore::<32, 201>::new();
+/// let acc = store.accumulator(cfg.vote)?;              // no votes
+/// let mut tracker = Tracker::<4, EDGES_PER_FRAME>::new(cfg.track)?;
+/// let (mut peaks, mut lines) = ([Peak::default(); 8], [Candidate::default(); 8]);
+/// let out = line_stages(&acc, &cfg, &mut peaks, &mut lines, &mut tracker, 0, true)?;
+/// assert_eq!(out.found, 0);
+/// assert!(out.marking.found().is_none());
+/// assert!(line_stages(&acc, &cfg, &mut peaks, &mut lines[..2], &mut tracker, 1, true).is_err());
+/// # Ok::<(), fixsight::Error>(())
+/// ```
+pub fn line_stages<const N: usize>(
+    acc: &Accumulator<'_>,
+    cfg: &PointJobConfig,
+    peaks: &mut [Peak],
+    lines: &mut [Candidate],
+    tracker: &mut Tracker<N, EDGES_PER_FRAME>,
+    frame: u32,
+    complete: bool,
+) -> Result<LineOutcome> {
+    if lines.len() < peaks.len() {
+        return Err(Error::BufferTooShort {
+            what: "line stages' lines (one per peak slot)",
+            needed: peaks.len(),
+            got: lines.len(),
+        });
+    }
+    let found = acc.peaks(&cfg.peaks, peaks)?;
+    let (vw, vh) = (cfg.vote.width, cfg.vote.height);
+    for (c, pk) in lines.iter_mut().zip(&peaks[..found]) {
+        *c = centre_line(&pk.line, vw, vh);
+    }
+    let lines = &lines[..found];
+    let marking = marking::select(lines, &cfg.marking);
+    let (dets, n) = tape_detections(&marking, lines);
+    let n = if complete { n } else { 0 };
+    let track = tracker.update(frame, &dets[..n])?;
+    Ok(LineOutcome {
+        found,
+        marking,
+        track,
+    })
 }
 
 /// The tracker's detections of a frame (rule 6 of [`PointJob`]): the
@@ -699,19 +774,6 @@ impl<
             voted += 1;
         }
         let outside = acc.skipped();
-        let found = acc.peaks(&self.cfg.peaks, &mut self.peaks)?;
-        let (vw, vh) = (self.cfg.vote.width, self.cfg.vote.height);
-        for (c, pk) in self.lines.iter_mut().zip(&self.peaks[..found]) {
-            *c = centre_line(&pk.line, vw, vh);
-        }
-        self.found = found;
-        let marking = marking::select(&self.lines[..found], &self.cfg.marking);
-        let (dets, mut n) = tape_detections(&marking, &self.lines[..found]);
-        if ungated > 0 {
-            // An incomplete vote (edge points without a gate byte cast no
-            // vote) is reported but not tracked: the tracks coast.
-            n = 0;
-        }
         let frame = self.frame;
         self.frame = self.frame.saturating_add(1);
         if !self.configured {
@@ -719,7 +781,22 @@ impl<
                 reason: "point job used before configure",
             });
         }
-        let track = self.tracker.update(frame, &dets[..n])?;
+        // An incomplete vote (edge points without a gate byte cast no
+        // vote) is reported but not tracked: the tracks coast.
+        let LineOutcome {
+            found,
+            marking,
+            track,
+        } = line_stages(
+            &acc,
+            &self.cfg,
+            &mut self.peaks,
+            &mut self.lines,
+            &mut self.tracker,
+            frame,
+            ungated == 0,
+        )?;
+        self.found = found;
         let report = JobReport {
             frame,
             edges,

@@ -30,8 +30,10 @@
 //!    as `f32`).
 //! 5. **Thresholds** by the kernel crate's automatic rule: a histogram of
 //!    `floor(m) >> shift` of the nonzero suppressed magnitudes, then
-//!    [`Thresholds::from_counts`] with the rule's share and ratio; they apply
-//!    to the next frame, like the integer stage's.
+//!    [`Thresholds::from_counts`] with the rule's share and ratio, then,
+//!    with a candidate budget ([`F32EdgeStream::set_candidate_budget`]),
+//!    [`Thresholds::within_budget`] on the same histogram; they apply to the
+//!    next frame, like the integer stage's.
 //! 6. **Hysteresis** and **thinning** by the kernel crate's public
 //!    whole-frame functions (`fixsight::hysteresis::link`,
 //!    `fixsight::thinning::thin` / `thin_at_most`) on a byte class map.
@@ -59,6 +61,8 @@
 //! creates and the histogram's bin edges). `atan2` has a stated maximum
 //! error of 0.002 rad (crate docs), 42 units of the angle, against gate
 //! columns of 512 or 1024 units.
+
+use core::num::NonZeroU32;
 
 use crate::Root;
 use fixsight::hysteresis::{self, Thresholds, NONE, STRONG, U0F16, WEAK};
@@ -200,6 +204,8 @@ pub struct F32EdgeStream<const W: usize, const MAP: usize, const BINS: usize, co
     finished: bool,
     stack: [u32; LINK_STACK],
     report: Option<F32FrameReport>,
+    /// Candidate budget of the automatic rule (`None`: no step 5).
+    budget: Option<NonZeroU32>,
 }
 
 impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize> Default
@@ -247,6 +253,7 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
             finished: false,
             stack: [0; LINK_STACK],
             report: None,
+            budget: None,
         }
     }
 
@@ -258,6 +265,13 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
     /// ```
     pub const fn ram_bytes() -> usize {
         core::mem::size_of::<Self>()
+    }
+
+    /// The candidate budget of the automatic thresholds, as
+    /// `fixsight::pipeline::EdgeStream::set_candidate_budget` (`None`: the
+    /// rule's pair as it is; `configure` keeps it).
+    pub fn set_candidate_budget(&mut self, budget: Option<NonZeroU32>) {
+        self.budget = budget;
     }
 
     /// Sets the configuration and frame size and starts a frame; the first
@@ -432,6 +446,10 @@ impl<const W: usize, const MAP: usize, const BINS: usize, const CAP: usize>
                 high_permille,
                 U0F16::from_bits(low_ratio_u0f16),
             )?;
+            let t = match self.budget {
+                Some(b) => t.within_budget(&self.hist[..n], shift as u32, b.get())?,
+                None => t,
+            };
             self.set_thresholds(t.low(), t.high());
         }
         let report = F32FrameReport {

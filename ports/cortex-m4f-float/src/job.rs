@@ -3,24 +3,22 @@
 //! line stages of the kernel crate through its public API, in the order of
 //! `fixsight::pipeline::PointJob`: each edge point (through the lens grid
 //! when there is one, `fixsight::lines::correct_point`) voted with its
-//! gradient angle (`Accumulator::vote_point`, unit weight), the peaks
-//! (`Accumulator::peaks`), their lines about the image centre
-//! (`fixsight::pipeline::centre_line`), the marking
-//! (`fixsight::marking::select`), the tape's two edges
-//! (`fixsight::pipeline::tape_detections`) and the tracker with its drift
-//! warning (`fixsight::track::Tracker::update`). As in the integer job, an
+//! gradient angle (`Accumulator::vote_point`, unit weight), then
+//! `fixsight::pipeline::line_stages`, the integer job's own steps: the
+//! peaks, their lines about the image centre, the marking, the tape's two
+//! edges and the tracker with its drift warning. As in the integer job, an
 //! edge point whose angle was not kept (past the `CAP`-th candidate) casts
 //! no gated vote, and a frame with such points gives the tracker no
 //! detection.
 //!
 //! > **Not a safety function** (see `fixsight::pipeline::PointJob`).
 
+use core::num::NonZeroU32;
+
 use crate::edges::{F32Config, F32EdgeStream, F32FrameReport};
 use fixsight::lines::{correct_point, Peak, VoteStore};
 use fixsight::marking::{self, Candidate, Marking};
-use fixsight::pipeline::{
-    centre_line, check_frames, tape_detections, PointJobConfig, EDGES_PER_FRAME,
-};
+use fixsight::pipeline::{check_frames, line_stages, LineOutcome, PointJobConfig, EDGES_PER_FRAME};
 use fixsight::track::{self, Tracker};
 use fixsight::warp::ControlGrid;
 use fixsight::Error;
@@ -182,6 +180,12 @@ impl<
             width,
             height,
         )?;
+        // The integer job's budget: as many candidates as angles are kept.
+        self.stream.set_candidate_budget(
+            cfg.vote
+                .gate
+                .and(NonZeroU32::new(u32::try_from(CAP).unwrap_or(u32::MAX))),
+        );
         self.cfg = *cfg;
         self.tracker = Some(tracker);
         self.found = 0;
@@ -236,22 +240,25 @@ impl<
             acc.vote_point(x4, y4, p.angle, 1)?;
             voted += 1;
         }
-        let found = acc.peaks(&self.cfg.peaks, &mut self.peaks)?;
-        for (c, pk) in self.lines.iter_mut().zip(&self.peaks[..found]) {
-            *c = centre_line(&pk.line, vote.width, vote.height);
-        }
-        self.found = found;
-        let marking = marking::select(&self.lines[..found], &self.cfg.marking);
-        let (dets, mut n) = tape_detections(&marking, &self.lines[..found]);
-        if ungated > 0 {
-            n = 0;
-        }
         let frame = self.frame;
         self.frame = self.frame.saturating_add(1);
         let tracker = self.tracker.as_mut().ok_or(Error::StreamOrder {
             reason: "f32 point job used before configure",
         })?;
-        let track = tracker.update(frame, &dets[..n])?;
+        let LineOutcome {
+            found,
+            marking,
+            track,
+        } = line_stages(
+            &acc,
+            &self.cfg,
+            &mut self.peaks,
+            &mut self.lines,
+            tracker,
+            frame,
+            ungated == 0,
+        )?;
+        self.found = found;
         Ok(F32JobReport {
             frame,
             edges,
