@@ -1023,6 +1023,20 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         next_id: 0,
     };
 
+    /// Back to [`Tracker::UNSET`], field by field in place (`*self =
+    /// Self::UNSET` may build the whole value on the stack first).
+    pub(crate) fn unset(&mut self) {
+        self.cfg = TrackConfig::UNSET;
+        for t in self.slots.iter_mut() {
+            *t = NO_TRACK;
+        }
+        for row in self.gates.iter_mut() {
+            row.fill(0);
+        }
+        self.last_frame = None;
+        self.next_id = 0;
+    }
+
     /// A tracker with no tracks. Errors: a configuration field out of range,
     /// or `N`, `M` outside `1 ..= 255` ([`Error::BadParameter`]).
     ///
@@ -1032,6 +1046,18 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// assert!(Tracker::<4, 4>::new(TrackConfig::DEMO).is_ok());
     /// ```
     pub fn new(cfg: TrackConfig) -> Result<Self> {
+        Self::check(&cfg)?;
+        Ok(Self {
+            cfg,
+            slots: [NO_TRACK; N],
+            gates: [[0; M]; N],
+            last_frame: None,
+            next_id: 0,
+        })
+    }
+
+    /// The checks of [`Tracker::new`].
+    pub(crate) fn check(cfg: &TrackConfig) -> Result<()> {
         cfg.validate()?;
         if N == 0 || N > 255 {
             return Err(Error::BadParameter {
@@ -1047,13 +1073,15 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
                 got: M as i64,
             });
         }
-        Ok(Self {
-            cfg,
-            slots: [NO_TRACK; N],
-            gates: [[0; M]; N],
-            last_frame: None,
-            next_id: 0,
-        })
+        Ok(())
+    }
+
+    /// What [`Tracker::new`] gives for a configuration that passed
+    /// [`Tracker::check`], written in place (no tracker-sized temporary on
+    /// the stack, which `*self = Tracker::new(cfg)?` may build).
+    pub(crate) fn start(&mut self, cfg: TrackConfig) {
+        self.unset();
+        self.cfg = cfg;
     }
 
     /// Forgets every track and the last frame number (the configuration
@@ -1069,7 +1097,9 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn reset(&mut self) {
-        self.slots = [NO_TRACK; N];
+        for t in self.slots.iter_mut() {
+            *t = NO_TRACK;
+        }
         self.last_frame = None;
         self.next_id = 0;
     }

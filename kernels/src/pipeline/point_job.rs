@@ -494,7 +494,7 @@ impl<
         *votes = crate::lines::VoteStore::new();
         peaks.fill(EMPTY);
         lines.fill(NO_LINE);
-        *tracker = Tracker::UNSET;
+        tracker.unset();
         *report = NO_REPORT;
         *reported = false;
     }
@@ -545,7 +545,7 @@ impl<
                 return Err(Error::BufferTooShort { what, needed, got });
             }
         }
-        let tracker = Tracker::<N, EDGES_PER_FRAME>::new(cfg.track)?;
+        Tracker::<N, EDGES_PER_FRAME>::check(&cfg.track)?;
         self.stream.configure(&cfg.edges, width, height)?;
         // The gate bytes' count is the stage's candidate budget (the
         // type's docs, *Point gradients in one byte*).
@@ -555,7 +555,7 @@ impl<
         });
         self.cfg = *cfg;
         self.configured = true;
-        self.tracker = tracker;
+        self.tracker.start(cfg.track);
         self.coded = 0;
         self.found = 0;
         self.frame = 0;
