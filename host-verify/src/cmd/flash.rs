@@ -7,7 +7,8 @@
 //! objects in `static`s): one binary per part (`none`, the baseline with
 //! start-up, the frame generator and the report; `edge_stream`, the
 //! streamed edge stage at 320 x 240; `point_job`, the whole job in point
-//! mode with a lens grid). Each is built at `opt-level = 3` (profile
+//! mode with a lens grid; `image_job`, the whole job in image mode, the
+//! camera rows warped through a lens grid row by row). Each is built at `opt-level = 3` (profile
 //! `release`) and `"s"` (profile `release-s`), both with fat LTO, linked
 //! into the part's memory (`memory.x`: an image that does not fit does not
 //! link) and run under QEMU (`mps2-an386`), where it reports its stack
@@ -32,13 +33,13 @@ use std::process::Command;
 pub const FLASH_JSON: &str = "flash.json";
 
 /// The binaries of `targets/user-firmware`, the baseline first.
-pub const IMAGES: [&str; 3] = ["none", "edge_stream", "point_job"];
+pub const IMAGES: [&str; 4] = ["none", "edge_stream", "point_job", "image_job"];
 
 /// Images whose statics are all zero bytes (the kernel crate's
-/// `EdgeStream::new` and `PointJob::new` are): their `.data` must be
-/// empty, or a `static` of the stage or the job would carry its whole
-/// initial image in flash and copy it at reset.
-pub const ZERO_DATA: [&str; 3] = ["none", "edge_stream", "point_job"];
+/// `EdgeStream::new`, `PointJob::new` and `ImageJob::new` are): their
+/// `.data` must be empty, or a `static` of the stage or a job would carry
+/// its whole initial image in flash and copy it at reset.
+pub const ZERO_DATA: [&str; 4] = ["none", "edge_stream", "point_job", "image_job"];
 
 /// The optimisation levels: `(cargo profile, opt-level)`.
 pub const LEVELS: [(&str, &str); 2] = [("release", "3"), ("release-s", "s")];
