@@ -1216,7 +1216,65 @@ pub fn job_golden_cases() -> Vec<GoldenCase> {
             serde_json::to_value(&plain).expect("serialisable"),
             vec![frames_blob],
         ),
+        budget_case(run),
     ]
+}
+
+/// The case that makes the candidate budget bind (step 5 of the rule in
+/// `fixsight::hysteresis`): the natural photograph `grass` (scikit-image's
+/// sample data, CC0; see `host-verify/data/natural/SOURCES.md`) twice at
+/// 320 x 240 through the demo configuration without a grid. The first
+/// frame, on the rule's first pair, has more candidates than the job's
+/// 4 096 gate bytes; the second runs on the pair the budget raised, which
+/// the record's thresholds show, and keeps every vote.
+fn budget_case(run: crate::golden::RunVector) -> GoldenCase {
+    let grass = crate::natural::natural_image("grass")
+        .expect("the built-in photograph grass")
+        .scene();
+    let (w, h) = (grass.width, grass.height);
+    let frames: Vec<u8> = grass.gray.iter().chain(&grass.gray).copied().collect();
+    let d = PointJobConfig::DEMO_QVGA;
+    let l = d.marking.limits();
+    let params = JobParams {
+        frames: 2,
+        height: h,
+        theta_start: d.vote.theta_start,
+        theta_step_log2: d.vote.theta_step_log2,
+        theta_bins: d.vote.theta_bins,
+        rho_step_log2: d.vote.rho_step_log2,
+        rho_bins: d.vote.rho_bins,
+        gate: d.vote.gate.unwrap_or(0),
+        peak_threshold: d.peaks.threshold,
+        peak_radius: d.peaks.radius_theta,
+        marking: vec![
+            l.near_row_q4,
+            l.far_row_q4,
+            l.horizon_row_q4,
+            l.max_tilt as i32,
+            l.near_x_min_q4,
+            l.near_x_max_q4,
+            l.near_sep_min_q4,
+            l.near_sep_nominal_q4,
+            l.near_sep_max_q4,
+            l.converge_tol_q4,
+        ],
+        reference: vec![d.track.reference_q4.0, d.track.reference_q4.1],
+        rho_meas_var: d.track.rho.meas_var,
+        grid_log2: 0,
+        grid_frac_bits: GRID_FRAC_BITS,
+    };
+    crate::family::case(
+        run,
+        "pipeline.point_job.grass-budget",
+        format!(
+            "the photograph grass twice at {w}x{h}, the demo configuration, no grid: the first \
+             frame overflows the gate bytes, the second runs on the low threshold the \
+             candidate budget raised"
+        ),
+        JOB_KERNEL,
+        serde_json::to_value(&params).expect("serialisable"),
+        vec![Blob::from_u8("frames", w, 2 * h, 1, &frames)],
+    )
 }
 
 /// First frame of the quarter-size golden cases.
