@@ -860,8 +860,6 @@ pub struct FrameReport {
     pub thinning: ThinStats,
 }
 
-/// The report of no frame: every count zero (a stream's report before
-/// its first frame).
 /// The configuration slot of an unconfigured stage: each field its type's
 /// first variant or zero, so that [`EdgeStream::new`] (and the jobs that
 /// hold one) is all zero bytes and a `static` of it goes to `.bss`, with no
@@ -878,6 +876,8 @@ const UNSET: EdgeConfig = EdgeConfig {
     suppression: Suppression::Sectors,
 };
 
+/// The report of no frame: every count zero (a stream's report before
+/// its first frame).
 const NO_FRAME: FrameReport = FrameReport {
     width: 0,
     height: 0,
@@ -2690,16 +2690,9 @@ fn columns_at<const R: usize, const S: usize, const TOP: usize, T: TapSet>(
         core::array::from_fn(|j| &win[((TOP + j) % RING_ROWS) * S..][..m]);
     // One index over the rows and `out` (all `m` long): no bounds test
     // survives in the loop.
+    #[allow(clippy::needless_range_loop)]
     for i in 0..m {
-        let px = |j: usize| rows[j][i] as i32;
-        let mut sum = f.c(R) * px(R);
-        let mut d = 0i32;
-        for k in 1..=R {
-            let (a, b) = (px(R - k), px(R + k));
-            sum += f.c(R + k) * (a + b);
-            d += f.d(R + k) * (b - a);
-        }
-        out[i] = [sum, d];
+        out[i] = column::<R, T>(&rows, f, i);
     }
 }
 

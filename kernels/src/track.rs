@@ -761,6 +761,14 @@ pub struct Track {
 }
 
 impl Track {
+    /// Whether a tracker slot holding this value holds a track: a track is
+    /// born with one hit and never loses one, so an empty slot
+    /// ([`NO_TRACK`]) is the one value with `hits == 0`.
+    #[inline(always)]
+    fn live(&self) -> bool {
+        self.hits > 0
+    }
+
     /// Keeps theta in `[0, 2^24)`, flipping rho and the side on odd wraps.
     fn wrap(&mut self, theta_pos: i64) {
         let n = theta_pos.div_euclid(HALF_TURN_Q8 as i64);
@@ -1026,15 +1034,11 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// Back to [`Tracker::UNSET`], field by field in place (`*self =
     /// Self::UNSET` may build the whole value on the stack first).
     pub(crate) fn unset(&mut self) {
+        self.reset();
         self.cfg = TrackConfig::UNSET;
-        for t in self.slots.iter_mut() {
-            *t = NO_TRACK;
-        }
         for row in self.gates.iter_mut() {
             row.fill(0);
         }
-        self.last_frame = None;
-        self.next_id = 0;
     }
 
     /// A tracker with no tracks. Errors: a configuration field out of range,
@@ -1126,7 +1130,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn slot(&self, i: usize) -> Option<&Track> {
-        self.slots.get(i).filter(|t| t.hits > 0)
+        self.slots.get(i).filter(|t| t.live())
     }
 
     /// The live tracks in slot order.
@@ -1138,7 +1142,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
     /// # Ok::<(), fixsight::Error>(())
     /// ```
     pub fn tracks(&self) -> impl Iterator<Item = &Track> {
-        self.slots.iter().filter(|t| t.hits > 0)
+        self.slots.iter().filter(|t| t.live())
     }
 
     /// The last frame number accepted.
@@ -1201,7 +1205,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         let mut rep = FrameReport::default();
 
         // Predict through skipped frames (misses) to this frame.
-        for t in self.slots.iter_mut().filter(|t| t.hits > 0) {
+        for t in self.slots.iter_mut().filter(|t| t.live()) {
             let mut step = 0u32;
             loop {
                 t.predict(&cfg);
@@ -1223,7 +1227,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
         for (slot, row) in self.slots.iter().zip(self.gates.iter_mut()) {
             for (j, g) in row.iter_mut().enumerate() {
                 *g = match detections.get(j) {
-                    Some(d) if slot.hits > 0 => slot.gate_q8(d, &cfg),
+                    Some(d) if slot.live() => slot.gate_q8(d, &cfg),
                     _ => u32::MAX,
                 };
                 if *g <= cfg.gate_q8 {
@@ -1255,7 +1259,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
             track_taken[i] = true;
             det_taken[j] = true;
             if let (Some(t), Some(d)) = (self.slots.get_mut(i), detections.get(j)) {
-                if t.hits == 0 {
+                if !t.live() {
                     continue; // an empty slot's gate is u32::MAX
                 }
                 t.update(d);
@@ -1268,7 +1272,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
 
         // Misses of this frame.
         for (t, &taken) in self.slots.iter_mut().zip(track_taken.iter()) {
-            if t.hits > 0 && !taken {
+            if t.live() && !taken {
                 t.missed = t.missed.saturating_add(1);
                 if dropped(t, &cfg) {
                     *t = NO_TRACK;
@@ -1291,7 +1295,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
             }
             let Some((_, j)) = best else { break };
             used[j] = true;
-            let Some(free) = self.slots.iter_mut().find(|s| s.hits == 0) else {
+            let Some(free) = self.slots.iter_mut().find(|s| !s.live()) else {
                 break;
             };
             let Some(d) = detections.get(j) else { break };
@@ -1317,7 +1321,7 @@ impl<const N: usize, const M: usize> Tracker<N, M> {
 
         // Drift warnings.
         for (i, t) in self.slots.iter_mut().enumerate() {
-            if t.hits == 0 {
+            if !t.live() {
                 continue;
             }
             t.evaluate_warning(&cfg, gap);

@@ -98,7 +98,6 @@ use fixsight::pipeline::{
 use fixsight::track::{track_words, Detection, Tracker, TRACK_WORDS};
 use fixsight::warp::ControlGrid;
 use std::f64::consts::PI;
-use std::num::NonZeroU32;
 
 /// The kernel id: the job type [`fixsight::pipeline::PointJob`].
 pub const JOB_KERNEL: &str = "pipeline.point_job";
@@ -255,7 +254,7 @@ pub fn composed_differences(
     let mut stage: Box<CapStage> = Box::default();
     stage.configure(&cfg.edges, w, h).map_err(e)?;
     // The job's candidate budget: its gate bytes (`PointJob::configure`).
-    stage.set_candidate_budget(cfg.vote.gate.and(NonZeroU32::new(DEMO_CAP as u32)));
+    stage.set_candidate_budget(cfg.candidate_budget(DEMO_CAP));
     let mut tracker = Tracker::<DEMO_TRACKS, EDGES_PER_FRAME>::new(cfg.track).map_err(e)?;
     let p = cfg.vote;
     let mut cells = vec![0u16; p.cells()];
@@ -1233,36 +1232,7 @@ fn budget_case(run: crate::golden::RunVector) -> GoldenCase {
         .scene();
     let (w, h) = (grass.width, grass.height);
     let frames: Vec<u8> = grass.gray.iter().chain(&grass.gray).copied().collect();
-    let d = PointJobConfig::DEMO_QVGA;
-    let l = d.marking.limits();
-    let params = JobParams {
-        frames: 2,
-        height: h,
-        theta_start: d.vote.theta_start,
-        theta_step_log2: d.vote.theta_step_log2,
-        theta_bins: d.vote.theta_bins,
-        rho_step_log2: d.vote.rho_step_log2,
-        rho_bins: d.vote.rho_bins,
-        gate: d.vote.gate.unwrap_or(0),
-        peak_threshold: d.peaks.threshold,
-        peak_radius: d.peaks.radius_theta,
-        marking: vec![
-            l.near_row_q4,
-            l.far_row_q4,
-            l.horizon_row_q4,
-            l.max_tilt as i32,
-            l.near_x_min_q4,
-            l.near_x_max_q4,
-            l.near_sep_min_q4,
-            l.near_sep_nominal_q4,
-            l.near_sep_max_q4,
-            l.converge_tol_q4,
-        ],
-        reference: vec![d.track.reference_q4.0, d.track.reference_q4.1],
-        rho_meas_var: d.track.rho.meas_var,
-        grid_log2: 0,
-        grid_frac_bits: GRID_FRAC_BITS,
-    };
+    let params = demo_params(2, h, 1, PointJobConfig::DEMO_QVGA.vote.rho_bins, 0);
     crate::family::case(
         run,
         "pipeline.point_job.grass-budget",
@@ -1275,6 +1245,52 @@ fn budget_case(run: crate::golden::RunVector) -> GoldenCase {
         serde_json::to_value(&params).expect("serialisable"),
         vec![Blob::from_u8("frames", w, 2 * h, 1, &frames)],
     )
+}
+
+/// [`PointJobConfig::DEMO_QVGA`] as the params of a vector of `frames`
+/// frames of `height` rows, `div` times smaller than QVGA each way (1:
+/// QVGA): the marking's rows, columns and separations, the tracker's
+/// reference point (rounded half away from zero) and the peak threshold
+/// divided by `div`, the tilt kept, the rho variance divided by `div^2`;
+/// `rho_bins` vote rows and a grid of step `2^grid_log2` (0: none).
+fn demo_params(
+    frames: usize,
+    height: usize,
+    div: i32,
+    rho_bins: usize,
+    grid_log2: u32,
+) -> JobParams {
+    let d = PointJobConfig::DEMO_QVGA;
+    let l = d.marking.limits();
+    let q = |v: i32| div_round(v, div);
+    JobParams {
+        frames,
+        height,
+        theta_start: d.vote.theta_start,
+        theta_step_log2: d.vote.theta_step_log2,
+        theta_bins: d.vote.theta_bins,
+        rho_step_log2: d.vote.rho_step_log2,
+        rho_bins,
+        gate: d.vote.gate.unwrap_or(0),
+        peak_threshold: d.peaks.threshold / div as u16,
+        peak_radius: d.peaks.radius_theta,
+        marking: vec![
+            q(l.near_row_q4),
+            q(l.far_row_q4),
+            q(l.horizon_row_q4),
+            l.max_tilt as i32,
+            q(l.near_x_min_q4),
+            q(l.near_x_max_q4),
+            q(l.near_sep_min_q4),
+            q(l.near_sep_nominal_q4),
+            q(l.near_sep_max_q4),
+            q(l.converge_tol_q4),
+        ],
+        reference: vec![q(d.track.reference_q4.0), q(d.track.reference_q4.1)],
+        rho_meas_var: d.track.rho.meas_var / (div * div) as u32,
+        grid_log2,
+        grid_frac_bits: GRID_FRAC_BITS,
+    }
 }
 
 /// First frame of the quarter-size golden cases.
@@ -1294,43 +1310,7 @@ pub fn quarter_case() -> (Sequence, JobParams, Blob) {
     };
     let seq = Sequence::new(&spec).expect("the demo sequence at 80 x 60");
     let frames: Vec<u8> = (first..first + n).flat_map(|k| seq.render(k)).collect();
-    let l = PointJobConfig::DEMO_QVGA.marking;
-    let l = l.limits();
-    // Rows, columns and separations scale with the image; the tilt does not.
-    let q = |v: i32| div_round(v, 4);
-    let marking = vec![
-        q(l.near_row_q4),
-        q(l.far_row_q4),
-        q(l.horizon_row_q4),
-        l.max_tilt as i32,
-        q(l.near_x_min_q4),
-        q(l.near_x_max_q4),
-        q(l.near_sep_min_q4),
-        q(l.near_sep_nominal_q4),
-        q(l.near_sep_max_q4),
-        q(l.converge_tol_q4),
-    ];
-    let d = PointJobConfig::DEMO_QVGA;
-    let base = JobParams {
-        frames: n,
-        height: h,
-        theta_start: d.vote.theta_start,
-        theta_step_log2: d.vote.theta_step_log2,
-        theta_bins: d.vote.theta_bins,
-        rho_step_log2: d.vote.rho_step_log2,
-        rho_bins: 51,
-        gate: d.vote.gate.unwrap_or(0),
-        peak_threshold: d.peaks.threshold / 4,
-        peak_radius: 1,
-        marking,
-        reference: vec![
-            div_round(d.track.reference_q4.0, 4),
-            div_round(d.track.reference_q4.1, 4),
-        ],
-        rho_meas_var: d.track.rho.meas_var / 16,
-        grid_log2: 2,
-        grid_frac_bits: GRID_FRAC_BITS,
-    };
+    let base = demo_params(n, h, 4, 51, 2);
     let frames_blob = Blob::from_u8("frames", w, n * h, 1, &frames);
     (seq, base, frames_blob)
 }

@@ -58,6 +58,25 @@ impl PointJobConfig {
         track: TrackConfig::DEMO,
     };
 
+    /// The candidate budget a job with `cap` gate bytes gives its edge
+    /// stage ([`EdgeStream::set_candidate_budget`]): `cap` when the votes
+    /// are gated, none when they are not (nothing is kept per candidate)
+    /// or `cap` is 0. [`PointJob::configure`] applies it; a composition of
+    /// the kernels that should equal the job applies the same.
+    ///
+    /// ```
+    /// use fixsight::pipeline::PointJobConfig;
+    /// let mut c = PointJobConfig::DEMO_QVGA;
+    /// assert_eq!(c.candidate_budget(4096).map(|b| b.get()), Some(4096));
+    /// c.vote.gate = None;
+    /// assert_eq!(c.candidate_budget(4096), None);
+    /// ```
+    pub fn candidate_budget(&self, cap: usize) -> Option<NonZeroU32> {
+        self.vote
+            .gate
+            .and(NonZeroU32::new(u32::try_from(cap).unwrap_or(u32::MAX)))
+    }
+
     /// Checks every stage's settings and what point mode adds: unit votes
     /// (`vote.weight_shift` `None`), a gate code that fits a byte
     /// (`vote.theta_step_log2 >= 9` when the votes are gated, see
@@ -549,10 +568,7 @@ impl<
         self.stream.configure(&cfg.edges, width, height)?;
         // The gate bytes' count is the stage's candidate budget (the
         // type's docs, *Point gradients in one byte*).
-        self.stream.set_candidate_budget(match cfg.vote.gate {
-            Some(_) => NonZeroU32::new(u32::try_from(CAP).unwrap_or(u32::MAX)),
-            None => None,
-        });
+        self.stream.set_candidate_budget(cfg.candidate_budget(CAP));
         self.cfg = *cfg;
         self.configured = true;
         self.tracker.start(cfg.track);
@@ -1105,9 +1121,7 @@ pub(in crate::pipeline) mod tests {
             let mut stage: Box<Stage> = Box::default();
             stage.configure(&cfg.edges, TW, TH).unwrap();
             // The job's budget rule (`PointJob::configure`).
-            stage.set_candidate_budget(
-                cfg.vote.gate.and(core::num::NonZeroU32::new(TCAP as u32)),
-            );
+            stage.set_candidate_budget(cfg.candidate_budget(TCAP));
             let mut tracker = Tracker::<4, EDGES_PER_FRAME>::new(cfg.track).unwrap();
             for (f, &sd) in seeds.iter().enumerate() {
                 let img = frame(sd, TW, TH);

@@ -13,8 +13,6 @@
 //!
 //! > **Not a safety function** (see `fixsight::pipeline::PointJob`).
 
-use core::num::NonZeroU32;
-
 use crate::edges::{F32Config, F32EdgeStream, F32FrameReport};
 use fixsight::lines::{correct_point, Peak, VoteStore};
 use fixsight::marking::{self, Candidate, Marking};
@@ -181,11 +179,7 @@ impl<
             height,
         )?;
         // The integer job's budget: as many candidates as angles are kept.
-        self.stream.set_candidate_budget(
-            cfg.vote
-                .gate
-                .and(NonZeroU32::new(u32::try_from(CAP).unwrap_or(u32::MAX))),
-        );
+        self.stream.set_candidate_budget(cfg.candidate_budget(CAP));
         self.cfg = *cfg;
         self.tracker = Some(tracker);
         self.found = 0;
